@@ -1,0 +1,168 @@
+//! Diagnostics: problems found in an input file, located by file, line, column and key,
+//! with a suggestion where one is likely. Every reader collects them all before failing.
+
+use std::fmt;
+use std::ops::Range;
+
+/// Byte offsets to 1-based line and column (columns count characters, not bytes).
+#[derive(Debug, Clone)]
+pub struct LineIndex {
+    starts: Vec<usize>,
+}
+
+impl LineIndex {
+    pub fn new(text: &str) -> Self {
+        let mut starts = vec![0];
+        starts.extend(text.match_indices('\n').map(|(i, _)| i + 1));
+        LineIndex { starts }
+    }
+
+    /// Line and column of a byte offset, both from 1.
+    pub fn locate(&self, text: &str, offset: usize) -> (usize, usize) {
+        let offset = offset.min(text.len());
+        let line = match self.starts.binary_search(&offset) {
+            Ok(i) => i,
+            Err(i) => i.saturating_sub(1),
+        };
+        let start = self.starts[line];
+        let column = text
+            .get(start..offset)
+            .map(|s| s.chars().count())
+            .unwrap_or(offset - start);
+        (line + 1, column + 1)
+    }
+}
+
+/// One problem in an input, ready to print.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Diagnostic {
+    pub file: String,
+    pub line: Option<usize>,
+    pub column: Option<usize>,
+    /// Dotted path of the key, e.g. `barrier[2].working_rms_v`.
+    pub key: Option<String>,
+    pub message: String,
+    pub help: Option<String>,
+}
+
+impl Diagnostic {
+    pub fn new(file: &str, message: impl Into<String>) -> Self {
+        Diagnostic {
+            file: file.to_string(),
+            line: None,
+            column: None,
+            key: None,
+            message: message.into(),
+            help: None,
+        }
+    }
+
+    pub fn with_key(mut self, key: impl Into<String>) -> Self {
+        self.key = Some(key.into());
+        self
+    }
+
+    pub fn with_help(mut self, help: impl Into<String>) -> Self {
+        self.help = Some(help.into());
+        self
+    }
+
+    pub fn at(mut self, source: &Source, span: &Range<usize>) -> Self {
+        let (line, column) = source.index.locate(&source.text, span.start);
+        self.line = Some(line);
+        self.column = Some(column);
+        self
+    }
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.file)?;
+        if let Some(line) = self.line {
+            write!(f, ":{line}")?;
+            if let Some(column) = self.column {
+                write!(f, ":{column}")?;
+            }
+        }
+        write!(f, ": ")?;
+        if let Some(key) = &self.key {
+            write!(f, "`{key}`: ")?;
+        }
+        write!(f, "{}", self.message)?;
+        if let Some(help) = &self.help {
+            write!(f, "\n    help: {help}")?;
+        }
+        Ok(())
+    }
+}
+
+/// The text of an input file with its name (as given, never made absolute) and line index.
+#[derive(Debug, Clone)]
+pub struct Source {
+    pub name: String,
+    pub text: String,
+    pub index: LineIndex,
+}
+
+impl Source {
+    pub fn new(name: impl Into<String>, text: impl Into<String>) -> Self {
+        let text = text.into();
+        let index = LineIndex::new(&text);
+        Source {
+            name: name.into(),
+            text,
+            index,
+        }
+    }
+
+    pub fn diag(&self, span: &Range<usize>, message: impl Into<String>) -> Diagnostic {
+        Diagnostic::new(&self.name, message).at(self, span)
+    }
+}
+
+/// A list of problems that made an input unusable; printed one per line.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Problems(pub Vec<Diagnostic>);
+
+impl fmt::Display for Problems {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (i, d) in self.0.iter().enumerate() {
+            if i > 0 {
+                writeln!(f)?;
+            }
+            write!(f, "error: {d}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for Problems {}
+
+impl From<Diagnostic> for Problems {
+    fn from(d: Diagnostic) -> Self {
+        Problems(vec![d])
+    }
+}
+
+/// The candidate most like `word`, if it is close enough to be what was meant.
+pub fn suggest<'a>(word: &str, candidates: &[&'a str]) -> Option<&'a str> {
+    let word_lower = word.to_ascii_lowercase();
+    candidates
+        .iter()
+        .map(|c| (strsim::jaro_winkler(&word_lower, &c.to_ascii_lowercase()), *c))
+        .filter(|(score, _)| *score >= 0.8)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+/// "a, b or c" for messages.
+pub fn one_of(words: &[&str]) -> String {
+    match words {
+        [] => String::new(),
+        [one] => format!("\"{one}\""),
+        [init @ .., last] => {
+            let head: Vec<String> = init.iter().map(|w| format!("\"{w}\"")).collect();
+            format!("{} or \"{last}\"", head.join(", "))
+        }
+    }
+}

@@ -1,0 +1,285 @@
+//! The gapwarden command line: parses arguments, calls the library, prints, and returns
+//! 0 (no blocking finding), 1 (blocking findings) or 2 (unusable input or command line).
+
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+use gapwarden::commands::{self, Format, SpacingQuery};
+use gapwarden::diag::Problems;
+use gapwarden::project::{BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory};
+use gapwarden::report::Templates;
+use gapwarden::rules::RuleBook;
+use gapwarden::spacing::Verdict;
+
+/// Pre-review checklist for the insulation of a mains-connected power supply.
+///
+/// Reads a TOML project file describing the insulation barriers, computes the required
+/// clearance and creepage of each from IEC 60664-1 (and IPC-2221B for functional spacing on
+/// boards), and writes a checklist in which every figure is traced to its table. Advisory
+/// only: defer to the applicable end-product standard, local electrical codes and licensed
+/// or accredited review.
+#[derive(Parser)]
+#[command(name = "gapwarden", version, max_term_width = 100)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Evaluate a project file and print the pre-review checklist.
+    ///
+    /// Exit status: 0 no blocking finding, 1 at least one blocking finding, 2 the input or
+    /// the command line could not be used.
+    Check {
+        /// The project file (TOML).
+        project: PathBuf,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = OutputFormat::Md)]
+        format: OutputFormat,
+        /// Write the report to this file (atomically) instead of printing it.
+        #[arg(short = 'o', long = "output", value_name = "FILE")]
+        output: Option<PathBuf>,
+        /// A folder of house rule tables that add to or override the shipped ones by id.
+        #[arg(long, value_name = "DIR")]
+        rules: Option<PathBuf>,
+        /// A folder holding a house report.md.j2 that replaces the shipped template.
+        #[arg(long, value_name = "DIR")]
+        templates: Option<PathBuf>,
+    },
+    /// Write a commented starting project file. Never overwrites an existing file.
+    New {
+        /// Where to write the new project file.
+        path: PathBuf,
+        /// Which example to start from: class2-adapter or class1-appliance.
+        #[arg(long, default_value = "class2-adapter", value_name = "NAME")]
+        example: String,
+    },
+    /// Print how one figure or finding was derived.
+    ///
+    /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a finding id
+    /// such as barrier.clearance_short, or "assumptions".
+    Explain {
+        /// The project file (TOML).
+        project: PathBuf,
+        /// The figure or finding to explain.
+        item: String,
+        /// A folder of house rule tables.
+        #[arg(long, value_name = "DIR")]
+        rules: Option<PathBuf>,
+    },
+    /// List the loaded rule tables with their sources, or print one table.
+    Rules {
+        /// A rule table id, e.g. iec60664-1.creepage.
+        id: Option<String>,
+        /// A folder of house rule tables.
+        #[arg(long, value_name = "DIR")]
+        rules: Option<PathBuf>,
+    },
+    /// Required clearance and creepage of one barrier, from flags (JSON, like one entry of
+    /// a report's barriers). Exit 1 when declared distances fall short.
+    Spacing(SpacingArgs),
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum OutputFormat {
+    /// Markdown checklist
+    Md,
+    /// Self-contained HTML page
+    Html,
+    /// The report model as JSON
+    Json,
+}
+
+#[derive(clap::Args)]
+struct SpacingArgs {
+    /// Working voltage across the barrier, V rms.
+    #[arg(long, value_name = "V")]
+    working_rms_v: f64,
+    /// Steady-state or recurring peak working voltage, V.
+    #[arg(long, value_name = "V")]
+    working_peak_v: Option<f64>,
+    /// Insulation grade.
+    #[arg(long, value_enum, default_value_t = GradeArg::Basic)]
+    grade: GradeArg,
+    /// Pollution degree (1, 2 or 3).
+    #[arg(long, default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    pollution_degree: u8,
+    /// Overvoltage category (I, II, III or IV).
+    #[arg(long, default_value = "II", value_parser = ["I", "II", "III", "IV"])]
+    overvoltage_category: String,
+    /// Nominal line-to-neutral voltage of the supply system, V.
+    #[arg(long, default_value_t = 230.0, value_name = "V")]
+    nominal_v: f64,
+    /// Transient overvoltage that replaces the rated impulse voltage from the mains, V.
+    #[arg(long, value_name = "V")]
+    transient_v: Option<f64>,
+    /// Altitude above sea level, m.
+    #[arg(long, default_value_t = 2000.0, value_name = "M")]
+    altitude_m: f64,
+    /// Material group (I, II, IIIa, IIIb); IIIb is assumed when neither this nor --cti is given.
+    #[arg(long, value_parser = ["I", "II", "IIIa", "IIIb"])]
+    material_group: Option<String>,
+    /// Comparative tracking index of the insulating material.
+    #[arg(long)]
+    cti: Option<f64>,
+    /// The barrier is on a printed board (printed-wiring creepage columns where allowed).
+    #[arg(long)]
+    printed_board: bool,
+    /// The field is homogeneous (Case B); inhomogeneous (Case A) otherwise.
+    #[arg(long)]
+    homogeneous: bool,
+    /// For functional spacing on a board: where the conductors are.
+    #[arg(long, value_enum, default_value_t = ConductorArg::OuterLayer)]
+    board_conductor: ConductorArg,
+    /// For functional spacing on a board: the coating.
+    #[arg(long, value_enum, default_value_t = CoatingArg::None)]
+    board_coating: CoatingArg,
+    /// Interpolate creepage between table rows (rounded up to 0.1 mm) instead of taking the next row.
+    #[arg(long)]
+    interpolate: bool,
+    /// Clearance as laid out, mm (to get a verdict).
+    #[arg(long, value_name = "MM")]
+    clearance_mm: Option<f64>,
+    /// Creepage as laid out, mm (to get a verdict).
+    #[arg(long, value_name = "MM")]
+    creepage_mm: Option<f64>,
+    /// A folder of house rule tables.
+    #[arg(long, value_name = "DIR")]
+    rules: Option<PathBuf>,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum GradeArg {
+    Functional,
+    Basic,
+    Supplementary,
+    Reinforced,
+    Double,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum ConductorArg {
+    OuterLayer,
+    InnerLayer,
+    ComponentLead,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum CoatingArg {
+    None,
+    Polymer,
+    Conformal,
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    match run(cli) {
+        Ok(code) => ExitCode::from(code),
+        Err(problems) => {
+            eprintln!("{problems}");
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn run(cli: Cli) -> Result<u8, Problems> {
+    match cli.command {
+        Command::Check {
+            project,
+            format,
+            output,
+            rules,
+            templates,
+        } => {
+            let rules = RuleBook::load(rules.as_deref())?;
+            let templates = Templates::load(templates.as_deref())?;
+            let report = commands::check_file(&project, &rules)?;
+            let format = match format {
+                OutputFormat::Md => Format::Markdown,
+                OutputFormat::Html => Format::Html,
+                OutputFormat::Json => Format::Json,
+            };
+            let text = commands::render(&report, format, &templates)?;
+            match output {
+                Some(out) => commands::write_atomically(&out, &text, &[project.as_path()])?,
+                None => print(&text),
+            }
+            Ok(if report.has_blocking() { 1 } else { 0 })
+        }
+        Command::New { path, example } => {
+            commands::new_project(&path, &example)?;
+            eprintln!("wrote {} (from the {example} example); edit it, then run: gapwarden check {}", path.display(), path.display());
+            Ok(0)
+        }
+        Command::Explain { project, item, rules } => {
+            let rules = RuleBook::load(rules.as_deref())?;
+            let report = commands::check_file(&project, &rules)?;
+            print(&commands::explain(&report, &item)?);
+            Ok(0)
+        }
+        Command::Rules { id, rules } => {
+            let rules = RuleBook::load(rules.as_deref())?;
+            print(&commands::describe_rules(&rules, id.as_deref())?);
+            Ok(0)
+        }
+        Command::Spacing(a) => {
+            let rules = RuleBook::load(a.rules.as_deref())?;
+            let query = SpacingQuery {
+                working_rms_v: a.working_rms_v,
+                working_peak_v: a.working_peak_v,
+                grade: match a.grade {
+                    GradeArg::Functional => Grade::Functional,
+                    GradeArg::Basic => Grade::Basic,
+                    GradeArg::Supplementary => Grade::Supplementary,
+                    GradeArg::Reinforced => Grade::Reinforced,
+                    GradeArg::Double => Grade::Double,
+                },
+                pollution_degree: a.pollution_degree,
+                overvoltage_category: OvervoltageCategory::from_word(&a.overvoltage_category).unwrap_or(OvervoltageCategory::II),
+                nominal_v: a.nominal_v,
+                transient_v: a.transient_v,
+                altitude_m: a.altitude_m,
+                material_group: a.material_group.as_deref().and_then(MaterialGroup::from_word),
+                cti: a.cti,
+                printed_board: a.printed_board,
+                field: if a.homogeneous { Field::Homogeneous } else { Field::Inhomogeneous },
+                board_conductor: match a.board_conductor {
+                    ConductorArg::OuterLayer => BoardConductor::OuterLayer,
+                    ConductorArg::InnerLayer => BoardConductor::InnerLayer,
+                    ConductorArg::ComponentLead => BoardConductor::ComponentLead,
+                },
+                board_coating: match a.board_coating {
+                    CoatingArg::None => BoardCoating::None,
+                    CoatingArg::Polymer => BoardCoating::Polymer,
+                    CoatingArg::Conformal => BoardCoating::Conformal,
+                },
+                creepage_between_rows: if a.interpolate { BetweenRows::Interpolate } else { BetweenRows::NextRow },
+                clearance_mm: a.clearance_mm,
+                creepage_mm: a.creepage_mm,
+            };
+            let result = commands::spacing(&rules, &query)?;
+            let mut text = serde_json::to_string_pretty(&result).unwrap_or_default();
+            text.push('\n');
+            print(&text);
+            Ok(if result.verdict == Verdict::Fail { 1 } else { 0 })
+        }
+    }
+}
+
+/// Prints to stdout; a closed pipe (`| head`) is not an error worth a panic.
+fn print(text: &str) {
+    let mut out = std::io::stdout().lock();
+    let _ = out.write_all(text.as_bytes());
+    let _ = out.flush();
+}

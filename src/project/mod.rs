@@ -1,0 +1,274 @@
+//! The project file: the checked description of one design. `read` turns TOML text into a
+//! [`Project`] or into every problem found, located by line and key.
+
+mod read;
+
+use std::collections::BTreeMap;
+
+use serde::Serialize;
+
+use crate::diag::Diagnostic;
+use crate::toml_read::Span;
+
+pub use read::{DISTANCE_MM, VOLTAGE_V, read_project};
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum ProtectionClass {
+    #[serde(rename = "I")]
+    I,
+    #[serde(rename = "II")]
+    II,
+    #[serde(rename = "III")]
+    III,
+}
+
+/// Overvoltage category of the supply the equipment is connected to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+pub enum OvervoltageCategory {
+    #[serde(rename = "I")]
+    I,
+    #[serde(rename = "II")]
+    II,
+    #[serde(rename = "III")]
+    III,
+    #[serde(rename = "IV")]
+    IV,
+}
+
+impl OvervoltageCategory {
+    pub const WORDS: [&'static str; 4] = ["I", "II", "III", "IV"];
+
+    pub fn from_word(word: &str) -> Option<Self> {
+        Some(match word {
+            "I" => Self::I,
+            "II" => Self::II,
+            "III" => Self::III,
+            "IV" => Self::IV,
+            _ => return None,
+        })
+    }
+
+    pub fn as_str(self) -> &'static str {
+        Self::WORDS[self as usize]
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum CircuitKind {
+    Mains,
+    Hazardous,
+    Safe,
+}
+
+/// Insulation grade of a barrier, weakest first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Grade {
+    Functional,
+    Basic,
+    Supplementary,
+    Reinforced,
+    Double,
+}
+
+impl Grade {
+    pub const WORDS: [&'static str; 5] = ["functional", "basic", "supplementary", "reinforced", "double"];
+
+    pub fn from_word(word: &str) -> Option<Self> {
+        Some(match word {
+            "functional" => Self::Functional,
+            "basic" => Self::Basic,
+            "supplementary" => Self::Supplementary,
+            "reinforced" => Self::Reinforced,
+            "double" => Self::Double,
+            _ => return None,
+        })
+    }
+
+    pub fn as_str(self) -> &'static str {
+        Self::WORDS[self as usize]
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+pub enum MaterialGroup {
+    I,
+    II,
+    IIIa,
+    IIIb,
+}
+
+impl MaterialGroup {
+    pub const WORDS: [&'static str; 4] = ["I", "II", "IIIa", "IIIb"];
+
+    pub fn from_word(word: &str) -> Option<Self> {
+        Some(match word {
+            "I" => Self::I,
+            "II" => Self::II,
+            "IIIa" => Self::IIIa,
+            "IIIb" => Self::IIIb,
+            _ => return None,
+        })
+    }
+
+    pub fn as_str(self) -> &'static str {
+        Self::WORDS[self as usize]
+    }
+}
+
+/// How the insulating material of a barrier is known.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Material {
+    Group(MaterialGroup),
+    Cti(f64),
+    /// Not stated: the engine assumes the least favourable group and says so.
+    Unstated,
+}
+
+/// Electric field between the conductors (IEC 60664-1 Case A or Case B).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Field {
+    Inhomogeneous,
+    Homogeneous,
+}
+
+/// How creepage is read between two rows of the creepage table.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BetweenRows {
+    /// The next higher row (conservative; the default).
+    NextRow,
+    /// Linear interpolation, rounded up to the next 0.1 mm.
+    Interpolate,
+}
+
+/// Where a functional spacing on a printed board sits (selects the IPC-2221B column).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BoardConductor {
+    OuterLayer,
+    InnerLayer,
+    ComponentLead,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BoardCoating {
+    None,
+    Polymer,
+    Conformal,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PartKind {
+    YCapacitor,
+    XCapacitor,
+    Optocoupler,
+    DigitalIsolator,
+    Transformer,
+    Resistor,
+    Relay,
+    Other,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Design {
+    pub name: String,
+    pub revision: Option<String>,
+    pub protection_class: ProtectionClass,
+    pub creepage_between_rows: BetweenRows,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Environment {
+    pub pollution_degree: u8,
+    pub overvoltage_category: OvervoltageCategory,
+    pub altitude_m: f64,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Mains {
+    pub nominal_v: f64,
+    pub max_v: Option<f64>,
+    pub min_v: Option<f64>,
+    pub frequency_hz: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Circuit {
+    pub id: String,
+    pub kind: CircuitKind,
+    pub accessible: bool,
+    pub earthed: bool,
+    pub description: Option<String>,
+    pub span: Span,
+}
+
+/// Settings that choose the IPC-2221B column for functional spacing on a board.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoardSpacing {
+    pub conductor: BoardConductor,
+    pub coating: BoardCoating,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Barrier {
+    pub id: String,
+    pub between: [String; 2],
+    pub grade: Grade,
+    pub working_rms_v: f64,
+    pub working_peak_v: Option<f64>,
+    /// Declared transient overvoltage, overriding the rated impulse voltage from the mains.
+    pub transient_v: Option<f64>,
+    pub working_frequency_hz: Option<f64>,
+    pub material: Material,
+    pub printed_board: bool,
+    pub field: Field,
+    pub board: BoardSpacing,
+    pub clearance_mm: Option<f64>,
+    pub creepage_mm: Option<f64>,
+    /// Width of a slot or groove in the creepage path, where the layout relies on one.
+    pub slot_width_mm: Option<f64>,
+    pub bridged_by: Vec<String>,
+    pub description: Option<String>,
+    /// Where the barrier and each of its keys were written, for later messages.
+    pub span: Span,
+    pub key_spans: BTreeMap<&'static str, Span>,
+}
+
+impl Barrier {
+    /// Position of a key of this barrier, or of the barrier itself.
+    pub fn span_of(&self, key: &str) -> Span {
+        self.key_spans.get(key).cloned().unwrap_or_else(|| self.span.clone())
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Part {
+    pub reference: String,
+    pub kind: PartKind,
+    pub subclass: Option<String>,
+    pub capacitance_nf: Option<f64>,
+    pub description: Option<String>,
+    pub span: Span,
+}
+
+/// A checked project: everything the calculations need, with the defaults applied.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Project {
+    pub design: Design,
+    pub environment: Environment,
+    pub mains: Mains,
+    pub circuits: Vec<Circuit>,
+    pub barriers: Vec<Barrier>,
+    pub parts: Vec<Part>,
+    /// Every default the reader applied, in words for the report.
+    pub assumptions: Vec<String>,
+    /// Values that were accepted but look implausible.
+    pub warnings: Vec<Diagnostic>,
+    /// Tables present in the file that this version reads but does not evaluate.
+    pub not_evaluated: Vec<String>,
+}

@@ -1,0 +1,598 @@
+//! Reads and validates a project file in one pass, collecting every problem.
+
+use std::collections::{BTreeMap, BTreeSet};
+
+use super::*;
+use crate::diag::{Problems, Source, one_of, suggest};
+use crate::toml_read::{Located, NumberRule, Reader, TableRef, parse_document};
+
+const TOP_KEYS: &[&str] = &["design", "environment", "mains", "circuit", "barrier", "part", "input", "converter", "emc"];
+const DESIGN_KEYS: &[&str] = &["name", "revision", "protection_class", "creepage_between_rows"];
+const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
+const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
+const CIRCUIT_KEYS: &[&str] = &["id", "kind", "accessible", "earthed", "description"];
+const BARRIER_KEYS: &[&str] = &[
+    "id",
+    "between",
+    "grade",
+    "working_rms_v",
+    "working_peak_v",
+    "transient_v",
+    "working_frequency_hz",
+    "material_group",
+    "cti",
+    "printed_board",
+    "field",
+    "board_conductor",
+    "board_coating",
+    "clearance_mm",
+    "creepage_mm",
+    "slot_width_mm",
+    "bridged_by",
+    "description",
+];
+const PART_KEYS: &[&str] = &["ref", "kind", "subclass", "capacitance_nf", "description"];
+
+const PART_KIND_WORDS: &[&str] = &[
+    "y-capacitor",
+    "x-capacitor",
+    "optocoupler",
+    "digital-isolator",
+    "transformer",
+    "resistor",
+    "relay",
+    "other",
+];
+
+/// A voltage in volts (working, nominal, peak): above zero, at most 100 kV.
+pub const VOLTAGE_V: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 100_000.0,
+    plausible_max: 1_000.0,
+    integer: false,
+    expected: "a voltage in volts, above 0 and at most 100000",
+};
+
+const TRANSIENT_V: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1_000_000.0,
+    plausible_max: 12_000.0,
+    integer: false,
+    expected: "an impulse voltage in volts, above 0",
+};
+
+/// A distance as laid out, in millimetres. Zero is a real (failing) distance.
+pub const DISTANCE_MM: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: true,
+    max: 1_000_000.0,
+    plausible_max: 100.0,
+    integer: false,
+    expected: "a distance in millimetres, 0 or more",
+};
+
+const SLOT_MM: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1_000_000.0,
+    plausible_max: 20.0,
+    integer: false,
+    expected: "a slot width in millimetres, above 0",
+};
+
+const FREQUENCY_HZ: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: true,
+    max: 1e12,
+    plausible_max: 100e6,
+    integer: false,
+    expected: "a frequency in hertz, 0 (dc) or more",
+};
+
+const MAINS_FREQUENCY_HZ: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1e6,
+    plausible_max: 400.0,
+    integer: false,
+    expected: "a mains frequency in hertz, above 0 (50, 60 or 400)",
+};
+
+const ALTITUDE_M: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: true,
+    max: 100_000.0,
+    plausible_max: 10_000.0,
+    integer: false,
+    expected: "an altitude in metres above sea level, 0 or more",
+};
+
+const POLLUTION_DEGREE: NumberRule = NumberRule {
+    min: 1.0,
+    min_inclusive: true,
+    max: 3.0,
+    plausible_max: 3.0,
+    integer: true,
+    expected: "1, 2 or 3 (pollution degree 4 is not covered)",
+};
+
+const CTI: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: true,
+    max: 10_000.0,
+    plausible_max: 600.0,
+    integer: false,
+    expected: "a comparative tracking index in volts, 0 or more",
+};
+
+const CAPACITANCE_NF: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1e12,
+    plausible_max: 1e5,
+    integer: false,
+    expected: "a capacitance in nanofarads, above 0",
+};
+
+/// Reads a project from its text. `source.name` is used in messages as given.
+pub fn read_project(source: &Source) -> Result<Project, Problems> {
+    let doc = parse_document(source)?;
+    let mut r = Reader::new(source);
+    let root = r.root(&doc, TOP_KEYS);
+    let mut assumptions = Vec::new();
+
+    let design = read_design(&mut r, &root, &mut assumptions);
+    let environment = read_environment(&mut r, &root, &mut assumptions);
+    let mains = read_mains(&mut r, &root);
+    let circuits = read_circuits(&mut r, &root);
+    let parts = read_parts(&mut r, &root);
+    let barriers = read_barriers(&mut r, &root, &circuits, &parts, &mut assumptions);
+    if circuits.is_empty() && !r.has(&root, "circuit") {
+        r.missing(&root, "circuit", "at least one [[circuit]] table");
+    }
+
+    let not_evaluated = ["input", "converter", "emc"]
+        .iter()
+        .filter(|k| r.has(&root, k))
+        .map(|k| k.to_string())
+        .collect();
+
+    r.finish()?;
+    // Every field below was checked above; a missing one has already been reported.
+    let (Some(design), Some(environment), Some(mains)) = (design, environment, mains) else {
+        return Err(Problems(vec![crate::diag::Diagnostic::new(
+            &source.name,
+            "the project could not be read",
+        )]));
+    };
+    Ok(Project {
+        design,
+        environment,
+        mains,
+        circuits,
+        barriers,
+        parts,
+        assumptions,
+        warnings: std::mem::take(&mut r.warnings),
+        not_evaluated,
+    })
+}
+
+fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -> Option<Design> {
+    let Some(t) = r.table(root, "design", DESIGN_KEYS) else {
+        if !r.has(root, "design") {
+            r.missing(root, "design", "a [design] table with name and protection_class");
+        }
+        return None;
+    };
+    let name = r.required_string(&t, "name");
+    let revision = r.string(&t, "revision").map(|l| l.value);
+    let class = r.required_word(&t, "protection_class", &["I", "II", "III"]);
+    let between = r.word(&t, "creepage_between_rows", &["next-row", "interpolate"]);
+    let creepage_between_rows = match between.map(|l| l.value) {
+        Some("interpolate") => BetweenRows::Interpolate,
+        Some(_) => BetweenRows::NextRow,
+        None => {
+            assumptions.push(
+                "Creepage between two table rows: the next higher row (creepage_between_rows not set in [design])."
+                    .to_string(),
+            );
+            BetweenRows::NextRow
+        }
+    };
+    if revision.is_none() {
+        assumptions.push("No revision given in [design]; the report cannot be tied to a revision.".to_string());
+    }
+    let protection_class = match class?.value {
+        "I" => ProtectionClass::I,
+        "II" => ProtectionClass::II,
+        _ => ProtectionClass::III,
+    };
+    Some(Design {
+        name: name?.value,
+        revision,
+        protection_class,
+        creepage_between_rows,
+    })
+}
+
+fn read_environment(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -> Option<Environment> {
+    let t = r.table(root, "environment", ENVIRONMENT_KEYS);
+    if t.is_none() && r.has(root, "environment") {
+        return None;
+    }
+    let pd = t.as_ref().and_then(|t| r.number(t, "pollution_degree", &POLLUTION_DEGREE));
+    let ovc = t
+        .as_ref()
+        .and_then(|t| r.word(t, "overvoltage_category", &OvervoltageCategory::WORDS));
+    let altitude = t.as_ref().and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
+    let stated = |key: &str| t.as_ref().is_some_and(|t| r.has(t, key));
+    if !stated("pollution_degree") {
+        assumptions.push("Pollution degree 2 (not stated in [environment]).".to_string());
+    }
+    if !stated("overvoltage_category") {
+        assumptions.push("Overvoltage category II (not stated in [environment]).".to_string());
+    }
+    if !stated("altitude_m") {
+        assumptions.push("Altitude up to 2000 m (altitude_m not stated in [environment]).".to_string());
+    }
+    // A stated but invalid value has been reported; fall back only for absent ones.
+    if (stated("pollution_degree") && pd.is_none())
+        || (stated("overvoltage_category") && ovc.is_none())
+        || (stated("altitude_m") && altitude.is_none())
+    {
+        return None;
+    }
+    Some(Environment {
+        pollution_degree: pd.map(|l| l.value as u8).unwrap_or(2),
+        overvoltage_category: ovc
+            .and_then(|l| OvervoltageCategory::from_word(l.value))
+            .unwrap_or(OvervoltageCategory::II),
+        altitude_m: altitude.map(|l| l.value).unwrap_or(2000.0),
+    })
+}
+
+fn read_mains(r: &mut Reader, root: &TableRef) -> Option<Mains> {
+    let Some(t) = r.table(root, "mains", MAINS_KEYS) else {
+        if !r.has(root, "mains") {
+            r.missing(root, "mains", "a [mains] table with nominal_v");
+        }
+        return None;
+    };
+    let nominal = r.required_number(&t, "nominal_v", &VOLTAGE_V);
+    let max_v = r.number(&t, "max_v", &VOLTAGE_V);
+    let min_v = r.number(&t, "min_v", &VOLTAGE_V);
+    let frequency = r.number(&t, "frequency_hz", &MAINS_FREQUENCY_HZ);
+    let nominal = nominal?;
+    if let Some(max) = &max_v
+        && max.value < nominal.value
+    {
+        r.error(&max.span, "mains.max_v", format!("{} V is below nominal_v = {} V", max.value, nominal.value));
+    }
+    if let Some(min) = &min_v
+        && min.value > nominal.value
+    {
+        r.error(&min.span, "mains.min_v", format!("{} V is above nominal_v = {} V", min.value, nominal.value));
+    }
+    Some(Mains {
+        nominal_v: nominal.value,
+        max_v: max_v.map(|l| l.value),
+        min_v: min_v.map(|l| l.value),
+        frequency_hz: frequency.map(|l| l.value),
+    })
+}
+
+fn read_circuits(r: &mut Reader, root: &TableRef) -> Vec<Circuit> {
+    let tables = r.table_array(root, "circuit", CIRCUIT_KEYS);
+    let mut seen = BTreeSet::new();
+    let mut circuits = Vec::new();
+    for t in &tables {
+        let id = r.required_string(t, "id");
+        let kind = r.required_word(t, "kind", &["mains", "hazardous", "safe"]);
+        let accessible = r.boolean(t, "accessible");
+        let earthed = r.boolean(t, "earthed");
+        let description = r.string(t, "description").map(|l| l.value);
+        if r.has(t, "accessible") && accessible.is_none() || r.has(t, "earthed") && earthed.is_none() {
+            continue;
+        }
+        let (Some(id), Some(kind)) = (id, kind) else { continue };
+        if !seen.insert(id.value.clone()) {
+            r.error(&id.span, format!("{}.id", t.path), format!("circuit id \"{}\" is declared twice", id.value));
+            continue;
+        }
+        circuits.push(Circuit {
+            id: id.value,
+            kind: match kind.value {
+                "mains" => CircuitKind::Mains,
+                "hazardous" => CircuitKind::Hazardous,
+                _ => CircuitKind::Safe,
+            },
+            accessible: accessible.is_some_and(|l| l.value),
+            earthed: earthed.is_some_and(|l| l.value),
+            description,
+            span: t.span.clone(),
+        });
+    }
+    circuits
+}
+
+fn read_parts(r: &mut Reader, root: &TableRef) -> Vec<Part> {
+    let tables = r.table_array(root, "part", PART_KEYS);
+    let mut seen = BTreeSet::new();
+    let mut parts = Vec::new();
+    for t in &tables {
+        let reference = r.required_string(t, "ref");
+        let kind = r.required_word(t, "kind", PART_KIND_WORDS);
+        let subclass = r.word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"]);
+        let capacitance = r.number(t, "capacitance_nf", &CAPACITANCE_NF);
+        let description = r.string(t, "description").map(|l| l.value);
+        let (Some(reference), Some(kind)) = (reference, kind) else { continue };
+        if !seen.insert(reference.value.clone()) {
+            r.error(
+                &reference.span,
+                format!("{}.ref", t.path),
+                format!("part \"{}\" is declared twice", reference.value),
+            );
+            continue;
+        }
+        let kind = match kind.value {
+            "y-capacitor" => PartKind::YCapacitor,
+            "x-capacitor" => PartKind::XCapacitor,
+            "optocoupler" => PartKind::Optocoupler,
+            "digital-isolator" => PartKind::DigitalIsolator,
+            "transformer" => PartKind::Transformer,
+            "resistor" => PartKind::Resistor,
+            "relay" => PartKind::Relay,
+            _ => PartKind::Other,
+        };
+        parts.push(Part {
+            reference: reference.value,
+            kind,
+            subclass: subclass.map(|l| l.value.to_string()),
+            capacitance_nf: capacitance.map(|l| l.value),
+            description,
+            span: t.span.clone(),
+        });
+    }
+    parts
+}
+
+/// Assumptions that apply to several barriers are reported once, listing them.
+#[derive(Default)]
+struct BarrierDefaults {
+    material: Vec<String>,
+    field: Vec<String>,
+    printed_board: Vec<String>,
+    board: Vec<String>,
+}
+
+fn read_barriers(
+    r: &mut Reader,
+    root: &TableRef,
+    circuits: &[Circuit],
+    parts: &[Part],
+    assumptions: &mut Vec<String>,
+) -> Vec<Barrier> {
+    let tables = r.table_array(root, "barrier", BARRIER_KEYS);
+    let circuit_ids: Vec<&str> = circuits.iter().map(|c| c.id.as_str()).collect();
+    let part_refs: Vec<&str> = parts.iter().map(|p| p.reference.as_str()).collect();
+    let mut seen = BTreeSet::new();
+    let mut barriers = Vec::new();
+    let mut defaults = BarrierDefaults::default();
+    for t in &tables {
+        let problems_before = r.problems.len();
+        let mut key_spans = BTreeMap::new();
+        let mut keep = |key: &'static str, span: &Span| {
+            key_spans.insert(key, span.clone());
+        };
+        let id = r.required_string(t, "id");
+        let between = read_between(r, t, &circuit_ids);
+        let grade = r.required_word(t, "grade", &Grade::WORDS);
+        let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
+        let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
+        let transient = r.number(t, "transient_v", &TRANSIENT_V);
+        let frequency = r.number(t, "working_frequency_hz", &FREQUENCY_HZ);
+        let group = r.word(t, "material_group", &MaterialGroup::WORDS);
+        let cti = r.number(t, "cti", &CTI);
+        let printed = r.boolean(t, "printed_board");
+        let field = r.word(t, "field", &["inhomogeneous", "homogeneous"]);
+        let conductor = r.word(t, "board_conductor", &["outer-layer", "inner-layer", "component-lead"]);
+        let coating = r.word(t, "board_coating", &["none", "polymer", "conformal"]);
+        let clearance = r.number(t, "clearance_mm", &DISTANCE_MM);
+        let creepage = r.number(t, "creepage_mm", &DISTANCE_MM);
+        let slot = r.number(t, "slot_width_mm", &SLOT_MM);
+        let bridged = r.string_list(t, "bridged_by");
+        let description = r.string(t, "description").map(|l| l.value);
+
+        if let (Some(group), Some(cti)) = (&group, &cti) {
+            r.error_with_help(
+                &cti.span,
+                format!("{}.cti", t.path),
+                format!("both material_group = \"{}\" and cti are given", group.value),
+                "give one of them: the material group follows from the CTI",
+            );
+        }
+        if let (Some(rms), Some(peak)) = (&rms, &peak)
+            && peak.value < rms.value
+        {
+            r.error(
+                &peak.span,
+                format!("{}.working_peak_v", t.path),
+                format!(
+                    "{} V is below working_rms_v = {} V; a peak is never below the rms value",
+                    peak.value, rms.value
+                ),
+            );
+        }
+        let mut bridged_by = Vec::new();
+        if let Some(list) = &bridged {
+            let mut listed = BTreeSet::new();
+            for item in &list.value {
+                if !listed.insert(item.value.as_str()) {
+                    r.error(
+                        &item.span,
+                        format!("{}.bridged_by", t.path),
+                        format!("part \"{}\" is listed twice", item.value),
+                    );
+                } else if part_refs.contains(&item.value.as_str()) {
+                    bridged_by.push(item.value.clone());
+                } else {
+                    unknown_reference(r, &item.span, &format!("{}.bridged_by", t.path), "part", &item.value, &part_refs, "[[part]] ref");
+                }
+            }
+        }
+        if let Some(id) = &id
+            && !seen.insert(id.value.clone())
+        {
+            r.error(&id.span, format!("{}.id", t.path), format!("barrier id \"{}\" is declared twice", id.value));
+        }
+        if r.problems.len() > problems_before {
+            continue;
+        }
+        let (Some(id), Some(between), Some(grade), Some(rms)) = (id, between, grade, rms) else {
+            continue;
+        };
+        for (key, span) in [
+            ("working_rms_v", Some(&rms.span)),
+            ("working_peak_v", peak.as_ref().map(|l| &l.span)),
+            ("transient_v", transient.as_ref().map(|l| &l.span)),
+            ("cti", cti.as_ref().map(|l| &l.span)),
+            ("material_group", group.as_ref().map(|l| &l.span)),
+            ("clearance_mm", clearance.as_ref().map(|l| &l.span)),
+            ("creepage_mm", creepage.as_ref().map(|l| &l.span)),
+            ("grade", Some(&grade.span)),
+        ] {
+            if let Some(span) = span {
+                keep(key, span);
+            }
+        }
+        let material = match (group, cti) {
+            (Some(g), _) => Material::Group(MaterialGroup::from_word(g.value).unwrap_or(MaterialGroup::IIIb)),
+            (None, Some(c)) => Material::Cti(c.value),
+            (None, None) => {
+                defaults.material.push(id.value.clone());
+                Material::Unstated
+            }
+        };
+        if field.is_none() {
+            defaults.field.push(id.value.clone());
+        }
+        if printed.is_none() {
+            defaults.printed_board.push(id.value.clone());
+        }
+        let grade = Grade::from_word(grade.value).unwrap_or(Grade::Reinforced);
+        let printed_board = printed.is_some_and(|l| l.value);
+        if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none()) {
+            defaults.board.push(id.value.clone());
+        }
+        barriers.push(Barrier {
+            id: id.value,
+            between,
+            grade,
+            working_rms_v: rms.value,
+            working_peak_v: peak.map(|l| l.value),
+            transient_v: transient.map(|l| l.value),
+            working_frequency_hz: frequency.map(|l| l.value),
+            material,
+            printed_board,
+            field: match field.map(|l| l.value) {
+                Some("homogeneous") => Field::Homogeneous,
+                _ => Field::Inhomogeneous,
+            },
+            board: BoardSpacing {
+                conductor: match conductor.map(|l| l.value) {
+                    Some("inner-layer") => BoardConductor::InnerLayer,
+                    Some("component-lead") => BoardConductor::ComponentLead,
+                    _ => BoardConductor::OuterLayer,
+                },
+                coating: match coating.map(|l| l.value) {
+                    Some("polymer") => BoardCoating::Polymer,
+                    Some("conformal") => BoardCoating::Conformal,
+                    _ => BoardCoating::None,
+                },
+            },
+            clearance_mm: clearance.map(|l| l.value),
+            creepage_mm: creepage.map(|l| l.value),
+            slot_width_mm: slot.map(|l| l.value),
+            bridged_by,
+            description,
+            span: t.span.clone(),
+            key_spans,
+        });
+    }
+    let list = |ids: &[String]| ids.join(", ");
+    if !defaults.material.is_empty() {
+        assumptions.push(format!(
+            "Material group IIIb, the least favourable, for barriers without material_group or cti: {}.",
+            list(&defaults.material)
+        ));
+    }
+    if !defaults.field.is_empty() {
+        assumptions.push(format!(
+            "Inhomogeneous field (Case A, the larger clearances) for barriers without field: {}.",
+            list(&defaults.field)
+        ));
+    }
+    if !defaults.printed_board.is_empty() {
+        assumptions.push(format!(
+            "Not on a printed board (general creepage columns) for barriers without printed_board: {}.",
+            list(&defaults.printed_board)
+        ));
+    }
+    if !defaults.board.is_empty() {
+        assumptions.push(format!(
+            "Outer layer, uncoated (IPC-2221B column B2, or B3 above 3050 m) where board_conductor or board_coating is not set: {}.",
+            list(&defaults.board)
+        ));
+    }
+    barriers
+}
+
+fn read_between(r: &mut Reader, t: &TableRef, circuit_ids: &[&str]) -> Option<[String; 2]> {
+    if !r.has(t, "between") {
+        r.missing(t, "between", "two circuit ids, e.g. [\"primary\", \"output\"]");
+        return None;
+    }
+    let list = r.string_list(t, "between")?;
+    let path = format!("{}.between", t.path);
+    if list.value.len() != 2 {
+        r.error(&list.span, path, format!("names {} circuits; expected exactly two circuit ids", list.value.len()));
+        return None;
+    }
+    let mut ok = true;
+    for item in &list.value {
+        if !circuit_ids.contains(&item.value.as_str()) {
+            unknown_reference(r, &item.span, &path, "circuit", &item.value, circuit_ids, "[[circuit]] id");
+            ok = false;
+        }
+    }
+    if list.value[0].value == list.value[1].value {
+        r.error(&list.span, path, format!("names circuit \"{}\" twice; a barrier separates two different circuits", list.value[0].value));
+        return None;
+    }
+    ok.then(|| [list.value[0].value.clone(), list.value[1].value.clone()])
+}
+
+fn unknown_reference(
+    r: &mut Reader,
+    span: &Span,
+    path: &str,
+    what: &str,
+    name: &str,
+    known: &[&str],
+    declared_as: &str,
+) {
+    let message = format!("{what} \"{name}\" is not declared (no {declared_as} with that name)");
+    match suggest(name, known) {
+        Some(best) => r.error_with_help(span, path, message, format!("did you mean \"{best}\"?")),
+        None if known.is_empty() => r.error(span, path, message),
+        None => r.error_with_help(span, path, message, format!("declared: {}", one_of(known))),
+    }
+}
+
+#[allow(dead_code)]
+fn located_value<T: Clone>(l: &Option<Located<T>>) -> Option<T> {
+    l.as_ref().map(|l| l.value.clone())
+}

@@ -1,0 +1,175 @@
+//! The report model: everything a reviewer reads, built once and then rendered as
+//! Markdown, HTML or JSON, so the three cannot disagree.
+
+mod render;
+
+use serde::Serialize;
+
+use crate::checks::{Finding, Severity, barrier_findings, project_findings};
+use crate::diag::{Problems, Source};
+use crate::project::{OvervoltageCategory, ProtectionClass, BetweenRows, read_project};
+use crate::rules::{RuleBook, RuleInfo};
+use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
+
+pub use render::{Templates, md_escape, render_html, render_json, render_markdown};
+
+/// Cautions printed in every report.
+pub const CAUTIONS: &[&str] = &[
+    "This checklist is advisory. Defer to the applicable end-product standard, local electrical codes and licensed or accredited review; it does not certify anything.",
+    "The rule tables were transcribed by hand, partly from memory of the published standards, and may carry transcription errors. Each table below says how it was checked: compare every figure with a licensed copy of the standard before relying on it.",
+    "Figures cover only what the project file declares. A barrier, circuit or part that is not described is not evaluated, and the absence of a finding is not evidence that a design is safe.",
+    "No table is extrapolated: an input beyond a table's range is refused rather than estimated.",
+];
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ToolInfo {
+    pub name: &'static str,
+    pub version: &'static str,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct DesignInfo {
+    pub name: String,
+    pub revision: Option<String>,
+    pub protection_class: ProtectionClass,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ConditionsInfo {
+    pub pollution_degree: u8,
+    pub overvoltage_category: OvervoltageCategory,
+    pub altitude_m: f64,
+    pub mains_nominal_v: f64,
+    pub creepage_between_rows: BetweenRows,
+}
+
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Summary {
+    pub barriers: usize,
+    pub pass: usize,
+    pub fail: usize,
+    pub incomplete: usize,
+    pub blocking: usize,
+    pub warning: usize,
+    pub note: usize,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Report {
+    pub tool: ToolInfo,
+    pub design: DesignInfo,
+    /// The project file's name as given on the command line, without its folder.
+    pub project_file: String,
+    pub inputs_sha256: String,
+    pub conditions: ConditionsInfo,
+    pub assumptions: Vec<String>,
+    pub summary: Summary,
+    pub barriers: Vec<BarrierResult>,
+    pub findings: Vec<Finding>,
+    pub rules: Vec<RuleInfo>,
+    pub cautions: Vec<&'static str>,
+    /// Topics of later versions: null until evaluated.
+    pub isolation: Option<()>,
+    pub power_entry: Option<()>,
+    pub emc: Option<()>,
+}
+
+impl Report {
+    pub fn has_blocking(&self) -> bool {
+        self.summary.blocking > 0
+    }
+}
+
+/// Reads, evaluates and judges one project file's text.
+pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
+    let project = read_project(source)?;
+    let cond = Conditions {
+        pollution_degree: project.environment.pollution_degree,
+        overvoltage_category: project.environment.overvoltage_category,
+        altitude_m: project.environment.altitude_m,
+        nominal_v: project.mains.nominal_v,
+        creepage_between_rows: project.design.creepage_between_rows,
+    };
+    let mut barriers = Vec::new();
+    let mut findings = Vec::new();
+    let mut problems = Vec::new();
+    for barrier in &project.barriers {
+        match evaluate(rules, &cond, barrier) {
+            Ok(result) => {
+                findings.extend(barrier_findings(rules, cond.pollution_degree, barrier, &result));
+                barriers.push(result);
+            }
+            Err(out) => {
+                let (key, span) = if out.key.contains('.') {
+                    (out.key.clone(), None)
+                } else {
+                    (format!("barrier \"{}\".{}", barrier.id, out.key), Some(barrier.span_of(&out.key)))
+                };
+                let d = match span {
+                    Some(span) => source.diag(&span, out.message),
+                    None => crate::diag::Diagnostic::new(&source.name, out.message),
+                };
+                problems.push(d.with_key(key));
+            }
+        }
+    }
+    if !problems.is_empty() {
+        problems.dedup();
+        return Err(Problems(problems));
+    }
+    findings.extend(project_findings(&project));
+    findings.sort_by_key(|f| f.severity);
+
+    let mut summary = Summary {
+        barriers: barriers.len(),
+        ..Summary::default()
+    };
+    for b in &barriers {
+        match b.verdict {
+            Verdict::Pass => summary.pass += 1,
+            Verdict::Fail => summary.fail += 1,
+            Verdict::Incomplete => summary.incomplete += 1,
+        }
+    }
+    for f in &findings {
+        match f.severity {
+            Severity::Blocking => summary.blocking += 1,
+            Severity::Warning => summary.warning += 1,
+            Severity::Note => summary.note += 1,
+        }
+    }
+    Ok(Report {
+        tool: ToolInfo {
+            name: "gapwarden",
+            version: env!("CARGO_PKG_VERSION"),
+        },
+        design: DesignInfo {
+            name: project.design.name.clone(),
+            revision: project.design.revision.clone(),
+            protection_class: project.design.protection_class,
+        },
+        project_file: file_name(&source.name),
+        inputs_sha256: crate::sha256_hex(source.text.as_bytes()),
+        conditions: ConditionsInfo {
+            pollution_degree: cond.pollution_degree,
+            overvoltage_category: cond.overvoltage_category,
+            altitude_m: cond.altitude_m,
+            mains_nominal_v: cond.nominal_v,
+            creepage_between_rows: cond.creepage_between_rows,
+        },
+        assumptions: project.assumptions.clone(),
+        summary,
+        barriers,
+        findings,
+        rules: rules.info.clone(),
+        cautions: CAUTIONS.to_vec(),
+        isolation: None,
+        power_entry: None,
+        emc: None,
+    })
+}
+
+/// The last component of a path as written, so reports carry no machine paths.
+pub fn file_name(path: &str) -> String {
+    path.rsplit(['/', '\\']).next().unwrap_or(path).to_string()
+}

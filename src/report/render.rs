@@ -1,0 +1,168 @@
+//! Rendering the report model: Markdown through a minijinja template, HTML from that
+//! Markdown through pulldown-cmark, JSON through serde. Every string from the project
+//! is escaped on its way into Markdown, and raw HTML never reaches the page.
+
+use std::path::Path;
+
+use minijinja::value::{Value, ValueKind};
+use minijinja::{Environment, Error, ErrorKind, State};
+use pulldown_cmark::{Event, Options, Parser, html};
+
+use super::Report;
+use crate::diag::{Diagnostic, Problems};
+use crate::spacing::show;
+
+/// The shipped Markdown template, embedded at build time.
+pub const REPORT_TEMPLATE: &str = include_str!("../../templates/report.md.j2");
+const TEMPLATE_NAME: &str = "report.md.j2";
+
+/// Bounds on a template's work, so that a house template cannot loop forever.
+const TEMPLATE_FUEL: u64 = 5_000_000;
+const TEMPLATE_RECURSION: usize = 50;
+
+/// The Markdown template in use: shipped, or a house copy from a folder.
+pub struct Templates {
+    report: String,
+    origin: String,
+}
+
+impl Templates {
+    pub fn shipped() -> Self {
+        Templates {
+            report: REPORT_TEMPLATE.to_string(),
+            origin: format!("templates/{TEMPLATE_NAME}"),
+        }
+    }
+
+    /// Uses `DIR/report.md.j2` where it exists, the shipped template otherwise.
+    pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
+        let Some(dir) = dir else { return Ok(Self::shipped()) };
+        let path = dir.join(TEMPLATE_NAME);
+        if !path.exists() {
+            return Ok(Self::shipped());
+        }
+        let shown = path.display().to_string();
+        let report = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
+        Ok(Templates { report, origin: shown })
+    }
+}
+
+/// Escapes text for Markdown so that it renders as itself: no emphasis, link, table cell
+/// break or HTML can come from it. Line breaks become spaces.
+pub fn md_escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        match c {
+            '\r' | '\n' => out.push(' '),
+            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#' => {
+                out.push('\\');
+                out.push(c);
+            }
+            c if c.is_control() => out.push(' '),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> {
+    let mut env = Environment::new();
+    env.set_fuel(Some(TEMPLATE_FUEL));
+    env.set_recursion_limit(TEMPLATE_RECURSION);
+    env.set_undefined_behavior(minijinja::UndefinedBehavior::Strict);
+    env.set_formatter(|out, _state: &mut State, value: &Value| {
+        match value.kind() {
+            ValueKind::String => out.write_str(&md_escape(value.as_str().unwrap_or_default()))?,
+            ValueKind::Number => out.write_str(&number(value))?,
+            ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,
+            _ => out.write_str(&md_escape(&value.to_string()))?,
+        }
+        Ok(())
+    });
+    env.add_filter("signed", |value: Value| -> String {
+        match f64::try_from(value) {
+            Ok(x) if x > 0.0 => format!("+{}", show(x)),
+            Ok(x) => show(x),
+            Err(_) => "not declared".to_string(),
+        }
+    });
+    env.add_template_owned(TEMPLATE_NAME, templates.report.clone())
+        .map_err(|e| template_problem(&templates.origin, &e))?;
+    Ok(env)
+}
+
+fn number(value: &Value) -> String {
+    match f64::try_from(value.clone()) {
+        Ok(x) => show(x),
+        Err(_) => value.to_string(),
+    }
+}
+
+fn template_problem(origin: &str, e: &Error) -> Problems {
+    let mut d = Diagnostic::new(origin, format!("template error: {}", e.detail().unwrap_or(&e.to_string())));
+    d.line = e.line();
+    if e.kind() == ErrorKind::OutOfFuel {
+        d.message = "template error: the template ran out of its work allowance (a loop that does not end?)".to_string();
+    }
+    Problems(vec![d])
+}
+
+/// The report as a Markdown checklist.
+pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
+    let env = environment(templates)?;
+    let template = env
+        .get_template(TEMPLATE_NAME)
+        .map_err(|e| template_problem(&templates.origin, &e))?;
+    let context = Value::from(minijinja::value::Serde(report));
+    let mut text = template
+        .render(context)
+        .map_err(|e| template_problem(&templates.origin, &e))?;
+    // One trailing newline, whatever the template's whitespace control left.
+    while text.ends_with("\n\n") {
+        text.pop();
+    }
+    if !text.ends_with('\n') {
+        text.push('\n');
+    }
+    Ok(text)
+}
+
+/// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which
+/// the shipped template never writes) is shown as text, never passed through as markup.
+pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Problems> {
+    let markdown = render_markdown(report, templates)?;
+    let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
+    let events = Parser::new_ext(&markdown, options).map(|event| match event {
+        Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
+        other => other,
+    });
+    let mut body = String::new();
+    html::push_html(&mut body, events);
+    let title = html_escape(&format!("Pre-review checklist: {}", report.design.name));
+    Ok(format!(
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{title}</title>\n<style>\n{STYLE}</style>\n</head>\n<body>\n{body}</body>\n</html>\n"
+    ))
+}
+
+/// The report model as pretty-printed JSON.
+pub fn render_json(report: &Report) -> String {
+    let mut text = serde_json::to_string_pretty(report).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    text.push('\n');
+    text
+}
+
+fn html_escape(text: &str) -> String {
+    text.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+const STYLE: &str = "body { font-family: system-ui, sans-serif; max-width: 72rem; margin: 2rem auto; padding: 0 1rem; line-height: 1.45; color: #1d2327; }
+table { border-collapse: collapse; margin: 1rem 0; font-size: 0.92rem; }
+th, td { border: 1px solid #b8c2cc; padding: 0.25rem 0.5rem; text-align: left; vertical-align: top; }
+th { background: #e9eef2; }
+code { font-size: 0.85rem; word-break: break-all; }
+blockquote { border-left: 4px solid #b3541e; margin: 1rem 0; padding: 0.25rem 1rem; background: #fbf3ee; }
+li { margin: 0.2rem 0; }
+";

@@ -1,0 +1,333 @@
+//! Typed forms of the rule tables, with the checks that make a table usable: rows in
+//! ascending order, no negative figures, every row as wide as the column list.
+
+use serde::Deserialize;
+
+/// A rule table as read from TOML.
+pub trait Table: for<'de> Deserialize<'de> {
+    /// Rejects a table the engine could not read safely.
+    fn check(&self) -> Result<(), String>;
+}
+
+fn ascending(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
+    let mut last = f64::NEG_INFINITY;
+    for v in values {
+        if !v.is_finite() || v < 0.0 {
+            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
+        }
+        if v <= last {
+            return Err(format!("{what}: rows must be in strictly ascending order ({v} follows {last})"));
+        }
+        last = v;
+    }
+    if last == f64::NEG_INFINITY {
+        return Err(format!("{what}: the table has no rows"));
+    }
+    Ok(())
+}
+
+fn non_negative(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
+    for v in values {
+        if !v.is_finite() || v < 0.0 {
+            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
+        }
+    }
+    Ok(())
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImpulseRow {
+    pub up_to_v: f64,
+    pub ovc_i: f64,
+    pub ovc_ii: f64,
+    pub ovc_iii: f64,
+    pub ovc_iv: f64,
+    pub confirmed: bool,
+}
+
+impl ImpulseRow {
+    /// Rated impulse voltage for an overvoltage category, indexed I = 0 to IV = 3.
+    pub fn by_category(&self, index: usize) -> f64 {
+        [self.ovc_i, self.ovc_ii, self.ovc_iii, self.ovc_iv][index.min(3)]
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImpulseTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    pub rows: Vec<ImpulseRow>,
+}
+
+impl ImpulseTable {
+    pub const ID: &'static str = "iec60664-1.impulse";
+}
+
+impl Table for ImpulseTable {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.rows.iter().map(|r| r.up_to_v), "up_to_v")?;
+        for i in 0..4 {
+            ascending(self.rows.iter().map(|r| r.by_category(i)), "rated impulse voltages")?;
+        }
+        Ok(())
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ClearanceRow {
+    pub impulse_kv: f64,
+    pub case_a_mm: f64,
+    pub case_b_mm: f64,
+    /// Which columns of this row were compared with a reproduction ("case_a", "case_b").
+    #[serde(default)]
+    pub confirmed: Vec<String>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ClearanceTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    /// Minimum clearance by pollution degree 1, 2, 3.
+    pub pollution_degree_minimum_mm: [f64; 3],
+    pub interpolation_permitted: bool,
+    pub rows: Vec<ClearanceRow>,
+}
+
+impl ClearanceTable {
+    pub const ID: &'static str = "iec60664-1.clearance";
+}
+
+impl Table for ClearanceTable {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.rows.iter().map(|r| r.impulse_kv), "impulse_kv")?;
+        non_negative(self.rows.iter().flat_map(|r| [r.case_a_mm, r.case_b_mm]), "clearances")?;
+        non_negative(self.pollution_degree_minimum_mm.iter().copied(), "pollution_degree_minimum_mm")
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CreepageRow {
+    pub working_rms_v: f64,
+    pub mm: Vec<f64>,
+    pub confirmed: bool,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CreepageTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    pub columns: Vec<String>,
+    pub interpolation_round_up_mm: f64,
+    pub rows: Vec<CreepageRow>,
+}
+
+impl CreepageTable {
+    pub const ID: &'static str = "iec60664-1.creepage";
+    /// The column names the engine selects from, in the order the file must give them.
+    pub const COLUMNS: [&'static str; 9] = [
+        "printed_pd1",
+        "printed_pd2",
+        "pd1",
+        "pd2_group_i",
+        "pd2_group_ii",
+        "pd2_group_iii",
+        "pd3_group_i",
+        "pd3_group_ii",
+        "pd3_group_iii",
+    ];
+}
+
+impl Table for CreepageTable {
+    fn check(&self) -> Result<(), String> {
+        if self.columns != Self::COLUMNS {
+            return Err(format!("columns must be {:?}", Self::COLUMNS));
+        }
+        ascending(self.rows.iter().map(|r| r.working_rms_v), "working_rms_v")?;
+        for row in &self.rows {
+            if row.mm.len() != Self::COLUMNS.len() {
+                return Err(format!(
+                    "row {} V has {} values; expected {}",
+                    row.working_rms_v,
+                    row.mm.len(),
+                    Self::COLUMNS.len()
+                ));
+            }
+            non_negative(row.mm.iter().copied(), "creepage distances")?;
+        }
+        if !(self.interpolation_round_up_mm > 0.0 && self.interpolation_round_up_mm.is_finite()) {
+            return Err("interpolation_round_up_mm must be above 0".to_string());
+        }
+        Ok(())
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReinforcedRule {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    pub preferred_impulse_v: Vec<f64>,
+    pub non_preferred_impulse_factor: f64,
+    pub creepage_factor: f64,
+}
+
+impl ReinforcedRule {
+    pub const ID: &'static str = "iec60664-1.reinforced";
+}
+
+impl Table for ReinforcedRule {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.preferred_impulse_v.iter().copied(), "preferred_impulse_v")?;
+        if !(self.non_preferred_impulse_factor >= 1.0 && self.creepage_factor >= 1.0)
+            || !self.non_preferred_impulse_factor.is_finite()
+            || !self.creepage_factor.is_finite()
+        {
+            return Err("the factors for reinforced insulation must be finite and at least 1".to_string());
+        }
+        Ok(())
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AltitudeRow {
+    pub altitude_m: f64,
+    pub factor: f64,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AltitudeTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    pub rows: Vec<AltitudeRow>,
+}
+
+impl AltitudeTable {
+    pub const ID: &'static str = "iec60664-1.altitude";
+}
+
+impl Table for AltitudeTable {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.rows.iter().map(|r| r.altitude_m), "altitude_m")?;
+        let mut last = 0.0;
+        for r in &self.rows {
+            if !(r.factor >= 1.0 && r.factor >= last && r.factor.is_finite()) {
+                return Err(format!("factor {} at {} m: factors must be at least 1 and never fall", r.factor, r.altitude_m));
+            }
+            last = r.factor;
+        }
+        Ok(())
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct GrooveTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    /// Narrowest groove that counts, by pollution degree 1, 2, 3.
+    pub min_width_mm: [f64; 3],
+}
+
+impl GrooveTable {
+    pub const ID: &'static str = "iec60664-1.grooves";
+}
+
+impl Table for GrooveTable {
+    fn check(&self) -> Result<(), String> {
+        non_negative(self.min_width_mm.iter().copied(), "min_width_mm")
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MaterialGroupEntry {
+    pub group: String,
+    pub min_cti: f64,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MaterialGroupTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    /// Groups from the best (highest CTI) down.
+    pub groups: Vec<MaterialGroupEntry>,
+}
+
+impl MaterialGroupTable {
+    pub const ID: &'static str = "iec60664-1.material-groups";
+}
+
+impl Table for MaterialGroupTable {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.groups.iter().rev().map(|g| g.min_cti), "min_cti (listed from the highest down)")?;
+        for g in &self.groups {
+            if crate::project::MaterialGroup::from_word(&g.group).is_none() {
+                return Err(format!("group \"{}\" is not one of I, II, IIIa, IIIb", g.group));
+            }
+        }
+        Ok(())
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoardSpacingRow {
+    pub up_to_peak_v: f64,
+    pub mm: Vec<f64>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoardSpacingTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    pub columns: Vec<String>,
+    pub rows: Vec<BoardSpacingRow>,
+    pub above_last_row_mm_per_v: Vec<f64>,
+}
+
+impl BoardSpacingTable {
+    pub const ID: &'static str = "ipc2221b.conductor-spacing";
+    pub const COLUMNS: [&'static str; 7] = ["B1", "B2", "B3", "B4", "A5", "A6", "A7"];
+}
+
+impl Table for BoardSpacingTable {
+    fn check(&self) -> Result<(), String> {
+        if self.columns != Self::COLUMNS {
+            return Err(format!("columns must be {:?}", Self::COLUMNS));
+        }
+        ascending(self.rows.iter().map(|r| r.up_to_peak_v), "up_to_peak_v")?;
+        for row in self.rows.iter().map(|r| &r.mm).chain([&self.above_last_row_mm_per_v]) {
+            if row.len() != Self::COLUMNS.len() {
+                return Err(format!("a row has {} values; expected {}", row.len(), Self::COLUMNS.len()));
+            }
+            non_negative(row.iter().copied(), "spacings")?;
+        }
+        Ok(())
+    }
+}
