@@ -117,7 +117,11 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
     let mut text = template
         .render(context)
         .map_err(|e| template_problem(&templates.origin, &e))?;
-    // One trailing newline, whatever the template's whitespace control left.
+    // At most one blank line in a row and one trailing newline, whatever the template's
+    // whitespace control left.
+    while text.contains("\n\n\n") {
+        text = text.replace("\n\n\n", "\n\n");
+    }
     while text.ends_with("\n\n") {
         text.pop();
     }

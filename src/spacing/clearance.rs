@@ -62,7 +62,7 @@ pub fn step_up(rule: &ReinforcedRule, clearance: &ClearanceTable, impulse_v: f64
                 Step::from(
                     ReinforcedRule::ID,
                     format!(
-                        "Reinforced insulation: one step higher in the preferred impulse series, {} V -> {} V ({}).",
+                        "Reinforced insulation: one step higher in the preferred impulse series, from {} V to {} V ({}).",
                         show(impulse_v),
                         show(*next),
                         rule.source
