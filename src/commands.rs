@@ -328,12 +328,19 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         nominal_v: q.nominal_v,
         creepage_between_rows: q.creepage_between_rows,
     };
-    evaluate(rules, &cond, &barrier).map_err(|e| {
-        let flag = match e.key.as_str() {
-            "mains.nominal_v" => "--nominal-v".to_string(),
-            "environment.altitude_m" => "--altitude-m".to_string(),
-            k => format!("--{}", k.replace('_', "-")),
-        };
-        Problems(vec![Diagnostic::new("command line", e.message).with_key(flag)])
+    evaluate(rules, &cond, &barrier).map_err(|errors| {
+        Problems(
+            errors
+                .into_iter()
+                .map(|e| {
+                    let flag = match e.key.as_str() {
+                        "mains.nominal_v" => "--nominal-v".to_string(),
+                        "environment.altitude_m" => "--altitude-m".to_string(),
+                        k => format!("--{}", k.replace('_', "-")),
+                    };
+                    Diagnostic::new("command line", e.message).with_key(flag)
+                })
+                .collect(),
+        )
     })
 }

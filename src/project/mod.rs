@@ -271,4 +271,6 @@ pub struct Project {
     pub warnings: Vec<Diagnostic>,
     /// Tables present in the file that this version reads but does not evaluate.
     pub not_evaluated: Vec<String>,
+    /// Where the project-wide keys were written (`mains.nominal_v`, ...), for later messages.
+    pub key_spans: BTreeMap<String, Span>,
 }

@@ -4,7 +4,7 @@ use std::collections::{BTreeMap, BTreeSet};
 
 use super::*;
 use crate::diag::{Problems, Source, one_of, suggest};
-use crate::toml_read::{Located, NumberRule, Reader, TableRef, parse_document};
+use crate::toml_read::{NumberRule, Reader, TableRef, parse_document};
 
 const TOP_KEYS: &[&str] = &["design", "environment", "mains", "circuit", "barrier", "part", "input", "converter", "emc"];
 const DESIGN_KEYS: &[&str] = &["name", "revision", "protection_class", "creepage_between_rows"];
@@ -144,11 +144,12 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
     let mut assumptions = Vec::new();
 
     let design = read_design(&mut r, &root, &mut assumptions);
-    let environment = read_environment(&mut r, &root, &mut assumptions);
-    let mains = read_mains(&mut r, &root);
-    let circuits = read_circuits(&mut r, &root);
-    let parts = read_parts(&mut r, &root);
-    let barriers = read_barriers(&mut r, &root, &circuits, &parts, &mut assumptions);
+    let mut key_spans = BTreeMap::new();
+    let environment = read_environment(&mut r, &root, &mut assumptions, &mut key_spans);
+    let mains = read_mains(&mut r, &root, &mut key_spans);
+    let (circuits, circuit_ids) = read_circuits(&mut r, &root);
+    let (parts, part_refs) = read_parts(&mut r, &root);
+    let barriers = read_barriers(&mut r, &root, &circuit_ids, &part_refs, &mut assumptions);
     if circuits.is_empty() && !r.has(&root, "circuit") {
         r.missing(&root, "circuit", "at least one [[circuit]] table");
     }
@@ -177,6 +178,7 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
         assumptions,
         warnings: std::mem::take(&mut r.warnings),
         not_evaluated,
+        key_spans,
     })
 }
 
@@ -218,7 +220,12 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
     })
 }
 
-fn read_environment(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -> Option<Environment> {
+fn read_environment(
+    r: &mut Reader,
+    root: &TableRef,
+    assumptions: &mut Vec<String>,
+    key_spans: &mut BTreeMap<String, Span>,
+) -> Option<Environment> {
     let t = r.table(root, "environment", ENVIRONMENT_KEYS);
     if t.is_none() && r.has(root, "environment") {
         return None;
@@ -228,6 +235,9 @@ fn read_environment(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<Strin
         .as_ref()
         .and_then(|t| r.word(t, "overvoltage_category", &OvervoltageCategory::WORDS));
     let altitude = t.as_ref().and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
+    if let Some(a) = &altitude {
+        key_spans.insert("environment.altitude_m".to_string(), a.span.clone());
+    }
     let stated = |key: &str| t.as_ref().is_some_and(|t| r.has(t, key));
     if !stated("pollution_degree") {
         assumptions.push("Pollution degree 2 (not stated in [environment]).".to_string());
@@ -254,7 +264,7 @@ fn read_environment(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<Strin
     })
 }
 
-fn read_mains(r: &mut Reader, root: &TableRef) -> Option<Mains> {
+fn read_mains(r: &mut Reader, root: &TableRef, key_spans: &mut BTreeMap<String, Span>) -> Option<Mains> {
     let Some(t) = r.table(root, "mains", MAINS_KEYS) else {
         if !r.has(root, "mains") {
             r.missing(root, "mains", "a [mains] table with nominal_v");
@@ -266,6 +276,7 @@ fn read_mains(r: &mut Reader, root: &TableRef) -> Option<Mains> {
     let min_v = r.number(&t, "min_v", &VOLTAGE_V);
     let frequency = r.number(&t, "frequency_hz", &MAINS_FREQUENCY_HZ);
     let nominal = nominal?;
+    key_spans.insert("mains.nominal_v".to_string(), nominal.span.clone());
     if let Some(max) = &max_v
         && max.value < nominal.value
     {
@@ -284,7 +295,9 @@ fn read_mains(r: &mut Reader, root: &TableRef) -> Option<Mains> {
     })
 }
 
-fn read_circuits(r: &mut Reader, root: &TableRef) -> Vec<Circuit> {
+/// The circuits that could be read, and every id declared (for references, so that a
+/// circuit with a problem of its own does not also make every reference to it an error).
+fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<String>) {
     let tables = r.table_array(root, "circuit", CIRCUIT_KEYS);
     let mut seen = BTreeSet::new();
     let mut circuits = Vec::new();
@@ -294,14 +307,16 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> Vec<Circuit> {
         let accessible = r.boolean(t, "accessible");
         let earthed = r.boolean(t, "earthed");
         let description = r.string(t, "description").map(|l| l.value);
+        if let Some(id) = &id
+            && !seen.insert(id.value.clone())
+        {
+            r.error(&id.span, format!("{}.id", t.path), format!("circuit id \"{}\" is declared twice", id.value));
+            continue;
+        }
         if r.has(t, "accessible") && accessible.is_none() || r.has(t, "earthed") && earthed.is_none() {
             continue;
         }
         let (Some(id), Some(kind)) = (id, kind) else { continue };
-        if !seen.insert(id.value.clone()) {
-            r.error(&id.span, format!("{}.id", t.path), format!("circuit id \"{}\" is declared twice", id.value));
-            continue;
-        }
         circuits.push(Circuit {
             id: id.value,
             kind: match kind.value {
@@ -315,10 +330,11 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> Vec<Circuit> {
             span: t.span.clone(),
         });
     }
-    circuits
+    (circuits, seen)
 }
 
-fn read_parts(r: &mut Reader, root: &TableRef) -> Vec<Part> {
+/// The parts that could be read, and every ref declared.
+fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) {
     let tables = r.table_array(root, "part", PART_KEYS);
     let mut seen = BTreeSet::new();
     let mut parts = Vec::new();
@@ -328,8 +344,9 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> Vec<Part> {
         let subclass = r.word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"]);
         let capacitance = r.number(t, "capacitance_nf", &CAPACITANCE_NF);
         let description = r.string(t, "description").map(|l| l.value);
-        let (Some(reference), Some(kind)) = (reference, kind) else { continue };
-        if !seen.insert(reference.value.clone()) {
+        if let Some(reference) = &reference
+            && !seen.insert(reference.value.clone())
+        {
             r.error(
                 &reference.span,
                 format!("{}.ref", t.path),
@@ -337,6 +354,7 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> Vec<Part> {
             );
             continue;
         }
+        let (Some(reference), Some(kind)) = (reference, kind) else { continue };
         let kind = match kind.value {
             "y-capacitor" => PartKind::YCapacitor,
             "x-capacitor" => PartKind::XCapacitor,
@@ -356,7 +374,7 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> Vec<Part> {
             span: t.span.clone(),
         });
     }
-    parts
+    (parts, seen)
 }
 
 /// Assumptions that apply to several barriers are reported once, listing them.
@@ -371,13 +389,13 @@ struct BarrierDefaults {
 fn read_barriers(
     r: &mut Reader,
     root: &TableRef,
-    circuits: &[Circuit],
-    parts: &[Part],
+    circuit_ids: &BTreeSet<String>,
+    part_refs: &BTreeSet<String>,
     assumptions: &mut Vec<String>,
 ) -> Vec<Barrier> {
     let tables = r.table_array(root, "barrier", BARRIER_KEYS);
-    let circuit_ids: Vec<&str> = circuits.iter().map(|c| c.id.as_str()).collect();
-    let part_refs: Vec<&str> = parts.iter().map(|p| p.reference.as_str()).collect();
+    let circuit_ids: Vec<&str> = circuit_ids.iter().map(String::as_str).collect();
+    let part_refs: Vec<&str> = part_refs.iter().map(String::as_str).collect();
     let mut seen = BTreeSet::new();
     let mut barriers = Vec::new();
     let mut defaults = BarrierDefaults::default();
@@ -592,7 +610,3 @@ fn unknown_reference(
     }
 }
 
-#[allow(dead_code)]
-fn located_value<T: Clone>(l: &Option<Located<T>>) -> Option<T> {
-    l.as_ref().map(|l| l.value.clone())
-}

@@ -99,22 +99,28 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
                 findings.extend(barrier_findings(rules, cond.pollution_degree, barrier, &result));
                 barriers.push(result);
             }
-            Err(out) => {
-                let (key, span) = if out.key.contains('.') {
-                    (out.key.clone(), None)
-                } else {
-                    (format!("barrier \"{}\".{}", barrier.id, out.key), Some(barrier.span_of(&out.key)))
-                };
-                let d = match span {
-                    Some(span) => source.diag(&span, out.message),
-                    None => crate::diag::Diagnostic::new(&source.name, out.message),
-                };
-                problems.push(d.with_key(key));
+            Err(errors) => {
+                for out in errors {
+                    let (key, span) = if out.key.contains('.') {
+                        (out.key.clone(), project.key_spans.get(&out.key).cloned())
+                    } else {
+                        (format!("barrier \"{}\".{}", barrier.id, out.key), Some(barrier.span_of(&out.key)))
+                    };
+                    let d = match span {
+                        Some(span) => source.diag(&span, out.message),
+                        None => crate::diag::Diagnostic::new(&source.name, out.message),
+                    };
+                    let d = d.with_key(key);
+                    // A project-wide input out of range is reported once, not per barrier.
+                    if !problems.contains(&d) {
+                        problems.push(d);
+                    }
+                }
             }
         }
     }
     if !problems.is_empty() {
-        problems.dedup();
+        problems.sort_by_key(|d| (d.line, d.column));
         return Err(Problems(problems));
     }
     findings.extend(project_findings(&project));

@@ -138,10 +138,11 @@ pub fn show(x: f64) -> String {
 }
 
 /// Required clearance and creepage of one barrier, judged against its declared distances.
-pub fn evaluate(rules: &RuleBook, cond: &Conditions, barrier: &Barrier) -> Result<BarrierResult, OutOfTable> {
+/// Every input outside a table is returned, not only the first.
+pub fn evaluate(rules: &RuleBook, cond: &Conditions, barrier: &Barrier) -> Result<BarrierResult, Vec<OutOfTable>> {
     let on_board_functional = barrier.grade == Grade::Functional && barrier.printed_board;
     let (clearance, creepage, meta) = if on_board_functional {
-        let figure = board::functional_spacing(rules, cond, barrier)?;
+        let figure = board::functional_spacing(rules, cond, barrier).map_err(|e| vec![e])?;
         let meta = Meta {
             method: "ipc2221b",
             rated_impulse_v: None,
@@ -221,15 +222,22 @@ fn insulation_coordination(
     rules: &RuleBook,
     cond: &Conditions,
     barrier: &Barrier,
-) -> Result<(Figure, Figure, Meta), OutOfTable> {
+) -> Result<(Figure, Figure, Meta), Vec<OutOfTable>> {
     let grade = barrier.grade;
     // Double insulation is a basic and a supplementary part, each dimensioned as basic.
     let as_grade = match grade {
         Grade::Reinforced => Grade::Reinforced,
         _ => Grade::Basic,
     };
-    let clear = clearance::required(rules, cond, barrier, as_grade)?;
-    let creep = creepage::required(rules, cond, barrier, as_grade, &clear.figure)?;
+    let clear = clearance::required(rules, cond, barrier, as_grade);
+    // Creepage is still looked up when the clearance failed, so that every input outside
+    // a table is reported at once; the result is discarded in that case.
+    let no_floor = Figure { mm: 0.0, steps: Vec::new() };
+    let creep = creepage::required(rules, cond, barrier, as_grade, clear.as_ref().map(|c| &c.figure).unwrap_or(&no_floor));
+    let (clear, creep) = match (clear, creep) {
+        (Ok(clear), Ok(creep)) => (clear, creep),
+        (clear, creep) => return Err(clear.err().into_iter().chain(creep.err()).collect()),
+    };
     let mut clearance = clear.figure;
     let mut creepage = creep.figure;
     if grade == Grade::Functional {
