@@ -25,7 +25,12 @@ pub struct Finding {
 }
 
 impl Finding {
-    fn new(id: &str, severity: Severity, subject: Option<&str>, message: impl Into<String>) -> Self {
+    fn new(
+        id: &str,
+        severity: Severity,
+        subject: Option<&str>,
+        message: impl Into<String>,
+    ) -> Self {
         Finding {
             id: id.to_string(),
             severity,
@@ -39,13 +44,28 @@ impl Finding {
 pub const TABLE_FREQUENCY_LIMIT_HZ: f64 = 30_000.0;
 
 /// Findings about one barrier and its figures.
-pub fn barrier_findings(rules: &RuleBook, pollution_degree: u8, barrier: &Barrier, result: &BarrierResult) -> Vec<Finding> {
+pub fn barrier_findings(
+    rules: &RuleBook,
+    pollution_degree: u8,
+    barrier: &Barrier,
+    result: &BarrierResult,
+) -> Vec<Finding> {
     let mut out = Vec::new();
     let subject = Some(barrier.id.as_str());
     let grade = barrier.grade.as_str();
     for (what, declared, required, margin) in [
-        ("clearance", barrier.clearance_mm, result.required_clearance_mm, result.clearance_margin_mm),
-        ("creepage", barrier.creepage_mm, result.required_creepage_mm, result.creepage_margin_mm),
+        (
+            "clearance",
+            barrier.clearance_mm,
+            result.required_clearance_mm,
+            result.clearance_margin_mm,
+        ),
+        (
+            "creepage",
+            barrier.creepage_mm,
+            result.required_creepage_mm,
+            result.creepage_margin_mm,
+        ),
     ] {
         match (declared, margin) {
             (Some(d), Some(m)) if m < 0.0 => out.push(Finding::new(
@@ -156,11 +176,17 @@ pub fn project_findings(project: &Project) -> Vec<Finding> {
         "isolation paths from hazardous to accessible circuits are not analysed by this version: check by hand that every such path has the insulation its protection class needs",
     ));
     for (table, id, topic) in [
-        ("input", "power_entry.not_evaluated", "power entry (inrush, fuse, discharge, touch current)"),
+        (
+            "input",
+            "power_entry.not_evaluated",
+            "power entry (inrush, fuse, discharge, touch current)",
+        ),
         ("emc", "emc.not_evaluated", "the input EMC filter"),
     ] {
         let message = if project.not_evaluated.iter().any(|t| t == table) {
-            format!("[{table}] is present but {topic} is not evaluated by this version; its keys were not checked")
+            format!(
+                "[{table}] is present but {topic} is not evaluated by this version; its keys were not checked"
+            )
         } else {
             format!("no [{table}] table: {topic} not evaluated")
         };

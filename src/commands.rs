@@ -8,8 +8,8 @@ use std::path::{Path, PathBuf};
 use crate::checks::Severity;
 use crate::diag::{Diagnostic, Problems, Source, suggest};
 use crate::project::{
-    Barrier, BetweenRows, BoardCoating, BoardConductor, BoardSpacing, Field, Grade, Material, MaterialGroup,
-    OvervoltageCategory,
+    Barrier, BetweenRows, BoardCoating, BoardConductor, BoardSpacing, Field, Grade, Material,
+    MaterialGroup, OvervoltageCategory,
 };
 use crate::report::{Report, Templates, check_source, render_html, render_json, render_markdown};
 use crate::rules::RuleBook;
@@ -18,8 +18,14 @@ use crate::toml_read::NumberRule;
 
 /// Example projects that `gapwarden new --example NAME` writes.
 pub const EXAMPLES: &[(&str, &str)] = &[
-    ("class2-adapter", include_str!("../examples/class2-adapter.toml")),
-    ("class1-appliance", include_str!("../examples/class1-appliance.toml")),
+    (
+        "class2-adapter",
+        include_str!("../examples/class2-adapter.toml"),
+    ),
+    (
+        "class1-appliance",
+        include_str!("../examples/class1-appliance.toml"),
+    ),
 ];
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -50,22 +56,33 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
     let shown = out.display().to_string();
     let fail = |m: String| Problems(vec![Diagnostic::new(&shown, m)]);
     if out.is_dir() {
-        return Err(fail("is a folder; give a file name for the report".to_string()));
+        return Err(fail(
+            "is a folder; give a file name for the report".to_string(),
+        ));
     }
     let target = resolved(out);
     for p in protected {
         if resolved(p) == target {
-            return Err(fail("is an input of this run; the report would overwrite it, so nothing was written".to_string()));
+            return Err(fail(
+                "is an input of this run; the report would overwrite it, so nothing was written"
+                    .to_string(),
+            ));
         }
     }
     let folder = match out.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
     };
-    let file_name = out.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+    let file_name = out
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_default();
     let temp = folder.join(format!(".{file_name}.{}.tmp", std::process::id()));
     let write = || -> std::io::Result<()> {
-        let mut f = OpenOptions::new().write(true).create_new(true).open(&temp)?;
+        let mut f = OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&temp)?;
         f.write_all(text.as_bytes())?;
         f.sync_all()?;
         std::fs::rename(&temp, out)
@@ -96,22 +113,37 @@ pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
     let shown = path.display().to_string();
     let Some((_, text)) = EXAMPLES.iter().find(|(name, _)| *name == example) else {
         let names: Vec<&str> = EXAMPLES.iter().map(|(n, _)| *n).collect();
-        let mut d = Diagnostic::new("--example", format!("no example called \"{example}\"; examples: {}", names.join(", ")));
+        let mut d = Diagnostic::new(
+            "--example",
+            format!(
+                "no example called \"{example}\"; examples: {}",
+                names.join(", ")
+            ),
+        );
         if let Some(best) = suggest(example, &names) {
             d = d.with_help(format!("did you mean \"{best}\"?"));
         }
         return Err(d.into());
     };
-    let mut file = OpenOptions::new().write(true).create_new(true).open(path).map_err(|e| {
-        let m = if e.kind() == std::io::ErrorKind::AlreadyExists {
-            "already exists; gapwarden new never overwrites a file: choose another name".to_string()
-        } else {
-            format!("cannot be created: {e}")
-        };
-        Problems(vec![Diagnostic::new(&shown, m)])
-    })?;
-    file.write_all(text.as_bytes())
-        .map_err(|e| Problems(vec![Diagnostic::new(&shown, format!("cannot be written: {e}"))]))
+    let mut file = OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(path)
+        .map_err(|e| {
+            let m = if e.kind() == std::io::ErrorKind::AlreadyExists {
+                "already exists; gapwarden new never overwrites a file: choose another name"
+                    .to_string()
+            } else {
+                format!("cannot be created: {e}")
+            };
+            Problems(vec![Diagnostic::new(&shown, m)])
+        })?;
+    file.write_all(text.as_bytes()).map_err(|e| {
+        Problems(vec![Diagnostic::new(
+            &shown,
+            format!("cannot be written: {e}"),
+        )])
+    })
 }
 
 /// The derivation of one figure or finding, as plain text.
@@ -123,17 +155,39 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     };
     if let Some(b) = report.barriers.iter().find(|b| b.id == barrier_id) {
         explain_barrier(&mut out, b, figure);
-        for f in report.findings.iter().filter(|f| f.subject.as_deref() == Some(b.id.as_str())) {
-            out.push_str(&format!("finding {} ({}): {}\n", f.id, severity_word(f.severity), f.message));
+        for f in report
+            .findings
+            .iter()
+            .filter(|f| f.subject.as_deref() == Some(b.id.as_str()))
+        {
+            out.push_str(&format!(
+                "finding {} ({}): {}\n",
+                f.id,
+                severity_word(f.severity),
+                f.message
+            ));
         }
         return Ok(out);
     }
     let matching: Vec<_> = report.findings.iter().filter(|f| f.id == item).collect();
     if !matching.is_empty() {
         for f in matching {
-            let subject = f.subject.as_deref().map(|s| format!(" ({s})")).unwrap_or_default();
-            out.push_str(&format!("{} [{}]{subject}: {}\n", f.id, severity_word(f.severity), f.message));
-            if let Some(b) = f.subject.as_deref().and_then(|s| report.barriers.iter().find(|b| b.id == s)) {
+            let subject = f
+                .subject
+                .as_deref()
+                .map(|s| format!(" ({s})"))
+                .unwrap_or_default();
+            out.push_str(&format!(
+                "{} [{}]{subject}: {}\n",
+                f.id,
+                severity_word(f.severity),
+                f.message
+            ));
+            if let Some(b) = f
+                .subject
+                .as_deref()
+                .and_then(|s| report.barriers.iter().find(|b| b.id == s))
+            {
                 let figure = if f.id.contains("clearance") && !f.id.contains("creepage") {
                     Some("clearance")
                 } else if f.id.contains("creepage") {
@@ -164,8 +218,11 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     known.extend(report.findings.iter().map(|f| f.id.clone()));
     known.dedup();
     let refs: Vec<&str> = known.iter().map(String::as_str).collect();
-    let mut d = Diagnostic::new("explain", format!("nothing called \"{item}\" in this report"))
-        .with_help(format!("items: {}", refs.join(", ")));
+    let mut d = Diagnostic::new(
+        "explain",
+        format!("nothing called \"{item}\" in this report"),
+    )
+    .with_help(format!("items: {}", refs.join(", ")));
     if let Some(best) = suggest(item, &refs) {
         d = d.with_help(format!("did you mean \"{best}\"?"));
     }
@@ -182,10 +239,23 @@ fn severity_word(s: Severity) -> &'static str {
 
 fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
     use crate::spacing::show;
-    let declared = |d: Option<f64>| d.map(|d| format!("{} mm", show(d))).unwrap_or_else(|| "not declared".to_string());
+    let declared = |d: Option<f64>| {
+        d.map(|d| format!("{} mm", show(d)))
+            .unwrap_or_else(|| "not declared".to_string())
+    };
     for (what, required, laid_out, steps) in [
-        ("clearance", b.required_clearance_mm, b.clearance_mm, &b.derivation.clearance),
-        ("creepage", b.required_creepage_mm, b.creepage_mm, &b.derivation.creepage),
+        (
+            "clearance",
+            b.required_clearance_mm,
+            b.clearance_mm,
+            &b.derivation.clearance,
+        ),
+        (
+            "creepage",
+            b.required_creepage_mm,
+            b.creepage_mm,
+            &b.derivation.creepage,
+        ),
     ] {
         if figure.is_some_and(|f| f != what) {
             continue;
@@ -199,7 +269,11 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             b.verdict
         ));
         for (i, s) in steps.iter().enumerate() {
-            let rule = s.rule.as_deref().map(|r| format!(" [{r}]")).unwrap_or_default();
+            let rule = s
+                .rule
+                .as_deref()
+                .map(|r| format!(" [{r}]"))
+                .unwrap_or_default();
             out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
         }
     }
@@ -220,13 +294,19 @@ pub fn describe_rules(rules: &RuleBook, id: Option<&str>) -> Result<String, Prob
         }
         Some(id) => match rules.info(id) {
             Some(r) => {
-                out.push_str(&format!("# {} ({} {}, sha256 {})\n", r.id, r.origin, r.file, r.sha256));
+                out.push_str(&format!(
+                    "# {} ({} {}, sha256 {})\n",
+                    r.id, r.origin, r.file, r.sha256
+                ));
                 out.push_str(&r.text);
                 Ok(out)
             }
             None => {
                 let ids: Vec<&str> = rules.info.iter().map(|r| r.id.as_str()).collect();
-                let mut d = Diagnostic::new("rules", format!("no rule table \"{id}\"; loaded: {}", ids.join(", ")));
+                let mut d = Diagnostic::new(
+                    "rules",
+                    format!("no rule table \"{id}\"; loaded: {}", ids.join(", ")),
+                );
                 if let Some(best) = suggest(id, &ids) {
                     d = d.with_help(format!("did you mean \"{best}\"?"));
                 }
@@ -276,20 +356,38 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
     judge("--clearance-mm", q.clearance_mm, &DISTANCE_MM);
     judge("--creepage-mm", q.creepage_mm, &DISTANCE_MM);
     if !(q.altitude_m.is_finite() && q.altitude_m >= 0.0) {
-        problems.push(Diagnostic::new("command line", "expected an altitude in metres above sea level, 0 or more").with_key("--altitude-m"));
+        problems.push(
+            Diagnostic::new(
+                "command line",
+                "expected an altitude in metres above sea level, 0 or more",
+            )
+            .with_key("--altitude-m"),
+        );
     }
     if let Some(c) = q.cti
         && !(c.is_finite() && c >= 0.0)
     {
-        problems.push(Diagnostic::new("command line", "expected a comparative tracking index, 0 or more").with_key("--cti"));
+        problems.push(
+            Diagnostic::new(
+                "command line",
+                "expected a comparative tracking index, 0 or more",
+            )
+            .with_key("--cti"),
+        );
     }
     if q.material_group.is_some() && q.cti.is_some() {
-        problems.push(Diagnostic::new("command line", "give --material-group or --cti, not both").with_key("--cti"));
+        problems.push(
+            Diagnostic::new("command line", "give --material-group or --cti, not both")
+                .with_key("--cti"),
+        );
     }
     if let Some(peak) = q.working_peak_v
         && peak < q.working_rms_v
     {
-        problems.push(Diagnostic::new("command line", "a peak is never below the rms value").with_key("--working-peak-v"));
+        problems.push(
+            Diagnostic::new("command line", "a peak is never below the rms value")
+                .with_key("--working-peak-v"),
+        );
     }
     if !problems.is_empty() {
         return Err(Problems(problems));

@@ -149,7 +149,12 @@ pub fn suggest<'a>(word: &str, candidates: &[&'a str]) -> Option<&'a str> {
     let word_lower = word.to_ascii_lowercase();
     candidates
         .iter()
-        .map(|c| (strsim::jaro_winkler(&word_lower, &c.to_ascii_lowercase()), *c))
+        .map(|c| {
+            (
+                strsim::jaro_winkler(&word_lower, &c.to_ascii_lowercase()),
+                *c,
+            )
+        })
         .filter(|(score, _)| *score >= 0.8)
         .max_by(|a, b| a.0.total_cmp(&b.0))
         .map(|(_, c)| c)

@@ -26,10 +26,15 @@ pub fn read_text(path: &Path) -> Result<String, String> {
     }
     let bytes = std::fs::read(path).map_err(|e| match e.kind() {
         std::io::ErrorKind::NotFound => "no such file".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied: the file cannot be read".to_string(),
+        std::io::ErrorKind::PermissionDenied => {
+            "permission denied: the file cannot be read".to_string()
+        }
         _ => format!("cannot be read: {e}"),
     })?;
     String::from_utf8(bytes).map_err(|e| {
-        format!("is not valid UTF-8 text (first bad byte at offset {}); save it as UTF-8", e.utf8_error().valid_up_to())
+        format!(
+            "is not valid UTF-8 text (first bad byte at offset {}); save it as UTF-8",
+            e.utf8_error().valid_up_to()
+        )
     })
 }

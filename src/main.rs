@@ -9,7 +9,9 @@ use clap::{Parser, Subcommand, ValueEnum};
 
 use gapwarden::commands::{self, Format, SpacingQuery};
 use gapwarden::diag::Problems;
-use gapwarden::project::{BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory};
+use gapwarden::project::{
+    BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
+};
 use gapwarden::report::Templates;
 use gapwarden::rules::RuleBook;
 use gapwarden::spacing::Verdict;
@@ -219,10 +221,18 @@ fn run(cli: Cli) -> Result<u8, Problems> {
         }
         Command::New { path, example } => {
             commands::new_project(&path, &example)?;
-            eprintln!("wrote {} (from the {example} example); edit it, then run: gapwarden check {}", path.display(), path.display());
+            eprintln!(
+                "wrote {} (from the {example} example); edit it, then run: gapwarden check {}",
+                path.display(),
+                path.display()
+            );
             Ok(0)
         }
-        Command::Explain { project, item, rules } => {
+        Command::Explain {
+            project,
+            item,
+            rules,
+        } => {
             let rules = RuleBook::load(rules.as_deref())?;
             let report = commands::check_file(&project, &rules)?;
             print(&commands::explain(&report, &item)?);
@@ -246,14 +256,22 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                     GradeArg::Double => Grade::Double,
                 },
                 pollution_degree: a.pollution_degree,
-                overvoltage_category: OvervoltageCategory::from_word(&a.overvoltage_category).unwrap_or(OvervoltageCategory::II),
+                overvoltage_category: OvervoltageCategory::from_word(&a.overvoltage_category)
+                    .unwrap_or(OvervoltageCategory::II),
                 nominal_v: a.nominal_v,
                 transient_v: a.transient_v,
                 altitude_m: a.altitude_m,
-                material_group: a.material_group.as_deref().and_then(MaterialGroup::from_word),
+                material_group: a
+                    .material_group
+                    .as_deref()
+                    .and_then(MaterialGroup::from_word),
                 cti: a.cti,
                 printed_board: a.printed_board,
-                field: if a.homogeneous { Field::Homogeneous } else { Field::Inhomogeneous },
+                field: if a.homogeneous {
+                    Field::Homogeneous
+                } else {
+                    Field::Inhomogeneous
+                },
                 board_conductor: match a.board_conductor {
                     ConductorArg::OuterLayer => BoardConductor::OuterLayer,
                     ConductorArg::InnerLayer => BoardConductor::InnerLayer,
@@ -264,7 +282,11 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                     CoatingArg::Polymer => BoardCoating::Polymer,
                     CoatingArg::Conformal => BoardCoating::Conformal,
                 },
-                creepage_between_rows: if a.interpolate { BetweenRows::Interpolate } else { BetweenRows::NextRow },
+                creepage_between_rows: if a.interpolate {
+                    BetweenRows::Interpolate
+                } else {
+                    BetweenRows::NextRow
+                },
                 clearance_mm: a.clearance_mm,
                 creepage_mm: a.creepage_mm,
             };
@@ -272,7 +294,11 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             let mut text = serde_json::to_string_pretty(&result).unwrap_or_default();
             text.push('\n');
             print(&text);
-            Ok(if result.verdict == Verdict::Fail { 1 } else { 0 })
+            Ok(if result.verdict == Verdict::Fail {
+                1
+            } else {
+                0
+            })
         }
     }
 }

@@ -38,14 +38,27 @@ impl NumberRule {
     /// Checks a number; `Err` holds the reason, `Ok(Some)` a warning.
     pub fn judge(&self, value: f64) -> Result<Option<String>, String> {
         if !value.is_finite() {
-            return Err(format!("{value} is not a finite number; expected {}", self.expected));
+            return Err(format!(
+                "{value} is not a finite number; expected {}",
+                self.expected
+            ));
         }
         if self.integer && value.fract() != 0.0 {
-            return Err(format!("{value} is not a whole number; expected {}", self.expected));
+            return Err(format!(
+                "{value} is not a whole number; expected {}",
+                self.expected
+            ));
         }
-        let below = if self.min_inclusive { value < self.min } else { value <= self.min };
+        let below = if self.min_inclusive {
+            value < self.min
+        } else {
+            value <= self.min
+        };
         if below || value > self.max {
-            return Err(format!("{value} is out of range; expected {}", self.expected));
+            return Err(format!(
+                "{value} is out of range; expected {}",
+                self.expected
+            ));
         }
         if value > self.plausible_max {
             return Ok(Some(format!(
@@ -112,7 +125,11 @@ impl<'s> Reader<'s> {
         message: impl Into<String>,
         help: impl Into<String>,
     ) {
-        let d = self.source.diag(span, message).with_key(key).with_help(help);
+        let d = self
+            .source
+            .diag(span, message)
+            .with_key(key)
+            .with_help(help);
         self.problems.push(d);
     }
 
@@ -341,7 +358,9 @@ impl<'s> Reader<'s> {
         let path = join(&table.path, key);
         let span = value.span();
         let number = match value.get_ref() {
-            DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix()).ok().map(|v| v as f64),
+            DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix())
+                .ok()
+                .map(|v| v as f64),
             DeValue::Float(f) => f.as_str().parse::<f64>().ok(),
             DeValue::String(s) if s.trim().parse::<f64>().is_ok() => {
                 self.error_with_help(
@@ -362,7 +381,11 @@ impl<'s> Reader<'s> {
             }
         };
         let Some(number) = number else {
-            self.error(&span, path, format!("cannot be read as a number; expected {}", rule.expected));
+            self.error(
+                &span,
+                path,
+                format!("cannot be read as a number; expected {}", rule.expected),
+            );
             return None;
         };
         match rule.judge(number) {
@@ -419,7 +442,9 @@ impl<'s> Reader<'s> {
         }
         let message = format!("\"{s}\" is not known; expected {}", one_of(words));
         match suggest(s, words) {
-            Some(best) => self.error_with_help(&span, path, message, format!("did you mean \"{best}\"?")),
+            Some(best) => {
+                self.error_with_help(&span, path, message, format!("did you mean \"{best}\"?"))
+            }
             None => self.error(&span, path, message),
         }
         None
@@ -450,14 +475,19 @@ impl<'s> Reader<'s> {
             self.error(
                 &value.span(),
                 path,
-                format!("expected an array of strings, found {}", value.get_ref().type_str()),
+                format!(
+                    "expected an array of strings, found {}",
+                    value.get_ref().type_str()
+                ),
             );
             return None;
         };
         let mut out = Vec::new();
         for (i, item) in items.iter().enumerate() {
             match item.get_ref() {
-                DeValue::String(s) if !s.trim().is_empty() && s.chars().count() <= MAX_STRING_CHARS => {
+                DeValue::String(s)
+                    if !s.trim().is_empty() && s.chars().count() <= MAX_STRING_CHARS =>
+                {
                     out.push(Located {
                         value: s.to_string(),
                         span: item.span(),

@@ -73,7 +73,13 @@ pub enum Grade {
 }
 
 impl Grade {
-    pub const WORDS: [&'static str; 5] = ["functional", "basic", "supplementary", "reinforced", "double"];
+    pub const WORDS: [&'static str; 5] = [
+        "functional",
+        "basic",
+        "supplementary",
+        "reinforced",
+        "double",
+    ];
 
     pub fn from_word(word: &str) -> Option<Self> {
         Some(match word {
@@ -242,7 +248,10 @@ pub struct Barrier {
 impl Barrier {
     /// Position of a key of this barrier, or of the barrier itself.
     pub fn span_of(&self, key: &str) -> Span {
-        self.key_spans.get(key).cloned().unwrap_or_else(|| self.span.clone())
+        self.key_spans
+            .get(key)
+            .cloned()
+            .unwrap_or_else(|| self.span.clone())
     }
 }
 

@@ -6,8 +6,23 @@ use super::*;
 use crate::diag::{Problems, Source, one_of, suggest};
 use crate::toml_read::{NumberRule, Reader, TableRef, parse_document};
 
-const TOP_KEYS: &[&str] = &["design", "environment", "mains", "circuit", "barrier", "part", "input", "converter", "emc"];
-const DESIGN_KEYS: &[&str] = &["name", "revision", "protection_class", "creepage_between_rows"];
+const TOP_KEYS: &[&str] = &[
+    "design",
+    "environment",
+    "mains",
+    "circuit",
+    "barrier",
+    "part",
+    "input",
+    "converter",
+    "emc",
+];
+const DESIGN_KEYS: &[&str] = &[
+    "name",
+    "revision",
+    "protection_class",
+    "creepage_between_rows",
+];
 const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
 const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
 const CIRCUIT_KEYS: &[&str] = &["id", "kind", "accessible", "earthed", "description"];
@@ -185,7 +200,11 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
 fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -> Option<Design> {
     let Some(t) = r.table(root, "design", DESIGN_KEYS) else {
         if !r.has(root, "design") {
-            r.missing(root, "design", "a [design] table with name and protection_class");
+            r.missing(
+                root,
+                "design",
+                "a [design] table with name and protection_class",
+            );
         }
         return None;
     };
@@ -205,7 +224,9 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
         }
     };
     if revision.is_none() {
-        assumptions.push("No revision given in [design]; the report cannot be tied to a revision.".to_string());
+        assumptions.push(
+            "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
+        );
     }
     let protection_class = match class?.value {
         "I" => ProtectionClass::I,
@@ -230,11 +251,15 @@ fn read_environment(
     if t.is_none() && r.has(root, "environment") {
         return None;
     }
-    let pd = t.as_ref().and_then(|t| r.number(t, "pollution_degree", &POLLUTION_DEGREE));
+    let pd = t
+        .as_ref()
+        .and_then(|t| r.number(t, "pollution_degree", &POLLUTION_DEGREE));
     let ovc = t
         .as_ref()
         .and_then(|t| r.word(t, "overvoltage_category", &OvervoltageCategory::WORDS));
-    let altitude = t.as_ref().and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
+    let altitude = t
+        .as_ref()
+        .and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
     if let Some(a) = &altitude {
         key_spans.insert("environment.altitude_m".to_string(), a.span.clone());
     }
@@ -246,7 +271,8 @@ fn read_environment(
         assumptions.push("Overvoltage category II (not stated in [environment]).".to_string());
     }
     if !stated("altitude_m") {
-        assumptions.push("Altitude up to 2000 m (altitude_m not stated in [environment]).".to_string());
+        assumptions
+            .push("Altitude up to 2000 m (altitude_m not stated in [environment]).".to_string());
     }
     // A stated but invalid value has been reported; fall back only for absent ones.
     if (stated("pollution_degree") && pd.is_none())
@@ -264,7 +290,11 @@ fn read_environment(
     })
 }
 
-fn read_mains(r: &mut Reader, root: &TableRef, key_spans: &mut BTreeMap<String, Span>) -> Option<Mains> {
+fn read_mains(
+    r: &mut Reader,
+    root: &TableRef,
+    key_spans: &mut BTreeMap<String, Span>,
+) -> Option<Mains> {
     let Some(t) = r.table(root, "mains", MAINS_KEYS) else {
         if !r.has(root, "mains") {
             r.missing(root, "mains", "a [mains] table with nominal_v");
@@ -280,12 +310,20 @@ fn read_mains(r: &mut Reader, root: &TableRef, key_spans: &mut BTreeMap<String, 
     if let Some(max) = &max_v
         && max.value < nominal.value
     {
-        r.error(&max.span, "mains.max_v", format!("{} V is below nominal_v = {} V", max.value, nominal.value));
+        r.error(
+            &max.span,
+            "mains.max_v",
+            format!("{} V is below nominal_v = {} V", max.value, nominal.value),
+        );
     }
     if let Some(min) = &min_v
         && min.value > nominal.value
     {
-        r.error(&min.span, "mains.min_v", format!("{} V is above nominal_v = {} V", min.value, nominal.value));
+        r.error(
+            &min.span,
+            "mains.min_v",
+            format!("{} V is above nominal_v = {} V", min.value, nominal.value),
+        );
     }
     Some(Mains {
         nominal_v: nominal.value,
@@ -310,13 +348,21 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
         if let Some(id) = &id
             && !seen.insert(id.value.clone())
         {
-            r.error(&id.span, format!("{}.id", t.path), format!("circuit id \"{}\" is declared twice", id.value));
+            r.error(
+                &id.span,
+                format!("{}.id", t.path),
+                format!("circuit id \"{}\" is declared twice", id.value),
+            );
             continue;
         }
-        if r.has(t, "accessible") && accessible.is_none() || r.has(t, "earthed") && earthed.is_none() {
+        if r.has(t, "accessible") && accessible.is_none()
+            || r.has(t, "earthed") && earthed.is_none()
+        {
             continue;
         }
-        let (Some(id), Some(kind)) = (id, kind) else { continue };
+        let (Some(id), Some(kind)) = (id, kind) else {
+            continue;
+        };
         circuits.push(Circuit {
             id: id.value,
             kind: match kind.value {
@@ -354,7 +400,9 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
             );
             continue;
         }
-        let (Some(reference), Some(kind)) = (reference, kind) else { continue };
+        let (Some(reference), Some(kind)) = (reference, kind) else {
+            continue;
+        };
         let kind = match kind.value {
             "y-capacitor" => PartKind::YCapacitor,
             "x-capacitor" => PartKind::XCapacitor,
@@ -416,7 +464,11 @@ fn read_barriers(
         let cti = r.number(t, "cti", &CTI);
         let printed = r.boolean(t, "printed_board");
         let field = r.word(t, "field", &["inhomogeneous", "homogeneous"]);
-        let conductor = r.word(t, "board_conductor", &["outer-layer", "inner-layer", "component-lead"]);
+        let conductor = r.word(
+            t,
+            "board_conductor",
+            &["outer-layer", "inner-layer", "component-lead"],
+        );
         let coating = r.word(t, "board_coating", &["none", "polymer", "conformal"]);
         let clearance = r.number(t, "clearance_mm", &DISTANCE_MM);
         let creepage = r.number(t, "creepage_mm", &DISTANCE_MM);
@@ -428,7 +480,10 @@ fn read_barriers(
             r.error_with_help(
                 &cti.span,
                 format!("{}.cti", t.path),
-                format!("both material_group = \"{}\" and cti are given", group.value),
+                format!(
+                    "both material_group = \"{}\" and cti are given",
+                    group.value
+                ),
                 "give one of them: the material group follows from the CTI",
             );
         }
@@ -457,14 +512,26 @@ fn read_barriers(
                 } else if part_refs.contains(&item.value.as_str()) {
                     bridged_by.push(item.value.clone());
                 } else {
-                    unknown_reference(r, &item.span, &format!("{}.bridged_by", t.path), "part", &item.value, &part_refs, "[[part]] ref");
+                    unknown_reference(
+                        r,
+                        &item.span,
+                        &format!("{}.bridged_by", t.path),
+                        "part",
+                        &item.value,
+                        &part_refs,
+                        "[[part]] ref",
+                    );
                 }
             }
         }
         if let Some(id) = &id
             && !seen.insert(id.value.clone())
         {
-            r.error(&id.span, format!("{}.id", t.path), format!("barrier id \"{}\" is declared twice", id.value));
+            r.error(
+                &id.span,
+                format!("{}.id", t.path),
+                format!("barrier id \"{}\" is declared twice", id.value),
+            );
         }
         if r.problems.len() > problems_before {
             continue;
@@ -487,7 +554,9 @@ fn read_barriers(
             }
         }
         let material = match (group, cti) {
-            (Some(g), _) => Material::Group(MaterialGroup::from_word(g.value).unwrap_or(MaterialGroup::IIIb)),
+            (Some(g), _) => {
+                Material::Group(MaterialGroup::from_word(g.value).unwrap_or(MaterialGroup::IIIb))
+            }
             (None, Some(c)) => Material::Cti(c.value),
             (None, None) => {
                 defaults.material.push(id.value.clone());
@@ -502,7 +571,8 @@ fn read_barriers(
         }
         let grade = Grade::from_word(grade.value).unwrap_or(Grade::Reinforced);
         let printed_board = printed.is_some_and(|l| l.value);
-        if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none()) {
+        if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none())
+        {
             defaults.board.push(id.value.clone());
         }
         barriers.push(Barrier {
@@ -570,24 +640,50 @@ fn read_barriers(
 
 fn read_between(r: &mut Reader, t: &TableRef, circuit_ids: &[&str]) -> Option<[String; 2]> {
     if !r.has(t, "between") {
-        r.missing(t, "between", "two circuit ids, e.g. [\"primary\", \"output\"]");
+        r.missing(
+            t,
+            "between",
+            "two circuit ids, e.g. [\"primary\", \"output\"]",
+        );
         return None;
     }
     let list = r.string_list(t, "between")?;
     let path = format!("{}.between", t.path);
     if list.value.len() != 2 {
-        r.error(&list.span, path, format!("names {} circuits; expected exactly two circuit ids", list.value.len()));
+        r.error(
+            &list.span,
+            path,
+            format!(
+                "names {} circuits; expected exactly two circuit ids",
+                list.value.len()
+            ),
+        );
         return None;
     }
     let mut ok = true;
     for item in &list.value {
         if !circuit_ids.contains(&item.value.as_str()) {
-            unknown_reference(r, &item.span, &path, "circuit", &item.value, circuit_ids, "[[circuit]] id");
+            unknown_reference(
+                r,
+                &item.span,
+                &path,
+                "circuit",
+                &item.value,
+                circuit_ids,
+                "[[circuit]] id",
+            );
             ok = false;
         }
     }
     if list.value[0].value == list.value[1].value {
-        r.error(&list.span, path, format!("names circuit \"{}\" twice; a barrier separates two different circuits", list.value[0].value));
+        r.error(
+            &list.span,
+            path,
+            format!(
+                "names circuit \"{}\" twice; a barrier separates two different circuits",
+                list.value[0].value
+            ),
+        );
         return None;
     }
     ok.then(|| [list.value[0].value.clone(), list.value[1].value.clone()])
@@ -609,4 +705,3 @@ fn unknown_reference(
         None => r.error_with_help(span, path, message, format!("declared: {}", one_of(known))),
     }
 }
-

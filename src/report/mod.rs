@@ -7,7 +7,7 @@ use serde::Serialize;
 
 use crate::checks::{Finding, Severity, barrier_findings, project_findings};
 use crate::diag::{Problems, Source};
-use crate::project::{OvervoltageCategory, ProtectionClass, BetweenRows, read_project};
+use crate::project::{BetweenRows, OvervoltageCategory, ProtectionClass, read_project};
 use crate::rules::{RuleBook, RuleInfo};
 use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
 
@@ -96,7 +96,12 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
     for barrier in &project.barriers {
         match evaluate(rules, &cond, barrier) {
             Ok(result) => {
-                findings.extend(barrier_findings(rules, cond.pollution_degree, barrier, &result));
+                findings.extend(barrier_findings(
+                    rules,
+                    cond.pollution_degree,
+                    barrier,
+                    &result,
+                ));
                 barriers.push(result);
             }
             Err(errors) => {
@@ -104,7 +109,10 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
                     let (key, span) = if out.key.contains('.') {
                         (out.key.clone(), project.key_spans.get(&out.key).cloned())
                     } else {
-                        (format!("barrier \"{}\".{}", barrier.id, out.key), Some(barrier.span_of(&out.key)))
+                        (
+                            format!("barrier \"{}\".{}", barrier.id, out.key),
+                            Some(barrier.span_of(&out.key)),
+                        )
                     };
                     let d = match span {
                         Some(span) => source.diag(&span, out.message),

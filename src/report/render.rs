@@ -36,14 +36,19 @@ impl Templates {
 
     /// Uses `DIR/report.md.j2` where it exists, the shipped template otherwise.
     pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
-        let Some(dir) = dir else { return Ok(Self::shipped()) };
+        let Some(dir) = dir else {
+            return Ok(Self::shipped());
+        };
         let path = dir.join(TEMPLATE_NAME);
         if !path.exists() {
             return Ok(Self::shipped());
         }
         let shown = path.display().to_string();
         let report = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
-        Ok(Templates { report, origin: shown })
+        Ok(Templates {
+            report,
+            origin: shown,
+        })
     }
 }
 
@@ -99,7 +104,10 @@ fn number(value: &Value) -> String {
 }
 
 fn template_problem(origin: &str, e: &Error) -> Problems {
-    let mut d = Diagnostic::new(origin, format!("template error: {}", e.detail().unwrap_or(&e.to_string())));
+    let mut d = Diagnostic::new(
+        origin,
+        format!("template error: {}", e.detail().unwrap_or(&e.to_string())),
+    );
     d.line = e.line();
     if e.kind() == ErrorKind::OutOfFuel {
         d.message = "template error: the template ran out of its work allowance (a loop that does not end?)".to_string();
@@ -150,7 +158,8 @@ pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Pro
 
 /// The report model as pretty-printed JSON.
 pub fn render_json(report: &Report) -> String {
-    let mut text = serde_json::to_string_pretty(report).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    let mut text =
+        serde_json::to_string_pretty(report).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
     text.push('\n');
     text
 }

@@ -14,12 +14,30 @@ pub use tables::*;
 
 /// The rule files shipped with gapwarden, embedded at build time.
 pub const SHIPPED: &[(&str, &str)] = &[
-    ("iec60664-1-impulse.toml", include_str!("../../rules/iec60664-1-impulse.toml")),
-    ("iec60664-1-clearance.toml", include_str!("../../rules/iec60664-1-clearance.toml")),
-    ("iec60664-1-creepage.toml", include_str!("../../rules/iec60664-1-creepage.toml")),
-    ("iec60664-1-reinforced.toml", include_str!("../../rules/iec60664-1-reinforced.toml")),
-    ("iec60664-1-altitude.toml", include_str!("../../rules/iec60664-1-altitude.toml")),
-    ("iec60664-1-grooves.toml", include_str!("../../rules/iec60664-1-grooves.toml")),
+    (
+        "iec60664-1-impulse.toml",
+        include_str!("../../rules/iec60664-1-impulse.toml"),
+    ),
+    (
+        "iec60664-1-clearance.toml",
+        include_str!("../../rules/iec60664-1-clearance.toml"),
+    ),
+    (
+        "iec60664-1-creepage.toml",
+        include_str!("../../rules/iec60664-1-creepage.toml"),
+    ),
+    (
+        "iec60664-1-reinforced.toml",
+        include_str!("../../rules/iec60664-1-reinforced.toml"),
+    ),
+    (
+        "iec60664-1-altitude.toml",
+        include_str!("../../rules/iec60664-1-altitude.toml"),
+    ),
+    (
+        "iec60664-1-grooves.toml",
+        include_str!("../../rules/iec60664-1-grooves.toml"),
+    ),
     (
         "iec60664-1-material-groups.toml",
         include_str!("../../rules/iec60664-1-material-groups.toml"),
@@ -85,11 +103,19 @@ impl RuleBook {
                 Ok(h) => {
                     sources.insert(h.id, (source, origin));
                 }
-                Err(e) => problems.push(toml_problem(&source, &e, "a rule file needs id, title, source and provenance")),
+                Err(e) => problems.push(toml_problem(
+                    &source,
+                    &e,
+                    "a rule file needs id, title, source and provenance",
+                )),
             }
         };
         for (name, text) in SHIPPED {
-            add(Source::new(format!("rules/{name}"), *text), "shipped", &mut problems);
+            add(
+                Source::new(format!("rules/{name}"), *text),
+                "shipped",
+                &mut problems,
+            );
         }
         if let Some(dir) = house {
             for source in read_folder(dir)? {
@@ -101,7 +127,9 @@ impl RuleBook {
         }
         let mut info = Vec::new();
         for (id, (source, origin)) in &sources {
-            let Ok(h) = toml::from_str::<Header>(&source.text) else { continue };
+            let Ok(h) = toml::from_str::<Header>(&source.text) else {
+                continue;
+            };
             info.push(RuleInfo {
                 id: id.clone(),
                 title: h.title,
@@ -128,7 +156,16 @@ impl RuleBook {
         if !typed.problems.is_empty() {
             return Err(Problems(typed.problems));
         }
-        match (impulse, clearance, creepage, reinforced, altitude, grooves, material_groups, board) {
+        match (
+            impulse,
+            clearance,
+            creepage,
+            reinforced,
+            altitude,
+            grooves,
+            material_groups,
+            board,
+        ) {
             (
                 Some(impulse),
                 Some(clearance),
@@ -149,7 +186,10 @@ impl RuleBook {
                 material_groups,
                 board,
             }),
-            _ => Err(Problems(vec![Diagnostic::new("rules", "a rule table could not be loaded")])),
+            _ => Err(Problems(vec![Diagnostic::new(
+                "rules",
+                "a rule table could not be loaded",
+            )])),
         }
     }
 
@@ -166,14 +206,18 @@ struct Typed<'a> {
 impl Typed<'_> {
     fn get<T: Table>(&mut self, id: &str) -> Option<T> {
         let Some((source, _)) = self.sources.get(id) else {
-            self.problems.push(Diagnostic::new("rules", format!("no rule table with id \"{id}\" is loaded")));
+            self.problems.push(Diagnostic::new(
+                "rules",
+                format!("no rule table with id \"{id}\" is loaded"),
+            ));
             return None;
         };
         match toml::from_str::<T>(&source.text) {
             Ok(table) => match table.check() {
                 Ok(()) => Some(table),
                 Err(message) => {
-                    self.problems.push(Diagnostic::new(&source.name, message).with_key("rows"));
+                    self.problems
+                        .push(Diagnostic::new(&source.name, message).with_key("rows"));
                     None
                 }
             },

@@ -16,7 +16,9 @@ fn ascending(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String
             return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
         }
         if v <= last {
-            return Err(format!("{what}: rows must be in strictly ascending order ({v} follows {last})"));
+            return Err(format!(
+                "{what}: rows must be in strictly ascending order ({v} follows {last})"
+            ));
         }
         last = v;
     }
@@ -71,7 +73,10 @@ impl Table for ImpulseTable {
     fn check(&self) -> Result<(), String> {
         ascending(self.rows.iter().map(|r| r.up_to_v), "up_to_v")?;
         for i in 0..4 {
-            ascending(self.rows.iter().map(|r| r.by_category(i)), "rated impulse voltages")?;
+            ascending(
+                self.rows.iter().map(|r| r.by_category(i)),
+                "rated impulse voltages",
+            )?;
         }
         Ok(())
     }
@@ -108,8 +113,14 @@ impl ClearanceTable {
 impl Table for ClearanceTable {
     fn check(&self) -> Result<(), String> {
         ascending(self.rows.iter().map(|r| r.impulse_kv), "impulse_kv")?;
-        non_negative(self.rows.iter().flat_map(|r| [r.case_a_mm, r.case_b_mm]), "clearances")?;
-        non_negative(self.pollution_degree_minimum_mm.iter().copied(), "pollution_degree_minimum_mm")
+        non_negative(
+            self.rows.iter().flat_map(|r| [r.case_a_mm, r.case_b_mm]),
+            "clearances",
+        )?;
+        non_negative(
+            self.pollution_degree_minimum_mm.iter().copied(),
+            "pollution_degree_minimum_mm",
+        )
     }
 }
 
@@ -191,12 +202,15 @@ impl ReinforcedRule {
 
 impl Table for ReinforcedRule {
     fn check(&self) -> Result<(), String> {
-        ascending(self.preferred_impulse_v.iter().copied(), "preferred_impulse_v")?;
-        if !(self.non_preferred_impulse_factor >= 1.0 && self.creepage_factor >= 1.0)
-            || !self.non_preferred_impulse_factor.is_finite()
-            || !self.creepage_factor.is_finite()
-        {
-            return Err("the factors for reinforced insulation must be finite and at least 1".to_string());
+        ascending(
+            self.preferred_impulse_v.iter().copied(),
+            "preferred_impulse_v",
+        )?;
+        let usable = |f: f64| f.is_finite() && f >= 1.0;
+        if !usable(self.non_preferred_impulse_factor) || !usable(self.creepage_factor) {
+            return Err(
+                "the factors for reinforced insulation must be finite and at least 1".to_string(),
+            );
         }
         Ok(())
     }
@@ -229,7 +243,10 @@ impl Table for AltitudeTable {
         let mut last = 0.0;
         for r in &self.rows {
             if !(r.factor >= 1.0 && r.factor >= last && r.factor.is_finite()) {
-                return Err(format!("factor {} at {} m: factors must be at least 1 and never fall", r.factor, r.altitude_m));
+                return Err(format!(
+                    "factor {} at {} m: factors must be at least 1 and never fall",
+                    r.factor, r.altitude_m
+                ));
             }
             last = r.factor;
         }
@@ -282,10 +299,16 @@ impl MaterialGroupTable {
 
 impl Table for MaterialGroupTable {
     fn check(&self) -> Result<(), String> {
-        ascending(self.groups.iter().rev().map(|g| g.min_cti), "min_cti (listed from the highest down)")?;
+        ascending(
+            self.groups.iter().rev().map(|g| g.min_cti),
+            "min_cti (listed from the highest down)",
+        )?;
         for g in &self.groups {
             if crate::project::MaterialGroup::from_word(&g.group).is_none() {
-                return Err(format!("group \"{}\" is not one of I, II, IIIa, IIIb", g.group));
+                return Err(format!(
+                    "group \"{}\" is not one of I, II, IIIa, IIIb",
+                    g.group
+                ));
             }
         }
         Ok(())
@@ -322,9 +345,18 @@ impl Table for BoardSpacingTable {
             return Err(format!("columns must be {:?}", Self::COLUMNS));
         }
         ascending(self.rows.iter().map(|r| r.up_to_peak_v), "up_to_peak_v")?;
-        for row in self.rows.iter().map(|r| &r.mm).chain([&self.above_last_row_mm_per_v]) {
+        for row in self
+            .rows
+            .iter()
+            .map(|r| &r.mm)
+            .chain([&self.above_last_row_mm_per_v])
+        {
             if row.len() != Self::COLUMNS.len() {
-                return Err(format!("a row has {} values; expected {}", row.len(), Self::COLUMNS.len()));
+                return Err(format!(
+                    "a row has {} values; expected {}",
+                    row.len(),
+                    Self::COLUMNS.len()
+                ));
             }
             non_negative(row.iter().copied(), "spacings")?;
         }

@@ -29,20 +29,47 @@ pub fn column(conductor: BoardConductor, coating: BoardCoating, altitude_m: f64)
 }
 
 /// IPC-2221B spacing at a peak voltage in one column, with the table's own rule above 500 V.
-pub fn table_spacing(table: &BoardSpacingTable, peak_v: f64, column: &str) -> Result<(f64, Step), OutOfTable> {
-    let col = BoardSpacingTable::COLUMNS.iter().position(|c| *c == column).unwrap_or(1);
+pub fn table_spacing(
+    table: &BoardSpacingTable,
+    peak_v: f64,
+    column: &str,
+) -> Result<(f64, Step), OutOfTable> {
+    let col = BoardSpacingTable::COLUMNS
+        .iter()
+        .position(|c| *c == column)
+        .unwrap_or(1);
     let Some(last) = table.rows.last() else {
-        return Err(OutOfTable::new("working_peak_v", "the board spacing table has no rows"));
+        return Err(OutOfTable::new(
+            "working_peak_v",
+            "the board spacing table has no rows",
+        ));
     };
-    if let Some(i) = table.rows.iter().position(|r| r.up_to_peak_v >= peak_v - EPS) {
+    if let Some(i) = table
+        .rows
+        .iter()
+        .position(|r| r.up_to_peak_v >= peak_v - EPS)
+    {
         let row = &table.rows[i];
-        let from = if i == 0 { 0.0 } else { table.rows[i - 1].up_to_peak_v };
-        let label = if i == 0 { format!("0-{}", show(row.up_to_peak_v)) } else { format!("{}-{}", show(from + 1.0), show(row.up_to_peak_v)) };
+        let from = if i == 0 {
+            0.0
+        } else {
+            table.rows[i - 1].up_to_peak_v
+        };
+        let label = if i == 0 {
+            format!("0-{}", show(row.up_to_peak_v))
+        } else {
+            format!("{}-{}", show(from + 1.0), show(row.up_to_peak_v))
+        };
         return Ok((
             row.mm[col],
             Step::from(
                 BoardSpacingTable::ID,
-                format!("{}, row {label} V, column {column}: {} mm ({}).", table.source, show(row.mm[col]), table.provenance),
+                format!(
+                    "{}, row {label} V, column {column}: {} mm ({}).",
+                    table.source,
+                    show(row.mm[col]),
+                    table.provenance
+                ),
             ),
         ));
     }
@@ -69,13 +96,20 @@ pub fn table_spacing(table: &BoardSpacingTable, peak_v: f64, column: &str) -> Re
 }
 
 /// Functional spacing on a board: one figure for clearance and creepage alike.
-pub fn functional_spacing(rules: &RuleBook, cond: &Conditions, barrier: &Barrier) -> Result<BoardFigure, OutOfTable> {
+pub fn functional_spacing(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+) -> Result<BoardFigure, OutOfTable> {
     let mut steps = vec![Step::plain(
         "Functional insulation on a printed board: IPC-2221B conductor spacing applies (not IEC 60664-1).",
     )];
     let peak = match barrier.working_peak_v {
         Some(p) => {
-            steps.push(Step::plain(format!("Working peak voltage {} V as declared.", show(p))));
+            steps.push(Step::plain(format!(
+                "Working peak voltage {} V as declared.",
+                show(p)
+            )));
             p
         }
         None => {
@@ -88,7 +122,11 @@ pub fn functional_spacing(rules: &RuleBook, cond: &Conditions, barrier: &Barrier
             p
         }
     };
-    let column = column(barrier.board.conductor, barrier.board.coating, cond.altitude_m);
+    let column = column(
+        barrier.board.conductor,
+        barrier.board.coating,
+        cond.altitude_m,
+    );
     steps.push(Step::plain(format!(
         "Column {column}: {} conductor, coating {}, altitude {} m (B3 replaces B2 above {} m).",
         match barrier.board.conductor {
@@ -106,7 +144,10 @@ pub fn functional_spacing(rules: &RuleBook, cond: &Conditions, barrier: &Barrier
     )));
     let (mm, step) = table_spacing(&rules.board, peak, column)?;
     steps.push(step);
-    steps.push(Step::plain(format!("Required spacing (functional): {} mm.", show(mm))));
+    steps.push(Step::plain(format!(
+        "Required spacing (functional): {} mm.",
+        show(mm)
+    )));
     Ok(BoardFigure {
         figure: Figure { mm, steps },
         column,

@@ -19,9 +19,18 @@ const EPS: f64 = 1e-9;
 pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, Step), OutOfTable> {
     let (first, last) = match (table.rows.first(), table.rows.last()) {
         (Some(f), Some(l)) => (f.up_to_v, l.up_to_v),
-        _ => return Err(OutOfTable::new("mains.nominal_v", "the impulse table has no rows")),
+        _ => {
+            return Err(OutOfTable::new(
+                "mains.nominal_v",
+                "the impulse table has no rows",
+            ));
+        }
     };
-    let Some(row) = table.rows.iter().find(|r| r.up_to_v >= cond.nominal_v - EPS) else {
+    let Some(row) = table
+        .rows
+        .iter()
+        .find(|r| r.up_to_v >= cond.nominal_v - EPS)
+    else {
         return Err(OutOfTable::new(
             "mains.nominal_v",
             format!(
@@ -35,7 +44,11 @@ pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, St
     };
     let category = cond.overvoltage_category;
     let v = row.by_category(category as usize);
-    let provenance = if row.confirmed { "row confirmed against a reproduction" } else { "row from memory" };
+    let provenance = if row.confirmed {
+        "row confirmed against a reproduction"
+    } else {
+        "row from memory"
+    };
     Ok((
         v,
         Step::from(
@@ -71,7 +84,11 @@ pub fn step_up(rule: &ReinforcedRule, clearance: &ClearanceTable, impulse_v: f64
             );
         }
         // Above the series the next row of the clearance table is the next step.
-        if let Some(row) = clearance.rows.iter().find(|r| r.impulse_kv * 1000.0 > impulse_v + EPS) {
+        if let Some(row) = clearance
+            .rows
+            .iter()
+            .find(|r| r.impulse_kv * 1000.0 > impulse_v + EPS)
+        {
             let next = row.impulse_kv * 1000.0;
             return (
                 next,
@@ -103,7 +120,13 @@ pub fn step_up(rule: &ReinforcedRule, clearance: &ClearanceTable, impulse_v: f64
 }
 
 /// Table F.2 at an impulse (or peak) voltage: the row itself or the next higher row.
-pub fn table_clearance(table: &ClearanceTable, volts: f64, field: Field, key: &str, what: &str) -> Result<(f64, Step), OutOfTable> {
+pub fn table_clearance(
+    table: &ClearanceTable,
+    volts: f64,
+    field: Field,
+    key: &str,
+    what: &str,
+) -> Result<(f64, Step), OutOfTable> {
     let kv = volts / 1000.0;
     let (first, last) = match (table.rows.first(), table.rows.last()) {
         (Some(f), Some(l)) => (f.impulse_kv, l.impulse_kv),
@@ -133,15 +156,27 @@ pub fn table_clearance(table: &ClearanceTable, volts: f64, field: Field, key: &s
     let at = if (row.impulse_kv - kv).abs() < EPS {
         format!("row {} kV", show(row.impulse_kv))
     } else if kv < first {
-        format!("{} kV is below the first row; row {} kV", show(kv), show(row.impulse_kv))
+        format!(
+            "{} kV is below the first row; row {} kV",
+            show(kv),
+            show(row.impulse_kv)
+        )
     } else {
-        format!("{} kV lies between rows; the next higher row {} kV", show(kv), show(row.impulse_kv))
+        format!(
+            "{} kV lies between rows; the next higher row {} kV",
+            show(kv),
+            show(row.impulse_kv)
+        )
     };
     Ok((
         mm,
         Step::from(
             ClearanceTable::ID,
-            format!("{what}: {}, {at}, {case}: {} mm ({provenance}).", table.source, show(mm)),
+            format!(
+                "{what}: {}, {at}, {case}: {} mm ({provenance}).",
+                table.source,
+                show(mm)
+            ),
         ),
     ))
 }
@@ -157,7 +192,11 @@ pub fn altitude_factor(table: &AltitudeTable, altitude_m: f64) -> Result<(f64, S
             1.0,
             Step::from(
                 AltitudeTable::ID,
-                format!("Altitude {} m: within the {} m the clearance table holds for; no correction.", show(altitude_m), show(first.altitude_m)),
+                format!(
+                    "Altitude {} m: within the {} m the clearance table holds for; no correction.",
+                    show(altitude_m),
+                    show(first.altitude_m)
+                ),
             ),
         ));
     }
@@ -173,19 +212,29 @@ pub fn altitude_factor(table: &AltitudeTable, altitude_m: f64) -> Result<(f64, S
             ),
         ));
     }
-    let i = table.rows.iter().position(|r| r.altitude_m >= altitude_m - EPS).unwrap_or(table.rows.len() - 1);
+    let i = table
+        .rows
+        .iter()
+        .position(|r| r.altitude_m >= altitude_m - EPS)
+        .unwrap_or(table.rows.len() - 1);
     let hi = &table.rows[i];
     if (hi.altitude_m - altitude_m).abs() < EPS || i == 0 {
         return Ok((
             hi.factor,
             Step::from(
                 AltitudeTable::ID,
-                format!("Altitude {} m: correction factor {} ({}).", show(altitude_m), show(hi.factor), table.source),
+                format!(
+                    "Altitude {} m: correction factor {} ({}).",
+                    show(altitude_m),
+                    show(hi.factor),
+                    table.source
+                ),
             ),
         ));
     }
     let lo = &table.rows[i - 1];
-    let factor = lo.factor + (hi.factor - lo.factor) * (altitude_m - lo.altitude_m) / (hi.altitude_m - lo.altitude_m);
+    let factor = lo.factor
+        + (hi.factor - lo.factor) * (altitude_m - lo.altitude_m) / (hi.altitude_m - lo.altitude_m);
     Ok((
         factor,
         Step::from(
@@ -205,7 +254,12 @@ pub fn altitude_factor(table: &AltitudeTable, altitude_m: f64) -> Result<(f64, S
 }
 
 /// Required clearance for a basic (or supplementary) or a reinforced barrier.
-pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: Grade) -> Result<Clearance, OutOfTable> {
+pub fn required(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    grade: Grade,
+) -> Result<Clearance, OutOfTable> {
     let mut steps = Vec::new();
     let rated_impulse_v = match barrier.transient_v {
         Some(v) => {
@@ -229,8 +283,18 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
     } else {
         rated_impulse_v
     };
-    let impulse_key = if barrier.transient_v.is_some() { "transient_v" } else { "mains.nominal_v" };
-    let (mut mm, step) = table_clearance(&rules.clearance, clearance_impulse_v, barrier.field, impulse_key, "Transient requirement")?;
+    let impulse_key = if barrier.transient_v.is_some() {
+        "transient_v"
+    } else {
+        "mains.nominal_v"
+    };
+    let (mut mm, step) = table_clearance(
+        &rules.clearance,
+        clearance_impulse_v,
+        barrier.field,
+        impulse_key,
+        "Transient requirement",
+    )?;
     steps.push(step);
 
     if let Some(peak) = barrier.working_peak_v {
@@ -247,16 +311,29 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
                 ),
             ));
         }
-        let (peak_mm, step) = table_clearance(&rules.clearance, at_v, barrier.field, "working_peak_v", "Steady-state peak requirement")?;
+        let (peak_mm, step) = table_clearance(
+            &rules.clearance,
+            at_v,
+            barrier.field,
+            "working_peak_v",
+            "Steady-state peak requirement",
+        )?;
         steps.push(step);
         steps.push(Step::plain(
             "The shipped rules carry no separate table for steady-state and recurring peak voltages (IEC 60664-1 has one, from memory Table F.7 in 2007); Table F.2 is read at the peak voltage instead. Verify against a licensed copy.",
         ));
         if peak_mm > mm {
-            steps.push(Step::plain(format!("The peak requirement {} mm governs over the transient requirement {} mm.", show(peak_mm), show(mm))));
+            steps.push(Step::plain(format!(
+                "The peak requirement {} mm governs over the transient requirement {} mm.",
+                show(peak_mm),
+                show(mm)
+            )));
             mm = peak_mm;
         } else {
-            steps.push(Step::plain(format!("The transient requirement {} mm governs.", show(mm))));
+            steps.push(Step::plain(format!(
+                "The transient requirement {} mm governs.",
+                show(mm)
+            )));
         }
     }
 
@@ -265,7 +342,11 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
     if mm < minimum {
         steps.push(Step::from(
             ClearanceTable::ID,
-            format!("Raised to the pollution degree {pd} minimum of {} mm ({}).", show(minimum), rules.clearance.source),
+            format!(
+                "Raised to the pollution degree {pd} minimum of {} mm ({}).",
+                show(minimum),
+                rules.clearance.source
+            ),
         ));
         mm = minimum;
     }
@@ -282,9 +363,16 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
         )));
         mm = corrected;
     }
-    steps.push(Step::plain(format!("Required clearance ({}): {} mm.", grade_label(barrier.grade), show(mm))));
+    steps.push(Step::plain(format!(
+        "Required clearance ({}): {} mm.",
+        grade_label(barrier.grade),
+        show(mm)
+    )));
     Ok(Clearance {
-        figure: Figure { mm: tidy(mm), steps },
+        figure: Figure {
+            mm: tidy(mm),
+            steps,
+        },
         rated_impulse_v,
         clearance_impulse_v,
         altitude_factor: tidy(factor),

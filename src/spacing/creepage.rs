@@ -16,12 +16,20 @@ pub struct Creepage {
 const EPS: f64 = 1e-9;
 
 /// The material group of a barrier, with the step that says how it was found.
-pub fn material_group(table: &MaterialGroupTable, material: Material) -> Result<(MaterialGroup, Step), OutOfTable> {
+pub fn material_group(
+    table: &MaterialGroupTable,
+    material: Material,
+) -> Result<(MaterialGroup, Step), OutOfTable> {
     match material {
-        Material::Group(g) => Ok((g, Step::plain(format!("Material group {} as declared.", g.as_str())))),
+        Material::Group(g) => Ok((
+            g,
+            Step::plain(format!("Material group {} as declared.", g.as_str())),
+        )),
         Material::Unstated => Ok((
             MaterialGroup::IIIb,
-            Step::plain("Material group IIIb assumed (neither material_group nor cti declared): the least favourable group."),
+            Step::plain(
+                "Material group IIIb assumed (neither material_group nor cti declared): the least favourable group.",
+            ),
         )),
         Material::Cti(cti) => {
             let found = table
@@ -35,11 +43,21 @@ pub fn material_group(table: &MaterialGroupTable, material: Material) -> Result<
                     group,
                     Step::from(
                         MaterialGroupTable::ID,
-                        format!("CTI {} falls in material group {} (CTI {} and above; {}).", show(cti), group.as_str(), show(min), table.source),
+                        format!(
+                            "CTI {} falls in material group {} (CTI {} and above; {}).",
+                            show(cti),
+                            group.as_str(),
+                            show(min),
+                            table.source
+                        ),
                     ),
                 )),
                 None => {
-                    let lowest = table.groups.iter().map(|g| g.min_cti).fold(f64::INFINITY, f64::min);
+                    let lowest = table
+                        .groups
+                        .iter()
+                        .map(|g| g.min_cti)
+                        .fold(f64::INFINITY, f64::min);
                     Err(OutOfTable::new(
                         "cti",
                         format!(
@@ -56,7 +74,11 @@ pub fn material_group(table: &MaterialGroupTable, material: Material) -> Result<
 }
 
 /// The creepage column for a pollution degree, material group and printed wiring.
-pub fn column(pollution_degree: u8, group: MaterialGroup, printed_board: bool) -> (&'static str, Option<&'static str>) {
+pub fn column(
+    pollution_degree: u8,
+    group: MaterialGroup,
+    printed_board: bool,
+) -> (&'static str, Option<&'static str>) {
     let group_suffix = match group {
         MaterialGroup::I => "group_i",
         MaterialGroup::II => "group_ii",
@@ -68,12 +90,16 @@ pub fn column(pollution_degree: u8, group: MaterialGroup, printed_board: bool) -
         (2, true) if group != MaterialGroup::IIIb => ("printed_pd2", None),
         (2, true) => (
             "pd2_group_iii",
-            Some("The printed-wiring columns do not serve material group IIIb in pollution degree 2; the general column applies."),
+            Some(
+                "The printed-wiring columns do not serve material group IIIb in pollution degree 2; the general column applies.",
+            ),
         ),
         (2, false) => (column_name(2, group_suffix), None),
         (_, true) => (
             column_name(3, group_suffix),
-            Some("The printed-wiring columns do not serve pollution degree 3; the general column applies."),
+            Some(
+                "The printed-wiring columns do not serve pollution degree 3; the general column applies.",
+            ),
         ),
         (_, false) => (column_name(3, group_suffix), None),
     }
@@ -91,12 +117,27 @@ fn column_name(pd: u8, suffix: &str) -> &'static str {
 }
 
 /// Table F.5 (F.4 in 2007) at a working voltage in one column.
-pub fn table_creepage(table: &CreepageTable, working_rms_v: f64, column: &str, between: BetweenRows) -> Result<(f64, Step), OutOfTable> {
-    let col = CreepageTable::COLUMNS.iter().position(|c| *c == column).unwrap_or(0);
+pub fn table_creepage(
+    table: &CreepageTable,
+    working_rms_v: f64,
+    column: &str,
+    between: BetweenRows,
+) -> Result<(f64, Step), OutOfTable> {
+    let col = CreepageTable::COLUMNS
+        .iter()
+        .position(|c| *c == column)
+        .unwrap_or(0);
     let (Some(first), Some(last)) = (table.rows.first(), table.rows.last()) else {
-        return Err(OutOfTable::new("working_rms_v", "the creepage table has no rows"));
+        return Err(OutOfTable::new(
+            "working_rms_v",
+            "the creepage table has no rows",
+        ));
     };
-    let Some(i) = table.rows.iter().position(|r| r.working_rms_v >= working_rms_v - EPS) else {
+    let Some(i) = table
+        .rows
+        .iter()
+        .position(|r| r.working_rms_v >= working_rms_v - EPS)
+    else {
         return Err(OutOfTable::new(
             "working_rms_v",
             format!(
@@ -109,17 +150,34 @@ pub fn table_creepage(table: &CreepageTable, working_rms_v: f64, column: &str, b
         ));
     };
     let hi = &table.rows[i];
-    let provenance = |confirmed: bool| if confirmed { "confirmed against a reproduction" } else { "from memory" };
+    let provenance = |confirmed: bool| {
+        if confirmed {
+            "confirmed against a reproduction"
+        } else {
+            "from memory"
+        }
+    };
     let head = format!("{}, column {column}", table.source);
     if (hi.working_rms_v - working_rms_v).abs() < EPS || i == 0 {
         let at = if i == 0 && working_rms_v < hi.working_rms_v - EPS {
-            format!("{} V is below the first row; row {} V", show(working_rms_v), show(hi.working_rms_v))
+            format!(
+                "{} V is below the first row; row {} V",
+                show(working_rms_v),
+                show(hi.working_rms_v)
+            )
         } else {
             format!("row {} V", show(hi.working_rms_v))
         };
         return Ok((
             hi.mm[col],
-            Step::from(CreepageTable::ID, format!("{head}, {at}: {} mm ({}).", show(hi.mm[col]), provenance(hi.confirmed))),
+            Step::from(
+                CreepageTable::ID,
+                format!(
+                    "{head}, {at}: {} mm ({}).",
+                    show(hi.mm[col]),
+                    provenance(hi.confirmed)
+                ),
+            ),
         ));
     }
     let lo = &table.rows[i - 1];
@@ -139,11 +197,17 @@ pub fn table_creepage(table: &CreepageTable, working_rms_v: f64, column: &str, b
             ),
         )),
         BetweenRows::Interpolate => {
-            let raw = lo.mm[col] + (hi.mm[col] - lo.mm[col]) * (working_rms_v - lo.working_rms_v) / (hi.working_rms_v - lo.working_rms_v);
+            let raw = lo.mm[col]
+                + (hi.mm[col] - lo.mm[col]) * (working_rms_v - lo.working_rms_v)
+                    / (hi.working_rms_v - lo.working_rms_v);
             let rounded = round_up(raw, table.interpolation_round_up_mm);
             // Rounding up never takes the figure past the next higher row itself.
             let mm = tidy(rounded.min(hi.mm[col]));
-            let capped = if mm < rounded { format!(", capped at the next row's {} mm", show(hi.mm[col])) } else { String::new() };
+            let capped = if mm < rounded {
+                format!(", capped at the next row's {} mm", show(hi.mm[col]))
+            } else {
+                String::new()
+            };
             Ok((
                 mm,
                 Step::from(
@@ -167,7 +231,13 @@ pub fn table_creepage(table: &CreepageTable, working_rms_v: f64, column: &str, b
 }
 
 /// Required creepage for a basic (or supplementary) or a reinforced barrier.
-pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: Grade, clearance: &Figure) -> Result<Creepage, OutOfTable> {
+pub fn required(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    grade: Grade,
+    clearance: &Figure,
+) -> Result<Creepage, OutOfTable> {
     let mut steps = Vec::new();
     let (group, step) = material_group(&rules.material_groups, barrier.material)?;
     steps.push(step);
@@ -175,7 +245,12 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
     if let Some(note) = note {
         steps.push(Step::plain(note));
     }
-    let (mut mm, step) = table_creepage(&rules.creepage, barrier.working_rms_v, column, cond.creepage_between_rows)?;
+    let (mut mm, step) = table_creepage(
+        &rules.creepage,
+        barrier.working_rms_v,
+        column,
+        cond.creepage_between_rows,
+    )?;
     steps.push(step);
     if grade == Grade::Reinforced {
         let doubled = tidy(mm * rules.reinforced.creepage_factor);
@@ -197,9 +272,16 @@ pub fn required(rules: &RuleBook, cond: &Conditions, barrier: &Barrier, grade: G
         )));
         mm = clearance.mm;
     }
-    steps.push(Step::plain(format!("Required creepage ({}): {} mm.", grade_label(barrier.grade), show(mm))));
+    steps.push(Step::plain(format!(
+        "Required creepage ({}): {} mm.",
+        grade_label(barrier.grade),
+        show(mm)
+    )));
     Ok(Creepage {
-        figure: Figure { mm: tidy(mm), steps },
+        figure: Figure {
+            mm: tidy(mm),
+            steps,
+        },
         group,
         column,
     })

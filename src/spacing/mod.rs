@@ -134,12 +134,20 @@ pub fn round_up(x: f64, step: f64) -> f64 {
 pub fn show(x: f64) -> String {
     let s = format!("{:.4}", tidy(x));
     let s = s.trim_end_matches('0').trim_end_matches('.');
-    if s == "-0" { "0".to_string() } else { s.to_string() }
+    if s == "-0" {
+        "0".to_string()
+    } else {
+        s.to_string()
+    }
 }
 
 /// Required clearance and creepage of one barrier, judged against its declared distances.
 /// Every input outside a table is returned, not only the first.
-pub fn evaluate(rules: &RuleBook, cond: &Conditions, barrier: &Barrier) -> Result<BarrierResult, Vec<OutOfTable>> {
+pub fn evaluate(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+) -> Result<BarrierResult, Vec<OutOfTable>> {
     let on_board_functional = barrier.grade == Grade::Functional && barrier.printed_board;
     let (clearance, creepage, meta) = if on_board_functional {
         let figure = board::functional_spacing(rules, cond, barrier).map_err(|e| vec![e])?;
@@ -153,7 +161,9 @@ pub fn evaluate(rules: &RuleBook, cond: &Conditions, barrier: &Barrier) -> Resul
             double_parts: None,
         };
         let mut creepage_steps = figure.figure.steps.clone();
-        creepage_steps.push(Step::plain("The same figure serves as creepage for functional spacing on a board."));
+        creepage_steps.push(Step::plain(
+            "The same figure serves as creepage for functional spacing on a board.",
+        ));
         let creepage = Figure {
             mm: figure.figure.mm,
             steps: creepage_steps,
@@ -232,8 +242,17 @@ fn insulation_coordination(
     let clear = clearance::required(rules, cond, barrier, as_grade);
     // Creepage is still looked up when the clearance failed, so that every input outside
     // a table is reported at once; the result is discarded in that case.
-    let no_floor = Figure { mm: 0.0, steps: Vec::new() };
-    let creep = creepage::required(rules, cond, barrier, as_grade, clear.as_ref().map(|c| &c.figure).unwrap_or(&no_floor));
+    let no_floor = Figure {
+        mm: 0.0,
+        steps: Vec::new(),
+    };
+    let creep = creepage::required(
+        rules,
+        cond,
+        barrier,
+        as_grade,
+        clear.as_ref().map(|c| &c.figure).unwrap_or(&no_floor),
+    );
     let (clear, creep) = match (clear, creep) {
         (Ok(clear), Ok(creep)) => (clear, creep),
         (clear, creep) => return Err(clear.err().into_iter().chain(creep.err()).collect()),
