@@ -66,52 +66,79 @@ pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, St
 }
 
 /// Reinforced insulation: one step higher in the preferred series, or 160 % off the series.
+///
+/// The series continues above its last value with the rows of the clearance table. Off the
+/// series, 160 % is held between the steps of the preferred values on either side: taken
+/// alone, 160 % of a value just below a preferred one would exceed the step of that value
+/// itself (4000 V steps to 6000 V, but 160 % of 3900 V is 6240 V), and the requirement
+/// would fall as the voltage rises.
 pub fn step_up(rule: &ReinforcedRule, clearance: &ClearanceTable, impulse_v: f64) -> (f64, Step) {
-    let series = &rule.preferred_impulse_v;
-    if let Some(i) = series.iter().position(|v| (v - impulse_v).abs() < EPS) {
-        if let Some(next) = series.get(i + 1) {
-            return (
-                *next,
-                Step::from(
-                    ReinforcedRule::ID,
-                    format!(
-                        "Reinforced insulation: one step higher in the preferred impulse series, from {} V to {} V ({}).",
-                        show(impulse_v),
-                        show(*next),
-                        rule.source
-                    ),
-                ),
-            );
-        }
-        // Above the series the next row of the clearance table is the next step.
-        if let Some(row) = clearance
+    let mut series: Vec<f64> = rule.preferred_impulse_v.clone();
+    let top = series.last().copied().unwrap_or(0.0);
+    series.extend(
+        clearance
             .rows
             .iter()
-            .find(|r| r.impulse_kv * 1000.0 > impulse_v + EPS)
-        {
-            let next = row.impulse_kv * 1000.0;
-            return (
-                next,
-                Step::from(
-                    ReinforcedRule::ID,
-                    format!(
-                        "Reinforced insulation: {} V is the top of the preferred series; the next row of the clearance table, {} V, is the step higher.",
-                        show(impulse_v),
-                        show(next)
-                    ),
+            .map(|r| tidy(r.impulse_kv * 1000.0))
+            .filter(|v| *v > top + EPS),
+    );
+    let step_of = |i: usize| series.get(i + 1).copied();
+    let factor = rule.non_preferred_impulse_factor;
+    if let Some(i) = series.iter().position(|v| (v - impulse_v).abs() < EPS)
+        && let Some(next) = step_of(i)
+    {
+        let beyond = if i + 1 >= rule.preferred_impulse_v.len() {
+            " (above the preferred series, the rows of the clearance table are the steps)"
+        } else {
+            ""
+        };
+        return (
+            next,
+            Step::from(
+                ReinforcedRule::ID,
+                format!(
+                    "Reinforced insulation: one step higher in the preferred impulse series, from {} V to {} V{beyond} ({}).",
+                    show(impulse_v),
+                    show(next),
+                    rule.source
                 ),
-            );
-        }
+            ),
+        );
     }
-    let raised = tidy(impulse_v * rule.non_preferred_impulse_factor);
+    let raised = tidy(impulse_v * factor);
+    let below = series
+        .iter()
+        .rposition(|v| *v < impulse_v)
+        .and_then(step_of);
+    let above = series.iter().position(|v| *v > impulse_v).and_then(step_of);
+    let mut held = raised;
+    let mut why = String::new();
+    if let Some(lo) = below
+        && held < lo
+    {
+        held = lo;
+        why = format!(
+            ", raised to {} V, the step of the preferred value below",
+            show(lo)
+        );
+    }
+    if let Some(hi) = above
+        && held > hi
+    {
+        held = hi;
+        why = format!(
+            ", held at {} V, the step of the preferred value above",
+            show(hi)
+        );
+    }
     (
-        raised,
+        held,
         Step::from(
             ReinforcedRule::ID,
             format!(
-                "Reinforced insulation: {} V is not a preferred impulse value, so {} % of it is used: {} V ({}).",
+                "Reinforced insulation: {} V is not a preferred impulse value, so {} % of it is used: {} V{why} ({}).",
                 show(impulse_v),
-                show(rule.non_preferred_impulse_factor * 100.0),
+                show(factor * 100.0),
                 show(raised),
                 rule.source
             ),
