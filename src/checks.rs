@@ -1,11 +1,14 @@
-//! Findings: what the reviewer must act on, drawn from the computed figures and the
-//! project. Ids are permanent and dotted by area (`barrier.*`, `input.*`, ...).
+//! The checklist engine: runs each check from `rules/checks/` over the report context and
+//! turns the ones whose condition holds into findings. The figures are computed in Rust
+//! beforehand; a check only compares them, so a team can add or change checks as data.
 
+use minijinja::value::Value;
+use minijinja::{Environment, UndefinedBehavior, context};
 use serde::Serialize;
 
-use crate::project::{Barrier, Project};
-use crate::rules::RuleBook;
-use crate::spacing::{BarrierResult, show};
+use crate::diag::{Diagnostic, Problems};
+use crate::rules::{CheckDef, Over, RuleBook};
+use crate::spacing::show;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -17,6 +20,7 @@ pub enum Severity {
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Finding {
+    /// The id of the check that raised it (stable, dotted).
     pub id: String,
     pub severity: Severity,
     /// The barrier, part or circuit id the finding is about, or null.
@@ -24,173 +28,178 @@ pub struct Finding {
     pub message: String,
 }
 
-impl Finding {
-    fn new(
-        id: &str,
-        severity: Severity,
-        subject: Option<&str>,
-        message: impl Into<String>,
-    ) -> Self {
-        Finding {
-            id: id.to_string(),
-            severity,
-            subject: subject.map(str::to_string),
-            message: message.into(),
-        }
-    }
+/// What one check did in this run, so the report shows what was looked at.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CheckOutcome {
+    pub id: String,
+    pub title: String,
+    pub severity: Severity,
+    pub origin: String,
+    pub source: String,
+    /// Items the check had something to judge on.
+    pub judged: usize,
+    /// Items on which it raised a finding.
+    pub raised: usize,
 }
 
-/// Above this frequency the spacing tables do not hold (IEC 60664-4 applies).
-pub const TABLE_FREQUENCY_LIMIT_HZ: f64 = 30_000.0;
+/// Work allowance per expression or message, so a house check cannot loop forever.
+const CHECK_FUEL: u64 = 100_000;
 
-/// Findings about one barrier and its figures.
-pub fn barrier_findings(
+/// The minijinja environment checks run in: strict about unknown fields, bounded in work,
+/// with a `num` filter that prints numbers as the report does.
+pub fn expression_environment() -> Environment<'static> {
+    let mut env = Environment::new();
+    env.set_undefined_behavior(UndefinedBehavior::Strict);
+    env.set_fuel(Some(CHECK_FUEL));
+    env.set_recursion_limit(20);
+    env.add_filter("num", |value: Value| -> String {
+        match f64::try_from(value.clone()) {
+            Ok(x) => show(x),
+            Err(_) => value.to_string(),
+        }
+    });
+    env
+}
+
+/// Runs every check over the report context (the serialised report without findings).
+pub fn run_checks(
     rules: &RuleBook,
-    pollution_degree: u8,
-    barrier: &Barrier,
-    result: &BarrierResult,
-) -> Vec<Finding> {
-    let mut out = Vec::new();
-    let subject = Some(barrier.id.as_str());
-    let grade = barrier.grade.as_str();
-    for (what, declared, required, margin) in [
-        (
-            "clearance",
-            barrier.clearance_mm,
-            result.required_clearance_mm,
-            result.clearance_margin_mm,
-        ),
-        (
-            "creepage",
-            barrier.creepage_mm,
-            result.required_creepage_mm,
-            result.creepage_margin_mm,
-        ),
-    ] {
-        match (declared, margin) {
-            (Some(d), Some(m)) if m < 0.0 => out.push(Finding::new(
-                &format!("barrier.{what}_short"),
-                Severity::Blocking,
-                subject,
-                format!(
-                    "{what} {} mm is {} mm short of the {} mm required for {grade} insulation",
-                    show(d),
-                    show(-m),
-                    show(required)
-                ),
-            )),
-            (None, _) => out.push(Finding::new(
-                &format!("barrier.{what}_missing"),
-                Severity::Warning,
-                subject,
-                format!("{what} as laid out is not declared ({what}_mm); {} mm is required, so the barrier cannot be judged", show(required)),
-            )),
-            _ => {}
+    report: &Value,
+) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
+    let env = expression_environment();
+    let mut findings = Vec::new();
+    let mut outcomes = Vec::new();
+    let mut problems = Vec::new();
+    for check in &rules.checks {
+        match run_one(&env, check, report, &mut findings) {
+            Ok((judged, raised)) => outcomes.push(CheckOutcome {
+                id: check.id.clone(),
+                title: check.title.clone(),
+                severity: check.severity,
+                origin: check.origin.clone(),
+                source: check.source.clone(),
+                judged,
+                raised,
+            }),
+            Err(message) => problems.push(
+                Diagnostic {
+                    line: Some(check.line),
+                    ..Diagnostic::new(&check.path, message)
+                }
+                .with_key(format!("check \"{}\"", check.id)),
+            ),
         }
     }
-    if let (Some(clearance), Some(creepage)) = (barrier.clearance_mm, barrier.creepage_mm)
-        && creepage < clearance
-    {
-        out.push(Finding::new(
-            "barrier.creepage_below_clearance",
-            Severity::Warning,
-            subject,
-            format!(
-                "declared creepage {} mm is less than declared clearance {} mm; a path along a surface is never shorter than the straight line: check both measurements",
-                show(creepage),
-                show(clearance)
-            ),
-        ));
+    if !problems.is_empty() {
+        return Err(Problems(problems));
     }
-    if let Some(f) = barrier.working_frequency_hz
-        && f > TABLE_FREQUENCY_LIMIT_HZ
-    {
-        out.push(Finding::new(
-            "barrier.high_frequency",
-            Severity::Warning,
-            subject,
-            format!(
-                "the working voltage has a frequency of {} kHz; the figures assume up to 30 kHz, and IEC 60664-4 applies above that",
-                show(f / 1000.0)
-            ),
-        ));
-    }
-    if let Some(slot) = barrier.slot_width_mm {
-        let pd = pollution_degree.clamp(1, 3);
-        let narrowest = rules.grooves.min_width_mm[(pd - 1) as usize];
-        if slot < narrowest {
-            out.push(Finding::new(
-                "barrier.slot_too_narrow",
-                Severity::Warning,
-                subject,
-                format!(
-                    "a slot of {} mm is narrower than the {} mm that counts in pollution degree {pd} ({}); the creepage path crosses it straight and the declared creepage must not include its depth",
-                    show(slot),
-                    show(narrowest),
-                    rules.grooves.source
-                ),
-            ));
-        }
-    }
-    if !barrier.bridged_by.is_empty() {
-        out.push(Finding::new(
-            "part.not_evaluated",
-            Severity::Note,
-            subject,
-            format!(
-                "parts bridging this barrier ({}) are listed, but their ratings are not judged by this version: check each against the barrier's grade and working voltage by hand",
-                barrier.bridged_by.join(", ")
-            ),
-        ));
-    }
-    out
+    // Blocking first; within a severity, in checklist order.
+    findings.sort_by_key(|f: &Finding| f.severity);
+    Ok((findings, outcomes))
 }
 
-/// Findings about the project as a whole: suspicious inputs and topics not evaluated.
-pub fn project_findings(project: &Project) -> Vec<Finding> {
-    let mut out = Vec::new();
-    for w in &project.warnings {
-        let at = match (w.line, w.column) {
-            (Some(l), Some(c)) => format!(" (line {l}, column {c})"),
-            _ => String::new(),
+fn run_one(
+    env: &Environment<'static>,
+    check: &CheckDef,
+    report: &Value,
+    findings: &mut Vec<Finding>,
+) -> Result<(usize, usize), String> {
+    let items: Vec<Value> = match check.over {
+        Over::Report => vec![Value::UNDEFINED],
+        over => {
+            let mut value = report.clone();
+            for part in over.path().split('.') {
+                value = value.get_attr(part).map_err(|e| e.to_string())?;
+            }
+            if value.is_none() || value.is_undefined() {
+                Vec::new()
+            } else {
+                value.try_iter().map_err(|e| e.to_string())?.collect()
+            }
+        }
+    };
+    // Compiled once per check, evaluated once per item.
+    let applies = check
+        .applies
+        .as_deref()
+        .map(|e| compile(env, e, "applies"))
+        .transpose()?;
+    let condition = compile(env, &check.condition, "condition")?;
+    let subject_expr = check
+        .subject
+        .as_deref()
+        .map(|e| compile(env, e, "subject"))
+        .transpose()?;
+    let message = env
+        .template_from_str(&check.message)
+        .map_err(|e| format!("message cannot be read: {}", detail(&e)))?;
+    let truth = |expr: &minijinja::Expression, ctx: &Value, what: &str| -> Result<bool, String> {
+        expr.eval(ctx)
+            .map(|v| v.is_true())
+            .map_err(|e| format!("{what} cannot be evaluated: {}", detail(&e)))
+    };
+    let (mut judged, mut raised) = (0, 0);
+    for item in items {
+        let ctx = context! { report => report.clone(), item => item.clone() };
+        if let Some(applies) = &applies
+            && !truth(applies, &ctx, "applies")?
+        {
+            continue;
+        }
+        judged += 1;
+        if !truth(&condition, &ctx, "condition")? {
+            continue;
+        }
+        raised += 1;
+        let text = message
+            .render(&ctx)
+            .map_err(|e| format!("message cannot be rendered: {}", detail(&e)))?;
+        let subject = match &subject_expr {
+            Some(expr) => {
+                let v = expr
+                    .eval(&ctx)
+                    .map_err(|e| format!("subject cannot be evaluated: {}", detail(&e)))?;
+                (!v.is_none() && !v.is_undefined()).then(|| v.to_string())
+            }
+            None => default_subject(check.over, &item),
         };
-        out.push(Finding::new(
-            "input.suspicious_value",
-            Severity::Warning,
-            w.key.as_deref(),
-            format!("{}{at}", w.message),
-        ));
+        findings.push(Finding {
+            id: check.id.clone(),
+            severity: check.severity,
+            subject,
+            message: text.split_whitespace().collect::<Vec<_>>().join(" "),
+        });
     }
-    if project.barriers.is_empty() {
-        out.push(Finding::new(
-            "barrier.none_declared",
-            Severity::Warning,
-            None,
-            "the project declares no [[barrier]]: no clearance or creepage was evaluated",
-        ));
+    Ok((judged, raised))
+}
+
+fn compile<'e, 's>(
+    env: &'e Environment<'static>,
+    expr: &'s str,
+    what: &str,
+) -> Result<minijinja::Expression<'e, 's>, String> {
+    env.compile_expression(expr)
+        .map_err(|e| format!("{what} cannot be read: {e}"))
+}
+
+/// The id a finding is about, by what the check runs over.
+fn default_subject(over: Over, item: &Value) -> Option<String> {
+    let key = match over {
+        Over::Report => return None,
+        Over::Bridges => "part",
+        Over::IsolationPairs => "accessible",
+        Over::InputWarnings => "key",
+        Over::Barriers | Over::Circuits => "id",
+    };
+    item.get_attr(key)
+        .ok()
+        .filter(|v| !v.is_none() && !v.is_undefined())
+        .map(|v| v.to_string())
+}
+
+fn detail(e: &minijinja::Error) -> String {
+    match e.detail() {
+        Some(d) => format!("{} ({d})", e.kind()),
+        None => e.kind().to_string(),
     }
-    out.push(Finding::new(
-        "isolation.not_evaluated",
-        Severity::Note,
-        None,
-        "isolation paths from hazardous to accessible circuits are not analysed by this version: check by hand that every such path has the insulation its protection class needs",
-    ));
-    for (table, id, topic) in [
-        (
-            "input",
-            "power_entry.not_evaluated",
-            "power entry (inrush, fuse, discharge, touch current)",
-        ),
-        ("emc", "emc.not_evaluated", "the input EMC filter"),
-    ] {
-        let message = if project.not_evaluated.iter().any(|t| t == table) {
-            format!(
-                "[{table}] is present but {topic} is not evaluated by this version; its keys were not checked"
-            )
-        } else {
-            format!("no [{table}] table: {topic} not evaluated")
-        };
-        out.push(Finding::new(id, Severity::Note, None, message));
-    }
-    out
 }

@@ -4,6 +4,8 @@
 pub mod checks;
 pub mod commands;
 pub mod diag;
+pub mod isolation;
+pub mod parts;
 pub mod project;
 pub mod report;
 pub mod rules;

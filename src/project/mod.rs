@@ -259,10 +259,34 @@ impl Barrier {
 pub struct Part {
     pub reference: String,
     pub kind: PartKind,
+    pub description: Option<String>,
+    pub ratings: PartRatings,
+    pub span: Span,
+}
+
+/// The declared ratings of a part; which apply depends on its kind.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct PartRatings {
+    /// Capacitors: X1, X2, Y1, Y2 or Y4.
     pub subclass: Option<String>,
     pub capacitance_nf: Option<f64>,
-    pub description: Option<String>,
-    pub span: Span,
+    pub rated_ac_v: Option<f64>,
+    /// Capacitors: this many identical capacitors in series stand for the part.
+    pub count_in_series: u32,
+    /// Optocouplers and digital isolators: rated isolation test voltage (60 s).
+    pub isolation_test_v_rms: Option<f64>,
+    pub external_clearance_mm: Option<f64>,
+    pub external_creepage_mm: Option<f64>,
+    pub distance_through_insulation_mm: Option<f64>,
+    /// The part meets the thin-layer rules for solid insulation.
+    pub thin_layer_rated: bool,
+    /// Transformers: "triple-insulated-wire", "tape" or "margin-tape".
+    pub insulation_system: Option<String>,
+    pub tape_layers: Option<u32>,
+    pub margin_mm: Option<f64>,
+    /// IEC 60085 letter.
+    pub thermal_class: Option<String>,
+    pub hot_spot_c: Option<f64>,
 }
 
 /// A checked project: everything the calculations need, with the defaults applied.

@@ -46,7 +46,70 @@ const BARRIER_KEYS: &[&str] = &[
     "bridged_by",
     "description",
 ];
-const PART_KEYS: &[&str] = &["ref", "kind", "subclass", "capacitance_nf", "description"];
+const PART_KEYS: &[&str] = &[
+    "ref",
+    "kind",
+    "description",
+    "subclass",
+    "capacitance_nf",
+    "rated_ac_v",
+    "count_in_series",
+    "isolation_test_v_rms",
+    "external_clearance_mm",
+    "external_creepage_mm",
+    "distance_through_insulation_mm",
+    "thin_layer_rated",
+    "insulation_system",
+    "tape_layers",
+    "margin_mm",
+    "thermal_class",
+    "hot_spot_c",
+];
+
+const COUNT_IN_SERIES: NumberRule = NumberRule {
+    min: 1.0,
+    min_inclusive: true,
+    max: 100.0,
+    plausible_max: 4.0,
+    integer: true,
+    expected: "a whole number of capacitors in series, 1 or more",
+};
+
+const TAPE_LAYERS: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: true,
+    max: 1000.0,
+    plausible_max: 20.0,
+    integer: true,
+    expected: "a whole number of tape layers, 0 or more",
+};
+
+const TEST_V_RMS: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1_000_000.0,
+    plausible_max: 20_000.0,
+    integer: false,
+    expected: "a test voltage in V rms, above 0",
+};
+
+const THICKNESS_MM: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1000.0,
+    plausible_max: 10.0,
+    integer: false,
+    expected: "a thickness in millimetres, above 0",
+};
+
+const TEMPERATURE_C: NumberRule = NumberRule {
+    min: -273.15,
+    min_inclusive: false,
+    max: 10_000.0,
+    plausible_max: 250.0,
+    integer: false,
+    expected: "a temperature in degrees Celsius",
+};
 
 const PART_KIND_WORDS: &[&str] = &[
     "y-capacitor",
@@ -387,9 +450,47 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
     for t in &tables {
         let reference = r.required_string(t, "ref");
         let kind = r.required_word(t, "kind", PART_KIND_WORDS);
-        let subclass = r.word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"]);
-        let capacitance = r.number(t, "capacitance_nf", &CAPACITANCE_NF);
         let description = r.string(t, "description").map(|l| l.value);
+        let ratings = PartRatings {
+            subclass: r
+                .word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"])
+                .map(|l| l.value.to_string()),
+            capacitance_nf: r
+                .number(t, "capacitance_nf", &CAPACITANCE_NF)
+                .map(|l| l.value),
+            rated_ac_v: r.number(t, "rated_ac_v", &VOLTAGE_V).map(|l| l.value),
+            count_in_series: r
+                .number(t, "count_in_series", &COUNT_IN_SERIES)
+                .map_or(1, |l| l.value as u32),
+            isolation_test_v_rms: r
+                .number(t, "isolation_test_v_rms", &TEST_V_RMS)
+                .map(|l| l.value),
+            external_clearance_mm: r
+                .number(t, "external_clearance_mm", &DISTANCE_MM)
+                .map(|l| l.value),
+            external_creepage_mm: r
+                .number(t, "external_creepage_mm", &DISTANCE_MM)
+                .map(|l| l.value),
+            distance_through_insulation_mm: r
+                .number(t, "distance_through_insulation_mm", &THICKNESS_MM)
+                .map(|l| l.value),
+            thin_layer_rated: r.boolean(t, "thin_layer_rated").is_some_and(|l| l.value),
+            insulation_system: r
+                .word(
+                    t,
+                    "insulation_system",
+                    &["triple-insulated-wire", "tape", "margin-tape"],
+                )
+                .map(|l| l.value.to_string()),
+            tape_layers: r
+                .number(t, "tape_layers", &TAPE_LAYERS)
+                .map(|l| l.value as u32),
+            margin_mm: r.number(t, "margin_mm", &DISTANCE_MM).map(|l| l.value),
+            thermal_class: r
+                .word(t, "thermal_class", &["A", "E", "B", "F", "H", "N", "R"])
+                .map(|l| l.value.to_string()),
+            hot_spot_c: r.number(t, "hot_spot_c", &TEMPERATURE_C).map(|l| l.value),
+        };
         if let Some(reference) = &reference
             && !seen.insert(reference.value.clone())
         {
@@ -416,9 +517,8 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
         parts.push(Part {
             reference: reference.value,
             kind,
-            subclass: subclass.map(|l| l.value.to_string()),
-            capacitance_nf: capacitance.map(|l| l.value),
             description,
+            ratings,
             span: t.span.clone(),
         });
     }

@@ -5,9 +5,13 @@ mod render;
 
 use serde::Serialize;
 
-use crate::checks::{Finding, Severity, barrier_findings, project_findings};
+use crate::checks::{CheckOutcome, Finding, Severity, run_checks};
 use crate::diag::{Problems, Source};
-use crate::project::{BetweenRows, OvervoltageCategory, ProtectionClass, read_project};
+use crate::isolation::{IsolationReport, analyse};
+use crate::parts::{BridgeResult, bridges};
+use crate::project::{
+    BetweenRows, CircuitKind, OvervoltageCategory, ProtectionClass, read_project,
+};
 use crate::rules::{RuleBook, RuleInfo};
 use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
 
@@ -55,6 +59,24 @@ pub struct Summary {
 }
 
 #[derive(Debug, Clone, Serialize)]
+pub struct CircuitInfo {
+    pub id: String,
+    pub kind: CircuitKind,
+    pub accessible: bool,
+    pub earthed: bool,
+    pub description: Option<String>,
+}
+
+/// A value the reader accepted but that looks implausible.
+#[derive(Debug, Clone, Serialize)]
+pub struct InputWarning {
+    pub key: Option<String>,
+    pub message: String,
+    pub line: Option<usize>,
+    pub column: Option<usize>,
+}
+
+#[derive(Debug, Clone, Serialize)]
 pub struct Report {
     pub tool: ToolInfo,
     pub design: DesignInfo,
@@ -64,12 +86,19 @@ pub struct Report {
     pub conditions: ConditionsInfo,
     pub assumptions: Vec<String>,
     pub summary: Summary,
+    pub circuits: Vec<CircuitInfo>,
     pub barriers: Vec<BarrierResult>,
+    pub bridges: Vec<BridgeResult>,
+    pub isolation: Option<IsolationReport>,
+    pub input_warnings: Vec<InputWarning>,
+    /// Tables present in the project file that this version does not evaluate.
+    pub tables_not_evaluated: Vec<String>,
     pub findings: Vec<Finding>,
+    /// Every check that ran, with how many items it judged and raised.
+    pub checks: Vec<CheckOutcome>,
     pub rules: Vec<RuleInfo>,
     pub cautions: Vec<&'static str>,
     /// Topics of later versions: null until evaluated.
-    pub isolation: Option<()>,
     pub power_entry: Option<()>,
     pub emc: Option<()>,
 }
@@ -91,19 +120,10 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
         creepage_between_rows: project.design.creepage_between_rows,
     };
     let mut barriers = Vec::new();
-    let mut findings = Vec::new();
     let mut problems = Vec::new();
     for barrier in &project.barriers {
         match evaluate(rules, &cond, barrier) {
-            Ok(result) => {
-                findings.extend(barrier_findings(
-                    rules,
-                    cond.pollution_degree,
-                    barrier,
-                    &result,
-                ));
-                barriers.push(result);
-            }
+            Ok(result) => barriers.push(result),
             Err(errors) => {
                 for out in errors {
                     let (key, span) = if out.key.contains('.') {
@@ -131,28 +151,10 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
         problems.sort_by_key(|d| (d.line, d.column));
         return Err(Problems(problems));
     }
-    findings.extend(project_findings(&project));
-    findings.sort_by_key(|f| f.severity);
+    let bridges = bridges(rules, &project, &barriers);
+    let isolation = analyse(&project);
 
-    let mut summary = Summary {
-        barriers: barriers.len(),
-        ..Summary::default()
-    };
-    for b in &barriers {
-        match b.verdict {
-            Verdict::Pass => summary.pass += 1,
-            Verdict::Fail => summary.fail += 1,
-            Verdict::Incomplete => summary.incomplete += 1,
-        }
-    }
-    for f in &findings {
-        match f.severity {
-            Severity::Blocking => summary.blocking += 1,
-            Severity::Warning => summary.warning += 1,
-            Severity::Note => summary.note += 1,
-        }
-    }
-    Ok(Report {
+    let mut report = Report {
         tool: ToolInfo {
             name: "gapwarden",
             version: env!("CARGO_PKG_VERSION"),
@@ -172,15 +174,68 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
             creepage_between_rows: cond.creepage_between_rows,
         },
         assumptions: project.assumptions.clone(),
-        summary,
+        summary: Summary::default(),
+        circuits: project
+            .circuits
+            .iter()
+            .map(|c| CircuitInfo {
+                id: c.id.clone(),
+                kind: c.kind,
+                accessible: c.accessible,
+                earthed: c.earthed,
+                description: c.description.clone(),
+            })
+            .collect(),
         barriers,
-        findings,
+        bridges,
+        isolation: Some(isolation),
+        input_warnings: project
+            .warnings
+            .iter()
+            .map(|w| InputWarning {
+                key: w.key.clone(),
+                message: w.message.clone(),
+                line: w.line,
+                column: w.column,
+            })
+            .collect(),
+        tables_not_evaluated: project.not_evaluated.clone(),
+        findings: Vec::new(),
+        checks: Vec::new(),
         rules: rules.info.clone(),
         cautions: CAUTIONS.to_vec(),
-        isolation: None,
         power_entry: None,
         emc: None,
-    })
+    };
+    // The checks see the report as the JSON shows it, before any finding.
+    let context = minijinja::Value::from(minijinja::value::Serde(&report));
+    let (findings, checks) = run_checks(rules, &context)?;
+    report.findings = findings;
+    report.checks = checks;
+    report.summary = summarise(&report);
+    Ok(report)
+}
+
+fn summarise(report: &Report) -> Summary {
+    let mut summary = Summary {
+        barriers: report.barriers.len(),
+        ..Summary::default()
+    };
+    for b in &report.barriers {
+        match b.verdict {
+            Verdict::Pass => summary.pass += 1,
+            Verdict::Fail => summary.fail += 1,
+            Verdict::Incomplete => summary.incomplete += 1,
+        }
+    }
+    for f in &report.findings {
+        match f.severity {
+            Severity::Blocking => summary.blocking += 1,
+            Severity::Warning => summary.warning += 1,
+            Severity::Note => summary.note += 1,
+        }
+    }
+    summary
 }
 
 /// The last component of a path as written, so reports carry no machine paths.

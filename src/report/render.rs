@@ -77,6 +77,10 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     env.set_undefined_behavior(minijinja::UndefinedBehavior::Strict);
     env.set_formatter(|out, _state: &mut State, value: &Value| {
         match value.kind() {
+            // Marked safe only by the template, for text it places in a code block itself.
+            ValueKind::String if value.is_safe() => {
+                out.write_str(value.as_str().unwrap_or_default())?
+            }
             ValueKind::String => out.write_str(&md_escape(value.as_str().unwrap_or_default()))?,
             ValueKind::Number => out.write_str(&number(value))?,
             ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,

@@ -1,7 +1,9 @@
-//! The rule book: the published tables the engine reads, loaded from TOML files in `rules/`.
-//! The shipped files are embedded in the binary; a folder given with `--rules` adds tables
-//! or overrides shipped ones by id. Every table names its source and provenance.
+//! The rule book: the published tables and the checklist the engine reads, loaded from TOML
+//! files in `rules/`. The shipped files are embedded in the binary; a folder given with
+//! `--rules` adds tables and checks, or replaces shipped ones by id where it says so.
+//! Every table and check names its source and provenance.
 
+mod check_defs;
 mod tables;
 
 use std::collections::BTreeMap;
@@ -10,10 +12,11 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use crate::diag::{Diagnostic, Problems, Source};
+pub use check_defs::{CheckDef, Over};
 pub use tables::*;
 
-/// The rule files shipped with gapwarden, embedded at build time.
-pub const SHIPPED: &[(&str, &str)] = &[
+/// The rule tables shipped with gapwarden, embedded at build time.
+pub const SHIPPED_TABLES: &[(&str, &str)] = &[
     (
         "iec60664-1-impulse.toml",
         include_str!("../../rules/iec60664-1-impulse.toml"),
@@ -46,9 +49,49 @@ pub const SHIPPED: &[(&str, &str)] = &[
         "ipc2221b-conductor-spacing.toml",
         include_str!("../../rules/ipc2221b-conductor-spacing.toml"),
     ),
+    (
+        "iec60384-14-capacitor-subclasses.toml",
+        include_str!("../../rules/iec60384-14-capacitor-subclasses.toml"),
+    ),
+    (
+        "iec60950-1-test-voltages.toml",
+        include_str!("../../rules/iec60950-1-test-voltages.toml"),
+    ),
+    (
+        "iec60085-thermal-classes.toml",
+        include_str!("../../rules/iec60085-thermal-classes.toml"),
+    ),
+    (
+        "solid-insulation.toml",
+        include_str!("../../rules/solid-insulation.toml"),
+    ),
+    (
+        "minimum-distances.toml",
+        include_str!("../../rules/minimum-distances.toml"),
+    ),
 ];
 
-/// What a report says about one loaded table.
+/// The checklist shipped with gapwarden: files of `[[check]]` entries.
+pub const SHIPPED_CHECKS: &[(&str, &str)] = &[
+    (
+        "checks/barrier.toml",
+        include_str!("../../rules/checks/barrier.toml"),
+    ),
+    (
+        "checks/isolation.toml",
+        include_str!("../../rules/checks/isolation.toml"),
+    ),
+    (
+        "checks/part.toml",
+        include_str!("../../rules/checks/part.toml"),
+    ),
+    (
+        "checks/report.toml",
+        include_str!("../../rules/checks/report.toml"),
+    ),
+];
+
+/// What a report says about one loaded rule file.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct RuleInfo {
     pub id: String,
@@ -56,7 +99,7 @@ pub struct RuleInfo {
     pub source: String,
     pub provenance: String,
     pub sha256: String,
-    /// "shipped", or "house" for a table from a `--rules` folder.
+    /// "shipped", or "house" for a file from a `--rules` folder.
     pub origin: String,
     /// File name (never a full path, so reports carry no machine paths).
     pub file: String,
@@ -72,9 +115,13 @@ struct Header {
     title: String,
     source: String,
     provenance: String,
+    #[serde(default)]
+    overrides: bool,
+    #[serde(default)]
+    check: Option<toml::Value>,
 }
 
-/// All loaded tables, typed.
+/// All loaded tables, typed, and the checklist.
 #[derive(Debug, Clone)]
 pub struct RuleBook {
     pub info: Vec<RuleInfo>,
@@ -86,48 +133,106 @@ pub struct RuleBook {
     pub grooves: GrooveTable,
     pub material_groups: MaterialGroupTable,
     pub board: BoardSpacingTable,
+    pub capacitors: CapacitorSubclasses,
+    pub test_voltages: TestVoltages,
+    pub thermal: ThermalClasses,
+    pub solid: SolidInsulation,
+    pub minimums: MinimumDistances,
+    pub checks: Vec<CheckDef>,
+}
+
+/// A rule file on its way in: its text, where it came from, and whether it holds checks.
+struct Loaded {
+    source: Source,
+    /// The file's path inside its rules folder (`checks/barrier.toml`): no machine path.
+    file: String,
+    origin: &'static str,
+    is_checks: bool,
 }
 
 impl RuleBook {
-    /// The shipped tables only.
+    /// The shipped tables and checks only.
     pub fn shipped() -> Result<RuleBook, Problems> {
         Self::load(None)
     }
 
-    /// The shipped tables, with those in `house` (if given) added or overriding by id.
+    /// The shipped rules, with those in `house` (if given) added or replacing by id.
     pub fn load(house: Option<&Path>) -> Result<RuleBook, Problems> {
-        let mut sources: BTreeMap<String, (Source, &'static str)> = BTreeMap::new();
+        let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
+        let mut order: Vec<String> = Vec::new();
         let mut problems = Vec::new();
-        let mut add = |source: Source, origin: &'static str, problems: &mut Vec<Diagnostic>| {
-            match toml::from_str::<Header>(&source.text) {
-                Ok(h) => {
-                    sources.insert(h.id, (source, origin));
-                }
-                Err(e) => problems.push(toml_problem(
-                    &source,
-                    &e,
-                    "a rule file needs id, title, source and provenance",
-                )),
-            }
-        };
-        for (name, text) in SHIPPED {
-            add(
-                Source::new(format!("rules/{name}"), *text),
+        let shipped = SHIPPED_TABLES.iter().chain(SHIPPED_CHECKS);
+        let shipped = shipped.map(|(name, text)| {
+            (
                 "shipped",
-                &mut problems,
-            );
-        }
-        if let Some(dir) = house {
-            for source in read_folder(dir)? {
-                add(source, "house", &mut problems);
+                name.to_string(),
+                Source::new(format!("rules/{name}"), *text),
+            )
+        });
+        let house_files = match house {
+            Some(dir) => read_folder(dir)?,
+            None => Vec::new(),
+        };
+        let house_files = house_files.into_iter().map(|(file, s)| ("house", file, s));
+        for (origin, file, source) in shipped.chain(house_files) {
+            let header = match toml::from_str::<Header>(&source.text) {
+                Ok(h) => h,
+                Err(e) => {
+                    problems.push(toml_problem(
+                        &source,
+                        &e,
+                        "a rule file needs id, title, source and provenance",
+                    ));
+                    continue;
+                }
+            };
+            let exists = files.contains_key(&header.id);
+            if exists && !header.overrides {
+                let first = files
+                    .get(&header.id)
+                    .map(|l| l.source.name.clone())
+                    .unwrap_or_default();
+                problems.push(
+                    Diagnostic::new(&source.name, format!("id \"{}\" is already used by {first}", header.id))
+                        .with_key("id")
+                        .with_help("to replace that file, add `overrides = true`; to add a new one, choose a new id"),
+                );
+                continue;
             }
+            if !exists && header.overrides {
+                problems.push(
+                    Diagnostic::new(
+                        &source.name,
+                        format!(
+                            "overrides = true, but no loaded rule file has id \"{}\"",
+                            header.id
+                        ),
+                    )
+                    .with_key("overrides"),
+                );
+                continue;
+            }
+            if !exists {
+                order.push(header.id.clone());
+            }
+            let is_checks = header.check.is_some();
+            files.insert(
+                header.id,
+                Loaded {
+                    source,
+                    file,
+                    origin,
+                    is_checks,
+                },
+            );
         }
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
         let mut info = Vec::new();
-        for (id, (source, origin)) in &sources {
-            let Ok(h) = toml::from_str::<Header>(&source.text) else {
+        for id in &order {
+            let Some(l) = files.get(id) else { continue };
+            let Ok(h) = toml::from_str::<Header>(&l.source.text) else {
                 continue;
             };
             info.push(RuleInfo {
@@ -135,14 +240,14 @@ impl RuleBook {
                 title: h.title,
                 source: h.source,
                 provenance: h.provenance,
-                sha256: crate::sha256_hex(source.text.as_bytes()),
-                origin: origin.to_string(),
-                file: crate::report::file_name(&source.name),
-                text: source.text.clone(),
+                sha256: crate::sha256_hex(l.source.text.as_bytes()),
+                origin: l.origin.to_string(),
+                file: l.file.clone(),
+                text: l.source.text.clone(),
             });
         }
         let mut typed = Typed {
-            sources: &sources,
+            files: &files,
             problems: Vec::new(),
         };
         let impulse = typed.get::<ImpulseTable>(ImpulseTable::ID);
@@ -153,10 +258,37 @@ impl RuleBook {
         let grooves = typed.get::<GrooveTable>(GrooveTable::ID);
         let material_groups = typed.get::<MaterialGroupTable>(MaterialGroupTable::ID);
         let board = typed.get::<BoardSpacingTable>(BoardSpacingTable::ID);
-        if !typed.problems.is_empty() {
-            return Err(Problems(typed.problems));
+        let capacitors = typed.get::<CapacitorSubclasses>(CapacitorSubclasses::ID);
+        let test_voltages = typed.get::<TestVoltages>(TestVoltages::ID);
+        let thermal = typed.get::<ThermalClasses>(ThermalClasses::ID);
+        let solid = typed.get::<SolidInsulation>(SolidInsulation::ID);
+        let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
+        let mut problems = typed.problems;
+        let check_sources: Vec<(&Source, &str)> = order
+            .iter()
+            .filter_map(|id| files.get(id))
+            .filter(|l| l.is_checks)
+            .map(|l| (&l.source, l.origin))
+            .collect();
+        let checks = check_defs::load_checks(&check_sources, &mut problems);
+        if !problems.is_empty() {
+            return Err(Problems(problems));
         }
-        match (
+        let (
+            Some(impulse),
+            Some(clearance),
+            Some(creepage),
+            Some(reinforced),
+            Some(altitude),
+            Some(grooves),
+            Some(material_groups),
+            Some(board),
+            Some(capacitors),
+            Some(test_voltages),
+            Some(thermal),
+            Some(solid),
+            Some(minimums),
+        ) = (
             impulse,
             clearance,
             creepage,
@@ -165,31 +297,62 @@ impl RuleBook {
             grooves,
             material_groups,
             board,
-        ) {
-            (
-                Some(impulse),
-                Some(clearance),
-                Some(creepage),
-                Some(reinforced),
-                Some(altitude),
-                Some(grooves),
-                Some(material_groups),
-                Some(board),
-            ) => Ok(RuleBook {
-                info,
-                impulse,
-                clearance,
-                creepage,
-                reinforced,
-                altitude,
-                grooves,
-                material_groups,
-                board,
-            }),
-            _ => Err(Problems(vec![Diagnostic::new(
+            capacitors,
+            test_voltages,
+            thermal,
+            solid,
+            minimums,
+        )
+        else {
+            return Err(Problems(vec![Diagnostic::new(
                 "rules",
                 "a rule table could not be loaded",
-            )])),
+            )]));
+        };
+        let book = RuleBook {
+            info,
+            impulse,
+            clearance,
+            creepage,
+            reinforced,
+            altitude,
+            grooves,
+            material_groups,
+            board,
+            capacitors,
+            test_voltages,
+            thermal,
+            solid,
+            minimums,
+            checks,
+        };
+        book.try_house_checks()?;
+        Ok(book)
+    }
+
+    /// Runs house checks once over the shipped example design, so that a check naming a
+    /// field that does not exist fails now, not only on the first design that has an item
+    /// for it. Problems of the example itself (a house table it falls outside) are not
+    /// the house checks' problems and are left to the real run.
+    fn try_house_checks(&self) -> Result<(), Problems> {
+        if self.checks.iter().all(|c| c.origin == "shipped") {
+            return Ok(());
+        }
+        let (name, text) = crate::commands::EXAMPLES[0];
+        let example = Source::new(format!("examples/{name}.toml"), text);
+        match crate::report::check_source(&example, self) {
+            Ok(_) => Ok(()),
+            Err(Problems(problems)) => {
+                let own: Vec<Diagnostic> = problems
+                    .into_iter()
+                    .filter(|d| d.file != example.name)
+                    .collect();
+                if own.is_empty() {
+                    Ok(())
+                } else {
+                    Err(Problems(own))
+                }
+            }
         }
     }
 
@@ -199,25 +362,25 @@ impl RuleBook {
 }
 
 struct Typed<'a> {
-    sources: &'a BTreeMap<String, (Source, &'static str)>,
+    files: &'a BTreeMap<String, Loaded>,
     problems: Vec<Diagnostic>,
 }
 
 impl Typed<'_> {
     fn get<T: Table>(&mut self, id: &str) -> Option<T> {
-        let Some((source, _)) = self.sources.get(id) else {
+        let Some(loaded) = self.files.get(id) else {
             self.problems.push(Diagnostic::new(
                 "rules",
                 format!("no rule table with id \"{id}\" is loaded"),
             ));
             return None;
         };
+        let source = &loaded.source;
         match toml::from_str::<T>(&source.text) {
             Ok(table) => match table.check() {
                 Ok(()) => Some(table),
                 Err(message) => {
-                    self.problems
-                        .push(Diagnostic::new(&source.name, message).with_key("rows"));
+                    self.problems.push(Diagnostic::new(&source.name, message));
                     None
                 }
             },
@@ -240,21 +403,34 @@ fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> Diagnostic 
     d
 }
 
-/// Every `*.toml` file in a folder, sorted by name so that loading is deterministic.
-fn read_folder(dir: &Path) -> Result<Vec<Source>, Problems> {
+/// Every `*.toml` file in a folder and its `checks/` subfolder, sorted by name so that
+/// loading is deterministic.
+fn read_folder(dir: &Path) -> Result<Vec<(String, Source)>, Problems> {
     let shown = dir.display().to_string();
-    let entries = std::fs::read_dir(dir)
-        .map_err(|e| Diagnostic::new(&shown, format!("cannot read the rules folder: {e}")))?;
-    let mut paths: Vec<_> = entries
-        .filter_map(|e| e.ok().map(|e| e.path()))
-        .filter(|p| p.extension().is_some_and(|x| x == "toml") && p.is_file())
-        .collect();
+    if !dir.is_dir() {
+        return Err(Diagnostic::new(&shown, "is not a folder of rule files").into());
+    }
+    let mut paths = Vec::new();
+    for folder in [dir.to_path_buf(), dir.join("checks")] {
+        let Ok(entries) = std::fs::read_dir(&folder) else {
+            continue;
+        };
+        paths.extend(
+            entries
+                .filter_map(|e| e.ok().map(|e| e.path()))
+                .filter(|p| p.extension().is_some_and(|x| x == "toml") && p.is_file()),
+        );
+    }
     paths.sort();
     let mut out = Vec::new();
     for path in paths {
         let name = path.display().to_string();
         let text = crate::read_text(&path).map_err(|m| Diagnostic::new(&name, m))?;
-        out.push(Source::new(name, text));
+        let inside = path
+            .strip_prefix(dir)
+            .map(|p| p.display().to_string())
+            .unwrap_or_else(|_| name.clone());
+        out.push((inside, Source::new(name, text)));
     }
     Ok(out)
 }

@@ -62,6 +62,9 @@ pub struct ImpulseTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     pub rows: Vec<ImpulseRow>,
 }
 
@@ -100,6 +103,9 @@ pub struct ClearanceTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     /// Minimum clearance by pollution degree 1, 2, 3.
     pub pollution_degree_minimum_mm: [f64; 3],
     pub interpolation_permitted: bool,
@@ -139,6 +145,9 @@ pub struct CreepageTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     pub columns: Vec<String>,
     pub interpolation_round_up_mm: f64,
     pub rows: Vec<CreepageRow>,
@@ -191,6 +200,9 @@ pub struct ReinforcedRule {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     pub preferred_impulse_v: Vec<f64>,
     pub non_preferred_impulse_factor: f64,
     pub creepage_factor: f64,
@@ -230,6 +242,9 @@ pub struct AltitudeTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     pub rows: Vec<AltitudeRow>,
 }
 
@@ -261,6 +276,9 @@ pub struct GrooveTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     /// Narrowest groove that counts, by pollution degree 1, 2, 3.
     pub min_width_mm: [f64; 3],
 }
@@ -289,6 +307,9 @@ pub struct MaterialGroupTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     /// Groups from the best (highest CTI) down.
     pub groups: Vec<MaterialGroupEntry>,
 }
@@ -329,6 +350,9 @@ pub struct BoardSpacingTable {
     pub title: String,
     pub source: String,
     pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
     pub columns: Vec<String>,
     pub rows: Vec<BoardSpacingRow>,
     pub above_last_row_mm_per_v: Vec<f64>,
@@ -361,5 +385,206 @@ impl Table for BoardSpacingTable {
             non_negative(row.iter().copied(), "spacings")?;
         }
         Ok(())
+    }
+}
+
+/// Figures by insulation grade (house minimums, tape layers).
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ByGrade {
+    pub functional: f64,
+    pub basic: f64,
+    pub supplementary: f64,
+    pub reinforced: f64,
+    pub double: f64,
+}
+
+impl ByGrade {
+    pub fn get(&self, grade: crate::project::Grade) -> f64 {
+        use crate::project::Grade::*;
+        match grade {
+            Functional => self.functional,
+            Basic => self.basic,
+            Supplementary => self.supplementary,
+            Reinforced => self.reinforced,
+            Double => self.double,
+        }
+    }
+
+    fn all(&self) -> [f64; 5] {
+        [
+            self.functional,
+            self.basic,
+            self.supplementary,
+            self.reinforced,
+            self.double,
+        ]
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MinimumDistances {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    #[serde(default)]
+    pub overrides: bool,
+    pub clearance_mm: ByGrade,
+    pub creepage_mm: ByGrade,
+}
+
+impl MinimumDistances {
+    pub const ID: &'static str = "limits.minimum-distances";
+}
+
+impl Table for MinimumDistances {
+    fn check(&self) -> Result<(), String> {
+        non_negative(
+            self.clearance_mm
+                .all()
+                .into_iter()
+                .chain(self.creepage_mm.all()),
+            "minimum distances",
+        )
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CapacitorSubclass {
+    pub subclass: String,
+    pub bridges: Vec<String>,
+    pub max_rated_ac_v: Option<f64>,
+    pub impulse_test_v: f64,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CapacitorSubclasses {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    #[serde(default)]
+    pub overrides: bool,
+    pub subclasses: Vec<CapacitorSubclass>,
+    pub series_count_for_reinforced: u32,
+}
+
+impl CapacitorSubclasses {
+    pub const ID: &'static str = "iec60384-14.subclasses";
+}
+
+impl Table for CapacitorSubclasses {
+    fn check(&self) -> Result<(), String> {
+        for s in &self.subclasses {
+            for g in &s.bridges {
+                if crate::project::Grade::from_word(g).is_none() {
+                    return Err(format!(
+                        "subclass {}: \"{g}\" is not an insulation grade",
+                        s.subclass
+                    ));
+                }
+            }
+        }
+        non_negative(
+            self.subclasses.iter().map(|s| s.impulse_test_v),
+            "impulse_test_v",
+        )
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TestVoltageRow {
+    pub up_to_peak_v: f64,
+    pub basic_v_rms: f64,
+    pub reinforced_v_rms: f64,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TestVoltages {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    #[serde(default)]
+    pub overrides: bool,
+    pub rows: Vec<TestVoltageRow>,
+}
+
+impl TestVoltages {
+    pub const ID: &'static str = "iec60950-1.test-voltages";
+}
+
+impl Table for TestVoltages {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.rows.iter().map(|r| r.up_to_peak_v), "up_to_peak_v")?;
+        non_negative(
+            self.rows
+                .iter()
+                .flat_map(|r| [r.basic_v_rms, r.reinforced_v_rms]),
+            "test voltages",
+        )
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ThermalClass {
+    pub class: String,
+    pub max_c: f64,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ThermalClasses {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    #[serde(default)]
+    pub overrides: bool,
+    pub classes: Vec<ThermalClass>,
+}
+
+impl ThermalClasses {
+    pub const ID: &'static str = "iec60085.thermal-classes";
+}
+
+impl Table for ThermalClasses {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.classes.iter().map(|c| c.max_c), "max_c")
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SolidInsulation {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    #[serde(default)]
+    pub overrides: bool,
+    pub min_distance_through_insulation_mm: f64,
+    pub min_tape_layers: ByGrade,
+    pub margins_cover_creepage: bool,
+}
+
+impl SolidInsulation {
+    pub const ID: &'static str = "iec60950-1.solid-insulation";
+}
+
+impl Table for SolidInsulation {
+    fn check(&self) -> Result<(), String> {
+        non_negative(
+            std::iter::once(self.min_distance_through_insulation_mm)
+                .chain(self.min_tape_layers.all()),
+            "solid insulation figures",
+        )
     }
 }

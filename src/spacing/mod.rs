@@ -117,6 +117,13 @@ pub struct BarrierResult {
     pub creepage_margin_mm: Option<f64>,
     pub verdict: Verdict,
     pub double_parts: Option<DoubleParts>,
+    /// A house minimum (rule table limits.minimum-distances) raised a required figure.
+    pub house_minimum_applied: bool,
+    pub working_frequency_hz: Option<f64>,
+    pub slot_width_mm: Option<f64>,
+    /// The narrowest slot or groove that counts toward creepage at this pollution degree.
+    pub narrowest_slot_mm: f64,
+    pub bridged_by: Vec<String>,
     pub derivation: Derivation,
 }
 
@@ -172,6 +179,8 @@ pub fn evaluate(
     } else {
         insulation_coordination(rules, cond, barrier)?
     };
+    let (clearance, creepage, house_minimum_applied) =
+        house_minimums(rules, barrier.grade, clearance, creepage);
     let margin = |declared: Option<f64>, required: f64| declared.map(|d| tidy(d - required));
     let clearance_margin_mm = margin(barrier.clearance_mm, clearance.mm);
     let creepage_margin_mm = margin(barrier.creepage_mm, creepage.mm);
@@ -197,11 +206,54 @@ pub fn evaluate(
         creepage_margin_mm,
         verdict,
         double_parts: meta.double_parts,
+        house_minimum_applied,
+        working_frequency_hz: barrier.working_frequency_hz,
+        slot_width_mm: barrier.slot_width_mm,
+        narrowest_slot_mm: rules.grooves.min_width_mm
+            [(cond.pollution_degree.clamp(1, 3) - 1) as usize],
+        bridged_by: barrier.bridged_by.clone(),
         derivation: Derivation {
             clearance: clearance.steps,
             creepage: creepage.steps,
         },
     })
+}
+
+/// Applies a team's own floors (shipped at zero) and keeps creepage at least the clearance.
+fn house_minimums(
+    rules: &RuleBook,
+    grade: Grade,
+    mut clearance: Figure,
+    mut creepage: Figure,
+) -> (Figure, Figure, bool) {
+    let table = &rules.minimums;
+    let mut applied = false;
+    for (figure, floor, what) in [
+        (&mut clearance, table.clearance_mm.get(grade), "clearance"),
+        (&mut creepage, table.creepage_mm.get(grade), "creepage"),
+    ] {
+        if floor > figure.mm {
+            figure.steps.push(Step::from(
+                crate::rules::MinimumDistances::ID,
+                format!(
+                    "Raised to the house minimum {what} for {} insulation: {} mm ({}).",
+                    grade.as_str(),
+                    show(floor),
+                    table.source
+                ),
+            ));
+            figure.mm = tidy(floor);
+            applied = true;
+        }
+    }
+    if applied && creepage.mm < clearance.mm {
+        creepage.steps.push(Step::plain(format!(
+            "Raised to the required clearance {} mm.",
+            show(clearance.mm)
+        )));
+        creepage.mm = clearance.mm;
+    }
+    (clearance, creepage, applied)
 }
 
 /// A shortfall fails; otherwise a distance not yet declared leaves the barrier incomplete.

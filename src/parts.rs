@@ -1,0 +1,229 @@
+//! Parts that bridge a barrier: for each (barrier, part) pair, the part's declared ratings
+//! beside what the barrier needs, looked up from the rule tables. The checks in
+//! `rules/checks/part.toml` compare them.
+
+use serde::Serialize;
+
+use crate::project::{Barrier, Grade, Part, PartKind, Project};
+use crate::rules::{CapacitorSubclasses, RuleBook, TestVoltages, ThermalClasses};
+use crate::spacing::{BarrierResult, Step, show, tidy};
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BridgeResult {
+    pub barrier: String,
+    pub part: String,
+    pub kind: PartKind,
+    pub grade: Grade,
+    pub working_rms_v: f64,
+    /// Declared working peak, or the rms value times sqrt(2).
+    pub working_peak_v: f64,
+    /// Either side of the barrier is an accessible circuit.
+    pub to_accessible: bool,
+    pub required_clearance_mm: f64,
+    pub required_creepage_mm: f64,
+    pub subclass: Option<String>,
+    pub count_in_series: u32,
+    pub rated_ac_v: Option<f64>,
+    pub capacitance_nf: Option<f64>,
+    /// Grades the capacitor subclass may bridge (from the subclass table).
+    pub subclass_bridges: Vec<String>,
+    pub subclass_allowed: bool,
+    /// Basic-rated capacitors in series accepted across reinforced or double insulation.
+    pub series_accepted: bool,
+    pub isolation_test_v_rms: Option<f64>,
+    /// Electric strength test voltage the barrier's grade needs; null for functional
+    /// insulation or above the table.
+    pub required_test_v_rms: Option<f64>,
+    pub external_clearance_mm: Option<f64>,
+    pub external_creepage_mm: Option<f64>,
+    pub distance_through_insulation_mm: Option<f64>,
+    pub thin_layer_rated: bool,
+    pub min_distance_through_insulation_mm: f64,
+    pub insulation_system: Option<String>,
+    pub tape_layers: Option<u32>,
+    pub min_tape_layers: u32,
+    pub margin_mm: Option<f64>,
+    pub thermal_class: Option<String>,
+    pub thermal_class_max_c: Option<f64>,
+    pub hot_spot_c: Option<f64>,
+    pub derivation: Vec<Step>,
+}
+
+/// Every part listed in a barrier's `bridged_by`, set beside that barrier.
+pub fn bridges(
+    rules: &RuleBook,
+    project: &Project,
+    results: &[BarrierResult],
+) -> Vec<BridgeResult> {
+    let mut out = Vec::new();
+    for (barrier, result) in project.barriers.iter().zip(results) {
+        for reference in &barrier.bridged_by {
+            if let Some(part) = project.parts.iter().find(|p| &p.reference == reference) {
+                out.push(bridge(rules, project, barrier, result, part));
+            }
+        }
+    }
+    out
+}
+
+fn bridge(
+    rules: &RuleBook,
+    project: &Project,
+    barrier: &Barrier,
+    result: &BarrierResult,
+    part: &Part,
+) -> BridgeResult {
+    let r = &part.ratings;
+    let mut derivation = Vec::new();
+    let working_peak_v = barrier
+        .working_peak_v
+        .unwrap_or_else(|| tidy(barrier.working_rms_v * std::f64::consts::SQRT_2));
+    let to_accessible = barrier
+        .between
+        .iter()
+        .any(|id| project.circuits.iter().any(|c| &c.id == id && c.accessible));
+    let (subclass_bridges, subclass_allowed, series_accepted) = capacitor_fit(
+        &rules.capacitors,
+        r.subclass.as_deref(),
+        r.count_in_series,
+        barrier.grade,
+        &mut derivation,
+    );
+    let required_test_v_rms = match part.kind {
+        PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
+            &rules.test_voltages,
+            barrier.grade,
+            working_peak_v,
+            &mut derivation,
+        ),
+        _ => None,
+    };
+    let thermal_class_max_c = r
+        .thermal_class
+        .as_deref()
+        .and_then(|c| thermal_limit(&rules.thermal, c, &mut derivation));
+    BridgeResult {
+        barrier: barrier.id.clone(),
+        part: part.reference.clone(),
+        kind: part.kind,
+        grade: barrier.grade,
+        working_rms_v: barrier.working_rms_v,
+        working_peak_v,
+        to_accessible,
+        required_clearance_mm: result.required_clearance_mm,
+        required_creepage_mm: result.required_creepage_mm,
+        subclass: r.subclass.clone(),
+        count_in_series: r.count_in_series,
+        rated_ac_v: r.rated_ac_v,
+        capacitance_nf: r.capacitance_nf,
+        subclass_bridges,
+        subclass_allowed,
+        series_accepted,
+        isolation_test_v_rms: r.isolation_test_v_rms,
+        required_test_v_rms,
+        external_clearance_mm: r.external_clearance_mm,
+        external_creepage_mm: r.external_creepage_mm,
+        distance_through_insulation_mm: r.distance_through_insulation_mm,
+        thin_layer_rated: r.thin_layer_rated,
+        min_distance_through_insulation_mm: rules.solid.min_distance_through_insulation_mm,
+        insulation_system: r.insulation_system.clone(),
+        tape_layers: r.tape_layers,
+        min_tape_layers: rules.solid.min_tape_layers.get(barrier.grade).round() as u32,
+        margin_mm: r.margin_mm,
+        thermal_class: r.thermal_class.clone(),
+        thermal_class_max_c,
+        hot_spot_c: r.hot_spot_c,
+        derivation,
+    }
+}
+
+/// Which grades a capacitor subclass may bridge, and whether this barrier is one of them.
+fn capacitor_fit(
+    table: &CapacitorSubclasses,
+    subclass: Option<&str>,
+    count_in_series: u32,
+    grade: Grade,
+    steps: &mut Vec<Step>,
+) -> (Vec<String>, bool, bool) {
+    let Some(entry) = subclass.and_then(|s| table.subclasses.iter().find(|e| e.subclass == s))
+    else {
+        return (Vec::new(), false, false);
+    };
+    let bridges = entry.bridges.clone();
+    let allowed = bridges.iter().any(|g| g == grade.as_str());
+    let basic_rated = bridges.iter().any(|g| g == "basic");
+    let series_accepted = !allowed
+        && basic_rated
+        && matches!(grade, Grade::Reinforced | Grade::Double)
+        && count_in_series >= table.series_count_for_reinforced;
+    steps.push(Step {
+        rule: Some(CapacitorSubclasses::ID.to_string()),
+        text: format!(
+            "{} may bridge: {} ({}){}.",
+            entry.subclass,
+            if bridges.is_empty() { "no insulation".to_string() } else { bridges.join(", ") },
+            table.source,
+            if series_accepted {
+                format!("; {count_in_series} in series across {} insulation: accepted as common practice", grade.as_str())
+            } else {
+                String::new()
+            }
+        ),
+    });
+    (bridges, allowed || series_accepted, series_accepted)
+}
+
+/// Electric strength test voltage for a grade at a working peak; never beyond the table.
+fn test_voltage(
+    table: &TestVoltages,
+    grade: Grade,
+    peak_v: f64,
+    steps: &mut Vec<Step>,
+) -> Option<f64> {
+    if grade == Grade::Functional {
+        return None;
+    }
+    let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - 1e-9) else {
+        steps.push(Step {
+            rule: Some(TestVoltages::ID.to_string()),
+            text: format!(
+                "Working peak {} V is above the last row of {} (up to {} V peak); no test voltage is given here.",
+                show(peak_v),
+                table.source,
+                table.rows.last().map(|r| show(r.up_to_peak_v)).unwrap_or_default()
+            ),
+        });
+        return None;
+    };
+    let reinforced = matches!(grade, Grade::Reinforced | Grade::Double);
+    let v = if reinforced {
+        row.reinforced_v_rms
+    } else {
+        row.basic_v_rms
+    };
+    steps.push(Step {
+        rule: Some(TestVoltages::ID.to_string()),
+        text: format!(
+            "Electric strength test for {} insulation at {} V peak (row up to {} V peak): {} V rms ({}).",
+            grade.as_str(),
+            show(peak_v),
+            show(row.up_to_peak_v),
+            show(v),
+            table.source
+        ),
+    });
+    Some(v)
+}
+
+fn thermal_limit(table: &ThermalClasses, class: &str, steps: &mut Vec<Step>) -> Option<f64> {
+    let entry = table.classes.iter().find(|c| c.class == class)?;
+    steps.push(Step {
+        rule: Some(ThermalClasses::ID.to_string()),
+        text: format!(
+            "Thermal class {class}: {} °C ({}).",
+            show(entry.max_c),
+            table.source
+        ),
+    });
+    Some(entry.max_c)
+}
