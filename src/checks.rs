@@ -173,6 +173,55 @@ fn run_one(
     Ok((judged, raised))
 }
 
+/// Tries a check on every item of a sample report, whether or not it applies, and
+/// reports a field name that does not exist. Other evaluation errors (arithmetic on a
+/// null the `applies` expression would have excluded) are not the check's fault here.
+pub fn unknown_fields(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
+    let env = expression_environment();
+    let problem = |message: String| {
+        Diagnostic {
+            line: Some(check.line),
+            ..Diagnostic::new(&check.path, message)
+        }
+        .with_key(format!("check \"{}\"", check.id))
+    };
+    let items: Vec<Value> = match check.over {
+        Over::Report => vec![Value::UNDEFINED],
+        over => {
+            let mut value = sample.clone();
+            for part in over.path().split('.') {
+                value = value.get_attr(part).unwrap_or(Value::UNDEFINED);
+            }
+            value.try_iter().map(|i| i.collect()).unwrap_or_default()
+        }
+    };
+    let undefined = |r: Result<Value, minijinja::Error>, what: &str| match r {
+        Err(e) if e.kind() == minijinja::ErrorKind::UndefinedError => Err(problem(format!(
+            "{what} refers to a field that does not exist: {}",
+            detail(&e)
+        ))),
+        _ => Ok(()),
+    };
+    for item in items {
+        let ctx = context! { report => sample.clone(), item => item };
+        for (what, expr) in [
+            ("applies", &check.applies),
+            ("condition", &Some(check.condition.clone())),
+            ("subject", &check.subject),
+        ] {
+            if let Some(expr) = expr
+                && let Ok(compiled) = env.compile_expression(expr)
+            {
+                undefined(compiled.eval(&ctx), what)?;
+            }
+        }
+        if let Ok(template) = env.template_from_str(&check.message) {
+            undefined(template.render(&ctx).map(Value::from), "message")?;
+        }
+    }
+    Ok(())
+}
+
 fn compile<'e, 's>(
     env: &'e Environment<'static>,
     expr: &'s str,

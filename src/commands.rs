@@ -282,38 +282,69 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
 /// A list of the loaded tables, or the full text of one.
 pub fn describe_rules(rules: &RuleBook, id: Option<&str>) -> Result<String, Problems> {
     let mut out = String::new();
-    match id {
-        None => {
-            for r in &rules.info {
-                out.push_str(&format!(
-                    "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
-                    r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
-                ));
-            }
-            Ok(out)
+    let Some(id) = id else {
+        out.push_str("Rule files\n\n");
+        for r in &rules.info {
+            out.push_str(&format!(
+                "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
+                r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
+            ));
         }
-        Some(id) => match rules.info(id) {
-            Some(r) => {
-                out.push_str(&format!(
-                    "# {} ({} {}, sha256 {})\n",
-                    r.id, r.origin, r.file, r.sha256
-                ));
-                out.push_str(&r.text);
-                Ok(out)
-            }
-            None => {
-                let ids: Vec<&str> = rules.info.iter().map(|r| r.id.as_str()).collect();
-                let mut d = Diagnostic::new(
-                    "rules",
-                    format!("no rule table \"{id}\"; loaded: {}", ids.join(", ")),
-                );
-                if let Some(best) = suggest(id, &ids) {
-                    d = d.with_help(format!("did you mean \"{best}\"?"));
-                }
-                Err(d.into())
-            }
-        },
+        out.push_str("\nChecks (id, severity, origin, defined at)\n\n");
+        for c in &rules.checks {
+            out.push_str(&format!(
+                "{}  [{}]  {}  {}:{}\n  {}\n  source: {}\n",
+                c.id,
+                severity_word(c.severity),
+                c.origin,
+                c.file,
+                c.line,
+                c.title,
+                c.source
+            ));
+        }
+        return Ok(out);
+    };
+    if let Some(r) = rules.info(id) {
+        out.push_str(&format!(
+            "# {} ({} {}, sha256 {})\n",
+            r.id, r.origin, r.file, r.sha256
+        ));
+        out.push_str(&r.text);
+        return Ok(out);
     }
+    if let Some(c) = rules.checks.iter().find(|c| c.id == id) {
+        out.push_str(&format!(
+            "{} [{}], {} ({}:{})\n{}\nover: {}\n",
+            c.id,
+            severity_word(c.severity),
+            c.origin,
+            c.file,
+            c.line,
+            c.title,
+            c.over.path()
+        ));
+        if let Some(applies) = &c.applies {
+            out.push_str(&format!("applies: {applies}\n"));
+        }
+        out.push_str(&format!(
+            "condition: {}\nmessage: {}\nrationale: {}\nsource: {}\n",
+            c.condition, c.message, c.rationale, c.source
+        ));
+        return Ok(out);
+    }
+    let ids: Vec<&str> = rules
+        .info
+        .iter()
+        .map(|r| r.id.as_str())
+        .chain(rules.checks.iter().map(|c| c.id.as_str()))
+        .collect();
+    let mut d = Diagnostic::new("rules", format!("no rule table or check \"{id}\""))
+        .with_help("`gapwarden rules` lists them all");
+    if let Some(best) = suggest(id, &ids) {
+        d = d.with_help(format!("did you mean \"{best}\"?"));
+    }
+    Err(d.into())
 }
 
 /// One barrier described by command-line flags, for `gapwarden spacing`.

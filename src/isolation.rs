@@ -4,7 +4,7 @@
 //! beside what the protection class needs.
 
 use std::cmp::Reverse;
-use std::collections::{BinaryHeap, VecDeque};
+use std::collections::{BinaryHeap, HashMap, VecDeque};
 
 use serde::Serialize;
 
@@ -75,7 +75,13 @@ struct Graph<'p> {
 
 impl<'p> Graph<'p> {
     fn new(project: &'p Project) -> Self {
-        let index = |id: &str| project.circuits.iter().position(|c| c.id == id);
+        let by_id: HashMap<&str, usize> = project
+            .circuits
+            .iter()
+            .enumerate()
+            .map(|(i, c)| (c.id.as_str(), i))
+            .collect();
+        let index = |id: &str| by_id.get(id).copied();
         let mut adjacent = vec![Vec::new(); project.circuits.len()];
         for (b, barrier) in project.barriers.iter().enumerate() {
             if let (Some(x), Some(y)) = (index(&barrier.between[0]), index(&barrier.between[1])) {
@@ -87,35 +93,39 @@ impl<'p> Graph<'p> {
     }
 
     /// Weakest insulation level from `source` to every circuit, with the predecessor on
-    /// the weakest path. Circuits in `stop_at` are reached but not passed through.
+    /// the weakest path; among equally weak paths, the one with the fewest barriers.
+    /// Circuits in `stop_at` are reached but not passed through.
     fn weakest(
         &self,
         source: usize,
         stop_at: &[bool],
     ) -> (Vec<Option<u8>>, Vec<Option<(usize, usize)>>) {
         let n = self.adjacent.len();
-        let mut level: Vec<Option<u8>> = vec![None; n];
+        let mut best: Vec<Option<(u8, usize)>> = vec![None; n];
         let mut before: Vec<Option<(usize, usize)>> = vec![None; n];
         let mut queue = BinaryHeap::new();
-        level[source] = Some(0);
-        queue.push(Reverse((0u8, source)));
-        while let Some(Reverse((l, node))) = queue.pop() {
-            if level[node].is_some_and(|best| l > best) {
+        best[source] = Some((0, 0));
+        queue.push(Reverse((0u8, 0usize, source)));
+        while let Some(Reverse((l, hops, node))) = queue.pop() {
+            if best[node].is_some_and(|b| (l, hops) > b) {
                 continue;
             }
             if node != source && stop_at[node] {
                 continue;
             }
             for &(next, b) in &self.adjacent[node] {
-                let through = (l + level_of(self.project.barriers[b].grade)).min(LEVEL_DOUBLE);
-                if level[next].is_none_or(|best| through < best) {
-                    level[next] = Some(through);
+                let through = (
+                    (l + level_of(self.project.barriers[b].grade)).min(LEVEL_DOUBLE),
+                    hops + 1,
+                );
+                if best[next].is_none_or(|known| through < known) {
+                    best[next] = Some(through);
                     before[next] = Some((node, b));
-                    queue.push(Reverse((through, next)));
+                    queue.push(Reverse((through.0, through.1, next)));
                 }
             }
         }
-        (level, before)
+        (best.iter().map(|b| b.map(|(l, _)| l)).collect(), before)
     }
 
     fn path_to(&self, source: usize, target: usize, before: &[Option<(usize, usize)>]) -> PathInfo {

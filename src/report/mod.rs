@@ -111,6 +111,18 @@ impl Report {
 
 /// Reads, evaluates and judges one project file's text.
 pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
+    let mut report = figures(source, rules)?;
+    // The checks see the report as the JSON shows it, before any finding.
+    let context = minijinja::Value::from(minijinja::value::Serde(&report));
+    let (findings, checks) = run_checks(rules, &context)?;
+    report.findings = findings;
+    report.checks = checks;
+    report.summary = summarise(&report);
+    Ok(report)
+}
+
+/// Reads a project and computes every figure, without running the checklist.
+pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     let project = read_project(source)?;
     let cond = Conditions {
         pollution_degree: project.environment.pollution_degree,
@@ -154,7 +166,7 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
     let bridges = bridges(rules, &project, &barriers);
     let isolation = analyse(&project);
 
-    let mut report = Report {
+    Ok(Report {
         tool: ToolInfo {
             name: "gapwarden",
             version: env!("CARGO_PKG_VERSION"),
@@ -206,14 +218,7 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
         cautions: CAUTIONS.to_vec(),
         power_entry: None,
         emc: None,
-    };
-    // The checks see the report as the JSON shows it, before any finding.
-    let context = minijinja::Value::from(minijinja::value::Serde(&report));
-    let (findings, checks) = run_checks(rules, &context)?;
-    report.findings = findings;
-    report.checks = checks;
-    report.summary = summarise(&report);
-    Ok(report)
+    })
 }
 
 fn summarise(report: &Report) -> Summary {

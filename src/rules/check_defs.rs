@@ -119,11 +119,14 @@ struct RawCheck {
 }
 
 /// Reads the check files in load order (shipped first, then house), merging overrides.
-pub fn load_checks(files: &[(&Source, &str)], problems: &mut Vec<Diagnostic>) -> Vec<CheckDef> {
+pub fn load_checks(
+    files: &[(&Source, &str, &str)],
+    problems: &mut Vec<Diagnostic>,
+) -> Vec<CheckDef> {
     let mut checks: Vec<CheckDef> = Vec::new();
     let mut index: BTreeMap<String, usize> = BTreeMap::new();
     let env = expression_environment();
-    for (source, origin) in files {
+    for (source, file_in_folder, origin) in files {
         let file: CheckFile = match toml::from_str(&source.text) {
             Ok(f) => f,
             Err(e) => {
@@ -317,7 +320,7 @@ pub fn load_checks(files: &[(&Source, &str)], problems: &mut Vec<Diagnostic>) ->
                 rationale,
                 source: source_text,
                 origin,
-                file: crate::report::file_name(&source.name),
+                file: file_in_folder.to_string(),
                 line,
                 path: source.name.clone(),
             };

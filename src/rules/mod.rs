@@ -111,12 +111,12 @@ pub struct RuleInfo {
 /// The fields every rule file carries, read leniently to learn its id.
 #[derive(Deserialize)]
 struct Header {
-    id: String,
+    id: toml::Spanned<String>,
     title: String,
     source: String,
     provenance: String,
     #[serde(default)]
-    overrides: bool,
+    overrides: Option<toml::Spanned<bool>>,
     #[serde(default)]
     check: Option<toml::Value>,
 }
@@ -186,38 +186,44 @@ impl RuleBook {
                     continue;
                 }
             };
-            let exists = files.contains_key(&header.id);
-            if exists && !header.overrides {
+            let id = header.id.get_ref().clone();
+            let overrides = header.overrides.as_ref().is_some_and(|o| *o.get_ref());
+            let exists = files.contains_key(&id);
+            if exists && !overrides {
                 let first = files
-                    .get(&header.id)
+                    .get(&id)
                     .map(|l| l.source.name.clone())
                     .unwrap_or_default();
                 problems.push(
-                    Diagnostic::new(&source.name, format!("id \"{}\" is already used by {first}", header.id))
+                    source
+                        .diag(&header.id.span(), format!("id \"{id}\" is already used by {first}"))
                         .with_key("id")
                         .with_help("to replace that file, add `overrides = true`; to add a new one, choose a new id"),
                 );
                 continue;
             }
-            if !exists && header.overrides {
+            if !exists && overrides {
+                let span = header
+                    .overrides
+                    .as_ref()
+                    .map(|o| o.span())
+                    .unwrap_or_else(|| header.id.span());
                 problems.push(
-                    Diagnostic::new(
-                        &source.name,
-                        format!(
-                            "overrides = true, but no loaded rule file has id \"{}\"",
-                            header.id
-                        ),
-                    )
-                    .with_key("overrides"),
+                    source
+                        .diag(
+                            &span,
+                            format!("overrides = true, but no loaded rule file has id \"{id}\""),
+                        )
+                        .with_key("overrides"),
                 );
                 continue;
             }
             if !exists {
-                order.push(header.id.clone());
+                order.push(id.clone());
             }
             let is_checks = header.check.is_some();
             files.insert(
-                header.id,
+                id,
                 Loaded {
                     source,
                     file,
@@ -264,11 +270,11 @@ impl RuleBook {
         let solid = typed.get::<SolidInsulation>(SolidInsulation::ID);
         let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
         let mut problems = typed.problems;
-        let check_sources: Vec<(&Source, &str)> = order
+        let check_sources: Vec<(&Source, &str, &str)> = order
             .iter()
             .filter_map(|id| files.get(id))
             .filter(|l| l.is_checks)
-            .map(|l| (&l.source, l.origin))
+            .map(|l| (&l.source, l.file.as_str(), l.origin))
             .collect();
         let checks = check_defs::load_checks(&check_sources, &mut problems);
         if !problems.is_empty() {
@@ -330,29 +336,39 @@ impl RuleBook {
         Ok(book)
     }
 
-    /// Runs house checks once over the shipped example design, so that a check naming a
-    /// field that does not exist fails now, not only on the first design that has an item
-    /// for it. Problems of the example itself (a house table it falls outside) are not
-    /// the house checks' problems and are left to the real run.
+    /// Tries house checks on the shipped example design, with at least one item of every
+    /// kind, so that a check naming a field that does not exist fails now, not only on the
+    /// first design that has such an item. Problems of the example itself (a house table
+    /// it falls outside) are not the house checks' problems and are left to the real run.
     fn try_house_checks(&self) -> Result<(), Problems> {
-        if self.checks.iter().all(|c| c.origin == "shipped") {
+        let house: Vec<&CheckDef> = self
+            .checks
+            .iter()
+            .filter(|c| c.origin != "shipped")
+            .collect();
+        if house.is_empty() {
             return Ok(());
         }
         let (name, text) = crate::commands::EXAMPLES[0];
         let example = Source::new(format!("examples/{name}.toml"), text);
-        match crate::report::check_source(&example, self) {
-            Ok(_) => Ok(()),
-            Err(Problems(problems)) => {
-                let own: Vec<Diagnostic> = problems
-                    .into_iter()
-                    .filter(|d| d.file != example.name)
-                    .collect();
-                if own.is_empty() {
-                    Ok(())
-                } else {
-                    Err(Problems(own))
-                }
-            }
+        let Ok(mut sample) = crate::report::figures(&example, self) else {
+            return Ok(());
+        };
+        sample.input_warnings.push(crate::report::InputWarning {
+            key: Some("barrier[1].clearance_mm".to_string()),
+            message: "a sample warning".to_string(),
+            line: Some(1),
+            column: Some(1),
+        });
+        let context = minijinja::Value::from(minijinja::value::Serde(&sample));
+        let problems: Vec<Diagnostic> = house
+            .into_iter()
+            .filter_map(|check| crate::checks::unknown_fields(check, &context).err())
+            .collect();
+        if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(Problems(problems))
         }
     }
 
