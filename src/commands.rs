@@ -200,6 +200,20 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
+    if let Some(text) = report
+        .power_entry
+        .as_ref()
+        .and_then(|p| crate::power_entry::explain(p, item))
+    {
+        return Ok(text);
+    }
+    if let Some(text) = report
+        .emc
+        .as_ref()
+        .and_then(|e| crate::emc::explain(e, item))
+    {
+        return Ok(text);
+    }
     if item == "assumptions" {
         for a in &report.assumptions {
             out.push_str(&format!("- {a}\n"));

@@ -4,8 +4,10 @@
 pub mod checks;
 pub mod commands;
 pub mod diag;
+pub mod emc;
 pub mod isolation;
 pub mod parts;
+pub mod power_entry;
 pub mod project;
 pub mod report;
 pub mod rules;

@@ -302,6 +302,12 @@ pub struct Project {
     pub assumptions: Vec<String>,
     /// Values that were accepted but look implausible.
     pub warnings: Vec<Diagnostic>,
+    /// `[input]` with its limiter and fuse; `None` when absent.
+    pub input: Option<crate::power_entry::InputSpec>,
+    /// `[converter]`; `None` when absent.
+    pub converter: Option<crate::power_entry::ConverterSpec>,
+    /// `[emc]`; `None` when absent.
+    pub emc: Option<crate::emc::EmcSpec>,
     /// Tables present in the file that this version reads but does not evaluate.
     pub not_evaluated: Vec<String>,
     /// Where the project-wide keys were written (`mains.nominal_v`, ...), for later messages.

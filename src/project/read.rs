@@ -232,11 +232,9 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
         r.missing(&root, "circuit", "at least one [[circuit]] table");
     }
 
-    let not_evaluated = ["input", "converter", "emc"]
-        .iter()
-        .filter(|k| r.has(&root, k))
-        .map(|k| k.to_string())
-        .collect();
+    let mut not_evaluated = Vec::new();
+    let (input, converter) = crate::power_entry::read(&mut r, &root, &mut not_evaluated);
+    let emc = crate::emc::read(&mut r, &root, &mut not_evaluated);
 
     r.finish()?;
     // Every field below was checked above; a missing one has already been reported.
@@ -255,6 +253,9 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
         parts,
         assumptions,
         warnings: std::mem::take(&mut r.warnings),
+        input,
+        converter,
+        emc,
         not_evaluated,
         key_spans,
     })

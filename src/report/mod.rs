@@ -98,9 +98,10 @@ pub struct Report {
     pub checks: Vec<CheckOutcome>,
     pub rules: Vec<RuleInfo>,
     pub cautions: Vec<&'static str>,
-    /// Topics of later versions: null until evaluated.
-    pub power_entry: Option<()>,
-    pub emc: Option<()>,
+    /// Power entry; null when the project has no `[input]`.
+    pub power_entry: Option<crate::power_entry::PowerEntryReport>,
+    /// The input EMC filter; null when the project has no `[emc]`.
+    pub emc: Option<crate::emc::EmcReport>,
 }
 
 impl Report {
@@ -165,6 +166,8 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     }
     let bridges = bridges(rules, &project, &barriers);
     let isolation = analyse(&project);
+    let power_entry = crate::power_entry::evaluate(&project, rules, &barriers, source)?;
+    let emc = crate::emc::evaluate(&project, rules, power_entry.as_ref(), source)?;
 
     Ok(Report {
         tool: ToolInfo {
@@ -216,8 +219,8 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         checks: Vec::new(),
         rules: rules.info.clone(),
         cautions: CAUTIONS.to_vec(),
-        power_entry: None,
-        emc: None,
+        power_entry,
+        emc,
     })
 }
 

@@ -12,43 +12,68 @@ use super::Report;
 use crate::diag::{Diagnostic, Problems};
 use crate::spacing::show;
 
-/// The shipped Markdown template, embedded at build time.
-pub const REPORT_TEMPLATE: &str = include_str!("../../templates/report.md.j2");
+/// Every shipped template (`templates/*.j2`), embedded at build time by `build.rs`.
+pub use shipped::SHIPPED_TEMPLATES;
+
+mod shipped {
+    include!(concat!(env!("OUT_DIR"), "/shipped_templates.rs"));
+}
+
+/// A paragraph holding only this text is replaced by the EMC chart in the HTML report.
+pub const CHART_MARKER: &str = "gapwarden-emc-chart";
+
+/// The template rendered first; it includes the others by name.
 const TEMPLATE_NAME: &str = "report.md.j2";
 
 /// Bounds on a template's work, so that a house template cannot loop forever.
 const TEMPLATE_FUEL: u64 = 5_000_000;
 const TEMPLATE_RECURSION: usize = 50;
 
-/// The Markdown template in use: shipped, or a house copy from a folder.
+/// The templates in use: the shipped ones, each replaced by a house copy of the same name
+/// where a folder holds one.
 pub struct Templates {
-    report: String,
-    origin: String,
+    /// (name, source, where it came from for messages)
+    files: Vec<(String, String, String)>,
 }
 
 impl Templates {
     pub fn shipped() -> Self {
         Templates {
-            report: REPORT_TEMPLATE.to_string(),
-            origin: format!("templates/{TEMPLATE_NAME}"),
+            files: SHIPPED_TEMPLATES
+                .iter()
+                .map(|(name, text)| {
+                    (
+                        name.to_string(),
+                        text.to_string(),
+                        format!("templates/{name}"),
+                    )
+                })
+                .collect(),
         }
     }
 
-    /// Uses `DIR/report.md.j2` where it exists, the shipped template otherwise.
+    /// The shipped templates, with any of the same name in `dir` taking their place.
     pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
+        let mut templates = Self::shipped();
         let Some(dir) = dir else {
-            return Ok(Self::shipped());
+            return Ok(templates);
         };
-        let path = dir.join(TEMPLATE_NAME);
-        if !path.exists() {
-            return Ok(Self::shipped());
+        if !dir.is_dir() {
+            return Err(Diagnostic::new(
+                &dir.display().to_string(),
+                "is not a folder of templates",
+            )
+            .into());
         }
-        let shown = path.display().to_string();
-        let report = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
-        Ok(Templates {
-            report,
-            origin: shown,
-        })
+        for (name, text, origin) in &mut templates.files {
+            let path = dir.join(&*name);
+            if path.is_file() {
+                let shown = path.display().to_string();
+                *text = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
+                *origin = shown;
+            }
+        }
+        Ok(templates)
     }
 }
 
@@ -95,8 +120,10 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             Err(_) => "not declared".to_string(),
         }
     });
-    env.add_template_owned(TEMPLATE_NAME, templates.report.clone())
-        .map_err(|e| template_problem(&templates.origin, &e))?;
+    for (name, text, origin) in &templates.files {
+        env.add_template_owned(name.clone(), text.clone())
+            .map_err(|e| template_problem(origin, &e))?;
+    }
     Ok(env)
 }
 
@@ -122,13 +149,22 @@ fn template_problem(origin: &str, e: &Error) -> Problems {
 /// The report as a Markdown checklist.
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
     let env = environment(templates)?;
+    let origin = |e: &Error| {
+        let name = e.name().unwrap_or(TEMPLATE_NAME);
+        templates
+            .files
+            .iter()
+            .find(|(n, _, _)| n == name)
+            .map(|(_, _, o)| o.clone())
+            .unwrap_or_else(|| format!("templates/{name}"))
+    };
     let template = env
         .get_template(TEMPLATE_NAME)
-        .map_err(|e| template_problem(&templates.origin, &e))?;
+        .map_err(|e| template_problem(&origin(&e), &e))?;
     let context = Value::from(minijinja::value::Serde(report));
     let mut text = template
         .render(context)
-        .map_err(|e| template_problem(&templates.origin, &e))?;
+        .map_err(|e| template_problem(&origin(&e), &e))?;
     // At most one blank line in a row and one trailing newline, whatever the template's
     // whitespace control left.
     while text.contains("\n\n\n") {
@@ -148,8 +184,14 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
 pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Problems> {
     let markdown = render_markdown(report, templates)?;
     let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
+    let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
     let events = Parser::new_ext(&markdown, options).map(|event| match event {
         Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
+        // The EMC template marks where the chart goes; the SVG is gapwarden's own.
+        Event::Text(text) if text.as_ref() == CHART_MARKER => match &chart {
+            Some(svg) => Event::Html(svg.clone().into()),
+            None => Event::Text("".into()),
+        },
         other => other,
     });
     let mut body = String::new();

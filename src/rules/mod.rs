@@ -15,81 +15,13 @@ use crate::diag::{Diagnostic, Problems, Source};
 pub use check_defs::{CheckDef, Over};
 pub use tables::*;
 
-/// The rule tables shipped with gapwarden, embedded at build time.
-pub const SHIPPED_TABLES: &[(&str, &str)] = &[
-    (
-        "iec60664-1-impulse.toml",
-        include_str!("../../rules/iec60664-1-impulse.toml"),
-    ),
-    (
-        "iec60664-1-clearance.toml",
-        include_str!("../../rules/iec60664-1-clearance.toml"),
-    ),
-    (
-        "iec60664-1-creepage.toml",
-        include_str!("../../rules/iec60664-1-creepage.toml"),
-    ),
-    (
-        "iec60664-1-reinforced.toml",
-        include_str!("../../rules/iec60664-1-reinforced.toml"),
-    ),
-    (
-        "iec60664-1-altitude.toml",
-        include_str!("../../rules/iec60664-1-altitude.toml"),
-    ),
-    (
-        "iec60664-1-grooves.toml",
-        include_str!("../../rules/iec60664-1-grooves.toml"),
-    ),
-    (
-        "iec60664-1-material-groups.toml",
-        include_str!("../../rules/iec60664-1-material-groups.toml"),
-    ),
-    (
-        "ipc2221b-conductor-spacing.toml",
-        include_str!("../../rules/ipc2221b-conductor-spacing.toml"),
-    ),
-    (
-        "iec60384-14-capacitor-subclasses.toml",
-        include_str!("../../rules/iec60384-14-capacitor-subclasses.toml"),
-    ),
-    (
-        "iec60950-1-test-voltages.toml",
-        include_str!("../../rules/iec60950-1-test-voltages.toml"),
-    ),
-    (
-        "iec60085-thermal-classes.toml",
-        include_str!("../../rules/iec60085-thermal-classes.toml"),
-    ),
-    (
-        "solid-insulation.toml",
-        include_str!("../../rules/solid-insulation.toml"),
-    ),
-    (
-        "minimum-distances.toml",
-        include_str!("../../rules/minimum-distances.toml"),
-    ),
-];
+/// Every shipped rule file (`rules/**/*.toml`, path inside `rules/` and text), embedded at
+/// build time by `build.rs`.
+pub use shipped::SHIPPED_RULES;
 
-/// The checklist shipped with gapwarden: files of `[[check]]` entries.
-pub const SHIPPED_CHECKS: &[(&str, &str)] = &[
-    (
-        "checks/barrier.toml",
-        include_str!("../../rules/checks/barrier.toml"),
-    ),
-    (
-        "checks/isolation.toml",
-        include_str!("../../rules/checks/isolation.toml"),
-    ),
-    (
-        "checks/part.toml",
-        include_str!("../../rules/checks/part.toml"),
-    ),
-    (
-        "checks/report.toml",
-        include_str!("../../rules/checks/report.toml"),
-    ),
-];
+mod shipped {
+    include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
+}
 
 /// What a report says about one loaded rule file.
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -138,6 +70,10 @@ pub struct RuleBook {
     pub thermal: ThermalClasses,
     pub solid: SolidInsulation,
     pub minimums: MinimumDistances,
+    /// Tables owned by the power-entry evaluation.
+    pub power_entry: crate::power_entry::PowerEntryRules,
+    /// Tables owned by the EMC evaluation.
+    pub emc: crate::emc::EmcRules,
     pub checks: Vec<CheckDef>,
 }
 
@@ -161,8 +97,7 @@ impl RuleBook {
         let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
         let mut order: Vec<String> = Vec::new();
         let mut problems = Vec::new();
-        let shipped = SHIPPED_TABLES.iter().chain(SHIPPED_CHECKS);
-        let shipped = shipped.map(|(name, text)| {
+        let shipped = SHIPPED_RULES.iter().map(|(name, text)| {
             (
                 "shipped",
                 name.to_string(),
@@ -269,6 +204,8 @@ impl RuleBook {
         let thermal = typed.get::<ThermalClasses>(ThermalClasses::ID);
         let solid = typed.get::<SolidInsulation>(SolidInsulation::ID);
         let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
+        let power_entry = crate::power_entry::PowerEntryRules::load(&mut typed);
+        let emc = crate::emc::EmcRules::load(&mut typed);
         let mut problems = typed.problems;
         let check_sources: Vec<(&Source, &str, &str)> = order
             .iter()
@@ -294,6 +231,8 @@ impl RuleBook {
             Some(thermal),
             Some(solid),
             Some(minimums),
+            Some(power_entry),
+            Some(emc),
         ) = (
             impulse,
             clearance,
@@ -308,6 +247,8 @@ impl RuleBook {
             thermal,
             solid,
             minimums,
+            power_entry,
+            emc,
         )
         else {
             return Err(Problems(vec![Diagnostic::new(
@@ -330,6 +271,8 @@ impl RuleBook {
             thermal,
             solid,
             minimums,
+            power_entry,
+            emc,
             checks,
         };
         book.try_house_checks()?;
@@ -377,13 +320,16 @@ impl RuleBook {
     }
 }
 
-struct Typed<'a> {
+/// Typed access to the loaded rule files, collecting every problem; domain modules load
+/// their own tables through it (`PowerEntryRules::load`, `EmcRules::load`).
+pub struct Typed<'a> {
     files: &'a BTreeMap<String, Loaded>,
     problems: Vec<Diagnostic>,
 }
 
 impl Typed<'_> {
-    fn get<T: Table>(&mut self, id: &str) -> Option<T> {
+    /// The table with this id, parsed and checked; `None` (with a problem) otherwise.
+    pub fn get<T: Table>(&mut self, id: &str) -> Option<T> {
         let Some(loaded) = self.files.get(id) else {
             self.problems.push(Diagnostic::new(
                 "rules",
