@@ -1,6 +1,7 @@
 //! gapwarden: a pre-review checklist for the insulation of mains-connected power supplies.
 //! The library owns the whole engine; the binary only parses the command line.
 
+pub mod batch;
 pub mod checks;
 pub mod commands;
 pub mod diag;

@@ -7,8 +7,9 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand, ValueEnum};
 
+use gapwarden::batch;
 use gapwarden::commands::{self, Format, SpacingQuery};
-use gapwarden::diag::Problems;
+use gapwarden::diag::{Diagnostic, Problems};
 use gapwarden::project::{
     BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
 };
@@ -32,13 +33,17 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
-    /// Evaluate a project file and print the pre-review checklist.
+    /// Evaluate project files and print the pre-review checklist.
     ///
-    /// Exit status: 0 no blocking finding, 1 at least one blocking finding, 2 the input or
-    /// the command line could not be used.
+    /// One file: its checklist is printed (or written with -o). Several files or a folder
+    /// (every *.toml inside, searched recursively, except in folders named rules,
+    /// templates, target or starting with a dot): one report each into --out-dir, and a
+    /// summary table. Exit status, the worst over all designs: 0 no blocking finding, 1 at
+    /// least one blocking finding, 2 an input or the command line could not be used.
     Check {
-        /// The project file (TOML).
-        project: PathBuf,
+        /// Project files (TOML) or folders of them.
+        #[arg(required = true, value_name = "PROJECT")]
+        projects: Vec<PathBuf>,
         /// Output format.
         #[arg(long, value_enum, default_value_t = OutputFormat::Md)]
         format: OutputFormat,
@@ -48,9 +53,16 @@ enum Command {
         /// A folder of house rule tables that add to or override the shipped ones by id.
         #[arg(long, value_name = "DIR")]
         rules: Option<PathBuf>,
-        /// A folder holding a house report.md.j2 that replaces the shipped template.
+        /// A folder of house templates (report.md.j2 and the sections it includes) that
+        /// replace the shipped ones of the same name.
         #[arg(long, value_name = "DIR")]
         templates: Option<PathBuf>,
+        /// With several designs: write one report each into this folder.
+        #[arg(long, value_name = "DIR")]
+        out_dir: Option<PathBuf>,
+        /// Designs checked at once (default: the number of cores).
+        #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
+        jobs: Option<u16>,
     },
     /// Write a commented starting project file. Never overwrites an existing file.
     New {
@@ -198,26 +210,52 @@ fn main() -> ExitCode {
 fn run(cli: Cli) -> Result<u8, Problems> {
     match cli.command {
         Command::Check {
-            project,
+            projects,
             format,
             output,
             rules,
             templates,
+            out_dir,
+            jobs,
         } => {
             let rules = RuleBook::load(rules.as_deref())?;
             let templates = Templates::load(templates.as_deref())?;
-            let report = commands::check_file(&project, &rules)?;
             let format = match format {
                 OutputFormat::Md => Format::Markdown,
                 OutputFormat::Html => Format::Html,
                 OutputFormat::Json => Format::Json,
             };
-            let text = commands::render(&report, format, &templates)?;
-            match output {
-                Some(out) => commands::write_atomically(&out, &text, &[project.as_path()])?,
-                None => print(&text),
+            let single = projects.len() == 1 && !projects[0].is_dir() && out_dir.is_none();
+            if single {
+                let project = &projects[0];
+                let report = commands::check_file(project, &rules)?;
+                let text = commands::render(&report, format, &templates)?;
+                match output {
+                    Some(out) => commands::write_atomically(&out, &text, &[project.as_path()])?,
+                    None => print(&text),
+                }
+                return Ok(if report.has_blocking() { 1 } else { 0 });
             }
-            Ok(if report.has_blocking() { 1 } else { 0 })
+            if output.is_some() {
+                return Err(Diagnostic::new("-o", "with several designs, give --out-dir DIR for one report each").into());
+            }
+            let designs = batch::find_projects(&projects)?;
+            let jobs = jobs.map(usize::from).unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+            let outcomes = batch::check_many(&designs, &rules, &templates, format, jobs, true);
+            for o in &outcomes {
+                if let Err(problems) = &o.result {
+                    eprintln!("{problems}");
+                }
+            }
+            let mut worst = outcomes.iter().map(batch::Outcome::exit_code).max().unwrap_or(0);
+            if let Some(dir) = &out_dir
+                && let Err(problems) = batch::write_reports(&outcomes, dir, format)
+            {
+                eprintln!("{problems}");
+                worst = 2;
+            }
+            print(&batch::summary(&outcomes));
+            Ok(worst)
         }
         Command::New { path, example } => {
             commands::new_project(&path, &example)?;
