@@ -4,6 +4,7 @@
 pub mod batch;
 pub mod checks;
 pub mod commands;
+pub mod compare;
 pub mod diag;
 pub mod emc;
 pub mod isolation;

@@ -64,6 +64,20 @@ enum Command {
         #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
         jobs: Option<u16>,
     },
+    /// Compare two revisions of a design: what changed in the inputs, and in the required
+    /// figures, margins, verdicts and findings (Markdown for a design-review record).
+    ///
+    /// Exit status: 0 the new revision has no blocking finding, 1 it has, 2 an input could
+    /// not be used.
+    Compare {
+        /// The earlier revision's project file.
+        old: PathBuf,
+        /// The later revision's project file.
+        new: PathBuf,
+        /// A folder of house rule tables.
+        #[arg(long, value_name = "DIR")]
+        rules: Option<PathBuf>,
+    },
     /// Write a commented starting project file. Never overwrites an existing file.
     New {
         /// Where to write the new project file.
@@ -237,17 +251,27 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 return Ok(if report.has_blocking() { 1 } else { 0 });
             }
             if output.is_some() {
-                return Err(Diagnostic::new("-o", "with several designs, give --out-dir DIR for one report each").into());
+                return Err(Diagnostic::new(
+                    "-o",
+                    "with several designs, give --out-dir DIR for one report each",
+                )
+                .into());
             }
             let designs = batch::find_projects(&projects)?;
-            let jobs = jobs.map(usize::from).unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+            let jobs = jobs
+                .map(usize::from)
+                .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
             let outcomes = batch::check_many(&designs, &rules, &templates, format, jobs, true);
             for o in &outcomes {
                 if let Err(problems) = &o.result {
                     eprintln!("{problems}");
                 }
             }
-            let mut worst = outcomes.iter().map(batch::Outcome::exit_code).max().unwrap_or(0);
+            let mut worst = outcomes
+                .iter()
+                .map(batch::Outcome::exit_code)
+                .max()
+                .unwrap_or(0);
             if let Some(dir) = &out_dir
                 && let Err(problems) = batch::write_reports(&outcomes, dir, format)
             {
@@ -256,6 +280,38 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             }
             print(&batch::summary(&outcomes));
             Ok(worst)
+        }
+        Command::Compare { old, new, rules } => {
+            let rules = RuleBook::load(rules.as_deref())?;
+            let read = |path: &PathBuf| -> Result<(String, gapwarden::report::Report), Problems> {
+                let name = path.display().to_string();
+                let text = gapwarden::read_text(path).map_err(|m| Diagnostic::new(&name, m))?;
+                let report = gapwarden::report::check_source(
+                    &gapwarden::diag::Source::new(name, text.clone()),
+                    &rules,
+                )?;
+                Ok((text, report))
+            };
+            let (old_result, new_result) = (read(&old), read(&new));
+            let ((old_text, old_report), (new_text, new_report)) = match (old_result, new_result) {
+                (Ok(a), Ok(b)) => (a, b),
+                (a, b) => {
+                    let problems: Vec<Diagnostic> = a
+                        .err()
+                        .into_iter()
+                        .chain(b.err())
+                        .flat_map(|p| p.0)
+                        .collect();
+                    return Err(Problems(problems));
+                }
+            };
+            print(&gapwarden::compare::compare(
+                &old_text,
+                &old_report,
+                &new_text,
+                &new_report,
+            ));
+            Ok(if new_report.has_blocking() { 1 } else { 0 })
         }
         Command::New { path, example } => {
             commands::new_project(&path, &example)?;
