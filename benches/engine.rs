@@ -113,3 +113,85 @@ fn isolation_paths_500_circuits_2000_barriers(bencher: divan::Bencher) {
         read_project(&Source::new("generated.toml", text)).expect("generated design reads");
     bencher.bench_local(|| gapwarden::isolation::analyse(divan::black_box(&project)));
 }
+
+/// The figures of an example without the checklist: shows what the checks cost.
+#[divan::bench]
+fn figures_only_of_class2_example(bencher: divan::Bencher) {
+    let rules = rules();
+    let source = Source::new("class2-adapter.toml", EXAMPLES[0].1);
+    bencher.bench_local(|| gapwarden::report::figures(&source, &rules).expect("example reads"));
+}
+
+/// A small generated design, varied by `seed`: the size of a typical adapter.
+pub fn small_design(seed: usize) -> String {
+    let grades = ["reinforced", "double", "basic", "functional"];
+    let mut text = format!(
+        "[design]\nname = \"generated {seed}\"\nrevision = \"{}\"\nprotection_class = \"II\"\n\n[environment]\npollution_degree = {}\novervoltage_category = \"II\"\naltitude_m = {}\n\n[mains]\nnominal_v = {}\n\n",
+        seed % 7,
+        1 + seed % 3,
+        1000 + (seed % 5) * 500,
+        if seed % 2 == 0 { 230 } else { 120 }
+    );
+    for (id, kind, accessible) in [("input", "mains", false), ("primary", "hazardous", false), ("aux", "safe", false), ("output", "safe", true)] {
+        text.push_str(&format!("[[circuit]]\nid = \"{id}\"\nkind = \"{kind}\"\naccessible = {accessible}\n\n"));
+    }
+    for (i, (id, a, b)) in [("pri-sec", "primary", "output"), ("in-out", "input", "output"), ("pri-aux", "primary", "aux"), ("in-pri", "input", "primary")]
+        .iter()
+        .enumerate()
+    {
+        let grade = if i < 2 { grades[seed % 2] } else { grades[2 + (seed + i) % 2] };
+        text.push_str(&format!(
+            "[[barrier]]\nid = \"{id}\"\nbetween = [\"{a}\", \"{b}\"]\ngrade = \"{grade}\"\nworking_rms_v = {}\nmaterial_group = \"IIIa\"\nprinted_board = true\nclearance_mm = {}\ncreepage_mm = {}\n{}\n",
+            100 + (seed * 37 + i * 11) % 300,
+            2.0 + (seed % 9) as f64,
+            2.5 + (seed % 9) as f64,
+            if i == 0 { "bridged_by = [\"CY1\", \"U1\"]\n" } else { "" }
+        ));
+    }
+    text.push_str("[[part]]\nref = \"CY1\"\nkind = \"y-capacitor\"\nsubclass = \"Y1\"\nrated_ac_v = 300\ncapacitance_nf = 1.0\n\n");
+    text.push_str("[[part]]\nref = \"U1\"\nkind = \"optocoupler\"\nisolation_test_v_rms = 5000\nexternal_clearance_mm = 8\nexternal_creepage_mm = 8\ndistance_through_insulation_mm = 0.4\n");
+    text
+}
+
+/// 1,000 generated designs checked and rendered to Markdown on one thread.
+#[divan::bench(sample_count = 10)]
+fn batch_of_1000_generated_designs(bencher: divan::Bencher) {
+    let rules = rules();
+    let templates = Templates::shipped();
+    let sources: Vec<Source> = (0..1000).map(|i| Source::new(format!("generated-{i}.toml"), small_design(i))).collect();
+    bencher.bench_local(|| {
+        for source in &sources {
+            let report = check_source(source, &rules).expect("generated design checks");
+            divan::black_box(render_markdown(&report, &templates).expect("renders"));
+        }
+    });
+}
+
+/// The checklist alone over an example's figures (the context already serialised).
+#[divan::bench]
+fn checklist_only_of_class2_example(bencher: divan::Bencher) {
+    let rules = rules();
+    let source = Source::new("class2-adapter.toml", EXAMPLES[0].1);
+    let report = gapwarden::report::figures(&source, &rules).expect("example reads");
+    let context = minijinja::Value::from(minijinja::value::Serde(&report));
+    bencher.bench_local(|| gapwarden::checks::run_checks(&rules, &context).expect("checks run"));
+}
+
+/// Serialising an example's figures into the checklist's context.
+#[divan::bench]
+fn context_of_class2_example(bencher: divan::Bencher) {
+    let rules = rules();
+    let source = Source::new("class2-adapter.toml", EXAMPLES[0].1);
+    let report = gapwarden::report::figures(&source, &rules).expect("example reads");
+    bencher.bench_local(|| minijinja::Value::from(minijinja::value::Serde(&report)));
+}
+
+/// Rendering an example's finished report to Markdown.
+#[divan::bench]
+fn markdown_only_of_class2_example(bencher: divan::Bencher) {
+    let rules = rules();
+    let templates = Templates::shipped();
+    let source = Source::new("class2-adapter.toml", EXAMPLES[0].1);
+    let report = check_source(&source, &rules).expect("example checks");
+    bencher.bench_local(|| render_markdown(&report, &templates).expect("renders"));
+}

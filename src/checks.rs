@@ -61,17 +61,60 @@ pub fn expression_environment() -> Environment<'static> {
     env
 }
 
+/// The checklist compiled once per rule book: every expression and message becomes a
+/// template of a shared environment, so a run over many designs parses nothing again.
+#[derive(Debug, Clone)]
+pub struct CompiledChecks {
+    env: Environment<'static>,
+}
+
+impl CompiledChecks {
+    /// Compiles every check; the expressions were validated when the checks were read.
+    pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
+        let mut env = expression_environment();
+        let mut problems = Vec::new();
+        for (i, check) in checks.iter().enumerate() {
+            let mut add = |part: &str, source: String| {
+                if let Err(e) = env.add_template_owned(format!("{i}.{part}"), source) {
+                    problems.push(
+                        Diagnostic {
+                            line: Some(check.line),
+                            ..Diagnostic::new(&check.path, format!("{part} cannot be read: {}", detail(&e)))
+                        }
+                        .with_key(format!("check \"{}\"", check.id)),
+                    );
+                }
+            };
+            if let Some(applies) = &check.applies {
+                add("applies", format!("{{% if {applies} %}}1{{% endif %}}"));
+            }
+            add("condition", format!("{{% if {} %}}1{{% endif %}}", check.condition));
+            if let Some(subject) = &check.subject {
+                add("subject", format!("{{% set s = ({subject}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"));
+            }
+            add("message", check.message.clone());
+        }
+        if problems.is_empty() { Ok(CompiledChecks { env }) } else { Err(problems) }
+    }
+
+    fn render(&self, index: usize, part: &str, ctx: &Value) -> Result<Option<String>, String> {
+        let Ok(template) = self.env.get_template(&format!("{index}.{part}")) else {
+            return Ok(None);
+        };
+        template
+            .render(ctx)
+            .map(Some)
+            .map_err(|e| format!("{part} cannot be evaluated: {}", detail(&e)))
+    }
+}
+
 /// Runs every check over the report context (the serialised report without findings).
-pub fn run_checks(
-    rules: &RuleBook,
-    report: &Value,
-) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
-    let env = expression_environment();
+pub fn run_checks(rules: &RuleBook, report: &Value) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
     let mut findings = Vec::new();
     let mut outcomes = Vec::new();
     let mut problems = Vec::new();
-    for check in &rules.checks {
-        match run_one(&env, check, report, &mut findings) {
+    for (index, check) in rules.checks.iter().enumerate() {
+        match run_one(&rules.compiled_checks, index, check, report, &mut findings) {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
                 id: check.id.clone(),
                 title: check.title.clone(),
@@ -99,7 +142,8 @@ pub fn run_checks(
 }
 
 fn run_one(
-    env: &Environment<'static>,
+    compiled: &CompiledChecks,
+    index: usize,
     check: &CheckDef,
     report: &Value,
     findings: &mut Vec<Finding>,
@@ -118,49 +162,20 @@ fn run_one(
             }
         }
     };
-    // Compiled once per check, evaluated once per item.
-    let applies = check
-        .applies
-        .as_deref()
-        .map(|e| compile(env, e, "applies"))
-        .transpose()?;
-    let condition = compile(env, &check.condition, "condition")?;
-    let subject_expr = check
-        .subject
-        .as_deref()
-        .map(|e| compile(env, e, "subject"))
-        .transpose()?;
-    let message = env
-        .template_from_str(&check.message)
-        .map_err(|e| format!("message cannot be read: {}", detail(&e)))?;
-    let truth = |expr: &minijinja::Expression, ctx: &Value, what: &str| -> Result<bool, String> {
-        expr.eval(ctx)
-            .map(|v| v.is_true())
-            .map_err(|e| format!("{what} cannot be evaluated: {}", detail(&e)))
-    };
     let (mut judged, mut raised) = (0, 0);
     for item in items {
         let ctx = context! { report => report.clone(), item => item.clone() };
-        if let Some(applies) = &applies
-            && !truth(applies, &ctx, "applies")?
-        {
+        if check.applies.is_some() && compiled.render(index, "applies", &ctx)?.as_deref() != Some("1") {
             continue;
         }
         judged += 1;
-        if !truth(&condition, &ctx, "condition")? {
+        if compiled.render(index, "condition", &ctx)?.as_deref() != Some("1") {
             continue;
         }
         raised += 1;
-        let text = message
-            .render(&ctx)
-            .map_err(|e| format!("message cannot be rendered: {}", detail(&e)))?;
-        let subject = match &subject_expr {
-            Some(expr) => {
-                let v = expr
-                    .eval(&ctx)
-                    .map_err(|e| format!("subject cannot be evaluated: {}", detail(&e)))?;
-                (!v.is_none() && !v.is_undefined()).then(|| v.to_string())
-            }
+        let text = compiled.render(index, "message", &ctx)?.unwrap_or_default();
+        let subject = match &check.subject {
+            Some(_) => compiled.render(index, "subject", &ctx)?.filter(|s| !s.is_empty()),
             None => default_subject(check.over, &item),
         };
         findings.push(Finding {
@@ -220,15 +235,6 @@ pub fn unknown_fields(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic
         }
     }
     Ok(())
-}
-
-fn compile<'e, 's>(
-    env: &'e Environment<'static>,
-    expr: &'s str,
-    what: &str,
-) -> Result<minijinja::Expression<'e, 's>, String> {
-    env.compile_expression(expr)
-        .map_err(|e| format!("{what} cannot be read: {e}"))
 }
 
 /// The id a finding is about, by what the check runs over.

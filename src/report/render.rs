@@ -34,12 +34,13 @@ const TEMPLATE_RECURSION: usize = 50;
 pub struct Templates {
     /// (name, source, where it came from for messages)
     files: Vec<(String, String, String)>,
+    /// The environment with every template parsed, built once.
+    env: Result<Environment<'static>, Problems>,
 }
 
 impl Templates {
     pub fn shipped() -> Self {
-        Templates {
-            files: SHIPPED_TEMPLATES
+        let files: Vec<(String, String, String)> = SHIPPED_TEMPLATES
                 .iter()
                 .map(|(name, text)| {
                     (
@@ -48,8 +49,17 @@ impl Templates {
                         format!("templates/{name}"),
                     )
                 })
-                .collect(),
-        }
+                .collect();
+        Self::from_files(files)
+    }
+
+    fn from_files(files: Vec<(String, String, String)>) -> Self {
+        let mut templates = Templates {
+            files,
+            env: Err(Problems(Vec::new())),
+        };
+        templates.env = environment(&templates);
+        templates
     }
 
     /// The shipped templates, with any of the same name in `dir` taking their place.
@@ -65,13 +75,18 @@ impl Templates {
             )
             .into());
         }
-        for (name, text, origin) in &mut templates.files {
+        let mut files = std::mem::take(&mut templates.files);
+        for (name, text, origin) in &mut files {
             let path = dir.join(&*name);
             if path.is_file() {
                 let shown = path.display().to_string();
                 *text = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
                 *origin = shown;
             }
+        }
+        let templates = Self::from_files(files);
+        if let Err(problems) = &templates.env {
+            return Err(problems.clone());
         }
         Ok(templates)
     }
@@ -148,7 +163,7 @@ fn template_problem(origin: &str, e: &Error) -> Problems {
 
 /// The report as a Markdown checklist.
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
-    let env = environment(templates)?;
+    let env = templates.env.as_ref().map_err(Clone::clone)?;
     let origin = |e: &Error| {
         let name = e.name().unwrap_or(TEMPLATE_NAME);
         templates

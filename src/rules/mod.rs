@@ -75,6 +75,8 @@ pub struct RuleBook {
     /// Tables owned by the EMC evaluation.
     pub emc: crate::emc::EmcRules,
     pub checks: Vec<CheckDef>,
+    /// The checks, compiled once.
+    pub compiled_checks: crate::checks::CompiledChecks,
 }
 
 /// A rule file on its way in: its text, where it came from, and whether it holds checks.
@@ -214,6 +216,13 @@ impl RuleBook {
             .map(|l| (&l.source, l.file.as_str(), l.origin))
             .collect();
         let checks = check_defs::load_checks(&check_sources, &mut problems);
+        let compiled_checks = match crate::checks::CompiledChecks::new(&checks) {
+            Ok(c) => Some(c),
+            Err(p) => {
+                problems.extend(p);
+                None
+            }
+        };
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
@@ -233,6 +242,7 @@ impl RuleBook {
             Some(minimums),
             Some(power_entry),
             Some(emc),
+            Some(compiled_checks),
         ) = (
             impulse,
             clearance,
@@ -249,6 +259,7 @@ impl RuleBook {
             minimums,
             power_entry,
             emc,
+            compiled_checks,
         )
         else {
             return Err(Problems(vec![Diagnostic::new(
@@ -274,6 +285,7 @@ impl RuleBook {
             power_entry,
             emc,
             checks,
+            compiled_checks,
         };
         book.try_house_checks()?;
         Ok(book)
