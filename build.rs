@@ -1,13 +1,16 @@
 //! Embeds every shipped rule file (`rules/**/*.toml`) and template (`templates/*.j2`) in
-//! the binary, so a new file needs no list kept by hand.
+//! the binary, so a new file needs no list kept by hand. Each rule file is also converted
+//! to JSON, hashed (SHA-256 of its text) and, for check files, the line of each `[[check]]`
+//! noted: a run then reads the shipped rules without parsing TOML or hashing again. A file
+//! that is not valid TOML fails the build.
 
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
+use sha2::{Digest, Sha256};
+
 fn files(dir: &Path, extension: &str, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        return;
-    };
+    let Ok(entries) = std::fs::read_dir(dir) else { return };
     let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
     paths.sort();
     for path in paths {
@@ -19,41 +22,64 @@ fn files(dir: &Path, extension: &str, out: &mut Vec<PathBuf>) {
     }
 }
 
-fn list(name: &str, root: &Path, extension: &str) -> String {
+fn inside(root: &Path, path: &Path) -> String {
+    path.strip_prefix(root).unwrap_or(path).to_string_lossy().replace('\\', "/")
+}
+
+fn absolute(path: &Path) -> String {
+    std::fs::canonicalize(path).unwrap_or(path.to_path_buf()).to_string_lossy().to_string()
+}
+
+fn rules(root: &Path) -> String {
     let mut found = Vec::new();
-    files(root, extension, &mut found);
-    let mut code = format!("pub const {name}: &[(&str, &str)] = &[\n");
+    files(root, "toml", &mut found);
+    let mut code = String::from(
+        "/// (path inside rules/, TOML text, the same as JSON, SHA-256 of the text, lines of each [[check]])\n\
+         pub const SHIPPED_RULES: &[(&str, &str, &str, &str, &[usize])] = &[\n",
+    );
     for path in found {
-        let inside = path
-            .strip_prefix(root)
-            .unwrap_or(&path)
-            .to_string_lossy()
-            .replace('\\', "/");
-        let absolute = std::fs::canonicalize(&path).unwrap_or(path.clone());
+        let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let value: toml::Value = toml::from_str(&text).unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
+        let json = serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let hash: String = Sha256::digest(text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
+        let lines: Vec<String> = text
+            .lines()
+            .enumerate()
+            .filter(|(_, l)| l.trim_start().starts_with("[[check]]"))
+            .map(|(i, _)| (i + 1).to_string())
+            .collect();
         let _ = writeln!(
             code,
-            "    ({inside:?}, include_str!({:?})),",
-            absolute.to_string_lossy()
+            "    ({:?}, include_str!({:?}), {:?}, {:?}, &[{}]),",
+            inside(root, &path),
+            absolute(&path),
+            json,
+            hash,
+            lines.join(", ")
         );
     }
     code.push_str("];\n");
     code
 }
 
+fn templates(root: &Path) -> String {
+    let mut found = Vec::new();
+    files(root, "j2", &mut found);
+    let mut code = String::from("pub const SHIPPED_TEMPLATES: &[(&str, &str)] = &[\n");
+    for path in found {
+        let _ = writeln!(code, "    ({:?}, include_str!({:?})),", inside(root, &path), absolute(&path));
+    }
+    code.push_str("];\n");
+    code
+}
+
 fn main() {
-    let manifest =
-        PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
+    let manifest = PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
     let out = PathBuf::from(std::env::var("OUT_DIR").unwrap_or_else(|_| ".".into()));
-    for (file, name, folder, extension) in [
-        ("shipped_rules.rs", "SHIPPED_RULES", "rules", "toml"),
-        (
-            "shipped_templates.rs",
-            "SHIPPED_TEMPLATES",
-            "templates",
-            "j2",
-        ),
+    for (file, code) in [
+        ("shipped_rules.rs", rules(&manifest.join("rules"))),
+        ("shipped_templates.rs", templates(&manifest.join("templates"))),
     ] {
-        let code = list(name, &manifest.join(folder), extension);
         if let Err(e) = std::fs::write(out.join(file), code) {
             panic!("cannot write the embedded file list {file}: {e}");
         }

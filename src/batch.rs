@@ -34,14 +34,27 @@ pub fn find_projects(paths: &[PathBuf]) -> Result<Vec<Found>, Problems> {
             let before = found.len();
             search(path, path, &mut found, 0);
             if found.len() == before {
-                problems.push(Diagnostic::new(&path.display().to_string(), "holds no project file (*.toml)"));
+                problems.push(Diagnostic::new(
+                    &path.display().to_string(),
+                    "is a folder holding no project file (*.toml)",
+                ));
             }
         } else {
-            let relative = path.file_name().map(PathBuf::from).unwrap_or_else(|| path.clone());
-            found.push(Found { path: path.clone(), relative });
+            let relative = path
+                .file_name()
+                .map(PathBuf::from)
+                .unwrap_or_else(|| path.clone());
+            found.push(Found {
+                path: path.clone(),
+                relative,
+            });
         }
     }
-    if problems.is_empty() { Ok(found) } else { Err(Problems(problems)) }
+    if problems.is_empty() {
+        Ok(found)
+    } else {
+        Err(Problems(problems))
+    }
 }
 
 /// Folders deeper than this are not searched (a guard against link loops).
@@ -51,17 +64,25 @@ fn search(root: &Path, dir: &Path, found: &mut Vec<Found>, depth: usize) {
     if depth > MAX_DEPTH {
         return;
     }
-    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
     let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
     paths.sort();
     for path in paths {
-        let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+        let name = path
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_default();
         if path.is_dir() {
             if !name.starts_with('.') && !SKIPPED_FOLDERS.contains(&name.as_str()) {
                 search(root, &path, found, depth + 1);
             }
         } else if name.ends_with(".toml") && !name.starts_with('.') {
-            let relative = path.strip_prefix(root).map(Path::to_path_buf).unwrap_or_else(|_| PathBuf::from(&name));
+            let relative = path
+                .strip_prefix(root)
+                .map(Path::to_path_buf)
+                .unwrap_or_else(|_| PathBuf::from(&name));
             found.push(Found { path, relative });
         }
     }
@@ -87,19 +108,28 @@ impl Outcome {
 
 /// Checks and renders every design on `jobs` threads. The outcomes come back in the
 /// order of `designs`, whatever the number of threads.
-pub fn check_many(designs: &[Found], rules: &RuleBook, templates: &Templates, format: Format, jobs: usize, progress: bool) -> Vec<Outcome> {
+pub fn check_many(
+    designs: &[Found],
+    rules: &RuleBook,
+    templates: &Templates,
+    format: Format,
+    jobs: usize,
+    progress: bool,
+) -> Vec<Outcome> {
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
     let slots: Vec<Mutex<Option<Outcome>>> = designs.iter().map(|_| Mutex::new(None)).collect();
-    let show_progress = progress && designs.len() >= PROGRESS_FROM && std::io::stderr().is_terminal();
+    let show_progress =
+        progress && designs.len() >= PROGRESS_FROM && std::io::stderr().is_terminal();
     std::thread::scope(|scope| {
         for _ in 0..jobs.clamp(1, designs.len().max(1)) {
             scope.spawn(|| {
                 loop {
                     let i = next.fetch_add(1, Ordering::Relaxed);
                     let Some(found) = designs.get(i) else { break };
-                    let result = check_file(&found.path, rules)
-                        .and_then(|report| render(&report, format, templates).map(|text| (report, text)));
+                    let result = check_file(&found.path, rules).and_then(|report| {
+                        render(&report, format, templates).map(|text| (report, text))
+                    });
                     if let Ok(mut slot) = slots[i].lock() {
                         *slot = Some(Outcome {
                             found: found.clone(),
@@ -125,7 +155,11 @@ pub fn check_many(designs: &[Found], rules: &RuleBook, templates: &Templates, fo
         .map(|(slot, found)| {
             slot.into_inner().ok().flatten().unwrap_or_else(|| Outcome {
                 found: found.clone(),
-                result: Err(Diagnostic::new(&found.path.display().to_string(), "was not checked (a worker stopped)").into()),
+                result: Err(Diagnostic::new(
+                    &found.path.display().to_string(),
+                    "was not checked (a worker stopped)",
+                )
+                .into()),
             })
         })
         .collect()
@@ -135,7 +169,11 @@ pub fn check_many(designs: &[Found], rules: &RuleBook, templates: &Templates, fo
 const PROGRESS_FROM: usize = 20;
 
 /// Writes each rendered report into `out_dir`, mirroring the designs' relative paths.
-pub fn write_reports(outcomes: &[Outcome], out_dir: &Path, format: Format) -> Result<Vec<PathBuf>, Problems> {
+pub fn write_reports(
+    outcomes: &[Outcome],
+    out_dir: &Path,
+    format: Format,
+) -> Result<Vec<PathBuf>, Problems> {
     let extension = match format {
         Format::Markdown => "md",
         Format::Html => "html",
@@ -145,12 +183,17 @@ pub fn write_reports(outcomes: &[Outcome], out_dir: &Path, format: Format) -> Re
     let mut written = Vec::new();
     let mut problems = Vec::new();
     for outcome in outcomes {
-        let Ok((_, text)) = &outcome.result else { continue };
+        let Ok((_, text)) = &outcome.result else {
+            continue;
+        };
         let target = out_dir.join(outcome.found.relative.with_extension(extension));
         if let Some(parent) = target.parent()
             && let Err(e) = std::fs::create_dir_all(parent)
         {
-            problems.push(Diagnostic::new(&parent.display().to_string(), format!("cannot create the folder: {e}")));
+            problems.push(Diagnostic::new(
+                &parent.display().to_string(),
+                format!("cannot create the folder: {e}"),
+            ));
             continue;
         }
         match write_atomically(&target, text, &inputs) {
@@ -158,12 +201,18 @@ pub fn write_reports(outcomes: &[Outcome], out_dir: &Path, format: Format) -> Re
             Err(p) => problems.extend(p.0),
         }
     }
-    if problems.is_empty() { Ok(written) } else { Err(Problems(problems)) }
+    if problems.is_empty() {
+        Ok(written)
+    } else {
+        Err(Problems(problems))
+    }
 }
 
 /// The summary table: one row a design, Markdown.
 pub fn summary(outcomes: &[Outcome]) -> String {
-    let mut out = String::from("| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n");
+    let mut out = String::from(
+        "| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n",
+    );
     let cell = |s: &str| crate::report::md_escape(s);
     for o in outcomes {
         let file = cell(&o.found.relative.display().to_string());
@@ -176,7 +225,11 @@ pub fn summary(outcomes: &[Outcome]) -> String {
                 r.summary.fail,
                 r.summary.incomplete,
                 r.summary.blocking,
-                if r.has_blocking() { "blocking" } else { "clean" }
+                if r.has_blocking() {
+                    "blocking"
+                } else {
+                    "clean"
+                }
             )),
             Err(p) => out.push_str(&format!(
                 "| not read | | {file} | | | | | unusable input ({} problem{}) |\n",

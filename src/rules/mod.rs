@@ -40,7 +40,19 @@ pub struct RuleInfo {
     pub text: String,
 }
 
-/// The fields every rule file carries, read leniently to learn its id.
+/// The fields every rule file carries, read leniently to learn its id (shipped files, from
+/// the JSON build.rs made of them).
+#[derive(Deserialize)]
+struct ShippedHeader {
+    id: String,
+    title: String,
+    source: String,
+    provenance: String,
+    #[serde(default)]
+    check: Option<serde::de::IgnoredAny>,
+}
+
+/// The same for a house file, with positions for messages.
 #[derive(Deserialize)]
 struct Header {
     id: toml::Spanned<String>,
@@ -50,7 +62,7 @@ struct Header {
     #[serde(default)]
     overrides: Option<toml::Spanned<bool>>,
     #[serde(default)]
-    check: Option<toml::Value>,
+    check: Option<serde::de::IgnoredAny>,
 }
 
 /// All loaded tables, typed, and the checklist.
@@ -82,6 +94,8 @@ pub struct RuleBook {
 /// A rule file on its way in: its text, where it came from, and whether it holds checks.
 struct Loaded {
     source: Source,
+    /// Shipped files: their JSON form, SHA-256 and check lines, prepared by build.rs.
+    shipped: Option<ShippedFile>,
     /// The file's path inside its rules folder (`checks/barrier.toml`): no machine path.
     file: String,
     origin: &'static str,
@@ -99,27 +113,37 @@ impl RuleBook {
         let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
         let mut order: Vec<String> = Vec::new();
         let mut problems = Vec::new();
-        let shipped = SHIPPED_RULES.iter().map(|(name, text)| {
-            (
-                "shipped",
-                name.to_string(),
-                Source::new(format!("rules/{name}"), *text),
-            )
-        });
+        // Shipped files: ids and flags from their JSON form; they never clash (tested).
+        for (name, text, json, sha256, check_lines) in SHIPPED_RULES {
+            let header: ShippedHeader = match serde_json::from_str(json) {
+                Ok(h) => h,
+                Err(e) => {
+                    problems.push(Diagnostic::new(&format!("rules/{name}"), e.to_string()));
+                    continue;
+                }
+            };
+            let _ = (&header.title, &header.source, &header.provenance);
+            order.push(header.id.clone());
+            files.insert(
+                header.id,
+                Loaded {
+                    source: Source::new(format!("rules/{name}"), *text),
+                    shipped: Some(ShippedFile { json, sha256, check_lines }),
+                    file: name.to_string(),
+                    origin: "shipped",
+                    is_checks: header.check.is_some(),
+                },
+            );
+        }
         let house_files = match house {
             Some(dir) => read_folder(dir)?,
             None => Vec::new(),
         };
-        let house_files = house_files.into_iter().map(|(file, s)| ("house", file, s));
-        for (origin, file, source) in shipped.chain(house_files) {
+        for (file, source) in house_files {
             let header = match toml::from_str::<Header>(&source.text) {
                 Ok(h) => h,
                 Err(e) => {
-                    problems.push(toml_problem(
-                        &source,
-                        &e,
-                        "a rule file needs id, title, source and provenance",
-                    ));
+                    problems.push(toml_problem(&source, &e, "a rule file needs id, title, source and provenance"));
                     continue;
                 }
             };
@@ -127,10 +151,7 @@ impl RuleBook {
             let overrides = header.overrides.as_ref().is_some_and(|o| *o.get_ref());
             let exists = files.contains_key(&id);
             if exists && !overrides {
-                let first = files
-                    .get(&id)
-                    .map(|l| l.source.name.clone())
-                    .unwrap_or_default();
+                let first = files.get(&id).map(|l| l.source.name.clone()).unwrap_or_default();
                 problems.push(
                     source
                         .diag(&header.id.span(), format!("id \"{id}\" is already used by {first}"))
@@ -140,17 +161,10 @@ impl RuleBook {
                 continue;
             }
             if !exists && overrides {
-                let span = header
-                    .overrides
-                    .as_ref()
-                    .map(|o| o.span())
-                    .unwrap_or_else(|| header.id.span());
+                let span = header.overrides.as_ref().map(|o| o.span()).unwrap_or_else(|| header.id.span());
                 problems.push(
                     source
-                        .diag(
-                            &span,
-                            format!("overrides = true, but no loaded rule file has id \"{id}\""),
-                        )
+                        .diag(&span, format!("overrides = true, but no loaded rule file has id \"{id}\""))
                         .with_key("overrides"),
                 );
                 continue;
@@ -163,8 +177,9 @@ impl RuleBook {
                 id,
                 Loaded {
                     source,
+                    shipped: None,
                     file,
-                    origin,
+                    origin: "house",
                     is_checks,
                 },
             );
@@ -175,15 +190,22 @@ impl RuleBook {
         let mut info = Vec::new();
         for id in &order {
             let Some(l) = files.get(id) else { continue };
-            let Ok(h) = toml::from_str::<Header>(&l.source.text) else {
-                continue;
+            let (title, source, provenance, sha256) = match &l.shipped {
+                Some(shipped) => match serde_json::from_str::<ShippedHeader>(shipped.json) {
+                    Ok(h) => (h.title, h.source, h.provenance, shipped.sha256.to_string()),
+                    Err(_) => continue,
+                },
+                None => match toml::from_str::<Header>(&l.source.text) {
+                    Ok(h) => (h.title, h.source, h.provenance, crate::sha256_hex(l.source.text.as_bytes())),
+                    Err(_) => continue,
+                },
             };
             info.push(RuleInfo {
                 id: id.clone(),
-                title: h.title,
-                source: h.source,
-                provenance: h.provenance,
-                sha256: crate::sha256_hex(l.source.text.as_bytes()),
+                title,
+                source,
+                provenance,
+                sha256,
                 origin: l.origin.to_string(),
                 file: l.file.clone(),
                 text: l.source.text.clone(),
@@ -209,11 +231,16 @@ impl RuleBook {
         let power_entry = crate::power_entry::PowerEntryRules::load(&mut typed);
         let emc = crate::emc::EmcRules::load(&mut typed);
         let mut problems = typed.problems;
-        let check_sources: Vec<(&Source, &str, &str)> = order
+        let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
             .filter_map(|id| files.get(id))
             .filter(|l| l.is_checks)
-            .map(|l| (&l.source, l.file.as_str(), l.origin))
+            .map(|l| check_defs::CheckSource {
+                source: &l.source,
+                file: l.file.as_str(),
+                origin: l.origin,
+                shipped: l.shipped.map(|s| (s.json, s.check_lines)),
+            })
             .collect();
         let checks = check_defs::load_checks(&check_sources, &mut problems);
         let compiled_checks = match crate::checks::CompiledChecks::new(&checks) {
@@ -332,6 +359,13 @@ impl RuleBook {
     }
 }
 
+#[derive(Clone, Copy)]
+struct ShippedFile {
+    json: &'static str,
+    sha256: &'static str,
+    check_lines: &'static [usize],
+}
+
 /// Typed access to the loaded rule files, collecting every problem; domain modules load
 /// their own tables through it (`PowerEntryRules::load`, `EmcRules::load`).
 pub struct Typed<'a> {
@@ -350,7 +384,11 @@ impl Typed<'_> {
             return None;
         };
         let source = &loaded.source;
-        match toml::from_str::<T>(&source.text) {
+        let parsed = match &loaded.shipped {
+            Some(shipped) => serde_json::from_str::<T>(shipped.json).map_err(|e| Diagnostic::new(&source.name, e.to_string())),
+            None => toml::from_str::<T>(&source.text).map_err(|e| toml_problem(source, &e, "")),
+        };
+        match parsed {
             Ok(table) => match table.check() {
                 Ok(()) => Some(table),
                 Err(message) => {
@@ -358,8 +396,8 @@ impl Typed<'_> {
                     None
                 }
             },
-            Err(e) => {
-                self.problems.push(toml_problem(source, &e, ""));
+            Err(d) => {
+                self.problems.push(d);
                 None
             }
         }
