@@ -33,10 +33,7 @@ fn absolute(path: &Path) -> String {
 fn rules(root: &Path) -> String {
     let mut found = Vec::new();
     files(root, "toml", &mut found);
-    let mut code = String::from(
-        "/// (path inside rules/, TOML text, the same as JSON, SHA-256 of the text, lines of each [[check]])\n\
-         pub const SHIPPED_RULES: &[(&str, &str, &str, &str, &[usize])] = &[\n",
-    );
+    let mut code = String::from("pub const SHIPPED_RULES: &[ShippedRule] = &[\n");
     for path in found {
         let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
         let value: toml::Value = toml::from_str(&text).unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
@@ -48,14 +45,20 @@ fn rules(root: &Path) -> String {
             .filter(|(_, l)| l.trim_start().starts_with("[[check]]"))
             .map(|(i, _)| (i + 1).to_string())
             .collect();
+        let field = |key: &str| value.get(key).and_then(toml::Value::as_str).unwrap_or_default().to_string();
         let _ = writeln!(
             code,
-            "    ({:?}, include_str!({:?}), {:?}, {:?}, &[{}]),",
+            "    ShippedRule {{ name: {:?}, text: include_str!({:?}), json: {:?}, sha256: {:?}, check_lines: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
             inside(root, &path),
             absolute(&path),
             json,
             hash,
-            lines.join(", ")
+            lines.join(", "),
+            field("id"),
+            field("title"),
+            field("source"),
+            field("provenance"),
+            value.get("check").is_some()
         );
     }
     code.push_str("];\n");

@@ -69,37 +69,43 @@ pub struct CompiledChecks {
 }
 
 impl CompiledChecks {
-    /// Compiles every check; the expressions were validated when the checks were read.
+    /// Prepares every check as templates of one environment, compiled on first use (a
+    /// message only when a finding is raised); the expressions of house checks were
+    /// validated when they were read, the shipped ones are tested with the project.
     pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
         let mut env = expression_environment();
-        let mut problems = Vec::new();
-        for (i, check) in checks.iter().enumerate() {
-            let mut add = |part: &str, source: String| {
-                if let Err(e) = env.add_template_owned(format!("{i}.{part}"), source) {
-                    problems.push(
-                        Diagnostic {
-                            line: Some(check.line),
-                            ..Diagnostic::new(&check.path, format!("{part} cannot be read: {}", detail(&e)))
-                        }
-                        .with_key(format!("check \"{}\"", check.id)),
-                    );
-                }
+        let parts: Vec<[Option<String>; 4]> = checks
+            .iter()
+            .map(|c| {
+                [
+                    c.applies.as_ref().map(|a| format!("{{% if {a} %}}1{{% endif %}}")),
+                    Some(format!("{{% if {} %}}1{{% endif %}}", c.condition)),
+                    c.subject
+                        .as_ref()
+                        .map(|s| format!("{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}")),
+                    Some(c.message.clone()),
+                ]
+            })
+            .collect();
+        env.set_loader(move |name: &str| {
+            let Some((index, part)) = name.split_once('.') else { return Ok(None) };
+            let slot = match part {
+                "applies" => 0,
+                "condition" => 1,
+                "subject" => 2,
+                "message" => 3,
+                _ => return Ok(None),
             };
-            if let Some(applies) = &check.applies {
-                add("applies", format!("{{% if {applies} %}}1{{% endif %}}"));
-            }
-            add("condition", format!("{{% if {} %}}1{{% endif %}}", check.condition));
-            if let Some(subject) = &check.subject {
-                add("subject", format!("{{% set s = ({subject}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"));
-            }
-            add("message", check.message.clone());
-        }
-        if problems.is_empty() { Ok(CompiledChecks { env }) } else { Err(problems) }
+            Ok(index.parse::<usize>().ok().and_then(|i| parts.get(i)).and_then(|p| p[slot].clone()))
+        });
+        Ok(CompiledChecks { env })
     }
 
     fn render(&self, index: usize, part: &str, ctx: &Value) -> Result<Option<String>, String> {
-        let Ok(template) = self.env.get_template(&format!("{index}.{part}")) else {
-            return Ok(None);
+        let template = match self.env.get_template(&format!("{index}.{part}")) {
+            Ok(t) => t,
+            Err(e) if e.kind() == minijinja::ErrorKind::TemplateNotFound => return Ok(None),
+            Err(e) => return Err(format!("{part} cannot be read: {}", detail(&e))),
         };
         template
             .render(ctx)

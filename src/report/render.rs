@@ -95,6 +95,10 @@ impl Templates {
 /// Escapes text for Markdown so that it renders as itself: no emphasis, link, table cell
 /// break or HTML can come from it. Line breaks become spaces.
 pub fn md_escape(text: &str) -> String {
+    let special = |c: char| matches!(c, '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#') || c.is_control();
+    if !text.chars().any(special) {
+        return text.to_string();
+    }
     let mut out = String::with_capacity(text.len() + 8);
     for c in text.chars() {
         match c {

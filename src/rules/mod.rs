@@ -20,6 +20,24 @@ pub use tables::*;
 pub use shipped::SHIPPED_RULES;
 
 mod shipped {
+    /// One shipped rule file as build.rs prepared it.
+    pub struct ShippedRule {
+        /// Path inside `rules/`.
+        pub name: &'static str,
+        pub text: &'static str,
+        /// The same content as JSON, read much faster than TOML.
+        pub json: &'static str,
+        /// SHA-256 of `text`.
+        pub sha256: &'static str,
+        /// The line of each `[[check]]` header, in order.
+        pub check_lines: &'static [usize],
+        pub id: &'static str,
+        pub title: &'static str,
+        pub source: &'static str,
+        pub provenance: &'static str,
+        pub is_checks: bool,
+    }
+
     include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
 }
 
@@ -40,19 +58,8 @@ pub struct RuleInfo {
     pub text: String,
 }
 
-/// The fields every rule file carries, read leniently to learn its id (shipped files, from
-/// the JSON build.rs made of them).
-#[derive(Deserialize)]
-struct ShippedHeader {
-    id: String,
-    title: String,
-    source: String,
-    provenance: String,
-    #[serde(default)]
-    check: Option<serde::de::IgnoredAny>,
-}
-
-/// The same for a house file, with positions for messages.
+/// The fields every house rule file carries, read leniently to learn its id, with
+/// positions for messages.
 #[derive(Deserialize)]
 struct Header {
     id: toml::Spanned<String>,
@@ -94,8 +101,8 @@ pub struct RuleBook {
 /// A rule file on its way in: its text, where it came from, and whether it holds checks.
 struct Loaded {
     source: Source,
-    /// Shipped files: their JSON form, SHA-256 and check lines, prepared by build.rs.
-    shipped: Option<ShippedFile>,
+    /// Shipped files: their JSON form, SHA-256, header and check lines, from build.rs.
+    shipped: Option<&'static shipped::ShippedRule>,
     /// The file's path inside its rules folder (`checks/barrier.toml`): no machine path.
     file: String,
     origin: &'static str,
@@ -113,25 +120,17 @@ impl RuleBook {
         let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
         let mut order: Vec<String> = Vec::new();
         let mut problems = Vec::new();
-        // Shipped files: ids and flags from their JSON form; they never clash (tested).
-        for (name, text, json, sha256, check_lines) in SHIPPED_RULES {
-            let header: ShippedHeader = match serde_json::from_str(json) {
-                Ok(h) => h,
-                Err(e) => {
-                    problems.push(Diagnostic::new(&format!("rules/{name}"), e.to_string()));
-                    continue;
-                }
-            };
-            let _ = (&header.title, &header.source, &header.provenance);
-            order.push(header.id.clone());
+        // Shipped files: ids and headers as build.rs read them; they never clash (tested).
+        for rule in SHIPPED_RULES {
+            order.push(rule.id.to_string());
             files.insert(
-                header.id,
+                rule.id.to_string(),
                 Loaded {
-                    source: Source::new(format!("rules/{name}"), *text),
-                    shipped: Some(ShippedFile { json, sha256, check_lines }),
-                    file: name.to_string(),
+                    source: Source::new(format!("rules/{}", rule.name), rule.text),
+                    shipped: Some(rule),
+                    file: rule.name.to_string(),
                     origin: "shipped",
-                    is_checks: header.check.is_some(),
+                    is_checks: rule.is_checks,
                 },
             );
         }
@@ -190,11 +189,13 @@ impl RuleBook {
         let mut info = Vec::new();
         for id in &order {
             let Some(l) = files.get(id) else { continue };
-            let (title, source, provenance, sha256) = match &l.shipped {
-                Some(shipped) => match serde_json::from_str::<ShippedHeader>(shipped.json) {
-                    Ok(h) => (h.title, h.source, h.provenance, shipped.sha256.to_string()),
-                    Err(_) => continue,
-                },
+            let (title, source, provenance, sha256) = match l.shipped {
+                Some(rule) => (
+                    rule.title.to_string(),
+                    rule.source.to_string(),
+                    rule.provenance.to_string(),
+                    rule.sha256.to_string(),
+                ),
                 None => match toml::from_str::<Header>(&l.source.text) {
                     Ok(h) => (h.title, h.source, h.provenance, crate::sha256_hex(l.source.text.as_bytes())),
                     Err(_) => continue,
@@ -357,13 +358,6 @@ impl RuleBook {
     pub fn info(&self, id: &str) -> Option<&RuleInfo> {
         self.info.iter().find(|i| i.id == id)
     }
-}
-
-#[derive(Clone, Copy)]
-struct ShippedFile {
-    json: &'static str,
-    sha256: &'static str,
-    check_lines: &'static [usize],
 }
 
 /// Typed access to the loaded rule files, collecting every problem; domain modules load

@@ -139,13 +139,15 @@ pub fn round_up(x: f64, step: f64) -> f64 {
 
 /// A number as a designer writes it: no trailing zeros.
 pub fn show(x: f64) -> String {
-    let s = format!("{:.4}", tidy(x));
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    if s == "-0" {
-        "0".to_string()
-    } else {
-        s.to_string()
+    // Rounded to 4 decimals, then printed in the shortest form that reads back the same.
+    let rounded = (x * 1e4).round() / 1e4;
+    if rounded == 0.0 || !rounded.is_finite() {
+        return if rounded.is_finite() { "0".to_string() } else { format!("{x}") };
     }
+    if rounded.abs() >= 1e15 {
+        return format!("{rounded:.0}");
+    }
+    format!("{rounded}")
 }
 
 /// Required clearance and creepage of one barrier, judged against its declared distances.
