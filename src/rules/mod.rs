@@ -142,7 +142,11 @@ impl RuleBook {
             let header = match toml::from_str::<Header>(&source.text) {
                 Ok(h) => h,
                 Err(e) => {
-                    problems.push(toml_problem(&source, &e, "a rule file needs id, title, source and provenance"));
+                    problems.push(toml_problem(
+                        &source,
+                        &e,
+                        "a rule file needs id, title, source and provenance",
+                    ));
                     continue;
                 }
             };
@@ -150,7 +154,10 @@ impl RuleBook {
             let overrides = header.overrides.as_ref().is_some_and(|o| *o.get_ref());
             let exists = files.contains_key(&id);
             if exists && !overrides {
-                let first = files.get(&id).map(|l| l.source.name.clone()).unwrap_or_default();
+                let first = files
+                    .get(&id)
+                    .map(|l| l.source.name.clone())
+                    .unwrap_or_default();
                 problems.push(
                     source
                         .diag(&header.id.span(), format!("id \"{id}\" is already used by {first}"))
@@ -160,10 +167,17 @@ impl RuleBook {
                 continue;
             }
             if !exists && overrides {
-                let span = header.overrides.as_ref().map(|o| o.span()).unwrap_or_else(|| header.id.span());
+                let span = header
+                    .overrides
+                    .as_ref()
+                    .map(|o| o.span())
+                    .unwrap_or_else(|| header.id.span());
                 problems.push(
                     source
-                        .diag(&span, format!("overrides = true, but no loaded rule file has id \"{id}\""))
+                        .diag(
+                            &span,
+                            format!("overrides = true, but no loaded rule file has id \"{id}\""),
+                        )
                         .with_key("overrides"),
                 );
                 continue;
@@ -197,7 +211,12 @@ impl RuleBook {
                     rule.sha256.to_string(),
                 ),
                 None => match toml::from_str::<Header>(&l.source.text) {
-                    Ok(h) => (h.title, h.source, h.provenance, crate::sha256_hex(l.source.text.as_bytes())),
+                    Ok(h) => (
+                        h.title,
+                        h.source,
+                        h.provenance,
+                        crate::sha256_hex(l.source.text.as_bytes()),
+                    ),
                     Err(_) => continue,
                 },
             };
@@ -254,66 +273,34 @@ impl RuleBook {
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
-        let (
-            Some(impulse),
-            Some(clearance),
-            Some(creepage),
-            Some(reinforced),
-            Some(altitude),
-            Some(grooves),
-            Some(material_groups),
-            Some(board),
-            Some(capacitors),
-            Some(test_voltages),
-            Some(thermal),
-            Some(solid),
-            Some(minimums),
-            Some(power_entry),
-            Some(emc),
-            Some(compiled_checks),
-        ) = (
-            impulse,
-            clearance,
-            creepage,
-            reinforced,
-            altitude,
-            grooves,
-            material_groups,
-            board,
-            capacitors,
-            test_voltages,
-            thermal,
-            solid,
-            minimums,
-            power_entry,
-            emc,
-            compiled_checks,
-        )
-        else {
-            return Err(Problems(vec![Diagnostic::new(
-                "rules",
-                "a rule table could not be loaded",
-            )]));
-        };
+        // Every table that failed has left a problem above; the rest are all present.
+        fn need<T>(table: Option<T>) -> Result<T, Problems> {
+            table.ok_or_else(|| {
+                Problems(vec![Diagnostic::new(
+                    "rules",
+                    "a rule table could not be loaded",
+                )])
+            })
+        }
         let book = RuleBook {
             info,
-            impulse,
-            clearance,
-            creepage,
-            reinforced,
-            altitude,
-            grooves,
-            material_groups,
-            board,
-            capacitors,
-            test_voltages,
-            thermal,
-            solid,
-            minimums,
-            power_entry,
-            emc,
+            impulse: need(impulse)?,
+            clearance: need(clearance)?,
+            creepage: need(creepage)?,
+            reinforced: need(reinforced)?,
+            altitude: need(altitude)?,
+            grooves: need(grooves)?,
+            material_groups: need(material_groups)?,
+            board: need(board)?,
+            capacitors: need(capacitors)?,
+            test_voltages: need(test_voltages)?,
+            thermal: need(thermal)?,
+            solid: need(solid)?,
+            minimums: need(minimums)?,
+            power_entry: need(power_entry)?,
+            emc: need(emc)?,
             checks,
-            compiled_checks,
+            compiled_checks: need(compiled_checks)?,
         };
         book.try_house_checks()?;
         Ok(book)
@@ -379,7 +366,8 @@ impl Typed<'_> {
         };
         let source = &loaded.source;
         let parsed = match &loaded.shipped {
-            Some(shipped) => serde_json::from_str::<T>(shipped.json).map_err(|e| Diagnostic::new(&source.name, e.to_string())),
+            Some(shipped) => serde_json::from_str::<T>(shipped.json)
+                .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
             None => toml::from_str::<T>(&source.text).map_err(|e| toml_problem(source, &e, "")),
         };
         match parsed {
