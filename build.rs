@@ -10,7 +10,9 @@ use std::path::{Path, PathBuf};
 use sha2::{Digest, Sha256};
 
 fn files(dir: &Path, extension: &str, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
     let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
     paths.sort();
     for path in paths {
@@ -23,11 +25,17 @@ fn files(dir: &Path, extension: &str, out: &mut Vec<PathBuf>) {
 }
 
 fn inside(root: &Path, path: &Path) -> String {
-    path.strip_prefix(root).unwrap_or(path).to_string_lossy().replace('\\', "/")
+    path.strip_prefix(root)
+        .unwrap_or(path)
+        .to_string_lossy()
+        .replace('\\', "/")
 }
 
 fn absolute(path: &Path) -> String {
-    std::fs::canonicalize(path).unwrap_or(path.to_path_buf()).to_string_lossy().to_string()
+    std::fs::canonicalize(path)
+        .unwrap_or(path.to_path_buf())
+        .to_string_lossy()
+        .to_string()
 }
 
 fn rules(root: &Path) -> String {
@@ -35,17 +43,29 @@ fn rules(root: &Path) -> String {
     files(root, "toml", &mut found);
     let mut code = String::from("pub const SHIPPED_RULES: &[ShippedRule] = &[\n");
     for path in found {
-        let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
-        let value: toml::Value = toml::from_str(&text).unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
-        let json = serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
-        let hash: String = Sha256::digest(text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
+        let text =
+            std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let value: toml::Value = toml::from_str(&text)
+            .unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
+        let json =
+            serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        let hash: String = Sha256::digest(text.as_bytes())
+            .iter()
+            .map(|b| format!("{b:02x}"))
+            .collect();
         let lines: Vec<String> = text
             .lines()
             .enumerate()
             .filter(|(_, l)| l.trim_start().starts_with("[[check]]"))
             .map(|(i, _)| (i + 1).to_string())
             .collect();
-        let field = |key: &str| value.get(key).and_then(toml::Value::as_str).unwrap_or_default().to_string();
+        let field = |key: &str| {
+            value
+                .get(key)
+                .and_then(toml::Value::as_str)
+                .unwrap_or_default()
+                .to_string()
+        };
         let _ = writeln!(
             code,
             "    ShippedRule {{ name: {:?}, text: include_str!({:?}), json: {:?}, sha256: {:?}, check_lines: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
@@ -70,18 +90,27 @@ fn templates(root: &Path) -> String {
     files(root, "j2", &mut found);
     let mut code = String::from("pub const SHIPPED_TEMPLATES: &[(&str, &str)] = &[\n");
     for path in found {
-        let _ = writeln!(code, "    ({:?}, include_str!({:?})),", inside(root, &path), absolute(&path));
+        let _ = writeln!(
+            code,
+            "    ({:?}, include_str!({:?})),",
+            inside(root, &path),
+            absolute(&path)
+        );
     }
     code.push_str("];\n");
     code
 }
 
 fn main() {
-    let manifest = PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
+    let manifest =
+        PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
     let out = PathBuf::from(std::env::var("OUT_DIR").unwrap_or_else(|_| ".".into()));
     for (file, code) in [
         ("shipped_rules.rs", rules(&manifest.join("rules"))),
-        ("shipped_templates.rs", templates(&manifest.join("templates"))),
+        (
+            "shipped_templates.rs",
+            templates(&manifest.join("templates")),
+        ),
     ] {
         if let Err(e) = std::fs::write(out.join(file), code) {
             panic!("cannot write the embedded file list {file}: {e}");

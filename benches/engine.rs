@@ -132,14 +132,30 @@ pub fn small_design(seed: usize) -> String {
         1000 + (seed % 5) * 500,
         if seed % 2 == 0 { 230 } else { 120 }
     );
-    for (id, kind, accessible) in [("input", "mains", false), ("primary", "hazardous", false), ("aux", "safe", false), ("output", "safe", true)] {
-        text.push_str(&format!("[[circuit]]\nid = \"{id}\"\nkind = \"{kind}\"\naccessible = {accessible}\n\n"));
+    for (id, kind, accessible) in [
+        ("input", "mains", false),
+        ("primary", "hazardous", false),
+        ("aux", "safe", false),
+        ("output", "safe", true),
+    ] {
+        text.push_str(&format!(
+            "[[circuit]]\nid = \"{id}\"\nkind = \"{kind}\"\naccessible = {accessible}\n\n"
+        ));
     }
-    for (i, (id, a, b)) in [("pri-sec", "primary", "output"), ("in-out", "input", "output"), ("pri-aux", "primary", "aux"), ("in-pri", "input", "primary")]
-        .iter()
-        .enumerate()
+    for (i, (id, a, b)) in [
+        ("pri-sec", "primary", "output"),
+        ("in-out", "input", "output"),
+        ("pri-aux", "primary", "aux"),
+        ("in-pri", "input", "primary"),
+    ]
+    .iter()
+    .enumerate()
     {
-        let grade = if i < 2 { grades[seed % 2] } else { grades[2 + (seed + i) % 2] };
+        let grade = if i < 2 {
+            grades[seed % 2]
+        } else {
+            grades[2 + (seed + i) % 2]
+        };
         text.push_str(&format!(
             "[[barrier]]\nid = \"{id}\"\nbetween = [\"{a}\", \"{b}\"]\ngrade = \"{grade}\"\nworking_rms_v = {}\nmaterial_group = \"IIIa\"\nprinted_board = true\nclearance_mm = {}\ncreepage_mm = {}\n{}\n",
             100 + (seed * 37 + i * 11) % 300,
@@ -158,7 +174,9 @@ pub fn small_design(seed: usize) -> String {
 fn batch_of_1000_generated_designs(bencher: divan::Bencher) {
     let rules = rules();
     let templates = Templates::shipped();
-    let sources: Vec<Source> = (0..1000).map(|i| Source::new(format!("generated-{i}.toml"), small_design(i))).collect();
+    let sources: Vec<Source> = (0..1000)
+        .map(|i| Source::new(format!("generated-{i}.toml"), small_design(i)))
+        .collect();
     bencher.bench_local(|| {
         for source in &sources {
             let report = check_source(source, &rules).expect("generated design checks");

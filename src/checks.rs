@@ -78,17 +78,23 @@ impl CompiledChecks {
             .iter()
             .map(|c| {
                 [
-                    c.applies.as_ref().map(|a| format!("{{% if {a} %}}1{{% endif %}}")),
-                    Some(format!("{{% if {} %}}1{{% endif %}}", c.condition)),
-                    c.subject
+                    c.applies
                         .as_ref()
-                        .map(|s| format!("{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}")),
+                        .map(|a| format!("{{% if {a} %}}1{{% endif %}}")),
+                    Some(format!("{{% if {} %}}1{{% endif %}}", c.condition)),
+                    c.subject.as_ref().map(|s| {
+                        format!(
+                            "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
+                        )
+                    }),
                     Some(c.message.clone()),
                 ]
             })
             .collect();
         env.set_loader(move |name: &str| {
-            let Some((index, part)) = name.split_once('.') else { return Ok(None) };
+            let Some((index, part)) = name.split_once('.') else {
+                return Ok(None);
+            };
             let slot = match part {
                 "applies" => 0,
                 "condition" => 1,
@@ -96,7 +102,11 @@ impl CompiledChecks {
                 "message" => 3,
                 _ => return Ok(None),
             };
-            Ok(index.parse::<usize>().ok().and_then(|i| parts.get(i)).and_then(|p| p[slot].clone()))
+            Ok(index
+                .parse::<usize>()
+                .ok()
+                .and_then(|i| parts.get(i))
+                .and_then(|p| p[slot].clone()))
         });
         Ok(CompiledChecks { env })
     }
@@ -115,7 +125,10 @@ impl CompiledChecks {
 }
 
 /// Runs every check over the report context (the serialised report without findings).
-pub fn run_checks(rules: &RuleBook, report: &Value) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
+pub fn run_checks(
+    rules: &RuleBook,
+    report: &Value,
+) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
     let mut findings = Vec::new();
     let mut outcomes = Vec::new();
     let mut problems = Vec::new();
@@ -171,7 +184,9 @@ fn run_one(
     let (mut judged, mut raised) = (0, 0);
     for item in items {
         let ctx = context! { report => report.clone(), item => item.clone() };
-        if check.applies.is_some() && compiled.render(index, "applies", &ctx)?.as_deref() != Some("1") {
+        if check.applies.is_some()
+            && compiled.render(index, "applies", &ctx)?.as_deref() != Some("1")
+        {
             continue;
         }
         judged += 1;
@@ -181,7 +196,9 @@ fn run_one(
         raised += 1;
         let text = compiled.render(index, "message", &ctx)?.unwrap_or_default();
         let subject = match &check.subject {
-            Some(_) => compiled.render(index, "subject", &ctx)?.filter(|s| !s.is_empty()),
+            Some(_) => compiled
+                .render(index, "subject", &ctx)?
+                .filter(|s| !s.is_empty()),
             None => default_subject(check.over, &item),
         };
         findings.push(Finding {

@@ -1,66 +1,519 @@
 //! Power entry: the rectifier's operating point, inrush, fuse, X-capacitor discharge, touch
 //! current and electric strength test voltages, from `[input]`, `[input.limiter]`,
-//! `[input.fuse]` and `[converter]`. (Placeholder: not evaluated yet.)
+//! `[input.fuse]` and `[converter]`. The figures are computed here, each with its formula,
+//! inputs and rule references; the checks in `rules/checks/power_entry.toml` judge them.
+
+mod figures;
+mod read;
+pub mod rectifier;
+pub mod tables;
 
 use serde::Serialize;
 
-use crate::diag::{Diagnostic, Problems, Source};
+use crate::diag::{Problems, Source};
 use crate::project::Project;
 use crate::rules::{RuleBook, Typed};
-use crate::spacing::BarrierResult;
-use crate::toml_read::{Reader, TableRef};
+use crate::spacing::{BarrierResult, Step, show};
+use crate::toml_read::{Located, Reader, TableRef};
 
-/// The checked `[input]` table with its limiter and fuse.
-#[derive(Debug, Clone, PartialEq)]
-pub struct InputSpec {}
+pub use rectifier::{Rectifier, SteadyState};
+pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
-/// The checked `[converter]` table.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ConverterSpec {}
+/// How the equipment connects to the mains (`input.connection`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Connection {
+    /// Pluggable equipment type A (a household plug).
+    Plug,
+    /// Pluggable equipment type B (an industrial plug).
+    IndustrialPlug,
+    /// Permanently connected.
+    Permanent,
+}
 
-/// The rule tables power entry reads.
-#[derive(Debug, Clone)]
-pub struct PowerEntryRules {}
-
-impl PowerEntryRules {
-    pub fn load(_tables: &mut Typed) -> Option<Self> {
-        Some(PowerEntryRules {})
+impl Connection {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Connection::Plug => "plug",
+            Connection::IndustrialPlug => "industrial-plug",
+            Connection::Permanent => "permanent",
+        }
     }
 }
 
-/// The `power_entry` section of the report (JSON core fields in DESIGN.md).
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct PowerEntryReport {}
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum LimiterKind {
+    Ntc,
+    Resistor,
+    None,
+}
 
-/// Reads `[input]` and `[converter]`; a table present but not read is listed in
-/// `not_evaluated`.
+impl LimiterKind {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            LimiterKind::Ntc => "ntc",
+            LimiterKind::Resistor => "resistor",
+            LimiterKind::None => "none",
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FuseSpeed {
+    Fast,
+    TimeLag,
+}
+
+impl FuseSpeed {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            FuseSpeed::Fast => "fast",
+            FuseSpeed::TimeLag => "time-lag",
+        }
+    }
+}
+
+/// The checked `[input.limiter]` table. For a resistor, `hot_ohm` is `cold_ohm` unless
+/// given; for `none`, both are absent.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LimiterSpec {
+    pub kind: LimiterKind,
+    pub cold_ohm: Option<f64>,
+    pub hot_ohm: Option<f64>,
+    pub energy_rating_j: Option<f64>,
+}
+
+/// The checked `[input.fuse]` table; every rating may be missing (a warning).
+#[derive(Debug, Clone, PartialEq)]
+pub struct FuseSpec {
+    pub rated_a: Option<f64>,
+    pub melting_i2t_a2s: Option<f64>,
+    pub breaking_a: Option<f64>,
+    pub rated_v: Option<f64>,
+    pub speed: Option<FuseSpeed>,
+}
+
+/// The checked `[input]` table with its limiter and fuse. Optional keys stay `None` here;
+/// `evaluate` applies the defaults and lists them as assumptions.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputSpec {
+    pub bulk_capacitance_uf: f64,
+    pub series_resistance_ohm: f64,
+    pub bridge_surge_a: Option<f64>,
+    /// Total forward drop of the two conducting bridge diodes (default 0: ideal).
+    pub bridge_drop_v: Option<f64>,
+    pub x_capacitance_uf: Option<f64>,
+    pub bleeder_ohm: Option<f64>,
+    /// The bleeder still discharges after any one of its resistors opens (default false).
+    pub bleeder_fault_tolerant: Option<bool>,
+    pub connection: Option<Connection>,
+    /// Prospective short-circuit current at the input, for the fuse's breaking capacity.
+    pub prospective_fault_a: Option<f64>,
+    /// The end-product standard whose touch-current limits apply (an id of the
+    /// touch-current rule table), with where it was written.
+    pub end_product_standard: Option<Located<String>>,
+    /// Hand-held equipment (a lower touch-current limit for earthed parts of Class I).
+    pub hand_held: Option<bool>,
+    /// Mains frequency range, where it differs from `mains.frequency_hz`.
+    pub min_frequency_hz: Option<f64>,
+    pub max_frequency_hz: Option<f64>,
+    /// `None` when the project has no `[input.limiter]` (then: no limiter, stated).
+    pub limiter: Option<LimiterSpec>,
+    /// `None` when the project has no `[input.fuse]` (a blocking finding).
+    pub fuse: Option<FuseSpec>,
+}
+
+/// The checked `[converter]` table: the load the bulk capacitor feeds.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConverterSpec {
+    pub output_w: f64,
+    /// Fraction, above 0 and at most 1.
+    pub efficiency: f64,
+    /// Lowest bulk voltage at which the converter still regulates.
+    pub min_bulk_v: f64,
+    pub switching_hz: f64,
+    pub max_duty: f64,
+}
+
+/// The rule tables power entry reads. The electric strength test voltages come from the
+/// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
+#[derive(Debug, Clone)]
+pub struct PowerEntryRules {
+    pub fuse: FuseRules,
+    pub discharge: DischargeRules,
+    pub touch: TouchRules,
+    pub mains: MainsDefaults,
+}
+
+impl PowerEntryRules {
+    pub fn load(tables: &mut Typed) -> Option<Self> {
+        let fuse = tables.get::<FuseRules>(FuseRules::ID);
+        let discharge = tables.get::<DischargeRules>(DischargeRules::ID);
+        let touch = tables.get::<TouchRules>(TouchRules::ID);
+        let mains = tables.get::<MainsDefaults>(MainsDefaults::ID);
+        Some(PowerEntryRules {
+            fuse: fuse?,
+            discharge: discharge?,
+            touch: touch?,
+            mains: mains?,
+        })
+    }
+}
+
+/// One input of a figure: its symbol, value, unit and where it came from.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Input {
+    pub symbol: String,
+    pub value: f64,
+    pub unit: String,
+    pub from: String,
+}
+
+/// A figure with everything needed to re-derive it by hand.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Derived {
+    /// Stable id, e.g. `power_entry.inrush_peak_a`; `gapwarden explain` takes it.
+    pub id: String,
+    pub title: String,
+    /// Null when it cannot be computed (the steps say why).
+    pub value: Option<f64>,
+    pub unit: String,
+    pub formula: String,
+    pub inputs: Vec<Input>,
+    /// What the figure is judged against, in words (the check compares).
+    pub judged_against: Option<String>,
+    pub steps: Vec<Step>,
+}
+
+/// A topic of the power-entry section, as the report shows it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Section {
+    /// `power_entry.inrush`, `power_entry.operating_point`, ...
+    pub id: String,
+    pub title: String,
+    /// Inputs shared by every figure of the section (the simulation's circuit).
+    pub inputs: Vec<Input>,
+    pub figures: Vec<Derived>,
+    pub notes: Vec<String>,
+}
+
+/// The mains range the figures use.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MainsRange {
+    pub min_v: f64,
+    pub max_v: f64,
+    pub min_frequency_hz: f64,
+    pub max_frequency_hz: f64,
+    /// Peak of the highest mains voltage, sqrt(2) * max_v.
+    pub max_peak_v: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LimiterReport {
+    /// "ntc", "resistor" or "none" (also when no `[input.limiter]` is given).
+    pub kind: LimiterKind,
+    pub declared: bool,
+    pub cold_ohm: Option<f64>,
+    pub hot_ohm: Option<f64>,
+    pub energy_rating_j: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct InrushReport {
+    pub peak_v: f64,
+    /// Limiter cold plus series resistance.
+    pub cold_path_ohm: f64,
+    /// Limiter hot plus series resistance.
+    pub hot_path_ohm: f64,
+    pub peak_a: f64,
+    pub i2t_a2s: f64,
+    pub time_constant_ms: f64,
+    pub hot_restart_peak_a: f64,
+    pub hot_restart_i2t_a2s: f64,
+    pub hot_restart_time_constant_ms: f64,
+    pub limiter_energy_j: Option<f64>,
+    pub bridge_surge_a: Option<f64>,
+}
+
+/// One simulated operating point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OperatingPoint {
+    /// "low-line" (lowest voltage and frequency) or "high-line".
+    pub name: String,
+    pub v_rms: f64,
+    pub frequency_hz: f64,
+    pub series_ohm: f64,
+    pub load_w: f64,
+    pub bridge_drop_v: f64,
+    pub sustained: bool,
+    pub converged: bool,
+    pub half_cycles: usize,
+    pub steps_per_half_cycle: usize,
+    pub input_rms_a: Option<f64>,
+    pub repetitive_peak_a: Option<f64>,
+    pub input_power_w: Option<f64>,
+    pub power_factor: Option<f64>,
+    pub bulk_valley_v: Option<f64>,
+    pub bulk_peak_v: Option<f64>,
+    pub bulk_ripple_v: Option<f64>,
+    pub conduction_ms: Option<f64>,
+    /// Dissipation in the limiter at its hot resistance, I_rms^2 * R.
+    pub limiter_dissipation_w: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FuseReport {
+    pub rated_a: Option<f64>,
+    pub melting_i2t_a2s: Option<f64>,
+    pub breaking_a: Option<f64>,
+    pub rated_v: Option<f64>,
+    pub speed: Option<FuseSpeed>,
+    pub derating: f64,
+    /// Highest current the fuse should carry: derating * rated_a.
+    pub max_operating_a: Option<f64>,
+    /// Pulse factor for this speed from the rules; null when the rules give none.
+    pub pulse_factor: Option<f64>,
+    /// pulse_factor * inrush I2t (cold switch-on).
+    pub required_i2t_a2s: Option<f64>,
+    pub hot_restart_i2t_a2s: f64,
+    pub prospective_fault_a: f64,
+    /// The prospective fault current was declared (not the rules' default).
+    pub prospective_declared: bool,
+    pub mains_max_v: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DischargeReport {
+    pub connection: Connection,
+    pub x_capacitance_uf: Option<f64>,
+    pub bleeder_ohm: Option<f64>,
+    pub bleeder_fault_tolerant: bool,
+    pub threshold_uf: f64,
+    /// The X capacitance is above the threshold: a discharge means is needed.
+    pub required: bool,
+    pub time_constant_s: Option<f64>,
+    /// Limit for this connection; null where the rules give none (permanent).
+    pub max_time_constant_s: Option<f64>,
+    pub residual_after_s: f64,
+    pub residual_v: Option<f64>,
+    pub residual_limit_v: Option<f64>,
+}
+
+/// One Y-capacitor from a mains or hazardous circuit to an accessible circuit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TouchCapacitor {
+    pub part: String,
+    pub barrier: String,
+    pub capacitance_nf: Option<f64>,
+    pub count_in_series: u32,
+    /// capacitance_nf / count_in_series.
+    pub effective_nf: Option<f64>,
+    pub current_ma: Option<f64>,
+}
+
+/// Touch current into one accessible circuit through the Y-capacitors that reach it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TouchCircuit {
+    pub circuit: String,
+    pub earthed: bool,
+    /// Which limit applies: "not-earthed", "earthed-hand-held" or "earthed".
+    pub part: String,
+    pub capacitors: Vec<TouchCapacitor>,
+    /// Null when a capacitor's capacitance is not declared.
+    pub current_ma: Option<f64>,
+    /// Null when the rules give no limit for this standard and part.
+    pub limit_ma: Option<f64>,
+    pub limit_source: Option<String>,
+    /// limit_ma - current_ma.
+    pub margin_ma: Option<f64>,
+}
+
+/// The electric strength (hi-pot) test one barrier calls for.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TestVoltage {
+    pub barrier: String,
+    pub grade: crate::project::Grade,
+    pub working_peak_v: f64,
+    /// False for functional insulation (no test from this table).
+    pub required: bool,
+    pub test_v_rms: Option<f64>,
+    /// The table row used (working voltage up to this peak).
+    pub row_up_to_peak_v: Option<f64>,
+    /// The working voltage is above the table's last row (not extrapolated).
+    pub beyond_table: bool,
+}
+
+/// The `power_entry` section of the report. The first nine fields are the JSON core
+/// fields of DESIGN.md (null where the inputs for one are absent).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PowerEntryReport {
+    pub inrush_peak_a: f64,
+    pub inrush_i2t_a2s: f64,
+    /// Null when there is no limiter.
+    pub limiter_energy_j: Option<f64>,
+    pub hot_restart_peak_a: f64,
+    pub input_rms_a: Option<f64>,
+    pub power_factor: Option<f64>,
+    pub bulk_valley_v: Option<f64>,
+    pub discharge_time_constant_s: Option<f64>,
+    /// The highest touch current into any accessible circuit.
+    pub touch_current_ma: Option<f64>,
+
+    pub repetitive_peak_a: Option<f64>,
+    pub bulk_ripple_v: Option<f64>,
+    /// From the low-line valley down to min_bulk_v at the converter's input power.
+    pub hold_up_time_ms: Option<f64>,
+    /// `[converter]` min_bulk_v; null without a converter.
+    pub min_bulk_v: Option<f64>,
+    pub converter_declared: bool,
+    /// Every operating point was sustained and converged (true without a converter).
+    pub operating_points_sustained: bool,
+    pub operating_points_converged: bool,
+    pub mains: MainsRange,
+    pub limiter: LimiterReport,
+    pub inrush: InrushReport,
+    pub operating_points: Vec<OperatingPoint>,
+    /// Null when the input has no fuse.
+    pub fuse: Option<FuseReport>,
+    pub discharge: DischargeReport,
+    pub end_product_standard: String,
+    pub end_product_standard_title: String,
+    pub touch: Vec<TouchCircuit>,
+    pub test_voltages: Vec<TestVoltage>,
+    /// Ratings the described input stage leaves out, as `key (what it is needed for)`.
+    pub missing_ratings: Vec<String>,
+    /// Defaults applied to power entry, in words.
+    pub assumptions: Vec<String>,
+    /// The figures by topic, each with formula, inputs and steps.
+    pub sections: Vec<Section>,
+}
+
+/// Reads `[input]` and `[converter]` with full validation; problems go to `r`. Both
+/// tables are evaluated, so nothing is added to `not_evaluated`.
 pub fn read(
     r: &mut Reader,
     root: &TableRef,
-    not_evaluated: &mut Vec<String>,
+    _not_evaluated: &mut Vec<String>,
 ) -> (Option<InputSpec>, Option<ConverterSpec>) {
-    for table in ["input", "converter"] {
-        if r.has(root, table) {
-            not_evaluated.push(table.to_string());
-        }
-    }
-    (None, None)
+    read::read_tables(r, root)
 }
 
 /// The power-entry figures; `None` when the project has no `[input]`.
 pub fn evaluate(
-    _project: &Project,
-    _rules: &RuleBook,
-    _barriers: &[BarrierResult],
-    _source: &Source,
+    project: &Project,
+    rules: &RuleBook,
+    barriers: &[BarrierResult],
+    source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
-    Ok(None)
+    figures::evaluate(project, rules, barriers, source)
 }
 
-/// Text for `gapwarden explain` about a power-entry item, if `item` names one.
-pub fn explain(_report: &PowerEntryReport, _item: &str) -> Option<String> {
-    None
+/// Text for `gapwarden explain` about a power-entry item, if `item` names one:
+/// `power_entry` (everything), a section (`power_entry.inrush`, `power_entry.fuse`, ...)
+/// or a figure id (`power_entry.inrush_peak_a`, `power_entry.low_line.input_rms_a`, ...).
+pub fn explain(report: &PowerEntryReport, item: &str) -> Option<String> {
+    let mut out = String::new();
+    if item == "power_entry" {
+        for s in &report.sections {
+            explain_section(&mut out, s);
+        }
+        if !report.assumptions.is_empty() {
+            out.push_str("Assumptions:\n");
+            for a in &report.assumptions {
+                out.push_str(&format!("- {a}\n"));
+            }
+        }
+        return Some(out);
+    }
+    if let Some(s) = report.sections.iter().find(|s| s.id == item) {
+        explain_section(&mut out, s);
+        return Some(out);
+    }
+    let figure = report
+        .sections
+        .iter()
+        .flat_map(|s| &s.figures)
+        .find(|f| f.id == item)?;
+    explain_figure(&mut out, figure);
+    Some(out)
 }
 
-#[allow(dead_code)]
-fn unused(_: Diagnostic) {}
+fn explain_section(out: &mut String, s: &Section) {
+    out.push_str(&format!("{} ({})\n", s.title, s.id));
+    for i in &s.inputs {
+        out.push_str(&format!(
+            "  {} = {} {} ({})\n",
+            i.symbol,
+            show_value(i.value),
+            i.unit,
+            i.from
+        ));
+    }
+    for f in &s.figures {
+        explain_figure(out, f);
+    }
+    for n in &s.notes {
+        out.push_str(&format!("  note: {n}\n"));
+    }
+    out.push('\n');
+}
+
+fn explain_figure(out: &mut String, f: &Derived) {
+    let value = f
+        .value
+        .map(|v| format!("{} {}", show_value(v), f.unit))
+        .unwrap_or_else(|| "not computed".to_string());
+    out.push_str(&format!("{}: {value} ({})\n", f.title, f.id));
+    out.push_str(&format!("  formula: {}\n", f.formula));
+    for i in &f.inputs {
+        out.push_str(&format!(
+            "  {} = {} {} ({})\n",
+            i.symbol,
+            show_value(i.value),
+            i.unit,
+            i.from
+        ));
+    }
+    for (n, s) in f.steps.iter().enumerate() {
+        let rule = s
+            .rule
+            .as_deref()
+            .map(|r| format!(" [{r}]"))
+            .unwrap_or_default();
+        out.push_str(&format!("  {}. {}{rule}\n", n + 1, s.text));
+    }
+    if let Some(j) = &f.judged_against {
+        out.push_str(&format!("  judged against: {j}\n"));
+    }
+}
+
+/// A value for text: six significant digits, no trailing zeros.
+pub fn show_value(x: f64) -> String {
+    if !x.is_finite() {
+        return x.to_string();
+    }
+    let x = significant(x);
+    if x != 0.0 && x.abs() < 1e-3 {
+        let s = format!("{x:.5e}");
+        let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
+        let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+        return format!("{mantissa}e{exponent}");
+    }
+    if x.abs() >= 1e4 {
+        return format!("{}", x.round());
+    }
+    show(x)
+}
+
+/// Rounds to six significant digits, for the report (the engine keeps full precision).
+pub fn significant(x: f64) -> f64 {
+    if !x.is_finite() || x == 0.0 {
+        return x;
+    }
+    let magnitude = x.abs().log10().floor() as i32;
+    let scale = 10f64.powi(5 - magnitude);
+    let rounded = (x * scale).round() / scale;
+    if rounded.is_finite() { rounded } else { x }
+}

@@ -41,15 +41,15 @@ pub struct Templates {
 impl Templates {
     pub fn shipped() -> Self {
         let files: Vec<(String, String, String)> = SHIPPED_TEMPLATES
-                .iter()
-                .map(|(name, text)| {
-                    (
-                        name.to_string(),
-                        text.to_string(),
-                        format!("templates/{name}"),
-                    )
-                })
-                .collect();
+            .iter()
+            .map(|(name, text)| {
+                (
+                    name.to_string(),
+                    text.to_string(),
+                    format!("templates/{name}"),
+                )
+            })
+            .collect();
         Self::from_files(files)
     }
 
@@ -95,7 +95,12 @@ impl Templates {
 /// Escapes text for Markdown so that it renders as itself: no emphasis, link, table cell
 /// break or HTML can come from it. Line breaks become spaces.
 pub fn md_escape(text: &str) -> String {
-    let special = |c: char| matches!(c, '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#') || c.is_control();
+    let special = |c: char| {
+        matches!(
+            c,
+            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#'
+        ) || c.is_control()
+    };
     if !text.chars().any(special) {
         return text.to_string();
     }

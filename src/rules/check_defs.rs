@@ -137,11 +137,21 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
     let mut checks: Vec<CheckDef> = Vec::new();
     let mut index: BTreeMap<String, usize> = BTreeMap::new();
     let env = expression_environment();
-    for CheckSource { source, file: file_in_folder, origin, shipped } in files {
+    for CheckSource {
+        source,
+        file: file_in_folder,
+        origin,
+        shipped,
+    } in files
+    {
         // Each check with the line its [[check]] header stands on.
         let entries: Vec<(RawCheck, usize)> = match shipped {
             Some((json, lines)) => match serde_json::from_str::<ShippedCheckFile>(json) {
-                Ok(f) => f.check.into_iter().zip(lines.iter().copied().chain(std::iter::repeat(0))).collect(),
+                Ok(f) => f
+                    .check
+                    .into_iter()
+                    .zip(lines.iter().copied().chain(std::iter::repeat(0)))
+                    .collect(),
                 Err(e) => {
                     problems.push(Diagnostic::new(&source.name, e.to_string()));
                     continue;

@@ -142,7 +142,11 @@ pub fn show(x: f64) -> String {
     // Rounded to 4 decimals, then printed in the shortest form that reads back the same.
     let rounded = (x * 1e4).round() / 1e4;
     if rounded == 0.0 || !rounded.is_finite() {
-        return if rounded.is_finite() { "0".to_string() } else { format!("{x}") };
+        return if rounded.is_finite() {
+            "0".to_string()
+        } else {
+            format!("{x}")
+        };
     }
     if rounded.abs() >= 1e15 {
         return format!("{rounded:.0}");

@@ -1,0 +1,1166 @@
+//! The EMC figures from plain inputs: the limit at every point of noise, the attenuation
+//! each needs, the corners that meet them all, the inductances for those corners, the
+//! touch-current cap on the Y capacitance, and Middlebrook's criterion with damping.
+
+use super::filter::{
+    Stage, asymptotic_attenuation_db, characteristic_impedance_ohm, corner_for_attenuation,
+    inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, peak_output_impedance,
+    ratio_for_peak,
+};
+use super::limits::{OutOfBand, frequency_words, limit_dbuv};
+use super::noise::{self, BulkCapacitor, CommonModePath, ConverterFigures, Harmonic, Network};
+use super::rules::{Detector, EmcRules, LimitClass, Parameter};
+use super::{
+    Damping, DeclaredFilter, EmcDerivation, EmcReport, EmcSpec, LimitLineOut, Middlebrook,
+    NoisePoint, PrescanDetector, YArrangement,
+};
+use crate::project::ProtectionClass;
+use crate::spacing::{Step, round_up, show, tidy};
+use crate::toml_read::Span;
+
+/// Second-order filter slope, dB per decade.
+const SECOND_ORDER_DB: f64 = 40.0;
+/// Fourth-order (two-stage) filter slope, dB per decade.
+const FOURTH_ORDER_DB: f64 = 80.0;
+/// Estimated harmonics shown in full from the first one in the band, before thinning.
+const SHOWN_FIRST: usize = 12;
+/// After those, a harmonic is shown when it is this factor above the last one shown.
+const SHOWN_STEP: f64 = 1.25;
+
+/// The touch-current limit that caps the Y capacitance, with where it comes from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TouchLimit {
+    pub limit_ma: f64,
+    pub standard: String,
+    pub standard_title: String,
+    /// "not-earthed", "earthed-hand-held" or "earthed".
+    pub part: String,
+    pub source: String,
+    /// The rule table's id.
+    pub rule: String,
+}
+
+/// Everything the EMC evaluation needs, as plain values: the project's `[emc]`, the mains
+/// range, the touch-current limit, the Y-capacitor parts, and the converter's figures and
+/// bulk capacitor where known.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EmcInputs {
+    pub spec: EmcSpec,
+    pub protection_class: ProtectionClass,
+    pub max_mains_v: f64,
+    pub max_mains_frequency_hz: f64,
+    /// The mains range is power entry's (with its own defaults listed there).
+    pub mains_from_power_entry: bool,
+    /// `None` when the rules give no limit for this standard and part.
+    pub touch_limit: Option<TouchLimit>,
+    pub touch_standard: String,
+    pub touch_part: String,
+    /// Y-capacitor parts: reference and effective capacitance in nF (series count applied).
+    pub y_parts: Vec<(String, f64)>,
+    pub y_parts_judged_by_power_entry: bool,
+    /// `[input]` x_capacitance_uf, used when `[emc.filter]` gives none.
+    pub input_x_capacitance_uf: Option<f64>,
+    pub converter: Option<ConverterFigures>,
+    pub bulk: Option<BulkCapacitor>,
+    /// Defaults applied while gathering these inputs, in words.
+    pub assumptions: Vec<String>,
+}
+
+/// An input the evaluation cannot use, with where it was written when known.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputProblem {
+    pub key: String,
+    pub span: Option<Span>,
+    pub message: String,
+}
+
+fn step(rule: Option<&str>, text: impl Into<String>) -> Step {
+    Step {
+        rule: rule.map(str::to_string),
+        text: text.into(),
+    }
+}
+
+fn cite(p: &Parameter) -> String {
+    format!("{} ({})", show(p.value), p.cite())
+}
+
+/// Rounds down to a multiple of `step` (a corner is rounded towards the stricter side).
+fn round_down(x: f64, step: f64) -> f64 {
+    tidy((x / step + 1e-9).floor() * step)
+}
+
+/// The resolution a frequency is given to: whole hertz, or five significant figures below
+/// 10 kHz (so that a very low corner never rounds to 0).
+fn hz_step(hz: f64) -> f64 {
+    if hz.is_finite() && hz > 0.0 {
+        10f64.powf(hz.log10().floor() - 4.0).clamp(1e-6, 1.0)
+    } else {
+        1.0
+    }
+}
+
+/// A corner rounded down to its resolution.
+fn corner_down(hz: f64) -> f64 {
+    round_down(hz, hz_step(hz))
+}
+
+/// A frequency rounded to its resolution.
+fn hz_round(hz: f64) -> f64 {
+    round_to(hz, hz_step(hz))
+}
+
+fn round_to(x: f64, step: f64) -> f64 {
+    tidy((x / step).round() * step)
+}
+
+/// A point of noise on its way to the report, before rounding.
+struct Candidate {
+    frequency_hz: f64,
+    mode: &'static str,
+    harmonic: Option<u64>,
+    detector: &'static str,
+    compared_with: Detector,
+    level_dbuv: f64,
+    limit_dbuv: f64,
+    limit_step: Step,
+    required_db: f64,
+}
+
+impl Candidate {
+    fn corner(&self, slope: f64) -> Option<f64> {
+        (self.required_db > 0.0)
+            .then(|| corner_for_attenuation(self.frequency_hz, self.required_db, slope))
+    }
+}
+
+/// The limit a point is compared with: the named detector's, or for a peak reading or an
+/// estimate (which stand for both), the lower of the two.
+fn binding_limit(
+    rules: &EmcRules,
+    class: LimitClass,
+    detectors: &[Detector],
+    frequency_hz: f64,
+) -> Result<(Detector, f64, Step), OutOfBand> {
+    let mut best: Option<(Detector, f64, Step)> = None;
+    for &d in detectors {
+        let (value, s) = limit_dbuv(&rules.limits, class, d, frequency_hz)?;
+        if best.as_ref().is_none_or(|b| value < b.1) {
+            best = Some((d, value, s));
+        }
+    }
+    best.ok_or_else(|| OutOfBand {
+        message: "no detector to compare with".to_string(),
+    })
+}
+
+/// The lowest corner over some candidates: (index, corner).
+fn governing(candidates: &[Candidate], indices: &[usize], slope: f64) -> Option<(usize, f64)> {
+    indices
+        .iter()
+        .filter_map(|&i| {
+            candidates
+                .get(i)
+                .and_then(|c| c.corner(slope))
+                .map(|f| (i, f))
+        })
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+}
+
+/// Computes the EMC figures. Every frequency outside the limits' band is reported, not
+/// only the first.
+pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<InputProblem>> {
+    let spec = &inputs.spec;
+    let model = &rules.model;
+    let mut assumptions: Vec<String> = Vec::new();
+    let mut d = EmcDerivation::default();
+    let limits_id = rules.limits.id.as_str();
+    let model_id = model.id.as_str();
+    let band = rules.limits.band_hz();
+
+    let class = spec.limit_class.unwrap_or_else(|| {
+        assumptions.push(
+            "Limit class B, the stricter (limit_class not stated in the emc table).".to_string(),
+        );
+        LimitClass::B
+    });
+    let margin_db = spec.margin_db.unwrap_or_else(|| {
+        assumptions.push(format!(
+            "A margin of {} dB below the limit (margin_db not stated; {}).",
+            show(model.default_margin_db.value),
+            model.default_margin_db.provenance
+        ));
+        model.default_margin_db.value
+    });
+    let network = Network {
+        line_impedance_ohm: model.line_impedance_ohm.value,
+        common_mode_impedance_ohm: model.common_mode_impedance_ohm.value,
+    };
+
+    let max_mains_v = inputs.max_mains_v;
+    let max_mains_frequency_hz = inputs.max_mains_frequency_hz;
+    assumptions.extend(inputs.assumptions.iter().cloned());
+    let mut noise_gaps: Vec<String> = Vec::new();
+
+    // --- The noise to beat -------------------------------------------------------------
+    let mut problems = Vec::new();
+    let mut candidates: Vec<Candidate> = Vec::new();
+    let mut dm_indices = Vec::new();
+    let mut cm_indices = Vec::new();
+    let mut harmonics_evaluated = 0usize;
+    let noise_source: &'static str;
+    if !spec.prescan.is_empty() {
+        noise_source = "prescan";
+        d.noise.push(step(
+            None,
+            format!(
+                "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
+                spec.prescan.len()
+            ),
+        ));
+        for p in &spec.prescan {
+            let detectors: &[Detector] = match p.detector {
+                PrescanDetector::QuasiPeak => &[Detector::QuasiPeak],
+                PrescanDetector::Average => &[Detector::Average],
+                PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
+            };
+            match binding_limit(rules, class, detectors, p.frequency_hz) {
+                Ok((det, limit, limit_step)) => {
+                    let i = candidates.len();
+                    candidates.push(Candidate {
+                        frequency_hz: p.frequency_hz,
+                        mode: "measured",
+                        harmonic: None,
+                        detector: p.detector.as_str(),
+                        compared_with: det,
+                        level_dbuv: p.level_dbuv,
+                        limit_dbuv: limit,
+                        limit_step,
+                        required_db: p.level_dbuv - limit + margin_db,
+                    });
+                    dm_indices.push(i);
+                    cm_indices.push(i);
+                }
+                Err(e) => problems.push(InputProblem {
+                    key: p.key.clone(),
+                    span: Some(p.span.clone()),
+                    message: e.message,
+                }),
+            }
+        }
+        if spec
+            .prescan
+            .iter()
+            .any(|p| p.detector == PrescanDetector::Peak)
+        {
+            assumptions.push(
+                "Peak readings are held against the lower of the quasi-peak and average limits (a peak reading is never below either; conservative)."
+                    .to_string(),
+            );
+        }
+        assumptions.push(
+            "Prescan points do not say whether their noise is differential or common mode: both corners are sized for the full measured level."
+                .to_string(),
+        );
+    } else if let Some(c) = &inputs.converter {
+        noise_source = "estimate";
+        let parasitic_pf = spec.parasitic_capacitance_pf.unwrap_or_else(|| {
+            assumptions.push(format!(
+                "Parasitic capacitance from the switch node to earth {} pF (parasitic_capacitance_pf not stated; {}).",
+                show(model.default_parasitic_capacitance_pf.value),
+                model.default_parasitic_capacitance_pf.provenance
+            ));
+            model.default_parasitic_capacitance_pf.value
+        });
+        let swing_v = spec.switch_node_swing_v.unwrap_or_else(|| {
+            let v = model.default_switch_node_swing_factor.value
+                * std::f64::consts::SQRT_2
+                * max_mains_v;
+            assumptions.push(format!(
+                "Switch-node swing {} V = {} x sqrt(2) x {} V (switch_node_swing_v not stated; {}).",
+                show(v),
+                show(model.default_switch_node_swing_factor.value),
+                show(max_mains_v),
+                model.default_switch_node_swing_factor.provenance
+            ));
+            v
+        });
+        assumptions.push(
+            "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
+                .to_string(),
+        );
+        let dm = match &inputs.bulk {
+            Some(bulk) => noise::differential_mode(c, bulk, &network, band),
+            None => {
+                noise_gaps.push(
+                    "differential-mode noise not estimated: no input table with the bulk capacitor (bulk_capacitance_uf)"
+                        .to_string(),
+                );
+                Ok(Vec::new())
+            }
+        };
+        let cm = noise::common_mode(
+            c,
+            &CommonModePath {
+                switch_node_swing_v: swing_v,
+                parasitic_capacitance_pf: parasitic_pf,
+            },
+            &network,
+            band,
+        );
+        match (dm, cm) {
+            (Ok(dm), Ok(cm)) => {
+                harmonics_evaluated = dm.len() + cm.len();
+                noise_steps(
+                    &mut d.noise,
+                    c,
+                    inputs.bulk.as_ref(),
+                    swing_v,
+                    parasitic_pf,
+                    model_id,
+                    &network,
+                    &dm,
+                    &cm,
+                );
+                for (mode, list, indices) in [
+                    ("differential", &dm, &mut dm_indices),
+                    ("common", &cm, &mut cm_indices),
+                ] {
+                    for h in list {
+                        match binding_limit(
+                            rules,
+                            class,
+                            &[Detector::QuasiPeak, Detector::Average],
+                            h.frequency_hz,
+                        ) {
+                            Ok((det, limit, limit_step)) => {
+                                indices.push(candidates.len());
+                                candidates.push(Candidate {
+                                    frequency_hz: h.frequency_hz,
+                                    mode,
+                                    harmonic: Some(h.number),
+                                    detector: "estimate",
+                                    compared_with: det,
+                                    level_dbuv: h.level_dbuv,
+                                    limit_dbuv: limit,
+                                    limit_step,
+                                    required_db: h.level_dbuv - limit + margin_db,
+                                });
+                            }
+                            Err(e) => problems.push(InputProblem {
+                                key: "converter.switching_hz".to_string(),
+                                span: None,
+                                message: e.message,
+                            }),
+                        }
+                    }
+                }
+            }
+            (Err(e), _) | (_, Err(e)) => problems.push(InputProblem {
+                key: "emc".to_string(),
+                span: None,
+                message: format!("the noise estimate cannot be made: {e}"),
+            }),
+        }
+    } else {
+        noise_source = "none";
+        d.noise.push(step(
+            None,
+            "No prescan points and no converter figures: the noise to beat is not known, so no attenuation or corner is computed.",
+        ));
+    }
+    if !problems.is_empty() {
+        return Err(problems);
+    }
+
+    // --- Required attenuation and corners ------------------------------------------------
+    let all: Vec<usize> = (0..candidates.len()).collect();
+    let overall = governing(&candidates, &all, SECOND_ORDER_DB);
+    let dm2 = governing(&candidates, &dm_indices, SECOND_ORDER_DB);
+    let dm4 = governing(&candidates, &dm_indices, FOURTH_ORDER_DB);
+    let cm2 = governing(&candidates, &cm_indices, SECOND_ORDER_DB);
+    let cm4 = governing(&candidates, &cm_indices, FOURTH_ORDER_DB);
+    let max_required = candidates
+        .iter()
+        .max_by(|a, b| a.required_db.total_cmp(&b.required_db));
+
+    if let Some((i, _)) = overall
+        && let Some(c) = candidates.get(i)
+    {
+        d.limit.push(c.limit_step.clone());
+        d.attenuation.push(step(
+            None,
+            format!(
+                "Required attenuation at {} ({} {}, against the {} limit): level - limit + margin = {} - {} + {} = {} dB.",
+                frequency_words(c.frequency_hz),
+                c.mode,
+                c.detector,
+                c.compared_with.as_str(),
+                show(c.level_dbuv),
+                show(c.limit_dbuv),
+                show(margin_db),
+                show(c.required_db)
+            ),
+        ));
+    }
+    if let Some(c) = max_required {
+        d.attenuation.push(step(
+            None,
+            format!(
+                "The largest attenuation needed at any of the {} point(s): {} dB at {} ({}).",
+                candidates.len(),
+                show(c.required_db),
+                frequency_words(c.frequency_hz),
+                c.mode
+            ),
+        ));
+    }
+    if !candidates.is_empty() && overall.is_none() {
+        d.attenuation.push(step(
+            None,
+            "Every point is already below its limit by the margin or more: no attenuation is needed and no corner is set.",
+        ));
+    }
+    corner_steps(
+        &mut d.dm_corner,
+        "Differential-mode",
+        &candidates,
+        dm_indices.len(),
+        dm2,
+        dm4,
+    );
+    corner_steps(
+        &mut d.cm_corner,
+        "Common-mode",
+        &candidates,
+        cm_indices.len(),
+        cm2,
+        cm4,
+    );
+    let dm_corner_hz = dm2.map(|(_, f)| corner_down(f));
+    let cm_corner_hz = cm2.map(|(_, f)| corner_down(f));
+
+    // --- Touch current caps the Y capacitance --------------------------------------------
+    d.y_capacitance.push(step(
+        None,
+        if inputs.mains_from_power_entry {
+            format!(
+                "Highest mains voltage {} V and frequency {} Hz, from power entry's mains range.",
+                show(max_mains_v),
+                show(max_mains_frequency_hz)
+            )
+        } else {
+            format!(
+                "Highest mains voltage {} V and frequency {} Hz, from the mains table (defaults listed under assumptions).",
+                show(max_mains_v),
+                show(max_mains_frequency_hz)
+            )
+        },
+    ));
+    let max_y_capacitance_nf = match &inputs.touch_limit {
+        Some(t) => {
+            let limit_a = t.limit_ma / 1000.0;
+            let max_y_f =
+                limit_a / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v);
+            let max_y = round_down(max_y_f * 1e9, 0.001);
+            d.y_capacitance.push(step(
+                Some(&t.rule),
+                format!(
+                    "Touch-current limit {} mA for a {} part under {} ({}).",
+                    show(t.limit_ma),
+                    t.part,
+                    t.standard_title,
+                    t.source
+                ),
+            ));
+            d.y_capacitance.push(step(
+                None,
+                format!(
+                    "Largest Y capacitance from one line: C = I / (2 pi f V) = {} mA / (2 pi x {} Hz x {} V) = {} nF (rounded down), at the highest mains voltage and frequency.",
+                    show(t.limit_ma),
+                    show(max_mains_frequency_hz),
+                    show(max_mains_v),
+                    show(max_y)
+                ),
+            ));
+            (max_y_f.is_finite() && max_y_f > 0.0).then_some(max_y)
+        }
+        None => {
+            d.y_capacitance.push(step(
+                None,
+                format!(
+                    "The touch-current rules give no limit for a {} part under {}: the Y capacitance is not capped.",
+                    inputs.touch_part, inputs.touch_standard
+                ),
+            ));
+            None
+        }
+    };
+    let arrangement = spec.filter.y_arrangement.unwrap_or_else(|| {
+        let a = match inputs.protection_class {
+            ProtectionClass::I => YArrangement::EachLine,
+            _ => YArrangement::Single,
+        };
+        assumptions.push(format!(
+            "Y capacitors arranged \"{}\" ({}; y_arrangement not stated in the emc filter table).",
+            a.as_str(),
+            match a {
+                YArrangement::EachLine => "one from each mains line to earth, as in a Class I design",
+                YArrangement::Single => "one from the rectified primary to the secondary or earth, as in a Class II design",
+            }
+        ));
+        a
+    });
+    let (y_capacitance_nf, y_capacitance_from) = match spec.filter.y_capacitance_nf {
+        Some(c) => (
+            Some(c),
+            Some("emc filter table, y_capacitance_nf".to_string()),
+        ),
+        None if !inputs.y_parts.is_empty() => {
+            let total: f64 = inputs.y_parts.iter().map(|(_, c)| c).sum();
+            let refs: Vec<&str> = inputs.y_parts.iter().map(|(r, _)| r.as_str()).collect();
+            (
+                Some(tidy(total)),
+                Some(format!(
+                    "Y-capacitor parts {} (effective values added)",
+                    refs.join(", ")
+                )),
+            )
+        }
+        None => (None, None),
+    };
+    if let (Some(y), Some(from)) = (y_capacitance_nf, &y_capacitance_from) {
+        let verdict = match max_y_capacitance_nf {
+            Some(max) if y > max => format!("above the cap of {} nF", show(max)),
+            Some(max) => format!("within the cap of {} nF", show(max)),
+            None => "not capped".to_string(),
+        };
+        d.y_capacitance.push(step(
+            None,
+            format!(
+                "Declared Y capacitance per line {} nF, from {}: {verdict}.",
+                show(y),
+                from
+            ),
+        ));
+    }
+    let y_used_nf = match (y_capacitance_nf, max_y_capacitance_nf) {
+        (Some(y), Some(max)) => Some(y.min(max)),
+        (Some(y), None) => Some(y),
+        (None, max) => max,
+    };
+
+    // --- Inductances for the corners -------------------------------------------------------
+    let f = &spec.filter;
+    let (x_capacitance_uf, x_from) = match (f.x_capacitance_uf, inputs.input_x_capacitance_uf) {
+        (Some(c), _) => (Some(c), "the emc filter table"),
+        (None, Some(c)) => (Some(c), "the input table (x_capacitance_uf)"),
+        (None, None) => (None, ""),
+    };
+    let dm_inductance_for_corner_uh = match (dm_corner_hz, x_capacitance_uf) {
+        (Some(fc), Some(cx)) if fc > 0.0 => {
+            let l = inductance_for_corner_h(fc, cx * 1e-6) * 1e6;
+            let l = round_up(l, 0.001);
+            d.dm_corner.push(step(
+                None,
+                format!(
+                    "Inductance for that corner with the X capacitance from {x_from}: L = 1 / ((2 pi f)^2 C) = 1 / ((2 pi x {} Hz)^2 x {} uF) = {} uH.",
+                    show(fc),
+                    show(cx),
+                    show(l)
+                ),
+            ));
+            Some(l)
+        }
+        (Some(_), None) => {
+            d.dm_corner.push(step(
+                None,
+                "No X capacitance (x_capacitance_uf in the emc filter table or the input table): the inductance for the corner is not computed.",
+            ));
+            None
+        }
+        _ => None,
+    };
+    let cm_capacitance_used_nf = y_used_nf.map(|y| y * arrangement.common_mode_factor());
+    let cm_inductance_for_corner_mh = match (cm_corner_hz, cm_capacitance_used_nf, y_used_nf) {
+        (Some(fc), Some(cm_capacitance_used_nf), Some(y_used_nf))
+            if fc > 0.0 && cm_capacitance_used_nf > 0.0 =>
+        {
+            let l = inductance_for_corner_h(fc, cm_capacitance_used_nf * 1e-9) * 1e3;
+            let l = round_up(l, 0.0001);
+            d.cm_corner.push(step(
+                None,
+                format!(
+                    "Common-mode choke for that corner: L = 1 / ((2 pi f)^2 C_cm) = 1 / ((2 pi x {} Hz)^2 x {} nF) = {} mH, with C_cm = {} x {} nF per line ({} arrangement; {}).",
+                    show(fc),
+                    show(cm_capacitance_used_nf),
+                    show(l),
+                    show(arrangement.common_mode_factor()),
+                    show(y_used_nf),
+                    arrangement.as_str(),
+                    match (y_capacitance_nf, max_y_capacitance_nf) {
+                        (Some(y), Some(max)) if y > max =>
+                            "the declared Y capacitance is above the touch-current cap, so the cap is used",
+                        (Some(_), _) => "the declared Y capacitance",
+                        (None, _) => "none declared: the largest the touch current allows",
+                    }
+                ),
+            ));
+            Some(l)
+        }
+        (Some(_), _, _) => {
+            d.cm_corner.push(step(
+                None,
+                "No Y capacitance known (none declared and no touch-current cap): the common-mode choke for the corner is not computed.",
+            ));
+            None
+        }
+        _ => None,
+    };
+
+    // --- The declared filter ---------------------------------------------------------------
+    let declared = declared_filter(f, y_capacitance_nf, arrangement, &mut d.filter);
+
+    // --- After the filter ------------------------------------------------------------------
+    let dm_after = declared
+        .as_ref()
+        .and_then(|x| x.dm_corner_hz)
+        .map(|c| (c, "declared"))
+        .or(dm_corner_hz.map(|c| (c, "required")));
+    let cm_after = declared
+        .as_ref()
+        .and_then(|x| x.cm_corner_hz)
+        .map(|c| (c, "declared"))
+        .or(cm_corner_hz.map(|c| (c, "required")));
+    let describe = |what: &str, c: Option<(f64, &str)>| match c {
+        Some((hz, kind)) => format!(
+            "{what}: the {kind} second-order corner, {}",
+            frequency_words(hz)
+        ),
+        None => format!("{what}: no filter (no corner declared or needed)"),
+    };
+    let after_filter = format!(
+        "{}; {}. Asymptotic attenuation, 40 dB per decade above the corner, resonance and parasitics left out.",
+        describe("differential mode", dm_after),
+        describe("common mode", cm_after)
+    );
+    let attenuation_at = |corner: Option<(f64, &str)>, hz: f64| {
+        corner.map_or(0.0, |(c, _)| {
+            asymptotic_attenuation_db(c, hz, SECOND_ORDER_DB)
+        })
+    };
+
+    // --- Points for the report (every prescan point; a thinned set of harmonics) ----------
+    let keep: Vec<usize> = if noise_source == "estimate" {
+        let mut keep = Vec::new();
+        for indices in [&dm_indices, &cm_indices] {
+            let mut last_shown: Option<f64> = None;
+            for (k, &i) in indices.iter().enumerate() {
+                let Some(c) = candidates.get(i) else { continue };
+                let must = [overall, dm2, dm4, cm2, cm4]
+                    .iter()
+                    .any(|g| g.is_some_and(|(gi, _)| gi == i))
+                    || max_required.is_some_and(|m| std::ptr::eq(m, c));
+                let spaced = last_shown.is_none_or(|l| c.frequency_hz >= l * SHOWN_STEP);
+                if k < SHOWN_FIRST || spaced || must {
+                    keep.push(i);
+                    last_shown = Some(c.frequency_hz);
+                }
+            }
+        }
+        keep
+    } else {
+        all.clone()
+    };
+    let points: Vec<NoisePoint> = keep
+        .iter()
+        .filter_map(|&i| candidates.get(i))
+        .map(|c| {
+            let filter_db = match c.mode {
+                "differential" => attenuation_at(dm_after, c.frequency_hz),
+                "common" => attenuation_at(cm_after, c.frequency_hz),
+                _ => attenuation_at(dm_after, c.frequency_hz)
+                    .min(attenuation_at(cm_after, c.frequency_hz)),
+            };
+            NoisePoint {
+                frequency_hz: tidy(c.frequency_hz),
+                mode: c.mode,
+                harmonic: c.harmonic,
+                detector: c.detector,
+                compared_with: c.compared_with.as_str(),
+                level_dbuv: round_to(c.level_dbuv, 0.01),
+                limit_dbuv: round_to(c.limit_dbuv, 0.01),
+                required_attenuation_db: round_up(c.required_db, 0.01),
+                filter_attenuation_db: round_to(filter_db, 0.01),
+                after_filter_dbuv: round_to(c.level_dbuv - filter_db, 0.01),
+            }
+        })
+        .collect();
+
+    // --- Middlebrook -----------------------------------------------------------------------
+    let middlebrook = inputs.converter.as_ref().and_then(|c| {
+        middlebrook(
+            c,
+            f,
+            x_capacitance_uf,
+            dm_inductance_for_corner_uh,
+            model.middlebrook_margin_db.value,
+            &mut d.middlebrook,
+        )
+    });
+    if inputs.converter.is_none() {
+        d.middlebrook.push(step(
+            None,
+            "Not judged: the project has no converter table, so the converter's power, efficiency and lowest bulk voltage are not known.",
+        ));
+    } else if middlebrook.is_none() {
+        d.middlebrook.push(step(
+            None,
+            "Not judged: no differential-mode stage is declared (dm_inductance_uh and x_capacitance_uf), and none is proposed (no X capacitance, or no corner needed).",
+        ));
+    }
+    if middlebrook.is_some() {
+        d.middlebrook.insert(
+            0,
+            step(
+                Some(model_id),
+                format!(
+                    "Margin below the converter's input impedance: {}.",
+                    cite(&model.middlebrook_margin_db)
+                ),
+            ),
+        );
+    }
+
+    // --- Limit lines for the chart ---------------------------------------------------------
+    let limit_lines = [Detector::QuasiPeak, Detector::Average]
+        .iter()
+        .filter_map(|&det| {
+            rules.limits.line(class, det).map(|line| {
+                let mut vertices: Vec<[f64; 2]> = Vec::new();
+                for s in &line.segments {
+                    vertices.push([s.from_hz, s.from_dbuv]);
+                    vertices.push([s.to_hz, s.to_dbuv]);
+                }
+                vertices.dedup();
+                LimitLineOut {
+                    detector: det.as_str(),
+                    vertices,
+                }
+            })
+        })
+        .collect();
+    d.limit.push(step(
+        Some(limits_id),
+        format!(
+            "Class {} limits: quasi-peak and average lines from {}; between a segment's ends the limit runs linearly in log f.",
+            class.as_str(),
+            rules.limits.source
+        ),
+    ));
+
+    let governing_point = overall.and_then(|(i, _)| candidates.get(i));
+    Ok(EmcReport {
+        limit_class: class,
+        margin_db,
+        band_hz: [band.0, band.1],
+        noise_source,
+        governing_frequency_hz: governing_point.map(|c| tidy(c.frequency_hz)),
+        governing_mode: governing_point.map(|c| c.mode),
+        governing_detector: governing_point.map(|c| c.compared_with.as_str()),
+        limit_dbuv: governing_point.map(|c| round_to(c.limit_dbuv, 0.01)),
+        required_attenuation_db: governing_point.map(|c| round_up(c.required_db, 0.01)),
+        max_required_attenuation_db: max_required.map(|c| round_up(c.required_db, 0.01)),
+        max_required_attenuation_hz: max_required.map(|c| tidy(c.frequency_hz)),
+        dm_corner_hz,
+        dm_governing_frequency_hz: dm2
+            .and_then(|(i, _)| candidates.get(i))
+            .map(|c| tidy(c.frequency_hz)),
+        dm_corner_fourth_order_hz: dm4.map(|(_, f)| corner_down(f)),
+        dm_inductance_for_corner_uh,
+        cm_corner_hz,
+        cm_governing_frequency_hz: cm2
+            .and_then(|(i, _)| candidates.get(i))
+            .map(|c| tidy(c.frequency_hz)),
+        cm_corner_fourth_order_hz: cm4.map(|(_, f)| corner_down(f)),
+        cm_inductance_for_corner_mh,
+        max_y_capacitance_nf,
+        touch_current_standard: inputs.touch_standard.clone(),
+        touch_current_part: inputs.touch_part.clone(),
+        touch_current_limit_ma: inputs.touch_limit.as_ref().map(|t| t.limit_ma),
+        max_mains_v: tidy(max_mains_v),
+        max_mains_frequency_hz: tidy(max_mains_frequency_hz),
+        y_capacitance_judged_by_power_entry: f.y_capacitance_nf.is_none()
+            && inputs.y_parts_judged_by_power_entry,
+        y_capacitance_nf,
+        y_capacitance_from,
+        y_arrangement: arrangement,
+        y_capacitance_used_nf: y_used_nf.map(tidy),
+        single_stage_practical_db: model.single_stage_practical_db.value,
+        two_stage_practical_db: model.two_stage_practical_db.value,
+        filter: declared,
+        converter_figures_available: inputs.converter.is_some(),
+        noise_gaps,
+        middlebrook,
+        after_filter,
+        points,
+        harmonics_evaluated,
+        limit_lines,
+        assumptions,
+        derivation: d,
+    })
+}
+
+fn corner_steps(
+    steps: &mut Vec<Step>,
+    what: &str,
+    candidates: &[Candidate],
+    considered: usize,
+    second: Option<(usize, f64)>,
+    fourth: Option<(usize, f64)>,
+) {
+    if let Some((i, fc)) = second
+        && let Some(c) = candidates.get(i)
+    {
+        steps.push(step(
+            None,
+            format!(
+                "{what} corner, second order (40 dB/decade): fc = f / 10^(A / 40) = {} Hz / 10^({} / 40) = {} Hz, set by the point at {}, the lowest corner of the {considered} point(s) considered.",
+                show(c.frequency_hz),
+                show(c.required_db),
+                show(corner_down(fc)),
+                frequency_words(c.frequency_hz)
+            ),
+        ));
+    }
+    if let Some((i, fc)) = fourth
+        && let Some(c) = candidates.get(i)
+    {
+        steps.push(step(
+            None,
+            format!(
+                "{what} corner, fourth order (two stages, 80 dB/decade): fc = f / 10^(A / 80) = {} Hz / 10^({} / 80) = {} Hz, set by the point at {}.",
+                show(c.frequency_hz),
+                show(c.required_db),
+                show(corner_down(fc)),
+                frequency_words(c.frequency_hz)
+            ),
+        ));
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn noise_steps(
+    steps: &mut Vec<Step>,
+    c: &ConverterFigures,
+    bulk: Option<&BulkCapacitor>,
+    swing_v: f64,
+    parasitic_pf: f64,
+    model_id: &str,
+    network: &Network,
+    dm: &[Harmonic],
+    cm: &[Harmonic],
+) {
+    let height = noise::pulse_height_a(c);
+    steps.push(step(
+        None,
+        format!(
+            "Waveform model: the converter draws a rectangular current pulse train from the bulk capacitor, height I_pk = P_out / (efficiency x V_bulk x D) = {} / ({} x {} x {}) = {} A, duty D = {}, at {} Hz; the switch node swings {} V with the same duty. Ramps, ringing and edges are left out (an upper bound at high frequencies).",
+            show(c.output_w),
+            show(c.efficiency),
+            show(c.bulk_v),
+            show(c.max_duty),
+            show(height),
+            show(c.max_duty),
+            show(c.switching_hz),
+            show(swing_v)
+        ),
+    ));
+    steps.push(step(
+        None,
+        "Harmonic n of a rectangular pulse train of height A and duty D: peak 2 A |sin(n pi D)| / (n pi).",
+    ));
+    if let Some(bulk) = bulk {
+        steps.push(step(
+            Some(model_id),
+            format!(
+                "Differential mode: harmonic current split between the bulk capacitor ({} uF, ESR {} ohm) and the measuring network, {} ohm per line, two lines in series: I_line = I_n |Z_C| / |Z_C + 2 R|; level = I_line x {} ohm, as rms in dBuV.",
+                show(bulk.capacitance_uf),
+                show(bulk.esr_ohm),
+                show(network.line_impedance_ohm),
+                show(network.line_impedance_ohm)
+            ),
+        ));
+    }
+    steps.push(step(
+        Some(model_id),
+        format!(
+            "Common mode: the swing drives {} pF to earth in series with {} ohm (both lines in parallel); level = current x {} ohm, as rms in dBuV.",
+            show(parasitic_pf),
+            show(network.common_mode_impedance_ohm),
+            show(network.common_mode_impedance_ohm)
+        ),
+    ));
+    if let Some(h) = dm.first().or(cm.first()) {
+        steps.push(step(
+            None,
+            format!(
+                "First switching harmonic in the band: n = {} at {} (switching frequencies are chosen so that the harmonics below it stay under the band; common practice, no published source).",
+                h.number,
+                frequency_words(h.frequency_hz)
+            ),
+        ));
+    }
+    if let Some(h) = dm.first() {
+        steps.push(step(
+            None,
+            format!(
+                "Differential mode at {}: {} mA peak from the pulse train, {} mA into the network, {} dBuV.",
+                frequency_words(h.frequency_hz),
+                show(h.source_peak * 1000.0),
+                show(h.network_current_a * 1000.0),
+                show(round_to(h.level_dbuv, 0.01))
+            ),
+        ));
+    }
+    if dm.is_empty() && cm.is_empty() {
+        steps.push(step(
+            None,
+            "No switching harmonic falls inside the band: nothing to estimate.",
+        ));
+    }
+    if let Some(h) = cm.first() {
+        steps.push(step(
+            None,
+            format!(
+                "Common mode at {}: {} V peak from the swing, {} mA, {} dBuV.",
+                frequency_words(h.frequency_hz),
+                show(h.source_peak),
+                show(h.network_current_a * 1000.0),
+                show(round_to(h.level_dbuv, 0.01))
+            ),
+        ));
+    }
+}
+
+fn declared_filter(
+    f: &super::FilterSpec,
+    y_capacitance_nf: Option<f64>,
+    arrangement: YArrangement,
+    steps: &mut Vec<Step>,
+) -> Option<DeclaredFilter> {
+    let any = f.dm_inductance_uh.is_some()
+        || f.x_capacitance_uf.is_some()
+        || f.cm_inductance_mh.is_some()
+        || f.y_capacitance_nf.is_some()
+        || f.damping.is_some();
+    if !any {
+        return None;
+    }
+    let (mut dm_corner_hz, mut r0) = (None, None);
+    if let (Some(l), Some(c)) = (f.dm_inductance_uh, f.x_capacitance_uf) {
+        let fc = lc_corner_hz(l * 1e-6, c * 1e-6);
+        let z = characteristic_impedance_ohm(l * 1e-6, c * 1e-6);
+        steps.push(step(
+            None,
+            format!(
+                "Declared differential-mode corner: f0 = 1 / (2 pi sqrt(L C)) = 1 / (2 pi sqrt({} uH x {} uF)) = {} Hz; R0 = sqrt(L / C) = {} ohm.",
+                show(l),
+                show(c),
+                show(hz_round(fc)),
+                show(round_to(z, 0.001))
+            ),
+        ));
+        dm_corner_hz = Some(hz_round(fc));
+        r0 = Some(z);
+    }
+    let (mut ratio, mut optimum) = (None, None);
+    if let (Some((_, cd)), Some(c), Some(z)) = (f.damping, f.x_capacitance_uf, r0) {
+        let n = cd / c;
+        let (rd, peak) = optimum_parallel_damping(z, n);
+        steps.push(step(
+            None,
+            format!(
+                "Declared damping ratio n = Cd / C = {} / {} = {}; the optimum Rd for it is R0 sqrt((2+n)(4+3n) / (2 n^2 (4+n))) = {} ohm, with a peak output impedance of R0 sqrt(2 (2+n)) / n = {} ohm (Erickson and Maksimovic, 2nd ed., ch. 10; from memory).",
+                show(cd),
+                show(c),
+                show(n),
+                show(round_to(rd, 0.001)),
+                show(round_to(peak, 0.001))
+            ),
+        ));
+        ratio = Some(tidy(n));
+        optimum = Some(round_to(rd, 0.001));
+    }
+    let cm_capacitance_nf = y_capacitance_nf.map(|y| tidy(y * arrangement.common_mode_factor()));
+    let mut cm_corner_hz = None;
+    if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_nf) {
+        let fc = lc_corner_hz(l * 1e-3, c * 1e-9);
+        steps.push(step(
+            None,
+            format!(
+                "Declared common-mode corner: f0 = 1 / (2 pi sqrt(L C_cm)) = 1 / (2 pi sqrt({} mH x {} nF)) = {} Hz.",
+                show(l),
+                show(c),
+                show(hz_round(fc))
+            ),
+        ));
+        cm_corner_hz = Some(hz_round(fc));
+    }
+    Some(DeclaredFilter {
+        dm_inductance_uh: f.dm_inductance_uh,
+        dm_inductor_resistance_ohm: f.dm_inductor_resistance_ohm,
+        x_capacitance_uf: f.x_capacitance_uf,
+        dm_corner_hz,
+        dm_characteristic_impedance_ohm: r0.map(|z| round_to(z, 0.001)),
+        damping_resistance_ohm: f.damping.map(|(rd, _)| rd),
+        damping_capacitance_uf: f.damping.map(|(_, cd)| cd),
+        damping_ratio: ratio,
+        optimum_damping_resistance_ohm: optimum,
+        cm_inductance_mh: f.cm_inductance_mh,
+        cm_capacitance_nf,
+        cm_corner_hz,
+    })
+}
+
+/// Middlebrook's criterion for the declared stage, or for the proposed one (the declared X
+/// capacitor with the inductance for the required corner).
+pub fn middlebrook(
+    c: &ConverterFigures,
+    f: &super::FilterSpec,
+    x_capacitance_uf: Option<f64>,
+    proposed_inductance_uh: Option<f64>,
+    margin_db: f64,
+    steps: &mut Vec<Step>,
+) -> Option<Middlebrook> {
+    let (which, l_uh, r_l, c_uf, damping) = match (f.dm_inductance_uh, f.x_capacitance_uf) {
+        (Some(l), Some(cx)) => (
+            "declared",
+            l,
+            f.dm_inductor_resistance_ohm.unwrap_or(0.0),
+            cx,
+            f.damping,
+        ),
+        (None, _) => (
+            "proposed",
+            proposed_inductance_uh?,
+            0.0,
+            x_capacitance_uf?,
+            None,
+        ),
+        _ => return None,
+    };
+    let valid = [c.output_w, c.efficiency, c.bulk_v, l_uh, c_uf]
+        .iter()
+        .all(|v| v.is_finite() && *v > 0.0);
+    if !valid {
+        return None;
+    }
+    let stage = Stage {
+        inductance_h: l_uh * 1e-6,
+        inductor_resistance_ohm: r_l,
+        capacitance_f: c_uf * 1e-6,
+        damping: damping.map(|(rd, cd)| (rd, cd * 1e-6)),
+    };
+    let r0 = characteristic_impedance_ohm(stage.inductance_h, stage.capacitance_f);
+    let f0 = lc_corner_hz(stage.inductance_h, stage.capacitance_f);
+    let input_power_w = c.output_w / c.efficiency;
+    let z_in = c.bulk_v * c.bulk_v / input_power_w;
+    let allowed = z_in / 10f64.powf(margin_db / 20.0);
+    steps.push(step(
+        None,
+        format!(
+            "Converter input impedance at the lowest bulk voltage: |Z_in| = V^2 / P = {}^2 / ({} / {}) = {} ohm (a constant-power load looks like -V^2/P; Middlebrook's criterion asks the filter's output impedance to stay well below it).",
+            show(c.bulk_v),
+            show(c.output_w),
+            show(c.efficiency),
+            show(round_to(z_in, 0.001))
+        ),
+    ));
+    steps.push(step(
+        None,
+        format!(
+            "Allowed peak of the filter's output impedance: {} ohm / 10^({} / 20) = {} ohm.",
+            show(round_to(z_in, 0.001)),
+            show(margin_db),
+            show(round_to(allowed, 0.001))
+        ),
+    ));
+    steps.push(step(
+        None,
+        format!(
+            "The {which} stage: L = {} uH{}, C = {} uF; f0 = {} Hz, R0 = sqrt(L / C) = {} ohm{}.",
+            show(l_uh),
+            if r_l > 0.0 {
+                format!(" with {} ohm in series", show(r_l))
+            } else {
+                String::new()
+            },
+            show(c_uf),
+            show(hz_round(f0)),
+            show(round_to(r0, 0.001)),
+            match damping {
+                Some((rd, cd)) => format!(
+                    ", damped by {} ohm in series with {} uF across C",
+                    show(rd),
+                    show(cd)
+                ),
+                None => ", undamped".to_string(),
+            }
+        ),
+    ));
+    let peak = peak_output_impedance(&stage);
+    match peak {
+        Some((z, at)) => steps.push(step(
+            None,
+            format!(
+                "Peak output impedance |(R_L + j w L) || 1/(j w C){}| found by a frequency sweep: {} ohm at {} Hz.",
+                if damping.is_some() { " || (Rd + 1/(j w Cd))" } else { "" },
+                show(round_to(z, 0.001)),
+                show(hz_round(at))
+            ),
+        )),
+        None => steps.push(step(
+            None,
+            "Peak output impedance unbounded: a lossless, undamped LC stage resonates without limit at f0.",
+        )),
+    }
+    let satisfied = peak.is_some_and(|(z, _)| z <= allowed);
+    let proposed_damping = (!satisfied).then(|| {
+        let n = ratio_for_peak(r0, allowed);
+        let (rd, peak) = optimum_parallel_damping(r0, n);
+        steps.push(step(
+            None,
+            format!(
+                "Proposed parallel R-C damping: the smallest n = Cd / C whose optimum damping meets the allowed peak solves R0 sqrt(2 (2+n)) / n = {} ohm: n = {}; Cd = n C = {} uF; Rd = R0 sqrt((2+n)(4+3n) / (2 n^2 (4+n))) = {} ohm; peak {} ohm (Erickson and Maksimovic, Fundamentals of Power Electronics, 2nd ed., ch. 10; from memory).",
+                show(round_to(allowed, 0.001)),
+                show(round_to(n, 0.001)),
+                show(round_up(n * c_uf, 0.001)),
+                show(round_to(rd, 0.001)),
+                show(round_to(peak, 0.001))
+            ),
+        ));
+        Damping {
+            ratio: round_to(n, 0.001),
+            capacitance_uf: round_up(n * c_uf, 0.001),
+            resistance_ohm: round_to(rd, 0.001),
+            peak_output_impedance_ohm: round_to(peak, 0.001),
+        }
+    });
+    Some(Middlebrook {
+        filter: which,
+        inductance_uh: l_uh,
+        capacitance_uf: c_uf,
+        corner_hz: hz_round(f0),
+        characteristic_impedance_ohm: round_to(r0, 0.001),
+        bulk_v: c.bulk_v,
+        input_power_w: tidy(input_power_w),
+        converter_input_impedance_ohm: round_to(z_in, 0.001),
+        margin_db,
+        allowed_peak_ohm: round_to(allowed, 0.001),
+        peak_output_impedance_ohm: peak.map(|(z, _)| round_to(z, 0.001)),
+        peak_at_hz: peak.map(|(_, at)| hz_round(at)),
+        satisfied,
+        proposed_damping,
+    })
+}

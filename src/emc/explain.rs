@@ -1,0 +1,169 @@
+//! `gapwarden explain PROJECT emc.ITEM`: the derivation of one EMC figure as plain text.
+
+use super::EmcReport;
+use super::limits::frequency_words;
+use crate::spacing::{Step, show};
+
+/// The items `explain` knows, with what each shows.
+pub const ITEMS: &[(&str, &str)] = &[
+    ("emc", "every EMC figure"),
+    (
+        "emc.noise",
+        "the noise to beat: prescan points or the estimate's model",
+    ),
+    ("emc.limit", "the limit at the governing frequency"),
+    ("emc.attenuation", "the required attenuation"),
+    (
+        "emc.corner",
+        "the differential-mode and common-mode corners",
+    ),
+    (
+        "emc.dm_corner",
+        "the differential-mode corner and its inductance",
+    ),
+    ("emc.cm_corner", "the common-mode corner and its choke"),
+    (
+        "emc.y_capacitance",
+        "the touch-current cap on the Y capacitance",
+    ),
+    ("emc.filter", "the declared filter's corners and damping"),
+    (
+        "emc.middlebrook",
+        "the filter's output impedance against the converter's input impedance",
+    ),
+    ("emc.damping", "the same as emc.middlebrook"),
+    ("emc.points", "every point before and after the filter"),
+    ("emc.assumptions", "the defaults the EMC evaluation applied"),
+];
+
+fn hz(x: Option<f64>) -> String {
+    x.map(frequency_words)
+        .unwrap_or_else(|| "not computed".to_string())
+}
+
+fn num(x: Option<f64>, unit: &str) -> String {
+    x.map(|v| format!("{} {unit}", show(v)))
+        .unwrap_or_else(|| "not computed".to_string())
+}
+
+fn steps(out: &mut String, title: &str, steps: &[Step]) {
+    out.push_str(&format!("{title}:\n"));
+    if steps.is_empty() {
+        out.push_str("  (nothing to derive)\n");
+    }
+    for (i, s) in steps.iter().enumerate() {
+        match &s.rule {
+            Some(rule) => out.push_str(&format!("  {}. {} (rule {rule})\n", i + 1, s.text)),
+            None => out.push_str(&format!("  {}. {}\n", i + 1, s.text)),
+        }
+    }
+}
+
+fn headline(out: &mut String, r: &EmcReport) {
+    out.push_str(&format!(
+        "EMC, class {} limits, margin {} dB, noise from {}\n",
+        r.limit_class.as_str(),
+        show(r.margin_db),
+        r.noise_source
+    ));
+    out.push_str(&format!(
+        "governing frequency {}, limit {}, required attenuation {}\n",
+        hz(r.governing_frequency_hz),
+        num(r.limit_dbuv, "dBuV"),
+        num(r.required_attenuation_db, "dB")
+    ));
+    out.push_str(&format!(
+        "differential-mode corner {} (fourth order {}), common-mode corner {} (fourth order {})\n",
+        hz(r.dm_corner_hz),
+        hz(r.dm_corner_fourth_order_hz),
+        hz(r.cm_corner_hz),
+        hz(r.cm_corner_fourth_order_hz)
+    ));
+    out.push_str(&format!(
+        "largest Y capacitance per line {}\n",
+        num(r.max_y_capacitance_nf, "nF")
+    ));
+}
+
+fn points(out: &mut String, r: &EmcReport) {
+    out.push_str(&format!(
+        "points ({}); after the filter: {}\n",
+        r.points.len(),
+        r.after_filter
+    ));
+    for p in &r.points {
+        out.push_str(&format!(
+            "  {} {} {}: {} dBuV, limit {} dBuV ({}), needs {} dB, after {} dBuV\n",
+            frequency_words(p.frequency_hz),
+            p.mode,
+            p.detector,
+            show(p.level_dbuv),
+            show(p.limit_dbuv),
+            p.compared_with,
+            show(p.required_attenuation_db),
+            show(p.after_filter_dbuv)
+        ));
+    }
+    if r.harmonics_evaluated > 0 {
+        out.push_str(&format!(
+            "  ({} estimated harmonics evaluated; the list above is thinned)\n",
+            r.harmonics_evaluated
+        ));
+    }
+}
+
+/// Text for an EMC item, or `None` when `item` is not one.
+pub fn explain(r: &EmcReport, item: &str) -> Option<String> {
+    let d = &r.derivation;
+    let mut out = String::new();
+    match item {
+        "emc" => {
+            headline(&mut out, r);
+            steps(&mut out, "noise", &d.noise);
+            steps(&mut out, "limit", &d.limit);
+            steps(&mut out, "attenuation", &d.attenuation);
+            steps(&mut out, "differential-mode corner", &d.dm_corner);
+            steps(&mut out, "common-mode corner", &d.cm_corner);
+            steps(&mut out, "Y capacitance", &d.y_capacitance);
+            steps(&mut out, "declared filter", &d.filter);
+            steps(&mut out, "Middlebrook's criterion", &d.middlebrook);
+            out.push_str("other items: ");
+            let names: Vec<&str> = ITEMS.iter().map(|(n, _)| *n).collect();
+            out.push_str(&names.join(", "));
+            out.push('\n');
+        }
+        "emc.noise" => steps(&mut out, "noise", &d.noise),
+        "emc.limit" => steps(&mut out, "limit", &d.limit),
+        "emc.attenuation" => {
+            steps(&mut out, "limit", &d.limit);
+            steps(&mut out, "attenuation", &d.attenuation);
+        }
+        "emc.corner" => {
+            headline(&mut out, r);
+            steps(&mut out, "attenuation", &d.attenuation);
+            steps(&mut out, "differential-mode corner", &d.dm_corner);
+            steps(&mut out, "common-mode corner", &d.cm_corner);
+        }
+        "emc.dm_corner" => steps(&mut out, "differential-mode corner", &d.dm_corner),
+        "emc.cm_corner" => {
+            steps(&mut out, "common-mode corner", &d.cm_corner);
+            steps(&mut out, "Y capacitance", &d.y_capacitance);
+        }
+        "emc.y_capacitance" => steps(&mut out, "Y capacitance", &d.y_capacitance),
+        "emc.filter" => steps(&mut out, "declared filter", &d.filter),
+        "emc.middlebrook" | "emc.damping" => {
+            steps(&mut out, "Middlebrook's criterion", &d.middlebrook)
+        }
+        "emc.points" => points(&mut out, r),
+        "emc.assumptions" => {
+            if r.assumptions.is_empty() {
+                out.push_str("No defaults were applied in the EMC evaluation.\n");
+            }
+            for a in &r.assumptions {
+                out.push_str(&format!("- {a}\n"));
+            }
+        }
+        _ => return None,
+    }
+    Some(out)
+}
