@@ -229,7 +229,14 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         known.push(format!("{}.clearance", b.id));
         known.push(format!("{}.creepage", b.id));
     }
+    if report.power_entry.is_some() {
+        known.extend(["power_entry", "power_entry.inrush", "power_entry.fuse", "power_entry.discharge", "power_entry.touch"].map(String::from));
+    }
+    if report.emc.is_some() {
+        known.extend(["emc", "emc.corner", "emc.limit", "emc.attenuation", "emc.filter", "emc.middlebrook", "emc.points"].map(String::from));
+    }
     known.extend(report.findings.iter().map(|f| f.id.clone()));
+    known.sort();
     known.dedup();
     let refs: Vec<&str> = known.iter().map(String::as_str).collect();
     let mut d = Diagnostic::new(
