@@ -120,7 +120,7 @@ fn draw(
         for m in [1.0, 2.0, 5.0] {
             let f = decade * m;
             // Leave out a label that would crowd an end of the band.
-            if f > x.0 * 1.2 && f < x.1 / 1.2 {
+            if f > x.0 * 1.5 && f < x.1 / 1.2 {
                 labelled.push(f);
             }
         }
