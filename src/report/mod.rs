@@ -20,7 +20,7 @@ pub use render::{Templates, md_escape, render_html, render_json, render_markdown
 /// Cautions printed in every report.
 pub const CAUTIONS: &[&str] = &[
     "This checklist is advisory. Defer to the applicable end-product standard, local electrical codes and licensed or accredited review; it does not certify anything.",
-    "The rule tables were transcribed by hand, partly from memory of the published standards, and may carry transcription errors. Each table below says how it was checked: compare every figure with a licensed copy of the standard before relying on it.",
+    "The rule tables were copied out by hand, partly from memory of the published standards, and may carry copying errors. Each table below says how it was checked: compare every figure with a licensed copy of the standard before relying on it.",
     "Figures cover only what the project file declares. A barrier, circuit or part that is not described is not evaluated, and the absence of a finding is not evidence that a design is safe.",
     "No table is extrapolated: an input beyond a table's range is refused rather than estimated.",
 ];
