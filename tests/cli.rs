@@ -6,11 +6,13 @@
 //! relative to it, so messages and reports carry the paths as a user would type them.
 //! Fixtures in tests/fixtures/ are invented design scenarios, not real products.
 
+mod common;
+use common::*;
+
 use std::path::{Path, PathBuf};
 use std::process::Output;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use assert_cmd::cargo::cargo_bin_cmd;
 use serde_json::Value;
 
 const CLASS2: &str = "examples/class2-adapter.toml";
@@ -21,65 +23,6 @@ const HOSTILE: &str = "tests/fixtures/hostile-names.toml";
 // ---------------------------------------------------------------------------------------
 // Helpers
 // ---------------------------------------------------------------------------------------
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-/// The binary, started in the crate root.
-fn gapwarden() -> assert_cmd::Command {
-    let mut cmd = cargo_bin_cmd!("gapwarden");
-    cmd.current_dir(root());
-    cmd
-}
-
-fn run<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Output {
-    gapwarden()
-        .args(args)
-        .output()
-        .expect("the binary could be started")
-}
-
-fn run_in<S: AsRef<std::ffi::OsStr>>(dir: &Path, args: &[S]) -> Output {
-    let mut cmd = cargo_bin_cmd!("gapwarden");
-    cmd.current_dir(dir);
-    cmd.args(args)
-        .output()
-        .expect("the binary could be started")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
-}
-
-/// The exit code; a process killed by a signal (or a panic abort) fails the test.
-fn code(o: &Output) -> i32 {
-    o.status
-        .code()
-        .unwrap_or_else(|| panic!("terminated by a signal; stderr:\n{}", stderr(o)))
-}
-
-fn describe(o: &Output) -> String {
-    format!(
-        "exit {:?}\n--- stderr ---\n{}\n--- stdout (first 2000 bytes) ---\n{}",
-        o.status.code(),
-        stderr(o),
-        stdout(o).chars().take(2000).collect::<String>()
-    )
-}
-
-fn assert_exit(o: &Output, expected: i32) {
-    assert_eq!(code(o), expected, "wrong exit status\n{}", describe(o));
-    assert!(
-        !stderr(o).contains("panicked"),
-        "the binary panicked\n{}",
-        describe(o)
-    );
-}
 
 fn json(o: &Output) -> Value {
     serde_json::from_slice(&o.stdout)

@@ -9,11 +9,12 @@
 //! and numerical integration done here. None is read from rules/. Fixtures in
 //! tests/fixtures/emc-*.toml are invented design scenarios, not real products.
 
+mod common;
+use common::*;
+
 use std::f64::consts::PI;
-use std::path::Path;
 use std::process::Output;
 
-use assert_cmd::cargo::cargo_bin_cmd;
 use serde_json::Value;
 
 use gapwarden::diag::Source;
@@ -33,50 +34,8 @@ use gapwarden::rules::RuleBook;
 // Helpers
 // ---------------------------------------------------------------------------------------
 
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
 fn fixture(name: &str) -> String {
     format!("tests/fixtures/{name}")
-}
-
-fn run<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Output {
-    let mut cmd = cargo_bin_cmd!("gapwarden");
-    cmd.current_dir(root());
-    cmd.args(args)
-        .output()
-        .expect("the binary could be started")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
-}
-
-fn describe(o: &Output) -> String {
-    format!(
-        "exit {:?}\n--- stderr ---\n{}\n--- stdout (first 3000 bytes) ---\n{}",
-        o.status.code(),
-        stderr(o),
-        stdout(o).chars().take(3000).collect::<String>()
-    )
-}
-
-fn assert_exit(o: &Output, expected: i32) {
-    let code = o
-        .status
-        .code()
-        .unwrap_or_else(|| panic!("terminated by a signal\n{}", describe(o)));
-    assert_eq!(code, expected, "wrong exit status\n{}", describe(o));
-    assert!(
-        !stderr(o).contains("panicked"),
-        "the binary panicked\n{}",
-        describe(o)
-    );
 }
 
 fn check_json(name: &str) -> (Output, Value) {

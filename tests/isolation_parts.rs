@@ -10,70 +10,20 @@
 //! laid out generously (reinforced 8 mm, basic 4 mm) so that only the behaviour under test
 //! raises a finding.
 
+mod common;
+use common::*;
+
 use std::ops::RangeInclusive;
-use std::path::Path;
 use std::process::Output;
 
-use assert_cmd::cargo::cargo_bin_cmd;
 use serde_json::Value;
 
 // ---------------------------------------------------------------------------------------
 // Helpers
 // ---------------------------------------------------------------------------------------
 
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
 fn fixture(name: &str) -> String {
     format!("tests/fixtures/{name}")
-}
-
-/// The binary, started in the crate root.
-fn gapwarden() -> assert_cmd::Command {
-    let mut cmd = cargo_bin_cmd!("gapwarden");
-    cmd.current_dir(root());
-    cmd
-}
-
-fn run<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Output {
-    gapwarden()
-        .args(args)
-        .output()
-        .expect("the binary could be started")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
-}
-
-/// The exit code; a process killed by a signal (or a panic abort) fails the test.
-fn code(o: &Output) -> i32 {
-    o.status
-        .code()
-        .unwrap_or_else(|| panic!("terminated by a signal; stderr:\n{}", stderr(o)))
-}
-
-fn describe(o: &Output) -> String {
-    format!(
-        "exit {:?}\n--- stderr ---\n{}\n--- stdout (first 3000 bytes) ---\n{}",
-        o.status.code(),
-        stderr(o),
-        stdout(o).chars().take(3000).collect::<String>()
-    )
-}
-
-fn assert_exit(o: &Output, expected: i32) {
-    assert_eq!(code(o), expected, "wrong exit status\n{}", describe(o));
-    assert!(
-        !stderr(o).contains("panicked"),
-        "the binary panicked\n{}",
-        describe(o)
-    );
 }
 
 fn json(o: &Output) -> Value {

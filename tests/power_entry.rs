@@ -14,11 +14,13 @@
 //! copy with one value changed into a scratch folder (`variant`), so each pass/fail pair
 //! differs in exactly the value under test.
 
+mod common;
+use common::*;
+
 use std::f64::consts::{PI, SQRT_2};
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::Output;
 
-use assert_cmd::cargo::cargo_bin_cmd;
 use serde_json::Value;
 
 use gapwarden::power_entry::rectifier::{
@@ -30,44 +32,6 @@ use gapwarden::power_entry::rectifier::{
 // ---------------------------------------------------------------------------------------
 
 const BASE: &str = "tests/fixtures/pe-adapter.toml";
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn run<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Output {
-    let mut cmd = cargo_bin_cmd!("gapwarden");
-    cmd.current_dir(root());
-    cmd.args(args)
-        .output()
-        .expect("the binary could be started")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
-}
-
-fn describe(o: &Output) -> String {
-    format!(
-        "exit {:?}\n--- stderr ---\n{}\n--- stdout (first 4000 bytes) ---\n{}",
-        o.status.code(),
-        stderr(o),
-        stdout(o).chars().take(4000).collect::<String>()
-    )
-}
-
-fn assert_exit(o: &Output, expected: i32) {
-    let code = o
-        .status
-        .code()
-        .unwrap_or_else(|| panic!("terminated by a signal\n{}", describe(o)));
-    assert_eq!(code, expected, "wrong exit status\n{}", describe(o));
-    assert!(!stderr(o).contains("panicked"), "panicked\n{}", describe(o));
-}
 
 fn check_json(path: &str) -> (Output, Value) {
     let o = run(&["check", path, "--format", "json"]);

@@ -1,0 +1,62 @@
+//! Helpers shared by the end-to-end tests: run the real binary from the crate root and
+//! read what it printed. Each test file uses the ones it needs.
+#![allow(dead_code)]
+
+use std::path::Path;
+use std::process::Output;
+
+use assert_cmd::cargo::cargo_bin_cmd;
+
+/// The crate root: examples and fixtures are named relative to it.
+pub fn root() -> &'static Path {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Runs the binary in the crate root.
+pub fn run<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Output {
+    run_in(root(), args)
+}
+
+/// Runs the binary in another folder.
+pub fn run_in<S: AsRef<std::ffi::OsStr>>(dir: &Path, args: &[S]) -> Output {
+    let mut cmd = cargo_bin_cmd!("gapwarden");
+    cmd.current_dir(dir);
+    cmd.args(args)
+        .output()
+        .expect("the binary could be started")
+}
+
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
+}
+
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
+}
+
+/// The exit code; a process killed by a signal (or a panic abort) fails the test.
+pub fn code(o: &Output) -> i32 {
+    o.status
+        .code()
+        .unwrap_or_else(|| panic!("terminated by a signal; stderr:\n{}", stderr(o)))
+}
+
+/// Exit status, stderr and the start of stdout, for failure messages.
+pub fn describe(o: &Output) -> String {
+    format!(
+        "exit {:?}\n--- stderr ---\n{}\n--- stdout (first 3000 bytes) ---\n{}",
+        o.status.code(),
+        stderr(o),
+        stdout(o).chars().take(3000).collect::<String>()
+    )
+}
+
+/// The exit status is `expected` and nothing panicked.
+pub fn assert_exit(o: &Output, expected: i32) {
+    assert_eq!(code(o), expected, "wrong exit status\n{}", describe(o));
+    assert!(
+        !stderr(o).contains("panicked"),
+        "the binary panicked\n{}",
+        describe(o)
+    );
+}
