@@ -67,6 +67,10 @@ pub struct IsolationReport {
     pub diagram: String,
 }
 
+/// A search from one hazardous circuit: the weakest level reaching each circuit, and the
+/// (circuit, barrier) it was reached from.
+type Search = (Vec<Option<u8>>, Vec<Option<(usize, usize)>>);
+
 /// The graph of a project: adjacency lists of (neighbour, barrier index).
 struct Graph<'p> {
     project: &'p Project,
@@ -99,7 +103,7 @@ impl<'p> Graph<'p> {
         &self,
         source: usize,
         stop_at: &[bool],
-    ) -> (Vec<Option<u8>>, Vec<Option<(usize, usize)>>) {
+    ) -> Search {
         let n = self.adjacent.len();
         let mut best: Vec<Option<(u8, usize)>> = vec![None; n];
         let mut before: Vec<Option<(usize, usize)>> = vec![None; n];
@@ -214,7 +218,7 @@ fn judge_pair(
     a: usize,
     level: &[Option<u8>],
     before: &[Option<(usize, usize)>],
-    reach: Option<&(Vec<Option<u8>>, Vec<Option<(usize, usize)>>)>,
+    reach: Option<&Search>,
     earthed: &[bool],
 ) -> PairResult {
     let circuits = &graph.project.circuits;
