@@ -38,7 +38,7 @@ pub enum Format {
 /// Reads a project file and evaluates it.
 pub fn check_file(path: &Path, rules: &RuleBook) -> Result<Report, Problems> {
     let name = path.display().to_string();
-    let text = crate::read_text(path).map_err(|m| Diagnostic::new(&name, m))?;
+    let text = crate::read_text(path, &name)?;
     check_source(&Source::new(name, text), rules)
 }
 
@@ -230,10 +230,30 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         known.push(format!("{}.creepage", b.id));
     }
     if report.power_entry.is_some() {
-        known.extend(["power_entry", "power_entry.inrush", "power_entry.fuse", "power_entry.discharge", "power_entry.touch"].map(String::from));
+        known.extend(
+            [
+                "power_entry",
+                "power_entry.inrush",
+                "power_entry.fuse",
+                "power_entry.discharge",
+                "power_entry.touch",
+            ]
+            .map(String::from),
+        );
     }
     if report.emc.is_some() {
-        known.extend(["emc", "emc.corner", "emc.limit", "emc.attenuation", "emc.filter", "emc.middlebrook", "emc.points"].map(String::from));
+        known.extend(
+            [
+                "emc",
+                "emc.corner",
+                "emc.limit",
+                "emc.attenuation",
+                "emc.filter",
+                "emc.middlebrook",
+                "emc.points",
+            ]
+            .map(String::from),
+        );
     }
     known.extend(report.findings.iter().map(|f| f.id.clone()));
     known.sort();

@@ -99,11 +99,7 @@ impl<'p> Graph<'p> {
     /// Weakest insulation level from `source` to every circuit, with the predecessor on
     /// the weakest path; among equally weak paths, the one with the fewest barriers.
     /// Circuits in `stop_at` are reached but not passed through.
-    fn weakest(
-        &self,
-        source: usize,
-        stop_at: &[bool],
-    ) -> Search {
+    fn weakest(&self, source: usize, stop_at: &[bool]) -> Search {
         let n = self.adjacent.len();
         let mut best: Vec<Option<(u8, usize)>> = vec![None; n];
         let mut before: Vec<Option<(usize, usize)>> = vec![None; n];

@@ -25,22 +25,33 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     digest.iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// Reads a text file, with a message a designer understands when that fails.
-pub fn read_text(path: &Path) -> Result<String, String> {
+/// Reads a text file, with a message a designer understands when that fails; `name` is
+/// how the file is named in the message (as given, never made absolute). A byte that is
+/// not UTF-8 is located by line and column.
+pub fn read_text(path: &Path, name: &str) -> Result<String, diag::Diagnostic> {
+    let fail = |m: String| diag::Diagnostic::new(name, m);
     if path.is_dir() {
-        return Err("is a folder, not a file".to_string());
+        return Err(fail("is a folder, not a file".to_string()));
     }
     let bytes = std::fs::read(path).map_err(|e| match e.kind() {
-        std::io::ErrorKind::NotFound => "no such file".to_string(),
+        std::io::ErrorKind::NotFound => fail("no such file".to_string()),
         std::io::ErrorKind::PermissionDenied => {
-            "permission denied: the file cannot be read".to_string()
+            fail("permission denied: the file cannot be read".to_string())
         }
-        _ => format!("cannot be read: {e}"),
+        _ => fail(format!("cannot be read: {e}")),
     })?;
     String::from_utf8(bytes).map_err(|e| {
-        format!(
-            "is not valid UTF-8 text (first bad byte at offset {}); save it as UTF-8",
-            e.utf8_error().valid_up_to()
-        )
+        let valid = e.utf8_error().valid_up_to();
+        let before = String::from_utf8_lossy(&e.as_bytes()[..valid]).to_string();
+        let line = before.matches('\n').count() + 1;
+        let column = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+        diag::Diagnostic {
+            line: Some(line),
+            column: Some(column),
+            ..fail(
+                "is not valid UTF-8 text here (a byte that is not UTF-8); save the file as UTF-8"
+                    .to_string(),
+            )
+        }
     })
 }

@@ -287,7 +287,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             let rules = RuleBook::load(rules.as_deref())?;
             let read = |path: &PathBuf| -> Result<(String, gapwarden::report::Report), Problems> {
                 let name = path.display().to_string();
-                let text = gapwarden::read_text(path).map_err(|m| Diagnostic::new(&name, m))?;
+                let text = gapwarden::read_text(path, &name)?;
                 let report = gapwarden::report::check_source(
                     &gapwarden::diag::Source::new(name, text.clone()),
                     &rules,

@@ -27,6 +27,9 @@ pub struct NumberRule {
     pub min_inclusive: bool,
     /// Highest allowed value (inclusive).
     pub max: f64,
+    /// Below this (and above zero) the value is accepted with a warning that it looks
+    /// implausible: a value in farads where nanofarads were meant, say.
+    pub plausible_min: f64,
     /// Above this the value is accepted with a warning that it looks implausible.
     pub plausible_max: f64,
     pub integer: bool,
@@ -59,6 +62,12 @@ impl NumberRule {
                 "{value} is out of range; expected {}",
                 self.expected
             ));
+        }
+        if value > 0.0 && value < self.plausible_min {
+            return Ok(Some(format!(
+                "{value} is unusually small (below {}); check the unit",
+                self.plausible_min
+            )));
         }
         if value > self.plausible_max {
             return Ok(Some(format!(

@@ -110,6 +110,11 @@ fn hz_round(hz: f64) -> f64 {
     round_to(hz, hz_step(hz))
 }
 
+/// Whether a computed figure can be reported (not infinite, not NaN).
+fn finite(x: f64) -> bool {
+    x.is_finite()
+}
+
 fn round_to(x: f64, step: f64) -> f64 {
     tidy((x / step).round() * step)
 }
@@ -558,6 +563,19 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (None, None) => (None, ""),
     };
     let dm_inductance_for_corner_uh = match (dm_corner_hz, x_capacitance_uf) {
+        (Some(fc), Some(cx))
+            if fc > 0.0 && !finite(inductance_for_corner_h(fc, cx * 1e-6) * 1e6) =>
+        {
+            d.dm_corner.push(step(
+                None,
+                format!(
+                    "The X capacitance from {x_from} is {} uF: no finite inductance puts the corner at {} Hz with it, so the inductance for the corner is not computed.",
+                    show(cx),
+                    show(fc)
+                ),
+            ));
+            None
+        }
         (Some(fc), Some(cx)) if fc > 0.0 => {
             let l = inductance_for_corner_h(fc, cx * 1e-6) * 1e6;
             let l = round_up(l, 0.001);
@@ -583,6 +601,19 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     };
     let cm_capacitance_used_nf = y_used_nf.map(|y| y * arrangement.common_mode_factor());
     let cm_inductance_for_corner_mh = match (cm_corner_hz, cm_capacitance_used_nf, y_used_nf) {
+        (Some(fc), Some(c), Some(_))
+            if fc > 0.0 && !finite(inductance_for_corner_h(fc, c * 1e-9) * 1e3) =>
+        {
+            d.cm_corner.push(step(
+                None,
+                format!(
+                    "Common-mode capacitance {} nF: no finite choke puts the corner at {} Hz with it, so the choke for the corner is not computed.",
+                    show(c),
+                    show(fc)
+                ),
+            ));
+            None
+        }
         (Some(fc), Some(cm_capacitance_used_nf), Some(y_used_nf))
             if fc > 0.0 && cm_capacitance_used_nf > 0.0 =>
         {
@@ -958,7 +989,19 @@ fn declared_filter(
         return None;
     }
     let (mut dm_corner_hz, mut r0) = (None, None);
-    if let (Some(l), Some(c)) = (f.dm_inductance_uh, f.x_capacitance_uf) {
+    if let (Some(l), Some(c)) = (f.dm_inductance_uh, f.x_capacitance_uf)
+        && !(finite(lc_corner_hz(l * 1e-6, c * 1e-6))
+            && finite(characteristic_impedance_ohm(l * 1e-6, c * 1e-6)))
+    {
+        steps.push(step(
+            None,
+            format!(
+                "Declared differential-mode corner not computed: {} uH with {} uF gives no finite corner or R0.",
+                show(l),
+                show(c)
+            ),
+        ));
+    } else if let (Some(l), Some(c)) = (f.dm_inductance_uh, f.x_capacitance_uf) {
         let fc = lc_corner_hz(l * 1e-6, c * 1e-6);
         let z = characteristic_impedance_ohm(l * 1e-6, c * 1e-6);
         steps.push(step(
@@ -975,7 +1018,20 @@ fn declared_filter(
         r0 = Some(z);
     }
     let (mut ratio, mut optimum) = (None, None);
-    if let (Some((_, cd)), Some(c), Some(z)) = (f.damping, f.x_capacitance_uf, r0) {
+    if let (Some((_, cd)), Some(c), Some(z)) = (f.damping, f.x_capacitance_uf, r0)
+        && !(finite(cd / c)
+            && finite(optimum_parallel_damping(z, cd / c).0)
+            && finite(optimum_parallel_damping(z, cd / c).1))
+    {
+        steps.push(step(
+            None,
+            format!(
+                "Declared damping ratio not computed: Cd = {} uF over C = {} uF gives no finite ratio or optimum Rd.",
+                show(cd),
+                show(c)
+            ),
+        ));
+    } else if let (Some((_, cd)), Some(c), Some(z)) = (f.damping, f.x_capacitance_uf, r0) {
         let n = cd / c;
         let (rd, peak) = optimum_parallel_damping(z, n);
         steps.push(step(
@@ -992,9 +1048,22 @@ fn declared_filter(
         ratio = Some(tidy(n));
         optimum = Some(round_to(rd, 0.001));
     }
-    let cm_capacitance_nf = y_capacitance_nf.map(|y| tidy(y * arrangement.common_mode_factor()));
+    // Unrounded: it is a divisor (a tiny Y capacitance would round to 0 nF).
+    let cm_capacitance_exact_nf = y_capacitance_nf.map(|y| y * arrangement.common_mode_factor());
+    let cm_capacitance_nf = cm_capacitance_exact_nf.map(tidy);
     let mut cm_corner_hz = None;
-    if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_nf) {
+    if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_exact_nf)
+        && !finite(lc_corner_hz(l * 1e-3, c * 1e-9))
+    {
+        steps.push(step(
+            None,
+            format!(
+                "Declared common-mode corner not computed: {} mH with {} nF gives no finite corner.",
+                show(l),
+                show(c)
+            ),
+        ));
+    } else if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_exact_nf) {
         let fc = lc_corner_hz(l * 1e-3, c * 1e-9);
         steps.push(step(
             None,
@@ -1067,6 +1136,21 @@ pub fn middlebrook(
     let input_power_w = c.output_w / c.efficiency;
     let z_in = c.bulk_v * c.bulk_v / input_power_w;
     let allowed = z_in / 10f64.powf(margin_db / 20.0);
+    if ![r0, f0, input_power_w, z_in, allowed]
+        .into_iter()
+        .all(finite)
+        || allowed <= 0.0
+    {
+        steps.push(step(
+            None,
+            format!(
+                "Filter stability against the converter not checked: the {which} stage ({} uH, {} uF) and the converter figures give no finite corner, R0 or converter input impedance.",
+                show(l_uh),
+                show(c_uf)
+            ),
+        ));
+        return None;
+    }
     steps.push(step(
         None,
         format!(
@@ -1129,6 +1213,17 @@ pub fn middlebrook(
     let proposed_damping = (!satisfied).then(|| {
         let n = ratio_for_peak(r0, allowed);
         let (rd, peak) = optimum_parallel_damping(r0, n);
+        if ![n, n * c_uf, rd, peak].into_iter().all(finite) {
+            steps.push(step(
+                None,
+                format!(
+                    "Parallel R-C damping not proposed: for an allowed peak of {} ohm against R0 = {} ohm the ratio n = Cd / C, Cd or Rd is not a finite figure.",
+                    show(round_to(allowed, 0.001)),
+                    show(round_to(r0, 0.001))
+                ),
+            ));
+            return None;
+        }
         steps.push(step(
             None,
             format!(
@@ -1140,13 +1235,13 @@ pub fn middlebrook(
                 show(round_to(peak, 0.001))
             ),
         ));
-        Damping {
+        Some(Damping {
             ratio: round_to(n, 0.001),
             capacitance_uf: round_up(n * c_uf, 0.001),
             resistance_ohm: round_to(rd, 0.001),
             peak_output_impedance_ohm: round_to(peak, 0.001),
-        }
-    });
+        })
+    }).flatten();
     Some(Middlebrook {
         filter: which,
         inductance_uh: l_uh,

@@ -57,6 +57,13 @@ impl Figure {
     }
 
     fn done(self, inputs: Vec<Input>, judged_against: Option<String>, steps: Vec<Step>) -> Derived {
+        let mut steps = steps;
+        if self.value.is_some_and(|v| !v.is_finite()) {
+            steps.push(step(
+                None,
+                "Not computed: with these inputs the formula gives no finite figure (a divisor is zero or too small, or a value overflows).",
+            ));
+        }
         Derived {
             id: self.id,
             title: self.title,
@@ -626,7 +633,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             && let Some(valley) = point.bulk_valley_v
         {
             let t = c_f * (valley * valley - conv.min_bulk_v * conv.min_bulk_v) / (2.0 * load_w);
-            let value = (t > 0.0).then_some(t * 1e3);
+            let value = (t > 0.0 && (t * 1e3).is_finite()).then_some(t * 1e3);
             hold_up = value.map(significant);
             figures.push(
                 Figure::new(
@@ -648,6 +655,8 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
                         None,
                         if value.is_some() {
                             "Energy balance at constant power: C (V1² - V2²) / 2 = P t; a mains drop-out at the valley is the worst case."
+                        } else if !t.is_finite() {
+                            "Not computed: with these figures the energy balance gives no finite time (the load power is too small to divide by)."
                         } else {
                             "The valley is already at or below min_bulk_v: no hold-up."
                         },
@@ -805,10 +814,14 @@ fn point_figures(
             None,
             vec![step(
                 None,
-                format!(
-                    "Cross-check, textbook upper bound for a full-wave rectifier (discharge over the whole half-cycle): dV <= P / (V_pk × 2 f × C) = {} V.",
-                    show(ripple_bound)
-                ),
+                if ripple_bound.is_finite() {
+                    format!(
+                        "Cross-check, textbook upper bound for a full-wave rectifier (discharge over the whole half-cycle): dV <= P / (V_pk × 2 f × C) = {} V.",
+                        show(ripple_bound)
+                    )
+                } else {
+                    "Cross-check, textbook upper bound for a full-wave rectifier, dV <= P / (V_pk × 2 f × C): not computed, it gives no finite figure (the source peak is too small to divide by).".to_string()
+                },
             )],
         ),
     ];
@@ -829,7 +842,11 @@ fn point_figures(
                     input("R_hot", r_hot_lim, "Ω", "limiter resistance in operation"),
                 ],
                 None,
-                vec![step(None, format!("For scale: the average current into the bulk capacitor is about P / V_pk = {} A.", show(i_avg)))],
+                vec![step(None, if i_avg.is_finite() {
+                    format!("For scale: the average current into the bulk capacitor is about P / V_pk = {} A.", show(i_avg))
+                } else {
+                    "For scale: the average current into the bulk capacitor, P / V_pk, is not computed (the source peak is too small to divide by).".to_string()
+                })],
             ),
         );
     }

@@ -43,21 +43,27 @@ const fn above_zero(max: f64, plausible_max: f64, expected: &'static str) -> Num
         min: 0.0,
         min_inclusive: false,
         max,
+        plausible_min: 0.0,
         plausible_max,
         integer: false,
         expected,
     }
 }
 
-const BULK_UF: NumberRule = above_zero(
-    1e6,
-    10_000.0,
-    "a capacitance in microfarads, above 0 (47 for 47 uF)",
-);
+const BULK_UF: NumberRule = NumberRule {
+    // Below 0.1 uF a bulk capacitor was most likely written in farads.
+    plausible_min: 0.1,
+    ..above_zero(
+        1e6,
+        10_000.0,
+        "a capacitance in microfarads, above 0 (47 for 47 uF)",
+    )
+};
 const SERIES_OHM: NumberRule = NumberRule {
     min: 1e-6,
     min_inclusive: true,
     max: 1e6,
+    plausible_min: 0.0,
     plausible_max: 100.0,
     integer: false,
     expected: "a resistance in ohms, at least 0.000001 (every charging path has some: line, bridge, ESR)",
@@ -67,6 +73,7 @@ const DROP_V: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: true,
     max: 100.0,
+    plausible_min: 0.0,
     plausible_max: 5.0,
     integer: false,
     expected: "the total forward drop of two bridge diodes in volts, 0 or more",
@@ -75,6 +82,7 @@ const X_UF: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: true,
     max: 10_000.0,
+    plausible_min: 0.0001,
     plausible_max: 10.0,
     integer: false,
     expected: "a capacitance in microfarads, 0 or more (0.47 for 470 nF)",
@@ -91,28 +99,49 @@ const FUSE_A: NumberRule = above_zero(1e4, 100.0, "a rated current in amperes, a
 const I2T_A2S: NumberRule = above_zero(1e9, 1e5, "a melting I2t in A2s, above 0");
 const BREAKING_A: NumberRule = above_zero(1e7, 1e5, "a breaking capacity in amperes, above 0");
 const RATED_V: NumberRule = above_zero(1e5, 1_000.0, "a rated voltage in volts, above 0");
-const OUTPUT_W: NumberRule = above_zero(1e7, 10_000.0, "an output power in watts, above 0");
+/// Below a milliwatt no mains converter's output is meant (the hold-up time and the
+/// operating point divide by it).
+const OUTPUT_W: NumberRule = NumberRule {
+    min: 0.001,
+    min_inclusive: true,
+    ..above_zero(1e7, 10_000.0, "an output power in watts, at least 0.001")
+};
+/// Below 1 % no converter's efficiency is meant (the input power divides by it).
 const EFFICIENCY: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
+    min: 0.01,
+    min_inclusive: true,
     max: 1.0,
+    plausible_min: 0.0,
     plausible_max: 1.0,
     integer: false,
-    expected: "an efficiency as a fraction, above 0 and at most 1 (0.86 for 86 %)",
+    expected: "an efficiency as a fraction, at least 0.01 and at most 1 (0.86 for 86 %)",
 };
 const MIN_BULK_V: NumberRule = above_zero(
     1e5,
     1_000.0,
     "the lowest bulk voltage in volts at which the converter regulates, above 0",
 );
-const SWITCHING_HZ: NumberRule = above_zero(1e10, 1e7, "a switching frequency in hertz, above 0");
+/// The lowest switching frequency the noise estimate can use. Below 1 kHz a figure is no
+/// switching converter's (most likely a value in kilohertz or megahertz written into a
+/// hertz key), and it would put tens of thousands of harmonics into the conducted band.
+pub(crate) const MIN_SWITCHING_HZ: f64 = 1_000.0;
+const SWITCHING_HZ: NumberRule = NumberRule {
+    min: MIN_SWITCHING_HZ,
+    min_inclusive: true,
+    ..above_zero(
+        1e10,
+        1e7,
+        "a switching frequency in hertz, at least 1000 (65000 for 65 kHz)",
+    )
+};
 const MAX_DUTY: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: false,
     max: 1.0,
+    plausible_min: 0.0,
     plausible_max: 1.0,
     integer: false,
-    expected: "a duty cycle as a fraction, above 0 and at most 1 (0.45 for 45 %)",
+    expected: "a duty cycle as a fraction, above 0 and below 1 (0.45 for 45 %)",
 };
 
 fn value(l: Option<Located<f64>>) -> Option<f64> {
@@ -300,12 +329,70 @@ fn read_fuse(r: &mut Reader, t: &TableRef) -> Option<FuseSpec> {
     })
 }
 
+/// The value as written in the file (for messages: `1e-300`, not its long decimal form).
+fn written(r: &Reader, span: &crate::toml_read::Span) -> String {
+    r.source
+        .text
+        .get(span.clone())
+        .map(|s| s.trim().to_string())
+        .filter(|s| !s.is_empty())
+        .unwrap_or_default()
+}
+
+/// Reads a number, first refusing (at its line, with the value as written) one below
+/// `rule.min` or at/above `below`, so that the message shows what the user typed.
+fn bounded_number(
+    r: &mut Reader,
+    t: &TableRef,
+    key: &str,
+    rule: &NumberRule,
+    below: Option<f64>,
+) -> Option<Located<f64>> {
+    let before = r.problems.len();
+    let wide = NumberRule {
+        min: f64::MIN,
+        min_inclusive: true,
+        max: f64::MAX,
+        plausible_min: 0.0,
+        plausible_max: f64::MAX,
+        ..*rule
+    };
+    let mut warnings = std::mem::take(&mut r.warnings);
+    let probe = r.required_number(t, key, &wide);
+    std::mem::swap(&mut r.warnings, &mut warnings);
+    if r.problems.len() > before {
+        // Not a number at all (or missing): the wide reading said so already.
+        return None;
+    }
+    let probe = probe?;
+    let v = probe.value;
+    let too_low = if rule.min_inclusive {
+        v < rule.min
+    } else {
+        v <= rule.min
+    };
+    let too_high = v > rule.max || below.is_some_and(|b| v >= b);
+    if too_low || too_high {
+        let text = written(r, &probe.span);
+        r.error(
+            &probe.span,
+            format!("{}.{key}", t.path),
+            format!("{text} is out of range; expected {}", rule.expected),
+        );
+        return None;
+    }
+    // In range: read it again through the rule for its warnings.
+    r.required_number(t, key, rule)
+}
+
 fn read_converter(r: &mut Reader, t: &TableRef) -> Option<ConverterSpec> {
     let output = r.required_number(t, "output_w", &OUTPUT_W);
     let efficiency = r.required_number(t, "efficiency", &EFFICIENCY);
     let min_bulk = r.required_number(t, "min_bulk_v", &MIN_BULK_V);
-    let switching = r.required_number(t, "switching_hz", &SWITCHING_HZ);
-    let duty = r.required_number(t, "max_duty", &MAX_DUTY);
+    let switching = bounded_number(r, t, "switching_hz", &SWITCHING_HZ, None);
+    // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
+    // a duty below 1.
+    let duty = bounded_number(r, t, "max_duty", &MAX_DUTY, Some(1.0));
     Some(ConverterSpec {
         output_w: output?.value,
         efficiency: efficiency?.value,

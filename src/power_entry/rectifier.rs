@@ -11,8 +11,10 @@
 //! quadratic in `v` solved in closed form.
 //!
 //! The steady state is the fixed point of the half-cycle map `v(0) -> v(T/2)` (starting
-//! at a zero crossing of the mains, where the bridge is off), found by a secant search
-//! kept inside a bracket, with a bounded number of half-cycles. Every loop is bounded.
+//! at a zero crossing of the mains, where the bridge is off): the stable one, the highest
+//! root of `map(v) - v`, found by Newton steps kept inside bounds proven from the monotone
+//! map (never the unstable root below it or the collapse boundary), with a bounded number of
+//! half-cycles. Every loop is bounded.
 
 use serde::Serialize;
 
@@ -162,7 +164,11 @@ pub fn steady_state_with(
             ..Waveform::default()
         };
     }
-    if sim.run(start, Some(&mut tally), recorder).is_err() {
+    if sim.run(start, Some(&mut tally), recorder).is_err()
+        || tally.v_min.is_nan()
+        || tally.v_min <= sim.floor
+    {
+        // A valley at the collapse floor is a collapsed bulk, not an operating point.
         return unsustained(half_cycles + 1);
     }
     let n = steps as f64;
@@ -235,13 +241,14 @@ impl HalfCycle {
         Ok(square.sqrt())
     }
 
-    /// One half-cycle from `v0` at a zero crossing; returns the voltage at the next one.
+    /// One half-cycle from `v0` at a zero crossing; returns the voltage at the next one and
+    /// its derivative with respect to `v0` (the slope of the discrete half-cycle map).
     fn run(
         &self,
         v0: f64,
         mut tally: Option<&mut Tally>,
         mut wave: Option<&mut Waveform>,
-    ) -> Result<f64, Collapse> {
+    ) -> Result<(f64, f64), Collapse> {
         let (h, rr, c, p) = (self.h, self.r, self.c, self.p);
         if let Some(t) = tally.as_deref_mut() {
             *t = Tally {
@@ -257,11 +264,13 @@ impl HalfCycle {
         }
         let mut v_prev = v0;
         let mut v = v0;
+        let mut dv_prev = 1.0;
+        let mut dv = 1.0;
         let mut conducting = false;
         for (n, &source) in self.source.iter().enumerate() {
             let u = source - self.drop;
             let v_off = self.discharged(v, h)?;
-            let (v_next, i) = if u > v_off {
+            let (v_next, i, dv_next) = if u > v_off {
                 // Implicit step: a v_{n+1} = A + k ((u - v)/R - P/v), a quadratic in v.
                 let (a, b, beta) = if conducting {
                     (4.0 / 3.0, 1.0 / 3.0, 2.0 / 3.0)
@@ -276,16 +285,18 @@ impl HalfCycle {
                 if disc < 0.0 {
                     return Err(Collapse);
                 }
-                let v_next = (qb + disc.sqrt()) / (2.0 * qa);
+                let root = disc.sqrt();
+                let v_next = (qb + root) / (2.0 * qa);
+                let dv_next = (1.0 + qb / root) / (2.0 * qa) * (a * dv - b * dv_prev);
                 if !conducting && let Some(t) = tally.as_deref_mut() {
                     let onset = self.onset_voltage(v, n);
                     t.v_min = t.v_min.min(onset);
                 }
                 conducting = true;
-                (v_next, ((u - v_next) / rr).max(0.0))
+                (v_next, ((u - v_next) / rr).max(0.0), dv_next)
             } else {
                 conducting = false;
-                (v_off, 0.0)
+                (v_off, 0.0, v / v_off * dv)
             };
             if !(v_next.is_finite() && v_next > self.floor) {
                 return Err(Collapse);
@@ -307,8 +318,10 @@ impl HalfCycle {
             }
             v_prev = v;
             v = v_next;
+            dv_prev = dv;
+            dv = dv_next;
         }
-        Ok(v)
+        Ok((v, dv))
     }
 
     /// The bulk voltage at the instant conduction starts inside step `n` (from `v_n` at
@@ -335,68 +348,153 @@ impl HalfCycle {
         (v_n * v_n - 2.0 * self.p * hi / self.c).max(0.0).sqrt()
     }
 
+    /// `g(v) = map(v) - v` and its slope at one start voltage, or `None` on collapse.
+    fn probe(&self, v: f64) -> Option<Probe> {
+        let (end, slope) = self.run(v, None, None).ok()?;
+        Some(Probe {
+            v,
+            g: end - v,
+            s: slope - 1.0,
+        })
+    }
+
     /// The start voltage that repeats after one half-cycle: `(voltage, half-cycles run,
     /// converged)`, or `Err(half-cycles run)` when no start sustains the load.
     ///
-    /// `g(v) = map(v) - v` falls with `v` and is zero at the steady state. Where the
-    /// charging path is slow (R C much longer than a half-cycle) its slope is close to 0,
-    /// so a small `g` can still be far from the fixed point: the test is on the secant's
-    /// predicted correction `g / g'` as well as on `g`.
+    /// With a constant-power load `g(v) = map(v) - v` has two roots: the stable steady
+    /// state (where `g` falls through zero) and, below it, an unstable one (where it
+    /// rises); below the unstable root the bulk collapses. A point with `g < 0` alone does
+    /// not tell which side it is on, so the search only trusts what it can prove:
+    ///
+    /// * the map is monotone, so the map of a start above the stable root is again above
+    ///   it; `top` is above it, hence `upper = map(hi)` for every such `hi` is too, and so
+    ///   is every start at or above `upper`;
+    /// * `g > 0` only between the two roots, so such a start is below the stable root, and
+    ///   once one is known every start above it with `g < 0` is above the stable root.
+    ///
+    /// Newton steps (the slope of the map comes with each run) aim a little below the
+    /// predicted root to find a `g > 0` start quickly; probes that cannot be placed are
+    /// remembered and trusted later only if a proven bound covers them. A collapse from a
+    /// start proven above the stable root means there is none. A root is accepted only
+    /// where `g` falls through it (`g' < 0`), and a bracket only with a proven lower end.
     fn fixed_point(&self, top: f64) -> Result<(f64, usize, bool), usize> {
+        /// How far below the predicted root a probe aims (fraction of the Newton step).
+        const OVERSHOOT: f64 = 0.1;
         let tolerance = STEADY_STATE_TOLERANCE * self.peak;
-        // The fixed point lies between `lower` (g > 0, or collapse) and `upper` (g < 0).
-        let mut upper = top;
-        let mut lower = self.floor;
-        let mut last: Option<(f64, f64)> = None;
-        let mut v = top;
-        for runs in 1..=MAX_HALF_CYCLES {
-            let g = match self.run(v, None, None) {
-                Ok(end) => end - v,
-                Err(Collapse) => {
-                    // From the highest possible start the load collapses: no steady state.
-                    if v >= top {
-                        return Err(runs);
-                    }
-                    lower = v;
-                    last = None;
-                    v = 0.5 * (lower + upper);
-                    continue;
+        let falling = |p: &Probe| p.s.is_finite() && p.s < 0.0;
+        let settled =
+            |p: &Probe| falling(p) && p.g.abs() <= tolerance && (p.g / p.s).abs() <= tolerance;
+        let newton = |p: &Probe| falling(p).then(|| p.v - p.g / p.s);
+
+        let mut runs = 1;
+        let Some(first) = self.probe(top) else {
+            return Err(runs);
+        };
+        if first.g >= 0.0 || settled(&first) {
+            return Ok((top, runs, true));
+        }
+        // Lowest evaluated start proven above the stable root (g < 0).
+        let mut hi = first;
+        // Highest start with g > 0 (proven below the stable root, above the unstable one).
+        let mut lo: Option<Probe> = None;
+        // Unplaced probes with g < 0 and a falling g (likely above the stable root).
+        let mut pending: Vec<Probe> = Vec::new();
+        // The latest such probe, to continue Newton steps from.
+        let mut chain: Option<Probe> = None;
+        // Highest unplaced probe that collapsed or had a rising g (likely below).
+        let mut bad: Option<f64> = None;
+        let mut last_proven = true;
+
+        while runs < MAX_HALF_CYCLES {
+            // Absorb pending probes that a proven bound now covers.
+            loop {
+                let upper = hi.v + hi.g;
+                let covered = pending
+                    .iter()
+                    .copied()
+                    .filter(|c| c.v < hi.v && (c.v >= upper || lo.is_some_and(|l| c.v > l.v)))
+                    .min_by(|a, b| a.v.total_cmp(&b.v));
+                match covered {
+                    Some(c) => hi = c,
+                    None => break,
+                }
+            }
+            pending.retain(|c| c.v < hi.v);
+            let upper = hi.v + hi.g;
+            if bad.is_some_and(|b| b >= upper) {
+                bad = None;
+            }
+            let x = if let Some(l) = lo {
+                if upper - l.v <= tolerance {
+                    return Ok((0.5 * (l.v + upper), runs, true));
+                }
+                // `upper` itself is proven: a stiff path makes the map nearly flat, and then
+                // the steady state lies at `map(hi)`.
+                let inside = |x: f64| x.is_finite() && x > l.v && x <= upper;
+                let (near, far) = if l.g.abs() < hi.g.abs() {
+                    (l, hi)
+                } else {
+                    (hi, l)
+                };
+                [newton(&near), newton(&far)]
+                    .into_iter()
+                    .flatten()
+                    .find(|&x| inside(x))
+                    .unwrap_or(0.5 * (l.v + upper))
+            } else {
+                let base = chain.unwrap_or(hi);
+                let floor = bad.unwrap_or(self.floor);
+                match newton(&base).map(|root| root - OVERSHOOT * (base.v - root)) {
+                    Some(t) if t.is_finite() && t > floor && t < upper => t,
+                    Some(t) if t.is_finite() && t >= upper => upper,
+                    _ if last_proven => 0.5 * (floor + upper),
+                    _ => upper,
                 }
             };
-            if g == 0.0 {
-                return Ok((v, runs, true));
-            }
-            if g < 0.0 {
-                upper = upper.min(v);
-            } else {
-                lower = lower.max(v);
-            }
-            let slope = last.and_then(|(v1, g1)| {
-                let s = (g - g1) / (v - v1);
-                (s.is_finite() && s < 0.0).then_some(s)
-            });
-            if let Some(s) = slope
-                && g.abs() <= tolerance
-                && (g / s).abs() <= tolerance
-            {
-                return Ok((v, runs, true));
-            }
-            if upper - lower <= tolerance {
-                return Ok((0.5 * (lower + upper), runs, true));
-            }
-            last = Some((v, g));
-            // Secant (or, without a slope yet, the plain map, which from above stays
-            // above the fixed point); bisection when the step leaves the bracket.
-            let inside = |x: f64| x.is_finite() && x > lower && x < upper;
-            let next = slope.map_or(v + g, |s| v - g / s);
-            v = if inside(next) {
-                next
-            } else if inside(v + g) {
-                v + g
-            } else {
-                0.5 * (lower + upper)
+            runs += 1;
+            let proven_above = x >= upper || lo.is_some_and(|l| x > l.v);
+            last_proven = proven_above;
+            let Some(p) = self.probe(x) else {
+                if proven_above {
+                    // The bulk collapses even from above the stable root: there is none.
+                    return Err(runs);
+                }
+                chain = None;
+                bad = Some(bad.map_or(x, |b| b.max(x)));
+                continue;
             };
+            if settled(&p) {
+                return Ok((p.v, runs, true));
+            }
+            if p.g > 0.0 {
+                lo = Some(lo.map_or(p, |l| if p.v > l.v { p } else { l }));
+                chain = None;
+            } else if proven_above {
+                if p.v < hi.v {
+                    hi = p;
+                }
+                chain = None;
+            } else if falling(&p) {
+                pending.push(p);
+                chain = Some(p);
+            } else {
+                chain = None;
+                bad = Some(bad.map_or(x, |b| b.max(x)));
+            }
         }
-        Ok((v, MAX_HALF_CYCLES, false))
+        match lo {
+            // Both sides are known: the steady state exists, not yet found to tolerance.
+            Some(l) => Ok((0.5 * (l.v + hi.v + hi.g), runs, false)),
+            // No start was ever shown to gain charge over a half-cycle.
+            None => Err(runs),
+        }
     }
+}
+
+/// One evaluation of the half-cycle map: start `v`, `g = map(v) - v` and `s = g'(v)`.
+#[derive(Debug, Clone, Copy)]
+struct Probe {
+    v: f64,
+    g: f64,
+    s: f64,
 }

@@ -80,7 +80,7 @@ impl Templates {
             let path = dir.join(&*name);
             if path.is_file() {
                 let shown = path.display().to_string();
-                *text = crate::read_text(&path).map_err(|m| Diagnostic::new(&shown, m))?;
+                *text = crate::read_text(&path, &shown)?;
                 *origin = shown;
             }
         }
@@ -158,15 +158,30 @@ fn number(value: &Value) -> String {
     }
 }
 
-fn template_problem(origin: &str, e: &Error) -> Problems {
-    let mut d = Diagnostic::new(
-        origin,
-        format!("template error: {}", e.detail().unwrap_or(&e.to_string())),
-    );
-    d.line = e.line();
-    if e.kind() == ErrorKind::OutOfFuel {
-        d.message = "template error: the template ran out of its work allowance (a loop that does not end?)".to_string();
+/// The innermost template error: an error inside an included template arrives wrapped
+/// in the including template's "error in ..." one.
+fn innermost(e: &Error) -> &Error {
+    let mut inner = e;
+    while let Some(next) = std::error::Error::source(inner).and_then(|s| s.downcast_ref::<Error>())
+    {
+        inner = next;
     }
+    inner
+}
+
+fn template_problem(origin: &str, e: &Error) -> Problems {
+    let e = innermost(e);
+    let reason = match e.kind() {
+        ErrorKind::OutOfFuel => {
+            "the template ran out of its work allowance (a loop that does not end?)".to_string()
+        }
+        kind => match e.detail() {
+            Some(detail) => format!("{kind}: {detail}"),
+            None => kind.to_string(),
+        },
+    };
+    let mut d = Diagnostic::new(origin, format!("template error: {reason}"));
+    d.line = e.line();
     Problems(vec![d])
 }
 
@@ -174,7 +189,7 @@ fn template_problem(origin: &str, e: &Error) -> Problems {
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
     let env = templates.env.as_ref().map_err(Clone::clone)?;
     let origin = |e: &Error| {
-        let name = e.name().unwrap_or(TEMPLATE_NAME);
+        let name = innermost(e).name().unwrap_or(TEMPLATE_NAME);
         templates
             .files
             .iter()

@@ -167,11 +167,7 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                     })
                     .collect(),
                 Err(e) => {
-                    let d = match e.span() {
-                        Some(span) => source.diag(&span, e.message().trim().to_string()),
-                        None => Diagnostic::new(&source.name, e.message().trim().to_string()),
-                    };
-                    problems.push(d);
+                    problems.push(super::toml_problem(source, &e, ""));
                     continue;
                 }
             },

@@ -374,7 +374,7 @@ impl Typed<'_> {
             Ok(table) => match table.check() {
                 Ok(()) => Some(table),
                 Err(message) => {
-                    self.problems.push(Diagnostic::new(&source.name, message));
+                    self.problems.push(locate_check_problem(source, &message));
                     None
                 }
             },
@@ -386,15 +386,128 @@ impl Typed<'_> {
     }
 }
 
-fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> Diagnostic {
+/// A rule file that serde could not read, located, with the key it stands at and the
+/// expected form in words ("a number", not "f64").
+pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> Diagnostic {
+    let message = e
+        .message()
+        .trim()
+        .replace("expected f64", "expected a number")
+        .replace("expected u32", "expected a whole number")
+        .replace("expected usize", "expected a whole number");
     let mut d = match e.span() {
-        Some(span) => source.diag(&span, e.message().trim().to_string()),
-        None => Diagnostic::new(&source.name, e.message().trim().to_string()),
+        Some(span) => {
+            let d = source.diag(&span, message);
+            match key_before(&source.text, span.start) {
+                Some(key) => d.with_key(key),
+                None => d,
+            }
+        }
+        None => Diagnostic::new(&source.name, message),
     };
     if !help.is_empty() {
         d = d.with_help(help);
     }
     d
+}
+
+/// The key whose value starts at `offset` (`key = value` on the same line), if any.
+fn key_before(text: &str, offset: usize) -> Option<String> {
+    let head = text.get(..offset)?;
+    let line = head.rsplit('\n').next()?;
+    let before_value = line.trim_end().strip_suffix('=')?;
+    let key: String = before_value
+        .trim_end()
+        .chars()
+        .rev()
+        .take_while(|c| c.is_alphanumeric() || *c == '_' || *c == '-')
+        .collect::<Vec<_>>()
+        .into_iter()
+        .rev()
+        .collect();
+    (!key.is_empty()).then_some(key)
+}
+
+/// Locates a table's `check()` message in its file: the line holding the figure the
+/// message quotes (and the key it names first, where that is a key of the file), with
+/// the key the figure stands at. `check()` works on parsed values, which carry no position.
+fn locate_check_problem(source: &Source, message: &str) -> Diagnostic {
+    let token_char = |c: char| c.is_alphanumeric() || matches!(c, '.' | '-' | '_' | '+');
+    let words: Vec<&str> = message
+        .split(|c: char| !token_char(c) && c != '"')
+        .filter(|w| !w.is_empty())
+        .collect();
+    // The figure quoted: the first number, nan/inf, or quoted word.
+    let needle = words.iter().find_map(|w| {
+        let w = w.trim_matches('"');
+        let lower = w.to_ascii_lowercase();
+        let numeric = w.parse::<f64>().is_ok() && !w.is_empty();
+        (numeric
+            || lower == "nan"
+            || lower == "inf"
+            || w.len() > 2 && message.contains(&format!("\"{w}\"")))
+        .then(|| w.to_string())
+    });
+    let lead = message
+        .split(':')
+        .next()
+        .unwrap_or("")
+        .split_whitespace()
+        .next()
+        .unwrap_or("");
+    let has_token = |line: &str, token: &str| {
+        line.split(|c: char| !token_char(c))
+            .any(|t| t.eq_ignore_ascii_case(token))
+    };
+    let plain = || Diagnostic::new(&source.name, message.to_string());
+    let Some(needle) = needle else { return plain() };
+    let lead_is_key = !lead.is_empty()
+        && source
+            .text
+            .lines()
+            .any(|l| l.contains(&format!("{lead} =")) || l.contains(&format!("{lead}=")));
+    let found = source.text.lines().enumerate().find(|(_, l)| {
+        let code = l.split('#').next().unwrap_or("");
+        has_token(code, &needle) && (!lead_is_key || has_token(code, lead))
+    });
+    let Some((index, line)) = found else {
+        return plain();
+    };
+    let code = line.split('#').next().unwrap_or("");
+    let first_key = code
+        .split('=')
+        .next()
+        .and_then(|k| {
+            k.trim()
+                .trim_start_matches(['{', '[', ' '])
+                .split_whitespace()
+                .last()
+        })
+        .unwrap_or("");
+    // The needle as a whole token ("inf" is not the one inside "reinforced").
+    let at = code
+        .match_indices(needle.as_str())
+        .map(|(i, _)| i)
+        .find(|&i| {
+            let before = code[..i].chars().next_back().is_none_or(|c| !token_char(c));
+            let after = code[i + needle.len()..]
+                .chars()
+                .next()
+                .is_none_or(|c| !token_char(c));
+            before && after
+        })
+        .unwrap_or(0);
+    let near_key = key_before(code, at.min(code.len())).unwrap_or_default();
+    let key = match (first_key, near_key.as_str()) {
+        (f, n) if !n.is_empty() && n != f => format!("{f}.{n}"),
+        (f, _) => f.to_string(),
+    };
+    Diagnostic {
+        line: Some(index + 1),
+        column: Some(at + 1),
+        ..plain()
+    }
+    .with_key(key)
 }
 
 /// Every `*.toml` file in a folder and its `checks/` subfolder, sorted by name so that
@@ -419,7 +532,7 @@ fn read_folder(dir: &Path) -> Result<Vec<(String, Source)>, Problems> {
     let mut out = Vec::new();
     for path in paths {
         let name = path.display().to_string();
-        let text = crate::read_text(&path).map_err(|m| Diagnostic::new(&name, m))?;
+        let text = crate::read_text(&path, &name)?;
         let inside = path
             .strip_prefix(dir)
             .map(|p| p.display().to_string())

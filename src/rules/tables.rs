@@ -480,6 +480,17 @@ impl CapacitorSubclasses {
 impl Table for CapacitorSubclasses {
     fn check(&self) -> Result<(), String> {
         for s in &self.subclasses {
+            if let Some(v) = s.max_rated_ac_v {
+                non_negative(std::iter::once(v), "max_rated_ac_v")?;
+            }
+        }
+        if self.series_count_for_reinforced < 2 {
+            return Err(format!(
+                "series_count_for_reinforced = {}: it must be at least 2 (capacitors in series standing for one across reinforced insulation)",
+                self.series_count_for_reinforced
+            ));
+        }
+        for s in &self.subclasses {
             for g in &s.bridges {
                 if crate::project::Grade::from_word(g).is_none() {
                     return Err(format!(

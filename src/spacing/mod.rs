@@ -140,13 +140,13 @@ pub fn round_up(x: f64, step: f64) -> f64 {
 /// A number as a designer writes it: no trailing zeros.
 pub fn show(x: f64) -> String {
     // Rounded to 4 decimals, then printed in the shortest form that reads back the same.
+    if !x.is_finite() {
+        // A figure that could not be computed is never printed as inf or NaN.
+        return "not computed".to_string();
+    }
     let rounded = (x * 1e4).round() / 1e4;
-    if rounded == 0.0 || !rounded.is_finite() {
-        return if rounded.is_finite() {
-            "0".to_string()
-        } else {
-            format!("{x}")
-        };
+    if rounded == 0.0 {
+        return "0".to_string();
     }
     if rounded.abs() >= 1e15 {
         return format!("{rounded:.0}");
