@@ -2,36 +2,15 @@
 //! this project (the published tables as cited in the shared reference notes), never from the
 //! shipped `rules/` files, and each one names that source and how sure it is.
 
+mod common;
+use common::query;
+
 use gapwarden::commands::{SpacingQuery, spacing};
 use gapwarden::project::{
     BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
 };
 use gapwarden::rules::RuleBook;
 use gapwarden::spacing::{BarrierResult, Verdict};
-
-/// A basic barrier on a 230 V mains, overvoltage category II, pollution degree 2, at 2000 m,
-/// material group I, off the board, inhomogeneous field; each test overrides what it pins down.
-fn query() -> SpacingQuery {
-    SpacingQuery {
-        working_rms_v: 250.0,
-        working_peak_v: None,
-        grade: Grade::Basic,
-        pollution_degree: 2,
-        overvoltage_category: OvervoltageCategory::II,
-        nominal_v: 230.0,
-        transient_v: None,
-        altitude_m: 2000.0,
-        material_group: Some(MaterialGroup::I),
-        cti: None,
-        printed_board: false,
-        field: Field::Inhomogeneous,
-        board_conductor: BoardConductor::OuterLayer,
-        board_coating: BoardCoating::None,
-        creepage_between_rows: BetweenRows::NextRow,
-        clearance_mm: None,
-        creepage_mm: None,
-    }
-}
 
 fn rules() -> RuleBook {
     RuleBook::shipped().unwrap_or_else(|p| panic!("the shipped rule tables do not load:\n{p}"))

@@ -2,6 +2,9 @@
 //! voltage, pollution, overvoltage or altitude never needs less distance; reinforced never
 //! needs less than basic; creepage is never below clearance; double is twice basic.
 
+mod common;
+use common::query;
+
 use std::sync::LazyLock;
 
 use gapwarden::commands::{SpacingQuery, spacing};
@@ -18,29 +21,6 @@ const TOLERANCE_MM: f64 = 1e-9;
 static RULES: LazyLock<RuleBook> = LazyLock::new(|| {
     RuleBook::shipped().unwrap_or_else(|p| panic!("the shipped rule tables do not load:\n{p}"))
 });
-
-/// The same defaults as the check-value tests: basic, 250 V, PD2, OVC II, 230 V mains, 2000 m, group I.
-fn query() -> SpacingQuery {
-    SpacingQuery {
-        working_rms_v: 250.0,
-        working_peak_v: None,
-        grade: Grade::Basic,
-        pollution_degree: 2,
-        overvoltage_category: OvervoltageCategory::II,
-        nominal_v: 230.0,
-        transient_v: None,
-        altitude_m: 2000.0,
-        material_group: Some(MaterialGroup::I),
-        cti: None,
-        printed_board: false,
-        field: Field::Inhomogeneous,
-        board_conductor: BoardConductor::OuterLayer,
-        board_coating: BoardCoating::None,
-        creepage_between_rows: BetweenRows::NextRow,
-        clearance_mm: None,
-        creepage_mm: None,
-    }
-}
 
 /// Every query generated here lies inside the tables, so a refusal is itself a failure.
 fn run(q: &SpacingQuery) -> Result<BarrierResult, TestCaseError> {

@@ -6,6 +6,10 @@ use std::path::Path;
 use std::process::Output;
 
 use assert_cmd::cargo::cargo_bin_cmd;
+use gapwarden::commands::SpacingQuery;
+use gapwarden::project::{
+    BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
+};
 
 /// The crate root: examples and fixtures are named relative to it.
 pub fn root() -> &'static Path {
@@ -59,4 +63,28 @@ pub fn assert_exit(o: &Output, expected: i32) {
         "the binary panicked\n{}",
         describe(o)
     );
+}
+
+/// A basic barrier on a 230 V mains, overvoltage category II, pollution degree 2, at 2000 m,
+/// material group I, off the board, inhomogeneous field; each test overrides what it pins down.
+pub fn query() -> SpacingQuery {
+    SpacingQuery {
+        working_rms_v: 250.0,
+        working_peak_v: None,
+        grade: Grade::Basic,
+        pollution_degree: 2,
+        overvoltage_category: OvervoltageCategory::II,
+        nominal_v: 230.0,
+        transient_v: None,
+        altitude_m: 2000.0,
+        material_group: Some(MaterialGroup::I),
+        cti: None,
+        printed_board: false,
+        field: Field::Inhomogeneous,
+        board_conductor: BoardConductor::OuterLayer,
+        board_coating: BoardCoating::None,
+        creepage_between_rows: BetweenRows::NextRow,
+        clearance_mm: None,
+        creepage_mm: None,
+    }
 }
