@@ -2,6 +2,7 @@
 //! threads with results in a fixed order, writing one report each and a summary table.
 
 use std::io::{IsTerminal, Write};
+use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -26,13 +27,26 @@ pub struct Found {
 /// recursively, except in folders named `rules`, `templates`, `target` or starting with a
 /// dot (house rules and build output live there). Files named on the command line are
 /// taken as they are. The order is the command line's, then sorted by path in a folder.
+/// See `find_projects_noting` for links and files named twice.
 pub fn find_projects(paths: &[PathBuf]) -> Result<Vec<Found>, Problems> {
+    find_projects_noting(paths).map(|(found, _)| found)
+}
+
+/// `find_projects`, with notes for the user about what was passed over. Inside a folder,
+/// a link to a folder is not followed (a link to `.` or `..` would make the search endless
+/// or find everything again), and no folder is searched twice (by device and inode, which
+/// also stops bind-mount loops). A file met twice, under the same name or another (a
+/// link, a hard link, a file also inside a folder named), is checked once, and a note
+/// says so. Designs whose `relative` names clash (`a/x.toml` and `b/x.toml`) get as much
+/// of their path as keeps them apart.
+pub fn find_projects_noting(paths: &[PathBuf]) -> Result<(Vec<Found>, Vec<String>), Problems> {
     let mut found = Vec::new();
     let mut problems = Vec::new();
+    let mut visited = HashSet::new();
     for path in paths {
         if path.is_dir() {
             let before = found.len();
-            search(path, path, &mut found, 0);
+            search(path, path, &mut found, &mut visited, 0);
             if found.len() == before {
                 problems.push(Diagnostic::new(
                     &path.display().to_string(),
@@ -50,35 +64,82 @@ pub fn find_projects(paths: &[PathBuf]) -> Result<Vec<Found>, Problems> {
             });
         }
     }
-    if problems.is_empty() {
-        Ok(found)
-    } else {
-        Err(Problems(problems))
+    if !problems.is_empty() {
+        return Err(Problems(problems));
     }
+    let mut notes = Vec::new();
+    let mut seen: HashMap<(u64, u64), PathBuf> = HashMap::new();
+    found.retain(|f| {
+        // A path that cannot be looked at is kept: checking it gives the error.
+        let Some(id) = file_id(&f.path) else {
+            return true;
+        };
+        match seen.get(&id) {
+            Some(first) => {
+                notes.push(format!(
+                    "{}: the same file as {}; checked once",
+                    f.path.display(),
+                    first.display()
+                ));
+                false
+            }
+            None => {
+                seen.insert(id, f.path.clone());
+                true
+            }
+        }
+    });
+    keep_apart(&mut found);
+    Ok((found, notes))
 }
 
-/// Folders deeper than this are not searched (a guard against link loops).
+/// Folders deeper than this are not searched (links are not followed, so only a real
+/// tree this deep reaches it).
 const MAX_DEPTH: usize = 32;
 
-fn search(root: &Path, dir: &Path, found: &mut Vec<Found>, depth: usize) {
+/// The device and inode of what a path names, links followed.
+fn file_id(path: &Path) -> Option<(u64, u64)> {
+    use std::os::unix::fs::MetadataExt;
+    std::fs::metadata(path).ok().map(|m| (m.dev(), m.ino()))
+}
+
+fn search(
+    root: &Path,
+    dir: &Path,
+    found: &mut Vec<Found>,
+    visited: &mut HashSet<(u64, u64)>,
+    depth: usize,
+) {
     if depth > MAX_DEPTH {
+        return;
+    }
+    if let Some(id) = file_id(dir)
+        && !visited.insert(id)
+    {
         return;
     }
     let Ok(entries) = std::fs::read_dir(dir) else {
         return;
     };
-    let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
-    paths.sort();
-    for path in paths {
+    // The entry's own type: a link is a link here, never the folder it points to.
+    let mut entries: Vec<(PathBuf, Option<std::fs::FileType>)> = entries
+        .filter_map(|e| e.ok().map(|e| (e.path(), e.file_type().ok())))
+        .collect();
+    entries.sort_by(|a, b| a.0.cmp(&b.0));
+    for (path, file_type) in entries {
         let name = path
             .file_name()
             .map(|n| n.to_string_lossy().to_string())
             .unwrap_or_default();
-        if path.is_dir() {
+        let is_link = file_type.is_some_and(|t| t.is_symlink());
+        if file_type.is_some_and(|t| t.is_dir()) {
             if !name.starts_with('.') && !SKIPPED_FOLDERS.contains(&name.as_str()) {
-                search(root, &path, found, depth + 1);
+                search(root, &path, found, visited, depth + 1);
             }
+        } else if is_link && path.is_dir() {
+            // A link to a folder: not followed.
         } else if name.ends_with(".toml") && !name.starts_with('.') {
+            // Also a named pipe or device with that name: checking it says what it is.
             let relative = path
                 .strip_prefix(root)
                 .map(Path::to_path_buf)
@@ -86,6 +147,78 @@ fn search(root: &Path, dir: &Path, found: &mut Vec<Found>, depth: usize) {
             found.push(Found { path, relative });
         }
     }
+}
+
+/// Lengthens clashing `relative` names (the same apart from letter case and extension)
+/// with the folders above them in their path, one at a time, until they differ or no
+/// folder is left; `write_reports` refuses whatever still clashes.
+fn keep_apart(found: &mut [Found]) {
+    let full: Vec<Vec<std::ffi::OsString>> = found.iter().map(|f| components(&f.path)).collect();
+    let mut taken: Vec<usize> = found
+        .iter()
+        .zip(&full)
+        .map(|(f, c)| f.relative.components().count().min(c.len()))
+        .collect();
+    let key = |c: &[std::ffi::OsString], n: usize| -> String {
+        let tail: PathBuf = c[c.len() - n..].iter().collect();
+        tail.with_extension("")
+            .to_string_lossy()
+            .to_lowercase()
+    };
+    // Two designs whose whole paths give one name (`x.toml` and `x.txt` side by side)
+    // cannot be kept apart this way: they keep their short names.
+    let whole: Vec<String> = full.iter().map(|c| key(c, c.len())).collect();
+    // Each round lengthens at least one name or stops, so this ends.
+    loop {
+        let mut groups: HashMap<String, Vec<usize>> = HashMap::new();
+        for (i, c) in full.iter().enumerate() {
+            groups.entry(key(c, taken[i])).or_default().push(i);
+        }
+        let mut grew = false;
+        for members in groups.values().filter(|m| m.len() > 1) {
+            for &i in members {
+                let separable = members.iter().any(|&j| whole[j] != whole[i]);
+                if separable && taken[i] < full[i].len() {
+                    taken[i] += 1;
+                    grew = true;
+                }
+            }
+        }
+        if !grew {
+            break;
+        }
+    }
+    for (i, f) in found.iter_mut().enumerate() {
+        let c = &full[i];
+        if taken[i] > f.relative.components().count() {
+            f.relative = c[c.len() - taken[i]..].iter().collect();
+        }
+    }
+}
+
+/// The path's names from the top, made absolute and with `.` and `..` worked out by
+/// text (so a link keeps the name it was given), for mirroring into an output folder:
+/// only plain names, nothing that could climb out of it.
+fn components(path: &Path) -> Vec<std::ffi::OsString> {
+    use std::path::Component;
+    let absolute = if path.is_absolute() {
+        path.to_path_buf()
+    } else {
+        std::env::current_dir()
+            .map(|d| d.join(path))
+            .unwrap_or_else(|_| path.to_path_buf())
+    };
+    let mut out: Vec<std::ffi::OsString> = Vec::new();
+    for c in absolute.components() {
+        match c {
+            Component::Normal(n) => out.push(n.to_os_string()),
+            Component::ParentDir => {
+                out.pop();
+            }
+            Component::CurDir | Component::RootDir | Component::Prefix(_) => {}
+        }
+    }
+    out
 }
 
 /// What became of one design.
@@ -174,19 +307,63 @@ pub fn write_reports(
     out_dir: &Path,
     format: Format,
 ) -> Result<Vec<PathBuf>, Problems> {
+    write_reports_protecting(outcomes, out_dir, format, &[])
+}
+
+/// `write_reports`, never over a design or any of `also_protected` (the house rule and
+/// template files), and never two reports to one file: designs whose reports would land
+/// on the same name (letter case aside, for file systems that ignore it) are refused,
+/// naming both, and neither is written.
+pub fn write_reports_protecting(
+    outcomes: &[Outcome],
+    out_dir: &Path,
+    format: Format,
+    also_protected: &[PathBuf],
+) -> Result<Vec<PathBuf>, Problems> {
     let extension = match format {
         Format::Markdown => "md",
         Format::Html => "html",
         Format::Json => "json",
     };
-    let inputs: Vec<&Path> = outcomes.iter().map(|o| o.found.path.as_path()).collect();
+    let inputs: Vec<&Path> = outcomes
+        .iter()
+        .map(|o| o.found.path.as_path())
+        .chain(also_protected.iter().map(PathBuf::as_path))
+        .collect();
+    let target_of = |o: &Outcome| out_dir.join(o.found.relative.with_extension(extension));
+    let mut by_target: HashMap<String, Vec<&Path>> = HashMap::new();
+    for o in outcomes.iter().filter(|o| o.result.is_ok()) {
+        by_target
+            .entry(target_of(o).to_string_lossy().to_lowercase())
+            .or_default()
+            .push(&o.found.path);
+    }
     let mut written = Vec::new();
     let mut problems = Vec::new();
     for outcome in outcomes {
         let Ok((_, text)) = &outcome.result else {
             continue;
         };
-        let target = out_dir.join(outcome.found.relative.with_extension(extension));
+        let target = target_of(outcome);
+        if let Some(clash) = by_target.get(&target.to_string_lossy().to_lowercase())
+            && clash.len() > 1
+        {
+            let others: Vec<String> = clash
+                .iter()
+                .filter(|p| **p != outcome.found.path.as_path())
+                .map(|p| p.display().to_string())
+                .collect();
+            problems.push(Diagnostic::new(
+                &outcome.found.path.display().to_string(),
+                format!(
+                    "its report would be {}, the same file as the report of {}; neither \
+                     was written: rename one of the designs",
+                    target.display(),
+                    others.join(", ")
+                ),
+            ));
+            continue;
+        }
         if let Some(parent) = target.parent()
             && let Err(e) = std::fs::create_dir_all(parent)
         {

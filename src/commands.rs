@@ -50,47 +50,229 @@ pub fn render(report: &Report, format: Format, templates: &Templates) -> Result<
     }
 }
 
-/// Writes `text` to `out` through a temporary file in the same folder and a rename, so a
-/// reader never sees half a report. Refuses to write over any of `protected`.
+/// Writes a report to `out` without ever replacing what the path names by something else:
+///
+/// - a new path, or a regular file: written atomically, through a temporary file in the
+///   same folder and a rename (a reader never sees half a report); a new path is linked
+///   into place, so a file that appears there meanwhile is not replaced either;
+/// - a symbolic link: followed, and its target written by these same rules; the link
+///   stays (a link to nothing is refused);
+/// - a character device (`/dev/null`, a terminal) or a named pipe (FIFO): written through,
+///   as a shell redirection would (a pipe waits for its reader);
+/// - a read-only file (its owner's write permission bit is clear: the bits, not the
+///   process's access, since root may write anything), a folder, a block device or a
+///   socket: refused, and nothing is written;
+/// - any of `protected` (the run's inputs), named by another path, through `..`, a
+///   symbolic link or a hard link: refused (compared by canonical path and by device and
+///   inode).
 pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(), Problems> {
     let shown = out.display().to_string();
     let fail = |m: String| Problems(vec![Diagnostic::new(&shown, m)]);
-    if out.is_dir() {
-        return Err(fail(
-            "is a folder; give a file name for the report".to_string(),
-        ));
-    }
+    let refuse_input = || {
+        fail(
+            "is an input of this run; the report would overwrite it, so nothing was written"
+                .to_string(),
+        )
+    };
+    // Identity first: a path naming an input in any way is refused whatever else it is.
     let target = resolved(out);
+    let target_id = file_id(out);
     for p in protected {
-        if resolved(p) == target {
-            return Err(fail(
-                "is an input of this run; the report would overwrite it, so nothing was written"
-                    .to_string(),
-            ));
+        if resolved(p) == target || (target_id.is_some() && file_id(p) == target_id) {
+            return Err(refuse_input());
         }
     }
-    let folder = match out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
+    let link = std::fs::symlink_metadata(out);
+    let (path, meta) = match link {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            return write_new(out, text).map_err(|m| fail(m));
+        }
+        Err(e) => return Err(fail(format!("cannot be looked at: {e}; nothing was written"))),
+        Ok(m) if m.file_type().is_symlink() => {
+            // The link's final target, written in its place; the link itself stays.
+            let Ok(real) = out.canonicalize() else {
+                return Err(fail(
+                    "is a symbolic link to nothing (its target does not exist); give the \
+                     target's path instead; nothing was written"
+                        .to_string(),
+                ));
+            };
+            let meta = std::fs::metadata(&real).map_err(|e| {
+                fail(format!(
+                    "is a link to {} which cannot be looked at: {e}; nothing was written",
+                    real.display()
+                ))
+            })?;
+            (real, meta)
+        }
+        Ok(m) => (out.to_path_buf(), m),
     };
-    let file_name = out
-        .file_name()
-        .map(|n| n.to_string_lossy().to_string())
-        .unwrap_or_default();
-    let temp = folder.join(format!(".{file_name}.{}.tmp", std::process::id()));
-    let write = || -> std::io::Result<()> {
+    write_existing(&path, &meta, text).map_err(|m| fail(m))
+}
+
+/// Writes onto something that exists, by what it is (see `write_atomically`).
+fn write_existing(path: &Path, meta: &std::fs::Metadata, text: &str) -> Result<(), String> {
+    use std::os::unix::fs::{FileTypeExt, PermissionsExt};
+    let file_type = meta.file_type();
+    if file_type.is_dir() {
+        return Err("is a folder; give a file name for the report".to_string());
+    }
+    if file_type.is_char_device() || file_type.is_fifo() {
+        // Written through: replacing /dev/null or a pipe by a file is never what was meant.
         let mut f = OpenOptions::new()
             .write(true)
-            .create_new(true)
-            .open(&temp)?;
-        f.write_all(text.as_bytes())?;
-        f.sync_all()?;
-        std::fs::rename(&temp, out)
-    };
-    write().map_err(|e| {
-        let _ = std::fs::remove_file(&temp);
-        fail(format!("cannot write the report: {e}; nothing was written"))
-    })
+            .open(path)
+            .map_err(|e| format!("cannot be opened for writing: {e}"))?;
+        return f
+            .write_all(text.as_bytes())
+            .and_then(|()| f.flush())
+            .map_err(|e| format!("cannot be written: {e}"));
+    }
+    if !file_type.is_file() {
+        return Err(format!(
+            "is {}; a report is written only to a regular file, a new path, a character \
+             device or a named pipe; nothing was written",
+            crate::kind_of_special(&file_type)
+        ));
+    }
+    if meta.permissions().mode() & 0o200 == 0 {
+        return Err(format!(
+            "is read-only (mode {:o}); make it writable or choose another name; nothing was \
+             written",
+            meta.permissions().mode() & 0o7777
+        ));
+    }
+    // For a user other than root, whether the file may be written at all (ownership,
+    // group, access lists): a rename alone would replace a file the user may not write.
+    OpenOptions::new()
+        .write(true)
+        .open(path)
+        .map_err(|e| format!("cannot be written: {e}; nothing was written"))?;
+    let temp = TempFile::create(path).map_err(|e| format!("{e}; nothing was written"))?;
+    // The new report keeps the permissions of the one it replaces.
+    let _ = temp
+        .file
+        .set_permissions(std::fs::Permissions::from_mode(meta.permissions().mode() & 0o777));
+    temp.fill(text)
+        .and_then(|temp| temp.rename_onto(path))
+        .map_err(|e| format!("cannot write the report: {e}; nothing was written"))
+}
+
+/// Writes a report to a path where nothing is yet: complete in a temporary file, then
+/// linked into place (which fails, instead of replacing, if something appeared there).
+fn write_new(path: &Path, text: &str) -> Result<(), String> {
+    let temp = TempFile::create(path).map_err(|e| format!("{e}; nothing was written"))?;
+    let temp = temp
+        .fill(text)
+        .map_err(|e| format!("cannot write the report: {e}; nothing was written"))?;
+    match std::fs::hard_link(&temp.path, path) {
+        Ok(()) => {
+            drop(temp);
+            Ok(())
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
+            Err("appeared while the report was being written; it was left alone and \
+                 nothing was written"
+                .to_string())
+        }
+        // A file system without hard links: a rename (which could replace a file that
+        // appeared in the last instant, the best it offers).
+        Err(_) => temp
+            .rename_onto(path)
+            .map_err(|e| format!("cannot write the report: {e}; nothing was written")),
+    }
+}
+
+/// A temporary file this run created, removed when dropped unless renamed into place.
+/// Only a file this run created is ever removed.
+struct TempFile {
+    path: PathBuf,
+    file: std::fs::File,
+    keep: bool,
+}
+
+impl TempFile {
+    /// Creates `.NAME.RANDOM.tmp` beside `target`, with a fresh random part on each try, so
+    /// a stale file left by a killed run (with the same process id) is never in the way.
+    fn create(target: &Path) -> Result<TempFile, String> {
+        let folder = match target.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let file_name = target
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_else(|| "report".to_string());
+        let mut last = None;
+        for _ in 0..TEMP_TRIES {
+            let path = folder.join(format!(".{file_name}.{}.tmp", random_suffix()));
+            match OpenOptions::new().write(true).create_new(true).open(&path) {
+                Ok(file) => {
+                    return Ok(TempFile {
+                        path,
+                        file,
+                        keep: false,
+                    });
+                }
+                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => last = Some(e),
+                Err(e) => {
+                    return Err(format!(
+                        "cannot create a temporary file in {}: {e}",
+                        folder.display()
+                    ));
+                }
+            }
+        }
+        Err(format!(
+            "cannot create a temporary file in {} ({TEMP_TRIES} names taken: {})",
+            folder.display(),
+            last.map(|e| e.to_string()).unwrap_or_default()
+        ))
+    }
+
+    fn fill(mut self, text: &str) -> std::io::Result<TempFile> {
+        self.file.write_all(text.as_bytes())?;
+        self.file.sync_all()?;
+        Ok(self)
+    }
+
+    fn rename_onto(mut self, target: &Path) -> std::io::Result<()> {
+        std::fs::rename(&self.path, target)?;
+        self.keep = true;
+        Ok(())
+    }
+}
+
+impl Drop for TempFile {
+    fn drop(&mut self) {
+        if !self.keep {
+            let _ = std::fs::remove_file(&self.path);
+        }
+    }
+}
+
+/// Names tried for a temporary file before giving up.
+const TEMP_TRIES: usize = 16;
+
+/// 16 hex digits that differ between runs and calls: the process id, the time and a
+/// counter, hashed with the standard library's randomly keyed hasher.
+fn random_suffix() -> String {
+    use std::hash::{BuildHasher, Hasher};
+    use std::sync::atomic::{AtomicU64, Ordering};
+    static COUNTER: AtomicU64 = AtomicU64::new(0);
+    let mut h = std::collections::hash_map::RandomState::new().build_hasher();
+    h.write_u32(std::process::id());
+    h.write_u64(COUNTER.fetch_add(1, Ordering::Relaxed));
+    if let Ok(t) = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH) {
+        h.write_u128(t.as_nanos());
+    }
+    format!("{:016x}", h.finish())
+}
+
+/// The device and inode of the file a path names (links followed), if it exists.
+fn file_id(path: &Path) -> Option<(u64, u64)> {
+    use std::os::unix::fs::MetadataExt;
+    std::fs::metadata(path).ok().map(|m| (m.dev(), m.ino()))
 }
 
 /// A path with its folder made canonical, for comparing two paths to the same file.

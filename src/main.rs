@@ -47,7 +47,15 @@ enum Command {
         /// Output format.
         #[arg(long, value_enum, default_value_t = OutputFormat::Md)]
         format: OutputFormat,
-        /// Write the report to this file (atomically) instead of printing it.
+        /// Write the report to this file instead of printing it.
+        ///
+        /// A regular file or a new path is written atomically (a temporary file beside it,
+        /// then a rename); a symbolic link is followed and its target written, the link
+        /// kept; a character device (/dev/null, a terminal) or a named pipe is written
+        /// through (a pipe waits for its reader). Refused, with nothing written: a
+        /// read-only file (owner's write bit clear, even for root), a folder, a block
+        /// device, a socket, a link to nothing, and any input of the run (project file,
+        /// --rules or --templates file), however it is named.
         #[arg(short = 'o', long = "output", value_name = "FILE")]
         output: Option<PathBuf>,
         /// A folder of house rule tables that add to or override the shipped ones by id.
@@ -234,6 +242,14 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             out_dir,
             jobs,
         } => {
+            // Every file the run reads besides the designs: no report may replace one.
+            let mut house_inputs: Vec<PathBuf> = Vec::new();
+            if let Some(dir) = &rules {
+                house_inputs.extend(gapwarden::rules::house_rule_files(dir));
+            }
+            if let Some(dir) = &templates {
+                house_inputs.extend(gapwarden::report::house_template_files(dir));
+            }
             let rules = RuleBook::load(rules.as_deref())?;
             let templates = Templates::load(templates.as_deref())?;
             let format = match format {
@@ -247,7 +263,12 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 let report = commands::check_file(project, &rules)?;
                 let text = commands::render(&report, format, &templates)?;
                 match output {
-                    Some(out) => commands::write_atomically(&out, &text, &[project.as_path()])?,
+                    Some(out) => {
+                        let protected: Vec<&std::path::Path> = std::iter::once(project.as_path())
+                            .chain(house_inputs.iter().map(PathBuf::as_path))
+                            .collect();
+                        commands::write_atomically(&out, &text, &protected)?
+                    }
                     None => print(&text),
                 }
                 return Ok(if report.has_blocking() { 1 } else { 0 });
@@ -259,7 +280,10 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 )
                 .into());
             }
-            let designs = batch::find_projects(&projects)?;
+            let (designs, notes) = batch::find_projects_noting(&projects)?;
+            for note in &notes {
+                eprintln!("{note}");
+            }
             let jobs = jobs
                 .map(usize::from)
                 .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
@@ -275,7 +299,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 .max()
                 .unwrap_or(0);
             if let Some(dir) = &out_dir
-                && let Err(problems) = batch::write_reports(&outcomes, dir, format)
+                && let Err(problems) = batch::write_reports_protecting(&outcomes, dir, format, &house_inputs)
             {
                 eprintln!("{problems}");
                 worst = 2;

@@ -15,7 +15,9 @@ use crate::project::{
 use crate::rules::{RuleBook, RuleInfo};
 use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
 
-pub use render::{Templates, md_escape, render_html, render_json, render_markdown};
+pub use render::{
+    Templates, house_template_files, md_escape, render_html, render_json, render_markdown,
+};
 
 /// Cautions printed in every report.
 pub const CAUTIONS: &[&str] = &[

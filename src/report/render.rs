@@ -78,7 +78,8 @@ impl Templates {
         let mut files = std::mem::take(&mut templates.files);
         for (name, text, origin) in &mut files {
             let path = dir.join(&*name);
-            if path.is_file() {
+            // Anything of that name is read (a pipe or device is refused there, not skipped).
+            if path.symlink_metadata().is_ok() {
                 let shown = path.display().to_string();
                 *text = crate::read_text(&path, &shown)?;
                 *origin = shown;
@@ -90,6 +91,16 @@ impl Templates {
         }
         Ok(templates)
     }
+}
+
+/// The house template files `load(Some(dir))` reads: those in `dir` named like a shipped
+/// template. A report must never be written over one of them.
+pub fn house_template_files(dir: &Path) -> Vec<std::path::PathBuf> {
+    SHIPPED_TEMPLATES
+        .iter()
+        .map(|(name, _)| dir.join(name))
+        .filter(|p| p.symlink_metadata().is_ok())
+        .collect()
 }
 
 /// Escapes text for Markdown so that it renders as itself: no emphasis, link, table cell

@@ -510,13 +510,11 @@ fn locate_check_problem(source: &Source, message: &str) -> Diagnostic {
     .with_key(key)
 }
 
-/// Every `*.toml` file in a folder and its `checks/` subfolder, sorted by name so that
-/// loading is deterministic.
-fn read_folder(dir: &Path) -> Result<Vec<(String, Source)>, Problems> {
-    let shown = dir.display().to_string();
-    if !dir.is_dir() {
-        return Err(Diagnostic::new(&shown, "is not a folder of rule files").into());
-    }
+/// The files a house rule folder contributes: every `*.toml` entry that is not a folder, in
+/// the folder and its `checks/` subfolder, sorted by name so that loading is deterministic.
+/// A named pipe or device with such a name is listed too, so that reading it fails with a
+/// message instead of it being skipped without a word.
+pub fn house_rule_files(dir: &Path) -> Vec<std::path::PathBuf> {
     let mut paths = Vec::new();
     for folder in [dir.to_path_buf(), dir.join("checks")] {
         let Ok(entries) = std::fs::read_dir(&folder) else {
@@ -525,12 +523,21 @@ fn read_folder(dir: &Path) -> Result<Vec<(String, Source)>, Problems> {
         paths.extend(
             entries
                 .filter_map(|e| e.ok().map(|e| e.path()))
-                .filter(|p| p.extension().is_some_and(|x| x == "toml") && p.is_file()),
+                .filter(|p| p.extension().is_some_and(|x| x == "toml") && !p.is_dir()),
         );
     }
     paths.sort();
+    paths
+}
+
+/// Every file of `house_rule_files`, read.
+fn read_folder(dir: &Path) -> Result<Vec<(String, Source)>, Problems> {
+    let shown = dir.display().to_string();
+    if !dir.is_dir() {
+        return Err(Diagnostic::new(&shown, "is not a folder of rule files").into());
+    }
     let mut out = Vec::new();
-    for path in paths {
+    for path in house_rule_files(dir) {
         let name = path.display().to_string();
         let text = crate::read_text(&path, &name)?;
         let inside = path
