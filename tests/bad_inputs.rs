@@ -1633,20 +1633,39 @@ fn permissions_are_enforced(scratch: &Scratch) -> bool {
     enforced
 }
 
+/// The user id and group id of `nobody` on Debian-like systems and most others.
+const NOBODY: u32 = 65534;
+
+/// Runs the binary in `dir` as a user for whom permissions count. Root (as in CI) reads
+/// and writes whatever the permission bits say, so there the binary runs as `nobody`,
+/// and `owned` (the scratch folder and what the test made in it) is given to `nobody`,
+/// so that only the permission bits stand in the way, as for an ordinary user who owns
+/// the files. Not root: runs as itself.
+fn run_where_permissions_count(scratch: &Scratch, owned: &[&Path], args: &[&str]) -> Output {
+    use std::os::unix::process::CommandExt;
+    if permissions_are_enforced(scratch) {
+        return run_in(&scratch.0, args);
+    }
+    for path in std::iter::once(scratch.0.as_path()).chain(owned.iter().copied()) {
+        std::os::unix::fs::chown(path, Some(NOBODY), Some(NOBODY))
+            .unwrap_or_else(|e| panic!("cannot give {} to nobody: {e}", path.display()));
+    }
+    std::process::Command::new(env!("CARGO_BIN_EXE_gapwarden"))
+        .current_dir(&scratch.0)
+        .args(args)
+        .uid(NOBODY)
+        .gid(NOBODY)
+        .output()
+        .expect("the binary could be started as nobody (uid 65534)")
+}
+
 #[test]
 fn a_file_without_read_permission_is_refused_naming_it() {
     use std::os::unix::fs::PermissionsExt;
     let scratch = Scratch::new("perm");
-    if !permissions_are_enforced(&scratch) {
-        println!(
-            "skipped: this process reads files whatever their permissions (running as root), \
-             so an unreadable file cannot be made here"
-        );
-        return;
-    }
     let path = scratch.write("project.toml", BASE);
     std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o000)).unwrap();
-    let o = run_in(&scratch.0, &["check", "project.toml"]);
+    let o = run_where_permissions_count(&scratch, &[&path], &["check", "project.toml"]);
     std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o600)).unwrap();
     refused(&o).unwrap();
     assert!(
@@ -1660,19 +1679,13 @@ fn a_file_without_read_permission_is_refused_naming_it() {
 fn a_report_into_a_read_only_folder_fails_with_exit_2_and_leaves_nothing() {
     use std::os::unix::fs::PermissionsExt;
     let scratch = Scratch::new("readonly");
-    if !permissions_are_enforced(&scratch) {
-        println!(
-            "skipped: this process writes into read-only folders (running as root), \
-             so the refusal cannot be observed here"
-        );
-        return;
-    }
-    scratch.write("project.toml", BASE);
+    let project = scratch.write("project.toml", BASE);
     let locked = scratch.path("locked");
     std::fs::create_dir(&locked).unwrap();
     std::fs::set_permissions(&locked, std::fs::Permissions::from_mode(0o500)).unwrap();
-    let o = run_in(
-        &scratch.0,
+    let o = run_where_permissions_count(
+        &scratch,
+        &[&project, &locked],
         &["check", "project.toml", "-o", "locked/report.md"],
     );
     let left: Vec<_> = std::fs::read_dir(&locked).unwrap().collect();
