@@ -37,8 +37,9 @@ enum Command {
     ///
     /// One file: its checklist is printed (or written with -o). Several files or a folder
     /// (every *.toml inside, searched recursively, except in folders named rules,
-    /// templates, target or starting with a dot): one report each into --out-dir, and a
-    /// summary table. Exit status, the worst over all designs: 0 no blocking finding, 1 at
+    /// templates, target or starting with a dot; links to folders are not followed, and a
+    /// file met twice is checked once): one report each into --out-dir, and a summary
+    /// table. Inputs must be regular files of at most 16 MiB. Exit status, the worst over all designs: 0 no blocking finding, 1 at
     /// least one blocking finding, 2 an input or the command line could not be used.
     Check {
         /// Project files (TOML) or folders of them.
@@ -65,7 +66,9 @@ enum Command {
         /// replace the shipped ones of the same name.
         #[arg(long, value_name = "DIR")]
         templates: Option<PathBuf>,
-        /// With several designs: write one report each into this folder.
+        /// With several designs: write one report each into this folder, mirroring as
+        /// much of each design's path as keeps same-named designs apart (same rules as -o
+        /// for what is already there).
         #[arg(long, value_name = "DIR")]
         out_dir: Option<PathBuf>,
         /// Designs checked at once (default: the number of cores).
