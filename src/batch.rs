@@ -45,6 +45,10 @@ pub fn find_projects_noting(paths: &[PathBuf]) -> Result<(Vec<Found>, Vec<String
     let mut visited = HashSet::new();
     for path in paths {
         if path.is_dir() {
+            // A folder named twice, or inside one named before: its files are found already.
+            if file_id(path).is_some_and(|id| visited.contains(&id)) {
+                continue;
+            }
             let before = found.len();
             search(path, path, &mut found, &mut visited, 0);
             if found.len() == before {

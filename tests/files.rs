@@ -355,20 +355,36 @@ fn the_binary_leaves_other_runs_temp_files_alone_and_leaves_none_of_its_own() {
 }
 
 #[test]
-fn a_failed_write_leaves_no_temp_file() {
-    // The report cannot be renamed over a folder that appears where a file was expected:
-    // here the path is a folder from the start, refused before any temp file is made,
-    // and a path in a folder that does not exist fails when the temp file is created.
+fn a_write_that_fails_halfway_removes_its_temp_file_and_keeps_the_old_report() {
+    // A file-size limit of one 512-byte block (with the signal it raises ignored, so the
+    // write returns an error instead of killing the process): the temp file is created,
+    // then writing the report into it fails.
     let scratch = Scratch::new("failed");
-    std::fs::create_dir(scratch.path("a-folder.md")).unwrap();
-    let err = gapwarden::commands::write_atomically(&scratch.path("a-folder.md"), "x", &[])
-        .expect_err("a folder is refused");
-    assert!(err.to_string().contains("is a folder"), "{err}");
-    let err =
-        gapwarden::commands::write_atomically(&scratch.path("missing/report.md"), "x", &[])
-            .expect_err("a missing folder fails");
-    assert!(err.to_string().contains("nothing was written"), "{err}");
-    assert!(scratch.temp_files("").is_empty());
+    scratch.write("p.toml", BASE);
+    scratch.write("report.md", "old report\n");
+    let script = format!("trap '' XFSZ; ulimit -f 1; exec '{BIN}' check p.toml -o report.md");
+    let o = Command::new("sh")
+        .current_dir(&scratch.0)
+        .args(["-c", &script])
+        .stdin(Stdio::null())
+        .output()
+        .expect("sh runs");
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("report.md") && stderr.contains("nothing was written"), "{stderr}");
+    assert_eq!(std::fs::read_to_string(scratch.path("report.md")).unwrap(), "old report\n");
+    assert!(scratch.temp_files("").is_empty(), "{:?}", scratch.temp_files(""));
+    // The same for a new path: nothing appears there.
+    let script = format!("trap '' XFSZ; ulimit -f 1; exec '{BIN}' check p.toml -o new.md");
+    let o = Command::new("sh")
+        .current_dir(&scratch.0)
+        .args(["-c", &script])
+        .stdin(Stdio::null())
+        .output()
+        .expect("sh runs");
+    assert_eq!(o.status.code(), Some(2), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(!scratch.path("new.md").exists());
+    assert!(scratch.temp_files("").is_empty(), "{:?}", scratch.temp_files(""));
 }
 
 // ---------------------------------------------------------------------------------------
@@ -574,6 +590,10 @@ fn links_to_the_folder_and_its_parent_are_not_followed() {
     assert_eq!(rows.len(), 2, "each design once\n{}", run.stdout);
     assert!(rows[0].contains("| one.toml |"), "{}", run.stdout);
     assert!(rows[1].contains("| sub/two.toml |"), "{}", run.stdout);
+    // A folder named again, or inside one named before, adds nothing and is no error.
+    let run = run_in(&scratch.0, &["check", "designs", "designs/sub", "designs/./"]);
+    assert_eq!(run.code, 0, "{}", run.describe());
+    assert_eq!(summary_rows(&run.stdout).len(), 2, "{}", run.stdout);
 }
 
 #[test]
