@@ -1,8 +1,8 @@
 //! Many designs at once: finding project files in folders, checking them on several
 //! threads with results in a fixed order, writing one report each and a summary table.
 
-use std::io::{IsTerminal, Write};
 use std::collections::{HashMap, HashSet};
+use std::io::{IsTerminal, Write};
 use std::path::{Path, PathBuf};
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -165,9 +165,7 @@ fn keep_apart(found: &mut [Found]) {
         .collect();
     let key = |c: &[std::ffi::OsString], n: usize| -> String {
         let tail: PathBuf = c[c.len() - n..].iter().collect();
-        tail.with_extension("")
-            .to_string_lossy()
-            .to_lowercase()
+        tail.with_extension("").to_string_lossy().to_lowercase()
     };
     // Two designs whose whole paths give one name (`x.toml` and `x.txt` side by side)
     // cannot be kept apart this way: they keep their short names.

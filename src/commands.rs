@@ -85,9 +85,13 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
     let link = std::fs::symlink_metadata(out);
     let (path, meta) = match link {
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
-            return write_new(out, text).map_err(|m| fail(m));
+            return write_new(out, text).map_err(&fail);
         }
-        Err(e) => return Err(fail(format!("cannot be looked at: {e}; nothing was written"))),
+        Err(e) => {
+            return Err(fail(format!(
+                "cannot be looked at: {e}; nothing was written"
+            )));
+        }
         Ok(m) if m.file_type().is_symlink() => {
             // The link's final target, written in its place; the link itself stays.
             let Ok(real) = out.canonicalize() else {
@@ -107,7 +111,7 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
         }
         Ok(m) => (out.to_path_buf(), m),
     };
-    write_existing(&path, &meta, text).map_err(|m| fail(m))
+    write_existing(&path, &meta, text).map_err(fail)
 }
 
 /// Writes onto something that exists, by what it is (see `write_atomically`).
@@ -150,9 +154,9 @@ fn write_existing(path: &Path, meta: &std::fs::Metadata, text: &str) -> Result<(
         .map_err(|e| format!("cannot be written: {e}; nothing was written"))?;
     let temp = TempFile::create(path).map_err(|e| format!("{e}; nothing was written"))?;
     // The new report keeps the permissions of the one it replaces.
-    let _ = temp
-        .file
-        .set_permissions(std::fs::Permissions::from_mode(meta.permissions().mode() & 0o777));
+    let _ = temp.file.set_permissions(std::fs::Permissions::from_mode(
+        meta.permissions().mode() & 0o777,
+    ));
     temp.fill(text)
         .and_then(|temp| temp.rename_onto(path))
         .map_err(|e| format!("cannot write the report: {e}; nothing was written"))
@@ -170,11 +174,11 @@ fn write_new(path: &Path, text: &str) -> Result<(), String> {
             drop(temp);
             Ok(())
         }
-        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-            Err("appeared while the report was being written; it was left alone and \
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Err(
+            "appeared while the report was being written; it was left alone and \
                  nothing was written"
-                .to_string())
-        }
+                .to_string(),
+        ),
         // A file system without hard links: a rename (which could replace a file that
         // appeared in the last instant, the best it offers).
         Err(_) => temp

@@ -302,7 +302,8 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 .max()
                 .unwrap_or(0);
             if let Some(dir) = &out_dir
-                && let Err(problems) = batch::write_reports_protecting(&outcomes, dir, format, &house_inputs)
+                && let Err(problems) =
+                    batch::write_reports_protecting(&outcomes, dir, format, &house_inputs)
             {
                 eprintln!("{problems}");
                 worst = 2;

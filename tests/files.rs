@@ -23,10 +23,8 @@ impl Scratch {
     fn new(tag: &str) -> Self {
         static N: AtomicUsize = AtomicUsize::new(0);
         let n = N.fetch_add(1, Ordering::SeqCst);
-        let dir = std::env::temp_dir().join(format!(
-            "gapwarden-files-{}-{tag}-{n}",
-            std::process::id()
-        ));
+        let dir =
+            std::env::temp_dir().join(format!("gapwarden-files-{}-{tag}-{n}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(&dir).expect("scratch folder");
         Scratch(dir)
@@ -93,7 +91,12 @@ impl Run {
     }
 
     fn refused(&self, naming: &str) {
-        assert_eq!(self.code, 2, "expected a refusal (exit 2)\n{}", self.describe());
+        assert_eq!(
+            self.code,
+            2,
+            "expected a refusal (exit 2)\n{}",
+            self.describe()
+        );
         assert!(
             self.stderr.contains(naming),
             "the message does not name {naming}\n{}",
@@ -109,10 +112,7 @@ impl Run {
 fn run_in(dir: &Path, args: &[&str]) -> Run {
     static N: AtomicUsize = AtomicUsize::new(0);
     let n = N.fetch_add(1, Ordering::SeqCst);
-    let logs = std::env::temp_dir().join(format!(
-        "gapwarden-files-log-{}-{n}",
-        std::process::id()
-    ));
+    let logs = std::env::temp_dir().join(format!("gapwarden-files-log-{}-{n}", std::process::id()));
     std::fs::create_dir_all(&logs).expect("log folder");
     let out = std::fs::File::create(logs.join("out")).expect("log file");
     let err = std::fs::File::create(logs.join("err")).expect("log file");
@@ -182,7 +182,10 @@ fn o_onto_dev_null_writes_through_and_leaves_the_device_a_device() {
     let scratch = Scratch::new("devnull");
     scratch.write("p.toml", BASE);
     let before = std::fs::metadata("/dev/null").expect("/dev/null exists");
-    assert!(before.file_type().is_char_device(), "/dev/null is not a device here");
+    assert!(
+        before.file_type().is_char_device(),
+        "/dev/null is not a device here"
+    );
     let run = run_in(&scratch.0, &["check", "p.toml", "-o", "/dev/null"]);
     assert_eq!(run.code, 0, "{}", run.describe());
     let after = std::fs::symlink_metadata("/dev/null").expect("/dev/null still exists");
@@ -190,7 +193,11 @@ fn o_onto_dev_null_writes_through_and_leaves_the_device_a_device() {
         after.file_type().is_char_device(),
         "/dev/null was replaced by something else"
     );
-    assert_eq!(before.rdev(), after.rdev(), "/dev/null is another device now");
+    assert_eq!(
+        before.rdev(),
+        after.rdev(),
+        "/dev/null is another device now"
+    );
     assert!(run.stdout.is_empty(), "the report was printed as well");
 }
 
@@ -220,7 +227,11 @@ fn o_onto_a_named_pipe_writes_the_report_into_the_pipe_and_keeps_the_pipe() {
         "the pipe did not carry the report: {:?}",
         received.chars().take(200).collect::<String>()
     );
-    assert!(scratch.temp_files("").is_empty(), "{:?}", scratch.temp_files(""));
+    assert!(
+        scratch.temp_files("").is_empty(),
+        "{:?}",
+        scratch.temp_files("")
+    );
 }
 
 #[test]
@@ -232,7 +243,10 @@ fn o_onto_a_symbolic_link_writes_its_target_and_keeps_the_link() {
     let run = run_in(&scratch.0, &["check", "p.toml", "-o", "link.md"]);
     assert_eq!(run.code, 0, "{}", run.describe());
     let link = std::fs::symlink_metadata(scratch.path("link.md")).unwrap();
-    assert!(link.file_type().is_symlink(), "the link was replaced by a file");
+    assert!(
+        link.file_type().is_symlink(),
+        "the link was replaced by a file"
+    );
     assert_eq!(
         std::fs::read_link(scratch.path("link.md")).unwrap(),
         PathBuf::from("kept/target.md"),
@@ -314,14 +328,21 @@ fn a_stale_temp_file_named_after_this_process_neither_blocks_the_write_nor_is_de
     for i in 0..20 {
         gapwarden::commands::write_atomically(&out, &format!("report {i}\n"), &[])
             .unwrap_or_else(|p| panic!("write {i} failed: {p}"));
-        assert_eq!(std::fs::read_to_string(&out).unwrap(), format!("report {i}\n"));
+        assert_eq!(
+            std::fs::read_to_string(&out).unwrap(),
+            format!("report {i}\n")
+        );
     }
     assert_eq!(
         std::fs::read_to_string(&stale).unwrap(),
         "left by a killed run\n",
         "a temporary file this run did not create was touched"
     );
-    assert_eq!(scratch.temp_files(""), vec![stale_name], "a temp file was left");
+    assert_eq!(
+        scratch.temp_files(""),
+        vec![stale_name],
+        "a temp file was left"
+    );
 }
 
 #[test]
@@ -371,9 +392,19 @@ fn a_write_that_fails_halfway_removes_its_temp_file_and_keeps_the_old_report() {
         .expect("sh runs");
     let stderr = String::from_utf8_lossy(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{stderr}");
-    assert!(stderr.contains("report.md") && stderr.contains("nothing was written"), "{stderr}");
-    assert_eq!(std::fs::read_to_string(scratch.path("report.md")).unwrap(), "old report\n");
-    assert!(scratch.temp_files("").is_empty(), "{:?}", scratch.temp_files(""));
+    assert!(
+        stderr.contains("report.md") && stderr.contains("nothing was written"),
+        "{stderr}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(scratch.path("report.md")).unwrap(),
+        "old report\n"
+    );
+    assert!(
+        scratch.temp_files("").is_empty(),
+        "{:?}",
+        scratch.temp_files("")
+    );
     // The same for a new path: nothing appears there.
     let script = format!("trap '' XFSZ; ulimit -f 1; exec '{BIN}' check p.toml -o new.md");
     let o = Command::new("sh")
@@ -382,9 +413,18 @@ fn a_write_that_fails_halfway_removes_its_temp_file_and_keeps_the_old_report() {
         .stdin(Stdio::null())
         .output()
         .expect("sh runs");
-    assert_eq!(o.status.code(), Some(2), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
     assert!(!scratch.path("new.md").exists());
-    assert!(scratch.temp_files("").is_empty(), "{:?}", scratch.temp_files(""));
+    assert!(
+        scratch.temp_files("").is_empty(),
+        "{:?}",
+        scratch.temp_files("")
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -404,8 +444,11 @@ fn o_onto_a_house_rule_or_template_file_is_refused_by_any_name() {
     std::os::unix::fs::symlink("../house/altitude.toml", scratch.path("work/rule-link.md"))
         .unwrap();
     std::fs::hard_link(&template, scratch.path("work/template-hard.md")).unwrap();
-    std::fs::hard_link(scratch.path("work/p.toml"), scratch.path("work/project-hard.md"))
-        .unwrap();
+    std::fs::hard_link(
+        scratch.path("work/p.toml"),
+        scratch.path("work/project-hard.md"),
+    )
+    .unwrap();
     let names = [
         "../house/altitude.toml",
         "./../house/../house/altitude.toml",
@@ -430,7 +473,11 @@ fn o_onto_a_house_rule_or_template_file_is_refused_by_any_name() {
             ],
         );
         run.refused(name);
-        assert!(run.stderr.contains("is an input of this run"), "{}", run.describe());
+        assert!(
+            run.stderr.contains("is an input of this run"),
+            "{}",
+            run.describe()
+        );
     }
     assert_eq!(std::fs::read_to_string(&rule).unwrap(), HOUSE_ALTITUDE);
     assert_eq!(std::fs::read_to_string(&template).unwrap(), template_text);
@@ -453,7 +500,15 @@ fn out_dir_reports_never_land_on_an_input_through_a_link() {
     std::fs::hard_link(scratch.path("a.toml"), scratch.path("out/b.md")).unwrap();
     let run = run_in(
         &scratch.0,
-        &["check", "a.toml", "b.toml", "--rules", "house", "--out-dir", "out"],
+        &[
+            "check",
+            "a.toml",
+            "b.toml",
+            "--rules",
+            "house",
+            "--out-dir",
+            "out",
+        ],
     );
     run.refused("out/a.md");
     assert!(run.stderr.contains("out/b.md"), "{}", run.describe());
@@ -486,7 +541,8 @@ fn a_named_pipe_is_refused_without_waiting_by_check_compare_explain_and_folder_s
         let run = run_in(&scratch.0, args);
         run.refused("pipe.toml");
         assert!(
-            run.stderr.contains("is a named pipe (FIFO), not a regular file"),
+            run.stderr
+                .contains("is a named pipe (FIFO), not a regular file"),
             "{args:?}\n{}",
             run.describe()
         );
@@ -521,7 +577,8 @@ fn dev_zero_and_a_folder_are_refused_as_project_files() {
         let run = run_in(&scratch.0, args);
         run.refused("/dev/zero");
         assert!(
-            run.stderr.contains("is a character device, not a regular file"),
+            run.stderr
+                .contains("is a character device, not a regular file"),
             "{}",
             run.describe()
         );
@@ -530,7 +587,11 @@ fn dev_zero_and_a_folder_are_refused_as_project_files() {
     std::os::unix::fs::symlink("/dev/zero", scratch.path("zero.toml")).unwrap();
     let run = run_in(&scratch.0, &["check", "zero.toml"]);
     run.refused("zero.toml");
-    assert!(run.stderr.contains("character device"), "{}", run.describe());
+    assert!(
+        run.stderr.contains("character device"),
+        "{}",
+        run.describe()
+    );
     let run = run_in(&scratch.0, &["compare", "folder.toml", "p.toml"]);
     run.refused("folder.toml: is a folder, not a file");
 }
@@ -591,7 +652,10 @@ fn links_to_the_folder_and_its_parent_are_not_followed() {
     assert!(rows[0].contains("| one.toml |"), "{}", run.stdout);
     assert!(rows[1].contains("| sub/two.toml |"), "{}", run.stdout);
     // A folder named again, or inside one named before, adds nothing and is no error.
-    let run = run_in(&scratch.0, &["check", "designs", "designs/sub", "designs/./"]);
+    let run = run_in(
+        &scratch.0,
+        &["check", "designs", "designs/sub", "designs/./"],
+    );
     assert_eq!(run.code, 0, "{}", run.describe());
     assert_eq!(summary_rows(&run.stdout).len(), 2, "{}", run.stdout);
 }
@@ -619,7 +683,8 @@ fn one_file_named_twice_or_through_a_link_is_checked_once() {
     assert_eq!(rows.len(), 1, "checked more than once\n{}", run.stdout);
     assert!(run.stdout.contains("1 design checked"), "{}", run.stdout);
     assert!(
-        run.stderr.contains("hard.toml: the same file as designs/one.toml; checked once"),
+        run.stderr
+            .contains("hard.toml: the same file as designs/one.toml; checked once"),
         "{}",
         run.describe()
     );
@@ -641,12 +706,7 @@ fn same_named_designs_in_different_folders_get_separate_reports() {
     );
     assert_eq!(run.code, 0, "{}", run.describe());
     // `a/x.toml` and `c`'s `a/x.toml` share two names, so both take a third.
-    let root = scratch
-        .0
-        .file_name()
-        .unwrap()
-        .to_string_lossy()
-        .to_string();
+    let root = scratch.0.file_name().unwrap().to_string_lossy().to_string();
     let expected = [
         (format!("out/{root}/a/x.md"), "Design in a"),
         ("out/b/x.md".to_string(), "Design in b"),
@@ -662,7 +722,11 @@ fn same_named_designs_in_different_folders_get_separate_reports() {
     }
     let rows = summary_rows(&run.stdout);
     assert_eq!(rows.len(), 3, "{}", run.stdout);
-    assert!(rows[0].contains(&format!("| {root}/a/x.toml |")), "{}", run.stdout);
+    assert!(
+        rows[0].contains(&format!("| {root}/a/x.toml |")),
+        "{}",
+        run.stdout
+    );
     assert!(rows[1].contains("| b/x.toml |"), "{}", run.stdout);
     assert!(rows[2].contains("| c/a/x.toml |"), "{}", run.stdout);
 }
@@ -684,8 +748,18 @@ fn designs_whose_reports_cannot_be_kept_apart_are_refused_naming_both() {
         "{}",
         run.describe()
     );
-    assert!(!scratch.path("out/x.md").exists(), "one of the two was written");
-    assert!(scratch.path("out/y.md").exists(), "the design without a clash was not written");
+    assert!(
+        !scratch.path("out/x.md").exists(),
+        "one of the two was written"
+    );
+    assert!(
+        scratch.path("out/y.md").exists(),
+        "the design without a clash was not written"
+    );
     let rows = summary_rows(&run.stdout);
-    assert!(rows[0].contains("| x.toml |") && rows[1].contains("| x.txt |"), "{}", run.stdout);
+    assert!(
+        rows[0].contains("| x.toml |") && rows[1].contains("| x.txt |"),
+        "{}",
+        run.stdout
+    );
 }
