@@ -39,8 +39,9 @@ enum Command {
     /// (every *.toml inside, searched recursively, except in folders named rules,
     /// templates, target or starting with a dot; links to folders are not followed, and a
     /// file met twice is checked once): one report each into --out-dir, and a summary
-    /// table. Inputs must be regular files of at most 16 MiB. Exit status, the worst over all designs: 0 no blocking finding, 1 at
-    /// least one blocking finding, 2 an input or the command line could not be used.
+    /// table. Inputs must be regular files of at most 16 MiB. Exit status, the worst over
+    /// all designs: 0 no blocking finding, 1 at least one blocking finding, 2 an input or
+    /// the command line could not be used.
     Check {
         /// Project files (TOML) or folders of them.
         #[arg(required = true, value_name = "PROJECT")]

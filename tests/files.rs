@@ -681,7 +681,6 @@ fn one_file_named_twice_or_through_a_link_is_checked_once() {
     assert_eq!(run.code, 0, "{}", run.describe());
     let rows = summary_rows(&run.stdout);
     assert_eq!(rows.len(), 1, "checked more than once\n{}", run.stdout);
-    assert!(run.stdout.contains("1 design checked"), "{}", run.stdout);
     assert!(
         run.stderr
             .contains("hard.toml: the same file as designs/one.toml; checked once"),
