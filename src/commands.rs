@@ -406,6 +406,7 @@ pub struct SpacingQuery {
     pub board_conductor: BoardConductor,
     pub board_coating: BoardCoating,
     pub creepage_between_rows: BetweenRows,
+    pub altitude_between_rows: BetweenRows,
     pub clearance_mm: Option<f64>,
     pub creepage_mm: Option<f64>,
 }
@@ -497,6 +498,7 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         altitude_m: q.altitude_m,
         nominal_v: q.nominal_v,
         creepage_between_rows: q.creepage_between_rows,
+        altitude_between_rows: q.altitude_between_rows,
     };
     evaluate(rules, &cond, &barrier).map_err(|errors| {
         Problems(
