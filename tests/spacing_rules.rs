@@ -678,4 +678,42 @@ speed = "time-lag""#,
         row.contains("not computed: above the table") && row.contains("end-product standard"),
         "the figure must say where the value comes from: {row}"
     );
+    assert!(
+        md.contains("(up to 354 V peak): not extrapolated; the test voltage comes from the end-product standard"),
+        "the step must name the table's end and the standard that provides the value"
+    );
+}
+
+// ---------------------------------------------------------------------------------------
+// The same rules through the command line
+// ---------------------------------------------------------------------------------------
+
+fn spacing_json(args: &[&str]) -> (i32, serde_json::Value) {
+    let mut all = vec!["spacing", "--working-rms-v", "250", "--material-group", "I"];
+    all.extend_from_slice(args);
+    let out = common::run(&all);
+    let json = serde_json::from_str(&common::stdout(&out))
+        .unwrap_or_else(|e| panic!("not JSON ({e})\n{}", common::describe(&out)));
+    (common::code(&out), json)
+}
+
+#[test]
+fn spacing_command_reads_altitude_at_the_next_row_unless_asked_to_interpolate() {
+    let (_, next) = spacing_json(&["--altitude-m", "3500"]);
+    // 4000 m row: 1.29 (confirmed [TI2], [SE])
+    assert_eq!(next["altitude_factor"], 1.29);
+    let (_, interpolated) = spacing_json(&["--altitude-m", "3500", "--interpolate-altitude"]);
+    // linear between 1.14 (3000 m) and 1.29 (4000 m): 1.215
+    let f = interpolated["altitude_factor"].as_f64().expect("a number");
+    assert!((f - 1.215).abs() < 1e-6, "{f}");
+}
+
+#[test]
+fn spacing_command_fails_a_distance_that_prints_equal_but_is_short() {
+    // Required 1.5 mm (Table F.2, 2.5 kV, Case A, confirmed); 1.4999999 mm is short
+    let (code, json) = spacing_json(&["--clearance-mm", "1.4999999", "--creepage-mm", "2"]);
+    assert_eq!(json["verdict"], "fail");
+    assert_eq!(code, 1);
+    assert!(json["clearance_margin_mm"].as_f64().expect("a margin") < 0.0);
+    assert_eq!(json["clearance_governed_by"], "transient");
 }

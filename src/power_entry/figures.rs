@@ -1378,12 +1378,12 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
                 "{} V peak is above the last row of {} (up to {} V peak): not extrapolated; the test voltage comes from {}.",
                 show(peak),
                 table.source,
-                crate::parts::beyond_test_table(table),
                 table
                     .rows
                     .last()
                     .map(|r| show(r.up_to_peak_v))
-                    .unwrap_or_default()
+                    .unwrap_or_default(),
+                crate::parts::beyond_test_table(table)
             )
         };
         let test_v_from = if !required {
