@@ -577,7 +577,17 @@ creepage_mm = 2.0"#,
         .expect("the shortfall is a finding");
     assert_eq!(short.severity, Severity::Blocking);
     assert!(short.message.contains("short"), "{}", short.message);
+    assert!(!short.message.contains(" 0 mm short"), "{}", short.message);
     assert_eq!(report.barriers[0].verdict, Verdict::Fail);
+    let md = render_markdown(&report, &Templates::shipped()).expect("renders");
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| b1 |"))
+        .expect("the barrier row");
+    assert!(
+        row.contains("<0.0001") && row.contains("FAIL"),
+        "a margin too small to print must not read as zero: {row}"
+    );
 }
 
 // ---------------------------------------------------------------------------------------
