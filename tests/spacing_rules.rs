@@ -424,6 +424,7 @@ fn functional_insulation_on_a_board_gives_both_figures_and_the_larger_governs() 
     let both = r.functional_figures.clone().expect("both figures");
     // IEC 60664-1:2007 Table F.4 (2020: F.5), 300 V -> row 320 V, printed wiring PD2 -> 1.6 mm (confirmed [W])
     assert_mm(both.creepage_table_mm, 1.6);
+    assert_eq!(both.creepage_table_column, "printed_pd2");
     // IPC-2221B Table 6-1, 251-300 V peak, B2 -> 1.25 mm (confirmed [SC], [BE], [SM])
     assert_mm(both.ipc2221b_spacing_mm, 1.25);
     assert_mm(r.required_creepage_mm, 1.6);

@@ -92,6 +92,8 @@ pub struct DoubleParts {
 pub struct FunctionalFigures {
     /// IEC 60664-1 Table F.5 (F.4 in 2007), which applies to functional insulation too.
     pub creepage_table_mm: f64,
+    /// The creepage table's column (`printed_pd2`, `pd2_group_iii`, ...).
+    pub creepage_table_column: String,
     /// IPC-2221B Table 6-1: a figure for correct operation, not for safety.
     pub ipc2221b_spacing_mm: f64,
     pub ipc2221b_column: String,
@@ -376,6 +378,7 @@ fn functional_on_board(
         steady_state_peak_v: None,
         functional_figures: Some(FunctionalFigures {
             creepage_table_mm: table_mm,
+            creepage_table_column: table.column.to_string(),
             ipc2221b_spacing_mm: ipc_mm,
             ipc2221b_column: ipc.column.to_string(),
         }),
