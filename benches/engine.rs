@@ -37,6 +37,7 @@ fn one_barrier_spacing(bencher: divan::Bencher) {
         board_conductor: BoardConductor::OuterLayer,
         board_coating: BoardCoating::None,
         creepage_between_rows: BetweenRows::NextRow,
+        altitude_between_rows: BetweenRows::NextRow,
         clearance_mm: Some(6.2),
         creepage_mm: Some(6.4),
     };

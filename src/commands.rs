@@ -495,6 +495,36 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             b.grade.as_str(),
             b.verdict
         ));
+        let governed_by = if what == "clearance" {
+            b.clearance_governed_by
+        } else {
+            b.creepage_governed_by
+        };
+        out.push_str(&format!("  set by: {}\n", governed_by_words(governed_by)));
+        if what == "clearance"
+            && let (Some(t), Some(s), Some(v)) = (
+                b.transient_clearance_mm,
+                b.steady_state_clearance_mm,
+                b.steady_state_peak_v,
+            )
+        {
+            out.push_str(&format!(
+                "  transient requirement (Table F.2) {} mm; steady-state requirement (Table F.8, read at {} V) {} mm; the larger governs\n",
+                show(t),
+                show(v),
+                show(s)
+            ));
+        }
+        if what == "creepage"
+            && let Some(f) = &b.functional_figures
+        {
+            out.push_str(&format!(
+                "  functional insulation: creepage table {} mm, IPC-2221B column {} {} mm; the larger governs; a shortfall is a warning (the end-product standard may accept a passed fault test instead)\n",
+                show(f.creepage_table_mm),
+                f.ipc2221b_column,
+                show(f.ipc2221b_spacing_mm)
+            ));
+        }
         for (i, s) in steps.iter().enumerate() {
             let rule = s
                 .rule
@@ -504,6 +534,23 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
         }
     }
+}
+
+/// What a `*_governed_by` value means, for `explain`.
+fn governed_by_words(value: &str) -> String {
+    let words = match value {
+        "transient" => "the transient requirement (IEC 60664-1 Table F.2 at the impulse voltage)",
+        "steady-state" => {
+            "the steady-state requirement (IEC 60664-1 Table F.8 at the working peak voltage)"
+        }
+        "pollution-degree-minimum" => "the pollution-degree minimum",
+        "ipc2221b" => "IPC-2221B conductor spacing (functional insulation on a board)",
+        "creepage-table" => "the creepage table (IEC 60664-1 Table F.5)",
+        "clearance" => "the required clearance (creepage is never less)",
+        "house-minimum" => "a house minimum",
+        other => other,
+    };
+    format!("{words} [{value}]")
 }
 
 /// A list of the loaded tables, or the full text of one.
@@ -592,6 +639,7 @@ pub struct SpacingQuery {
     pub board_conductor: BoardConductor,
     pub board_coating: BoardCoating,
     pub creepage_between_rows: BetweenRows,
+    pub altitude_between_rows: BetweenRows,
     pub clearance_mm: Option<f64>,
     pub creepage_mm: Option<f64>,
 }
@@ -683,6 +731,7 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         altitude_m: q.altitude_m,
         nominal_v: q.nominal_v,
         creepage_between_rows: q.creepage_between_rows,
+        altitude_between_rows: q.altitude_between_rows,
     };
     evaluate(rules, &cond, &barrier).map_err(|errors| {
         Problems(

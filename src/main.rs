@@ -183,6 +183,9 @@ struct SpacingArgs {
     /// Interpolate creepage between table rows (rounded up to 0.1 mm) instead of taking the next row.
     #[arg(long)]
     interpolate: bool,
+    /// Interpolate the altitude correction factor between table rows instead of taking the next row.
+    #[arg(long)]
+    interpolate_altitude: bool,
     /// Clearance as laid out, mm (to get a verdict).
     #[arg(long, value_name = "MM")]
     clearance_mm: Option<f64>,
@@ -408,6 +411,11 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                     CoatingArg::Conformal => BoardCoating::Conformal,
                 },
                 creepage_between_rows: if a.interpolate {
+                    BetweenRows::Interpolate
+                } else {
+                    BetweenRows::NextRow
+                },
+                altitude_between_rows: if a.interpolate_altitude {
                     BetweenRows::Interpolate
                 } else {
                     BetweenRows::NextRow

@@ -34,6 +34,9 @@ pub struct BridgeResult {
     /// Electric strength test voltage the barrier's grade needs; null for functional
     /// insulation or above the table.
     pub required_test_v_rms: Option<f64>,
+    /// Where the test voltage comes from: the table row, or (above the table) the
+    /// end-product standard that provides it; null where no test applies.
+    pub required_test_v_from: Option<String>,
     pub external_clearance_mm: Option<f64>,
     pub external_creepage_mm: Option<f64>,
     pub distance_through_insulation_mm: Option<f64>,
@@ -89,14 +92,14 @@ fn bridge(
         barrier.grade,
         &mut derivation,
     );
-    let required_test_v_rms = match part.kind {
+    let (required_test_v_rms, required_test_v_from) = match part.kind {
         PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
             &rules.test_voltages,
             barrier.grade,
             working_peak_v,
             &mut derivation,
         ),
-        _ => None,
+        _ => (None, None),
     };
     let thermal_class_max_c = r
         .thermal_class
@@ -121,6 +124,7 @@ fn bridge(
         series_accepted,
         isolation_test_v_rms: r.isolation_test_v_rms,
         required_test_v_rms,
+        required_test_v_from,
         external_clearance_mm: r.external_clearance_mm,
         external_creepage_mm: r.external_creepage_mm,
         distance_through_insulation_mm: r.distance_through_insulation_mm,
@@ -173,27 +177,36 @@ fn capacitor_fit(
     (bridges, allowed || series_accepted, series_accepted)
 }
 
-/// Electric strength test voltage for a grade at a working peak; never beyond the table.
+/// Where the test voltage comes from above the test-voltage table's last row, in words.
+pub fn beyond_test_table(table: &TestVoltages) -> String {
+    table.above_last_row.clone().unwrap_or_else(|| {
+        "the end-product standard that applies to the product".to_string()
+    })
+}
+
+/// Electric strength test voltage for a grade at a working peak, and where it comes from;
+/// never beyond the table: above it the end-product standard is named instead.
 fn test_voltage(
     table: &TestVoltages,
     grade: Grade,
     peak_v: f64,
     steps: &mut Vec<Step>,
-) -> Option<f64> {
+) -> (Option<f64>, Option<String>) {
     if grade == Grade::Functional {
-        return None;
+        return (None, None);
     }
     let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - 1e-9) else {
+        let from = beyond_test_table(table);
         steps.push(Step {
             rule: Some(TestVoltages::ID.to_string()),
             text: format!(
-                "Working peak {} V is above the last row of {} (up to {} V peak); no test voltage is given here.",
+                "Working peak {} V is above the last row of {} (up to {} V peak): the test voltage comes from {from}; not computed here (the table is never extrapolated).",
                 show(peak_v),
                 table.source,
                 table.rows.last().map(|r| show(r.up_to_peak_v)).unwrap_or_default()
             ),
         });
-        return None;
+        return (None, Some(from));
     };
     let reinforced = matches!(grade, Grade::Reinforced | Grade::Double);
     let v = if reinforced {
@@ -212,7 +225,14 @@ fn test_voltage(
             table.source
         ),
     });
-    Some(v)
+    (
+        Some(v),
+        Some(format!(
+            "{}, row up to {} V peak",
+            table.source,
+            show(row.up_to_peak_v)
+        )),
+    )
 }
 
 fn thermal_limit(table: &ThermalClasses, class: &str, steps: &mut Vec<Step>) -> Option<f64> {

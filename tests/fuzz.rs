@@ -118,6 +118,7 @@ const KEYS: &[&str] = &[
     "revision",
     "protection_class",
     "creepage_between_rows",
+    "altitude_between_rows",
     "pollution_degree",
     "overvoltage_category",
     "altitude_m",

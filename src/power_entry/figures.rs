@@ -73,6 +73,7 @@ impl Figure {
             inputs,
             judged_against,
             steps,
+            not_computed_because: None,
         }
     }
 }
@@ -1374,18 +1375,29 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             )
         } else {
             format!(
-                "{} V peak is above the last row of {} (up to {} V peak): not extrapolated; take the test voltage from the end-product standard.",
+                "{} V peak is above the last row of {} (up to {} V peak): not extrapolated; the test voltage comes from {}.",
                 show(peak),
                 table.source,
                 table
                     .rows
                     .last()
                     .map(|r| show(r.up_to_peak_v))
-                    .unwrap_or_default()
+                    .unwrap_or_default(),
+                crate::parts::beyond_test_table(table)
             )
         };
-        figures.push(
-            Figure::new(
+        let test_v_from = if !required {
+            None
+        } else if let Some(r) = row {
+            Some(format!(
+                "{}, row up to {} V peak",
+                table.source,
+                show(r.up_to_peak_v)
+            ))
+        } else {
+            Some(crate::parts::beyond_test_table(table))
+        };
+        let mut figure = Figure::new(
                 &format!("test_voltage.{}", barrier.id),
                 format!(
                     "Electric strength test, {} ({})",
@@ -1400,8 +1412,18 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
                 vec![input("V_work,pk", peak, "V", peak_from)],
                 None,
                 vec![step(rule, text)],
-            ),
-        );
+            );
+        figure.not_computed_because = if !required {
+            Some("no electric strength test applies to functional insulation".to_string())
+        } else if beyond {
+            Some(format!(
+                "above the table's last row the test voltage comes from {}",
+                crate::parts::beyond_test_table(table)
+            ))
+        } else {
+            None
+        };
+        figures.push(figure);
         out.push(TestVoltage {
             barrier: barrier.id.clone(),
             grade: barrier.grade,
@@ -1410,6 +1432,7 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             test_v_rms: value,
             row_up_to_peak_v: row.filter(|_| required).map(|r| r.up_to_peak_v),
             beyond_table: beyond,
+            test_v_from,
         });
     }
     let notes = vec![format!(

@@ -185,6 +185,8 @@ pub struct Derived {
     /// What the figure is judged against, in words (the check compares).
     pub judged_against: Option<String>,
     pub steps: Vec<Step>,
+    /// Where `value` is null: why, in words (for instance, which standard provides it).
+    pub not_computed_because: Option<String>,
 }
 
 /// A topic of the power-entry section, as the report shows it.
@@ -343,6 +345,9 @@ pub struct TestVoltage {
     pub row_up_to_peak_v: Option<f64>,
     /// The working voltage is above the table's last row (not extrapolated).
     pub beyond_table: bool,
+    /// Where the test voltage comes from: the table row, or above the table the end-product
+    /// standard that provides it; null where no test applies (functional insulation).
+    pub test_v_from: Option<String>,
 }
 
 /// The `power_entry` section of the report. The first nine fields are the JSON core
@@ -464,7 +469,10 @@ fn explain_figure(out: &mut String, f: &Derived) {
     let value = f
         .value
         .map(|v| format!("{} {}", show_value(v), f.unit))
-        .unwrap_or_else(|| "not computed".to_string());
+        .unwrap_or_else(|| match &f.not_computed_because {
+            Some(why) => format!("not computed: {why}"),
+            None => "not computed".to_string(),
+        });
     out.push_str(&format!("{}: {value} ({})\n", f.title, f.id));
     out.push_str(&format!("  formula: {}\n", f.formula));
     for i in &f.inputs {

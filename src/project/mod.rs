@@ -140,13 +140,13 @@ pub enum Field {
     Homogeneous,
 }
 
-/// How creepage is read between two rows of the creepage table.
+/// How a table is read between two of its rows (the creepage table, the altitude table).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum BetweenRows {
     /// The next higher row (conservative; the default).
     NextRow,
-    /// Linear interpolation, rounded up to the next 0.1 mm.
+    /// Linear interpolation (creepage rounded up to the next 0.1 mm).
     Interpolate,
 }
 
@@ -186,6 +186,8 @@ pub struct Design {
     pub revision: Option<String>,
     pub protection_class: ProtectionClass,
     pub creepage_between_rows: BetweenRows,
+    /// How the altitude correction factor is read between two rows of its table.
+    pub altitude_between_rows: BetweenRows,
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -22,6 +22,7 @@ const DESIGN_KEYS: &[&str] = &[
     "revision",
     "protection_class",
     "creepage_between_rows",
+    "altitude_between_rows",
 ];
 const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
 const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
@@ -302,6 +303,12 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
             BetweenRows::NextRow
         }
     };
+    let altitude_between = r.word(&t, "altitude_between_rows", &["next-row", "interpolate"]);
+    let altitude_between_rows = match altitude_between.map(|l| l.value) {
+        Some("interpolate") => BetweenRows::Interpolate,
+        Some(_) => BetweenRows::NextRow,
+        None => BetweenRows::NextRow,
+    };
     if revision.is_none() {
         assumptions.push(
             "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
@@ -317,6 +324,7 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
         revision,
         protection_class,
         creepage_between_rows,
+        altitude_between_rows,
     })
 }
 

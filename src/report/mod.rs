@@ -47,6 +47,7 @@ pub struct ConditionsInfo {
     pub altitude_m: f64,
     pub mains_nominal_v: f64,
     pub creepage_between_rows: BetweenRows,
+    pub altitude_between_rows: BetweenRows,
 }
 
 #[derive(Debug, Clone, Default, Serialize)]
@@ -133,6 +134,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         altitude_m: project.environment.altitude_m,
         nominal_v: project.mains.nominal_v,
         creepage_between_rows: project.design.creepage_between_rows,
+        altitude_between_rows: project.design.altitude_between_rows,
     };
     let mut barriers = Vec::new();
     let mut problems = Vec::new();
@@ -189,6 +191,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
             altitude_m: cond.altitude_m,
             mains_nominal_v: cond.nominal_v,
             creepage_between_rows: cond.creepage_between_rows,
+            altitude_between_rows: cond.altitude_between_rows,
         },
         assumptions: project.assumptions.clone(),
         summary: Summary::default(),

@@ -151,6 +151,8 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     env.add_filter("signed", |value: Value| -> String {
         match f64::try_from(value) {
             Ok(x) if x > 0.0 => format!("+{}", show(x)),
+            // A shortfall too small to print is still a shortfall: never "0".
+            Ok(x) if x < 0.0 && show(x) == "0" => "-<0.0001".to_string(),
             Ok(x) => show(x),
             Err(_) => "not declared".to_string(),
         }

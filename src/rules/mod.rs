@@ -78,6 +78,7 @@ pub struct RuleBook {
     pub info: Vec<RuleInfo>,
     pub impulse: ImpulseTable,
     pub clearance: ClearanceTable,
+    pub steady_state: SteadyStateClearanceTable,
     pub creepage: CreepageTable,
     pub reinforced: ReinforcedRule,
     pub altitude: AltitudeTable,
@@ -237,6 +238,7 @@ impl RuleBook {
         };
         let impulse = typed.get::<ImpulseTable>(ImpulseTable::ID);
         let clearance = typed.get::<ClearanceTable>(ClearanceTable::ID);
+        let steady_state = typed.get::<SteadyStateClearanceTable>(SteadyStateClearanceTable::ID);
         let creepage = typed.get::<CreepageTable>(CreepageTable::ID);
         let reinforced = typed.get::<ReinforcedRule>(ReinforcedRule::ID);
         let altitude = typed.get::<AltitudeTable>(AltitudeTable::ID);
@@ -286,6 +288,7 @@ impl RuleBook {
             info,
             impulse: need(impulse)?,
             clearance: need(clearance)?,
+            steady_state: need(steady_state)?,
             creepage: need(creepage)?,
             reinforced: need(reinforced)?,
             altitude: need(altitude)?,

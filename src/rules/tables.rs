@@ -91,6 +91,10 @@ pub struct ClearanceRow {
     pub impulse_kv: f64,
     pub case_a_mm: f64,
     pub case_b_mm: f64,
+    /// Case A in the pollution degree 2 column where the table shows more than the PD1 value
+    /// and the 0.2 mm minimum (an open point of a reproduction, taken as the larger).
+    #[serde(default)]
+    pub case_a_pd2_mm: Option<f64>,
     /// Which columns of this row were compared with a reproduction ("case_a", "case_b").
     #[serde(default)]
     pub confirmed: Vec<String>,
@@ -120,13 +124,83 @@ impl Table for ClearanceTable {
     fn check(&self) -> Result<(), String> {
         ascending(self.rows.iter().map(|r| r.impulse_kv), "impulse_kv")?;
         non_negative(
-            self.rows.iter().flat_map(|r| [r.case_a_mm, r.case_b_mm]),
+            self.rows
+                .iter()
+                .flat_map(|r| [r.case_a_mm, r.case_b_mm])
+                .chain(self.rows.iter().filter_map(|r| r.case_a_pd2_mm)),
             "clearances",
         )?;
         non_negative(
             self.pollution_degree_minimum_mm.iter().copied(),
             "pollution_degree_minimum_mm",
         )
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SteadyStateRow {
+    pub peak_kv: f64,
+    /// Absent where the table has no Case A value (above 50 kV).
+    #[serde(default)]
+    pub case_a_mm: Option<f64>,
+    pub case_b_mm: f64,
+    /// Which columns of this row were compared with a reproduction ("case_a", "case_b").
+    #[serde(default)]
+    pub confirmed: Vec<String>,
+}
+
+/// Clearances for steady-state, temporary and recurring peak voltages (IEC 60664-1 Table F.8).
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SteadyStateClearanceTable {
+    pub id: String,
+    pub title: String,
+    pub source: String,
+    pub provenance: String,
+    /// A house table that replaces a shipped one says so.
+    #[serde(default)]
+    pub overrides: bool,
+    /// Minimum clearance by pollution degree 1, 2, 3.
+    pub pollution_degree_minimum_mm: [f64; 3],
+    /// Reinforced insulation reads the table at this multiple of the peak.
+    pub reinforced_peak_factor: f64,
+    pub rows: Vec<SteadyStateRow>,
+}
+
+impl SteadyStateClearanceTable {
+    pub const ID: &'static str = "iec60664-1.steady-state-clearance";
+}
+
+impl Table for SteadyStateClearanceTable {
+    fn check(&self) -> Result<(), String> {
+        ascending(self.rows.iter().map(|r| r.peak_kv), "peak_kv")?;
+        non_negative(
+            self.rows
+                .iter()
+                .flat_map(|r| [r.case_a_mm.unwrap_or(0.0), r.case_b_mm])
+                .chain(self.pollution_degree_minimum_mm.iter().copied()),
+            "clearances",
+        )?;
+        // Case A must be a run of rows from the first: a gap would be read as "beyond the
+        // table" in the middle of it.
+        if let Some(gap) = self
+            .rows
+            .windows(2)
+            .find(|w| w[0].case_a_mm.is_none() && w[1].case_a_mm.is_some())
+        {
+            return Err(format!(
+                "peak_kv {}: case_a_mm follows a row without one; Case A must run from the first row without gaps",
+                gap[1].peak_kv
+            ));
+        }
+        if !(self.reinforced_peak_factor.is_finite() && self.reinforced_peak_factor >= 1.0) {
+            return Err(format!(
+                "reinforced_peak_factor {}: it must be finite and at least 1",
+                self.reinforced_peak_factor
+            ));
+        }
+        Ok(())
     }
 }
 
@@ -233,6 +307,9 @@ impl Table for ReinforcedRule {
 pub struct AltitudeRow {
     pub altitude_m: f64,
     pub factor: f64,
+    /// How this row was checked ("confirmed ...", "from memory").
+    #[serde(default)]
+    pub provenance: Option<String>,
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -281,6 +358,12 @@ pub struct GrooveTable {
     pub overrides: bool,
     /// Narrowest groove that counts, by pollution degree 1, 2, 3.
     pub min_width_mm: [f64; 3],
+    /// Below this associated clearance the width is reduced (absent: never reduced).
+    #[serde(default)]
+    pub reduce_below_clearance_mm: Option<f64>,
+    /// The reduced width is the associated clearance divided by this.
+    #[serde(default)]
+    pub reduced_divisor: Option<f64>,
 }
 
 impl GrooveTable {
@@ -289,7 +372,21 @@ impl GrooveTable {
 
 impl Table for GrooveTable {
     fn check(&self) -> Result<(), String> {
-        non_negative(self.min_width_mm.iter().copied(), "min_width_mm")
+        non_negative(self.min_width_mm.iter().copied(), "min_width_mm")?;
+        non_negative(
+            self.reduce_below_clearance_mm.into_iter(),
+            "reduce_below_clearance_mm",
+        )?;
+        match (self.reduce_below_clearance_mm, self.reduced_divisor) {
+            (Some(_), None) | (None, Some(_)) => Err(
+                "reduce_below_clearance_mm and reduced_divisor go together: give both or neither"
+                    .to_string(),
+            ),
+            (_, Some(d)) if !(d.is_finite() && d >= 1.0) => Err(format!(
+                "reduced_divisor {d}: it must be finite and at least 1"
+            )),
+            _ => Ok(()),
+        }
     }
 }
 
@@ -525,6 +622,9 @@ pub struct TestVoltages {
     #[serde(default)]
     pub overrides: bool,
     pub rows: Vec<TestVoltageRow>,
+    /// Where the test voltage comes from above the last row, in words.
+    #[serde(default)]
+    pub above_last_row: Option<String>,
 }
 
 impl TestVoltages {

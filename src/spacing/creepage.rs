@@ -11,6 +11,8 @@ pub struct Creepage {
     pub figure: Figure,
     pub group: MaterialGroup,
     pub column: &'static str,
+    /// "creepage-table" or "clearance" (raised to the required clearance).
+    pub governed_by: &'static str,
 }
 
 const EPS: f64 = 1e-9;
@@ -238,6 +240,45 @@ pub fn required(
     grade: Grade,
     clearance: &Figure,
 ) -> Result<Creepage, OutOfTable> {
+    let Creepage {
+        figure: Figure { mut mm, mut steps },
+        group,
+        column,
+        ..
+    } = from_table(rules, cond, barrier, grade)?;
+    let mut governed_by = "creepage-table";
+    if mm < clearance.mm {
+        steps.push(Step::plain(format!(
+            "Raised to the required clearance {} mm: creepage is never less than clearance (common practice in IEC 60664-1 dimensioning; from memory).",
+            show(clearance.mm)
+        )));
+        mm = clearance.mm;
+        governed_by = "clearance";
+    }
+    steps.push(Step::plain(format!(
+        "Required creepage ({}): {} mm.",
+        grade_label(barrier.grade),
+        show(mm)
+    )));
+    Ok(Creepage {
+        figure: Figure {
+            mm: tidy(mm),
+            steps,
+        },
+        group,
+        column,
+        governed_by,
+    })
+}
+
+/// The creepage table's figure alone (material group, column, row, doubling for
+/// reinforced), before it is set beside the clearance.
+pub fn from_table(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    grade: Grade,
+) -> Result<Creepage, OutOfTable> {
     let mut steps = Vec::new();
     let (group, step) = material_group(&rules.material_groups, barrier.material)?;
     steps.push(step);
@@ -265,18 +306,6 @@ pub fn required(
         ));
         mm = doubled;
     }
-    if mm < clearance.mm {
-        steps.push(Step::plain(format!(
-            "Raised to the required clearance {} mm: creepage is never less than clearance (common practice in IEC 60664-1 dimensioning; from memory).",
-            show(clearance.mm)
-        )));
-        mm = clearance.mm;
-    }
-    steps.push(Step::plain(format!(
-        "Required creepage ({}): {} mm.",
-        grade_label(barrier.grade),
-        show(mm)
-    )));
     Ok(Creepage {
         figure: Figure {
             mm: tidy(mm),
@@ -284,5 +313,6 @@ pub fn required(
         },
         group,
         column,
+        governed_by: "creepage-table",
     })
 }

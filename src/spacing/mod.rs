@@ -66,6 +66,8 @@ pub struct Conditions {
     pub altitude_m: f64,
     pub nominal_v: f64,
     pub creepage_between_rows: BetweenRows,
+    /// How the altitude factor is read between rows: the next higher row unless switched.
+    pub altitude_between_rows: BetweenRows,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -83,6 +85,18 @@ pub struct DoubleParts {
     pub basic_creepage_mm: f64,
     pub supplementary_clearance_mm: f64,
     pub supplementary_creepage_mm: f64,
+}
+
+/// For functional insulation on a printed board: both figures that apply, side by side.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FunctionalFigures {
+    /// IEC 60664-1 Table F.5 (F.4 in 2007), which applies to functional insulation too.
+    pub creepage_table_mm: f64,
+    /// The creepage table's column (`printed_pd2`, `pd2_group_iii`, ...).
+    pub creepage_table_column: String,
+    /// IPC-2221B Table 6-1: a figure for correct operation, not for safety.
+    pub ipc2221b_spacing_mm: f64,
+    pub ipc2221b_column: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -113,15 +127,32 @@ pub struct BarrierResult {
     pub required_creepage_mm: f64,
     pub clearance_mm: Option<f64>,
     pub creepage_mm: Option<f64>,
+    /// Declared minus required, never rounded to zero when short (the verdict compares
+    /// the exact figures, not these).
     pub clearance_margin_mm: Option<f64>,
     pub creepage_margin_mm: Option<f64>,
     pub verdict: Verdict,
+    /// What sets the required clearance: "transient" (Table F.2), "steady-state"
+    /// (Table F.8), "pollution-degree-minimum", "ipc2221b" or "house-minimum".
+    pub clearance_governed_by: &'static str,
+    /// What sets the required creepage: "creepage-table" (Table F.5), "clearance" (raised
+    /// to the required clearance), "ipc2221b" or "house-minimum".
+    pub creepage_governed_by: &'static str,
+    /// Table F.2 at the clearance impulse voltage (null for a board's functional spacing).
+    pub transient_clearance_mm: Option<f64>,
+    /// Table F.8 at the steady-state peak (null for a board's functional spacing).
+    pub steady_state_clearance_mm: Option<f64>,
+    /// The voltage at which Table F.8 was read (160 % of the peak for reinforced).
+    pub steady_state_peak_v: Option<f64>,
+    /// Functional insulation on a board: the creepage table's and IPC-2221B's figures.
+    pub functional_figures: Option<FunctionalFigures>,
     pub double_parts: Option<DoubleParts>,
     /// A house minimum (rule table limits.minimum-distances) raised a required figure.
     pub house_minimum_applied: bool,
     pub working_frequency_hz: Option<f64>,
     pub slot_width_mm: Option<f64>,
-    /// The narrowest slot or groove that counts toward creepage at this pollution degree.
+    /// The narrowest slot or groove that counts toward creepage at this pollution degree
+    /// (reduced to a third of the required clearance where that is under 3 mm).
     pub narrowest_slot_mm: f64,
     pub bridged_by: Vec<String>,
     pub derivation: Derivation,
@@ -163,34 +194,36 @@ pub fn evaluate(
 ) -> Result<BarrierResult, Vec<OutOfTable>> {
     let on_board_functional = barrier.grade == Grade::Functional && barrier.printed_board;
     let (clearance, creepage, meta) = if on_board_functional {
-        let figure = board::functional_spacing(rules, cond, barrier).map_err(|e| vec![e])?;
-        let meta = Meta {
-            method: "ipc2221b",
-            rated_impulse_v: None,
-            clearance_impulse_v: None,
-            material_group: None,
-            creepage_column: figure.column.to_string(),
-            altitude_factor: 1.0,
-            double_parts: None,
-        };
-        let mut creepage_steps = figure.figure.steps.clone();
-        creepage_steps.push(Step::plain(
-            "The same figure serves as creepage for functional spacing on a board.",
-        ));
-        let creepage = Figure {
-            mm: figure.figure.mm,
-            steps: creepage_steps,
-        };
-        (figure.figure, creepage, meta)
+        functional_on_board(rules, cond, barrier)?
     } else {
         insulation_coordination(rules, cond, barrier)?
     };
-    let (clearance, creepage, house_minimum_applied) =
+    let (clearance, mut creepage, house) =
         house_minimums(rules, barrier.grade, clearance, creepage);
-    let margin = |declared: Option<f64>, required: f64| declared.map(|d| tidy(d - required));
-    let clearance_margin_mm = margin(barrier.clearance_mm, clearance.mm);
-    let creepage_margin_mm = margin(barrier.creepage_mm, creepage.mm);
-    let verdict = verdict(clearance_margin_mm, creepage_margin_mm);
+    let clearance_governed_by = if house.clearance {
+        "house-minimum"
+    } else {
+        meta.clearance_governed_by
+    };
+    let creepage_governed_by = if house.creepage {
+        "house-minimum"
+    } else if house.raised_to_clearance {
+        "clearance"
+    } else {
+        meta.creepage_governed_by
+    };
+    let (narrowest_slot_mm, groove_step) = narrowest_groove(rules, cond, clearance.mm);
+    if barrier.slot_width_mm.is_some() {
+        creepage.steps.push(groove_step);
+    }
+    let clearance_margin_mm = barrier.clearance_mm.map(|d| margin(d, clearance.mm));
+    let creepage_margin_mm = barrier.creepage_mm.map(|d| margin(d, creepage.mm));
+    let verdict = verdict(
+        barrier.clearance_mm,
+        clearance.mm,
+        barrier.creepage_mm,
+        creepage.mm,
+    );
     Ok(BarrierResult {
         id: barrier.id.clone(),
         between: barrier.between.clone(),
@@ -211,12 +244,17 @@ pub fn evaluate(
         clearance_margin_mm,
         creepage_margin_mm,
         verdict,
+        clearance_governed_by,
+        creepage_governed_by,
+        transient_clearance_mm: meta.transient_clearance_mm,
+        steady_state_clearance_mm: meta.steady_state_clearance_mm,
+        steady_state_peak_v: meta.steady_state_peak_v,
+        functional_figures: meta.functional_figures,
         double_parts: meta.double_parts,
-        house_minimum_applied,
+        house_minimum_applied: house.clearance || house.creepage,
         working_frequency_hz: barrier.working_frequency_hz,
         slot_width_mm: barrier.slot_width_mm,
-        narrowest_slot_mm: rules.grooves.min_width_mm
-            [(cond.pollution_degree.clamp(1, 3) - 1) as usize],
+        narrowest_slot_mm,
         bridged_by: barrier.bridged_by.clone(),
         derivation: Derivation {
             clearance: clearance.steps,
@@ -225,19 +263,152 @@ pub fn evaluate(
     })
 }
 
+/// Declared minus required. Rounding to micrometres hides floating-point noise, but a
+/// shortfall smaller than that keeps its sign: a distance short of the requirement never
+/// shows a margin of zero.
+fn margin(declared: f64, required: f64) -> f64 {
+    let exact = declared - required;
+    let rounded = tidy(exact);
+    if exact < 0.0 && rounded >= 0.0 {
+        exact
+    } else {
+        rounded
+    }
+}
+
+/// The narrowest groove that counts toward creepage: X by pollution degree, reduced to a
+/// fraction of the associated clearance (the barrier's required clearance) where that is
+/// small.
+fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (f64, Step) {
+    let table = &rules.grooves;
+    let pd = cond.pollution_degree.clamp(1, 3);
+    let x = table.min_width_mm[(pd - 1) as usize];
+    let head = format!(
+        "Narrow grooves: in pollution degree {pd} a groove narrower than X = {} mm is bridged ({})",
+        show(x),
+        table.source
+    );
+    if let (Some(below), Some(divisor)) = (table.reduce_below_clearance_mm, table.reduced_divisor)
+        && clearance_mm < below
+    {
+        let reduced = clearance_mm / divisor;
+        if reduced < x {
+            return (
+                reduced,
+                Step::from(
+                    crate::rules::GrooveTable::ID,
+                    format!(
+                        "{head}; the required clearance {} mm is under {} mm, so X is reduced to it divided by {}: {} mm.",
+                        show(clearance_mm),
+                        show(below),
+                        show(divisor),
+                        show(reduced)
+                    ),
+                ),
+            );
+        }
+    }
+    (
+        x,
+        Step::from(crate::rules::GrooveTable::ID, format!("{head}.")),
+    )
+}
+
+/// Functional insulation on a printed board: IEC 60664-1's creepage table applies to it as
+/// well as to basic insulation, and IPC-2221B gives a spacing for correct operation. Both
+/// are given; the larger is the required creepage. The clearance is IPC-2221B's figure.
+fn functional_on_board(
+    rules: &RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+) -> Result<(Figure, Figure, Meta), Vec<OutOfTable>> {
+    let ipc = board::functional_spacing(rules, cond, barrier);
+    let table = creepage::from_table(rules, cond, barrier, Grade::Basic);
+    let (ipc, table) = match (ipc, table) {
+        (Ok(i), Ok(t)) => (i, t),
+        (i, t) => return Err(i.err().into_iter().chain(t.err()).collect()),
+    };
+    let ipc_mm = ipc.figure.mm;
+    let table_mm = table.figure.mm;
+    let mut steps = vec![Step::plain(
+        "Functional insulation on a printed board: IEC 60664-1 Table F.5 (F.4 in 2007) applies to functional insulation too, and IPC-2221B gives a spacing for correct operation; both are given and the larger is the required creepage.",
+    )];
+    steps.extend(table.figure.steps);
+    steps.push(Step::from(
+        crate::rules::BoardSpacingTable::ID,
+        format!(
+            "IPC-2221B spacing, column {}: {} mm (see the clearance).",
+            ipc.column,
+            show(ipc_mm)
+        ),
+    ));
+    let (mm, governed_by) = if table_mm > ipc_mm {
+        (table_mm, "creepage-table")
+    } else {
+        (ipc_mm, "ipc2221b")
+    };
+    steps.push(Step::plain(format!(
+        "The {} governs: {} mm (creepage table {} mm, IPC-2221B {} mm).",
+        if governed_by == "ipc2221b" {
+            "IPC-2221B figure"
+        } else {
+            "creepage table"
+        },
+        show(mm),
+        show(table_mm),
+        show(ipc_mm)
+    )));
+    steps.push(Step::plain(format!(
+        "Required creepage (functional): {} mm. A shortfall is a warning: the end-product standard may accept functional insulation that passes a fault test (the insulation short-circuited) instead.",
+        show(mm)
+    )));
+    let creepage = Figure { mm, steps };
+    let meta = Meta {
+        method: "ipc2221b",
+        rated_impulse_v: None,
+        clearance_impulse_v: None,
+        material_group: Some(table.group.as_str()),
+        creepage_column: ipc.column.to_string(),
+        altitude_factor: 1.0,
+        double_parts: None,
+        clearance_governed_by: "ipc2221b",
+        creepage_governed_by: governed_by,
+        transient_clearance_mm: None,
+        steady_state_clearance_mm: None,
+        steady_state_peak_v: None,
+        functional_figures: Some(FunctionalFigures {
+            creepage_table_mm: table_mm,
+            creepage_table_column: table.column.to_string(),
+            ipc2221b_spacing_mm: ipc_mm,
+            ipc2221b_column: ipc.column.to_string(),
+        }),
+    };
+    Ok((ipc.figure, creepage, meta))
+}
+
+/// Which figures a house minimum raised, and whether creepage was then raised to clearance.
+struct HouseApplied {
+    clearance: bool,
+    creepage: bool,
+    raised_to_clearance: bool,
+}
+
 /// Applies a team's own floors (shipped at zero) and keeps creepage at least the clearance.
 fn house_minimums(
     rules: &RuleBook,
     grade: Grade,
     mut clearance: Figure,
     mut creepage: Figure,
-) -> (Figure, Figure, bool) {
+) -> (Figure, Figure, HouseApplied) {
     let table = &rules.minimums;
-    let mut applied = false;
-    for (figure, floor, what) in [
+    let mut applied = [false, false];
+    for (i, (figure, floor, what)) in [
         (&mut clearance, table.clearance_mm.get(grade), "clearance"),
         (&mut creepage, table.creepage_mm.get(grade), "creepage"),
-    ] {
+    ]
+    .into_iter()
+    .enumerate()
+    {
         if floor > figure.mm {
             figure.steps.push(Step::from(
                 crate::rules::MinimumDistances::ID,
@@ -249,25 +420,42 @@ fn house_minimums(
                 ),
             ));
             figure.mm = tidy(floor);
-            applied = true;
+            applied[i] = true;
         }
     }
-    if applied && creepage.mm < clearance.mm {
+    let mut raised_to_clearance = false;
+    if (applied[0] || applied[1]) && creepage.mm < clearance.mm {
         creepage.steps.push(Step::plain(format!(
             "Raised to the required clearance {} mm.",
             show(clearance.mm)
         )));
         creepage.mm = clearance.mm;
+        raised_to_clearance = true;
     }
-    (clearance, creepage, applied)
+    (
+        clearance,
+        creepage,
+        HouseApplied {
+            clearance: applied[0],
+            creepage: applied[1] && !raised_to_clearance,
+            raised_to_clearance,
+        },
+    )
 }
 
 /// A shortfall fails; otherwise a distance not yet declared leaves the barrier incomplete.
-fn verdict(clearance_margin: Option<f64>, creepage_margin: Option<f64>) -> Verdict {
-    let short = |m: Option<f64>| m.is_some_and(|m| m < 0.0);
-    if short(clearance_margin) || short(creepage_margin) {
+/// The declared distances are compared with the exact required figures, never with a
+/// rounded margin or the printed figure.
+fn verdict(
+    clearance_mm: Option<f64>,
+    required_clearance_mm: f64,
+    creepage_mm: Option<f64>,
+    required_creepage_mm: f64,
+) -> Verdict {
+    let short = |declared: Option<f64>, required: f64| declared.is_some_and(|d| d < required);
+    if short(clearance_mm, required_clearance_mm) || short(creepage_mm, required_creepage_mm) {
         Verdict::Fail
-    } else if clearance_margin.is_none() || creepage_margin.is_none() {
+    } else if clearance_mm.is_none() || creepage_mm.is_none() {
         Verdict::Incomplete
     } else {
         Verdict::Pass
@@ -282,10 +470,17 @@ struct Meta {
     creepage_column: String,
     altitude_factor: f64,
     double_parts: Option<DoubleParts>,
+    clearance_governed_by: &'static str,
+    creepage_governed_by: &'static str,
+    transient_clearance_mm: Option<f64>,
+    steady_state_clearance_mm: Option<f64>,
+    steady_state_peak_v: Option<f64>,
+    functional_figures: Option<FunctionalFigures>,
 }
 
 /// IEC 60664-1 dimensioning for basic, supplementary, reinforced and double insulation
-/// (and for functional insulation off a board, which gets the basic figures).
+/// (and for functional insulation off a board: the creepage table applies to it as well,
+/// and the clearance is dimensioned as basic).
 fn insulation_coordination(
     rules: &RuleBook,
     cond: &Conditions,
@@ -318,7 +513,7 @@ fn insulation_coordination(
     let mut clearance = clear.figure;
     let mut creepage = creep.figure;
     if grade == Grade::Functional {
-        let note = "Functional insulation off a printed board: the basic figures are applied (conservative); the end-product standard may allow less.";
+        let note = "Functional insulation off a printed board: IEC 60664-1 Table F.5 (F.4 in 2007) applies to functional insulation too, and the clearance is dimensioned as basic (conservative). A shortfall is a warning: the end-product standard may accept functional insulation that passes a fault test (the insulation short-circuited) instead.";
         clearance.steps.insert(0, Step::plain(note));
         creepage.steps.insert(0, Step::plain(note));
     }
@@ -352,6 +547,12 @@ fn insulation_coordination(
             creepage_column: creep.column.to_string(),
             altitude_factor: clear.altitude_factor,
             double_parts,
+            clearance_governed_by: clear.governed_by,
+            creepage_governed_by: creep.governed_by,
+            transient_clearance_mm: Some(clear.transient_mm),
+            steady_state_clearance_mm: Some(clear.steady_state_mm),
+            steady_state_peak_v: Some(clear.steady_state_peak_v),
+            functional_figures: None,
         },
     ))
 }

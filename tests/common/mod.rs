@@ -84,6 +84,7 @@ pub fn query() -> SpacingQuery {
         board_conductor: BoardConductor::OuterLayer,
         board_coating: BoardCoating::None,
         creepage_between_rows: BetweenRows::NextRow,
+        altitude_between_rows: BetweenRows::NextRow,
         clearance_mm: None,
         creepage_mm: None,
     }
