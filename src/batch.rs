@@ -96,11 +96,10 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    /// 0 clean, 1 blocking findings, 2 unusable.
-    pub fn exit_code(&self) -> u8 {
+    /// 0 ready for review, 1 not ready, 2 unusable; see `Report::exit_code`.
+    pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
         match &self.result {
-            Ok((report, _)) if report.has_blocking() => 1,
-            Ok(_) => 0,
+            Ok((report, _)) => report.exit_code(allow_incomplete),
             Err(_) => 2,
         }
     }
@@ -210,6 +209,13 @@ pub fn write_reports(
 
 /// The summary table: one row a design, Markdown.
 pub fn summary(outcomes: &[Outcome]) -> String {
+    summary_with(outcomes, false)
+}
+
+/// The summary table, with the exit status as `--allow-incomplete` sets it. The status
+/// column is the design's readiness ("ready", "not ready: blocking", ...), never "clean"
+/// for a design that is not ready.
+pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     let mut out = String::from(
         "| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n",
     );
@@ -225,11 +231,7 @@ pub fn summary(outcomes: &[Outcome]) -> String {
                 r.summary.fail,
                 r.summary.incomplete,
                 r.summary.blocking,
-                if r.has_blocking() {
-                    "blocking"
-                } else {
-                    "clean"
-                }
+                cell(&r.readiness.state)
             )),
             Err(p) => out.push_str(&format!(
                 "| not read | | {file} | | | | | unusable input ({} problem{}) |\n",
@@ -238,7 +240,11 @@ pub fn summary(outcomes: &[Outcome]) -> String {
             )),
         }
     }
-    let worst = outcomes.iter().map(Outcome::exit_code).max().unwrap_or(0);
+    let worst = outcomes
+        .iter()
+        .map(|o| o.exit_code(allow_incomplete))
+        .max()
+        .unwrap_or(0);
     out.push_str(&format!(
         "\n{} design{} checked; exit status {worst}.\n",
         outcomes.len(),

@@ -74,6 +74,22 @@ pub enum Verdict {
     Pass,
     Fail,
     Incomplete,
+    /// The distances would pass, but an input they rest on looks implausible (an
+    /// `input.suspicious_value`): the input must be checked before the barrier can pass.
+    #[serde(rename = "check-input")]
+    CheckInput,
+}
+
+impl Verdict {
+    /// The word the JSON and the reports use.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Verdict::Pass => "pass",
+            Verdict::Fail => "fail",
+            Verdict::Incomplete => "incomplete",
+            Verdict::CheckInput => "check-input",
+        }
+    }
 }
 
 /// For double insulation: the basic and supplementary parts, each dimensioned on its own.
