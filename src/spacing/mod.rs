@@ -165,7 +165,8 @@ pub fn show(x: f64) -> String {
         return "0".to_string();
     }
     if rounded.abs() >= 1e15 {
-        return format!("{rounded:.0}");
+        // 1e300 as 1e300, not as 301 digits.
+        return format!("{rounded:e}");
     }
     format!("{rounded}")
 }
