@@ -414,11 +414,16 @@ pub struct SpacingQuery {
 pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Problems> {
     use crate::project::{DISTANCE_MM, VOLTAGE_V};
     let mut problems = Vec::new();
+    let mut implausible = false;
     let mut judge = |flag: &str, value: Option<f64>, rule: &NumberRule| {
-        if let Some(v) = value
-            && let Err(reason) = rule.judge(v)
-        {
-            problems.push(Diagnostic::new("command line", reason).with_key(flag));
+        if let Some(v) = value {
+            match rule.judge(v) {
+                Err(reason) => {
+                    problems.push(Diagnostic::new("command line", reason).with_key(flag))
+                }
+                Ok(Some(_)) => implausible = true,
+                Ok(None) => {}
+            }
         }
     };
     judge("--working-rms-v", Some(q.working_rms_v), &VOLTAGE_V);
@@ -498,7 +503,7 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         nominal_v: q.nominal_v,
         creepage_between_rows: q.creepage_between_rows,
     };
-    evaluate(rules, &cond, &barrier).map_err(|errors| {
+    let result = evaluate(rules, &cond, &barrier).map_err(|errors| {
         Problems(
             errors
                 .into_iter()
@@ -512,5 +517,12 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
                 })
                 .collect(),
         )
+    });
+    // As in a report: distances that would pass on an implausible value are not a pass.
+    result.map(|mut r| {
+        if implausible && r.verdict == crate::spacing::Verdict::Pass {
+            r.verdict = crate::spacing::Verdict::CheckInput;
+        }
+        r
     })
 }

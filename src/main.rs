@@ -118,7 +118,8 @@ enum Command {
         rules: Option<PathBuf>,
     },
     /// Required clearance and creepage of one barrier, from flags (JSON, like one entry of
-    /// a report's barriers). Exit 1 when declared distances fall short.
+    /// a report's barriers). Exit 1 when declared distances fall short, or would pass on
+    /// an implausible value (verdict "check-input").
     Spacing(SpacingArgs),
 }
 
@@ -402,10 +403,9 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             };
             let result = commands::spacing(&rules, &query)?;
             print(&gapwarden::report::to_json(&result));
-            Ok(if result.verdict == Verdict::Fail {
-                1
-            } else {
-                0
+            Ok(match result.verdict {
+                Verdict::Fail | Verdict::CheckInput => 1,
+                Verdict::Pass | Verdict::Incomplete => 0,
             })
         }
     }
