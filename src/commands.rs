@@ -302,12 +302,12 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             continue;
         }
         out.push_str(&format!(
-            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {:?})\n",
+            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {})\n",
             b.id,
             show(required),
             declared(laid_out),
             b.grade.as_str(),
-            b.verdict
+            b.verdict.as_str()
         ));
         for (i, s) in steps.iter().enumerate() {
             let rule = s

@@ -1,5 +1,6 @@
 //! The gapwarden command line: parses arguments, calls the library, prints, and returns
-//! 0 (no blocking finding), 1 (blocking findings) or 2 (unusable input or command line).
+//! 0 (ready for review), 1 (not ready: blocking, incomplete or implausible) or 2 (unusable
+//! input or command line).
 
 use std::io::Write;
 use std::path::PathBuf;
