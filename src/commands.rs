@@ -46,7 +46,9 @@ pub fn render(report: &Report, format: Format, templates: &Templates) -> Result<
     match format {
         Format::Markdown => render_markdown(report, templates),
         Format::Html => render_html(report, templates),
-        Format::Json => Ok(render_json(&crate::report::with_templates(report, templates))),
+        Format::Json => Ok(render_json(&crate::report::with_templates(
+            report, templates,
+        ))),
     }
 }
 

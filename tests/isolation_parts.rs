@@ -716,10 +716,7 @@ fn house_check_override_makes_a_missing_creepage_blocking() {
     // shipped checks nothing is blocking: --allow-incomplete gives exit 0.
     assert_exit(&o, 1);
     assert_eq!(shipped["readiness"]["state"], "not ready: incomplete");
-    assert_exit(
-        &run(&["check", &fixture(project), "--allow-incomplete"]),
-        0,
-    );
+    assert_exit(&run(&["check", &fixture(project), "--allow-incomplete"]), 0);
     assert_eq!(
         finding(&shipped, "barrier.creepage_missing", "pri-out")["severity"],
         "warning"
@@ -731,7 +728,10 @@ fn house_check_override_makes_a_missing_creepage_blocking() {
 
     let (o, house) = check_json_with_rules(project, "house-creepage-missing-blocking");
     assert_exit(&o, 1);
-    assert_eq!(house["readiness"]["state"], "not ready: blocking, incomplete");
+    assert_eq!(
+        house["readiness"]["state"],
+        "not ready: blocking, incomplete"
+    );
     // Blocking is not relaxed by --allow-incomplete.
     assert_exit(
         &run(&[

@@ -25,10 +25,8 @@ struct Scratch(PathBuf);
 
 impl Scratch {
     fn new(name: &str) -> Self {
-        let dir = std::env::temp_dir().join(format!(
-            "gapwarden-verdicts-{name}-{}",
-            std::process::id()
-        ));
+        let dir =
+            std::env::temp_dir().join(format!("gapwarden-verdicts-{name}-{}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(&dir).expect("temp folder");
         Scratch(dir)
@@ -118,11 +116,10 @@ fn implausible_clearance_gives_check_input_not_pass() {
     assert_eq!(barrier(&r, "input-output")["verdict"], "pass");
     assert_eq!(r["summary"]["check_input"], 1);
     assert_eq!(r["summary"]["pass"], 2);
-    let suspicious = r["findings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .any(|f| f["id"] == "input.suspicious_value" && f["subject"] == "barrier[1].clearance_mm");
+    let suspicious =
+        r["findings"].as_array().unwrap().iter().any(|f| {
+            f["id"] == "input.suspicious_value" && f["subject"] == "barrier[1].clearance_mm"
+        });
     assert!(suspicious, "the suspicious value is still a finding");
     // --allow-incomplete does not relax an implausible input.
     assert_exit(&run(&["check", &p, "--allow-incomplete"]), 1);
@@ -228,7 +225,11 @@ fn exit_status_is_0_only_when_ready_for_review() {
 
     // Unusable input: 2, whatever the flag.
     assert_exit(
-        &run(&["check", "tests/fixtures/bad-syntax.toml", "--allow-incomplete"]),
+        &run(&[
+            "check",
+            "tests/fixtures/bad-syntax.toml",
+            "--allow-incomplete",
+        ]),
         2,
     );
 }
@@ -245,9 +246,18 @@ fn the_first_lines_say_whether_ready_and_which_conditions_fail() {
         };
         let first = head(&text[start..], 8);
         assert!(first.contains("Ready for review: no"), "{format}: {first}");
-        assert!(first.contains("no incomplete barrier (fails)"), "{format}: {first}");
-        assert!(first.contains("no blocking finding (holds)"), "{format}: {first}");
-        assert!(first.contains("no implausible input (holds)"), "{format}: {first}");
+        assert!(
+            first.contains("no incomplete barrier (fails)"),
+            "{format}: {first}"
+        );
+        assert!(
+            first.contains("no blocking finding (holds)"),
+            "{format}: {first}"
+        );
+        assert!(
+            first.contains("no implausible input (holds)"),
+            "{format}: {first}"
+        );
         assert!(first.contains("pri-control"), "{format}: {first}");
     }
     let first = head(&stdout(&run(&["check", CLASS2])), 4);
@@ -352,6 +362,7 @@ fn house_rules_are_named_with_their_sha256_and_what_they_changed() {
     assert_eq!(h["tables_added"], 0);
     assert_eq!(h["rules"][0]["sha256"], sha.as_str());
     assert_eq!(h["rules"][0]["effect"], "replaced");
+    assert_eq!(h["rules"][0]["kind"], "table");
 
     // A house check that changes a shipped check, and one that adds a check.
     for (folder, changed, added) in [
@@ -370,8 +381,12 @@ fn house_rules_are_named_with_their_sha256_and_what_they_changed() {
         let h = &json(&o)["house"];
         assert_eq!(h["checks_changed"], changed, "{folder}: {h}");
         assert_eq!(h["checks_added"], added, "{folder}: {h}");
+        // A file of checks is counted by its checks, not as a table.
+        assert_eq!(h["tables_added"], 0, "{folder}: {h}");
+        assert_eq!(h["tables_replaced"], 0, "{folder}: {h}");
         let listed = h["rules"].as_array().unwrap();
         assert_eq!(listed.len(), 1, "{folder}: {h}");
+        assert_eq!(listed[0]["kind"], "checks", "{folder}: {h}");
         let path = dir.join(listed[0]["file"].as_str().unwrap());
         assert_eq!(listed[0]["sha256"], sha256_file(&path).as_str());
         // HTML: the same lines, near the top of the body.
@@ -399,7 +414,10 @@ fn house_rules_are_named_with_their_sha256_and_what_they_changed() {
 fn a_house_template_is_named_with_its_sha256_and_cannot_hide_readiness() {
     let s = Scratch::new("house-template");
     // A house template that prints almost nothing: the first lines are gapwarden's own.
-    let path = s.write("templates/report.md.j2", "# House checklist {{ design.name }}\n\nNothing else.\n");
+    let path = s.write(
+        "templates/report.md.j2",
+        "# House checklist {{ design.name }}\n\nNothing else.\n",
+    );
     let sha = sha256_file(Path::new(&path));
     let dir = s.0.join("templates").display().to_string();
     for format in ["md", "html", "json"] {
@@ -411,11 +429,15 @@ fn a_house_template_is_named_with_its_sha256_and_cannot_hide_readiness() {
             assert_eq!(h["in_force"], true);
             assert_eq!(h["templates"][0]["file"], "report.md.j2");
             assert_eq!(h["templates"][0]["sha256"], sha.as_str());
+            assert_eq!(h["templates"][0]["kind"], "template");
             continue;
         }
         let start = text.find("<body>").unwrap_or(0);
         let first = head(&text[start..], 10);
-        assert!(first.contains("House templates in force"), "{format}: {first}");
+        assert!(
+            first.contains("House templates in force"),
+            "{format}: {first}"
+        );
         assert!(first.contains(&sha), "{format}: {first}");
         assert!(first.contains("Ready for review: no"), "{format}: {first}");
     }
@@ -427,9 +449,8 @@ fn a_house_template_is_named_with_its_sha256_and_cannot_hide_readiness() {
 
 /// True when the text holds a C0 control other than newline and tab, DEL or a C1 control.
 fn has_raw_control(text: &str) -> bool {
-    text.chars().any(|c| {
-        (c.is_control() && c != '\n' && c != '\t') || ('\u{80}'..='\u{9f}').contains(&c)
-    })
+    text.chars()
+        .any(|c| (c.is_control() && c != '\n' && c != '\t') || ('\u{80}'..='\u{9f}').contains(&c))
 }
 
 /// True when the text holds a bidi override, isolate or mark, or a zero-width character.
@@ -458,18 +479,30 @@ fn control_characters_from_the_project_never_reach_terminal_or_page() {
     for format in ["md", "html", "json"] {
         let o = run(&["check", &p, "--format", format]);
         let out = stdout(&o);
-        assert!(!has_raw_control(&out), "{format}: raw control character in the report");
+        assert!(
+            !has_raw_control(&out),
+            "{format}: raw control character in the report"
+        );
         if format != "json" {
-            assert!(out.contains("<U+001B>") || out.contains("&lt;U+001B&gt;"), "{format}");
+            assert!(
+                out.contains("<U+001B>") || out.contains("&lt;U+001B&gt;"),
+                "{format}"
+            );
         }
     }
     let html = stdout(&run(&["check", &p, "--format", "html"]));
     let title = &html[html.find("<title>").unwrap()..html.find("</title>").unwrap()];
-    assert!(title.contains("&lt;U+001B&gt;]0;owned&lt;U+0007&gt;"), "{title}");
+    assert!(
+        title.contains("&lt;U+001B&gt;]0;owned&lt;U+0007&gt;"),
+        "{title}"
+    );
     assert!(title.contains("&lt;U+009B&gt;"), "{title}");
     // JSON keeps the data (escaped, decoded back to the same characters).
     let r = json(&run(&["check", &p, "--format", "json"]));
-    assert_eq!(r["design"]["name"], "Adapter \u{1b}]0;owned\u{7} \u{1b}[2J \u{9b}2J");
+    assert_eq!(
+        r["design"]["name"],
+        "Adapter \u{1b}]0;owned\u{7} \u{1b}[2J \u{9b}2J"
+    );
     // explain prints the id.
     let o = run(&["explain", &p, "pri\u{1b}[2Jsec"]);
     assert_exit(&o, 0);
@@ -478,7 +511,11 @@ fn control_characters_from_the_project_never_reach_terminal_or_page() {
     // stderr: an error message quoting a project string.
     let bad = s.write(
         "bad.toml",
-        &example_with(CLASS2, "between = [\"primary\", \"output\"]", "between = [\"primary\", \"out\\u001B]0;x\\u0007\"]"),
+        &example_with(
+            CLASS2,
+            "between = [\"primary\", \"output\"]",
+            "between = [\"primary\", \"out\\u001B]0;x\\u0007\"]",
+        ),
     );
     let o = run(&["check", &bad]);
     assert_exit(&o, 2);
@@ -495,17 +532,27 @@ fn bidi_overrides_and_zero_width_characters_are_made_visible() {
     let s = Scratch::new("bidi");
     // U+202E turns "pri-sec" + "cba" into a spoofed look; U+200B hides a difference
     // between two ids that look alike.
-    let text = example_with(CLASS2, "id = \"input-output\"", "id = \"input\\u200B-output\"")
-        .replace(r#"id = "pri-sec""#, "id = \"pri-sec\\u202Ecba\"")
-        .replace(
-            r#"description = "Board gap under the transformer, optocoupler and Y-capacitor""#,
-            r#"description = "free text \u2066isolated\u2069 \uFEFF \u2060""#,
-        )
-        .replace("name = \"Wall", "name = \"\\u202DWall");
+    let text = example_with(
+        CLASS2,
+        "id = \"input-output\"",
+        "id = \"input\\u200B-output\"",
+    )
+    .replace(r#"id = "pri-sec""#, "id = \"pri-sec\\u202Ecba\"")
+    .replace(
+        r#"description = "Board gap under the transformer, optocoupler and Y-capacitor""#,
+        r#"description = "free text \u2066isolated\u2069 \uFEFF \u2060""#,
+    )
+    .replace("name = \"Wall", "name = \"\\u202DWall");
     let p = s.write("p.toml", &text);
     let md = stdout(&run(&["check", &p]));
-    assert!(!has_raw_invisible(&md), "raw bidi or zero-width in Markdown");
-    assert!(md.contains("pri-sec<U+202E>cba"), "the id shows the override");
+    assert!(
+        !has_raw_invisible(&md),
+        "raw bidi or zero-width in Markdown"
+    );
+    assert!(
+        md.contains("pri-sec<U+202E>cba"),
+        "the id shows the override"
+    );
     assert!(md.contains("input<U+200B>-output"));
     let html = stdout(&run(&["check", &p, "--format", "html"]));
     assert!(!has_raw_invisible(&html), "raw bidi or zero-width in HTML");
@@ -515,13 +562,18 @@ fn bidi_overrides_and_zero_width_characters_are_made_visible() {
     // JSON: escaped for the terminal, the same characters for a JSON reader.
     let o = run(&["check", &p, "--format", "json"]);
     let raw = stdout(&o);
-    assert!(!has_raw_invisible(&raw), "raw bidi or zero-width in JSON text");
+    assert!(
+        !has_raw_invisible(&raw),
+        "raw bidi or zero-width in JSON text"
+    );
     assert!(raw.contains("\\u202e"), "escaped in the JSON text");
-    assert!(json(&o)["barriers"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .any(|b| b["id"] == "pri-sec\u{202e}cba"));
+    assert!(
+        json(&o)["barriers"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|b| b["id"] == "pri-sec\u{202e}cba")
+    );
     // Terminal: explain and errors.
     let o = run(&["explain", &p, "pri-sec\u{202e}cba"]);
     assert_exit(&o, 0);
@@ -540,8 +592,12 @@ fn bidi_overrides_and_zero_width_characters_are_made_visible() {
 fn a_barrier_id_equal_to_the_chart_marker_stays_text() {
     let s = Scratch::new("chart-marker");
     for id in ["gapwarden-emc-chart", "<!-- gapwarden-emc-chart -->"] {
-        let text = example_with(CLASS2, "id = \"pri-sec\"", &format!("id = {}", toml_string(id)))
-            .replace("\"pri-sec\"", &toml_string(id));
+        let text = example_with(
+            CLASS2,
+            "id = \"pri-sec\"",
+            &format!("id = {}", toml_string(id)),
+        )
+        .replace("\"pri-sec\"", &toml_string(id));
         let p = s.write("p.toml", &text);
         let html = stdout(&run(&["check", &p, "--format", "html"]));
         // Exactly one chart, and it is not inside a table cell.
@@ -588,7 +644,13 @@ fn a_prescan_just_below_the_band_is_not_called_150_khz() {
 fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
     // IEC 60664-1:2020 Table F.1 covers supply systems up to 1000 V (REFERENCES.md, from
     // memory of the published table): 1000.00001 V is refused, and said as itself.
-    let o = run(&["spacing", "--working-rms-v", "250", "--nominal-v", "1000.00001"]);
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--nominal-v",
+        "1000.00001",
+    ]);
     assert_exit(&o, 2);
     let err = stderr(&o);
     assert!(err.contains("1000.00001 V is above the last row"), "{err}");
@@ -610,7 +672,11 @@ fn absurdly_small_values_are_flagged_and_huge_ones_print_in_scientific_notation(
         .iter()
         .find(|f| f["id"] == "input.suspicious_value" && f["subject"] == "mains.frequency_hz")
         .unwrap_or_else(|| panic!("no suspicious_value for 5e-324 Hz: {}", r["findings"]));
-    assert!(f["message"].as_str().unwrap().contains("5e-324"), "{}", f["message"]);
+    assert!(
+        f["message"].as_str().unwrap().contains("5e-324"),
+        "{}",
+        f["message"]
+    );
     assert_eq!(r["readiness"]["implausible_inputs"], true);
     assert_ne!(code(&o), 0);
 
@@ -621,12 +687,14 @@ fn absurdly_small_values_are_flagged_and_huge_ones_print_in_scientific_notation(
         &example_with(CLASS2, "working_rms_v = 264", "working_rms_v = 1e-300"),
     );
     let r = json(&run(&["check", &p, "--format", "json"]));
-    assert!(r["findings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .any(|f| f["id"] == "input.suspicious_value"
-            && f["message"].as_str().unwrap().contains("1e-300")));
+    assert!(
+        r["findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|f| f["id"] == "input.suspicious_value"
+                && f["message"].as_str().unwrap().contains("1e-300"))
+    );
     assert_ne!(barrier(&r, "input-bulk")["verdict"], "pass");
 
     // 1e300 V is refused in scientific notation, not 301 digits.
@@ -654,7 +722,10 @@ fn negative_zero_prints_as_zero_in_json() {
     assert!(!text.contains("-0.0"), "a negative zero in the JSON");
     assert!(!text.contains(": -0,") && !text.contains(": -0\n"));
     let r = json(&o);
-    assert_eq!(barrier(&r, "input-bulk")["clearance_mm"].as_f64(), Some(0.0));
+    assert_eq!(
+        barrier(&r, "input-bulk")["clearance_mm"].as_f64(),
+        Some(0.0)
+    );
     assert!(
         barrier(&r, "input-bulk")["clearance_mm"]
             .as_f64()

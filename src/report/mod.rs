@@ -114,10 +114,12 @@ pub struct HouseFile {
     /// Path inside the house folder (never a machine path).
     pub file: String,
     pub sha256: String,
-    /// For rule files: the id, and whether it replaced a shipped table ("replaced") or was
+    /// For rule files: the id, and whether it replaced a shipped file ("replaced") or was
     /// added ("added"). For templates: the shipped template it replaced.
     pub id: String,
     pub effect: &'static str,
+    /// "table" (a rule table), "checks" (a file of `[[check]]` entries) or "template".
+    pub kind: &'static str,
 }
 
 /// What house rules and house templates changed: a reader must see at once that the
@@ -176,8 +178,7 @@ impl Report {
     /// report still says "not ready".
     pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
         let r = &self.readiness;
-        let not_ready =
-            r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
+        let not_ready = r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
         u8::from(not_ready)
     }
 }
@@ -272,7 +273,11 @@ fn readiness(report: &Report) -> Readiness {
         reasons.push(format!(
             "{} barrier{} incomplete (a clearance or creepage not yet declared): {}",
             incomplete.len(),
-            if incomplete.len() == 1 { " is" } else { "s are" },
+            if incomplete.len() == 1 {
+                " is"
+            } else {
+                "s are"
+            },
             incomplete.join(", ")
         ));
     }
@@ -281,7 +286,11 @@ fn readiness(report: &Report) -> Readiness {
         reasons.push(format!(
             "{} input{} implausible (input.suspicious_value; a unit slip?): {}",
             implausible.len(),
-            if implausible.len() == 1 { " looks" } else { "s look" },
+            if implausible.len() == 1 {
+                " looks"
+            } else {
+                "s look"
+            },
             implausible.join(", ")
         ));
     }
@@ -307,16 +316,22 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
     let mut info = HouseInfo::default();
     for r in rules.info.iter().filter(|r| r.origin == "house") {
         let replaced = shipped_ids.contains(&r.id.as_str());
-        if replaced {
-            info.tables_replaced += 1;
-        } else {
-            info.tables_added += 1;
+        // A file of checks is counted by its checks below, not as a table.
+        let is_checks = rules
+            .checks
+            .iter()
+            .any(|c| c.origin != "shipped" && c.file == r.file);
+        match (is_checks, replaced) {
+            (true, _) => {}
+            (false, true) => info.tables_replaced += 1,
+            (false, false) => info.tables_added += 1,
         }
         info.rules.push(HouseFile {
             file: r.file.clone(),
             sha256: r.sha256.clone(),
             id: r.id.clone(),
             effect: if replaced { "replaced" } else { "added" },
+            kind: if is_checks { "checks" } else { "table" },
         });
     }
     for c in &rules.checks {

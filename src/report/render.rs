@@ -101,6 +101,7 @@ impl Templates {
                     sha256: crate::sha256_hex(text.as_bytes()),
                     id: name.clone(),
                     effect: "replaced",
+                    kind: "template",
                 });
             }
         }
@@ -174,8 +175,13 @@ fn preamble(report: &Report) -> String {
             h.checks_added
         ));
         for f in &h.rules {
+            let kind = if f.kind == "checks" {
+                "checks"
+            } else {
+                "table"
+            };
             out.push_str(&format!(
-                "- house rule file {} (id {}, {}), SHA-256 {}\n",
+                "- house rule file {} ({kind} {}, {}), SHA-256 {}\n",
                 e(&f.file),
                 e(&f.id),
                 f.effect,
@@ -373,12 +379,11 @@ pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Pro
     let events = Parser::new_ext(&markdown, options).map(|event| match event {
         // The EMC template marks where the chart goes; the SVG is gapwarden's own. Only
         // raw HTML (which no escaped project string can produce) is looked at.
-        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
-            match &chart {
-                Some(svg) => Event::Html(svg.clone().into()),
-                None => Event::Text("".into()),
-            }
-        }
+        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => match &chart
+        {
+            Some(svg) => Event::Html(svg.clone().into()),
+            None => Event::Text("".into()),
+        },
         Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
         other => other,
     });
