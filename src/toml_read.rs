@@ -101,7 +101,8 @@ impl NumberRule {
         if self.min < 0.0 || !self.plausible_max.is_finite() || self.plausible_max >= f64::MAX {
             return 0.0;
         }
-        (self.plausible_max * 1e-9).max(f64::MIN_POSITIVE)
+        // Divided rather than multiplied by 1e-9: 1000 / 1e9 is exactly the double 1e-6.
+        (self.plausible_max / 1e9).max(f64::MIN_POSITIVE)
     }
 }
 
