@@ -235,6 +235,38 @@ fn exit_status_is_0_only_when_ready_for_review() {
 }
 
 #[test]
+fn a_design_without_barriers_is_not_ready() {
+    // Absence of information is never a pass: nothing declared is incomplete.
+    let s = Scratch::new("no-barrier");
+    let p = s.write(
+        "p.toml",
+        r#"[design]
+name = "Nothing declared yet"
+protection_class = "II"
+
+[mains]
+nominal_v = 230
+
+[[circuit]]
+id = "primary"
+kind = "hazardous"
+accessible = false
+earthed = false
+"#,
+    );
+    let o = run(&["check", &p, "--format", "json"]);
+    assert_exit(&o, 1);
+    let r = json(&o);
+    assert_eq!(r["readiness"]["state"], "not ready: incomplete");
+    assert!(
+        r["readiness"]["reasons"][0]
+            .as_str()
+            .unwrap()
+            .contains("no [[barrier]] is declared")
+    );
+}
+
+#[test]
 fn the_first_lines_say_whether_ready_and_which_conditions_fail() {
     for format in ["md", "html"] {
         let o = run(&["check", CLASS1, "--format", format]);

@@ -217,12 +217,17 @@ fn readiness(report: &Report) -> Readiness {
             None => f.id.clone(),
         })
         .collect();
-    let incomplete: Vec<String> = report
+    let mut incomplete: Vec<String> = report
         .barriers
         .iter()
         .filter(|b| b.verdict == Verdict::Incomplete)
         .map(|b| b.id.clone())
         .collect();
+    // A design that declares no barrier has not been described, which is not "ready".
+    let no_barrier = report.barriers.is_empty();
+    if no_barrier {
+        incomplete.push("no barrier is declared".to_string());
+    }
     let implausible: Vec<String> = report
         .input_warnings
         .iter()
@@ -268,7 +273,11 @@ fn readiness(report: &Report) -> Readiness {
             blocking.join(", ")
         ));
     }
-    if !incomplete.is_empty() {
+    if no_barrier {
+        words.push("incomplete");
+        reasons
+            .push("no [[barrier]] is declared: no clearance or creepage was evaluated".to_string());
+    } else if !incomplete.is_empty() {
         words.push("incomplete");
         reasons.push(format!(
             "{} barrier{} incomplete (a clearance or creepage not yet declared): {}",
