@@ -499,3 +499,61 @@ fn summarise(report: &Report) -> Summary {
 pub fn file_name(path: &str) -> String {
     path.rsplit(['/', '\\']).next().unwrap_or(path).to_string()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn class2_barriers() -> Vec<BarrierResult> {
+        let source = Source::new(
+            "class2-adapter.toml",
+            include_str!("../../examples/class2-adapter.toml"),
+        );
+        let rules = RuleBook::shipped().expect("shipped rules load");
+        let report = figures(&source, &rules).expect("the example evaluates");
+        // Every barrier of the shipped example passes; the marking is seen against that.
+        let barriers: Vec<BarrierResult> = report.barriers;
+        assert!(barriers.iter().all(|b| b.verdict == Verdict::Pass));
+        barriers
+    }
+
+    fn warning(key: &str) -> crate::diag::Diagnostic {
+        crate::diag::Diagnostic::new("p.toml", "looks implausible").with_key(key)
+    }
+
+    #[test]
+    fn an_implausible_shared_input_makes_every_passing_barrier_check_input() {
+        // No shipped table accepts an implausible altitude or nominal voltage (both are
+        // refused above the tables' last rows), so the shared path is pinned here.
+        for key in ["environment.altitude_m", "mains.nominal_v"] {
+            let mut barriers = class2_barriers();
+            mark_check_input(&mut barriers, &[warning(key)]);
+            assert!(
+                barriers.iter().all(|b| b.verdict == Verdict::CheckInput),
+                "{key}"
+            );
+        }
+    }
+
+    #[test]
+    fn an_implausible_barrier_key_marks_only_that_barrier() {
+        let mut barriers = class2_barriers();
+        mark_check_input(&mut barriers, &[warning("barrier[2].creepage_mm")]);
+        let verdicts: Vec<Verdict> = barriers.iter().map(|b| b.verdict).collect();
+        assert_eq!(
+            verdicts,
+            [Verdict::Pass, Verdict::CheckInput, Verdict::Pass],
+            "the second [[barrier]] table only"
+        );
+        // Keys that no barrier rests on leave them alone.
+        let mut barriers = class2_barriers();
+        mark_check_input(
+            &mut barriers,
+            &[
+                warning("part[1].capacitance_nf"),
+                warning("barrier[12].creepage_mm"),
+            ],
+        );
+        assert!(barriers.iter().all(|b| b.verdict == Verdict::Pass));
+    }
+}
