@@ -175,16 +175,15 @@ fn preamble(report: &Report) -> String {
             h.checks_added
         ));
         for f in &h.rules {
-            let kind = if f.kind == "checks" {
-                "checks"
-            } else {
-                "table"
+            let what = match (f.kind, f.effect) {
+                ("checks", _) => "house checks",
+                (_, "replaced") => "house table replacing the shipped one",
+                _ => "house table, new",
             };
             out.push_str(&format!(
-                "- house rule file {} ({kind} {}, {}), SHA-256 {}\n",
+                "- {} (id {}, {what}), SHA-256 {}\n",
                 e(&f.file),
                 e(&f.id),
-                f.effect,
                 f.sha256
             ));
         }
