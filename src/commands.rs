@@ -216,6 +216,19 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     {
         return Ok(text);
     }
+    if item == "readiness" {
+        let r = &report.readiness;
+        out.push_str(&format!("readiness: {}\n", r.state));
+        for c in &r.conditions {
+            out.push_str(&format!(
+                "  {}: {} ({})\n",
+                c.condition,
+                if c.holds { "holds" } else { "fails" },
+                c.detail
+            ));
+        }
+        return Ok(out);
+    }
     if item == "assumptions" {
         for a in &report.assumptions {
             out.push_str(&format!("- {a}\n"));
@@ -225,7 +238,7 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
-    let mut known: Vec<String> = vec!["assumptions".to_string()];
+    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
     for b in &report.barriers {
         known.push(b.id.clone());
         known.push(format!("{}.clearance", b.id));

@@ -98,7 +98,7 @@ enum Command {
     /// Print how one figure or finding was derived.
     ///
     /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a finding id
-    /// such as barrier.clearance_short, "assumptions", a power-entry item (power_entry,
+    /// such as barrier.clearance_short, "assumptions", "readiness", a power-entry item (power_entry,
     /// power_entry.fuse, power_entry.inrush_peak_a, ...) or an EMC item (emc, emc.corner,
     /// emc.middlebrook, ...).
     Explain {

@@ -294,6 +294,19 @@ fn the_first_lines_say_whether_ready_and_which_conditions_fail() {
     }
     let first = head(&stdout(&run(&["check", CLASS2])), 4);
     assert!(first.contains("Ready for review: yes"), "{first}");
+    // explain readiness: the three conditions, one a line.
+    let o = run(&["explain", CLASS1, "readiness"]);
+    assert_exit(&o, 0);
+    let text = stdout(&o);
+    assert!(
+        text.starts_with("readiness: not ready: incomplete\n"),
+        "{text}"
+    );
+    assert!(
+        text.contains("no incomplete barrier: fails (pri-control)"),
+        "{text}"
+    );
+    assert!(text.contains("no blocking finding: holds (none)"), "{text}");
 }
 
 #[test]
