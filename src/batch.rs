@@ -97,7 +97,12 @@ pub struct Outcome {
 
 impl Outcome {
     /// 0 ready for review, 1 not ready, 2 unusable; see `Report::exit_code`.
-    pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
+    pub fn exit_code(&self) -> u8 {
+        self.exit_code_allowing(false)
+    }
+
+    /// As `exit_code`, with `--allow-incomplete` applied when `allow_incomplete`.
+    pub fn exit_code_allowing(&self, allow_incomplete: bool) -> u8 {
         match &self.result {
             Ok((report, _)) => report.exit_code(allow_incomplete),
             Err(_) => 2,
@@ -242,7 +247,7 @@ pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     }
     let worst = outcomes
         .iter()
-        .map(|o| o.exit_code(allow_incomplete))
+        .map(|o| o.exit_code_allowing(allow_incomplete))
         .max()
         .unwrap_or(0);
     out.push_str(&format!(

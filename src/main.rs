@@ -282,7 +282,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             }
             let mut worst = outcomes
                 .iter()
-                .map(|o| o.exit_code(allow_incomplete))
+                .map(|o| o.exit_code_allowing(allow_incomplete))
                 .max()
                 .unwrap_or(0);
             if let Some(dir) = &out_dir
