@@ -374,15 +374,17 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
 pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Problems> {
     let markdown = render_markdown(report, templates)?;
     let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
-    let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
+    // Taken at the first marker; any later one is dropped, so the chart appears once.
+    let mut chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
     let events = Parser::new_ext(&markdown, options).map(|event| match event {
         // The EMC template marks where the chart goes; the SVG is gapwarden's own. Only
         // raw HTML (which no escaped project string can produce) is looked at.
-        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => match &chart
-        {
-            Some(svg) => Event::Html(svg.clone().into()),
-            None => Event::Text("".into()),
-        },
+        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
+            match chart.take() {
+                Some(svg) => Event::Html(svg.into()),
+                None => Event::Text("".into()),
+            }
+        }
         Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
         other => other,
     });
