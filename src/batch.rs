@@ -231,11 +231,15 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    /// 0 clean, 1 blocking findings, 2 unusable.
+    /// 0 ready for review, 1 not ready, 2 unusable; see `Report::exit_code`.
     pub fn exit_code(&self) -> u8 {
+        self.exit_code_allowing(false)
+    }
+
+    /// As `exit_code`, with `--allow-incomplete` applied when `allow_incomplete`.
+    pub fn exit_code_allowing(&self, allow_incomplete: bool) -> u8 {
         match &self.result {
-            Ok((report, _)) if report.has_blocking() => 1,
-            Ok(_) => 0,
+            Ok((report, _)) => report.exit_code(allow_incomplete),
             Err(_) => 2,
         }
     }
@@ -389,6 +393,13 @@ pub fn write_reports_protecting(
 
 /// The summary table: one row a design, Markdown.
 pub fn summary(outcomes: &[Outcome]) -> String {
+    summary_with(outcomes, false)
+}
+
+/// The summary table, with the exit status as `--allow-incomplete` sets it. The status
+/// column is the design's readiness ("ready", "not ready: blocking", ...), never "clean"
+/// for a design that is not ready.
+pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     let mut out = String::from(
         "| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n",
     );
@@ -404,11 +415,7 @@ pub fn summary(outcomes: &[Outcome]) -> String {
                 r.summary.fail,
                 r.summary.incomplete,
                 r.summary.blocking,
-                if r.has_blocking() {
-                    "blocking"
-                } else {
-                    "clean"
-                }
+                cell(&r.readiness.state)
             )),
             Err(p) => out.push_str(&format!(
                 "| not read | | {file} | | | | | unusable input ({} problem{}) |\n",
@@ -417,7 +424,11 @@ pub fn summary(outcomes: &[Outcome]) -> String {
             )),
         }
     }
-    let worst = outcomes.iter().map(Outcome::exit_code).max().unwrap_or(0);
+    let worst = outcomes
+        .iter()
+        .map(|o| o.exit_code_allowing(allow_incomplete))
+        .max()
+        .unwrap_or(0);
     out.push_str(&format!(
         "\n{} design{} checked; exit status {worst}.\n",
         outcomes.len(),

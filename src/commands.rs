@@ -46,7 +46,9 @@ pub fn render(report: &Report, format: Format, templates: &Templates) -> Result<
     match format {
         Format::Markdown => render_markdown(report, templates),
         Format::Html => render_html(report, templates),
-        Format::Json => Ok(render_json(report)),
+        Format::Json => Ok(render_json(&crate::report::with_templates(
+            report, templates,
+        ))),
     }
 }
 
@@ -400,6 +402,19 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     {
         return Ok(text);
     }
+    if item == "readiness" {
+        let r = &report.readiness;
+        out.push_str(&format!("readiness: {}\n", r.state));
+        for c in &r.conditions {
+            out.push_str(&format!(
+                "  {}: {} ({})\n",
+                c.condition,
+                if c.holds { "holds" } else { "fails" },
+                c.detail
+            ));
+        }
+        return Ok(out);
+    }
     if item == "assumptions" {
         for a in &report.assumptions {
             out.push_str(&format!("- {a}\n"));
@@ -409,7 +424,7 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
-    let mut known: Vec<String> = vec!["assumptions".to_string()];
+    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
     for b in &report.barriers {
         known.push(b.id.clone());
         known.push(format!("{}.clearance", b.id));
@@ -488,12 +503,12 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             continue;
         }
         out.push_str(&format!(
-            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {:?})\n",
+            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {})\n",
             b.id,
             show(required),
             declared(laid_out),
             b.grade.as_str(),
-            b.verdict
+            b.verdict.as_str()
         ));
         let governed_by = if what == "clearance" {
             b.clearance_governed_by
@@ -648,11 +663,16 @@ pub struct SpacingQuery {
 pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Problems> {
     use crate::project::{DISTANCE_MM, VOLTAGE_V};
     let mut problems = Vec::new();
+    let mut implausible = false;
     let mut judge = |flag: &str, value: Option<f64>, rule: &NumberRule| {
-        if let Some(v) = value
-            && let Err(reason) = rule.judge(v)
-        {
-            problems.push(Diagnostic::new("command line", reason).with_key(flag));
+        if let Some(v) = value {
+            match rule.judge(v) {
+                Err(reason) => {
+                    problems.push(Diagnostic::new("command line", reason).with_key(flag))
+                }
+                Ok(Some(_)) => implausible = true,
+                Ok(None) => {}
+            }
         }
     };
     judge("--working-rms-v", Some(q.working_rms_v), &VOLTAGE_V);
@@ -733,7 +753,7 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         creepage_between_rows: q.creepage_between_rows,
         altitude_between_rows: q.altitude_between_rows,
     };
-    evaluate(rules, &cond, &barrier).map_err(|errors| {
+    let result = evaluate(rules, &cond, &barrier).map_err(|errors| {
         Problems(
             errors
                 .into_iter()
@@ -747,5 +767,12 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
                 })
                 .collect(),
         )
+    });
+    // As in a report: distances that would pass on an implausible value are not a pass.
+    result.map(|mut r| {
+        if implausible && r.verdict == crate::spacing::Verdict::Pass {
+            r.verdict = crate::spacing::Verdict::CheckInput;
+        }
+        r
     })
 }

@@ -70,6 +70,24 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
         e(&new.project_file),
         new.inputs_sha256
     );
+    out.push_str(&format!(
+        "Readiness for review: old revision {}; new revision **{}**.\n\n",
+        e(&old.readiness.state),
+        e(&new.readiness.state)
+    ));
+    // House rules apply to both revisions alike; say so first, with each file's hash.
+    if !new.house.rules.is_empty() {
+        let files: Vec<String> = new
+            .house
+            .rules
+            .iter()
+            .map(|f| format!("{} (SHA-256 {})", e(&f.file), f.sha256))
+            .collect();
+        out.push_str(&format!(
+            "**House rules in force: the shipped rules were changed.** {}.\n\n",
+            files.join(", ")
+        ));
+    }
     out.push_str("> Advisory only: defer to the applicable end-product standard, local electrical codes and licensed or accredited review.\n\n");
 
     out.push_str("## Summary\n\n| | barriers | pass | fail | incomplete | blocking | warnings | notes |\n|---|---:|---:|---:|---:|---:|---:|---:|\n");

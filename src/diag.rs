@@ -76,8 +76,11 @@ impl Diagnostic {
 }
 
 impl fmt::Display for Diagnostic {
+    // Every part may carry project text (a file name, an id in the message): a control
+    // or bidi character in it is shown, never sent to the terminal.
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}", self.file)?;
+        use crate::text::visible;
+        write!(f, "{}", visible(&self.file))?;
         if let Some(line) = self.line {
             write!(f, ":{line}")?;
             if let Some(column) = self.column {
@@ -86,11 +89,11 @@ impl fmt::Display for Diagnostic {
         }
         write!(f, ": ")?;
         if let Some(key) = &self.key {
-            write!(f, "`{key}`: ")?;
+            write!(f, "`{}`: ", visible(key))?;
         }
-        write!(f, "{}", self.message)?;
+        write!(f, "{}", visible(&self.message))?;
         if let Some(help) = &self.help {
-            write!(f, "\n    help: {help}")?;
+            write!(f, "\n    help: {}", visible(help))?;
         }
         Ok(())
     }

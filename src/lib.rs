@@ -14,6 +14,7 @@ pub mod project;
 pub mod report;
 pub mod rules;
 pub mod spacing;
+pub mod text;
 pub mod toml_read;
 
 use std::path::Path;

@@ -1,5 +1,6 @@
 //! The gapwarden command line: parses arguments, calls the library, prints, and returns
-//! 0 (no blocking finding), 1 (blocking findings) or 2 (unusable input or command line).
+//! 0 (ready for review), 1 (not ready: blocking, incomplete or implausible) or 2 (unusable
+//! input or command line).
 
 use std::io::Write;
 use std::path::PathBuf;
@@ -40,7 +41,8 @@ enum Command {
     /// templates, target or starting with a dot; links to folders are not followed, and a
     /// file met twice is checked once): one report each into --out-dir, and a summary
     /// table. Inputs must be regular files of at most 16 MiB. Exit status, the worst over
-    /// all designs: 0 no blocking finding, 1 at least one blocking finding, 2 an input or
+    /// all designs: 0 ready for review (nothing blocking, no barrier incomplete, no input
+    /// implausible), 1 not ready, 2 an input or
     /// the command line could not be used.
     Check {
         /// Project files (TOML) or folders of them.
@@ -75,12 +77,16 @@ enum Command {
         /// Designs checked at once (default: the number of cores).
         #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
         jobs: Option<u16>,
+        /// Early layout work: incomplete barriers (distances not yet declared) do not make
+        /// the exit status 1. The report still says "not ready".
+        #[arg(long)]
+        allow_incomplete: bool,
     },
     /// Compare two revisions of a design: what changed in the inputs, and in the required
     /// figures, margins, verdicts and findings (Markdown for a design-review record).
     ///
-    /// Exit status: 0 the new revision has no blocking finding, 1 it has, 2 an input could
-    /// not be used.
+    /// Exit status: 0 the new revision is ready for review, 1 it is not (blocking findings,
+    /// incomplete barriers or implausible inputs), 2 an input could not be used.
     Compare {
         /// The earlier revision's project file.
         old: PathBuf,
@@ -89,6 +95,9 @@ enum Command {
         /// A folder of house rule tables.
         #[arg(long, value_name = "DIR")]
         rules: Option<PathBuf>,
+        /// Incomplete barriers in the new revision do not make the exit status 1.
+        #[arg(long)]
+        allow_incomplete: bool,
     },
     /// Write a commented starting project file. Never overwrites an existing file.
     New {
@@ -101,7 +110,7 @@ enum Command {
     /// Print how one figure or finding was derived.
     ///
     /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a finding id
-    /// such as barrier.clearance_short, "assumptions", a power-entry item (power_entry,
+    /// such as barrier.clearance_short, "assumptions", "readiness", a power-entry item (power_entry,
     /// power_entry.fuse, power_entry.inrush_peak_a, ...) or an EMC item (emc, emc.corner,
     /// emc.middlebrook, ...).
     Explain {
@@ -122,7 +131,8 @@ enum Command {
         rules: Option<PathBuf>,
     },
     /// Required clearance and creepage of one barrier, from flags (JSON, like one entry of
-    /// a report's barriers). Exit 1 when declared distances fall short.
+    /// a report's barriers). Exit 1 when declared distances fall short, or would pass on
+    /// an implausible value (verdict "check-input").
     Spacing(SpacingArgs),
 }
 
@@ -248,6 +258,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             templates,
             out_dir,
             jobs,
+            allow_incomplete,
         } => {
             // Every file the run reads besides the designs: no report may replace one.
             let mut house_inputs: Vec<PathBuf> = Vec::new();
@@ -278,7 +289,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                     }
                     None => print(&text),
                 }
-                return Ok(if report.has_blocking() { 1 } else { 0 });
+                return Ok(report.exit_code(allow_incomplete));
             }
             if output.is_some() {
                 return Err(Diagnostic::new(
@@ -302,7 +313,7 @@ fn run(cli: Cli) -> Result<u8, Problems> {
             }
             let mut worst = outcomes
                 .iter()
-                .map(batch::Outcome::exit_code)
+                .map(|o| o.exit_code_allowing(allow_incomplete))
                 .max()
                 .unwrap_or(0);
             if let Some(dir) = &out_dir
@@ -312,10 +323,15 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 eprintln!("{problems}");
                 worst = 2;
             }
-            print(&batch::summary(&outcomes));
+            print(&batch::summary_with(&outcomes, allow_incomplete));
             Ok(worst)
         }
-        Command::Compare { old, new, rules } => {
+        Command::Compare {
+            old,
+            new,
+            rules,
+            allow_incomplete,
+        } => {
             let rules = RuleBook::load(rules.as_deref())?;
             let read = |path: &PathBuf| -> Result<(String, gapwarden::report::Report), Problems> {
                 let name = path.display().to_string();
@@ -345,14 +361,14 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 &new_text,
                 &new_report,
             ));
-            Ok(if new_report.has_blocking() { 1 } else { 0 })
+            Ok(new_report.exit_code(allow_incomplete))
         }
         Command::New { path, example } => {
             commands::new_project(&path, &example)?;
+            let shown = path.display().to_string();
+            let shown = gapwarden::text::visible(&shown);
             eprintln!(
-                "wrote {} (from the {example} example); edit it, then run: gapwarden check {}",
-                path.display(),
-                path.display()
+                "wrote {shown} (from the {example} example); edit it, then run: gapwarden check {shown}"
             );
             Ok(0)
         }
@@ -424,20 +440,20 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 creepage_mm: a.creepage_mm,
             };
             let result = commands::spacing(&rules, &query)?;
-            let mut text = serde_json::to_string_pretty(&result).unwrap_or_default();
-            text.push('\n');
-            print(&text);
-            Ok(if result.verdict == Verdict::Fail {
-                1
-            } else {
-                0
+            print(&gapwarden::report::to_json(&result));
+            Ok(match result.verdict {
+                Verdict::Fail | Verdict::CheckInput => 1,
+                Verdict::Pass | Verdict::Incomplete => 0,
             })
         }
     }
 }
 
-/// Prints to stdout; a closed pipe (`| head`) is not an error worth a panic.
+/// Prints to stdout; a closed pipe (`| head`) is not an error worth a panic. A control or
+/// bidi character from a project string (in `explain`, `rules`, a summary) is shown as
+/// `<U+XXXX>`, never sent to the terminal.
 fn print(text: &str) {
+    let text = gapwarden::text::visible(text);
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes());
     let _ = out.flush();

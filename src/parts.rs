@@ -201,7 +201,11 @@ fn test_voltage(
             rule: Some(TestVoltages::ID.to_string()),
             text: format!(
                 "Working peak {} V is above the last row of {} (up to {} V peak): the test voltage comes from {from}; not computed here (the table is never extrapolated).",
-                show(peak_v),
+                crate::text::apart(
+                    peak_v,
+                    &table.rows.last().map(|r| r.up_to_peak_v).into_iter().collect::<Vec<_>>(),
+                    show
+                ),
                 table.source,
                 table.rows.last().map(|r| show(r.up_to_peak_v)).unwrap_or_default()
             ),

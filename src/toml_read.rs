@@ -38,8 +38,11 @@ pub struct NumberRule {
 }
 
 impl NumberRule {
-    /// Checks a number; `Err` holds the reason, `Ok(Some)` a warning.
+    /// Checks a number; `Err` holds the reason, `Ok(Some)` a warning. Numbers in the
+    /// messages are printed exactly (scientific notation at the extremes: 1e300, 5e-324),
+    /// never rounded and never as hundreds of digits.
     pub fn judge(&self, value: f64) -> Result<Option<String>, String> {
+        use crate::text::exact_number as n;
         if !value.is_finite() {
             return Err(format!(
                 "{value} is not a finite number; expected {}",
@@ -48,7 +51,8 @@ impl NumberRule {
         }
         if self.integer && value.fract() != 0.0 {
             return Err(format!(
-                "{value} is not a whole number; expected {}",
+                "{} is not a whole number; expected {}",
+                n(value),
                 self.expected
             ));
         }
@@ -59,23 +63,46 @@ impl NumberRule {
         };
         if below || value > self.max {
             return Err(format!(
-                "{value} is out of range; expected {}",
+                "{} is out of range; expected {}",
+                n(value),
                 self.expected
             ));
         }
         if value > 0.0 && value < self.plausible_min {
             return Ok(Some(format!(
-                "{value} is unusually small (below {}); check the unit",
-                self.plausible_min
+                "{} is unusually small (below {}); check the unit",
+                n(value),
+                n(self.plausible_min)
+            )));
+        }
+        if value > 0.0 && value < self.absurdly_small_below() {
+            return Ok(Some(format!(
+                "{} is absurdly small (below {}, a billionth of the usual largest value); check the unit",
+                n(value),
+                n(self.absurdly_small_below())
             )));
         }
         if value > self.plausible_max {
             return Ok(Some(format!(
-                "{value} is unusually large (above {}); check the unit",
-                self.plausible_max
+                "{} is unusually large (above {}); check the unit",
+                n(value),
+                n(self.plausible_max)
             )));
         }
         Ok(None)
+    }
+
+    /// A positive value below this is implausible even where the rule sets no
+    /// `plausible_min`: nine orders of magnitude below the top of the plausible range, and
+    /// every subnormal number (5e-324 Hz prints as 0 and means nothing). Only for
+    /// quantities whose zero is a true zero (`min` at or above 0); a level in dBuV or a
+    /// temperature in degrees Celsius may sit just above 0 by right.
+    pub fn absurdly_small_below(&self) -> f64 {
+        if self.min < 0.0 || !self.plausible_max.is_finite() || self.plausible_max >= f64::MAX {
+            return 0.0;
+        }
+        // Divided rather than multiplied by 1e-9: 1000 / 1e9 is exactly the double 1e-6.
+        (self.plausible_max / 1e9).max(f64::MIN_POSITIVE)
     }
 }
 

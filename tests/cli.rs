@@ -146,10 +146,15 @@ impl Drop for Scratch {
 // ---------------------------------------------------------------------------------------
 
 #[test]
-fn check_exits_0_for_both_shipped_examples() {
-    for example in [CLASS2, CLASS1] {
+fn check_exits_by_readiness_for_both_shipped_examples() {
+    // The Class II adapter is complete and ready for review: exit 0. The Class I appliance
+    // shows early layout work (pri-control has no creepage yet): not ready, exit 1, and
+    // exit 0 only with --allow-incomplete (DESIGN.md, "Severity, readiness and exit status").
+    for (example, ready) in [(CLASS2, true), (CLASS1, false)] {
         for format in ["md", "html", "json"] {
             let o = run(&["check", example, "--format", format]);
+            assert_exit(&o, if ready { 0 } else { 1 });
+            let o = run(&["check", example, "--format", format, "--allow-incomplete"]);
             assert_exit(&o, 0);
             assert!(
                 !o.stdout.is_empty(),
@@ -453,9 +458,9 @@ fn assert_json_contract(project: &str, report: &Value) {
 
 #[test]
 fn json_report_carries_the_contract_fields_for_both_examples() {
-    for project in [CLASS2, CLASS1] {
+    for (project, exit) in [(CLASS2, 0), (CLASS1, 1)] {
         let (o, report) = check_json(project);
-        assert_exit(&o, 0);
+        assert_exit(&o, exit);
         assert_json_contract(project, &report);
     }
     // A barrier with one distance not declared: null in JSON, verdict incomplete, and a warning.
@@ -1047,7 +1052,8 @@ fn new_writes_a_starting_project_that_checks_cleanly() {
             "{name}: not the {source} example"
         );
 
-        let o = run(&["check", path_str(&p)]);
+        // The appliance example keeps one barrier incomplete on purpose (early layout).
+        let o = run(&["check", path_str(&p), "--allow-incomplete"]);
         assert_exit(&o, 0);
     }
 }

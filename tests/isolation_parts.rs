@@ -712,7 +712,11 @@ fn house_minimum_creepage_of_10_mm_fails_a_reinforced_barrier_laid_out_at_8_mm()
 fn house_check_override_makes_a_missing_creepage_blocking() {
     let project = "iso-class2-creepage-not-measured.toml";
     let (o, shipped) = check_json(project);
-    assert_exit(&o, 0);
+    // An incomplete barrier is not ready for review (DESIGN.md, readiness), but with the
+    // shipped checks nothing is blocking: --allow-incomplete gives exit 0.
+    assert_exit(&o, 1);
+    assert_eq!(shipped["readiness"]["state"], "not ready: incomplete");
+    assert_exit(&run(&["check", &fixture(project), "--allow-incomplete"]), 0);
     assert_eq!(
         finding(&shipped, "barrier.creepage_missing", "pri-out")["severity"],
         "warning"
@@ -724,6 +728,21 @@ fn house_check_override_makes_a_missing_creepage_blocking() {
 
     let (o, house) = check_json_with_rules(project, "house-creepage-missing-blocking");
     assert_exit(&o, 1);
+    assert_eq!(
+        house["readiness"]["state"],
+        "not ready: blocking, incomplete"
+    );
+    // Blocking is not relaxed by --allow-incomplete.
+    assert_exit(
+        &run(&[
+            "check",
+            &fixture(project),
+            "--rules",
+            &fixture("house-creepage-missing-blocking"),
+            "--allow-incomplete",
+        ]),
+        1,
+    );
     assert_eq!(barrier(&house, "pri-out")["verdict"], "incomplete");
     let f = finding(&house, "barrier.creepage_missing", "pri-out");
     assert_eq!(f["severity"], "blocking");

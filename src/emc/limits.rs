@@ -26,6 +26,23 @@ pub fn frequency_words(hz: f64) -> String {
     }
 }
 
+/// A frequency outside `band` in words that cannot read as the band's edge: 149,999.999 Hz
+/// is "149999.999 Hz", never "150 kHz".
+fn outside_words(hz: f64, band: (f64, f64)) -> String {
+    let words = frequency_words(hz);
+    // Rounded to 0.1 mHz, a tiny frequency would read "0 Hz".
+    let rounds_to_zero = hz != 0.0 && hz.abs() < 1e-3;
+    if rounds_to_zero
+        || [band.0, band.1]
+            .iter()
+            .any(|&edge| edge != hz && frequency_words(edge) == words)
+    {
+        format!("{} Hz", crate::text::exact_number(hz))
+    } else {
+        words
+    }
+}
+
 /// The limit in dBuV at `frequency_hz` for a class and detector, with the step that read it.
 pub fn limit_dbuv(
     table: &LimitTable,
@@ -37,7 +54,7 @@ pub fn limit_dbuv(
     let refuse = || OutOfBand {
         message: format!(
             "{} is outside the band of the conducted-emission limits, {} (table {}); no limit is extrapolated",
-            frequency_words(frequency_hz),
+            outside_words(frequency_hz, band),
             band_words(band),
             table.id
         ),

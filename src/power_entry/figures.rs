@@ -1376,7 +1376,16 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
         } else {
             format!(
                 "{} V peak is above the last row of {} (up to {} V peak): not extrapolated; the test voltage comes from {}.",
-                show(peak),
+                crate::text::apart(
+                    peak,
+                    &table
+                        .rows
+                        .last()
+                        .map(|r| r.up_to_peak_v)
+                        .into_iter()
+                        .collect::<Vec<_>>(),
+                    show
+                ),
                 table.source,
                 table
                     .rows

@@ -191,7 +191,8 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
             "input.min_frequency_hz",
             format!(
                 "{} Hz is above max_frequency_hz = {} Hz",
-                lo.value, hi.value
+                crate::text::exact_number(lo.value),
+                crate::text::exact_number(hi.value)
             ),
         );
     }
@@ -284,7 +285,8 @@ fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
                     "input.limiter.hot_ohm",
                     format!(
                         "{} ohm is above cold_ohm = {} ohm; a limiter's resistance falls as it warms",
-                        h.value, c.value
+                        crate::text::exact_number(h.value),
+                        crate::text::exact_number(c.value)
                     ),
                     "hot_ohm is the resistance in operation, cold_ohm the one at switch-on",
                 );

@@ -400,7 +400,11 @@ fn read_mains(
         r.error(
             &max.span,
             "mains.max_v",
-            format!("{} V is below nominal_v = {} V", max.value, nominal.value),
+            format!(
+                "{} V is below nominal_v = {} V",
+                crate::text::exact_number(max.value),
+                crate::text::exact_number(nominal.value)
+            ),
         );
     }
     if let Some(min) = &min_v
@@ -409,7 +413,11 @@ fn read_mains(
         r.error(
             &min.span,
             "mains.min_v",
-            format!("{} V is above nominal_v = {} V", min.value, nominal.value),
+            format!(
+                "{} V is above nominal_v = {} V",
+                crate::text::exact_number(min.value),
+                crate::text::exact_number(nominal.value)
+            ),
         );
     }
     Some(Mains {
@@ -619,7 +627,8 @@ fn read_barriers(
                 format!("{}.working_peak_v", t.path),
                 format!(
                     "{} V is below working_rms_v = {} V; a peak is never below the rms value",
-                    peak.value, rms.value
+                    crate::text::exact_number(peak.value),
+                    crate::text::exact_number(rms.value)
                 ),
             );
         }

@@ -16,7 +16,8 @@ use crate::rules::{RuleBook, RuleInfo};
 use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
 
 pub use render::{
-    Templates, house_template_files, md_escape, render_html, render_json, render_markdown,
+    Templates, house_template_files, md_escape, render_html, render_json, render_markdown, to_json,
+    with_templates,
 };
 
 /// Cautions printed in every report.
@@ -56,6 +57,8 @@ pub struct Summary {
     pub pass: usize,
     pub fail: usize,
     pub incomplete: usize,
+    /// Barriers whose distances would pass but rest on an implausible input.
+    pub check_input: usize,
     pub blocking: usize,
     pub warning: usize,
     pub note: usize,
@@ -79,8 +82,68 @@ pub struct InputWarning {
     pub column: Option<usize>,
 }
 
+/// One of the three conditions of readiness for review (DESIGN.md, "Severity, readiness
+/// and exit status"), whether it holds, and why not.
+#[derive(Debug, Clone, Serialize)]
+pub struct ReadinessCondition {
+    /// "no blocking finding", "no incomplete barrier" or "no implausible input".
+    pub condition: &'static str,
+    pub holds: bool,
+    /// What fails it (finding ids, barrier ids, input keys), or "none".
+    pub detail: String,
+}
+
+/// Whether the design is ready for review: nothing blocking, no barrier incomplete, no
+/// input implausible. The report's first lines say it; `check` exits 0 only when ready.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Readiness {
+    pub ready: bool,
+    /// "ready", or "not ready: " followed by what fails ("blocking", "incomplete",
+    /// "check inputs"), joined with ", " when several do.
+    pub state: String,
+    /// One sentence per failing condition.
+    pub reasons: Vec<String>,
+    /// All three conditions, each with whether it holds.
+    pub conditions: Vec<ReadinessCondition>,
+    pub blocking: bool,
+    pub incomplete: bool,
+    pub implausible_inputs: bool,
+}
+
+/// A house rule file or house template in force, with its hash.
+#[derive(Debug, Clone, Serialize)]
+pub struct HouseFile {
+    /// Path inside the house folder (never a machine path).
+    pub file: String,
+    pub sha256: String,
+    /// For rule files: the id, and whether it replaced a shipped file ("replaced") or was
+    /// added ("added"). For templates: the shipped template it replaced.
+    pub id: String,
+    pub effect: &'static str,
+    /// "table" (a rule table), "checks" (a file of `[[check]]` entries) or "template".
+    pub kind: &'static str,
+}
+
+/// What house rules and house templates changed: a reader must see at once that the
+/// shipped rules or report were not used as shipped.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct HouseInfo {
+    /// True when any house rule file or house template is in force.
+    pub in_force: bool,
+    pub rules: Vec<HouseFile>,
+    pub templates: Vec<HouseFile>,
+    pub tables_replaced: usize,
+    pub tables_added: usize,
+    pub checks_changed: usize,
+    pub checks_added: usize,
+}
+
 #[derive(Debug, Clone, Serialize)]
 pub struct Report {
+    /// Ready for review, and why not: first, because a reader needs it first.
+    pub readiness: Readiness,
+    /// House rules and house templates in force, with their SHA-256.
+    pub house: HouseInfo,
     pub tool: ToolInfo,
     pub design: DesignInfo,
     /// The project file's name as given on the command line, without its folder.
@@ -111,6 +174,186 @@ impl Report {
     pub fn has_blocking(&self) -> bool {
         self.summary.blocking > 0
     }
+
+    /// The exit status of `check`: 0 ready for review, 1 not. `allow_incomplete` (early
+    /// layout work) does not count incomplete barriers against the exit status; the
+    /// report still says "not ready".
+    pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
+        let r = &self.readiness;
+        let not_ready = r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
+        u8::from(not_ready)
+    }
+}
+
+/// The dotted input keys (as the reader names them) that every barrier's figures rest on.
+const SHARED_BARRIER_INPUTS: &[&str] = &["environment.", "mains.nominal_v", "board."];
+
+/// A barrier that would pass on an implausible input says "check-input" instead: a figure
+/// resting on a value that looks like a unit slip is never a pass.
+fn mark_check_input(barriers: &mut [BarrierResult], warnings: &[crate::diag::Diagnostic]) {
+    for w in warnings {
+        let Some(key) = &w.key else { continue };
+        let shared = SHARED_BARRIER_INPUTS.iter().any(|p| key.starts_with(p));
+        // The reader names the n-th [[barrier]] table `barrier[n]`, from 1, in file order,
+        // which is the order of `barriers`.
+        let own = key
+            .strip_prefix("barrier[")
+            .and_then(|rest| rest.split_once(']'))
+            .and_then(|(n, _)| n.parse::<usize>().ok());
+        for (i, b) in barriers.iter_mut().enumerate() {
+            if (shared || own == Some(i + 1)) && b.verdict == Verdict::Pass {
+                b.verdict = Verdict::CheckInput;
+            }
+        }
+    }
+}
+
+/// Readiness for review from the judged report.
+fn readiness(report: &Report) -> Readiness {
+    let blocking: Vec<String> = report
+        .findings
+        .iter()
+        .filter(|f| f.severity == Severity::Blocking)
+        .map(|f| match &f.subject {
+            Some(s) => format!("{} ({s})", f.id),
+            None => f.id.clone(),
+        })
+        .collect();
+    let mut incomplete: Vec<String> = report
+        .barriers
+        .iter()
+        .filter(|b| b.verdict == Verdict::Incomplete)
+        .map(|b| b.id.clone())
+        .collect();
+    // A design that declares no barrier has not been described, which is not "ready".
+    let no_barrier = report.barriers.is_empty();
+    if no_barrier {
+        incomplete.push("no barrier is declared".to_string());
+    }
+    let implausible: Vec<String> = report
+        .input_warnings
+        .iter()
+        .map(|w| match (&w.key, w.line) {
+            (Some(k), Some(l)) => format!("{k} (line {l})"),
+            (Some(k), None) => k.clone(),
+            (None, Some(l)) => format!("line {l}"),
+            (None, None) => w.message.clone(),
+        })
+        .collect();
+    let list = |v: &[String]| {
+        if v.is_empty() {
+            "none".to_string()
+        } else {
+            v.join(", ")
+        }
+    };
+    let conditions = vec![
+        ReadinessCondition {
+            condition: "no blocking finding",
+            holds: blocking.is_empty(),
+            detail: list(&blocking),
+        },
+        ReadinessCondition {
+            condition: "no incomplete barrier",
+            holds: incomplete.is_empty(),
+            detail: list(&incomplete),
+        },
+        ReadinessCondition {
+            condition: "no implausible input",
+            holds: implausible.is_empty(),
+            detail: list(&implausible),
+        },
+    ];
+    let mut words = Vec::new();
+    let mut reasons = Vec::new();
+    if !blocking.is_empty() {
+        words.push("blocking");
+        reasons.push(format!(
+            "{} blocking finding{}: {}",
+            blocking.len(),
+            if blocking.len() == 1 { "" } else { "s" },
+            blocking.join(", ")
+        ));
+    }
+    if no_barrier {
+        words.push("incomplete");
+        reasons
+            .push("no [[barrier]] is declared: no clearance or creepage was evaluated".to_string());
+    } else if !incomplete.is_empty() {
+        words.push("incomplete");
+        reasons.push(format!(
+            "{} barrier{} incomplete (a clearance or creepage not yet declared): {}",
+            incomplete.len(),
+            if incomplete.len() == 1 {
+                " is"
+            } else {
+                "s are"
+            },
+            incomplete.join(", ")
+        ));
+    }
+    if !implausible.is_empty() {
+        words.push("check inputs");
+        reasons.push(format!(
+            "{} input{} implausible (input.suspicious_value; a unit slip?): {}",
+            implausible.len(),
+            if implausible.len() == 1 {
+                " looks"
+            } else {
+                "s look"
+            },
+            implausible.join(", ")
+        ));
+    }
+    let ready = words.is_empty();
+    Readiness {
+        ready,
+        state: if ready {
+            "ready".to_string()
+        } else {
+            format!("not ready: {}", words.join(", "))
+        },
+        reasons,
+        conditions,
+        blocking: !blocking.is_empty(),
+        incomplete: !incomplete.is_empty(),
+        implausible_inputs: !implausible.is_empty(),
+    }
+}
+
+/// The house rule files in force and what they changed.
+fn house_info(rules: &RuleBook) -> HouseInfo {
+    let shipped_ids: Vec<&str> = crate::rules::SHIPPED_RULES.iter().map(|r| r.id).collect();
+    let mut info = HouseInfo::default();
+    for r in rules.info.iter().filter(|r| r.origin == "house") {
+        let replaced = shipped_ids.contains(&r.id.as_str());
+        // A file of checks is counted by its checks below, not as a table.
+        let is_checks = rules
+            .checks
+            .iter()
+            .any(|c| c.origin != "shipped" && c.file == r.file);
+        match (is_checks, replaced) {
+            (true, _) => {}
+            (false, true) => info.tables_replaced += 1,
+            (false, false) => info.tables_added += 1,
+        }
+        info.rules.push(HouseFile {
+            file: r.file.clone(),
+            sha256: r.sha256.clone(),
+            id: r.id.clone(),
+            effect: if replaced { "replaced" } else { "added" },
+            kind: if is_checks { "checks" } else { "table" },
+        });
+    }
+    for c in &rules.checks {
+        match c.origin.as_str() {
+            "house" => info.checks_added += 1,
+            "shipped" => {}
+            _ => info.checks_changed += 1,
+        }
+    }
+    info.in_force = !info.rules.is_empty();
+    info
 }
 
 /// Reads, evaluates and judges one project file's text.
@@ -122,6 +365,7 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
     report.findings = findings;
     report.checks = checks;
     report.summary = summarise(&report);
+    report.readiness = readiness(&report);
     Ok(report)
 }
 
@@ -168,12 +412,15 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         problems.sort_by_key(|d| (d.line, d.column));
         return Err(Problems(problems));
     }
+    mark_check_input(&mut barriers, &project.warnings);
     let bridges = bridges(rules, &project, &barriers);
     let isolation = analyse(&project);
     let power_entry = crate::power_entry::evaluate(&project, rules, &barriers, source)?;
     let emc = crate::emc::evaluate(&project, rules, power_entry.as_ref(), source)?;
 
     Ok(Report {
+        readiness: Readiness::default(),
+        house: house_info(rules),
         tool: ToolInfo {
             name: "gapwarden",
             version: env!("CARGO_PKG_VERSION"),
@@ -239,6 +486,7 @@ fn summarise(report: &Report) -> Summary {
             Verdict::Pass => summary.pass += 1,
             Verdict::Fail => summary.fail += 1,
             Verdict::Incomplete => summary.incomplete += 1,
+            Verdict::CheckInput => summary.check_input += 1,
         }
     }
     for f in &report.findings {
@@ -254,4 +502,62 @@ fn summarise(report: &Report) -> Summary {
 /// The last component of a path as written, so reports carry no machine paths.
 pub fn file_name(path: &str) -> String {
     path.rsplit(['/', '\\']).next().unwrap_or(path).to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn class2_barriers() -> Vec<BarrierResult> {
+        let source = Source::new(
+            "class2-adapter.toml",
+            include_str!("../../examples/class2-adapter.toml"),
+        );
+        let rules = RuleBook::shipped().expect("shipped rules load");
+        let report = figures(&source, &rules).expect("the example evaluates");
+        // Every barrier of the shipped example passes; the marking is seen against that.
+        let barriers: Vec<BarrierResult> = report.barriers;
+        assert!(barriers.iter().all(|b| b.verdict == Verdict::Pass));
+        barriers
+    }
+
+    fn warning(key: &str) -> crate::diag::Diagnostic {
+        crate::diag::Diagnostic::new("p.toml", "looks implausible").with_key(key)
+    }
+
+    #[test]
+    fn an_implausible_shared_input_makes_every_passing_barrier_check_input() {
+        // No shipped table accepts an implausible altitude or nominal voltage (both are
+        // refused above the tables' last rows), so the shared path is pinned here.
+        for key in ["environment.altitude_m", "mains.nominal_v"] {
+            let mut barriers = class2_barriers();
+            mark_check_input(&mut barriers, &[warning(key)]);
+            assert!(
+                barriers.iter().all(|b| b.verdict == Verdict::CheckInput),
+                "{key}"
+            );
+        }
+    }
+
+    #[test]
+    fn an_implausible_barrier_key_marks_only_that_barrier() {
+        let mut barriers = class2_barriers();
+        mark_check_input(&mut barriers, &[warning("barrier[2].creepage_mm")]);
+        let verdicts: Vec<Verdict> = barriers.iter().map(|b| b.verdict).collect();
+        assert_eq!(
+            verdicts,
+            [Verdict::Pass, Verdict::CheckInput, Verdict::Pass],
+            "the second [[barrier]] table only"
+        );
+        // Keys that no barrier rests on leave them alone.
+        let mut barriers = class2_barriers();
+        mark_check_input(
+            &mut barriers,
+            &[
+                warning("part[1].capacitance_nf"),
+                warning("barrier[12].creepage_mm"),
+            ],
+        );
+        assert!(barriers.iter().all(|b| b.verdict == Verdict::Pass));
+    }
 }

@@ -2,6 +2,7 @@
 //! Markdown through pulldown-cmark, JSON through serde. Every string from the project
 //! is escaped on its way into Markdown, and raw HTML never reaches the page.
 
+use std::borrow::Cow;
 use std::path::Path;
 
 use minijinja::value::{Value, ValueKind};
@@ -19,8 +20,13 @@ mod shipped {
     include!(concat!(env!("OUT_DIR"), "/shipped_templates.rs"));
 }
 
-/// A paragraph holding only this text is replaced by the EMC chart in the HTML report.
+/// A template line holding only this text marks where the EMC chart goes in the HTML report.
 pub const CHART_MARKER: &str = "gapwarden-emc-chart";
+
+/// What a marker line becomes when the templates are loaded: an HTML comment. A string
+/// from the project cannot produce it, because every `<` in one is escaped on its way into
+/// the Markdown; only the comment (an HTML event, not text) is replaced by the chart.
+pub const CHART_COMMENT: &str = "<!-- gapwarden-emc-chart -->";
 
 /// The template rendered first; it includes the others by name.
 const TEMPLATE_NAME: &str = "report.md.j2";
@@ -36,6 +42,9 @@ pub struct Templates {
     files: Vec<(String, String, String)>,
     /// The environment with every template parsed, built once.
     env: Result<Environment<'static>, Problems>,
+    /// House templates in force (name, SHA-256 of the file as read), for the report's
+    /// first lines.
+    house: Vec<super::HouseFile>,
 }
 
 impl Templates {
@@ -53,10 +62,14 @@ impl Templates {
         Self::from_files(files)
     }
 
-    fn from_files(files: Vec<(String, String, String)>) -> Self {
+    fn from_files(mut files: Vec<(String, String, String)>) -> Self {
+        for (_, text, _) in &mut files {
+            *text = mark_chart(text);
+        }
         let mut templates = Templates {
             files,
             env: Err(Problems(Vec::new())),
+            house: Vec::new(),
         };
         templates.env = environment(&templates);
         templates
@@ -76,6 +89,7 @@ impl Templates {
             .into());
         }
         let mut files = std::mem::take(&mut templates.files);
+        let mut house = Vec::new();
         for (name, text, origin) in &mut files {
             let path = dir.join(&*name);
             // Anything of that name is read (a pipe or device is refused there, not skipped).
@@ -83,9 +97,17 @@ impl Templates {
                 let shown = path.display().to_string();
                 *text = crate::read_text(&path, &shown)?;
                 *origin = shown;
+                house.push(super::HouseFile {
+                    file: name.clone(),
+                    sha256: crate::sha256_hex(text.as_bytes()),
+                    id: name.clone(),
+                    effect: "replaced",
+                    kind: "template",
+                });
             }
         }
-        let templates = Self::from_files(files);
+        let mut templates = Self::from_files(files);
+        templates.house = house;
         if let Err(problems) = &templates.env {
             return Err(problems.clone());
         }
@@ -103,14 +125,134 @@ pub fn house_template_files(dir: &Path) -> Vec<std::path::PathBuf> {
         .collect()
 }
 
+impl Templates {
+    /// The house templates in force, each with its SHA-256.
+    pub fn house(&self) -> &[super::HouseFile] {
+        &self.house
+    }
+}
+
+/// The report with the house templates in force recorded in its `house` section (the
+/// report is built before the templates are known). Borrowed when there are none.
+pub fn with_templates<'r>(report: &'r Report, templates: &Templates) -> Cow<'r, Report> {
+    if templates.house.is_empty() {
+        return Cow::Borrowed(report);
+    }
+    let mut report = report.clone();
+    report.house.templates = templates.house.clone();
+    report.house.in_force = true;
+    Cow::Owned(report)
+}
+
+/// The report's first lines after the title, written by gapwarden rather than by the
+/// template so that no house template can leave them out: readiness for review, and any
+/// house rules and house templates in force with their SHA-256.
+fn preamble(report: &Report) -> String {
+    let e = md_escape;
+    let r = &report.readiness;
+    let mut out = String::new();
+    if r.ready {
+        out.push_str("**Ready for review: yes.** Nothing is blocking, no barrier is incomplete and no input looks implausible.\n");
+    } else {
+        let holds: Vec<String> = r
+            .conditions
+            .iter()
+            .map(|c| {
+                format!(
+                    "{} ({})",
+                    c.condition,
+                    if c.holds { "holds" } else { "fails" }
+                )
+            })
+            .collect();
+        out.push_str(&format!(
+            "**Ready for review: no ({}).** Ready needs {}.\n\n",
+            e(&r.state),
+            holds.join(", ")
+        ));
+        for reason in &r.reasons {
+            out.push_str(&format!("- {}\n", e(reason)));
+        }
+    }
+    let h = &report.house;
+    if !h.rules.is_empty() {
+        out.push_str(&format!(
+            "\n**House rules in force: the shipped rules were changed.** {} table{} replaced, {} added; {} check{} changed, {} added.\n\n",
+            h.tables_replaced,
+            if h.tables_replaced == 1 { "" } else { "s" },
+            h.tables_added,
+            h.checks_changed,
+            if h.checks_changed == 1 { "" } else { "s" },
+            h.checks_added
+        ));
+        for f in &h.rules {
+            let what = match (f.kind, f.effect) {
+                ("checks", _) => "house checks",
+                (_, "replaced") => "house table replacing the shipped one",
+                _ => "house table, new",
+            };
+            out.push_str(&format!(
+                "- {} (id {}, {what}), SHA-256 {}\n",
+                e(&f.file),
+                e(&f.id),
+                f.sha256
+            ));
+        }
+    }
+    if !h.templates.is_empty() {
+        out.push_str(&format!(
+            "\n**House templates in force: the shipped report layout was changed.** {} template{} replaced.\n\n",
+            h.templates.len(),
+            if h.templates.len() == 1 { "" } else { "s" }
+        ));
+        for f in &h.templates {
+            out.push_str(&format!(
+                "- house template {} (replaces the shipped one), SHA-256 {}\n",
+                e(&f.file),
+                f.sha256
+            ));
+        }
+    }
+    out
+}
+
+/// `text` with the preamble after its first line when that is a heading, else before it.
+fn insert_preamble(text: &str, preamble: &str) -> String {
+    let (head, rest) = match text.split_once('\n') {
+        Some((first, rest)) if first.starts_with("# ") => (format!("{first}\n\n"), rest),
+        _ => (String::new(), text),
+    };
+    format!("{head}{preamble}\n{rest}")
+}
+
+/// The template source with each line that holds only the chart marker turned into the
+/// chart comment (template text, never a value the template prints).
+fn mark_chart(text: &str) -> String {
+    if !text.contains(CHART_MARKER) {
+        return text.to_string();
+    }
+    text.split_inclusive('\n')
+        .map(|line| {
+            if line.trim() == CHART_MARKER {
+                let end = &line[line.trim_end().len()..];
+                format!("{CHART_COMMENT}{end}")
+            } else {
+                line.to_string()
+            }
+        })
+        .collect()
+}
+
 /// Escapes text for Markdown so that it renders as itself: no emphasis, link, table cell
-/// break or HTML can come from it. Line breaks become spaces.
+/// break or HTML can come from it. Line breaks become spaces; other control characters,
+/// bidirectional overrides and zero-width characters are shown as `<U+XXXX>`.
 pub fn md_escape(text: &str) -> String {
     let special = |c: char| {
         matches!(
             c,
             '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#'
         ) || c.is_control()
+            || crate::text::is_hazardous(c)
     };
     if !text.chars().any(special) {
         return text.to_string();
@@ -123,7 +265,11 @@ pub fn md_escape(text: &str) -> String {
                 out.push('\\');
                 out.push(c);
             }
-            c if c.is_control() => out.push(' '),
+            '\t' => out.push(' '),
+            // Not escaped: `<U+` cannot open an HTML tag, so it reads as written.
+            c if c.is_control() || crate::text::is_hazardous(c) => {
+                out.push_str(&crate::text::visible(&c.to_string()))
+            }
             c => out.push(c),
         }
     }
@@ -213,10 +359,12 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
     let template = env
         .get_template(TEMPLATE_NAME)
         .map_err(|e| template_problem(&origin(&e), &e))?;
-    let context = Value::from(minijinja::value::Serde(report));
-    let mut text = template
+    let report = with_templates(report, templates);
+    let context = Value::from(minijinja::value::Serde(&*report));
+    let text = template
         .render(context)
         .map_err(|e| template_problem(&origin(&e), &e))?;
+    let mut text = insert_preamble(&text, &preamble(&report));
     // At most one blank line in a row and one trailing newline, whatever the template's
     // whitespace control left.
     while text.contains("\n\n\n") {
@@ -228,7 +376,10 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
     if !text.ends_with('\n') {
         text.push('\n');
     }
-    Ok(text)
+    // Text a template writes itself (or marks safe, such as the structure diagram) has not
+    // passed through md_escape: no control or bidi character reaches the reader from it.
+    let text = text.replace("\r\n", "\n");
+    Ok(crate::text::visible(&text).into_owned())
 }
 
 /// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which
@@ -236,19 +387,26 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
 pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Problems> {
     let markdown = render_markdown(report, templates)?;
     let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
-    let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
+    // Taken at the first marker; any later one is dropped, so the chart appears once.
+    let mut chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
     let events = Parser::new_ext(&markdown, options).map(|event| match event {
+        // The EMC template marks where the chart goes; the SVG is gapwarden's own. Only
+        // raw HTML (which no escaped project string can produce) is looked at.
+        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
+            match chart.take() {
+                Some(svg) => Event::Html(svg.into()),
+                None => Event::Text("".into()),
+            }
+        }
         Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
-        // The EMC template marks where the chart goes; the SVG is gapwarden's own.
-        Event::Text(text) if text.as_ref() == CHART_MARKER => match &chart {
-            Some(svg) => Event::Html(svg.clone().into()),
-            None => Event::Text("".into()),
-        },
         other => other,
     });
     let mut body = String::new();
     html::push_html(&mut body, events);
-    let title = html_escape(&format!("Pre-review checklist: {}", report.design.name));
+    let title = html_escape(&crate::text::visible(&format!(
+        "Pre-review checklist: {}",
+        report.design.name
+    )));
     Ok(format!(
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{title}</title>\n<style>\n{STYLE}</style>\n</head>\n<body>\n{body}</body>\n</html>\n"
     ))
@@ -256,10 +414,91 @@ pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Pro
 
 /// The report model as pretty-printed JSON.
 pub fn render_json(report: &Report) -> String {
-    let mut text =
-        serde_json::to_string_pretty(report).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    to_json(report)
+}
+
+/// Pretty-printed JSON as gapwarden writes it (see [`SafeJson`]), with a final newline.
+pub fn to_json<T: serde::Serialize + ?Sized>(value: &T) -> String {
+    let mut bytes = Vec::new();
+    let mut ser = serde_json::Serializer::with_formatter(
+        &mut bytes,
+        SafeJson(serde_json::ser::PrettyFormatter::new()),
+    );
+    let mut text = match value.serialize(&mut ser) {
+        Ok(()) => String::from_utf8(bytes).unwrap_or_default(),
+        Err(e) => format!("{{\"error\": \"{e}\"}}"),
+    };
     text.push('\n');
     text
+}
+
+/// serde_json's pretty printer with two changes: a negative zero prints as 0 (a figure of
+/// "-0.0" reads as a sign error), and every character that a terminal would act on or that
+/// hides or reorders text (DEL, C1 controls, bidi overrides, zero-width characters; see
+/// `text::is_hazardous`) is written as a `\uXXXX` escape. JSON readers decode the escape
+/// to the same character, so the data are unchanged; only what a terminal sees is.
+struct SafeJson<'a>(serde_json::ser::PrettyFormatter<'a>);
+
+impl serde_json::ser::Formatter for SafeJson<'_> {
+    fn write_f64<W: ?Sized + std::io::Write>(&mut self, w: &mut W, v: f64) -> std::io::Result<()> {
+        self.0.write_f64(w, if v == 0.0 { 0.0 } else { v })
+    }
+    fn write_f32<W: ?Sized + std::io::Write>(&mut self, w: &mut W, v: f32) -> std::io::Result<()> {
+        self.0.write_f32(w, if v == 0.0 { 0.0 } else { v })
+    }
+    fn write_string_fragment<W: ?Sized + std::io::Write>(
+        &mut self,
+        w: &mut W,
+        fragment: &str,
+    ) -> std::io::Result<()> {
+        let mut start = 0;
+        for (i, c) in fragment.char_indices() {
+            if crate::text::is_hazardous(c) {
+                w.write_all(&fragment.as_bytes()[start..i])?;
+                let mut units = [0u16; 2];
+                for unit in c.encode_utf16(&mut units) {
+                    write!(w, "\\u{unit:04x}")?;
+                }
+                start = i + c.len_utf8();
+            }
+        }
+        w.write_all(&fragment.as_bytes()[start..])
+    }
+    fn begin_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_array(w)
+    }
+    fn end_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array(w)
+    }
+    fn begin_array_value<W: ?Sized + std::io::Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_array_value(w, first)
+    }
+    fn end_array_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array_value(w)
+    }
+    fn begin_object<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object(w)
+    }
+    fn end_object<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object(w)
+    }
+    fn begin_object_key<W: ?Sized + std::io::Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_object_key(w, first)
+    }
+    fn begin_object_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object_value(w)
+    }
+    fn end_object_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object_value(w)
+    }
 }
 
 fn html_escape(text: &str) -> String {

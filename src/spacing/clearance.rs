@@ -46,7 +46,7 @@ pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, St
             "mains.nominal_v",
             format!(
                 "{} V is above the last row of {} (supply systems up to {} V, rows from {} V); the tool does not extrapolate",
-                show(cond.nominal_v),
+                crate::text::apart(cond.nominal_v, &[first, last], show),
                 table.source,
                 show(last),
                 show(first)
@@ -223,7 +223,7 @@ pub fn table_clearance(
             key,
             format!(
                 "{what} of {} kV is above the last row of {} ({} to {} kV); the tool does not extrapolate",
-                show(kv),
+                crate::text::apart(kv, &[first, last], show),
                 table.source,
                 show(first),
                 show(last)
@@ -345,7 +345,7 @@ pub fn altitude_factor(
             key,
             format!(
                 "{} m is above the last row of {} ({} to {} m); the tool does not extrapolate",
-                show(altitude_m),
+                crate::text::apart(altitude_m, &[first.altitude_m, last.altitude_m], show),
                 table.source,
                 show(first.altitude_m),
                 show(last.altitude_m)

@@ -144,7 +144,11 @@ pub fn table_creepage(
             "working_rms_v",
             format!(
                 "{} V rms is above the last row of {} ({} to {} V); the tool does not extrapolate",
-                show(working_rms_v),
+                crate::text::apart(
+                    working_rms_v,
+                    &[first.working_rms_v, last.working_rms_v],
+                    show
+                ),
                 table.source,
                 show(first.working_rms_v),
                 show(last.working_rms_v)

@@ -76,6 +76,22 @@ pub enum Verdict {
     Pass,
     Fail,
     Incomplete,
+    /// The distances would pass, but an input they rest on looks implausible (an
+    /// `input.suspicious_value`): the input must be checked before the barrier can pass.
+    #[serde(rename = "check-input")]
+    CheckInput,
+}
+
+impl Verdict {
+    /// The word the JSON and the reports use.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Verdict::Pass => "pass",
+            Verdict::Fail => "fail",
+            Verdict::Incomplete => "incomplete",
+            Verdict::CheckInput => "check-input",
+        }
+    }
 }
 
 /// For double insulation: the basic and supplementary parts, each dimensioned on its own.
@@ -180,7 +196,8 @@ pub fn show(x: f64) -> String {
         return "0".to_string();
     }
     if rounded.abs() >= 1e15 {
-        return format!("{rounded:.0}");
+        // 1e300 as 1e300, not as 301 digits.
+        return format!("{rounded:e}");
     }
     format!("{rounded}")
 }
