@@ -133,7 +133,14 @@ pub fn run_checks(
     let mut outcomes = Vec::new();
     let mut problems = Vec::new();
     for (index, check) in rules.checks.iter().enumerate() {
-        match run_one(&rules.compiled_checks, index, check, report, &mut findings) {
+        let mut run = || run_one(&rules.compiled_checks, index, check, report, &mut findings);
+        let result = if check.origin == "shipped" {
+            run()
+        } else {
+            let what = format!("{}:{}: house check \"{}\"", check.path, check.line, check.id);
+            crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, run)
+        };
+        match result {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
                 id: check.id.clone(),
                 title: check.title.clone(),
@@ -215,6 +222,13 @@ fn run_one(
 /// reports a field name that does not exist. Other evaluation errors (arithmetic on a
 /// null the `applies` expression would have excluded) are not the check's fault here.
 pub fn unknown_fields(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
+    let what = format!("{}:{}: house check \"{}\"", check.path, check.line, check.id);
+    crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, || {
+        unknown_fields_unbounded(check, sample)
+    })
+}
+
+fn unknown_fields_unbounded(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
     let env = expression_environment();
     let problem = |message: String| {
         Diagnostic {
