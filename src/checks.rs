@@ -137,7 +137,10 @@ pub fn run_checks(
         let result = if check.origin == "shipped" {
             run()
         } else {
-            let what = format!("{}:{}: house check \"{}\"", check.path, check.line, check.id);
+            let what = format!(
+                "{}:{}: house check \"{}\"",
+                check.path, check.line, check.id
+            );
             crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, run)
         };
         match result {
@@ -222,7 +225,10 @@ fn run_one(
 /// reports a field name that does not exist. Other evaluation errors (arithmetic on a
 /// null the `applies` expression would have excluded) are not the check's fault here.
 pub fn unknown_fields(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
-    let what = format!("{}:{}: house check \"{}\"", check.path, check.line, check.id);
+    let what = format!(
+        "{}:{}: house check \"{}\"",
+        check.path, check.line, check.id
+    );
     crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, || {
         unknown_fields_unbounded(check, sample)
     })

@@ -202,7 +202,11 @@ impl<'p> Graph<'p> {
         nodes.reverse();
         edges.reverse();
         let mut description = circuits[nodes[0]].id.clone();
-        let shown = if omitted_barriers > 0 { &nodes[1..] } else { &nodes[..] };
+        let shown = if omitted_barriers > 0 {
+            &nodes[1..]
+        } else {
+            &nodes[..]
+        };
         if omitted_barriers > 0 {
             description.push_str(&format!(
                 " -[... {omitted_barriers} barriers not shown ...]- {}",
@@ -302,10 +306,20 @@ pub fn analyse(project: &Project) -> IsolationReport {
         .collect();
     let best = graph.weakest(&hazardous, &earthed);
     let comp = graph.components();
-    let mut hazardous_in = HashMap::<usize, usize>::new();
+    // Per component: how many hazardous circuits, and the first of them.
+    let mut hazardous_in = HashMap::<usize, (usize, usize)>::new();
     for &h in &hazardous {
-        *hazardous_in.entry(comp[h]).or_default() += 1;
+        hazardous_in.entry(comp[h]).or_insert((0, h)).0 += 1;
     }
+    // The first hazardous circuit, and the first in another component than it: between
+    // them they name a hazardous circuit outside any given component in constant time.
+    let first = hazardous.first().copied();
+    let first_elsewhere =
+        first.and_then(|f| hazardous.iter().copied().find(|&h| comp[h] != comp[f]));
+    let outside = |c: usize| match first {
+        Some(f) if comp[f] != c => Some(f),
+        _ => first_elsewhere,
+    };
     let reached: Vec<bool> = best.iter().map(Option::is_some).collect();
     let nearest = if class == ProtectionClass::I {
         graph.nearest_earthed(&earthed, &reached)
@@ -319,10 +333,13 @@ pub fn analyse(project: &Project) -> IsolationReport {
     let mut pairs = Vec::new();
     let mut pairs_without_barrier = 0u64;
     for &a in &accessible {
-        let connected = hazardous_in.get(&comp[a]).copied().unwrap_or(0);
+        let (connected, first_connected) = hazardous_in.get(&comp[a]).copied().unwrap_or((0, a));
         let apart = hazardous.len() - connected;
         pairs_without_barrier += apart as u64;
-        if matches!(circuits[a].kind, CircuitKind::Mains | CircuitKind::Hazardous) {
+        if matches!(
+            circuits[a].kind,
+            CircuitKind::Mains | CircuitKind::Hazardous
+        ) {
             let path = PathInfo {
                 circuits: vec![circuits[a].id.clone()],
                 barriers: Vec::new(),
@@ -333,7 +350,11 @@ pub fn analyse(project: &Project) -> IsolationReport {
             pairs.push(ctx.entry(a, a, Some(path), 0, LEVEL_DOUBLE, None, connected));
         } else if let Some(r) = best[a] {
             let path = graph.path_to(a, &best);
-            let (needs, earth) = if earthed[a] { (1, Some(a)) } else { (LEVEL_DOUBLE, None) };
+            let (needs, earth) = if earthed[a] {
+                (1, Some(a))
+            } else {
+                (LEVEL_DOUBLE, None)
+            };
             pairs.push(ctx.entry(r.origin, a, Some(path), r.level, needs, earth, connected));
             // Class I: the earth that holds `a` is judged too where it is weakly insulated.
             if let Some(e) = nearest[a].filter(|&e| e != a)
@@ -345,14 +366,20 @@ pub fn analyse(project: &Project) -> IsolationReport {
             match nearest[a] {
                 Some(e) => pairs.push(ctx.earth_entry(a, e, connected)),
                 None => {
-                    let h = hazardous.iter().copied().find(|&h| comp[h] == comp[a]);
-                    let h = h.unwrap_or(a);
-                    pairs.push(ctx.entry(h, a, None, 0, LEVEL_DOUBLE, None, connected));
+                    pairs.push(ctx.entry(
+                        first_connected,
+                        a,
+                        None,
+                        0,
+                        LEVEL_DOUBLE,
+                        None,
+                        connected,
+                    ));
                 }
             }
         }
         if apart > 0
-            && let Some(h) = hazardous.iter().copied().find(|&h| comp[h] != comp[a])
+            && let Some(h) = outside(comp[a])
         {
             pairs.push(ctx.entry(h, a, None, 0, LEVEL_DOUBLE, None, apart));
         }
@@ -493,24 +520,25 @@ fn diagram(project: &Project, graph: &Graph) -> (String, bool) {
         // its far end, prefix, last among its siblings, depth). Each line is drawn when
         // popped, so a circuit's subtree follows its own line.
         let mut stack: Vec<(usize, usize, String, bool, usize)> = Vec::new();
-        let push_children = |node: usize,
-                             prefix: &str,
-                             depth: usize,
-                             drawn: &mut Vec<bool>,
-                             stack: &mut Vec<(usize, usize, String, bool, usize)>| {
-            let edges: Vec<(usize, usize)> = graph.adjacent[node]
-                .iter()
-                .copied()
-                .filter(|&(_, b)| !drawn[b])
-                .collect();
-            for &(_, b) in &edges {
-                drawn[b] = true;
-            }
-            let count = edges.len();
-            for (k, &(next, b)) in edges.iter().enumerate().rev() {
-                stack.push((b, next, prefix.to_string(), k + 1 == count, depth));
-            }
-        };
+        let push_children =
+            |node: usize,
+             prefix: &str,
+             depth: usize,
+             drawn: &mut Vec<bool>,
+             stack: &mut Vec<(usize, usize, String, bool, usize)>| {
+                let edges: Vec<(usize, usize)> = graph.adjacent[node]
+                    .iter()
+                    .copied()
+                    .filter(|&(_, b)| !drawn[b])
+                    .collect();
+                for &(_, b) in &edges {
+                    drawn[b] = true;
+                }
+                let count = edges.len();
+                for (k, &(next, b)) in edges.iter().enumerate().rev() {
+                    stack.push((b, next, prefix.to_string(), k + 1 == count, depth));
+                }
+            };
         push_children(root, "", 1, &mut drawn, &mut stack);
         while let Some((b, next, prefix, last, depth)) = stack.pop() {
             if out.len() > MAX_DIAGRAM_BYTES {

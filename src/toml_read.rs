@@ -106,20 +106,18 @@ pub fn parse_document(source: &Source) -> Result<Spanned<DeTable<'_>>, Problems>
             match e.span() {
                 Some(span) => source.diag(&span, message),
                 // The parser gives its nesting limit no position: find the place ourselves.
-                None if e.message().contains("recursion limit") => {
-                    match too_deep(&source.text) {
-                        Some((at, key)) => source
-                            .diag(
-                                &(at..at + 1),
-                                format!(
-                                    "not valid TOML: nested more than {NESTING_LIMIT} levels deep \
+                None if e.message().contains("recursion limit") => match too_deep(&source.text) {
+                    Some((at, key)) => source
+                        .diag(
+                            &(at..at + 1),
+                            format!(
+                                "not valid TOML: nested more than {NESTING_LIMIT} levels deep \
                                      (dotted key, table header, array or inline table)"
-                                ),
-                            )
-                            .with_key(key),
-                        None => Diagnostic::new(&source.name, message),
-                    }
-                }
+                            ),
+                        )
+                        .with_key(key),
+                    None => Diagnostic::new(&source.name, message),
+                },
                 None => Diagnostic::new(&source.name, message),
             }
         })
@@ -144,13 +142,19 @@ fn too_deep(text: &str) -> Option<(usize, String)> {
     let preview = |from: usize, to: usize| -> String {
         let key = text.get(from..to).unwrap_or("").trim();
         let cut: String = key.chars().take(40).collect();
-        if cut.len() < key.len() { format!("{cut}...") } else { cut }
+        if cut.len() < key.len() {
+            format!("{cut}...")
+        } else {
+            cut
+        }
     };
     while i < bytes.len() {
         let c = bytes[i];
         match c {
             b'"' | b'\'' => {
-                let triple = bytes.get(i..i + 3).is_some_and(|t| t.iter().all(|&b| b == c));
+                let triple = bytes
+                    .get(i..i + 3)
+                    .is_some_and(|t| t.iter().all(|&b| b == c));
                 let step = if triple { 3 } else { 1 };
                 i += step;
                 while i < bytes.len() {
@@ -161,7 +165,12 @@ fn too_deep(text: &str) -> Option<(usize, String)> {
                     if !triple && bytes[i] == b'\n' {
                         break;
                     }
-                    if bytes[i] == c && (!triple || bytes.get(i..i + 3).is_some_and(|t| t.iter().all(|&b| b == c))) {
+                    if bytes[i] == c
+                        && (!triple
+                            || bytes
+                                .get(i..i + 3)
+                                .is_some_and(|t| t.iter().all(|&b| b == c)))
+                    {
                         i += step;
                         break;
                     }

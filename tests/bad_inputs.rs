@@ -1930,7 +1930,10 @@ fn a_house_template_writing_without_end_runs_out_of_fuel() {
     let o = with_house_template(r#"{% for i in range(100000) %}{{ "x" * 100000000 }}{% endfor %}"#);
     refused(&o).unwrap();
     let err = stderr(&o);
-    assert!(err.contains("tmpl/report.md.j2"), "the template is not named\n{err}");
+    assert!(
+        err.contains("tmpl/report.md.j2"),
+        "the template is not named\n{err}"
+    );
     assert!(
         err.contains("MB of memory") || err.contains("work allowance"),
         "the reason is lost\n{err}"

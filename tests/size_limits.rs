@@ -25,10 +25,8 @@ impl Scratch {
     fn new(tag: &str) -> Self {
         static N: AtomicUsize = AtomicUsize::new(0);
         let n = N.fetch_add(1, Ordering::SeqCst);
-        let dir = std::env::temp_dir().join(format!(
-            "gapwarden-size-{}-{tag}-{n}",
-            std::process::id()
-        ));
+        let dir =
+            std::env::temp_dir().join(format!("gapwarden-size-{}-{tag}-{n}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(&dir).expect("scratch folder can be created");
         Scratch(dir)
@@ -71,7 +69,8 @@ fn json(o: &Output) -> Value {
         .unwrap_or_else(|e| panic!("stdout is not JSON ({e})\n{}", describe(o)))
 }
 
-const HEAD: &str = "[design]\nname = \"generated\"\nprotection_class = \"II\"\n\n[mains]\nnominal_v = 230\n\n";
+const HEAD: &str =
+    "[design]\nname = \"generated\"\nprotection_class = \"II\"\n\n[mains]\nnominal_v = 230\n\n";
 
 fn circuit(id: &str, kind: &str, accessible: bool) -> String {
     format!("[[circuit]]\nid = \"{id}\"\nkind = \"{kind}\"\naccessible = {accessible}\n\n")
@@ -96,7 +95,12 @@ fn chain(n: usize) -> String {
         text.push_str(&circuit(&format!("c{i}"), kind, i == n - 1));
     }
     for i in 0..n - 1 {
-        text.push_str(&barrier(&format!("b{i}"), &format!("c{i}"), &format!("c{}", i + 1), "reinforced"));
+        text.push_str(&barrier(
+            &format!("b{i}"),
+            &format!("c{i}"),
+            &format!("c{}", i + 1),
+            "reinforced",
+        ));
     }
     text
 }
@@ -127,9 +131,19 @@ fn isolation_of_1500_mains_and_1500_accessible_circuits_reports_one_entry_per_ac
         text.push_str(&circuit(&format!("o{i}"), "safe", true));
     }
     for i in 0..n {
-        text.push_str(&barrier(&format!("mo{i}"), &format!("m{i}"), &format!("o{i}"), "basic"));
+        text.push_str(&barrier(
+            &format!("mo{i}"),
+            &format!("m{i}"),
+            &format!("o{i}"),
+            "basic",
+        ));
         if i + 1 < n {
-            text.push_str(&barrier(&format!("oo{i}"), &format!("o{i}"), &format!("o{}", i + 1), "functional"));
+            text.push_str(&barrier(
+                &format!("oo{i}"),
+                &format!("o{i}"),
+                &format!("o{}", i + 1),
+                "functional",
+            ));
         }
     }
     let scratch = Scratch::new("pairs");
@@ -138,12 +152,19 @@ fn isolation_of_1500_mains_and_1500_accessible_circuits_reports_one_entry_per_ac
     assert_exit(&o, 1);
     let report = json(&o);
     let iso = &report["isolation"];
-    assert_eq!(iso["pair_count"], (n * n) as u64, "the pairs judged are counted");
+    assert_eq!(
+        iso["pair_count"],
+        (n * n) as u64,
+        "the pairs judged are counted"
+    );
     assert_eq!(iso["pairs_without_barrier"], 0);
     let pairs = iso["pairs"].as_array().unwrap();
     assert_eq!(pairs.len(), n, "one entry per accessible circuit");
     for p in pairs {
-        assert_eq!(p["provides_level"], 1, "basic insulation is the weakest: {p}");
+        assert_eq!(
+            p["provides_level"], 1,
+            "basic insulation is the weakest: {p}"
+        );
         assert_eq!(p["needs_level"], 2);
         assert_eq!(p["hazardous_count"], n as u64);
     }
@@ -174,8 +195,14 @@ fn isolation_of_3000_circuits_all_mains_and_accessible_stays_small() {
     let pairs = iso["pairs"].as_array().unwrap();
     assert!(pairs.len() <= 2 * n, "{} entries", pairs.len());
     let c5: Vec<&Value> = pairs.iter().filter(|p| p["accessible"] == "c5").collect();
-    assert!(c5.iter().any(|p| p["hazardous"] == "c5" && p["provides_level"] == 0));
-    assert!(c5.iter().any(|p| p["path"].is_null() && p["hazardous_count"] == (n - 1) as u64));
+    assert!(
+        c5.iter()
+            .any(|p| p["hazardous"] == "c5" && p["provides_level"] == 0)
+    );
+    assert!(
+        c5.iter()
+            .any(|p| p["path"].is_null() && p["hazardous_count"] == (n - 1) as u64)
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -194,7 +221,11 @@ fn a_chain_of_5000_circuits_draws_a_bounded_diagram_and_lists_every_edge() {
     let diagram = iso["diagram"].as_str().unwrap();
     // Drawn in full, the chain would indent each of its 4999 lines further: about
     // 3 x 4999^2 / 2 = 37 MB. Bounded, it stays under 100 kB.
-    assert!(diagram.len() < 100_000, "diagram of {} bytes", diagram.len());
+    assert!(
+        diagram.len() < 100_000,
+        "diagram of {} bytes",
+        diagram.len()
+    );
     assert_eq!(iso["diagram_truncated"], true);
     assert!(diagram.contains("not drawn"), "the cut is said: {diagram}");
     let edges = iso["structure"].as_array().unwrap();
@@ -206,7 +237,10 @@ fn a_chain_of_5000_circuits_draws_a_bounded_diagram_and_lists_every_edge() {
     let shown = path["barriers"].as_array().unwrap().len();
     assert!(shown <= 64, "{shown} barriers listed");
     assert_eq!(path["omitted_barriers"], (n - 1 - shown) as u64);
-    assert_eq!(path["circuits"][0], "c0", "the path still starts at the mains circuit");
+    assert_eq!(
+        path["circuits"][0], "c0",
+        "the path still starts at the mains circuit"
+    );
     assert_eq!(iso["pairs"][0]["provides_level"], 2);
 }
 
@@ -221,7 +255,10 @@ fn a_design_of_20000_barriers_renders_with_the_shipped_template_but_not_a_limite
     let o = run_limited(&scratch.0, &["check", "p.toml"]);
     assert_exit(&o, 0);
     let md = stdout(&o);
-    assert!(md.contains("| b19999 |"), "the last barrier is in the table");
+    assert!(
+        md.contains("| b19999 |"),
+        "the last barrier is in the table"
+    );
 
     // The same template as a house copy runs with the work allowance and runs out.
     let shipped = std::fs::read_to_string(root().join("templates/report.md.j2")).unwrap();
@@ -229,8 +266,14 @@ fn a_design_of_20000_barriers_renders_with_the_shipped_template_but_not_a_limite
     let o = run_limited(&scratch.0, &["check", "p.toml", "--templates", "tmpl"]);
     assert_exit(&o, 2);
     let err = stderr(&o);
-    assert!(err.contains("tmpl/report.md.j2:"), "the house template is named: {err}");
-    assert!(err.contains("house template ran out of its work allowance"), "{err}");
+    assert!(
+        err.contains("tmpl/report.md.j2:"),
+        "the house template is named: {err}"
+    );
+    assert!(
+        err.contains("house template ran out of its work allowance"),
+        "{err}"
+    );
     assert!(err.contains("fuel"), "what ran out is named: {err}");
 }
 
@@ -244,7 +287,12 @@ fn five_thousand_unknown_references_print_the_first_hundred_and_count_the_rest()
     let mut text = String::from(HEAD);
     text.push_str(&circuit("primary", "mains", false));
     for i in 0..n {
-        text.push_str(&barrier(&format!("b{i}"), "primary", &format!("missing{i}"), "basic"));
+        text.push_str(&barrier(
+            &format!("b{i}"),
+            "primary",
+            &format!("missing{i}"),
+            "basic",
+        ));
     }
     let scratch = Scratch::new("refs");
     scratch.write("p.toml", &text);
@@ -252,7 +300,12 @@ fn five_thousand_unknown_references_print_the_first_hundred_and_count_the_rest()
     assert_exit(&o, 2);
     let err = stderr(&o);
     let errors = err.lines().filter(|l| l.starts_with("error: ")).count();
-    assert_eq!(errors, 101, "100 problems and one count line:\n{}", &err[..err.len().min(2000)]);
+    assert_eq!(
+        errors,
+        101,
+        "100 problems and one count line:\n{}",
+        &err[..err.len().min(2000)]
+    );
     assert!(err.contains("missing0"), "the first problem is shown");
     assert!(!err.contains("missing4999"), "the last is not");
     assert!(

@@ -261,7 +261,10 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
         })
         .map_err(|e| template_problem(&origin(&e), &e))?;
         String::from_utf8(out.text).map_err(|_| {
-            Problems::from(Diagnostic::new(&what, "template error: output is not UTF-8"))
+            Problems::from(Diagnostic::new(
+                &what,
+                "template error: output is not UTF-8",
+            ))
         })?
     } else {
         template
