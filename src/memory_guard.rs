@@ -39,10 +39,16 @@ pub fn bounded<T>(what: &str, limit_bytes: usize, f: impl FnOnce() -> T) -> T {
     });
     LEFT.with(|l| l.set(limit_bytes));
     ACTIVE.with(|a| a.set(true));
-    let result = f();
-    ACTIVE.with(|a| a.set(false));
-    LEFT.with(|l| l.set(usize::MAX));
-    result
+    // Lifts the bound however `f` ends, a panic included.
+    struct Lift;
+    impl Drop for Lift {
+        fn drop(&mut self) {
+            let _ = ACTIVE.try_with(|a| a.set(false));
+            let _ = LEFT.try_with(|l| l.set(usize::MAX));
+        }
+    }
+    let _lift = Lift;
+    f()
 }
 
 /// The system allocator, counting allocations made inside [`bounded`].
