@@ -7,8 +7,9 @@
 # functional, reinforced, basic and reinforced.
 #
 # Usage: scripts/bench-size.sh [SIZES...]    (default: 12500 25000 50000 100000)
-# Needs GNU time at /usr/bin/time (peak resident memory from `-v`). Runs one process at a
-# time, so it keeps one core busy.
+# Needs GNU time at /usr/bin/time (CPU time and peak resident memory from `-v`; on a busy
+# machine quote the CPU time, which the load does not inflate). Runs one process at a time,
+# so it keeps one core busy.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 sizes=("$@")
@@ -33,15 +34,16 @@ generate() {
   }'
 }
 
-printf '%-10s %-6s %10s %14s %12s\n' circuits format seconds "peak RSS MB" "output MB"
+printf '%-10s %-6s %8s %8s %12s %10s\n' circuits format "wall s" "CPU s" "peak RSS MB" "output MB"
 for n in "${sizes[@]}"; do
   generate "$n" > "$work/p.toml"
   for format in json md; do
     # Exit 1 (not ready) is expected: some barriers are laid out too short on purpose.
     /usr/bin/time -v "$tool" check "$work/p.toml" --format "$format" -o "$work/out" 2> "$work/time" || true
     secs=$(awk -F': ' '/Elapsed \(wall clock\)/ { n = split($2, t, ":"); s = 0; for (i = 1; i <= n; i++) s = s * 60 + t[i]; print s }' "$work/time")
+    cpu=$(awk -F': ' '/User time|System time/ { s += $2 } END { printf "%.2f", s }' "$work/time")
     rss=$(awk -F': ' '/Maximum resident set size/ { printf "%.0f", $2 / 1024 }' "$work/time")
     size=$(awk -v b="$(stat -c %s "$work/out")" 'BEGIN { printf "%.1f", b / 1048576 }')
-    printf '%-10s %-6s %10s %14s %12s\n' "$n" "$format" "$secs" "$rss" "$size"
+    printf '%-10s %-6s %8s %8s %12s %10s\n' "$n" "$format" "$secs" "$cpu" "$rss" "$size"
   done
 done
