@@ -133,7 +133,8 @@ pub fn run_checks(
     let mut outcomes = Vec::new();
     let mut problems = Vec::new();
     for (index, check) in rules.checks.iter().enumerate() {
-        match run_one(&rules.compiled_checks, index, check, report, &mut findings) {
+        let result = run_one(&rules.compiled_checks, index, check, report, &mut findings);
+        match result {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
                 id: check.id.clone(),
                 title: check.title.clone(),
@@ -181,24 +182,35 @@ fn run_one(
             }
         }
     };
+    // A house check is bounded in the memory each evaluation takes (see memory_guard).
+    let what = (check.origin != "shipped").then(|| {
+        format!(
+            "{}:{}: house check \"{}\"",
+            check.path, check.line, check.id
+        )
+    });
+    let render = |part: &str, ctx: &Value| match &what {
+        None => compiled.render(index, part, ctx),
+        Some(what) => crate::memory_guard::bounded(
+            what,
+            crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES,
+            || compiled.render(index, part, ctx),
+        ),
+    };
     let (mut judged, mut raised) = (0, 0);
     for item in items {
         let ctx = context! { report => report.clone(), item => item.clone() };
-        if check.applies.is_some()
-            && compiled.render(index, "applies", &ctx)?.as_deref() != Some("1")
-        {
+        if check.applies.is_some() && render("applies", &ctx)?.as_deref() != Some("1") {
             continue;
         }
         judged += 1;
-        if compiled.render(index, "condition", &ctx)?.as_deref() != Some("1") {
+        if render("condition", &ctx)?.as_deref() != Some("1") {
             continue;
         }
         raised += 1;
-        let text = compiled.render(index, "message", &ctx)?.unwrap_or_default();
+        let text = render("message", &ctx)?.unwrap_or_default();
         let subject = match &check.subject {
-            Some(_) => compiled
-                .render(index, "subject", &ctx)?
-                .filter(|s| !s.is_empty()),
+            Some(_) => render("subject", &ctx)?.filter(|s| !s.is_empty()),
             None => default_subject(check.over, &item),
         };
         findings.push(Finding {
@@ -215,6 +227,16 @@ fn run_one(
 /// reports a field name that does not exist. Other evaluation errors (arithmetic on a
 /// null the `applies` expression would have excluded) are not the check's fault here.
 pub fn unknown_fields(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
+    let what = format!(
+        "{}:{}: house check \"{}\"",
+        check.path, check.line, check.id
+    );
+    crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, || {
+        unknown_fields_unbounded(check, sample)
+    })
+}
+
+fn unknown_fields_unbounded(check: &CheckDef, sample: &Value) -> Result<(), Diagnostic> {
     let env = expression_environment();
     let problem = |message: String| {
         Diagnostic {

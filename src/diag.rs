@@ -127,13 +127,25 @@ impl Source {
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Problems(pub Vec<Diagnostic>);
 
+/// At most this many problems are printed; the rest are counted, so a file with a
+/// hundred thousand bad lines gives a readable message rather than megabytes of errors.
+pub const MAX_PROBLEMS_SHOWN: usize = 100;
+
 impl fmt::Display for Problems {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        for (i, d) in self.0.iter().enumerate() {
+        for (i, d) in self.0.iter().take(MAX_PROBLEMS_SHOWN).enumerate() {
             if i > 0 {
                 writeln!(f)?;
             }
             write!(f, "error: {d}")?;
+        }
+        if self.0.len() > MAX_PROBLEMS_SHOWN {
+            write!(
+                f,
+                "\nerror: {} more problems not shown ({} in all); fix the first ones and run again",
+                self.0.len() - MAX_PROBLEMS_SHOWN,
+                self.0.len()
+            )?;
         }
         Ok(())
     }

@@ -31,15 +31,22 @@ fn level_words(level: u8) -> &'static str {
     }
 }
 
+/// A path longer than this many barriers keeps only the barriers nearest the accessible
+/// circuit, so that a long chain of circuits cannot make the report grow as its square.
+pub const MAX_PATH_BARRIERS: usize = 64;
+
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct PathInfo {
-    /// Circuit ids from the hazardous circuit to the end of the path.
+    /// Circuit ids from the hazardous circuit to the end of the path. Where barriers were
+    /// omitted (`omitted_barriers` > 0), they lie between the first and second circuit.
     pub circuits: Vec<String>,
-    /// Barrier ids along the path, one between each pair of circuits.
+    /// Barrier ids along the path, one between each pair of circuits shown.
     pub barriers: Vec<String>,
     pub grades: Vec<Grade>,
     /// The path in words: `primary -[pri-sec: reinforced]- output`.
     pub description: String,
+    /// Barriers of a long path left out after the hazardous circuit (0 for most paths).
+    pub omitted_barriers: usize,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -55,6 +62,18 @@ pub struct PairResult {
     pub needs: String,
     /// The earthed circuit whose protective earth the protection relies on (Class I).
     pub earth: Option<String>,
+    /// How many hazardous circuits this entry stands for: those connected to the
+    /// accessible circuit (the weakest path of all of them is shown), or, for an entry
+    /// without a path, those with no declared barrier to it (the first is named).
+    pub hazardous_count: usize,
+}
+
+/// One barrier as an edge of the structure.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StructureEdge {
+    pub barrier: String,
+    pub between: [String; 2],
+    pub grade: Grade,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -62,14 +81,30 @@ pub struct IsolationReport {
     pub protection_class: ProtectionClass,
     pub hazardous_count: usize,
     pub accessible_count: usize,
+    /// At most two entries per accessible circuit: the weakest path to it from any
+    /// hazardous circuit, and the hazardous circuits with no declared barrier to it.
     pub pairs: Vec<PairResult>,
-    /// The circuit and barrier structure as a text tree.
+    /// Hazardous/accessible pairs the entries stand for (hazardous times accessible).
+    pub pair_count: u64,
+    /// Of those, pairs with no declared barrier between them.
+    pub pairs_without_barrier: u64,
+    /// The circuit and barrier structure as a text tree, bounded in depth and size.
     pub diagram: String,
+    /// Whether the text tree was cut short (depth or size); `structure` is complete.
+    pub diagram_truncated: bool,
+    /// The structure as data: every barrier as an edge between two circuit ids.
+    pub structure: Vec<StructureEdge>,
 }
 
-/// A search from one hazardous circuit: the weakest level reaching each circuit, and the
-/// (circuit, barrier) it was reached from.
-type Search = (Vec<Option<u8>>, Vec<Option<(usize, usize)>>);
+/// The best known (level, barriers) to a circuit, with the barrier it was reached through
+/// and the hazardous circuit the path starts at.
+#[derive(Clone, Copy)]
+struct Reached {
+    level: u8,
+    hops: usize,
+    from: Option<(usize, usize)>,
+    origin: usize,
+}
 
 /// The graph of a project: adjacency lists of (neighbour, barrier index).
 struct Graph<'p> {
@@ -96,60 +131,94 @@ impl<'p> Graph<'p> {
         Graph { project, adjacent }
     }
 
-    /// Weakest insulation level from `source` to every circuit, with the predecessor on
-    /// the weakest path; among equally weak paths, the one with the fewest barriers.
-    /// Circuits in `stop_at` are reached but not passed through.
-    fn weakest(&self, source: usize, stop_at: &[bool]) -> Search {
+    /// Weakest insulation level from any of `sources` to every circuit, in one search
+    /// (the weakest from any source is the weakest of the searches from each); among
+    /// equally weak paths, the one with the fewest barriers. Circuits in `stop_at` that
+    /// are not sources are reached but not passed through.
+    fn weakest(&self, sources: &[usize], stop_at: &[bool]) -> Vec<Option<Reached>> {
         let n = self.adjacent.len();
-        let mut best: Vec<Option<(u8, usize)>> = vec![None; n];
-        let mut before: Vec<Option<(usize, usize)>> = vec![None; n];
+        let mut best: Vec<Option<Reached>> = vec![None; n];
+        let mut is_source = vec![false; n];
         let mut queue = BinaryHeap::new();
-        best[source] = Some((0, 0));
-        queue.push(Reverse((0u8, 0usize, source)));
+        for &s in sources {
+            is_source[s] = true;
+            best[s] = Some(Reached {
+                level: 0,
+                hops: 0,
+                from: None,
+                origin: s,
+            });
+            queue.push(Reverse((0u8, 0usize, s)));
+        }
         while let Some(Reverse((l, hops, node))) = queue.pop() {
-            if best[node].is_some_and(|b| (l, hops) > b) {
+            if best[node].is_some_and(|b| (l, hops) > (b.level, b.hops)) {
                 continue;
             }
-            if node != source && stop_at[node] {
+            if !is_source[node] && stop_at[node] {
                 continue;
             }
+            let origin = best[node].map_or(node, |b| b.origin);
             for &(next, b) in &self.adjacent[node] {
                 let through = (
                     (l + level_of(self.project.barriers[b].grade)).min(LEVEL_DOUBLE),
                     hops + 1,
                 );
-                if best[next].is_none_or(|known| through < known) {
-                    best[next] = Some(through);
-                    before[next] = Some((node, b));
+                if best[next].is_none_or(|known| through < (known.level, known.hops)) {
+                    best[next] = Some(Reached {
+                        level: through.0,
+                        hops: through.1,
+                        from: Some((node, b)),
+                        origin,
+                    });
                     queue.push(Reverse((through.0, through.1, next)));
                 }
             }
         }
-        (best.iter().map(|b| b.map(|(l, _)| l)).collect(), before)
+        best
     }
 
-    fn path_to(&self, source: usize, target: usize, before: &[Option<(usize, usize)>]) -> PathInfo {
+    /// The path the search found to `target`, keeping at most `MAX_PATH_BARRIERS` of its
+    /// barriers (those nearest the target), so that building it costs no more than that.
+    fn path_to(&self, target: usize, best: &[Option<Reached>]) -> PathInfo {
         let circuits = &self.project.circuits;
         let barriers = &self.project.barriers;
         let mut nodes = vec![target];
         let mut edges = Vec::new();
         let mut at = target;
-        // Each step moves to a circuit settled earlier; the bound only guards the loop.
-        while at != source && edges.len() <= circuits.len() {
-            let Some((prev, b)) = before[at] else { break };
+        let total = best[target].map_or(0, |r| r.hops);
+        let origin = best[target].map_or(target, |r| r.origin);
+        while edges.len() < MAX_PATH_BARRIERS.min(total) {
+            let Some((prev, b)) = best[at].and_then(|r| r.from) else {
+                break;
+            };
             edges.push(b);
             nodes.push(prev);
             at = prev;
         }
+        let omitted_barriers = total.saturating_sub(edges.len());
+        if omitted_barriers > 0 {
+            nodes.push(origin);
+        }
         nodes.reverse();
         edges.reverse();
         let mut description = circuits[nodes[0]].id.clone();
+        let shown = if omitted_barriers > 0 {
+            &nodes[1..]
+        } else {
+            &nodes[..]
+        };
+        if omitted_barriers > 0 {
+            description.push_str(&format!(
+                " -[... {omitted_barriers} barriers not shown ...]- {}",
+                circuits[shown[0]].id
+            ));
+        }
         for (i, b) in edges.iter().enumerate() {
             description.push_str(&format!(
                 " -[{}: {}]- {}",
                 barriers[*b].id,
                 barriers[*b].grade.as_str(),
-                circuits[nodes[i + 1]].id
+                circuits[shown[i + 1]].id
             ));
         }
         PathInfo {
@@ -157,11 +226,64 @@ impl<'p> Graph<'p> {
             barriers: edges.iter().map(|&b| barriers[b].id.clone()).collect(),
             grades: edges.iter().map(|&b| barriers[b].grade).collect(),
             description,
+            omitted_barriers,
         }
+    }
+
+    /// Connected components of the whole graph: a component number per circuit.
+    fn components(&self) -> Vec<usize> {
+        let n = self.adjacent.len();
+        let mut comp = vec![usize::MAX; n];
+        let mut next = 0;
+        for start in 0..n {
+            if comp[start] != usize::MAX {
+                continue;
+            }
+            comp[start] = next;
+            let mut stack = vec![start];
+            while let Some(node) = stack.pop() {
+                for &(m, _) in &self.adjacent[node] {
+                    if comp[m] == usize::MAX {
+                        comp[m] = next;
+                        stack.push(m);
+                    }
+                }
+            }
+            next += 1;
+        }
+        comp
+    }
+
+    /// For every circuit, the earthed circuit nearest to it (fewest barriers, not passing
+    /// another earthed circuit) among `candidates`: one breadth-first search from all of
+    /// them at once.
+    fn nearest_earthed(&self, earthed: &[bool], candidates: &[bool]) -> Vec<Option<usize>> {
+        let n = self.adjacent.len();
+        let mut nearest = vec![None; n];
+        let mut queue = VecDeque::new();
+        for e in 0..n {
+            if earthed[e] && candidates[e] {
+                nearest[e] = Some(e);
+                queue.push_back(e);
+            }
+        }
+        while let Some(node) = queue.pop_front() {
+            for &(next, _) in &self.adjacent[node] {
+                if nearest[next].is_none() && !earthed[next] {
+                    nearest[next] = nearest[node];
+                    queue.push_back(next);
+                }
+            }
+        }
+        nearest
     }
 }
 
-/// Judges every pair of a hazardous and an accessible circuit.
+/// Judges every accessible circuit against every hazardous circuit without enumerating
+/// the pairs: one search from all hazardous circuits at once gives, for each accessible
+/// circuit, its weakest path from any of them; connected components count the hazardous
+/// circuits with no declared barrier to it. Work and output grow with the design, not
+/// with hazardous times accessible circuits.
 pub fn analyse(project: &Project) -> IsolationReport {
     let graph = Graph::new(project);
     let circuits = &project.circuits;
@@ -182,60 +304,153 @@ pub fn analyse(project: &Project) -> IsolationReport {
         .iter()
         .map(|c| class == ProtectionClass::I && c.earthed)
         .collect();
-    let no_stop = vec![false; circuits.len()];
-    let mut pairs = Vec::new();
+    let best = graph.weakest(&hazardous, &earthed);
+    let comp = graph.components();
+    // Per component: how many hazardous circuits, and the first of them.
+    let mut hazardous_in = HashMap::<usize, (usize, usize)>::new();
     for &h in &hazardous {
-        let (level, before) = graph.weakest(h, &earthed);
-        let reach = (class == ProtectionClass::I).then(|| graph.weakest(h, &no_stop));
-        for &a in &accessible {
-            pairs.push(judge_pair(
-                &graph,
-                h,
-                a,
-                &level,
-                &before,
-                reach.as_ref(),
-                &earthed,
-            ));
+        hazardous_in.entry(comp[h]).or_insert((0, h)).0 += 1;
+    }
+    // The first hazardous circuit, and the first in another component than it: between
+    // them they name a hazardous circuit outside any given component in constant time.
+    let first = hazardous.first().copied();
+    let first_elsewhere =
+        first.and_then(|f| hazardous.iter().copied().find(|&h| comp[h] != comp[f]));
+    let outside = |c: usize| match first {
+        Some(f) if comp[f] != c => Some(f),
+        _ => first_elsewhere,
+    };
+    let reached: Vec<bool> = best.iter().map(Option::is_some).collect();
+    let nearest = if class == ProtectionClass::I {
+        graph.nearest_earthed(&earthed, &reached)
+    } else {
+        vec![None; circuits.len()]
+    };
+    let ctx = Judge {
+        graph: &graph,
+        best: &best,
+    };
+    let mut pairs = Vec::new();
+    let mut pairs_without_barrier = 0u64;
+    for &a in &accessible {
+        let (connected, first_connected) = hazardous_in.get(&comp[a]).copied().unwrap_or((0, a));
+        let apart = hazardous.len() - connected;
+        pairs_without_barrier += apart as u64;
+        if matches!(
+            circuits[a].kind,
+            CircuitKind::Mains | CircuitKind::Hazardous
+        ) {
+            let path = PathInfo {
+                circuits: vec![circuits[a].id.clone()],
+                barriers: Vec::new(),
+                grades: Vec::new(),
+                description: format!("{} (hazardous and accessible)", circuits[a].id),
+                omitted_barriers: 0,
+            };
+            pairs.push(ctx.entry(a, a, Some(path), 0, LEVEL_DOUBLE, None, connected));
+        } else if let Some(r) = best[a] {
+            let path = graph.path_to(a, &best);
+            let (needs, earth) = if earthed[a] {
+                (1, Some(a))
+            } else {
+                (LEVEL_DOUBLE, None)
+            };
+            pairs.push(ctx.entry(r.origin, a, Some(path), r.level, needs, earth, connected));
+            // Class I: the earth that holds `a` is judged too where it is weakly insulated.
+            if let Some(e) = nearest[a].filter(|&e| e != a)
+                && best[e].is_some_and(|r| r.level < 1)
+            {
+                pairs.push(ctx.earth_entry(a, e, connected));
+            }
+        } else if connected > 0 {
+            match nearest[a] {
+                Some(e) => pairs.push(ctx.earth_entry(a, e, connected)),
+                None => {
+                    pairs.push(ctx.entry(
+                        first_connected,
+                        a,
+                        None,
+                        0,
+                        LEVEL_DOUBLE,
+                        None,
+                        connected,
+                    ));
+                }
+            }
+        }
+        if apart > 0
+            && let Some(h) = outside(comp[a])
+        {
+            pairs.push(ctx.entry(h, a, None, 0, LEVEL_DOUBLE, None, apart));
         }
     }
+    let (diagram, diagram_truncated) = diagram(project, &graph);
     IsolationReport {
         protection_class: class,
         hazardous_count: hazardous.len(),
         accessible_count: accessible.len(),
         pairs,
-        diagram: diagram(project, &graph),
+        pair_count: hazardous.len() as u64 * accessible.len() as u64,
+        pairs_without_barrier,
+        diagram,
+        diagram_truncated,
+        structure: project
+            .barriers
+            .iter()
+            .map(|b| StructureEdge {
+                barrier: b.id.clone(),
+                between: b.between.clone(),
+                grade: b.grade,
+            })
+            .collect(),
     }
 }
 
-fn judge_pair(
-    graph: &Graph,
-    h: usize,
-    a: usize,
-    level: &[Option<u8>],
-    before: &[Option<(usize, usize)>],
-    reach: Option<&Search>,
-    earthed: &[bool],
-) -> PairResult {
-    let circuits = &graph.project.circuits;
-    let pair = |path: Option<PathInfo>,
-                provides_level: u8,
-                needs_level: u8,
-                earth: Option<usize>| {
-        let grades = path.as_ref().map(|p| {
-            p.grades
-                .iter()
-                .map(|g| g.as_str())
-                .collect::<Vec<_>>()
-                .join(" + ")
-        });
-        let provides = match (&path, grades) {
-            (None, _) => "nothing declared".to_string(),
-            (Some(p), _) if p.barriers.is_empty() => {
+struct Judge<'g, 'p> {
+    graph: &'g Graph<'p>,
+    best: &'g [Option<Reached>],
+}
+
+impl Judge<'_, '_> {
+    /// The entry for an accessible circuit `a` held at earth by `e` (Class I): basic
+    /// insulation from the hazardous side to `e` is needed.
+    fn earth_entry(&self, a: usize, e: usize, connected: usize) -> PairResult {
+        let r = self.best[e];
+        let path = r.map(|_| self.graph.path_to(e, self.best));
+        let origin = r.map_or(e, |r| r.origin);
+        let level = r.map_or(0, |r| r.level);
+        self.entry(origin, a, path, level, 1, Some(e), connected)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn entry(
+        &self,
+        h: usize,
+        a: usize,
+        path: Option<PathInfo>,
+        provides_level: u8,
+        needs_level: u8,
+        earth: Option<usize>,
+        hazardous_count: usize,
+    ) -> PairResult {
+        let circuits = &self.graph.project.circuits;
+        let provides = match &path {
+            None => "nothing declared".to_string(),
+            Some(p) if p.barriers.is_empty() => {
                 "nothing: the circuit is itself accessible".to_string()
             }
-            (Some(_), Some(g)) => format!("{} ({g})", level_words(provides_level)),
-            (Some(_), None) => level_words(provides_level).to_string(),
+            Some(p) => {
+                let mut grades = p
+                    .grades
+                    .iter()
+                    .map(|g| g.as_str())
+                    .collect::<Vec<_>>()
+                    .join(" + ");
+                if p.omitted_barriers > 0 {
+                    grades.push_str(&format!(" and {} more barriers", p.omitted_barriers));
+                }
+                format!("{} ({grades})", level_words(provides_level))
+            }
         };
         let needs = match (needs_level, earth) {
             (1, Some(e)) => format!("basic insulation to the earthed circuit {}", circuits[e].id),
@@ -251,69 +466,22 @@ fn judge_pair(
             needs_level,
             needs,
             earth: earth.map(|e| circuits[e].id.clone()),
+            hazardous_count,
         }
-    };
-    if h == a {
-        let path = PathInfo {
-            circuits: vec![circuits[h].id.clone()],
-            barriers: Vec::new(),
-            grades: Vec::new(),
-            description: format!("{} (hazardous and accessible)", circuits[h].id),
-        };
-        return pair(Some(path), 0, LEVEL_DOUBLE, None);
     }
-    if earthed[a] {
-        // Class I, earthed accessible circuit: basic insulation to it is enough.
-        return match level[a] {
-            Some(l) => pair(Some(graph.path_to(h, a, before)), l, 1, Some(a)),
-            None => pair(None, 0, 1, Some(a)),
-        };
-    }
-    if let Some(l) = level[a] {
-        return pair(Some(graph.path_to(h, a, before)), l, LEVEL_DOUBLE, None);
-    }
-    // Class I: every path to `a` passes an earthed circuit; the one nearest to `a` holds it
-    // at earth, and needs basic insulation from the hazardous circuit.
-    if let Some((full_level, _)) = reach
-        && full_level[a].is_some()
-        && let Some(e) = nearest_earthed(graph, a, earthed, level)
-    {
-        let l = level[e].unwrap_or(0);
-        return pair(Some(graph.path_to(h, e, before)), l, 1, Some(e));
-    }
-    pair(None, 0, LEVEL_DOUBLE, None)
 }
 
-/// The earthed circuit reached from `a` in the fewest barriers that the hazardous search
-/// also reached.
-fn nearest_earthed(
-    graph: &Graph,
-    a: usize,
-    earthed: &[bool],
-    level: &[Option<u8>],
-) -> Option<usize> {
-    let mut seen = vec![false; graph.adjacent.len()];
-    let mut queue = VecDeque::from([a]);
-    seen[a] = true;
-    while let Some(node) = queue.pop_front() {
-        if earthed[node] && level[node].is_some() {
-            return Some(node);
-        }
-        if earthed[node] {
-            continue;
-        }
-        for &(next, _) in &graph.adjacent[node] {
-            if !seen[next] {
-                seen[next] = true;
-                queue.push_back(next);
-            }
-        }
-    }
-    None
-}
+/// The text tree draws circuits at most this many barriers below each root; deeper ones
+/// are counted, not drawn (a chain would otherwise indent each line further).
+pub const MAX_DIAGRAM_DEPTH: usize = 24;
+/// The text tree stops at about this many bytes; the JSON `structure` is complete.
+pub const MAX_DIAGRAM_BYTES: usize = 64 * 1024;
+/// A circuit or barrier id is cut to this many characters in the drawing.
+const MAX_LABEL_CHARS: usize = 60;
 
-/// The structure as a text tree: hazardous circuits first, each barrier drawn once.
-fn diagram(project: &Project, graph: &Graph) -> String {
+/// The structure as a text tree: hazardous circuits first, each barrier drawn once,
+/// bounded in depth and size. Returns the drawing and whether it was cut short.
+fn diagram(project: &Project, graph: &Graph) -> (String, bool) {
     let circuits = &project.circuits;
     let label = |i: usize| {
         let c = &circuits[i];
@@ -334,25 +502,30 @@ fn diagram(project: &Project, graph: &Graph) -> String {
         .filter(|&i| circuits[i].kind != CircuitKind::Safe)
         .collect();
     order.extend((0..circuits.len()).filter(|&i| circuits[i].kind == CircuitKind::Safe));
+    let comp = graph.components();
+    let mut comp_drawn = vec![false; circuits.len()];
     let mut placed = vec![false; circuits.len()];
     let mut drawn = vec![false; project.barriers.len()];
     let mut out = String::new();
-    for root in order {
-        if placed[root] {
+    let mut truncated = false;
+    'roots: for root in order {
+        if placed[root] || comp_drawn[comp[root]] {
             continue;
         }
+        comp_drawn[comp[root]] = true;
         placed[root] = true;
         out.push_str(&label(root));
         out.push('\n');
         // Depth-first with an explicit stack of edges still to draw: (barrier, circuit at
-        // its far end, prefix, last among its siblings). Each line is drawn when popped,
-        // so a circuit's subtree follows its own line.
-        let mut stack: Vec<(usize, usize, String, bool)> = Vec::new();
+        // its far end, prefix, last among its siblings, depth). Each line is drawn when
+        // popped, so a circuit's subtree follows its own line.
+        let mut stack: Vec<(usize, usize, String, bool, usize)> = Vec::new();
         let push_children =
             |node: usize,
              prefix: &str,
+             depth: usize,
              drawn: &mut Vec<bool>,
-             stack: &mut Vec<(usize, usize, String, bool)>| {
+             stack: &mut Vec<(usize, usize, String, bool, usize)>| {
                 let edges: Vec<(usize, usize)> = graph.adjacent[node]
                     .iter()
                     .copied()
@@ -363,11 +536,18 @@ fn diagram(project: &Project, graph: &Graph) -> String {
                 }
                 let count = edges.len();
                 for (k, &(next, b)) in edges.iter().enumerate().rev() {
-                    stack.push((b, next, prefix.to_string(), k + 1 == count));
+                    stack.push((b, next, prefix.to_string(), k + 1 == count, depth));
                 }
             };
-        push_children(root, "", &mut drawn, &mut stack);
-        while let Some((b, next, prefix, last)) = stack.pop() {
+        push_children(root, "", 1, &mut drawn, &mut stack);
+        while let Some((b, next, prefix, last, depth)) = stack.pop() {
+            if out.len() > MAX_DIAGRAM_BYTES {
+                truncated = true;
+                out.push_str(
+                    "... (the drawing stops here; the JSON report's isolation.structure lists every barrier)\n",
+                );
+                break 'roots;
+            }
             let barrier = &project.barriers[b];
             let branch = if last { "└─ " } else { "├─ " };
             let seen = if placed[next] { " (drawn above)" } else { "" };
@@ -380,16 +560,31 @@ fn diagram(project: &Project, graph: &Graph) -> String {
             if !placed[next] {
                 placed[next] = true;
                 let child_prefix = format!("{prefix}{}", if last { "   " } else { "│  " });
-                push_children(next, &child_prefix, &mut drawn, &mut stack);
+                if depth >= MAX_DIAGRAM_DEPTH {
+                    if graph.adjacent[next].iter().any(|&(_, b)| !drawn[b]) {
+                        truncated = true;
+                        out.push_str(&format!(
+                            "{child_prefix}└─ ... (deeper than {MAX_DIAGRAM_DEPTH} barriers: not drawn)\n"
+                        ));
+                    }
+                } else {
+                    push_children(next, &child_prefix, depth + 1, &mut drawn, &mut stack);
+                }
             }
         }
     }
-    out
+    (out, truncated)
 }
 
 /// Strips characters that would break the drawing (line breaks, backticks, controls).
 fn clean(text: &str) -> String {
-    text.chars()
+    let mut out: String = text
+        .chars()
+        .take(MAX_LABEL_CHARS)
         .map(|c| if c.is_control() || c == '`' { ' ' } else { c })
-        .collect()
+        .collect();
+    if text.chars().nth(MAX_LABEL_CHARS).is_some() {
+        out.push_str("...");
+    }
+    out
 }

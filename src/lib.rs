@@ -8,6 +8,7 @@ pub mod compare;
 pub mod diag;
 pub mod emc;
 pub mod isolation;
+pub mod memory_guard;
 pub mod parts;
 pub mod power_entry;
 pub mod project;

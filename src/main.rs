@@ -230,6 +230,12 @@ enum CoatingArg {
     Conformal,
 }
 
+/// Counts what house templates and house checks allocate, so that a runaway one stops
+/// with a message instead of exhausting the machine's memory.
+#[global_allocator]
+static ALLOCATOR: gapwarden::memory_guard::GuardedAllocator =
+    gapwarden::memory_guard::GuardedAllocator;
+
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,

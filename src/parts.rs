@@ -58,11 +58,27 @@ pub fn bridges(
     project: &Project,
     results: &[BarrierResult],
 ) -> Vec<BridgeResult> {
+    // Looked up by name once, so that a large design costs no more than its size.
+    let parts: std::collections::HashMap<&str, &Part> = project
+        .parts
+        .iter()
+        .map(|p| (p.reference.as_str(), p))
+        .collect();
+    let accessible: std::collections::HashSet<&str> = project
+        .circuits
+        .iter()
+        .filter(|c| c.accessible)
+        .map(|c| c.id.as_str())
+        .collect();
     let mut out = Vec::new();
     for (barrier, result) in project.barriers.iter().zip(results) {
+        let to_accessible = barrier
+            .between
+            .iter()
+            .any(|id| accessible.contains(id.as_str()));
         for reference in &barrier.bridged_by {
-            if let Some(part) = project.parts.iter().find(|p| &p.reference == reference) {
-                out.push(bridge(rules, project, barrier, result, part));
+            if let Some(part) = parts.get(reference.as_str()) {
+                out.push(bridge(rules, barrier, result, part, to_accessible));
             }
         }
     }
@@ -71,20 +87,16 @@ pub fn bridges(
 
 fn bridge(
     rules: &RuleBook,
-    project: &Project,
     barrier: &Barrier,
     result: &BarrierResult,
     part: &Part,
+    to_accessible: bool,
 ) -> BridgeResult {
     let r = &part.ratings;
     let mut derivation = Vec::new();
     let working_peak_v = barrier
         .working_peak_v
         .unwrap_or_else(|| tidy(barrier.working_rms_v * std::f64::consts::SQRT_2));
-    let to_accessible = barrier
-        .between
-        .iter()
-        .any(|id| project.circuits.iter().any(|c| &c.id == id && c.accessible));
     let (subclass_bridges, subclass_allowed, series_accepted) = capacitor_fit(
         &rules.capacitors,
         r.subclass.as_deref(),

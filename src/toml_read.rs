@@ -132,12 +132,114 @@ pub fn parse_document(source: &Source) -> Result<Spanned<DeTable<'_>>, Problems>
             let message = format!("not valid TOML: {}", e.message().trim());
             match e.span() {
                 Some(span) => source.diag(&span, message),
+                // The parser gives its nesting limit no position: find the place ourselves.
+                None if e.message().contains("recursion limit") => match too_deep(&source.text) {
+                    Some((at, key)) => source
+                        .diag(
+                            &(at..at + 1),
+                            format!(
+                                "not valid TOML: nested more than {NESTING_LIMIT} levels deep \
+                                     (dotted key, table header, array or inline table)"
+                            ),
+                        )
+                        .with_key(key),
+                    None => Diagnostic::new(&source.name, message),
+                },
                 None => Diagnostic::new(&source.name, message),
             }
         })
         .collect();
     problems.dedup();
     Err(Problems(problems))
+}
+
+/// The TOML parser's nesting limit (dotted key parts, arrays and inline tables together).
+const NESTING_LIMIT: usize = 80;
+
+/// The byte offset where a key, table header or value first nests more than the parser
+/// allows, with the start of the key there (cut short). A rough scan: strings and comments
+/// are skipped, so brackets inside them do not count.
+fn too_deep(text: &str) -> Option<(usize, String)> {
+    let bytes = text.as_bytes();
+    let mut i = 0;
+    let mut depth = 0usize; // open [ and { inside a value
+    let mut key_parts = 1usize;
+    let mut key_start: Option<usize> = None;
+    let mut in_key = true; // before `=` on a line at depth 0
+    let preview = |from: usize, to: usize| -> String {
+        let key = text.get(from..to).unwrap_or("").trim();
+        let cut: String = key.chars().take(40).collect();
+        if cut.len() < key.len() {
+            format!("{cut}...")
+        } else {
+            cut
+        }
+    };
+    while i < bytes.len() {
+        let c = bytes[i];
+        match c {
+            b'"' | b'\'' => {
+                let triple = bytes
+                    .get(i..i + 3)
+                    .is_some_and(|t| t.iter().all(|&b| b == c));
+                let step = if triple { 3 } else { 1 };
+                i += step;
+                while i < bytes.len() {
+                    if c == b'"' && bytes[i] == b'\\' {
+                        i += 2;
+                        continue;
+                    }
+                    if !triple && bytes[i] == b'\n' {
+                        break;
+                    }
+                    if bytes[i] == c
+                        && (!triple
+                            || bytes
+                                .get(i..i + 3)
+                                .is_some_and(|t| t.iter().all(|&b| b == c)))
+                    {
+                        i += step;
+                        break;
+                    }
+                    i += 1;
+                }
+                continue;
+            }
+            b'#' => {
+                while i < bytes.len() && bytes[i] != b'\n' {
+                    i += 1;
+                }
+                continue;
+            }
+            b'\n' if depth == 0 => {
+                in_key = true;
+                key_parts = 1;
+                key_start = None;
+            }
+            b'.' if in_key => key_parts += 1,
+            b'=' if in_key => in_key = false,
+            b'[' | b'{' => {
+                if in_key && c == b'[' {
+                    // A table header: its dots count as the key's.
+                    key_start.get_or_insert(i);
+                } else {
+                    depth += 1;
+                }
+            }
+            b']' | b'}' if !in_key => depth = depth.saturating_sub(1),
+            b' ' | b'\t' | b'\r' | b']' => {}
+            _ if in_key => {
+                key_start.get_or_insert(i);
+            }
+            _ => {}
+        }
+        if key_parts + depth >= NESTING_LIMIT {
+            let from = key_start.unwrap_or(i);
+            return Some((i, preview(from, i.min(from + 200))));
+        }
+        i += 1;
+    }
+    None
 }
 
 impl<'s> Reader<'s> {

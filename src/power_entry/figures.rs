@@ -1171,12 +1171,26 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
     let mut out = Vec::new();
     let mut figures = Vec::new();
     let mut hand_held_used = false;
-    let hazardous = |id: &str| {
-        project
-            .circuits
-            .iter()
-            .any(|c| c.id == id && matches!(c.kind, CircuitKind::Mains | CircuitKind::Hazardous))
-    };
+    // Looked up by name once, so that a large design costs no more than its size.
+    let hazardous_ids: std::collections::HashSet<&str> = project
+        .circuits
+        .iter()
+        .filter(|c| matches!(c.kind, CircuitKind::Mains | CircuitKind::Hazardous))
+        .map(|c| c.id.as_str())
+        .collect();
+    let hazardous = |id: &str| hazardous_ids.contains(id);
+    let parts: std::collections::HashMap<&str, &crate::project::Part> = project
+        .parts
+        .iter()
+        .map(|p| (p.reference.as_str(), p))
+        .collect();
+    let mut barriers_of: std::collections::HashMap<&str, Vec<&crate::project::Barrier>> =
+        std::collections::HashMap::new();
+    for barrier in &project.barriers {
+        for end in &barrier.between {
+            barriers_of.entry(end.as_str()).or_default().push(barrier);
+        }
+    }
     for circuit in project.circuits.iter().filter(|c| c.accessible) {
         let part = if class == ProtectionClass::I && circuit.earthed {
             hand_held_used = true;
@@ -1189,7 +1203,11 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
             "not-earthed"
         };
         let mut caps: Vec<TouchCapacitor> = Vec::new();
-        for barrier in &project.barriers {
+        let mut counted = std::collections::HashSet::new();
+        let touching = barriers_of
+            .get(circuit.id.as_str())
+            .map_or(&[][..], Vec::as_slice);
+        for &barrier in touching {
             let [a, z] = &barrier.between;
             let from_hazard =
                 (a == &circuit.id && hazardous(z)) || (z == &circuit.id && hazardous(a));
@@ -1197,10 +1215,10 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
                 continue;
             }
             for reference in &barrier.bridged_by {
-                let Some(p) = project.parts.iter().find(|p| &p.reference == reference) else {
+                let Some(&p) = parts.get(reference.as_str()) else {
                     continue;
                 };
-                if p.kind != PartKind::YCapacitor || caps.iter().any(|c| &c.part == reference) {
+                if p.kind != PartKind::YCapacitor || !counted.insert(reference.as_str()) {
                     continue;
                 }
                 let n = p.ratings.count_in_series.max(1);

@@ -574,6 +574,8 @@ fn read_barriers(
     assumptions: &mut Vec<String>,
 ) -> Vec<Barrier> {
     let tables = r.table_array(root, "barrier", BARRIER_KEYS);
+    let circuit_set = circuit_ids;
+    let part_set = part_refs;
     let circuit_ids: Vec<&str> = circuit_ids.iter().map(String::as_str).collect();
     let part_refs: Vec<&str> = part_refs.iter().map(String::as_str).collect();
     let mut seen = BTreeSet::new();
@@ -586,7 +588,7 @@ fn read_barriers(
             key_spans.insert(key, span.clone());
         };
         let id = r.required_string(t, "id");
-        let between = read_between(r, t, &circuit_ids);
+        let between = read_between(r, t, circuit_set, &circuit_ids);
         let grade = r.required_word(t, "grade", &Grade::WORDS);
         let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
         let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
@@ -642,7 +644,7 @@ fn read_barriers(
                         format!("{}.bridged_by", t.path),
                         format!("part \"{}\" is listed twice", item.value),
                     );
-                } else if part_refs.contains(&item.value.as_str()) {
+                } else if part_set.contains(&item.value) {
                     bridged_by.push(item.value.clone());
                 } else {
                     unknown_reference(
@@ -771,7 +773,12 @@ fn read_barriers(
     barriers
 }
 
-fn read_between(r: &mut Reader, t: &TableRef, circuit_ids: &[&str]) -> Option<[String; 2]> {
+fn read_between(
+    r: &mut Reader,
+    t: &TableRef,
+    circuit_set: &BTreeSet<String>,
+    circuit_ids: &[&str],
+) -> Option<[String; 2]> {
     if !r.has(t, "between") {
         r.missing(
             t,
@@ -795,7 +802,7 @@ fn read_between(r: &mut Reader, t: &TableRef, circuit_ids: &[&str]) -> Option<[S
     }
     let mut ok = true;
     for item in &list.value {
-        if !circuit_ids.contains(&item.value.as_str()) {
+        if !circuit_set.contains(&item.value) {
             unknown_reference(
                 r,
                 &item.span,
@@ -822,6 +829,11 @@ fn read_between(r: &mut Reader, t: &TableRef, circuit_ids: &[&str]) -> Option<[S
     ok.then(|| [list.value[0].value.clone(), list.value[1].value.clone()])
 }
 
+/// Above this many declared names, an unknown reference gets no suggestion.
+const MAX_SUGGESTION_CANDIDATES: usize = 2000;
+/// Above this many, the declared names are not listed in the message.
+const MAX_LISTED_CANDIDATES: usize = 20;
+
 fn unknown_reference(
     r: &mut Reader,
     span: &Span,
@@ -832,6 +844,22 @@ fn unknown_reference(
     declared_as: &str,
 ) {
     let message = format!("{what} \"{name}\" is not declared (no {declared_as} with that name)");
+    // A suggestion compares the name with every declared one, and the list of them is
+    // printed whole: both only where there are few, so that many unknown references in a
+    // large design cost neither time nor megabytes of messages.
+    if known.len() > MAX_SUGGESTION_CANDIDATES {
+        r.error(span, path, message);
+        return;
+    }
+    if known.len() > MAX_LISTED_CANDIDATES {
+        match suggest(name, known) {
+            Some(best) => {
+                r.error_with_help(span, path, message, format!("did you mean \"{best}\"?"))
+            }
+            None => r.error(span, path, message),
+        }
+        return;
+    }
     match suggest(name, known) {
         Some(best) => r.error_with_help(span, path, message, format!("did you mean \"{best}\"?")),
         None if known.is_empty() => r.error(span, path, message),

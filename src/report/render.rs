@@ -31,8 +31,12 @@ pub const CHART_COMMENT: &str = "<!-- gapwarden-emc-chart -->";
 /// The template rendered first; it includes the others by name.
 const TEMPLATE_NAME: &str = "report.md.j2";
 
-/// Bounds on a template's work, so that a house template cannot loop forever.
+/// Bounds on a house template's work, so that it cannot loop forever. The shipped
+/// templates are not limited: their work grows with the report, and a large valid design
+/// must not fail for want of an allowance.
 const TEMPLATE_FUEL: u64 = 5_000_000;
+/// The most a house template may write, in bytes.
+pub const TEMPLATE_MAX_OUTPUT_BYTES: usize = 32 * 1024 * 1024;
 const TEMPLATE_RECURSION: usize = 50;
 
 /// The templates in use: the shipped ones, each replaced by a house copy of the same name
@@ -48,6 +52,13 @@ pub struct Templates {
 }
 
 impl Templates {
+    /// Whether any template in use came from a house folder rather than the binary.
+    fn any_house(&self) -> bool {
+        self.files
+            .iter()
+            .any(|(name, _, origin)| *origin != format!("templates/{name}"))
+    }
+
     pub fn shipped() -> Self {
         let files: Vec<(String, String, String)> = SHIPPED_TEMPLATES
             .iter()
@@ -278,7 +289,9 @@ pub fn md_escape(text: &str) -> String {
 
 fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> {
     let mut env = Environment::new();
-    env.set_fuel(Some(TEMPLATE_FUEL));
+    if templates.any_house() {
+        env.set_fuel(Some(TEMPLATE_FUEL));
+    }
     env.set_recursion_limit(TEMPLATE_RECURSION);
     env.set_undefined_behavior(minijinja::UndefinedBehavior::Strict);
     env.set_formatter(|out, _state: &mut State, value: &Value| {
@@ -331,9 +344,15 @@ fn innermost(e: &Error) -> &Error {
 fn template_problem(origin: &str, e: &Error) -> Problems {
     let e = innermost(e);
     let reason = match e.kind() {
-        ErrorKind::OutOfFuel => {
-            "the template ran out of its work allowance (a loop that does not end?)".to_string()
-        }
+        ErrorKind::OutOfFuel => format!(
+            "the house template ran out of its work allowance ({TEMPLATE_FUEL} units of fuel, \
+             spent on instructions and on the bytes, list slots and items it creates or \
+             visits): a loop that does not end, or values that grow too large?"
+        ),
+        ErrorKind::WriteFailure => format!(
+            "the house template wrote more than {} MB; house templates are limited to that",
+            TEMPLATE_MAX_OUTPUT_BYTES / (1024 * 1024)
+        ),
         kind => match e.detail() {
             Some(detail) => format!("{kind}: {detail}"),
             None => kind.to_string(),
@@ -342,6 +361,29 @@ fn template_problem(origin: &str, e: &Error) -> Problems {
     let mut d = Diagnostic::new(origin, format!("template error: {reason}"));
     d.line = e.line();
     Problems(vec![d])
+}
+
+/// Collects a house template's output and refuses to grow past `max` bytes.
+struct BoundedOutput {
+    text: Vec<u8>,
+    max: usize,
+}
+
+impl std::io::Write for BoundedOutput {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        if self.text.len() + buf.len() > self.max {
+            return Err(std::io::Error::other(format!(
+                "the house template wrote more than {} MB",
+                self.max / (1024 * 1024)
+            )));
+        }
+        self.text.extend_from_slice(buf);
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
 }
 
 /// The report as a Markdown checklist.
@@ -361,9 +403,34 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
         .map_err(|e| template_problem(&origin(&e), &e))?;
     let report = with_templates(report, templates);
     let context = Value::from(minijinja::value::Serde(&*report));
-    let text = template
-        .render(context)
+    let text = if templates.any_house() {
+        // A house template is bounded in what it writes and in the memory it takes.
+        let house: Vec<&str> = templates
+            .files
+            .iter()
+            .filter(|(name, _, o)| *o != format!("templates/{name}"))
+            .map(|(_, _, o)| o.as_str())
+            .collect();
+        let what = format!("house template {}", house.join(", "));
+        let mut out = BoundedOutput {
+            text: Vec::new(),
+            max: TEMPLATE_MAX_OUTPUT_BYTES,
+        };
+        crate::memory_guard::bounded(&what, crate::memory_guard::HOUSE_MEMORY_LIMIT_BYTES, || {
+            template.render_captured_to(context, &mut out).map(|_| ())
+        })
         .map_err(|e| template_problem(&origin(&e), &e))?;
+        String::from_utf8(out.text).map_err(|_| {
+            Problems::from(Diagnostic::new(
+                &what,
+                "template error: output is not UTF-8",
+            ))
+        })?
+    } else {
+        template
+            .render(context)
+            .map_err(|e| template_problem(&origin(&e), &e))?
+    };
     let mut text = insert_preamble(&text, &preamble(&report));
     // At most one blank line in a row and one trailing newline, whatever the template's
     // whitespace control left.
