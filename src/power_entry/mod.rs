@@ -17,6 +17,7 @@ use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
 use crate::toml_read::{Located, Reader, TableRef};
 
+pub(crate) use figures::rests_on_suspicious;
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
