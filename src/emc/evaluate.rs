@@ -1072,6 +1072,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         y_capacitance_from,
         y_arrangement: arrangement,
         y_capacitance_used_nf: y_used_nf.map(tidy),
+        cm_capacitance_used_nf: cm_capacitance_used_nf.map(tidy),
         single_stage_practical_db: model.single_stage_practical_db.value,
         two_stage_practical_db: model.two_stage_practical_db.value,
         filter: declared,

@@ -290,6 +290,10 @@ pub struct EmcReport {
     /// The per-line Y capacitance the common-mode corner was sized with (the declared
     /// one capped by max_y_capacitance_nf); null when neither is known.
     pub y_capacitance_used_nf: Option<f64>,
+    /// The common-mode capacitance the choke was sized with: twice the per-line value for
+    /// a declared "each-line" y_capacitance_nf, the sum of the Y-capacitor parts (never
+    /// doubled: they are every Y capacitor), or the capped value times the arrangement.
+    pub cm_capacitance_used_nf: Option<f64>,
     pub single_stage_practical_db: f64,
     pub two_stage_practical_db: f64,
     pub filter: Option<DeclaredFilter>,
