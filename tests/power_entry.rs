@@ -479,8 +479,11 @@ fn a_very_large_capacitor_holds_the_valley_near_the_peak_and_narrows_the_pulses(
     for c in [470e-6, 4.7e-3, 47e-3, 1.0] {
         let s = steady_state(&design(c));
         assert!(s.sustained && s.converged, "C = {c}: {s:?}");
+        // Conduction is counted in whole steps, and the adaptive step may differ between
+        // two designs: allow one step of the coarser of the two.
+        let step_ms = 10.0 / s.steps_per_half_cycle.min(last.steps_per_half_cycle) as f64;
         assert!(
-            s.conduction_ms <= last.conduction_ms + 1e-9,
+            s.conduction_ms <= last.conduction_ms + step_ms + 1e-9,
             "C = {c}: pulses widened"
         );
         assert!(s.bulk_ripple_v < last.bulk_ripple_v, "C = {c}: ripple grew");
@@ -677,7 +680,7 @@ fn fuse_passes_with_margin_and_each_rating_fails_on_its_own() {
     // Base: 2 A fuse, 0.75 * 2 = 1.5 A above the ~0.55 A input RMS current (derating 0.75:
     // common practice, no published source); melting I²t 8 A²s above 5 * 0.312 = 1.56 A²s
     // (pulse factor about 5 for time-lag fuses: common practice, from memory); 300 V above
-    // 264 V; breaks 35 A against a declared 35 A.
+    // the rated 230 V (and the 264 V maximum); breaks 35 A against a declared 35 A.
     for id in [
         "power_entry.fuse_missing",
         "power_entry.fuse_rating_low",
@@ -708,8 +711,9 @@ fn fuse_passes_with_margin_and_each_rating_fails_on_its_own() {
     assert_exit(&o, 1);
     assert_eq!(the(&r, "power_entry.fuse_i2t_low")["severity"], "blocking");
 
-    // 250 V fuse on a 264 V maximum.
-    let (o, r) = variant("fuse250", &[("rated_v = 300", "rated_v = 250")]);
+    // 200 V fuse below the equipment's rated 230 V (mains.nominal_v, no
+    // input.highest_rated_v): blocking. The 250 V case is its own regression test.
+    let (o, r) = variant("fuse200", &[("rated_v = 300", "rated_v = 200")]);
     assert_exit(&o, 1);
     assert_eq!(
         the(&r, "power_entry.fuse_voltage_low")["severity"],
@@ -1259,7 +1263,8 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
     ] {
         assert!(row.contains(part), "{part} missing from {row}");
     }
-    // Every table row keeps its five cells.
+    // Every table row keeps its cells (three in the summary, six in a section, with the
+    // verdict column).
     for line in section
         .lines()
         .filter(|l| l.starts_with("| ") && l.contains(" | "))
@@ -1267,7 +1272,7 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
         let cells = line.matches(" | ").count() + 1;
         let unescaped_pipes = line.matches('|').count() - line.matches("\\|").count();
         assert!(
-            cells >= 2 && (unescaped_pipes == 3 || unescaped_pipes == 6),
+            cells >= 2 && (unescaped_pipes == 4 || unescaped_pipes == 7),
             "{line}"
         );
     }
