@@ -196,7 +196,7 @@ pub(super) fn evaluate(
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         if f.id == format!("{PE}.bulk_peak_v") {
             f.value = sig(Some(bulk_peak));
-            f.verdict = spec.bulk_rated_v.map(|r| Verdict::of(Some(bulk_peak > r)));
+            f.verdict = Some(Verdict::of(spec.bulk_rated_v.map(|r| bulk_peak > r)));
         }
     }
     if spec.bulk_rated_v.is_none() {

@@ -19,7 +19,7 @@ pub const STEP_TOLERANCE: f64 = 1e-5;
 const STEPS_PER_TIME_CONSTANT: f64 = 200.0;
 /// The most halvings of the step.
 const MAX_HALVINGS: usize = 6;
-/// The most steps of one run.
+/// The most steps of one run (the run stops earlier once the capacitor holds the crest).
 const MAX_STEPS: usize = 4_000_000;
 /// Half-cycles of the mains simulated from the crest (the first pulse and the next crest).
 const HALF_CYCLES: f64 = 2.0;
@@ -48,6 +48,9 @@ pub struct LrcInrush {
     pub step_s: f64,
     /// The step halvings agreed within [`STEP_TOLERANCE`].
     pub converged: bool,
+    /// The run reached its bound of steps before the pulse had ended.
+    #[serde(skip)]
+    pub truncated: bool,
 }
 
 impl LrcCircuit {
@@ -95,10 +98,12 @@ pub fn simulate(c: &LrcCircuit) -> Option<LrcInrush> {
     if !(h.is_finite() && h > 0.0) {
         return None;
     }
-    // Never more than MAX_STEPS in the finest run.
-    h = h.max(duration / MAX_STEPS as f64 * 2f64.powi(MAX_HALVINGS as i32));
     let mut previous = run(c, h, duration)?;
     for _ in 0..MAX_HALVINGS {
+        if previous.truncated {
+            // The step bound stopped the run before the pulse ended: not converged.
+            return Some(previous);
+        }
         h /= 2.0;
         let next = run(c, h, duration)?;
         let agree = |a: f64, b: f64| (a - b).abs() <= STEP_TOLERANCE * a.abs().max(b.abs());
@@ -121,10 +126,12 @@ fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
     let (l, r, cap) = (c.inductance_h, c.resistance_ohm, c.capacitance_f);
     let source = |t: f64| c.peak_v * (omega * t).cos().abs();
     let derivative = |t: f64, i: f64, v: f64| ((source(t) - v - r * i) / l, i / cap);
-    let steps = (duration / h).ceil() as usize;
-    if steps > MAX_STEPS * 2 {
+    let steps = (duration / h).ceil();
+    if !steps.is_finite() {
         return None;
     }
+    let steps = (steps as usize).min(MAX_STEPS);
+    let truncated = steps == MAX_STEPS;
     let (mut i, mut v) = (0.0f64, c.start_v);
     let mut out = LrcInrush {
         peak_a: 0.0,
@@ -133,12 +140,17 @@ fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
         peak_at_s: 0.0,
         step_s: h,
         converged: false,
+        truncated: false,
     };
     for n in 0..steps {
         let t = n as f64 * h;
         if i <= 0.0 && source(t) <= v {
-            // The bridge blocks: nothing flows, the capacitor holds (no load).
+            // The bridge blocks: nothing flows, the capacitor holds (no load). At or above
+            // the crest nothing can flow again: the event is over.
             i = 0.0;
+            if v >= c.peak_v {
+                return Some(out);
+            }
             continue;
         }
         let (k1i, k1v) = derivative(t, i, v);
@@ -169,5 +181,6 @@ fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
         }
         out.bulk_peak_v = out.bulk_peak_v.max(v);
     }
+    out.truncated = truncated;
     Some(out)
 }
