@@ -796,7 +796,14 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     let spec = b.spec;
     let load_w = conv.output_w / conv.efficiency;
     let (_, r_hot_lim) = limiter_ohms(&b.limiter);
-    let series = spec.series_resistance_ohm + r_hot_lim;
+    // The filter's differential-mode inductor sits in the line: its resistance is in the
+    // charging path in operation too.
+    let filter = b.project.emc.as_ref().map(|e| &e.filter);
+    let r_l = filter
+        .filter(|f| f.dm_inductance_uh.is_some())
+        .and_then(|f| f.dm_inductor_resistance_ohm)
+        .unwrap_or(0.0);
+    let series = spec.series_resistance_ohm + r_hot_lim + r_l;
     let c_f = spec.bulk_capacitance_uf * 1e-6;
     let mut circuit_inputs = vec![input(
         "R_s",
@@ -810,6 +817,14 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             r_hot_lim,
             "Ω",
             "limiter resistance in operation",
+        ));
+    }
+    if r_l > 0.0 {
+        circuit_inputs.push(input(
+            "R_L",
+            r_l,
+            "Ω",
+            "emc.filter.dm_inductor_resistance_ohm (the filter's inductor, in the line)",
         ));
     }
     circuit_inputs.extend([
@@ -914,7 +929,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     }
     let notes = vec![
         format!(
-            "Simulated in the time domain: ideal full-wave bridge (total drop V_d), series resistance R = R_s + limiter hot resistance, bulk capacitor C, constant-power load P = output_w / efficiency; adaptive step: from {} steps per half-cycle, doubled (up to {}) until the energy balances, |P_in - (P + R I_rms² + V_d I_avg)| within {} % of P_in, and the RMS current, repetitive peak and valley move by less than {} % (here {} and {} steps at low and high line); conduction steps implicit: backward Euler, then second-order BDF; the load-only discharge exactly, v² = v0² - 2 P t / C; periodic steady state when the bulk voltage repeats after a half-cycle within {:e} of the source peak (at most {} half-cycles).",
+            "Simulated in the time domain: ideal full-wave bridge (total drop V_d), series resistance R = R_s + limiter hot resistance (+ the filter inductor's resistance where declared), bulk capacitor C, constant-power load P = output_w / efficiency; adaptive step: from {} steps per half-cycle, doubled (up to {}) until the energy balances, |P_in - (P + R I_rms² + V_d I_avg)| within {} % of P_in, and the RMS current, repetitive peak and valley move by less than {} % (here {} and {} steps at low and high line); conduction steps implicit: backward Euler, then second-order BDF; the load-only discharge exactly, v² = v0² - 2 P t / C; periodic steady state when the bulk voltage repeats after a half-cycle within {:e} of the source peak (at most {} half-cycles).",
             rectifier::STEPS_PER_HALF_CYCLE,
             rectifier::MAX_STEPS_PER_HALF_CYCLE,
             show(rectifier::ENERGY_TOLERANCE * 100.0),
