@@ -205,6 +205,34 @@ pub(super) fn evaluate(
                 .to_string(),
         );
     }
+    // Figures judged in another section carry that section's verdict in their own row.
+    let copies: Vec<(String, Option<Verdict>)> = [
+        ("inrush_i2t_a2s", "fuse_required_i2t_a2s"),
+        ("hot_restart_i2t_a2s", "fuse_hot_restart_i2t_a2s"),
+        ("low_line.input_rms_a", "fuse_max_operating_a"),
+    ]
+    .iter()
+    .map(|(to, from)| {
+        let v = sections
+            .iter()
+            .flat_map(|s| s.figures.iter())
+            .find(|f| f.id == format!("{PE}.{from}"))
+            .and_then(|f| f.verdict);
+        (format!("{PE}.{to}"), v)
+    })
+    .collect();
+    for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
+        if let Some((_, v)) = copies.iter().find(|(id, _)| *id == f.id) {
+            f.verdict = *v;
+            f.rests_on = vec!["input".into(), "mains".into(), "converter".into(), "emc.filter.dm_".into()];
+        }
+        if f.id == format!("{PE}.discharge_residual_v") && discharge.residual_limit_v.is_some() {
+            f.verdict = Some(Verdict::of(match (discharge.exact_residual_v, discharge.residual_limit_v) {
+                (Some(v), Some(l)) => Some(v > l),
+                _ => None,
+            }));
+        }
+    }
     // A figure that rests on an implausible input is never `pass`.
     let suspicious: Vec<&str> = project
         .warnings
@@ -1446,6 +1474,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         residual_after_s: t_res,
         residual_v: sig(residual),
         residual_limit_v: rules.residual_limit_v.as_ref().map(|l| l.value),
+        exact_residual_v: residual,
     };
     let r_c_inputs = || {
         let mut v = Vec::new();

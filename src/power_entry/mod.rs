@@ -395,6 +395,8 @@ pub struct DischargeReport {
     pub residual_after_s: f64,
     pub residual_v: Option<f64>,
     pub residual_limit_v: Option<f64>,
+    #[serde(skip)]
+    pub exact_residual_v: Option<f64>,
 }
 
 /// One Y-capacitor from a mains or hazardous circuit to an accessible circuit.
@@ -596,6 +598,17 @@ fn explain_figure(out: &mut String, f: &Derived) {
     }
     if let Some(j) = &f.judged_against {
         out.push_str(&format!("  judged against: {j}\n"));
+    }
+    if let Some(v) = f.verdict {
+        out.push_str(&format!(
+            "  verdict: {} (on the unrounded figures{})\n",
+            v.as_str(),
+            if v == Verdict::CheckInput {
+                "; it rests on an input flagged implausible: check that input"
+            } else {
+                ""
+            }
+        ));
     }
 }
 
