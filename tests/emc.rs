@@ -1398,8 +1398,8 @@ fn regression_filter_attenuation_near_the_corner_uses_the_transfer_function() {
     // 47 ohm + 0.47 uF; f0 = 1 / (2 pi sqrt(L C)) = 23.2 kHz. Source 100 ohm (50 ohm per
     // line, the stated source impedance, from memory of CISPR 17's 50 ohm system), load the
     // two lines of the measuring network in series.
-    let (l, cx, rd, cd) = (470e-6, 0.1e-6, 47.0, 0.47e-6);
-    let f0 = 1.0 / (2.0 * PI * (l * cx as f64).sqrt());
+    let (l, cx, rd, cd): (f64, f64, f64, f64) = (470e-6, 0.1e-6, 47.0, 0.47e-6);
+    let f0 = 1.0 / (2.0 * PI * (l * cx).sqrt());
     let stage = TwoPort {
         series_inductance_h: l,
         series_resistance_ohm: 0.0,
@@ -1426,7 +1426,7 @@ fn regression_filter_attenuation_near_the_corner_uses_the_transfer_function() {
         let zl = network_line(f);
         let expected = abcd_insertion_loss_db(shunt, (0.0, w * l), 100.0, (2.0 * zl.0, 2.0 * zl.1));
         let z = line.impedance(f);
-        let engine = insertion_loss_db(&stage, 100.0, z.add(z), f);
+        let engine = insertion_loss_db(&stage, 100.0, z.plus(z), f);
         assert!((engine - expected).abs() < 1e-6, "at {f} Hz: {engine} vs {expected}");
         let asymptote = if f > f0 { 40.0 * (f / f0).log10() } else { 0.0 };
         worst_gap = worst_gap.max((expected - asymptote).abs());

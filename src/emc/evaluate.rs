@@ -750,13 +750,13 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     let dm_il = |hz: f64| {
         dm_stage.map(|st| {
             let z = line.impedance(hz);
-            insertion_loss_db(&st, dm_source, z.add(z), hz)
+            insertion_loss_db(&st, dm_source, z.plus(z), hz)
         })
     };
     let cm_il = |hz: f64| {
         cm_stage.map(|st| {
             let z = line.impedance(hz);
-            insertion_loss_db(&st, cm_source, z.div(Complex::new(2.0, 0.0)), hz)
+            insertion_loss_db(&st, cm_source, z.over(Complex::new(2.0, 0.0)), hz)
         })
     };
     let dm_after = dm_stage

@@ -152,16 +152,16 @@ impl Complex {
     pub const fn new(re: f64, im: f64) -> Self {
         Complex { re, im }
     }
-    pub fn add(self, o: Complex) -> Complex {
+    pub fn plus(self, o: Complex) -> Complex {
         Complex::new(self.re + o.re, self.im + o.im)
     }
-    pub fn mul(self, o: Complex) -> Complex {
+    pub fn times(self, o: Complex) -> Complex {
         Complex::new(
             self.re * o.re - self.im * o.im,
             self.re * o.im + self.im * o.re,
         )
     }
-    pub fn div(self, o: Complex) -> Complex {
+    pub fn over(self, o: Complex) -> Complex {
         let d = o.re * o.re + o.im * o.im;
         Complex::new(
             (self.re * o.re + self.im * o.im) / d,
@@ -173,7 +173,7 @@ impl Complex {
     }
     /// Two impedances in parallel.
     pub fn parallel(self, o: Complex) -> Complex {
-        self.mul(o).div(self.add(o))
+        self.times(o).over(self.plus(o))
     }
 }
 
@@ -216,10 +216,10 @@ pub fn insertion_loss_db(stage: &TwoPort, source_ohm: f64, load: Complex, freque
     }
     let series = Complex::new(stage.series_resistance_ohm, w * stage.series_inductance_h);
     // Without the stage: V0 = Vs Zl / (Zs + Zl).
-    let without = load.div(zs.add(load));
+    let without = load.over(zs.plus(load));
     // With it: Vx = Vs Zp / (Zs + Zp), Zp = shunt || (series + Zl); V = Vx Zl / (series + Zl).
-    let zp = shunt.parallel(series.add(load));
-    let with = zp.div(zs.add(zp)).mul(load.div(series.add(load)));
-    let ratio = without.div(with);
+    let zp = shunt.parallel(series.plus(load));
+    let with = zp.over(zs.plus(zp)).times(load.over(series.plus(load)));
+    let ratio = without.over(with);
     20.0 * ratio.abs().log10()
 }
