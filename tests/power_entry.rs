@@ -1801,4 +1801,13 @@ fn a_figure_resting_on_an_implausible_input_is_check_input_never_pass() {
     assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "pass");
     let md = stdout(&run(&["check", BASE]));
     assert!(!md.contains("check-input"));
+    // A Y capacitance a million times too small (1e-7 nF) is flagged; the touch current it
+    // gives passes, so its verdict is check-input.
+    let (_, r) = variant("suspicious-y", &[("capacitance_nf = 1.0", "capacitance_nf = 0.0000001")]);
+    assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "check-input");
+    let md = {
+        let o = run(&["check", BASE]);
+        stdout(&o)
+    };
+    assert!(md.contains("| verdict |"));
 }
