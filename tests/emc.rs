@@ -19,7 +19,7 @@ use serde_json::Value;
 
 use gapwarden::diag::Source;
 use gapwarden::emc::filter::{
-    Stage, inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, output_impedance_ohm,
+    Complex, NetworkLine, Stage, TwoPort, insertion_loss_db, inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, output_impedance_ohm,
     peak_output_impedance, ratio_for_peak,
 };
 use gapwarden::emc::limits::limit_dbuv;
@@ -245,9 +245,12 @@ fn required_attenuation_and_corners_of_one_prescan_point_match_a_hand_calculatio
     let (o, report) = check_json("emc-single-point.toml");
     assert_exit(&o, 0);
     let emc = &report["emc"];
-    // 110 dBuV quasi-peak at 195 kHz, class B, margin 6 dB. Limit from the published
-    // definition (REFERENCES.md worked check); attenuation = level - limit + margin.
-    let limit = sloped_limit(66.0, 56.0, 195e3);
+    // 110 dBuV quasi-peak at 195 kHz, class B, margin 6 dB. A quasi-peak reading is held
+    // to the average limit too (a switching harmonic is a continuous wave; REFERENCES.md,
+    // common practice of pre-compliance work), and the average line is the lower: class B
+    // AV 56 falling to 46 dBuV over 0.15-0.5 MHz, linear in log f (REFERENCES.md worked
+    // check: 53.82 dBuV at 195 kHz); attenuation = level - limit + margin.
+    let limit = sloped_limit(56.0, 46.0, 195e3);
     let attenuation = 110.0 - limit + 6.0;
     // A second-order low-pass falls 40 dB per decade above its corner (circuit theory), so
     // the highest corner giving A dB at f is f / 10^(A/40); two stages: f / 10^(A/80).
@@ -259,8 +262,8 @@ fn required_attenuation_and_corners_of_one_prescan_point_match_a_hand_calculatio
         1e-6,
         "governing frequency",
     );
-    assert_eq!(emc["governing_detector"], "quasi-peak");
-    close(num(&emc["limit_dbuv"]), 63.82, 0.005, "limit_dbuv");
+    assert_eq!(emc["governing_detector"], "average");
+    close(num(&emc["limit_dbuv"]), 53.82, 0.005, "limit_dbuv");
     close(
         num(&emc["required_attenuation_db"]),
         attenuation,
@@ -278,7 +281,7 @@ fn required_attenuation_and_corners_of_one_prescan_point_match_a_hand_calculatio
     close(num(&emc["cm_corner_hz"]), corner2, 1.0, "cm_corner_hz");
     // A corner is rounded towards the stricter (lower) side.
     assert!(num(&emc["dm_corner_hz"]) <= corner2);
-    // 52 dB is more than one stage gives in practice: the warning says so.
+    // 62 dB is more than one stage gives in practice: the warning says so.
     finding(&report, "emc.second_stage_needed");
     // Every DESIGN.md core field is present.
     for key in [
@@ -304,10 +307,12 @@ fn the_governing_point_is_the_one_that_forces_the_lowest_corner() {
     let emc = &report["emc"];
     // The fixture's four points, with their limits from the published definition
     // (REFERENCES.md, class B): a peak reading is held against the lower of the two
-    // limits (a peak is never below quasi-peak or average).
+    // limits (a peak is never below quasi-peak or average), and so is a quasi-peak reading
+    // (a switching harmonic is a continuous wave; REFERENCES.md, common practice): the
+    // average line, AV 56 falling to 46 dBuV over 0.15-0.5 MHz.
     let points = [
-        (195e3, 96.0, sloped_limit(66.0, 56.0, 195e3)), // quasi-peak
-        (390e3, 100.0, sloped_limit(66.0, 56.0, 390e3)), // quasi-peak
+        (195e3, 96.0, sloped_limit(56.0, 46.0, 195e3)), // quasi-peak, against average
+        (390e3, 100.0, sloped_limit(56.0, 46.0, 390e3)), // quasi-peak, against average
         (1.2e6, 78.0, 46.0),                            // average, 0.5-5 MHz
         (12e6, 70.0, 50.0),                             // peak against average, 5-30 MHz
     ];
@@ -390,9 +395,11 @@ fn lc_corner_and_the_inductance_for_a_corner_follow_f0_equals_1_over_2_pi_sqrt_l
         0.001,
         "R0",
     );
-    // Its corner is above the one the 120 dBuV point needs (class A QP 79 dBuV at 200 kHz,
-    // from the published lines; margin 3 dB): a warning, with the inductance that would do.
-    let a = 120.0 - 79.0 + 3.0;
+    // Its corner is above the one the 120 dBuV quasi-peak point needs, held to the class A
+    // average line (AV 66 dBuV at 200 kHz, from the published lines; a quasi-peak reading
+    // meets the average limit too, REFERENCES.md; margin 3 dB): a warning, with the
+    // inductance that would do.
+    let a = 120.0 - 66.0 + 3.0;
     let needed = 200e3 / 10f64.powf(a / 40.0);
     close(
         num(&report["emc"]["dm_corner_hz"]),
@@ -598,13 +605,17 @@ fn an_undamped_lossless_stage_has_no_finite_peak_and_a_lossy_one_peaks_at_r0_squ
 
 #[test]
 fn middlebrook_is_judged_end_to_end_with_the_converter_and_proposes_damping() {
-    let (o, report) = check_json("emc-estimate.toml");
+    // The converter has a PFC stage (converter.pfc_stage = true): the filter sees its
+    // negative input resistance at the line voltage, where the criterion holds.
+    let (o, report) = check_json("emc-estimate-pfc.toml");
     assert_exit(&o, 0);
     let m = &report["emc"]["middlebrook"];
     assert_eq!(m["filter"], "declared");
-    // |Z_in| = V^2 / P at the lowest bulk voltage, P = P_out / efficiency (Erickson and
-    // Maksimovic, 2nd ed., ch. 10, a constant-power load's negative input resistance).
-    let z_in = 70.0 * 70.0 / (24.0 / 0.86);
+    assert_eq!(report["emc"]["middlebrook_applies"], true);
+    // |Z_in| = V^2 / P at the lowest line voltage (90 V rms in the fixture), P = P_out /
+    // efficiency (Erickson and Maksimovic, 2nd ed., ch. 10, a constant-power load's
+    // negative input resistance).
+    let z_in = 90.0 * 90.0 / (24.0 / 0.86);
     close(
         num(&m["converter_input_impedance_ohm"]),
         z_in,
@@ -739,7 +750,9 @@ fn the_estimated_differential_mode_level_matches_a_hand_calculation() {
     close(first.level_dbuv, level, 0.01, "DM level at 195 kHz");
     close(level, 89.39, 0.01, "hand calculation");
     // Every harmonic in the band is there, at n x fs.
-    assert_eq!(dm.len(), 461 - 3 + 1);
+    // Every harmonic in the band but the nulls of the pulse train: sin(n pi 0.45) = 0 where
+    // 0.45 n is whole, n = 20, 40, ..., 460 (23 of them), left out.
+    assert_eq!(dm.len(), 461 - 3 + 1 - 23);
     assert!(
         dm.iter()
             .all(|h| (h.frequency_hz - h.number as f64 * 65e3).abs() < 1e-6)
@@ -748,6 +761,8 @@ fn the_estimated_differential_mode_level_matches_a_hand_calculation() {
     let path = CommonModePath {
         switch_node_swing_v: 746.7,
         parasitic_capacitance_pf: 20.0,
+        // A rectangle (no edge time): the hand calculation below.
+        rise_time_s: 0.0,
     };
     let cm = common_mode(&c, &path, &network, (150e3, 30e6)).expect("estimate");
     let v3 = 2.0 * 746.7 * (3.0 * PI * 0.45).sin().abs() / (3.0 * PI);
@@ -802,8 +817,10 @@ fn the_estimate_runs_end_to_end_from_the_converter_and_input_tables() {
         0.005,
         "average limit at 195 kHz",
     );
-    // Every harmonic was evaluated, both modes.
-    assert_eq!(emc["harmonics_evaluated"], 2 * 459);
+    // Every harmonic was evaluated, both modes, but the nulls of the pulse train
+    // (sin(n pi 0.45) = 0 at n = 20, 40, ..., 460: 23 of the 459 in the band); the
+    // trapezoid's first null, n = 1 / (65 kHz x 10 ns) = 1538, lies above the band.
+    assert_eq!(emc["harmonics_evaluated"], 2 * (459 - 23));
 }
 
 #[test]
@@ -1019,7 +1036,9 @@ fn the_html_report_carries_the_chart_and_the_markdown_carries_the_table() {
     assert_eq!(rows.len(), 4, "{section}");
     assert!(rows[0].starts_with("| 195 |"), "{}", rows[0]);
     assert!(section.contains("fc = f / 10^(A / 40)"));
-    assert!(section.contains("63.82 dBµV"));
+    // The 195 kHz quasi-peak reading is held to the average limit too (REFERENCES.md):
+    // class B AV 53.82 dBuV there.
+    assert!(section.contains("53.82 dBµV"));
 }
 
 #[test]
@@ -1184,7 +1203,8 @@ fn explain_prints_the_corner_and_its_formula() {
     let o = run(&["explain", &fixture("emc-single-point.toml"), "emc.corner"]);
     assert_exit(&o, 0);
     let text = stdout(&o);
-    let a = 110.0 - sloped_limit(66.0, 56.0, 195e3) + 6.0;
+    // Quasi-peak held to the average line (REFERENCES.md): AV 56 falling to 46 dBuV.
+    let a = 110.0 - sloped_limit(56.0, 46.0, 195e3) + 6.0;
     let corner = 195e3 / 10f64.powf(a / 40.0);
     assert!(text.contains("fc = f / 10^(A / 40)"), "{text}");
     // The corner as printed, just before "Hz, set by the point".
@@ -1202,7 +1222,322 @@ fn explain_prints_the_corner_and_its_formula() {
     ]);
     assert_exit(&o, 0);
     assert!(stdout(&o).contains("C = I / (2 pi f V)"));
-    let o = run(&["explain", &fixture("emc-estimate.toml"), "emc.middlebrook"]);
+    let o = run(&["explain", &fixture("emc-estimate-pfc.toml"), "emc.middlebrook"]);
     assert_exit(&o, 0);
     assert!(stdout(&o).contains("Proposed parallel R-C damping"));
+    // Without a PFC stage the criterion is not applied, and explain says why.
+    let o = run(&["explain", &fixture("emc-estimate.toml"), "emc.middlebrook"]);
+    assert_exit(&o, 0);
+    assert!(stdout(&o).contains("not applied"), "{}", stdout(&o));
+}
+
+// ---------------------------------------------------------------------------------------
+// Issue 10: items 6, 10, 11, 12, 15, 16 and 21
+// ---------------------------------------------------------------------------------------
+
+/// A fixture with each `(from, to)` replaced once, written to a scratch file and checked.
+fn emc_variant(name: &str, tag: &str, changes: &[(&str, &str)]) -> (Output, Value) {
+    let mut text = std::fs::read_to_string(root().join(fixture(name))).expect("fixture");
+    for (from, to) in changes {
+        assert!(text.contains(from), "{name} lacks {from:?}");
+        text = text.replacen(from, to, 1);
+    }
+    let dir = std::env::temp_dir().join(format!("gapwarden-emc-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch");
+    let path = dir.join(format!("{tag}.toml"));
+    std::fs::write(&path, text).expect("write");
+    let o = run(&["check", path.to_str().expect("UTF-8"), "--format", "json"]);
+    let _ = std::fs::remove_dir_all(&dir);
+    let v = serde_json::from_slice(&o.stdout)
+        .unwrap_or_else(|e| panic!("stdout is not JSON: {e}\n{}", describe(&o)));
+    (o, v)
+}
+
+#[test]
+fn regression_y_capacitance_each_line_from_the_parts_is_not_counted_twice() {
+    // Two 4.7 nF Y capacitors, one from each line to earth: together they are the whole
+    // common-mode capacitance, 9.4 nF (capacitors in parallel, circuit theory), not 18.8.
+    let (_, r) = check_json("pe-class1-each-line.toml");
+    let emc = &r["emc"];
+    assert_eq!(emc["y_arrangement"], "each-line");
+    close(num(&emc["cm_capacitance_used_nf"]), 9.4, 1e-9, "C_cm");
+    close(num(&emc["y_capacitance_nf"]), 4.7, 1e-9, "per line");
+    close(num(&emc["filter"]["cm_capacitance_nf"]), 9.4, 1e-9, "declared C_cm");
+    // Declared 10 mH: f0 = 1 / (2 pi sqrt(10 mH x 9.4 nF)) = 16.416 kHz.
+    let f0 = 1.0 / (2.0 * PI * (10e-3_f64 * 9.4e-9).sqrt());
+    close(num(&emc["filter"]["cm_corner_hz"]), f0, 0.5, "declared cm corner");
+    // The prescan point 80 dBuV average at 1 MHz, class B AV 46 dBuV (REFERENCES.md),
+    // margin 6: A = 40 dB, corner f / 10^(A/40) = 100 kHz; the choke for it with 9.4 nF:
+    // L = 1 / ((2 pi 100 kHz)^2 9.4 nF) = 0.2695 mH (twice what 18.8 nF would have asked).
+    close(num(&emc["cm_corner_hz"]), 100e3, 1.0, "required corner");
+    let l = 1.0 / ((2.0 * PI * 100e3).powi(2) * 9.4e-9) * 1e3;
+    close(num(&emc["cm_inductance_for_corner_mh"]), l, 1e-4, "choke, mH");
+}
+
+#[test]
+fn regression_a_quasi_peak_only_reading_is_held_to_the_average_limit_too() {
+    // 55 dBuV quasi-peak at 1 MHz, class B: QP limit 56, AV limit 46 dBuV (REFERENCES.md,
+    // confirmed). A switching harmonic is a continuous wave, for which the average detector
+    // reads about what quasi-peak reads (REFERENCES.md, common practice of pre-compliance
+    // work): held to 46 dBuV with the 6 dB margin, it needs 55 - 46 + 6 = 15 dB, not 5.
+    let (_, r) = emc_variant(
+        "emc-single-point.toml",
+        "qp-only",
+        &[("frequency_hz = 195000", "frequency_hz = 1000000"), ("level_dbuv = 110", "level_dbuv = 55")],
+    );
+    let emc = &r["emc"];
+    assert_eq!(emc["governing_detector"], "average");
+    close(num(&emc["limit_dbuv"]), 46.0, 1e-9, "limit");
+    close(num(&emc["required_attenuation_db"]), 15.0, 1e-9, "attenuation");
+    assert_eq!(emc["points"][0]["detector"], "quasi-peak");
+    assert_eq!(emc["points"][0]["compared_with"], "average");
+}
+
+#[test]
+fn regression_zero_amplitude_harmonics_are_left_out_of_the_estimate() {
+    // At a 50 % duty every even harmonic of a rectangular pulse train is zero
+    // (2 A |sin(n pi / 2)| / (n pi) = 0 for even n, Fourier series): no -216 dBuV rows.
+    let mut c = converter();
+    c.max_duty = 0.5;
+    let bulk = BulkCapacitor {
+        capacitance_uf: 47.0,
+        esr_ohm: 0.5,
+    };
+    let network = Network {
+        line_impedance_ohm: 50.0,
+        common_mode_impedance_ohm: 25.0,
+    };
+    let dm = differential_mode(&c, &bulk, &network, (150e3, 30e6)).expect("estimate");
+    let path = CommonModePath {
+        switch_node_swing_v: 746.7,
+        parasitic_capacitance_pf: 20.0,
+        rise_time_s: 10e-9,
+    };
+    let cm = common_mode(&c, &path, &network, (150e3, 30e6)).expect("estimate");
+    for h in dm.iter().chain(cm.iter()) {
+        assert!(h.number % 2 == 1, "even harmonic {} kept", h.number);
+        assert!(h.level_dbuv > 0.0, "harmonic {} at {} dBuV", h.number, h.level_dbuv);
+    }
+    // Odd harmonics 3 to 461 are all there: 230 of them, per mode.
+    assert_eq!(dm.len(), 230);
+    assert_eq!(cm.len(), 230);
+}
+
+#[test]
+fn the_common_mode_estimate_uses_the_trapezoid_spectrum_of_the_switch_node() {
+    // A trapezoid of height A, width D T at half height and rise = fall = t_r: its
+    // harmonics, by direct numerical Fourier integration here, against the engine's
+    // rectangle x |sin(x)/x|, x = pi n f t_r (falling 40 dB/decade above 1 / (pi t_r)).
+    let (swing, duty, fs, tr) = (700.0, 0.45, 65e3, 100e-9);
+    let r = tr * fs; // rise as a fraction of the period
+    let wave = move |t: f64| {
+        if t < r {
+            swing * t / r
+        } else if t < duty {
+            swing
+        } else if t < duty + r {
+            swing * (1.0 - (t - duty) / r)
+        } else {
+            0.0
+        }
+    };
+    let mut c = converter();
+    c.switching_hz = fs;
+    c.max_duty = duty;
+    let network = Network {
+        line_impedance_ohm: 50.0,
+        common_mode_impedance_ohm: 25.0,
+    };
+    let path = CommonModePath {
+        switch_node_swing_v: swing,
+        parasitic_capacitance_pf: 20.0,
+        rise_time_s: tr,
+    };
+    let cm = common_mode(&c, &path, &network, (150e3, 30e6)).expect("estimate");
+    for n in [3u64, 49, 151, 301, 449] {
+        let h = cm.iter().find(|h| h.number == n).expect("harmonic");
+        let numeric = numerical_harmonic(wave, n as u32, 2_000_000);
+        let db = 20.0 * (h.source_peak / numeric).log10();
+        assert!(db.abs() < 0.05, "n = {n}: engine {}, numerical {numeric} ({db} dB)", h.source_peak);
+    }
+    // The report states the default rise time where none is declared.
+    let (_, report) = check_json("emc-estimate.toml");
+    assert!(
+        report["emc"]["assumptions"].to_string().contains("rise time 10 ns"),
+        "{}",
+        report["emc"]["assumptions"]
+    );
+}
+
+/// Insertion loss by chain (ABCD) matrices, written independently of the engine: a shunt
+/// impedance then a series one, between a source Zs and a load Zl:
+/// IL = |A Zl + B + C Zs Zl + D Zs| / |Zl + Zs| (circuit theory, two-port networks).
+fn abcd_insertion_loss_db(shunt: (f64, f64), series: (f64, f64), zs: f64, zl: (f64, f64)) -> f64 {
+    type C = (f64, f64);
+    let mul = |a: C, b: C| (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0);
+    let add = |a: C, b: C| (a.0 + b.0, a.1 + b.1);
+    let inv = |a: C| {
+        let d = a.0 * a.0 + a.1 * a.1;
+        (a.0 / d, -a.1 / d)
+    };
+    // [[1, 0], [Y, 1]] x [[1, Z], [0, 1]] = [[1, Z], [Y, Y Z + 1]]
+    let y = inv(shunt);
+    let (a, b, c, d) = ((1.0, 0.0), series, y, add(mul(y, series), (1.0, 0.0)));
+    let s: C = (zs, 0.0);
+    let num = add(add(mul(a, zl), b), add(mul(mul(c, s), zl), mul(d, s)));
+    let den = add(zl, s);
+    20.0 * (num.0.hypot(num.1) / den.0.hypot(den.1)).log10()
+}
+
+/// 50 ohm in parallel with j w 50 uH (CISPR 16-1-2 measuring network, one line).
+fn network_line(f: f64) -> (f64, f64) {
+    let x = 2.0 * PI * f * 50e-6;
+    // R || jX = R X^2 / (R^2 + X^2) + j R^2 X / (R^2 + X^2)
+    let d = 50.0 * 50.0 + x * x;
+    (50.0 * x * x / d, 50.0 * 50.0 * x / d)
+}
+
+#[test]
+fn regression_filter_attenuation_near_the_corner_uses_the_transfer_function() {
+    // The shipped Class II example's differential-mode stage: 470 uH, 0.1 uF X, damped by
+    // 47 ohm + 0.47 uF; f0 = 1 / (2 pi sqrt(L C)) = 23.2 kHz. Source 100 ohm (50 ohm per
+    // line, the stated source impedance, from memory of CISPR 17's 50 ohm system), load the
+    // two lines of the measuring network in series.
+    let (l, cx, rd, cd): (f64, f64, f64, f64) = (470e-6, 0.1e-6, 47.0, 0.47e-6);
+    let f0 = 1.0 / (2.0 * PI * (l * cx).sqrt());
+    let stage = TwoPort {
+        series_inductance_h: l,
+        series_resistance_ohm: 0.0,
+        shunt_capacitance_f: cx,
+        damping: Some((rd, cd)),
+    };
+    let line = NetworkLine {
+        resistance_ohm: 50.0,
+        inductance_h: 50e-6,
+    };
+    let mut worst_gap: f64 = 0.0;
+    for k in 0..=40 {
+        let f = f0 * 10f64.powf(-0.3 + 1.3 * k as f64 / 40.0);
+        let w = 2.0 * PI * f;
+        // Shunt: 1/(j w C) in parallel with Rd + 1/(j w Cd).
+        let zc = (0.0, -1.0 / (w * cx));
+        let zd = (rd, -1.0 / (w * cd));
+        let shunt = {
+            let p = (zc.0 * zd.0 - zc.1 * zd.1, zc.0 * zd.1 + zc.1 * zd.0);
+            let s = (zc.0 + zd.0, zc.1 + zd.1);
+            let d = s.0 * s.0 + s.1 * s.1;
+            ((p.0 * s.0 + p.1 * s.1) / d, (p.1 * s.0 - p.0 * s.1) / d)
+        };
+        let zl = network_line(f);
+        let expected = abcd_insertion_loss_db(shunt, (0.0, w * l), 100.0, (2.0 * zl.0, 2.0 * zl.1));
+        let z = line.impedance(f);
+        let engine = insertion_loss_db(&stage, 100.0, z.plus(z), f);
+        assert!((engine - expected).abs() < 1e-6, "at {f} Hz: {engine} vs {expected}");
+        let asymptote = if f > f0 { 40.0 * (f / f0).log10() } else { 0.0 };
+        worst_gap = worst_gap.max((expected - asymptote).abs());
+    }
+    // Within about an octave of the corner the asymptote is several dB off.
+    assert!(worst_gap > 3.0, "{worst_gap}");
+    let _ = Complex::new(0.0, 0.0);
+
+    // End to end: the example's 195 kHz point (mode unknown) takes the smaller of the two
+    // modes' insertion losses; common mode: 33 mH with 1 nF ("single"), source 25 ohm
+    // (both lines' 50 ohm in parallel), load the two lines in parallel.
+    let (_, r) = run_json_example();
+    let p = r["emc"]["points"]
+        .as_array()
+        .expect("points")
+        .iter()
+        .find(|p| num(&p["frequency_hz"]) == 195e3)
+        .expect("195 kHz")
+        .clone();
+    let f = 195e3;
+    let w = 2.0 * PI * f;
+    let zc = (0.0, -1.0 / (w * cx));
+    let zd = (rd, -1.0 / (w * cd));
+    let shunt = {
+        let p = (zc.0 * zd.0 - zc.1 * zd.1, zc.0 * zd.1 + zc.1 * zd.0);
+        let s = (zc.0 + zd.0, zc.1 + zd.1);
+        let d = s.0 * s.0 + s.1 * s.1;
+        ((p.0 * s.0 + p.1 * s.1) / d, (p.1 * s.0 - p.0 * s.1) / d)
+    };
+    let zl = network_line(f);
+    // The example declares the inductor's 2.2 ohm winding resistance, in series with it.
+    let dm = abcd_insertion_loss_db(shunt, (2.2, w * l), 100.0, (2.0 * zl.0, 2.0 * zl.1));
+    let cm = abcd_insertion_loss_db((0.0, -1.0 / (w * 1e-9)), (0.0, w * 33e-3), 25.0, (zl.0 / 2.0, zl.1 / 2.0));
+    close(num(&p["filter_attenuation_db"]), dm.min(cm), 0.006, "attenuation at 195 kHz");
+    // 90 dBuV quasi-peak held to the class B average 53.82 dBuV with 6 dB margin: after
+    // the filter it must be at most 47.82 dBuV.
+    let after = 90.0 - dm.min(cm);
+    assert_eq!(p["verdict"], if after > 53.82 - 6.0 { "fail" } else { "pass" });
+}
+
+fn run_json_example() -> (Output, Value) {
+    let o = run(&["check", "examples/class2-adapter.toml", "--format", "json"]);
+    let v = serde_json::from_slice(&o.stdout).expect("JSON");
+    (o, v)
+}
+
+#[test]
+fn middlebrook_is_not_applied_behind_a_bridge_and_a_bulk_capacitor_and_a_note_says_why() {
+    // Behind a bridge and a 47 uF bulk capacitor the filter does not see the converter's
+    // negative resistance (Erickson and Maksimovic, 2nd ed., ch. 10, from memory: the
+    // criterion is for a converter fed through the filter directly): not applied.
+    let (_, r) = check_json("emc-estimate.toml");
+    let emc = &r["emc"];
+    assert!(emc["middlebrook"].is_null());
+    assert_eq!(emc["middlebrook_applies"], false);
+    assert!(emc["middlebrook_not_applied"].as_str().is_some_and(|s| s.contains("PFC")));
+    assert_eq!(finding(&r, "emc.middlebrook_not_applicable")["severity"], "note");
+    let ids = finding_ids(&r);
+    assert!(!ids.iter().any(|i| i == "emc.middlebrook_violated" || i == "emc.middlebrook_not_judged"), "{ids:?}");
+}
+
+#[test]
+fn every_judged_emc_figure_carries_a_verdict_and_an_implausible_input_never_passes() {
+    let (_, r) = run_json_example();
+    let emc = &r["emc"];
+    for key in ["y_capacitance_nf", "dm_corner_hz", "cm_corner_hz", "points"] {
+        let v = emc["verdicts"][key].as_str().unwrap_or_else(|| panic!("no verdict {key}"));
+        assert!(["pass", "fail", "not-judged", "check-input"].contains(&v), "{key}: {v}");
+    }
+    for p in emc["points"].as_array().expect("points") {
+        assert!(p["verdict"].is_string(), "{p}");
+    }
+    let md = stdout(&run(&["check", "examples/class2-adapter.toml"]));
+    assert!(md.contains("| after, dBµV | verdict |"));
+    assert!(md.contains("| figure | value | formula | verdict |"));
+    // A margin of 25 dB is accepted but implausible (input.suspicious_value): the point it
+    // judges needs no attenuation (20 - 53.82 + 25 < 0), so it would pass; it is
+    // check-input instead.
+    let (_, r) = emc_variant(
+        "emc-single-point.toml",
+        "suspicious-margin",
+        &[("margin_db = 6", "margin_db = 25"), ("level_dbuv = 110", "level_dbuv = 20")],
+    );
+    assert!(finding_ids(&r).iter().any(|i| i == "input.suspicious_value"));
+    assert_eq!(r["emc"]["points"][0]["verdict"], "check-input");
+    assert_eq!(r["emc"]["verdicts"]["points"], "check-input");
+}
+
+#[test]
+fn regression_emc_verdicts_compare_exact_corners_not_the_printed_ones() {
+    // The declared corner and the required one are printed to 1 Hz; the verdict compares
+    // the unrounded corners. Declared 1 mH with 0.1 uF: f0 = 15915.494 Hz (circuit theory).
+    // A point that needs a corner between 15915.0 and 15915.494 Hz must fail, although
+    // both print as 15915 Hz: a quasi-peak level L at 200 kHz held to the class A average
+    // 66 dBuV (REFERENCES.md), margin 3 dB; corner = 200 kHz / 10^((L - 66 + 3) / 40);
+    // solve for 15915.2 Hz.
+    let f0 = 1.0 / (2.0 * PI * (1e-3_f64 * 0.1e-6).sqrt());
+    let target = 15915.2;
+    assert!(target < f0 && target.floor() == f0.floor());
+    let level = 40.0 * (200e3 / target).log10() + 66.0 - 3.0;
+    let (_, r) = emc_variant(
+        "emc-declared-filter.toml",
+        "exact-corner",
+        &[("level_dbuv = 120", &format!("level_dbuv = {level}"))],
+    );
+    let emc = &r["emc"];
+    assert_eq!(num(&emc["dm_corner_hz"]).floor(), num(&emc["filter"]["dm_corner_hz"]).floor());
+    assert_eq!(emc["verdicts"]["dm_corner_hz"], "fail");
 }

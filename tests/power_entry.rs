@@ -479,8 +479,11 @@ fn a_very_large_capacitor_holds_the_valley_near_the_peak_and_narrows_the_pulses(
     for c in [470e-6, 4.7e-3, 47e-3, 1.0] {
         let s = steady_state(&design(c));
         assert!(s.sustained && s.converged, "C = {c}: {s:?}");
+        // Conduction is counted in whole steps, and the adaptive step may differ between
+        // two designs: allow one step of the coarser of the two.
+        let step_ms = 10.0 / s.steps_per_half_cycle.min(last.steps_per_half_cycle) as f64;
         assert!(
-            s.conduction_ms <= last.conduction_ms + 1e-9,
+            s.conduction_ms <= last.conduction_ms + step_ms + 1e-9,
             "C = {c}: pulses widened"
         );
         assert!(s.bulk_ripple_v < last.bulk_ripple_v, "C = {c}: ripple grew");
@@ -677,7 +680,7 @@ fn fuse_passes_with_margin_and_each_rating_fails_on_its_own() {
     // Base: 2 A fuse, 0.75 * 2 = 1.5 A above the ~0.55 A input RMS current (derating 0.75:
     // common practice, no published source); melting I²t 8 A²s above 5 * 0.312 = 1.56 A²s
     // (pulse factor about 5 for time-lag fuses: common practice, from memory); 300 V above
-    // 264 V; breaks 35 A against a declared 35 A.
+    // the rated 230 V (and the 264 V maximum); breaks 35 A against a declared 35 A.
     for id in [
         "power_entry.fuse_missing",
         "power_entry.fuse_rating_low",
@@ -708,8 +711,9 @@ fn fuse_passes_with_margin_and_each_rating_fails_on_its_own() {
     assert_exit(&o, 1);
     assert_eq!(the(&r, "power_entry.fuse_i2t_low")["severity"], "blocking");
 
-    // 250 V fuse on a 264 V maximum.
-    let (o, r) = variant("fuse250", &[("rated_v = 300", "rated_v = 250")]);
+    // 200 V fuse below the equipment's rated 230 V (mains.nominal_v, no
+    // input.highest_rated_v): blocking. The 250 V case is its own regression test.
+    let (o, r) = variant("fuse200", &[("rated_v = 300", "rated_v = 200")]);
     assert_exit(&o, 1);
     assert_eq!(
         the(&r, "power_entry.fuse_voltage_low")["severity"],
@@ -1259,7 +1263,8 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
     ] {
         assert!(row.contains(part), "{part} missing from {row}");
     }
-    // Every table row keeps its five cells.
+    // Every table row keeps its cells (three in the summary, six in a section, with the
+    // verdict column).
     for line in section
         .lines()
         .filter(|l| l.starts_with("| ") && l.contains(" | "))
@@ -1267,7 +1272,7 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
         let cells = line.matches(" | ").count() + 1;
         let unescaped_pipes = line.matches('|').count() - line.matches("\\|").count();
         assert!(
-            cells >= 2 && (unescaped_pipes == 3 || unescaped_pipes == 6),
+            cells >= 2 && (unescaped_pipes == 4 || unescaped_pipes == 7),
             "{line}"
         );
     }
@@ -1427,4 +1432,382 @@ severity = "blocking"
         the(&r, "power_entry.hot_restart_over_bridge_surge")["severity"],
         "blocking"
     );
+}
+
+// ---------------------------------------------------------------------------------------
+// Issue 10: figures a reviewer can trust (items 7, 8, 9, 13, 14, 16, 21)
+// ---------------------------------------------------------------------------------------
+
+/// `base` (relative to the crate root) with each `(from, to)` replaced once, checked as JSON.
+fn variant_of(base: &str, tag: &str, changes: &[(&str, &str)]) -> (Output, Value) {
+    let mut text = std::fs::read_to_string(root().join(base)).expect("base file");
+    for (from, to) in changes {
+        assert!(text.contains(from), "{base} lacks {from:?}");
+        text = text.replacen(from, to, 1);
+    }
+    let scratch = Scratch::new(tag);
+    let path = scratch.0.join(format!("{tag}.toml"));
+    std::fs::write(&path, text).expect("write variant");
+    check_json(path.to_str().expect("UTF-8 path"))
+}
+
+const EACH_LINE: &str = "tests/fixtures/pe-class1-each-line.toml";
+const CLASS2_EXAMPLE: &str = "examples/class2-adapter.toml";
+
+fn figure<'a>(report: &'a Value, id: &str) -> &'a Value {
+    report["power_entry"]["sections"]
+        .as_array()
+        .expect("sections")
+        .iter()
+        .flat_map(|s| s["figures"].as_array().expect("figures").iter())
+        .find(|f| f["id"] == id)
+        .unwrap_or_else(|| panic!("no figure {id}"))
+}
+
+#[test]
+fn regression_touch_current_with_pe_open_counts_only_the_line_side_y_capacitor() {
+    // Class I, one 4.7 nF Y capacitor from each line to the earthed chassis. With the
+    // protective earth open the body (about 2 kOhm) shorts the neutral-side capacitor (its
+    // reactance 1 / (2 pi 50 Hz 4.7 nF) = 677 kOhm), so only the line side drives current:
+    // I = 2 pi f V C (circuit theory) = 2 pi x 50 x 253 V x 4.7 nF = 0.37357 mA, not twice that.
+    let (o, r) = check_json(EACH_LINE);
+    assert_exit(&o, 0);
+    let t = &r["power_entry"]["touch"][0];
+    assert_eq!(t["arrangement"], "each-line");
+    let line_side = 2.0 * PI * 50.0 * 253.0 * 4.7e-9 * 1e3;
+    assert_close("touch current", &t["current_ma"], line_side);
+    assert_close("counted capacitance", &t["counted_nf"], 4.7);
+    assert_close("touch_current_ma", &r["power_entry"]["touch_current_ma"], line_side);
+    // The model is stated in the derivation.
+    let steps = figure(&r, "power_entry.touch.chassis")["steps"].to_string();
+    assert!(steps.contains("shorts the neutral-side capacitor"), "{steps}");
+    // IEC 60950-1 Table 5A, Class I other than hand-held: 3.5 mA (confirmed in substance).
+    assert_eq!(r["power_entry"]["verdicts"]["touch.chassis"], "pass");
+
+    // Unequal parts (2.2 nF and 4.7 nF): the plug may be reversed, so the larger side
+    // drives it: 2 pi x 50 x 253 x 4.7 nF again.
+    let (_, r) = variant_of(EACH_LINE, "touch-unequal", &[("capacitance_nf = 4.7", "capacitance_nf = 2.2")]);
+    assert_close("unequal", &r["power_entry"]["touch"][0]["current_ma"], line_side);
+
+    // A single Y capacitance from the rectified primary counts every capacitor at the full
+    // mains voltage (an upper bound): 2 pi x 50 x 253 x 9.4 nF.
+    let (_, r) = variant_of(EACH_LINE, "touch-single", &[("y_arrangement = \"each-line\"", "y_arrangement = \"single\"")]);
+    assert_close(
+        "single",
+        &r["power_entry"]["touch"][0]["current_ma"],
+        2.0 * PI * 50.0 * 253.0 * 9.4e-9 * 1e3,
+    );
+}
+
+#[test]
+fn regression_x_discharge_counts_the_damping_capacitor_across_the_line() {
+    // The shipped Class II example: 0.1 uF X plus the 0.47 uF of the R-C damping network,
+    // both across the line (circuit theory; REFERENCES.md power entry): 0.57 uF, above the
+    // 0.1 uF of IEC 60950-1 clause 2.1.1.7 (confirmed through a quotation), so a discharge
+    // means is required. tau = 1 MOhm x 0.57 uF = 0.57 s (<= 1 s for pluggable type A);
+    // 2 s after disconnection at the crest of 264 V: 373.35 V x e^(-2 / 0.57) = 11.18 V.
+    let (_, r) = check_json(CLASS2_EXAMPLE);
+    let d = &r["power_entry"]["discharge"];
+    assert_close("across the line", &d["across_line_uf"], 0.57);
+    assert_eq!(d["required"], true);
+    assert_close("tau", &r["power_entry"]["discharge_time_constant_s"], 0.57);
+    let residual = SQRT_2 * 264.0 * (-2.0f64 / 0.57).exp();
+    assert_close("residual", &d["residual_v"], residual);
+    assert!((residual - 11.18).abs() < 0.01, "{residual}");
+    assert_eq!(r["power_entry"]["verdicts"]["discharge_time_constant_s"], "pass");
+    // Without the bleeder: blocking, where 0.1 uF alone needed nothing.
+    let (o, r) = variant_of(CLASS2_EXAMPLE, "no-bleeder", &[("bleeder_ohm = 1.0e6", "# no bleeder"), ("bleeder_fault_tolerant = false", "")]);
+    assert_exit(&o, 1);
+    assert_eq!(the(&r, "power_entry.x_discharge_missing")["severity"], "blocking");
+    assert!(message(the(&r, "power_entry.x_discharge_missing")).contains("0.57"));
+    // A 2.2 MOhm bleeder: 1.254 s > 1 s, blocking.
+    let (_, r) = variant_of(CLASS2_EXAMPLE, "slow-bleeder", &[("bleeder_ohm = 1.0e6", "bleeder_ohm = 2.2e6")]);
+    assert_eq!(r["power_entry"]["verdicts"]["discharge_time_constant_s"], "fail");
+    assert_eq!(the(&r, "power_entry.x_discharge_slow")["severity"], "blocking");
+}
+
+#[test]
+fn a_permanently_connected_input_states_why_no_discharge_limit_applies() {
+    // 0.47 uF on permanently connected equipment: IEC 60950-1 clause 2.1.1.7 is written for
+    // pluggable equipment (types A and B; confirmed through a quotation): a note with the
+    // reason, never blocking, and the residual voltage still reported.
+    let (o, r) = variant_of(EACH_LINE, "permanent", &[("x_capacitance_uf = 0.047", "x_capacitance_uf = 0.47")]);
+    assert_exit(&o, 0);
+    let d = &r["power_entry"]["discharge"];
+    assert_eq!(d["required"], false);
+    assert!(d["not_applicable_reason"].as_str().is_some_and(|s| s.contains("plug")));
+    assert_eq!(the(&r, "power_entry.x_discharge_not_applicable")["severity"], "note");
+    assert!(!has(&r, "power_entry.x_discharge_missing"));
+    // No bleeder: nothing is credited, the crest 253 sqrt(2) V remains.
+    assert_close("residual", &d["residual_v"], 253.0 * SQRT_2);
+}
+
+/// An independent integration of the switch-on through L, R into C behind an ideal
+/// bridge: semi-implicit Euler (current first, then voltage) with a fine fixed step,
+/// source V_pk |cos(2 pi f t)| from the crest, no load. Returns (peak current, I²t,
+/// highest capacitor voltage).
+fn lrc_switch_on(v_pk: f64, f: f64, l: f64, r: f64, c: f64, h: f64) -> (f64, f64, f64) {
+    let (mut i, mut v, mut peak, mut i2t, mut vmax) = (0.0f64, 0.0f64, 0.0f64, 0.0f64, 0.0f64);
+    let steps = (1.0 / f / h) as usize; // two half-cycles
+    for n in 0..steps {
+        let u = v_pk * (2.0 * PI * f * n as f64 * h).cos().abs();
+        if i <= 0.0 && u <= v {
+            i = 0.0;
+            continue;
+        }
+        i += h * (u - v - r * i) / l;
+        if i < 0.0 {
+            i = 0.0;
+        }
+        v += h * i / c;
+        i2t += i * i * h;
+        peak = peak.max(i);
+        vmax = vmax.max(v);
+    }
+    (peak, i2t, vmax)
+}
+
+#[test]
+fn regression_inrush_through_the_filter_inductance_rings_the_bulk_capacitor_above_the_crest() {
+    // The shipped Class II example: 470 uH of differential-mode inductance in the charging
+    // path, 47 uF bulk, hot restart through R = 0.5 + 0.5 ohm. sqrt(L / C) = 3.162 ohm,
+    // damping ratio R / (2 sqrt(L / C)) = 0.158: a series L-R-C step overshoots by
+    // e^(-zeta pi / sqrt(1 - zeta^2)) = 0.605 (circuit theory, any textbook), so the
+    // capacitor reaches about 373.35 x 1.605 = 599 V (the mains falls a little during the
+    // 0.47 ms half-period of the ringing), far above a 450 V part. (The shipped example
+    // declares its inductor's 2.2 ohm winding resistance; without it, as here, it fails.)
+    let (o, r) = variant_of(
+        CLASS2_EXAMPLE,
+        "no-inductor-resistance",
+        &[("dm_inductor_resistance_ohm = 2.2", "")],
+    );
+    assert_exit(&o, 1);
+    let pe = &r["power_entry"];
+    assert_eq!(pe["inrush"]["model"], "l-r-c");
+    let v_pk = SQRT_2 * 264.0;
+    let (l, c): (f64, f64) = (470e-6, 47e-6);
+    let z0 = (l / c).sqrt();
+    let zeta = 1.0 / (2.0 * z0);
+    let step_peak = v_pk * (1.0 + (-zeta * PI / (1.0 - zeta * zeta).sqrt()).exp());
+    let bulk = num(&pe["bulk_peak_v"]);
+    assert!(bulk < step_peak && bulk > 0.99 * step_peak, "{bulk} vs step {step_peak}");
+    // Independent integration, hot restart and cold switch-on (10.5 ohm).
+    let (i_hot, i2t_hot, v_hot) = lrc_switch_on(v_pk, 50.0, l, 1.0, c, 2e-8);
+    let (i_cold, i2t_cold, v_cold) = lrc_switch_on(v_pk, 50.0, l, 10.5, c, 2e-8);
+    let near = |a: f64, b: f64| (a - b).abs() <= 2e-3 * b.abs();
+    assert!(near(bulk, v_hot), "bulk {bulk} vs {v_hot}");
+    assert!(near(num(&pe["inrush"]["hot_restart_bulk_peak_v"]), v_hot));
+    assert!(near(num(&pe["hot_restart_peak_a"]), i_hot), "{} vs {i_hot}", pe["hot_restart_peak_a"]);
+    assert!(near(num(&pe["inrush"]["hot_restart_i2t_a2s"]), i2t_hot));
+    assert!(near(num(&pe["inrush_peak_a"]), i_cold), "{} vs {i_cold}", pe["inrush_peak_a"]);
+    assert!(near(num(&pe["inrush_i2t_a2s"]), i2t_cold));
+    assert!(near(num(&pe["inrush"]["bulk_peak_v"]), v_cold.max(v_pk)));
+    // The peak current is bounded by V_pk / sqrt(L / C) = 118 A (lossless), far below the
+    // 373 A of V_pk / R.
+    assert!(num(&pe["hot_restart_peak_a"]) < v_pk / z0);
+    assert_close("R-C figure kept", &pe["inrush"]["resistive_hot_restart_peak_a"], v_pk / 1.0);
+    // Judged against the rated voltage (input.bulk_rated_v = 450 V): blocking.
+    assert_eq!(pe["bulk_rated_v"], 450.0);
+    assert_eq!(pe["verdicts"]["bulk_peak_v"], "fail");
+    assert_eq!(the(&r, "power_entry.bulk_voltage_over_rating")["severity"], "blocking");
+    // The shipped example with the inductor's 2.2 ohm: R = 3.2 ohm, damping ratio 0.506,
+    // overshoot e^(-0.506 pi / 0.863) = 0.158: about 432 V at a step, within 450 V.
+    let (o, r) = check_json(CLASS2_EXAMPLE);
+    assert_exit(&o, 0);
+    let (_, _, v_hot) = lrc_switch_on(v_pk, 50.0, l, 3.2, c, 2e-8);
+    let bulk = num(&r["power_entry"]["bulk_peak_v"]);
+    assert!(near(bulk, v_hot), "bulk {bulk} vs {v_hot}");
+    assert!(bulk < 450.0);
+    assert_eq!(r["power_entry"]["verdicts"]["bulk_peak_v"], "pass");
+    // Without a rated voltage: not judged, and the missing rating is a warning.
+    let (_, r) = variant_of(CLASS2_EXAMPLE, "no-bulk-rating", &[("bulk_rated_v = 450", "")]);
+    assert!(!has(&r, "power_entry.bulk_voltage_over_rating"));
+    assert!(message(the(&r, "power_entry.rating_missing")).contains("input.bulk_rated_v"));
+}
+
+#[test]
+fn the_lrc_inrush_simulation_meets_the_closed_form_step_response() {
+    use gapwarden::power_entry::inrush::{LrcCircuit, simulate};
+    // At 0.01 Hz the source stays at its crest for the whole ringing: a step of V. The
+    // series L-R-C step response from rest (circuit theory): alpha = R / 2L,
+    // w0 = 1 / sqrt(LC), wd = sqrt(w0² - alpha²); i(t) = V / (wd L) e^(-alpha t) sin(wd t),
+    // peak at t = atan(wd / alpha) / wd; the capacitor peaks at V (1 + e^(-alpha pi / wd)).
+    let (v, l, r, c) = (325.0, 470e-6, 1.0, 47e-6);
+    let x = simulate(&LrcCircuit {
+        peak_v: v,
+        frequency_hz: 0.01,
+        inductance_h: l,
+        resistance_ohm: r,
+        capacitance_f: c,
+        start_v: 0.0,
+    })
+    .expect("usable");
+    let alpha = r / (2.0 * l);
+    let w0 = 1.0 / (l * c).sqrt();
+    let wd = (w0 * w0 - alpha * alpha).sqrt();
+    let tp = (wd / alpha).atan() / wd;
+    let i_pk = v / (wd * l) * (-alpha * tp).exp() * (wd * tp).sin();
+    let v_pk = v * (1.0 + (-alpha * PI / wd).exp());
+    assert!(x.converged);
+    assert!(close(x.peak_a, i_pk, 1e-4), "{} vs {i_pk}", x.peak_a);
+    assert!(close(x.bulk_peak_v, v_pk, 1e-4), "{} vs {v_pk}", x.bulk_peak_v);
+    assert!(close(x.peak_at_s, tp, 1e-3), "{} vs {tp}", x.peak_at_s);
+}
+
+/// An independent steady state of the rectifier: explicit Euler with a 5 ns step while the
+/// bridge conducts (stable far below R C), the exact v² = v0² - 2 P t / C between pulses,
+/// run for `half_cycles` from the crest voltage; figures of the last half-cycle.
+/// Returns (RMS current, repetitive peak, input power).
+fn reference_rectifier(v_rms: f64, f: f64, r: f64, c: f64, p: f64, half_cycles: usize) -> (f64, f64, f64) {
+    let v_pk = SQRT_2 * v_rms;
+    let steps = (0.5 / f / 5e-9) as usize;
+    let h = 0.5 / f / steps as f64;
+    let mut v = v_pk;
+    let (mut sum_i2, mut sum_ui, mut peak) = (0.0, 0.0, 0.0f64);
+    for k in 0..half_cycles {
+        let last = k + 1 == half_cycles;
+        for n in 0..steps {
+            let u = v_pk * (2.0 * PI * f * (n as f64 + 0.5) * h).sin().abs();
+            let i = ((u - v) / r).max(0.0);
+            if i > 0.0 {
+                v += h * (i - p / v) / c;
+            } else {
+                v = (v * v - 2.0 * p * h / c).sqrt();
+            }
+            if last {
+                sum_i2 += i * i * h;
+                sum_ui += u * i * h;
+                peak = peak.max(i);
+            }
+        }
+    }
+    let t = 0.5 / f;
+    ((sum_i2 / t).sqrt(), peak, sum_ui / t)
+}
+
+#[test]
+fn regression_rectifier_step_adapts_until_the_energy_balances() {
+    // 4.7 uF with 0.2 ohm: R C = 0.94 us, shorter than the 5 us of 2000 steps per
+    // half-cycle at 50 Hz. With that fixed step the repetitive peak came out about 15 %
+    // high; the adaptive step must meet an independent fine-step integration.
+    let rect = Rectifier {
+        v_rms: 230.0,
+        frequency_hz: 50.0,
+        series_ohm: 0.2,
+        capacitance_f: 4.7e-6,
+        load_w: 20.0,
+        diode_drop_v: 0.0,
+    };
+    let (rms, peak, p_in) = reference_rectifier(230.0, 50.0, 0.2, 4.7e-6, 20.0, 6);
+    let coarse = steady_state_with(&rect, STEPS_PER_HALF_CYCLE, None);
+    assert!(coarse.repetitive_peak_a > 1.05 * peak, "the fixed step was too coarse: {} vs {peak}", coarse.repetitive_peak_a);
+    let s = steady_state(&rect);
+    assert!(s.sustained && s.converged && s.step_converged, "{s:?}");
+    assert!(s.steps_per_half_cycle > STEPS_PER_HALF_CYCLE);
+    assert!(close(s.repetitive_peak_a, peak, 0.005), "peak {} vs {peak}", s.repetitive_peak_a);
+    assert!(close(s.input_rms_a, rms, 0.005), "rms {} vs {rms}", s.input_rms_a);
+    // Energy balance (circuit theory): P_in = P + R I_rms² (no diode drop), within 0.1 %.
+    let balance = (s.input_power_w - (20.0 + 0.2 * s.input_rms_a * s.input_rms_a)).abs() / s.input_power_w;
+    assert!(balance <= 1e-3, "energy balance {balance}");
+    assert!(s.input_power_w >= 20.0, "input power below the load: {}", s.input_power_w);
+    assert!(close(s.input_power_w, p_in, 0.005), "P_in {} vs {p_in}", s.input_power_w);
+}
+
+#[test]
+fn regression_fuse_voltage_rating_is_judged_against_the_rated_voltage_not_the_tolerance() {
+    // A 250 V fuse in a product rated 100-240 V (highest mains 264 V with tolerance): the
+    // rating covers the equipment's highest rated voltage, 240 V (common practice, no
+    // published source): not blocking; the tolerance case is a note.
+    let (o, r) = variant(
+        "fuse250-rated240",
+        &[
+            ("rated_v = 300", "rated_v = 250"),
+            ("bulk_capacitance_uf = 47", "bulk_capacitance_uf = 47\nhighest_rated_v = 240"),
+        ],
+    );
+    assert_exit(&o, 0);
+    assert!(!has(&r, "power_entry.fuse_voltage_low"));
+    assert_eq!(the(&r, "power_entry.fuse_voltage_tolerance")["severity"], "note");
+    assert_eq!(r["power_entry"]["verdicts"]["fuse_rated_supply_v"], "pass");
+    assert_eq!(r["power_entry"]["fuse"]["rated_supply_v"], 240.0);
+    // Without input.highest_rated_v the nominal 230 V stands for it (stated as an assumption).
+    let (_, r) = variant("fuse250-nominal", &[("rated_v = 300", "rated_v = 250")]);
+    assert_eq!(r["power_entry"]["fuse"]["rated_supply_v"], 230.0);
+    assert!(!has(&r, "power_entry.fuse_voltage_low"));
+    assert!(r["power_entry"]["assumptions"].to_string().contains("input.highest_rated_v"));
+    // Declared 277 V: a 250 V fuse is short of it, blocking.
+    let (o, r) = variant(
+        "fuse250-rated277",
+        &[("rated_v = 300", "rated_v = 250"), ("bulk_capacitance_uf = 47", "bulk_capacitance_uf = 47\nhighest_rated_v = 277")],
+    );
+    assert_exit(&o, 1);
+    assert_eq!(the(&r, "power_entry.fuse_voltage_low")["severity"], "blocking");
+    assert_eq!(r["power_entry"]["verdicts"]["fuse_rated_supply_v"], "fail");
+}
+
+#[test]
+fn regression_verdicts_compare_exact_figures_not_the_printed_ones() {
+    // Cold inrush peak 264 sqrt(2) / 10.5 = 35.5573696 A (circuit theory), printed to six
+    // significant digits as 35.5574 A. A bridge rated 35.55737 A covers the exact peak: no
+    // finding, although the printed figure is above it; at 35.55736 A it is short.
+    let exact = SQRT_2 * 264.0 / 10.5;
+    assert!(exact < 35.55737 && exact > 35.55736, "{exact}");
+    let (_, r) = variant("surge-above", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")]);
+    assert_eq!(r["power_entry"]["inrush_peak_a"], 35.5574);
+    assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "pass");
+    assert!(!has(&r, "power_entry.inrush_over_bridge_surge"));
+    let (_, r) = variant("surge-below", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55736")]);
+    assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "fail");
+    assert!(has(&r, "power_entry.inrush_over_bridge_surge"));
+}
+
+#[test]
+fn every_judged_power_entry_figure_carries_a_verdict_in_json_and_markdown() {
+    let (_, r) = check_json(BASE);
+    let pe = &r["power_entry"];
+    for id in [
+        "inrush_peak_a",
+        "hot_restart_peak_a",
+        "limiter_energy_j",
+        "bulk_peak_v",
+        "fuse_max_operating_a",
+        "fuse_required_i2t_a2s",
+        "fuse_rated_supply_v",
+        "fuse_prospective_fault_a",
+        "fuse_hot_restart_i2t_a2s",
+        "discharge_time_constant_s",
+        "low_line.bulk_valley_v",
+        "touch.output",
+    ] {
+        let v = pe["verdicts"][id].as_str().unwrap_or_else(|| panic!("no verdict for {id}"));
+        assert!(["pass", "fail", "not-judged", "check-input"].contains(&v), "{id}: {v}");
+        assert_eq!(figure(&r, &format!("power_entry.{id}"))["verdict"], v, "{id}");
+    }
+    let md = stdout(&run(&["check", BASE]));
+    let section = &md[md.find("## Power entry").expect("section")..];
+    assert!(section.contains("| figure | value | formula | inputs | judged against | verdict |"));
+    assert!(section.contains("| quantity | value | verdict |"));
+}
+
+#[test]
+fn a_figure_resting_on_an_implausible_input_is_check_input_never_pass() {
+    // bridge_surge_a = 20000 A is accepted but flagged implausible (input.suspicious_value):
+    // the inrush comparison passes, so its verdict is check-input.
+    let (_, r) = variant("suspicious-surge", &[("bridge_surge_a = 50", "bridge_surge_a = 20000")]);
+    assert!(has(&r, "input.suspicious_value"));
+    assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "check-input");
+    assert_eq!(r["power_entry"]["verdicts"]["hot_restart_peak_a"], "check-input");
+    // A figure that does not rest on it keeps its own verdict.
+    assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "pass");
+    let md = stdout(&run(&["check", BASE]));
+    assert!(!md.contains("check-input"));
+    // A Y capacitance a million times too small (1e-7 nF) is flagged; the touch current it
+    // gives passes, so its verdict is check-input.
+    let (_, r) = variant("suspicious-y", &[("capacitance_nf = 1.0", "capacitance_nf = 0.0000001")]);
+    assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "check-input");
+    let md = {
+        let o = run(&["check", BASE]);
+        stdout(&o)
+    };
+    assert!(md.contains("| verdict |"));
 }

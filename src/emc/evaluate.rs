@@ -3,7 +3,7 @@
 //! touch-current cap on the Y capacitance, and Middlebrook's criterion with damping.
 
 use super::filter::{
-    Stage, asymptotic_attenuation_db, characteristic_impedance_ohm, corner_for_attenuation,
+    Complex, NetworkLine, Stage, TwoPort, asymptotic_attenuation_db, insertion_loss_db, characteristic_impedance_ohm, corner_for_attenuation,
     inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, peak_output_impedance,
     ratio_for_peak,
 };
@@ -14,6 +14,7 @@ use super::{
     Damping, DeclaredFilter, EmcDerivation, EmcReport, EmcSpec, LimitLineOut, Middlebrook,
     NoisePoint, PrescanDetector, YArrangement,
 };
+use crate::power_entry::{Verdict, rests_on_suspicious};
 use crate::project::ProtectionClass;
 use crate::spacing::{Step, round_up, show, tidy};
 use crate::toml_read::Span;
@@ -64,6 +65,12 @@ pub struct EmcInputs {
     pub bulk: Option<BulkCapacitor>,
     /// Defaults applied while gathering these inputs, in words.
     pub assumptions: Vec<String>,
+    /// `converter.pfc_stage`: Middlebrook's criterion applies.
+    pub pfc_stage: bool,
+    /// The lowest mains voltage (rms), the PFC stage's input.
+    pub min_mains_v: f64,
+    /// Keys of inputs flagged implausible: a figure resting on one is never `pass`.
+    pub suspicious_keys: Vec<String>,
 }
 
 /// An input the evaluation cannot use, with where it was written when known.
@@ -130,6 +137,8 @@ struct Candidate {
     limit_dbuv: f64,
     limit_step: Step,
     required_db: f64,
+    /// `emc.prescan[N]` for a measured point (the key an implausible reading is under).
+    key_prefix: Option<String>,
 }
 
 impl Candidate {
@@ -225,7 +234,9 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
         for p in &spec.prescan {
             let detectors: &[Detector] = match p.detector {
-                PrescanDetector::QuasiPeak => &[Detector::QuasiPeak],
+                // A switching harmonic is a continuous wave: the average detector reads
+                // about what quasi-peak reads, so a quasi-peak reading meets both limits.
+                PrescanDetector::QuasiPeak => &[Detector::QuasiPeak, Detector::Average],
                 PrescanDetector::Average => &[Detector::Average],
                 PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
             };
@@ -242,6 +253,9 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                         limit_dbuv: limit,
                         limit_step,
                         required_db: p.level_dbuv - limit + margin_db,
+                        key_prefix: Some(
+                            p.key.trim_end_matches(".frequency_hz").to_string(),
+                        ),
                     });
                     dm_indices.push(i);
                     cm_indices.push(i);
@@ -252,6 +266,16 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                     message: e.message,
                 }),
             }
+        }
+        if spec
+            .prescan
+            .iter()
+            .any(|p| p.detector == PrescanDetector::QuasiPeak)
+        {
+            assumptions.push(
+                "Quasi-peak readings are held against the average limit too (the lower governs): a switching harmonic is a continuous wave, for which the average detector reads about what quasi-peak reads (common practice of pre-compliance work, no published source)."
+                    .to_string(),
+            );
         }
         if spec
             .prescan
@@ -290,6 +314,15 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             ));
             v
         });
+        let rise_ns = spec.switch_node_rise_time_ns.unwrap_or_else(|| {
+            assumptions.push(format!(
+                "Switch-node rise time {} ns for the common-mode estimate (switch_node_rise_time_ns not stated; {}; {}).",
+                show(model.default_switch_node_rise_time_ns.value),
+                model.default_switch_node_rise_time_ns.source,
+                model.default_switch_node_rise_time_ns.provenance
+            ));
+            model.default_switch_node_rise_time_ns.value
+        });
         assumptions.push(
             "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
                 .to_string(),
@@ -309,6 +342,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             &CommonModePath {
                 switch_node_swing_v: swing_v,
                 parasitic_capacitance_pf: parasitic_pf,
+                rise_time_s: rise_ns * 1e-9,
             },
             &network,
             band,
@@ -322,6 +356,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                     inputs.bulk.as_ref(),
                     swing_v,
                     parasitic_pf,
+                    rise_ns,
                     model_id,
                     &network,
                     &dm,
@@ -350,6 +385,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                                     limit_dbuv: limit,
                                     limit_step,
                                     required_db: h.level_dbuv - limit + margin_db,
+                                    key_prefix: None,
                                 });
                             }
                             Err(e) => problems.push(InputProblem {
@@ -516,24 +552,42 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
         a
     });
-    let (y_capacitance_nf, y_capacitance_from) = match spec.filter.y_capacitance_nf {
+    // Per line, and the common-mode capacitance it stands for (exact, unrounded).
+    let (y_exact_nf, y_capacitance_from, declared_cm_nf) = match spec.filter.y_capacitance_nf {
         Some(c) => (
             Some(c),
             Some("emc filter table, y_capacitance_nf".to_string()),
+            Some(c * arrangement.common_mode_factor()),
         ),
         None if !inputs.y_parts.is_empty() => {
+            // The parts are every Y capacitor: their sum is the whole common-mode
+            // capacitance. From each line, the line side is half of it (or the largest
+            // single part, whichever is larger: the plug may be reversed).
             let total: f64 = inputs.y_parts.iter().map(|(_, c)| c).sum();
+            let largest = inputs.y_parts.iter().map(|(_, c)| *c).fold(0.0, f64::max);
             let refs: Vec<&str> = inputs.y_parts.iter().map(|(r, _)| r.as_str()).collect();
-            (
-                Some(tidy(total)),
-                Some(format!(
-                    "Y-capacitor parts {} (effective values added)",
-                    refs.join(", ")
-                )),
-            )
+            let (per_line, how) = match arrangement {
+                YArrangement::EachLine if inputs.y_parts.len() > 1 => (
+                    (total / 2.0).max(largest),
+                    format!(
+                        "Y-capacitor parts {} (effective values added: {} nF in all, the common-mode capacitance; per line the larger of half of it and the largest part)",
+                        refs.join(", "),
+                        show(tidy(total))
+                    ),
+                ),
+                _ => (
+                    total,
+                    format!(
+                        "Y-capacitor parts {} (effective values added)",
+                        refs.join(", ")
+                    ),
+                ),
+            };
+            (Some(per_line), Some(how), Some(total))
         }
-        None => (None, None),
+        None => (None, None, None),
     };
+    let y_capacitance_nf = y_exact_nf.map(tidy);
     if let (Some(y), Some(from)) = (y_capacitance_nf, &y_capacitance_from) {
         let verdict = match max_y_capacitance_nf {
             Some(max) if y > max => format!("above the cap of {} nF", show(max)),
@@ -549,11 +603,12 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             ),
         ));
     }
-    let y_used_nf = match (y_capacitance_nf, max_y_capacitance_nf) {
+    let y_used_nf = match (y_exact_nf, max_y_capacitance_nf) {
         (Some(y), Some(max)) => Some(y.min(max)),
         (Some(y), None) => Some(y),
         (None, max) => max,
     };
+    let y_capped = matches!((y_exact_nf, max_y_capacitance_nf), (Some(y), Some(max)) if y > max);
 
     // --- Inductances for the corners -------------------------------------------------------
     let f = &spec.filter;
@@ -599,7 +654,11 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         }
         _ => None,
     };
-    let cm_capacitance_used_nf = y_used_nf.map(|y| y * arrangement.common_mode_factor());
+    let cm_capacitance_used_nf = if y_capped || declared_cm_nf.is_none() {
+        y_used_nf.map(|y| y * arrangement.common_mode_factor())
+    } else {
+        declared_cm_nf
+    };
     let cm_inductance_for_corner_mh = match (cm_corner_hz, cm_capacitance_used_nf, y_used_nf) {
         (Some(fc), Some(c), Some(_))
             if fc > 0.0 && !finite(inductance_for_corner_h(fc, c * 1e-9) * 1e3) =>
@@ -622,12 +681,15 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             d.cm_corner.push(step(
                 None,
                 format!(
-                    "Common-mode choke for that corner: L = 1 / ((2 pi f)^2 C_cm) = 1 / ((2 pi x {} Hz)^2 x {} nF) = {} mH, with C_cm = {} x {} nF per line ({} arrangement; {}).",
+                    "Common-mode choke for that corner: L = 1 / ((2 pi f)^2 C_cm) = 1 / ((2 pi x {} Hz)^2 x {} nF) = {} mH, with C_cm = {} ({} arrangement; {}).",
                     show(fc),
-                    show(cm_capacitance_used_nf),
+                    show(tidy(cm_capacitance_used_nf)),
                     show(l),
-                    show(arrangement.common_mode_factor()),
-                    show(y_used_nf),
+                    if y_capped || declared_cm_nf.is_none() || spec.filter.y_capacitance_nf.is_some() {
+                        format!("{} x {} nF per line", show(arrangement.common_mode_factor()), show(tidy(y_used_nf)))
+                    } else {
+                        "the sum of the Y-capacitor parts (not doubled: the parts are every Y capacitor)".to_string()
+                    },
                     arrangement.as_str(),
                     match (y_capacitance_nf, max_y_capacitance_nf) {
                         (Some(y), Some(max)) if y > max =>
@@ -650,36 +712,113 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     };
 
     // --- The declared filter ---------------------------------------------------------------
-    let declared = declared_filter(f, y_capacitance_nf, arrangement, &mut d.filter);
+    let declared = declared_filter(f, declared_cm_nf, &mut d.filter);
 
     // --- After the filter ------------------------------------------------------------------
-    let dm_after = declared
-        .as_ref()
-        .and_then(|x| x.dm_corner_hz)
-        .map(|c| (c, "declared"))
-        .or(dm_corner_hz.map(|c| (c, "required")));
-    let cm_after = declared
-        .as_ref()
-        .and_then(|x| x.cm_corner_hz)
-        .map(|c| (c, "declared"))
-        .or(cm_corner_hz.map(|c| (c, "required")));
-    let describe = |what: &str, c: Option<(f64, &str)>| match c {
-        Some((hz, kind)) => format!(
-            "{what}: the {kind} second-order corner, {}",
-            frequency_words(hz)
-        ),
-        None => format!("{what}: no filter (no corner declared or needed)"),
+    // A declared stage is judged by its transfer function (insertion loss between a stated
+    // source impedance and the measuring network, damping and resonance included); a stage
+    // only required (no parts declared) by its 40 dB/decade asymptote.
+    let line = NetworkLine {
+        resistance_ohm: model.line_impedance_ohm.value,
+        inductance_h: model.network_inductance_uh.value * 1e-6,
+    };
+    let dm_stage = match (f.dm_inductance_uh, f.x_capacitance_uf) {
+        (Some(l), Some(c)) if declared.as_ref().is_some_and(|x| x.dm_corner_hz.is_some()) => {
+            Some(TwoPort {
+                series_inductance_h: l * 1e-6,
+                series_resistance_ohm: f.dm_inductor_resistance_ohm.unwrap_or(0.0),
+                shunt_capacitance_f: c * 1e-6,
+                damping: f.damping.map(|(rd, cd)| (rd, cd * 1e-6)),
+            })
+        }
+        _ => None,
+    };
+    let cm_stage = match (f.cm_inductance_mh, declared_cm_nf) {
+        (Some(l), Some(c)) if declared.as_ref().is_some_and(|x| x.cm_corner_hz.is_some()) => {
+            Some(TwoPort {
+                series_inductance_h: l * 1e-3,
+                series_resistance_ohm: 0.0,
+                shunt_capacitance_f: c * 1e-9,
+                damping: None,
+            })
+        }
+        _ => None,
+    };
+    let dm_source = model.dm_source_impedance_ohm.value;
+    let cm_source = model.cm_source_impedance_ohm.value;
+    // Differential mode sees two lines in series; common mode both lines in parallel.
+    let dm_il = |hz: f64| {
+        dm_stage.map(|st| {
+            let z = line.impedance(hz);
+            insertion_loss_db(&st, dm_source, z.plus(z), hz)
+        })
+    };
+    let cm_il = |hz: f64| {
+        cm_stage.map(|st| {
+            let z = line.impedance(hz);
+            insertion_loss_db(&st, cm_source, z.over(Complex::new(2.0, 0.0)), hz)
+        })
+    };
+    let dm_after = dm_stage
+        .is_none()
+        .then(|| dm_corner_hz.map(|c| (c, "required")))
+        .flatten();
+    let cm_after = cm_stage
+        .is_none()
+        .then(|| cm_corner_hz.map(|c| (c, "required")))
+        .flatten();
+    let describe = |what: &str, declared_stage: bool, c: Option<(f64, &str)>, source: f64, load: &str| {
+        if declared_stage {
+            format!(
+                "{what}: the declared stage's insertion loss, from a {} ohm source into the measuring network ({load}), damping and resonance included",
+                show(source)
+            )
+        } else {
+            match c {
+                Some((hz, kind)) => format!(
+                    "{what}: no stage declared; the {kind} second-order corner, {}, with its asymptote (40 dB per decade above it)",
+                    frequency_words(hz)
+                ),
+                None => format!("{what}: no filter (no corner declared or needed)"),
+            }
+        }
     };
     let after_filter = format!(
-        "{}; {}. Asymptotic attenuation, 40 dB per decade above the corner, resonance and parasitics left out.",
-        describe("differential mode", dm_after),
-        describe("common mode", cm_after)
+        "{}; {}. The measuring network is {} ohm in parallel with {} uH per line ({}); parasitics of the parts are left out.",
+        describe("differential mode", dm_stage.is_some(), dm_after, dm_source, "two lines in series"),
+        describe("common mode", cm_stage.is_some(), cm_after, cm_source, "two lines in parallel"),
+        show(model.line_impedance_ohm.value),
+        show(model.network_inductance_uh.value),
+        model.network_inductance_uh.source
     );
+    d.filter.push(step(
+        Some(model_id),
+        format!(
+            "Insertion loss of a declared stage: IL = 20 log10 |V_without / V_with|, V_without = V_s Z_n / (Z_s + Z_n), V_with = V_s Z_p / (Z_s + Z_p) x Z_n / (Z_L + Z_n), Z_p = Z_shunt || (Z_L + Z_n); Z_shunt the X (or Y) capacitance with the damping branch, Z_L the inductance with its resistance, Z_s the source impedance ({} ohm differential, {} ohm common mode; {}), Z_n the measuring network (50 ohm || 50 uH per line). Near the resonance it can be negative: the stage amplifies.",
+            show(dm_source),
+            show(cm_source),
+            model.dm_source_impedance_ohm.provenance
+        ),
+    ));
     let attenuation_at = |corner: Option<(f64, &str)>, hz: f64| {
         corner.map_or(0.0, |(c, _)| {
             asymptotic_attenuation_db(c, hz, SECOND_ORDER_DB)
         })
     };
+    let suspicious: Vec<&str> = inputs.suspicious_keys.iter().map(String::as_str).collect();
+    let estimate_keys: Vec<String> = [
+        "converter",
+        "input.bulk_capacitance_uf",
+        "input.series_resistance_ohm",
+        "emc.parasitic_capacitance_pf",
+        "emc.switch_node_",
+        "emc.filter",
+        "emc.margin_db",
+        "mains",
+    ]
+    .iter()
+    .map(|k| k.to_string())
+    .collect();
 
     // --- Points for the report (every prescan point; a thinned set of harmonics) ----------
     let keep: Vec<usize> = if noise_source == "estimate" {
@@ -703,16 +842,36 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     } else {
         all.clone()
     };
+    let judge = |c: &Candidate| {
+            let dm = dm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(dm_after, c.frequency_hz));
+            let cm = cm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(cm_after, c.frequency_hz));
+            let (filter_db, judged_by_declared) = match c.mode {
+                "differential" => (dm, dm_stage.is_some()),
+                "common" => (cm, cm_stage.is_some()),
+                _ => (dm.min(cm), dm_stage.is_some() && cm_stage.is_some()),
+            };
+            let after = c.level_dbuv - filter_db;
+            let mut verdict = if c.required_db <= 0.0 {
+                Verdict::Pass
+            } else if judged_by_declared {
+                Verdict::of(Some(after > c.limit_dbuv - margin_db))
+            } else {
+                Verdict::NotJudged
+            };
+            let keys: Vec<String> = match c.key_prefix.as_deref() {
+                Some(k) => vec![k.to_string(), "emc.filter".to_string(), "emc.margin_db".to_string()],
+                None => estimate_keys.clone(),
+            };
+            if verdict == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
+                verdict = Verdict::CheckInput;
+            }
+            (filter_db, after, verdict)
+    };
     let points: Vec<NoisePoint> = keep
         .iter()
         .filter_map(|&i| candidates.get(i))
         .map(|c| {
-            let filter_db = match c.mode {
-                "differential" => attenuation_at(dm_after, c.frequency_hz),
-                "common" => attenuation_at(cm_after, c.frequency_hz),
-                _ => attenuation_at(dm_after, c.frequency_hz)
-                    .min(attenuation_at(cm_after, c.frequency_hz)),
-            };
+            let (filter_db, after, verdict) = judge(c);
             NoisePoint {
                 frequency_hz: tidy(c.frequency_hz),
                 mode: c.mode,
@@ -723,23 +882,49 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                 limit_dbuv: round_to(c.limit_dbuv, 0.01),
                 required_attenuation_db: round_up(c.required_db, 0.01),
                 filter_attenuation_db: round_to(filter_db, 0.01),
-                after_filter_dbuv: round_to(c.level_dbuv - filter_db, 0.01),
+                after_filter_dbuv: round_to(after, 0.01),
+                verdict,
             }
         })
         .collect();
 
     // --- Middlebrook -----------------------------------------------------------------------
-    let middlebrook = inputs.converter.as_ref().and_then(|c| {
-        middlebrook(
-            c,
-            f,
-            x_capacitance_uf,
-            dm_inductance_for_corner_uh,
-            model.middlebrook_margin_db.value,
-            &mut d.middlebrook,
+    // Middlebrook's criterion holds where the filter sees the converter's negative input
+    // resistance: behind a PFC stage (a small capacitance after the bridge). Behind a
+    // bridge and a bulk capacitor it does not: the bridge conducts only near the crests,
+    // and then the filter sees the bulk capacitor's low impedance, not -V^2/P.
+    let middlebrook_applies = inputs.converter.is_some() && inputs.pfc_stage;
+    let middlebrook_not_applied = (inputs.converter.is_some() && !inputs.pfc_stage).then(|| {
+        let bulk = inputs
+            .bulk
+            .map(|b| format!(" ({} uF)", show(b.capacitance_uf)))
+            .unwrap_or_default();
+        format!(
+            "Middlebrook's criterion not applied: the converter has no PFC stage (converter.pfc_stage not true), so the filter feeds a bridge and a bulk capacitor{bulk}; the bridge conducts only near the mains crests, and then the filter sees the bulk capacitor's low impedance, not the converter's negative resistance -V^2/P, so the criterion and its damping advice do not hold there. Set converter.pfc_stage = true for a converter with active power-factor correction (a small capacitance after the bridge), where it applies."
         )
     });
-    if inputs.converter.is_none() {
+    let middlebrook = if middlebrook_applies {
+        inputs.converter.as_ref().and_then(|c| {
+            // Behind a PFC stage the filter sees the converter at the line voltage.
+            let at_line = ConverterFigures {
+                bulk_v: inputs.min_mains_v,
+                ..*c
+            };
+            middlebrook(
+                &at_line,
+                f,
+                x_capacitance_uf,
+                dm_inductance_for_corner_uh,
+                model.middlebrook_margin_db.value,
+                &mut d.middlebrook,
+            )
+        })
+    } else {
+        None
+    };
+    if let Some(why) = &middlebrook_not_applied {
+        d.middlebrook.push(step(None, why.clone()));
+    } else if inputs.converter.is_none() {
         d.middlebrook.push(step(
             None,
             "Not judged: the project has no converter table, so the converter's power, efficiency and lowest bulk voltage are not known.",
@@ -791,6 +976,66 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     ));
 
     let governing_point = overall.and_then(|(i, _)| candidates.get(i));
+    // --- Verdicts on the unrounded figures ------------------------------------------------
+    let mut verdicts = std::collections::BTreeMap::new();
+    let mut put = |name: &str, v: Verdict, keys: &[&str]| {
+        let keys: Vec<String> = keys.iter().map(|k| k.to_string()).collect();
+        let v = if v == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
+            Verdict::CheckInput
+        } else {
+            v
+        };
+        verdicts.insert(name.to_string(), v);
+    };
+    if let Some(y) = y_exact_nf {
+        let cap = inputs.touch_limit.as_ref().map(|t| {
+            t.limit_ma / 1000.0 / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v) * 1e9
+        });
+        put(
+            "y_capacitance_nf",
+            Verdict::of(cap.filter(|c| c.is_finite()).map(|c| y > c)),
+            &["part", "emc.filter.y_", "mains", "input.max_frequency_hz", "input.end_product_standard"],
+        );
+    }
+    let declared_dm_exact = match (f.dm_inductance_uh, f.x_capacitance_uf) {
+        (Some(l), Some(c)) => Some(lc_corner_hz(l * 1e-6, c * 1e-6)).filter(|x| x.is_finite()),
+        _ => None,
+    };
+    if let Some(fc) = declared_dm_exact {
+        put(
+            "dm_corner_hz",
+            Verdict::of(dm2.map(|(_, req)| fc > req).or((!candidates.is_empty()).then_some(false))),
+            &["emc", "converter", "input.bulk_capacitance_uf"],
+        );
+    }
+    let declared_cm_exact = match (f.cm_inductance_mh, declared_cm_nf) {
+        (Some(l), Some(c)) => Some(lc_corner_hz(l * 1e-3, c * 1e-9)).filter(|x| x.is_finite()),
+        _ => None,
+    };
+    if let Some(fc) = declared_cm_exact {
+        put(
+            "cm_corner_hz",
+            Verdict::of(cm2.map(|(_, req)| fc > req).or((!candidates.is_empty()).then_some(false))),
+            &["emc", "converter", "part"],
+        );
+    }
+    if let Some(m) = &middlebrook {
+        put("middlebrook", Verdict::of(Some(!m.satisfied)), &["emc.filter", "converter", "mains"]);
+    }
+    if !candidates.is_empty() {
+        let all: Vec<Verdict> = candidates.iter().map(|c| judge(c).2).collect();
+        let worst = if all.contains(&Verdict::Fail) {
+            Verdict::Fail
+        } else if all.contains(&Verdict::NotJudged) {
+            Verdict::NotJudged
+        } else if all.contains(&Verdict::CheckInput) {
+            Verdict::CheckInput
+        } else {
+            Verdict::Pass
+        };
+        verdicts.insert("points".to_string(), worst);
+    }
+
     Ok(EmcReport {
         limit_class: class,
         margin_db,
@@ -827,12 +1072,16 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         y_capacitance_from,
         y_arrangement: arrangement,
         y_capacitance_used_nf: y_used_nf.map(tidy),
+        cm_capacitance_used_nf: cm_capacitance_used_nf.map(tidy),
         single_stage_practical_db: model.single_stage_practical_db.value,
         two_stage_practical_db: model.two_stage_practical_db.value,
         filter: declared,
         converter_figures_available: inputs.converter.is_some(),
         noise_gaps,
         middlebrook,
+        middlebrook_applies,
+        middlebrook_not_applied,
+        verdicts,
         after_filter,
         points,
         harmonics_evaluated,
@@ -887,6 +1136,7 @@ fn noise_steps(
     bulk: Option<&BulkCapacitor>,
     swing_v: f64,
     parasitic_pf: f64,
+    rise_ns: f64,
     model_id: &str,
     network: &Network,
     dm: &[Harmonic],
@@ -923,6 +1173,14 @@ fn noise_steps(
             ),
         ));
     }
+    steps.push(step(
+        Some(model_id),
+        format!(
+            "Common mode: the switch node is a trapezoid with rise and fall time t_r = {} ns: each rectangular harmonic is multiplied by |sin(x) / x|, x = pi n f t_r, so the spectrum falls 40 dB/decade above 1 / (pi t_r) = {} MHz. Harmonics at a null of the spectrum (sin(n pi D) or the trapezoid factor zero) carry no noise and are left out.",
+            show(rise_ns),
+            show(round_to(1.0 / (std::f64::consts::PI * rise_ns * 1e-9) / 1e6, 0.001))
+        ),
+    ));
     steps.push(step(
         Some(model_id),
         format!(
@@ -976,8 +1234,7 @@ fn noise_steps(
 
 fn declared_filter(
     f: &super::FilterSpec,
-    y_capacitance_nf: Option<f64>,
-    arrangement: YArrangement,
+    cm_capacitance_exact_nf: Option<f64>,
     steps: &mut Vec<Step>,
 ) -> Option<DeclaredFilter> {
     let any = f.dm_inductance_uh.is_some()
@@ -1049,7 +1306,6 @@ fn declared_filter(
         optimum = Some(round_to(rd, 0.001));
     }
     // Unrounded: it is a divisor (a tiny Y capacitance would round to 0 nF).
-    let cm_capacitance_exact_nf = y_capacitance_nf.map(|y| y * arrangement.common_mode_factor());
     let cm_capacitance_nf = cm_capacitance_exact_nf.map(tidy);
     let mut cm_corner_hz = None;
     if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_exact_nf)
@@ -1154,7 +1410,7 @@ pub fn middlebrook(
     steps.push(step(
         None,
         format!(
-            "Converter input impedance at the lowest bulk voltage: |Z_in| = V^2 / P = {}^2 / ({} / {}) = {} ohm (a constant-power load looks like -V^2/P; Middlebrook's criterion asks the filter's output impedance to stay well below it).",
+            "Converter input impedance at the lowest line voltage (behind its PFC stage): |Z_in| = V^2 / P = {}^2 / ({} / {}) = {} ohm (a constant-power load looks like -V^2/P; Middlebrook's criterion asks the filter's output impedance to stay well below it).",
             show(c.bulk_v),
             show(c.output_w),
             show(c.efficiency),

@@ -83,6 +83,17 @@ fn headline(out: &mut String, r: &EmcReport) {
         "largest Y capacitance per line {}\n",
         num(r.max_y_capacitance_nf, "nF")
     ));
+    if !r.verdicts.is_empty() {
+        let list: Vec<String> = r
+            .verdicts
+            .iter()
+            .map(|(k, v)| format!("{k} {}", v.as_str()))
+            .collect();
+        out.push_str(&format!(
+            "verdicts (on the unrounded figures): {}\n",
+            list.join(", ")
+        ));
+    }
 }
 
 fn points(out: &mut String, r: &EmcReport) {

@@ -139,3 +139,87 @@ pub fn peak_output_impedance(stage: &Stage) -> Option<(f64, f64)> {
     };
     (peak.is_finite()).then(|| (peak, ln_f.exp()))
 }
+
+/// A complex number, for the filter's transfer function (no crate needed for four
+/// operations).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Complex {
+    pub re: f64,
+    pub im: f64,
+}
+
+impl Complex {
+    pub const fn new(re: f64, im: f64) -> Self {
+        Complex { re, im }
+    }
+    pub fn plus(self, o: Complex) -> Complex {
+        Complex::new(self.re + o.re, self.im + o.im)
+    }
+    pub fn times(self, o: Complex) -> Complex {
+        Complex::new(
+            self.re * o.re - self.im * o.im,
+            self.re * o.im + self.im * o.re,
+        )
+    }
+    pub fn over(self, o: Complex) -> Complex {
+        let d = o.re * o.re + o.im * o.im;
+        Complex::new(
+            (self.re * o.re + self.im * o.im) / d,
+            (self.im * o.re - self.re * o.im) / d,
+        )
+    }
+    pub fn abs(self) -> f64 {
+        self.re.hypot(self.im)
+    }
+    /// Two impedances in parallel.
+    pub fn parallel(self, o: Complex) -> Complex {
+        self.times(o).over(self.plus(o))
+    }
+}
+
+/// One line of the measuring network: a resistance in parallel with an inductance
+/// (CISPR 16-1-2: 50 ohm in parallel with 50 uH).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NetworkLine {
+    pub resistance_ohm: f64,
+    pub inductance_h: f64,
+}
+
+impl NetworkLine {
+    pub fn impedance(&self, frequency_hz: f64) -> Complex {
+        let w = 2.0 * PI * frequency_hz;
+        Complex::new(self.resistance_ohm, 0.0).parallel(Complex::new(0.0, w * self.inductance_h))
+    }
+}
+
+/// A filter stage between a noise source and the measuring network: a shunt branch on
+/// the source side (the X or Y capacitance, with a parallel R-C damping branch) and a
+/// series branch towards the network (the inductance with its resistance).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TwoPort {
+    pub series_inductance_h: f64,
+    pub series_resistance_ohm: f64,
+    pub shunt_capacitance_f: f64,
+    /// (Rd in ohms, Cd in farads) across the shunt capacitance.
+    pub damping: Option<(f64, f64)>,
+}
+
+/// Insertion loss in dB of `stage` between a resistive source impedance and a load (the
+/// measuring network as the mode sees it): 20 log10 |V_load without / V_load with|.
+/// Negative near the resonance where the stage amplifies.
+pub fn insertion_loss_db(stage: &TwoPort, source_ohm: f64, load: Complex, frequency_hz: f64) -> f64 {
+    let w = 2.0 * PI * frequency_hz;
+    let zs = Complex::new(source_ohm, 0.0);
+    let mut shunt = Complex::new(0.0, -1.0 / (w * stage.shunt_capacitance_f));
+    if let Some((rd, cd)) = stage.damping {
+        shunt = shunt.parallel(Complex::new(rd, -1.0 / (w * cd)));
+    }
+    let series = Complex::new(stage.series_resistance_ohm, w * stage.series_inductance_h);
+    // Without the stage: V0 = Vs Zl / (Zs + Zl).
+    let without = load.over(zs.plus(load));
+    // With it: Vx = Vs Zp / (Zs + Zp), Zp = shunt || (series + Zl); V = Vx Zl / (series + Zl).
+    let zp = shunt.parallel(series.plus(load));
+    let with = zp.over(zs.plus(zp)).times(load.over(series.plus(load)));
+    let ratio = without.over(with);
+    20.0 * ratio.abs().log10()
+}

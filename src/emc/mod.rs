@@ -132,6 +132,7 @@ pub struct EmcSpec {
     pub filter: FilterSpec,
     pub parasitic_capacitance_pf: Option<f64>,
     pub switch_node_swing_v: Option<f64>,
+    pub switch_node_rise_time_ns: Option<f64>,
 }
 
 /// One point of noise, before and after the filter, beside the limit.
@@ -153,6 +154,10 @@ pub struct NoisePoint {
     /// Asymptotic attenuation of the filter used for "after" at this frequency.
     pub filter_attenuation_db: f64,
     pub after_filter_dbuv: f64,
+    /// After the declared filter, at or below the limit less the margin: `pass`; above:
+    /// `fail`; no declared stage for this mode: `not-judged`; a point needing no
+    /// attenuation passes; `check-input` where it rests on an implausible input.
+    pub verdict: crate::power_entry::Verdict,
 }
 
 /// The filter as declared, with its own corners.
@@ -285,6 +290,10 @@ pub struct EmcReport {
     /// The per-line Y capacitance the common-mode corner was sized with (the declared
     /// one capped by max_y_capacitance_nf); null when neither is known.
     pub y_capacitance_used_nf: Option<f64>,
+    /// The common-mode capacitance the choke was sized with: twice the per-line value for
+    /// a declared "each-line" y_capacitance_nf, the sum of the Y-capacitor parts (never
+    /// doubled: they are every Y capacitor), or the capped value times the arrangement.
+    pub cm_capacitance_used_nf: Option<f64>,
     pub single_stage_practical_db: f64,
     pub two_stage_practical_db: f64,
     pub filter: Option<DeclaredFilter>,
@@ -293,6 +302,14 @@ pub struct EmcReport {
     /// Parts of the estimate that could not be made, in words (empty when complete).
     pub noise_gaps: Vec<String>,
     pub middlebrook: Option<Middlebrook>,
+    /// Middlebrook's criterion holds for this converter (`converter.pfc_stage = true`).
+    pub middlebrook_applies: bool,
+    /// Why it was not applied, where a converter is declared without a PFC stage.
+    pub middlebrook_not_applied: Option<String>,
+    /// The verdict of each judged EMC figure, made on unrounded figures: `y_capacitance_nf`
+    /// (against the touch-current cap), `dm_corner_hz` and `cm_corner_hz` (declared against
+    /// required), `middlebrook`, `points` (the worst point after the declared filter).
+    pub verdicts: std::collections::BTreeMap<String, crate::power_entry::Verdict>,
     /// What "after the filter" means in the points.
     pub after_filter: String,
     pub points: Vec<NoisePoint>,
@@ -479,6 +496,19 @@ fn gather(
         converter,
         bulk,
         assumptions,
+        pfc_stage: project.converter.as_ref().is_some_and(|c| c.pfc_stage),
+        min_mains_v: match power_entry {
+            Some(pe) => pe.mains.min_v,
+            None => project
+                .mains
+                .min_v
+                .unwrap_or(project.mains.nominal_v * (1.0 - mains_defaults.tolerance.value)),
+        },
+        suspicious_keys: project
+            .warnings
+            .iter()
+            .filter_map(|w| w.key.clone())
+            .collect(),
     }
 }
 

@@ -46,6 +46,19 @@ pub struct BulkCapacitor {
 pub struct CommonModePath {
     pub switch_node_swing_v: f64,
     pub parasitic_capacitance_pf: f64,
+    /// Rise (and fall) time of the switch node: the trapezoid's spectrum is the
+    /// rectangle's times |sin(x) / x|, x = pi n f t_r.
+    pub rise_time_s: f64,
+}
+
+/// A harmonic whose |sin(n pi D)| (or trapezoid factor) is below this carries no noise:
+/// a null of the spectrum, left out rather than shown at -200 dBuV.
+pub const NULL_FRACTION: f64 = 1e-9;
+
+/// |sin(x) / x| for x = pi n f t_r: the trapezoid's extra fall, 1 at x = 0.
+pub fn trapezoid_factor(n: u64, switching_hz: f64, rise_time_s: f64) -> f64 {
+    let x = std::f64::consts::PI * n as f64 * switching_hz * rise_time_s;
+    if x.abs() < 1e-12 { 1.0 } else { (x.sin() / x).abs() }
 }
 
 /// The measuring network as the estimate sees it.
@@ -165,13 +178,16 @@ pub fn differential_mode(
     for n in first..=last {
         let f = n as f64 * c.switching_hz;
         let w = 2.0 * std::f64::consts::PI * f;
+        // A null of the pulse train (n D whole) carries no noise: nothing to show.
+        if (n as f64 * std::f64::consts::PI * c.max_duty).sin().abs() <= NULL_FRACTION {
+            continue;
+        }
         let source = pulse_harmonic_peak(height, c.max_duty, n);
         // Z_c = ESR - j / (w C); current divider Z_c / (Z_c + 2 R_line).
         let (zr, zi) = (bulk.esr_ohm, -1.0 / (w * capacitance_f));
         let z_mag = zr.hypot(zi);
         let sum_mag = (zr + 2.0 * r_line).hypot(zi);
         let line_current = source * z_mag / sum_mag;
-        // A null of the pulse train (n D whole) carries no noise: nothing to show.
         if line_current <= 0.0 {
             continue;
         }
@@ -186,7 +202,9 @@ pub fn differential_mode(
     Ok(out)
 }
 
-/// Common-mode harmonics inside the band: the switch-node swing drives its parasitic
+/// Common-mode harmonics inside the band: the switch-node swing (a trapezoid: the
+/// rectangle's harmonic times |sin(x)/x|, x = pi n f t_r, so -40 dB/decade above
+/// 1 / (pi t_r)) drives its parasitic
 /// capacitance in series with the measuring network's common-mode impedance (25 ohm);
 /// the level is that current times 25 ohm.
 pub fn common_mode(
@@ -196,6 +214,12 @@ pub fn common_mode(
     band_hz: (f64, f64),
 ) -> Result<Vec<Harmonic>, String> {
     check_inputs(c)?;
+    if !(path.rise_time_s.is_finite() && path.rise_time_s >= 0.0) {
+        return Err(format!(
+            "switch_node_rise_time = {} s cannot be used by the estimate",
+            path.rise_time_s
+        ));
+    }
     for (name, value) in [
         ("switch_node_swing_v", path.switch_node_swing_v),
         ("parasitic_capacitance_pf", path.parasitic_capacitance_pf),
@@ -213,7 +237,13 @@ pub fn common_mode(
     for n in first..=last {
         let f = n as f64 * c.switching_hz;
         let w = 2.0 * std::f64::consts::PI * f;
-        let source = pulse_harmonic_peak(path.switch_node_swing_v, c.max_duty, n);
+        let trapezoid = trapezoid_factor(n, c.switching_hz, path.rise_time_s);
+        if (n as f64 * std::f64::consts::PI * c.max_duty).sin().abs() <= NULL_FRACTION
+            || trapezoid <= NULL_FRACTION
+        {
+            continue;
+        }
+        let source = pulse_harmonic_peak(path.switch_node_swing_v, c.max_duty, n) * trapezoid;
         let z_mag = r_cm.hypot(1.0 / (w * capacitance_f));
         let current = source / z_mag;
         if current <= 0.0 {

@@ -13,6 +13,7 @@ const EMC_KEYS: &[&str] = &[
     "filter",
     "parasitic_capacitance_pf",
     "switch_node_swing_v",
+    "switch_node_rise_time_ns",
 ];
 const PRESCAN_KEYS: &[&str] = &["frequency_hz", "level_dbuv", "detector"];
 const FILTER_KEYS: &[&str] = &[
@@ -118,6 +119,16 @@ const RESISTANCE_OHM: NumberRule = NumberRule {
     expected: "a resistance in ohms, above 0",
 };
 
+const RISE_NS: NumberRule = NumberRule {
+    min: 0.0,
+    min_inclusive: false,
+    max: 1e6,
+    plausible_min: 0.1,
+    plausible_max: 10_000.0,
+    integer: false,
+    expected: "a rise time in nanoseconds, above 0 (20 for 20 ns)",
+};
+
 const SWING_V: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: false,
@@ -141,6 +152,9 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
         .map(|l| l.value);
     let switch_node_swing_v = r
         .number(&t, "switch_node_swing_v", &SWING_V)
+        .map(|l| l.value);
+    let switch_node_rise_time_ns = r
+        .number(&t, "switch_node_rise_time_ns", &RISE_NS)
         .map(|l| l.value);
 
     let mut prescan = Vec::new();
@@ -178,6 +192,7 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
         filter,
         parasitic_capacitance_pf,
         switch_node_swing_v,
+        switch_node_rise_time_ns,
     })
 }
 

@@ -217,6 +217,10 @@ pub struct FilterModel {
     pub middlebrook_margin_db: Parameter,
     pub single_stage_practical_db: Parameter,
     pub two_stage_practical_db: Parameter,
+    pub network_inductance_uh: Parameter,
+    pub dm_source_impedance_ohm: Parameter,
+    pub cm_source_impedance_ohm: Parameter,
+    pub default_switch_node_rise_time_ns: Parameter,
 }
 
 impl FilterModel {
@@ -238,6 +242,13 @@ impl Table for FilterModel {
             ),
             ("single_stage_practical_db", &self.single_stage_practical_db),
             ("two_stage_practical_db", &self.two_stage_practical_db),
+            ("network_inductance_uh", &self.network_inductance_uh),
+            ("dm_source_impedance_ohm", &self.dm_source_impedance_ohm),
+            ("cm_source_impedance_ohm", &self.cm_source_impedance_ohm),
+            (
+                "default_switch_node_rise_time_ns",
+                &self.default_switch_node_rise_time_ns,
+            ),
         ];
         for (name, p) in positive {
             if !(p.value.is_finite() && p.value > 0.0) {

@@ -8,6 +8,7 @@ use super::rectifier::{self, Rectifier};
 use super::*;
 use crate::diag::{Diagnostic, suggest};
 use crate::project::{CircuitKind, Grade, PartKind, ProtectionClass};
+use crate::emc::YArrangement;
 use crate::rules::TestVoltages;
 
 const PE: &str = "power_entry";
@@ -38,6 +39,8 @@ struct Figure {
     value: Option<f64>,
     unit: &'static str,
     formula: String,
+    verdict: Option<Verdict>,
+    rests_on: Vec<String>,
 }
 
 impl Figure {
@@ -48,7 +51,21 @@ impl Figure {
             value,
             unit,
             formula: String::new(),
+            verdict: None,
+            rests_on: Vec::new(),
         }
+    }
+
+    /// The verdict of the comparison on the unrounded figures: `Some(true)` fails,
+    /// `Some(false)` passes, `None` could not be judged.
+    fn judged(mut self, fails: Option<bool>) -> Self {
+        self.verdict = Some(Verdict::of(fails));
+        self
+    }
+
+    fn rests_on(mut self, keys: &[&str]) -> Self {
+        self.rests_on = keys.iter().map(|k| k.to_string()).collect();
+        self
     }
 
     fn formula(mut self, f: impl Into<String>) -> Self {
@@ -72,6 +89,8 @@ impl Figure {
             formula: self.formula,
             inputs,
             judged_against,
+            verdict: self.verdict,
+            rests_on: self.rests_on,
             steps,
             not_computed_because: None,
         }
@@ -162,7 +181,8 @@ pub(super) fn evaluate(
         None
     };
 
-    let (fuse, fuse_section) = fuse(&mut b, &inrush, input_rms_a);
+    let exact_rms = max_of(points.iter().map(|p| p.exact_input_rms_a));
+    let (fuse, fuse_section) = fuse(&mut b, &inrush, exact_rms);
     sections.push(fuse_section);
     let (discharge, discharge_section) = discharge(&mut b);
     sections.push(discharge_section);
@@ -170,6 +190,65 @@ pub(super) fn evaluate(
     sections.push(touch_section);
     let (test_voltages, test_section) = test_voltages(&b);
     sections.push(test_section);
+
+    // The bulk capacitor's highest voltage: switch-on, hot restart and operation.
+    let bulk_peak = max_of(points.iter().map(|p| p.exact_bulk_peak_v))
+        .map_or(inrush.exact_bulk_peak_v, |v| v.max(inrush.exact_bulk_peak_v));
+    for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
+        if f.id == format!("{PE}.bulk_peak_v") {
+            f.value = sig(Some(bulk_peak));
+            f.verdict = Some(Verdict::of(spec.bulk_rated_v.map(|r| bulk_peak > r)));
+        }
+    }
+    if spec.bulk_rated_v.is_none() {
+        b.missing.push(
+            "input.bulk_rated_v (the bulk capacitor's rated voltage, against its highest voltage at switch-on and hot restart)"
+                .to_string(),
+        );
+    }
+    // Figures judged in another section carry that section's verdict in their own row.
+    let copies: Vec<(String, Option<Verdict>)> = [
+        ("inrush_i2t_a2s", "fuse_required_i2t_a2s"),
+        ("hot_restart_i2t_a2s", "fuse_hot_restart_i2t_a2s"),
+        ("low_line.input_rms_a", "fuse_max_operating_a"),
+    ]
+    .iter()
+    .map(|(to, from)| {
+        let v = sections
+            .iter()
+            .flat_map(|s| s.figures.iter())
+            .find(|f| f.id == format!("{PE}.{from}"))
+            .and_then(|f| f.verdict);
+        (format!("{PE}.{to}"), v)
+    })
+    .collect();
+    for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
+        if let Some((_, v)) = copies.iter().find(|(id, _)| *id == f.id) {
+            f.verdict = *v;
+            f.rests_on = vec!["input".into(), "mains".into(), "converter".into(), "emc.filter.dm_".into()];
+        }
+        if f.id == format!("{PE}.discharge_residual_v") && discharge.residual_limit_v.is_some() {
+            f.verdict = Some(Verdict::of(match (discharge.exact_residual_v, discharge.residual_limit_v) {
+                (Some(v), Some(l)) => Some(v > l),
+                _ => None,
+            }));
+        }
+    }
+    // A figure that rests on an implausible input is never `pass`.
+    let suspicious: Vec<&str> = project
+        .warnings
+        .iter()
+        .filter_map(|w| w.key.as_deref())
+        .collect();
+    let mut verdicts = std::collections::BTreeMap::new();
+    for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
+        if f.verdict == Some(Verdict::Pass) && rests_on_suspicious(&f.rests_on, &suspicious) {
+            f.verdict = Some(Verdict::CheckInput);
+        }
+        if let Some(v) = f.verdict {
+            verdicts.insert(f.id.trim_start_matches("power_entry.").to_string(), v);
+        }
+    }
 
     let touch_current_ma = if touch.is_empty() || touch.iter().any(|t| t.current_ma.is_none()) {
         None
@@ -204,10 +283,27 @@ pub(super) fn evaluate(
         end_product_standard_title: standard_title,
         touch,
         test_voltages,
+        bulk_peak_v: significant(bulk_peak),
+        bulk_rated_v: spec.bulk_rated_v,
+        verdicts,
         missing_ratings: b.missing,
         assumptions: b.assumptions,
         sections,
     }))
+}
+
+/// Whether a warning key falls under one of the prefixes a figure rests on: `input` covers
+/// `input.fuse.rated_a`, `part` covers `part[2].capacitance_nf`.
+pub(crate) fn rests_on_suspicious(prefixes: &[String], suspicious: &[&str]) -> bool {
+    suspicious.iter().any(|key| {
+        prefixes.iter().any(|p| {
+            key.starts_with(p.as_str())
+                && (p.ends_with('_')
+                    || p.ends_with('.')
+                    || key.len() == p.len()
+                    || matches!(key.as_bytes().get(p.len()), Some(b'.') | Some(b'[')))
+        })
+    })
 }
 
 fn max_of(values: impl Iterator<Item = Option<f64>>) -> Option<f64> {
@@ -364,13 +460,46 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
     let c_f = spec.bulk_capacitance_uf * 1e-6;
     let r_s = spec.series_resistance_ohm;
     let (r_cold_lim, r_hot_lim) = limiter_ohms(&b.limiter);
-    let r_cold = r_s + r_cold_lim;
-    let r_hot = r_s + r_hot_lim;
+    let filter = b.project.emc.as_ref().map(|e| &e.filter);
+    let l_uh = filter.and_then(|f| f.dm_inductance_uh);
+    let r_l = filter
+        .and_then(|f| f.dm_inductor_resistance_ohm)
+        .filter(|_| l_uh.is_some())
+        .unwrap_or(0.0);
+    let r_cold = r_s + r_cold_lim + r_l;
+    let r_hot = r_s + r_hot_lim + r_l;
     let has_limiter = b.limiter.kind != LimiterKind::None;
-    let peak_a = v_pk / r_cold;
-    let i2t = v_pk * v_pk * c_f / (2.0 * r_cold);
-    let hot_peak = v_pk / r_hot;
-    let hot_i2t = v_pk * v_pk * c_f / (2.0 * r_hot);
+    let resistive_peak = v_pk / r_cold;
+    let resistive_i2t = v_pk * v_pk * c_f / (2.0 * r_cold);
+    let resistive_hot_peak = v_pk / r_hot;
+    let resistive_hot_i2t = v_pk * v_pk * c_f / (2.0 * r_hot);
+    // Through the filter's inductance: an L-R-C switch-on, simulated (from 0 V both cold
+    // and at a hot restart: the bulk capacitor may have discharged fully; conservative).
+    let lrc = |r: f64| {
+        l_uh.and_then(|l| {
+            super::inrush::simulate(&super::inrush::LrcCircuit {
+                peak_v: v_pk,
+                frequency_hz: b.mains.max_frequency_hz,
+                inductance_h: l * 1e-6,
+                resistance_ohm: r,
+                capacitance_f: c_f,
+                start_v: 0.0,
+            })
+        })
+    };
+    let cold_lrc = lrc(r_cold);
+    let hot_lrc = lrc(r_hot);
+    let (peak_a, i2t) = match &cold_lrc {
+        Some(x) => (x.peak_a, x.i2t_a2s),
+        None => (resistive_peak, resistive_i2t),
+    };
+    let (hot_peak, hot_i2t) = match &hot_lrc {
+        Some(x) => (x.peak_a, x.i2t_a2s),
+        None => (resistive_hot_peak, resistive_hot_i2t),
+    };
+    let cold_bulk_peak = cold_lrc.map_or(v_pk, |x| x.bulk_peak_v.max(v_pk));
+    let hot_bulk_peak = hot_lrc.map_or(v_pk, |x| x.bulk_peak_v.max(v_pk));
+    let z0 = l_uh.map(|l| (l * 1e-6 / c_f).sqrt());
     let energy = has_limiter.then(|| c_f * v_pk * v_pk / 2.0);
     let report = InrushReport {
         peak_v: significant(v_pk),
@@ -384,6 +513,19 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         hot_restart_time_constant_ms: significant(r_hot * c_f * 1e3),
         limiter_energy_j: energy.map(significant),
         bridge_surge_a: spec.bridge_surge_a,
+        model: if cold_lrc.is_some() { "l-r-c" } else { "r-c" },
+        filter_inductance_uh: l_uh.filter(|_| cold_lrc.is_some()),
+        filter_inductor_resistance_ohm: (cold_lrc.is_some() && r_l > 0.0).then_some(r_l),
+        characteristic_impedance_ohm: z0.filter(|_| cold_lrc.is_some()).map(significant),
+        resistive_peak_a: significant(resistive_peak),
+        resistive_hot_restart_peak_a: significant(resistive_hot_peak),
+        bulk_peak_v: significant(cold_bulk_peak),
+        hot_restart_bulk_peak_v: significant(hot_bulk_peak),
+        exact_peak_a: peak_a,
+        exact_hot_restart_peak_a: hot_peak,
+        exact_i2t_a2s: i2t,
+        exact_hot_restart_i2t_a2s: hot_i2t,
+        exact_bulk_peak_v: cold_bulk_peak.max(hot_bulk_peak),
     };
 
     let kind = b.limiter.kind.as_str();
@@ -428,10 +570,63 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             Vec::new()
         }
     };
-    let r_cold_words = if has_limiter { "(R_cold + R_s)" } else { "R_s" };
-    let r_hot_words = if has_limiter { "(R_hot + R_s)" } else { "R_s" };
-    let theory =
-        "circuit theory: charging C from V_pk through a constant R, i(t) = (V_pk / R) e^(-t / RC)";
+    let lrc_used = cold_lrc.is_some();
+    let r_l_words = if lrc_used && r_l > 0.0 { " + R_L" } else { "" };
+    let r_cold_words = if has_limiter {
+        format!("(R_cold + R_s{r_l_words})")
+    } else if r_l_words.is_empty() {
+        "R_s".to_string()
+    } else {
+        format!("(R_s{r_l_words})")
+    };
+    let r_hot_words = if has_limiter {
+        format!("(R_hot + R_s{r_l_words})")
+    } else {
+        r_cold_words.clone()
+    };
+    let theory = if lrc_used {
+        "circuit theory: through the filter's inductance the switch-on is an L-R-C circuit, L di/dt = V_pk |cos ωt| - v - R i, C dv/dt = i while the bridge conducts (the bridge stops the current reversing; no load yet); simulated (fourth-order Runge-Kutta, step halved until the peak, the I²t and the capacitor's peak agree within 1e-5), from 0 V"
+    } else {
+        "circuit theory: charging C from V_pk through a constant R, i(t) = (V_pk / R) e^(-t / RC)"
+    };
+    let l_in = || {
+        let mut v = Vec::new();
+        if lrc_used && let Some(l) = l_uh {
+            v.push(input("L", l, "µH", "emc.filter.dm_inductance_uh (in the charging path)"));
+            if r_l > 0.0 {
+                v.push(input("R_L", r_l, "Ω", "emc.filter.dm_inductor_resistance_ohm"));
+            }
+        }
+        v
+    };
+    let lrc_step = |x: Option<super::inrush::LrcInrush>, r: f64, resistive: f64| match x {
+        Some(x) => step(
+            None,
+            format!(
+                "L-R-C: sqrt(L / C) = {} Ω, damping ratio R / (2 sqrt(L / C)) = {}; the current peaks {} µs after switch-on at {} A (V_pk / sqrt(L / C) = {} A bounds it for a light damping; V_pk / R = {} A is the R-C figure without L); the bulk capacitor reaches {} V{}.",
+                show(significant(z0.unwrap_or(f64::NAN))),
+                show(significant(r / (2.0 * z0.unwrap_or(f64::NAN)))),
+                show(significant(x.peak_at_s * 1e6)),
+                show(significant(x.peak_a)),
+                show(significant(v_pk / z0.unwrap_or(f64::NAN))),
+                show(significant(resistive)),
+                show(significant(x.bulk_peak_v)),
+                if x.converged { "" } else { " (the step halvings did not agree within 1e-5: an estimate)" }
+            ),
+        ),
+        None => step(None, "R-C: no filter inductance is declared in the charging path (emc.filter.dm_inductance_uh)."),
+    };
+    let surge_fails = |peak: f64| spec.bridge_surge_a.map(|a| peak > a);
+    let inrush_keys: &[&str] = &[
+        "mains.max_v",
+        "input.series_resistance_ohm",
+        "input.bulk_capacitance_uf",
+        "input.limiter",
+        "input.bridge_surge_a",
+        "emc.filter.dm_",
+        "input.max_frequency_hz",
+        "mains.frequency_hz",
+    ];
     let surge_judge = spec.bridge_surge_a.map(|a| {
         format!(
             "the bridge's surge rating input.bridge_surge_a = {} A",
@@ -452,19 +647,33 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             Some(peak_a),
             "A",
         )
-        .formula(format!("I_pk = V_pk / {r_cold_words}"))
+        .formula(if lrc_used {
+            format!("I_pk = max of i(t), L-R-C through {r_cold_words} (simulated)")
+        } else {
+            format!("I_pk = V_pk / {r_cold_words}")
+        })
+        .judged(surge_fails(peak_a))
+        .rests_on(inrush_keys)
         .done(
-            [vec![peak_input(b)], cold_in("at switch-on"), vec![r_s_in.clone()]].concat(),
+            [vec![peak_input(b)], cold_in("at switch-on"), vec![r_s_in.clone()], l_in(), vec![c_in.clone()]].concat(),
             surge_judge.clone(),
-            vec![step(None, format!("{theory}; the peak is at t = 0."))],
+            if lrc_used {
+                vec![step(None, theory), lrc_step(cold_lrc, r_cold, resistive_peak)]
+            } else {
+                vec![step(None, format!("{theory}; the peak is at t = 0."))]
+            },
         ),
         Figure::new("inrush_i2t_a2s", "Inrush pulse I²t", Some(i2t), "A²s")
-            .formula(format!("I²t = V_pk² × C / (2 {r_cold_words})"))
+            .formula(if lrc_used {
+                "I²t = integral of i(t)² of the simulated L-R-C pulse".to_string()
+            } else {
+                format!("I²t = V_pk² × C / (2 {r_cold_words})")
+            })
             .done(
-                [vec![peak_input(b), c_in.clone()], cold_in("at switch-on"), vec![r_s_in.clone()]]
+                [vec![peak_input(b), c_in.clone()], cold_in("at switch-on"), vec![r_s_in.clone()], l_in()]
                     .concat(),
-                Some("the fuse's melting I²t divided by the pulse factor".to_string()),
-                vec![step(None, format!("{theory}; the integral of i² from 0 to infinity is V_pk² C / (2 R)."))],
+                Some("the fuse's melting I²t divided by the pulse factor (judged in the fuse section)".to_string()),
+                vec![step(None, if lrc_used { theory.to_string() } else { format!("{theory}; the integral of i² from 0 to infinity is V_pk² C / (2 R).") })],
             ),
         Figure::new(
             "inrush_time_constant_ms",
@@ -485,6 +694,11 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             "J",
         )
         .formula("E = C × V_pk² / 2")
+        .judged(match (energy, b.limiter.energy_rating_j) {
+            (Some(e), Some(r)) => Some(e > r),
+            _ => None,
+        })
+        .rests_on(&["mains.max_v", "input.bulk_capacitance_uf", "input.limiter"])
         .done(
             vec![peak_input(b), c_in.clone()],
             b.limiter
@@ -505,19 +719,75 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             Some(hot_peak),
             "A",
         )
-        .formula(format!("I_pk,hot = V_pk / {r_hot_words}"))
+        .formula(if lrc_used {
+            format!("I_pk,hot = max of i(t), L-R-C through {r_hot_words} (simulated)")
+        } else {
+            format!("I_pk,hot = V_pk / {r_hot_words}")
+        })
+        .judged(surge_fails(hot_peak))
+        .rests_on(inrush_keys)
         .done(
-            [vec![peak_input(b)], hot_in(), vec![r_s_in.clone()]].concat(),
+            [vec![peak_input(b)], hot_in(), vec![r_s_in.clone()], l_in(), vec![c_in.clone()]].concat(),
             surge_judge,
-            vec![step(None, "A brief mains interruption lets the bulk capacitor discharge through the load before the limiter cools; the next crest charges it through the hot resistance.")],
+            {
+                let mut v = vec![step(None, "A brief mains interruption lets the bulk capacitor discharge through the load before the limiter cools; the next crest charges it through the hot resistance (from 0 V: the bulk capacitor may have discharged fully; conservative).")];
+                if lrc_used {
+                    v.push(lrc_step(hot_lrc, r_hot, resistive_hot_peak));
+                }
+                v
+            },
         ),
         Figure::new("hot_restart_i2t_a2s", "Pulse I²t at a hot restart", Some(hot_i2t), "A²s")
-            .formula(format!("I²t_hot = V_pk² × C / (2 {r_hot_words})"))
+            .formula(if lrc_used {
+                "I²t_hot = integral of i(t)² of the simulated L-R-C pulse".to_string()
+            } else {
+                format!("I²t_hot = V_pk² × C / (2 {r_hot_words})")
+            })
             .done(
-                [vec![peak_input(b), c_in], hot_in(), vec![r_s_in]].concat(),
-                Some("the fuse's melting I²t (a single pulse)".to_string()),
+                [vec![peak_input(b), c_in.clone()], hot_in(), vec![r_s_in], l_in()].concat(),
+                Some("the fuse's melting I²t (a single pulse; judged in the fuse section)".to_string()),
                 vec![step(None, theory)],
             ),
+        Figure::new(
+            "bulk_peak_v",
+            "Highest bulk capacitor voltage (switch-on, hot restart, operation)",
+            Some(report.exact_bulk_peak_v),
+            "V",
+        )
+        .formula(if lrc_used {
+            "V_bulk,pk = highest v(t) of the L-R-C switch-on and hot restart (the bridge holds the capacitor at its peak), and of the operating points"
+        } else {
+            "V_bulk,pk = V_pk (an R-C charge never overshoots the crest), or the operating points' highest v(t)"
+        })
+        .judged(spec.bulk_rated_v.map(|r| report.exact_bulk_peak_v > r))
+        .rests_on(&[
+            "mains.max_v",
+            "input.series_resistance_ohm",
+            "input.bulk_capacitance_uf",
+            "input.limiter",
+            "input.bulk_rated_v",
+            "emc.filter.dm_",
+        ])
+        .done(
+            [vec![peak_input(b), c_in], l_in()].concat(),
+            Some(match spec.bulk_rated_v {
+                Some(r) => format!("the bulk capacitor's rated voltage input.bulk_rated_v = {} V", show(r)),
+                None => "the bulk capacitor's rated voltage (input.bulk_rated_v not declared: not judged)".to_string(),
+            }),
+            vec![step(
+                None,
+                if lrc_used {
+                    format!(
+                        "Switch-on {} V, hot restart {} V: the filter's inductance lets the capacitor ring above the crest {} V.",
+                        show(significant(cold_bulk_peak)),
+                        show(significant(hot_bulk_peak)),
+                        show(significant(v_pk))
+                    )
+                } else {
+                    format!("The crest of the highest mains voltage, {} V.", show(significant(v_pk)))
+                },
+            )],
+        ),
     ];
     if !has_limiter {
         figures.retain(|f| f.id != format!("{PE}.limiter_energy_j"));
@@ -555,7 +825,14 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     let spec = b.spec;
     let load_w = conv.output_w / conv.efficiency;
     let (_, r_hot_lim) = limiter_ohms(&b.limiter);
-    let series = spec.series_resistance_ohm + r_hot_lim;
+    // The filter's differential-mode inductor sits in the line: its resistance is in the
+    // charging path in operation too.
+    let filter = b.project.emc.as_ref().map(|e| &e.filter);
+    let r_l = filter
+        .filter(|f| f.dm_inductance_uh.is_some())
+        .and_then(|f| f.dm_inductor_resistance_ohm)
+        .unwrap_or(0.0);
+    let series = spec.series_resistance_ohm + r_hot_lim + r_l;
     let c_f = spec.bulk_capacitance_uf * 1e-6;
     let mut circuit_inputs = vec![input(
         "R_s",
@@ -569,6 +846,14 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             r_hot_lim,
             "Ω",
             "limiter resistance in operation",
+        ));
+    }
+    if r_l > 0.0 {
+        circuit_inputs.push(input(
+            "R_L",
+            r_l,
+            "Ω",
+            "emc.filter.dm_inductor_resistance_ohm (the filter's inductor, in the line)",
         ));
     }
     circuit_inputs.extend([
@@ -615,7 +900,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             load_w: significant(load_w),
             bridge_drop_v: b.drop_v,
             sustained: s.sustained,
-            converged: s.converged,
+            converged: s.converged && s.step_converged,
             half_cycles: s.half_cycles,
             steps_per_half_cycle: s.steps_per_half_cycle,
             input_rms_a: ok(s.input_rms_a),
@@ -628,6 +913,10 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             conduction_ms: ok(s.conduction_ms),
             limiter_dissipation_w: ok(s.input_rms_a * s.input_rms_a * r_hot_lim)
                 .filter(|_| r_hot_lim > 0.0),
+            energy_balance_error: ok(s.energy_balance_error),
+            exact_input_rms_a: (s.sustained && s.input_rms_a.is_finite()).then_some(s.input_rms_a),
+            exact_bulk_valley_v: (s.sustained && s.bulk_valley_v.is_finite()).then_some(s.bulk_valley_v),
+            exact_bulk_peak_v: (s.sustained && s.bulk_peak_v.is_finite()).then_some(s.bulk_peak_v),
         };
         figures.extend(point_figures(b, conv, &rect, &s, &point));
         if name == "low-line"
@@ -669,8 +958,13 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     }
     let notes = vec![
         format!(
-            "Simulated in the time domain: ideal full-wave bridge (total drop V_d), series resistance R = R_s + limiter hot resistance, bulk capacitor C, constant-power load P = output_w / efficiency; {} steps per half-cycle (conduction steps implicit: backward Euler, then second-order BDF; the load-only discharge exactly, v² = v0² - 2 P t / C); periodic steady state when the bulk voltage repeats after a half-cycle within {:e} of the source peak (at most {} half-cycles).",
+            "Simulated in the time domain: ideal full-wave bridge (total drop V_d), series resistance R = R_s + limiter hot resistance (+ the filter inductor's resistance where declared), bulk capacitor C, constant-power load P = output_w / efficiency; adaptive step: from {} steps per half-cycle, doubled (up to {}) until the energy balances, |P_in - (P + R I_rms² + V_d I_avg)| within {} % of P_in, and the RMS current, repetitive peak and valley move by less than {} % (here {} and {} steps at low and high line); conduction steps implicit: backward Euler, then second-order BDF; the load-only discharge exactly, v² = v0² - 2 P t / C; periodic steady state when the bulk voltage repeats after a half-cycle within {:e} of the source peak (at most {} half-cycles).",
             rectifier::STEPS_PER_HALF_CYCLE,
+            rectifier::MAX_STEPS_PER_HALF_CYCLE,
+            show(rectifier::ENERGY_TOLERANCE * 100.0),
+            show(rectifier::ENERGY_TOLERANCE * 100.0),
+            points.first().map(|p| p.steps_per_half_cycle).unwrap_or(0),
+            points.get(1).map(|p| p.steps_per_half_cycle).unwrap_or(0),
             rectifier::STEADY_STATE_TOLERANCE,
             rectifier::MAX_HALF_CYCLES
         ),
@@ -798,6 +1092,8 @@ fn point_figures(
             "V",
         )
         .formula("V_valley = lowest v(t); between pulses v(t)² = v0² - 2 P t / C exactly")
+        .judged(p.exact_bulk_valley_v.map(|v| v < conv.min_bulk_v))
+        .rests_on(&["input", "converter", "mains"])
         .done(
             sim_inputs(),
             Some(format!("converter.min_bulk_v = {} V", show(conv.min_bulk_v))),
@@ -893,7 +1189,7 @@ fn fuse(
         (
             "rated_v",
             f.rated_v.is_none(),
-            "against the highest mains voltage",
+            "against the equipment's highest rated voltage",
         ),
         ("speed", f.speed.is_none(), "for the pulse factor"),
     ] {
@@ -917,7 +1213,18 @@ fn fuse(
         ));
     }
     let max_operating = f.rated_a.map(|a| a * derating);
-    let required_i2t = pulse.map(|p| p.factor * inrush.i2t_a2s);
+    let required_i2t = pulse.map(|p| p.factor * inrush.exact_i2t_a2s);
+    let rated_supply_declared = b.spec.highest_rated_v.is_some();
+    let rated_supply = b
+        .spec
+        .highest_rated_v
+        .unwrap_or(b.project.mains.nominal_v);
+    if !rated_supply_declared && f.rated_v.is_some() {
+        b.assumptions.push(format!(
+            "The equipment's highest rated voltage is taken as mains.nominal_v = {} V for the fuse's voltage rating (input.highest_rated_v not given; 240 for a 100-240 V rating).",
+            show(rated_supply)
+        ));
+    }
     let report = FuseReport {
         rated_a: f.rated_a,
         melting_i2t_a2s: f.melting_i2t_a2s,
@@ -932,6 +1239,9 @@ fn fuse(
         prospective_fault_a: prospective,
         prospective_declared,
         mains_max_v: b.mains.max_v,
+        rated_supply_v: rated_supply,
+        rated_supply_declared,
+        rated_v_below_mains_max: f.rated_v.map(|r| r < b.mains.max_v),
     };
     let rated_in = |v: Option<f64>| {
         v.map(|a| vec![input("I_rated", a, "A", "input.fuse.rated_a")])
@@ -945,6 +1255,11 @@ fn fuse(
             "A",
         )
         .formula("I_max = k × I_rated")
+        .judged(match (max_operating, input_rms_a) {
+            (Some(m), Some(i)) => Some(i > m),
+            _ => None,
+        })
+        .rests_on(&["input", "converter", "mains"])
         .done(
             [
                 rated_in(f.rated_a),
@@ -964,6 +1279,11 @@ fn fuse(
             "A²s",
         )
         .formula("I²t_req = n × I²t_inrush")
+        .judged(match (required_i2t, f.melting_i2t_a2s) {
+            (Some(r), Some(m)) => Some(m < r),
+            _ => None,
+        })
+        .rests_on(&["input", "mains", "emc.filter.dm_"])
         .done(
             [
                 vec![input("I²t_inrush", inrush.i2t_a2s, "A²s", "inrush pulse I²t (cold switch-on)")],
@@ -990,6 +1310,8 @@ fn fuse(
             "A",
         )
         .formula("I_fault (declared, or the rules' default)")
+        .judged(f.breaking_a.map(|a| a < prospective))
+        .rests_on(&["input.prospective_fault_a", "input.fuse.breaking_a"])
         .done(
             vec![input(
                 "I_fault",
@@ -1010,11 +1332,67 @@ fn fuse(
             },
         ),
     ];
+    let mut figures = figures;
+    figures.push(
+        Figure::new(
+            "fuse_rated_supply_v",
+            "Highest rated supply voltage the fuse must interrupt",
+            Some(rated_supply),
+            "V",
+        )
+        .formula("V_rated (input.highest_rated_v, or mains.nominal_v)")
+        .judged(f.rated_v.map(|r| r < rated_supply))
+        .rests_on(&["input.highest_rated_v", "mains.nominal_v", "input.fuse.rated_v"])
+        .done(
+            vec![input(
+                "V_rated",
+                rated_supply,
+                "V",
+                if rated_supply_declared {
+                    "input.highest_rated_v"
+                } else {
+                    "mains.nominal_v (input.highest_rated_v not given)"
+                },
+            )],
+            f.rated_v
+                .map(|v| format!("the fuse's rated voltage input.fuse.rated_v = {} V", show(v))),
+            vec![step(
+                None,
+                format!(
+                    "A fuse's voltage rating is compared with the equipment's highest rated voltage (the top of its marked range), not with the tolerance above it (common practice, no published source); the highest mains voltage with tolerance, {} V, is {}.",
+                    show(b.mains.max_v),
+                    match f.rated_v {
+                        Some(r) if r < b.mains.max_v => format!("above the fuse's {} V: a note, not a shortfall", show(r)),
+                        Some(r) => format!("within the fuse's {} V", show(r)),
+                        None => "shown for reference".to_string(),
+                    }
+                ),
+            )],
+        ),
+    );
+    figures.push(
+        Figure::new(
+            "fuse_hot_restart_i2t_a2s",
+            "A single hot restart's pulse I²t against the melting I²t",
+            Some(inrush.exact_hot_restart_i2t_a2s),
+            "A²s",
+        )
+        .formula("I²t_hot (inrush section)")
+        .judged(f.melting_i2t_a2s.map(|m| m < inrush.exact_hot_restart_i2t_a2s))
+        .rests_on(&["input", "mains", "emc.filter.dm_"])
+        .done(
+            Vec::new(),
+            f.melting_i2t_a2s
+                .map(|m| format!("the fuse's melting I²t input.fuse.melting_i2t_a2s = {} A²s", show(m))),
+            Vec::new(),
+        ),
+    );
     let notes = vec![format!(
-        "Voltage rating {} against the highest mains voltage {} V; a single hot restart's I²t {} A²s against the melting I²t.",
+        "Voltage rating {} against the highest rated voltage {} V (the highest mains voltage {} V with tolerance is a note); a single hot restart's I²t {} A²s against the melting I²t.",
         f.rated_v
             .map(|v| format!("{} V", show(v)))
             .unwrap_or_else(|| "not declared".to_string()),
+        show(rated_supply),
         show(b.mains.max_v),
         show(inrush.hot_restart_i2t_a2s)
     )];
@@ -1040,16 +1418,30 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         );
         Connection::Plug
     });
-    if spec.x_capacitance_uf.is_none() {
+    let filter = b.project.emc.as_ref().map(|e| &e.filter);
+    // Every capacitance across the line counts: the X capacitor(s) and the capacitor of an
+    // R-C damping network alike (circuit theory; REFERENCES: power entry).
+    let filter_x = filter.and_then(|f| f.x_capacitance_uf);
+    let x_uf = spec.x_capacitance_uf.or(filter_x);
+    let damping_uf = filter.and_then(|f| f.damping).map(|(_, cd)| cd);
+    if x_uf.is_none() {
         b.missing.push(
             "input.x_capacitance_uf (the X capacitance across the line, for the discharge; write 0 if there is none)"
                 .to_string(),
         );
     }
+    let across = match (x_uf, damping_uf) {
+        (Some(x), Some(d)) => Some(x + d),
+        (Some(x), None) => Some(x),
+        (None, Some(d)) => Some(d),
+        (None, None) => None,
+    };
     let tolerant = spec.bleeder_fault_tolerant.unwrap_or(false);
     let threshold = rules.threshold_uf.value;
-    let required = spec.x_capacitance_uf.is_some_and(|x| x > threshold);
-    let tau = match (spec.bleeder_ohm, spec.x_capacitance_uf) {
+    let exempt = rules.not_applicable(connection.as_str());
+    let above = across.is_some_and(|x| x > threshold);
+    let required = above && exempt.is_none();
+    let tau = match (spec.bleeder_ohm, across) {
         (Some(r), Some(c)) if c > 0.0 => Some(r * c * 1e-6),
         _ => None,
     };
@@ -1057,37 +1449,75 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
     let v_pk = SQRT_2 * b.mains.max_v;
     let t_res = rules.residual_after_s.value;
     let residual = tau.map(|t| v_pk * (-t_res / t).exp());
+    // Without a bleeder nothing is credited: the crest stays.
+    let residual = residual.or((across.is_some_and(|c| c > 0.0) && spec.bleeder_ohm.is_none()).then_some(v_pk));
+    let tau_fails = if required && limit.is_some() {
+        match (tau, spec.bleeder_ohm) {
+            (_, None) => Some(true),
+            (Some(t), Some(_)) => limit.map(|l| t > l.max_time_constant_s),
+            (None, Some(_)) => None,
+        }
+    } else {
+        None
+    };
     let report = DischargeReport {
         connection,
         x_capacitance_uf: spec.x_capacitance_uf,
+        damping_capacitance_uf: damping_uf,
+        across_line_uf: across.map(significant),
         bleeder_ohm: spec.bleeder_ohm,
         bleeder_fault_tolerant: tolerant,
         threshold_uf: threshold,
         required,
+        not_applicable_reason: exempt.filter(|_| above).map(|x| format!("{} ({})", x.reason, x.source)),
         time_constant_s: sig(tau),
         max_time_constant_s: limit.map(|l| l.max_time_constant_s),
         residual_after_s: t_res,
         residual_v: sig(residual),
         residual_limit_v: rules.residual_limit_v.as_ref().map(|l| l.value),
+        exact_residual_v: residual,
     };
     let r_c_inputs = || {
         let mut v = Vec::new();
         if let Some(r) = spec.bleeder_ohm {
             v.push(input("R_b", r, "Ω", "input.bleeder_ohm"));
         }
-        if let Some(c) = spec.x_capacitance_uf {
-            v.push(input("C_X", c, "µF", "input.x_capacitance_uf"));
+        if let Some(c) = x_uf {
+            v.push(input(
+                "C_X",
+                c,
+                "µF",
+                if spec.x_capacitance_uf.is_some() {
+                    "input.x_capacitance_uf"
+                } else {
+                    "emc.filter.x_capacitance_uf (input.x_capacitance_uf not given)"
+                },
+            ));
+        }
+        if let Some(c) = damping_uf {
+            v.push(input(
+                "C_d",
+                c,
+                "µF",
+                "emc.filter.damping_capacitance_uf (the R-C damping network's capacitor, across the line too)",
+            ));
         }
         v
     };
-    let limit_words = match limit {
-        Some(l) => format!(
+    let c_words = if damping_uf.is_some() { "(C_X + C_d)" } else { "C_X" };
+    let limit_words = match (limit, exempt) {
+        (_, Some(x)) => format!(
+            "no limit for connection = \"{}\": {}",
+            connection.as_str(),
+            x.reason
+        ),
+        (Some(l), None) => format!(
             "at most {} s for connection = \"{}\" ({})",
             show(l.max_time_constant_s),
             connection.as_str(),
             l.source
         ),
-        None => format!(
+        (None, None) => format!(
             "no limit in rule table {} for connection = \"{}\"",
             DischargeRules::ID,
             connection.as_str()
@@ -1099,30 +1529,52 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
             "Applies above {} µF across the mains ({}): {}.",
             show(threshold),
             rules.threshold_uf.source,
-            match spec.x_capacitance_uf {
-                Some(x) if required => format!("{} µF is above it", show(x)),
+            match across {
+                Some(x) if above => format!(
+                    "{} µF across the line{} is above it{}",
+                    show(significant(x)),
+                    if damping_uf.is_some() { " (X capacitance plus the damping capacitor)" } else { "" },
+                    if exempt.is_some() { ", but not for this connection (below)" } else { ", so a discharge means is required" }
+                ),
                 Some(x) => format!(
-                    "{} µF is not above it, so no discharge means is required",
-                    show(x)
+                    "{} µF across the line is not above it, so no discharge means is required",
+                    show(significant(x))
                 ),
                 None => "the X capacitance is not declared".to_string(),
             }
         ),
     )];
+    if let Some(x) = exempt {
+        tau_steps.push(step(rule, format!("connection = \"{}\": {} ({}).", connection.as_str(), x.reason, x.source)));
+    }
     if spec.bleeder_ohm.is_none() {
-        tau_steps.push(step(None, "No bleeder is declared (input.bleeder_ohm): nothing discharges the X capacitance but the converter, which is not credited."));
+        tau_steps.push(step(None, "No bleeder is declared (input.bleeder_ohm): nothing discharges the capacitance across the line but the converter, which is not credited."));
     } else {
         tau_steps.push(step(None, "Only the bleeder is counted; discharge through the rectifier and converter is not credited."));
     }
+    let keys: &[&str] = &[
+        "input.x_capacitance_uf",
+        "input.bleeder_ohm",
+        "emc.filter.x_capacitance_uf",
+        "emc.filter.damping_capacitance_uf",
+    ];
+    let mut tau_figure = Figure::new(
+        "discharge_time_constant_s",
+        "Discharge time constant of the capacitance across the line",
+        tau,
+        "s",
+    )
+    .formula(format!("τ = R_b × {c_words}"))
+    .rests_on(keys);
+    if required && limit.is_some() {
+        tau_figure = tau_figure.judged(tau_fails);
+    }
     let figures = vec![
-        Figure::new(
-            "discharge_time_constant_s",
-            "Discharge time constant of the X capacitance",
-            tau,
-            "s",
-        )
-        .formula("τ = R_b × C_X")
-        .done(r_c_inputs(), required.then_some(limit_words), tau_steps),
+        tau_figure.done(
+            r_c_inputs(),
+            (required || exempt.is_some() && above).then_some(limit_words),
+            tau_steps,
+        ),
         Figure::new(
             "discharge_residual_v",
             format!("Voltage {} s after disconnection at the crest", show(t_res)),
@@ -1130,6 +1582,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
             "V",
         )
         .formula(format!("V = V_pk × e^(-{} / τ)", show(t_res)))
+        .rests_on(keys)
         .done(
             [vec![peak_input(b)], r_c_inputs()].concat(),
             rules
@@ -1139,8 +1592,9 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
             vec![step(
                 rule,
                 format!(
-                    "{}; no limit on this voltage is shipped, a house rule may add one.",
-                    rules.residual_after_s.source
+                    "{}; no limit on this voltage is shipped, a house rule may add one.{}",
+                    rules.residual_after_s.source,
+                    if spec.bleeder_ohm.is_none() { " Without a bleeder nothing is credited: the crest remains." } else { "" }
                 ),
             )],
         ),
@@ -1148,6 +1602,9 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
     let mut notes = Vec::new();
     if spec.bleeder_ohm.is_some() && !tolerant {
         notes.push("The bleeder is taken as a single path: one open resistor leaves the X capacitance charged (input.bleeder_fault_tolerant not set). Standards that judge the single-fault condition need a second path or a fail-safe discharge part.".to_string());
+    }
+    if damping_uf.is_some() {
+        notes.push("The damping network's capacitor sits across the line with the X capacitor: its charge discharges through the same bleeder (its series resistor only slows it), so it is counted.".to_string());
     }
     (
         report,
@@ -1168,6 +1625,12 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
     let v = b.mains.max_v;
     let class = project.design.protection_class;
     let hand_held = b.spec.hand_held.unwrap_or(false);
+    let declared_arrangement = project.emc.as_ref().and_then(|e| e.filter.y_arrangement);
+    // The same default as the EMC evaluation: one from each line in a Class I design.
+    let arrangement = declared_arrangement.unwrap_or(match class {
+        ProtectionClass::I => YArrangement::EachLine,
+        _ => YArrangement::Single,
+    });
     let mut out = Vec::new();
     let mut figures = Vec::new();
     let mut hand_held_used = false;
@@ -1239,9 +1702,32 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
                 });
             }
         }
-        let current = caps
+        // Exact effective capacitances (the parts' values over their series counts).
+        let exact: Option<Vec<f64>> = caps
             .iter()
-            .try_fold(0.0, |sum, c| c.current_ma.map(|i| sum + i));
+            .map(|c| {
+                project
+                    .parts
+                    .iter()
+                    .find(|p| p.reference == c.part)
+                    .and_then(|p| p.ratings.capacitance_nf)
+                    .map(|nf| nf / f64::from(c.count_in_series))
+            })
+            .collect();
+        let counted_nf = exact.as_ref().map(|list| {
+            let total: f64 = list.iter().sum();
+            match arrangement {
+                // One capacitor (or set) from each line: only the line side drives current
+                // through the body; the plug may be reversed, so the larger side counts.
+                YArrangement::EachLine if list.len() > 1 => {
+                    let largest = list.iter().copied().fold(0.0, f64::max);
+                    (total / 2.0).max(largest)
+                }
+                _ => total,
+            }
+        });
+        let current_exact = counted_nf.map(|c| 2.0 * PI * f * v * c * 1e-9 * 1e3);
+        let current = current_exact;
         let limit = rules.limit(standard, part);
         let margin = match (limit, current) {
             (Some(l), Some(i)) => Some(significant(l.limit_ma - i)),
@@ -1272,6 +1758,9 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
             }
         }
         let mut steps = Vec::new();
+        if !caps.is_empty() {
+            steps.push(step(None, touch_model(arrangement, caps.len(), counted_nf)));
+        }
         if caps.is_empty() {
             steps.push(step(None, "No Y-capacitor bridges a barrier from a mains or hazardous circuit to this circuit: no touch current through Y-capacitors."));
         }
@@ -1309,7 +1798,15 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
                 current,
                 "mA",
             )
-            .formula("I = 2π f V × sum of C (each capacitor's C divided by its count in series)")
+            .formula(match arrangement {
+                YArrangement::EachLine => "I = 2π f V × C_line, C_line = the line side's Y capacitance: the larger of half the sum and the largest capacitor (each C divided by its count in series)",
+                YArrangement::Single => "I = 2π f V × sum of C (each capacitor's C divided by its count in series)",
+            })
+            .judged(match (limit, current_exact) {
+                (Some(l), Some(i)) => Some(i > l.limit_ma),
+                _ => None,
+            })
+            .rests_on(&["part", "mains.max_v", "mains.frequency_hz", "input.max_frequency_hz", "emc.filter.y_arrangement"])
             .done(
                 inputs,
                 limit.map(|l| format!("{} mA ({})", show(l.limit_ma), l.source)),
@@ -1319,6 +1816,8 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
         out.push(TouchCircuit {
             circuit: circuit.id.clone(),
             earthed: circuit.earthed,
+            arrangement,
+            counted_nf: sig(counted_nf),
             part: part.to_string(),
             capacitors: caps,
             current_ma: sig(current),
@@ -1333,8 +1832,10 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
         );
     }
     let mut notes = vec![format!(
-        "Limits of {standard_title} (rule table {}). The Y-capacitors counted bridge a barrier from a mains or hazardous circuit to the accessible circuit; the voltage across them is taken as the highest mains voltage. Earthed parts of Class I equipment are judged with the protective earth open.",
-        TouchRules::ID
+        "Limits of {standard_title} (rule table {}). The Y-capacitors counted bridge a barrier from a mains or hazardous circuit to the accessible circuit. Earthed parts of Class I equipment are judged with the protective earth open. Y arrangement \"{}\"{}.",
+        TouchRules::ID,
+        arrangement.as_str(),
+        if declared_arrangement.is_some() { " (emc.filter.y_arrangement)" } else { " (emc.filter.y_arrangement not given: the default for the protection class)" }
     )];
     if out.is_empty() {
         notes.push("No circuit is declared accessible: no touch current to judge.".to_string());
@@ -1349,6 +1850,24 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
             notes,
         },
     )
+}
+
+/// The touch-current model for an arrangement, in words, for the derivation.
+fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>) -> String {
+    let counted = counted_nf
+        .map(|c| format!(" Counted: {} nF.", show(significant(c))))
+        .unwrap_or_default();
+    match arrangement {
+        YArrangement::EachLine if count > 1 => format!(
+            "Model, Y capacitors from each line (\"each-line\"): with the protective earth open, the accessible part hangs between the line through the line-side capacitance and the neutral (at earth potential) through the neutral-side one; the body (about 2 kΩ, far below 1 / (2π f C), some 700 kΩ for 4.7 nF at 50 Hz) shorts the neutral-side capacitor, so only the line side drives current, at the full mains voltage. The capacitors are taken as split evenly between the lines, and the plug may be reversed: the line side is the larger of half the sum and the largest single capacitor.{counted}"
+        ),
+        YArrangement::EachLine => format!(
+            "Model, Y capacitors from each line (\"each-line\") with one capacitor declared: it is taken as the line-side one, at the full mains voltage (the plug may be reversed).{counted}"
+        ),
+        YArrangement::Single => format!(
+            "Model, a single Y capacitance from the rectified primary (\"single\"): the primary follows one line or the other through the bridge for half of each cycle; every capacitor is counted at the full mains voltage, an upper bound (the fundamental of that half-wave is half the mains voltage).{counted}"
+        ),
+    }
 }
 
 fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {

@@ -4,6 +4,7 @@
 //! inputs and rule references; the checks in `rules/checks/power_entry.toml` judge them.
 
 mod figures;
+pub mod inrush;
 mod read;
 pub mod rectifier;
 pub mod tables;
@@ -16,6 +17,7 @@ use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
 use crate::toml_read::{Located, Reader, TableRef};
 
+pub(crate) use figures::rests_on_suspicious;
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
@@ -119,6 +121,11 @@ pub struct InputSpec {
     /// Mains frequency range, where it differs from `mains.frequency_hz`.
     pub min_frequency_hz: Option<f64>,
     pub max_frequency_hz: Option<f64>,
+    /// Rated voltage of the bulk capacitor (judged against its highest simulated voltage).
+    pub bulk_rated_v: Option<f64>,
+    /// The equipment's highest rated supply voltage (240 for a 100-240 V rating), for the
+    /// fuse's voltage rating; default `mains.nominal_v`.
+    pub highest_rated_v: Option<f64>,
     /// `None` when the project has no `[input.limiter]` (then: no limiter, stated).
     pub limiter: Option<LimiterSpec>,
     /// `None` when the project has no `[input.fuse]` (a blocking finding).
@@ -135,6 +142,9 @@ pub struct ConverterSpec {
     pub min_bulk_v: f64,
     pub switching_hz: f64,
     pub max_duty: f64,
+    /// The converter has an active power-factor-correction stage (a small capacitance
+    /// after the bridge): Middlebrook's criterion applies to the input filter.
+    pub pfc_stage: bool,
 }
 
 /// The rule tables power entry reads. The electric strength test voltages come from the
@@ -162,6 +172,40 @@ impl PowerEntryRules {
     }
 }
 
+/// The verdict on a figure judged against a limit or a rating (as barriers have one).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Verdict {
+    Pass,
+    Fail,
+    /// Judged against nothing: the rating or limit is not declared, or the figure could
+    /// not be computed.
+    NotJudged,
+    /// The comparison passes, but the figure rests on an input flagged implausible
+    /// (`input.suspicious_value`): check that input first. Never `pass`.
+    CheckInput,
+}
+
+impl Verdict {
+    /// `Fail` when `fails` is true, `Pass` when false, `NotJudged` without a comparison.
+    pub fn of(fails: Option<bool>) -> Self {
+        match fails {
+            Some(true) => Verdict::Fail,
+            Some(false) => Verdict::Pass,
+            None => Verdict::NotJudged,
+        }
+    }
+
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Verdict::Pass => "pass",
+            Verdict::Fail => "fail",
+            Verdict::NotJudged => "not-judged",
+            Verdict::CheckInput => "check-input",
+        }
+    }
+}
+
 /// One input of a figure: its symbol, value, unit and where it came from.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Input {
@@ -184,6 +228,12 @@ pub struct Derived {
     pub inputs: Vec<Input>,
     /// What the figure is judged against, in words (the check compares).
     pub judged_against: Option<String>,
+    /// The verdict of that comparison, made on the unrounded figures; null when the
+    /// figure is not judged against anything.
+    pub verdict: Option<Verdict>,
+    /// Project keys (prefixes) the figure rests on; an implausible one among them turns a
+    /// `pass` into `check-input`.
+    pub rests_on: Vec<String>,
     pub steps: Vec<Step>,
     /// Where `value` is null: why, in words (for instance, which standard provides it).
     pub not_computed_because: Option<String>,
@@ -237,6 +287,30 @@ pub struct InrushReport {
     pub hot_restart_time_constant_ms: f64,
     pub limiter_energy_j: Option<f64>,
     pub bridge_surge_a: Option<f64>,
+    /// "r-c" (no filter inductance declared: closed form) or "l-r-c" (through
+    /// `emc.filter.dm_inductance_uh`: simulated).
+    pub model: &'static str,
+    /// The filter's differential-mode inductance in the charging path (l-r-c only).
+    pub filter_inductance_uh: Option<f64>,
+    pub filter_inductor_resistance_ohm: Option<f64>,
+    /// sqrt(L / C) of the l-r-c path: the peak current is about V_pk / this.
+    pub characteristic_impedance_ohm: Option<f64>,
+    /// V_pk / R, cold and hot (the r-c figure; an upper bound where L is declared).
+    pub resistive_peak_a: f64,
+    pub resistive_hot_restart_peak_a: f64,
+    /// The bulk capacitor's highest voltage at switch-on and at a hot restart.
+    pub bulk_peak_v: f64,
+    pub hot_restart_bulk_peak_v: f64,
+    #[serde(skip)]
+    pub exact_peak_a: f64,
+    #[serde(skip)]
+    pub exact_hot_restart_peak_a: f64,
+    #[serde(skip)]
+    pub exact_i2t_a2s: f64,
+    #[serde(skip)]
+    pub exact_hot_restart_i2t_a2s: f64,
+    #[serde(skip)]
+    pub exact_bulk_peak_v: f64,
 }
 
 /// One simulated operating point.
@@ -263,6 +337,15 @@ pub struct OperatingPoint {
     pub conduction_ms: Option<f64>,
     /// Dissipation in the limiter at its hot resistance, I_rms^2 * R.
     pub limiter_dissipation_w: Option<f64>,
+    /// |P_in - (P + R I_rms² + V_d I_avg)| / P_in of the simulation (below 0.001 when
+    /// the adaptive step converged).
+    pub energy_balance_error: Option<f64>,
+    #[serde(skip)]
+    pub exact_input_rms_a: Option<f64>,
+    #[serde(skip)]
+    pub exact_bulk_valley_v: Option<f64>,
+    #[serde(skip)]
+    pub exact_bulk_peak_v: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -284,23 +367,38 @@ pub struct FuseReport {
     /// The prospective fault current was declared (not the rules' default).
     pub prospective_declared: bool,
     pub mains_max_v: f64,
+    /// The equipment's highest rated voltage (`input.highest_rated_v`, default
+    /// `mains.nominal_v`): the fuse's voltage rating is judged against it.
+    pub rated_supply_v: f64,
+    pub rated_supply_declared: bool,
+    /// The fuse's rating is below the highest mains voltage with tolerance (a note).
+    pub rated_v_below_mains_max: Option<bool>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DischargeReport {
     pub connection: Connection,
     pub x_capacitance_uf: Option<f64>,
+    /// The R-C damping network's capacitor (`emc.filter.damping_capacitance_uf`), across
+    /// the line too.
+    pub damping_capacitance_uf: Option<f64>,
+    /// Every capacitance across the line: X capacitance plus the damping capacitor.
+    pub across_line_uf: Option<f64>,
     pub bleeder_ohm: Option<f64>,
     pub bleeder_fault_tolerant: bool,
     pub threshold_uf: f64,
-    /// The X capacitance is above the threshold: a discharge means is needed.
+    /// The capacitance across the line is above the threshold: a discharge means is needed.
     pub required: bool,
+    /// Above the threshold, but the rules apply no limit to this connection: why.
+    pub not_applicable_reason: Option<String>,
     pub time_constant_s: Option<f64>,
     /// Limit for this connection; null where the rules give none (permanent).
     pub max_time_constant_s: Option<f64>,
     pub residual_after_s: f64,
     pub residual_v: Option<f64>,
     pub residual_limit_v: Option<f64>,
+    #[serde(skip)]
+    pub exact_residual_v: Option<f64>,
 }
 
 /// One Y-capacitor from a mains or hazardous circuit to an accessible circuit.
@@ -320,10 +418,15 @@ pub struct TouchCapacitor {
 pub struct TouchCircuit {
     pub circuit: String,
     pub earthed: bool,
+    /// How the Y capacitors sit (`emc.filter.y_arrangement`, or the protection class's
+    /// default): "each-line" counts only the line side, "single" every capacitor.
+    pub arrangement: crate::emc::YArrangement,
+    /// The capacitance that drives the touch current under that model.
+    pub counted_nf: Option<f64>,
     /// Which limit applies: "not-earthed", "earthed-hand-held" or "earthed".
     pub part: String,
     pub capacitors: Vec<TouchCapacitor>,
-    /// Null when a capacitor's capacitance is not declared.
+    /// 2 pi f V counted_nf; null when a capacitor's capacitance is not declared.
     pub current_ma: Option<f64>,
     /// Null when the rules give no limit for this standard and part.
     pub limit_ma: Option<f64>,
@@ -387,6 +490,15 @@ pub struct PowerEntryReport {
     pub end_product_standard_title: String,
     pub touch: Vec<TouchCircuit>,
     pub test_voltages: Vec<TestVoltage>,
+    /// The bulk capacitor's highest voltage: switch-on and hot restart (through the
+    /// filter's inductance where one is declared) and the operating points.
+    pub bulk_peak_v: f64,
+    /// `input.bulk_rated_v`, against which bulk_peak_v is judged; null when not declared.
+    pub bulk_rated_v: Option<f64>,
+    /// The verdict of every judged figure by its id (without `power_entry.`), e.g.
+    /// `inrush_peak_a`, `fuse_rated_supply_v`, `touch.output`: pass, fail, not-judged or
+    /// check-input. Made on the unrounded figures; the checks read these.
+    pub verdicts: std::collections::BTreeMap<String, Verdict>,
     /// Ratings the described input stage leaves out, as `key (what it is needed for)`.
     pub missing_ratings: Vec<String>,
     /// Defaults applied to power entry, in words.
@@ -494,6 +606,17 @@ fn explain_figure(out: &mut String, f: &Derived) {
     }
     if let Some(j) = &f.judged_against {
         out.push_str(&format!("  judged against: {j}\n"));
+    }
+    if let Some(v) = f.verdict {
+        out.push_str(&format!(
+            "  verdict: {} (on the unrounded figures{})\n",
+            v.as_str(),
+            if v == Verdict::CheckInput {
+                "; it rests on an input flagged implausible: check that input"
+            } else {
+                ""
+            }
+        ));
     }
 }
 

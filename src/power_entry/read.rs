@@ -19,6 +19,8 @@ const INPUT_KEYS: &[&str] = &[
     "hand_held",
     "min_frequency_hz",
     "max_frequency_hz",
+    "bulk_rated_v",
+    "highest_rated_v",
     "limiter",
     "fuse",
 ];
@@ -36,6 +38,7 @@ const CONVERTER_KEYS: &[&str] = &[
     "min_bulk_v",
     "switching_hz",
     "max_duty",
+    "pfc_stage",
 ];
 
 const fn above_zero(max: f64, plausible_max: f64, expected: &'static str) -> NumberRule {
@@ -178,6 +181,8 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
     let hand_held = r.boolean(t, "hand_held");
     let f_min = r.number(t, "min_frequency_hz", &FREQUENCY_HZ);
     let f_max = r.number(t, "max_frequency_hz", &FREQUENCY_HZ);
+    let bulk_rated = r.number(t, "bulk_rated_v", &RATED_V);
+    let highest_rated = r.number(t, "highest_rated_v", &RATED_V);
     let limiter = r
         .table(t, "limiter", LIMITER_KEYS)
         .and_then(|l| read_limiter(r, &l));
@@ -228,6 +233,8 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
         hand_held: hand_held.map(|l| l.value),
         min_frequency_hz: value(f_min),
         max_frequency_hz: value(f_max),
+        bulk_rated_v: value(bulk_rated),
+        highest_rated_v: value(highest_rated),
         limiter,
         fuse,
     })
@@ -395,11 +402,13 @@ fn read_converter(r: &mut Reader, t: &TableRef) -> Option<ConverterSpec> {
     // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
     // a duty below 1.
     let duty = bounded_number(r, t, "max_duty", &MAX_DUTY, Some(1.0));
+    let pfc = r.boolean(t, "pfc_stage");
     Some(ConverterSpec {
         output_w: output?.value,
         efficiency: efficiency?.value,
         min_bulk_v: min_bulk?.value,
         switching_hz: switching?.value,
         max_duty: duty?.value,
+        pfc_stage: pfc.map(|l| l.value).unwrap_or(false),
     })
 }

@@ -127,6 +127,18 @@ pub struct DischargeRules {
     /// Not shipped: a house rule may set a limit on the residual voltage.
     #[serde(default)]
     pub residual_limit_v: Option<Sourced>,
+    /// Connections to which no discharge limit applies, with the reason.
+    #[serde(default)]
+    pub not_applicable: Vec<NotApplicable>,
+}
+
+/// A connection the discharge limit does not apply to, and why.
+#[derive(Debug, Clone, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct NotApplicable {
+    pub connection: String,
+    pub reason: String,
+    pub source: String,
 }
 
 /// How the equipment is connected to the mains (`input.connection`).
@@ -138,6 +150,12 @@ impl DischargeRules {
     pub fn limit(&self, connection: &str) -> Option<&DischargeLimit> {
         self.limits.iter().find(|l| l.connection == connection)
     }
+
+    pub fn not_applicable(&self, connection: &str) -> Option<&NotApplicable> {
+        self.not_applicable
+            .iter()
+            .find(|l| l.connection == connection)
+    }
 }
 
 impl Table for DischargeRules {
@@ -146,6 +164,23 @@ impl Table for DischargeRules {
         positive(&self.residual_after_s, "residual_after_s")?;
         if let Some(limit) = &self.residual_limit_v {
             positive(limit, "residual_limit_v")?;
+        }
+        for (i, x) in self.not_applicable.iter().enumerate() {
+            if !CONNECTIONS.contains(&x.connection.as_str()) {
+                return Err(format!(
+                    "not_applicable[{}]: connection \"{}\" is not one of {}",
+                    i + 1,
+                    x.connection,
+                    CONNECTIONS.join(", ")
+                ));
+            }
+            if self.limit(&x.connection).is_some() {
+                return Err(format!(
+                    "not_applicable[{}]: connection \"{}\" also has a limit",
+                    i + 1,
+                    x.connection
+                ));
+            }
         }
         for (i, l) in self.limits.iter().enumerate() {
             if !CONNECTIONS.contains(&l.connection.as_str()) {
