@@ -7,7 +7,7 @@ use minijinja::{Environment, UndefinedBehavior, context};
 use serde::Serialize;
 
 use crate::diag::{Diagnostic, Problems};
-use crate::rules::{CheckDef, Over, RuleBook};
+use crate::rules::{CheckDef, Cond, Over, RuleBook};
 use crate::spacing::show;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
@@ -52,6 +52,9 @@ pub fn expression_environment() -> Environment<'static> {
     env.set_undefined_behavior(UndefinedBehavior::Strict);
     env.set_fuel(Some(CHECK_FUEL));
     env.set_recursion_limit(20);
+    // Keeps the source context in errors in release builds too, so a misspelt field in a
+    // house check is shown with its expression, not as a bare "undefined value".
+    env.set_debug(true);
     env.add_filter("num", |value: Value| -> String {
         match f64::try_from(value.clone()) {
             Ok(x) => show(x),
@@ -77,11 +80,13 @@ impl CompiledChecks {
         let parts: Vec<[Option<String>; 4]> = checks
             .iter()
             .map(|c| {
+                let expr = |c: Option<&Cond>| match c {
+                    Some(Cond::Expression(e)) => Some(format!("{{% if {e} %}}1{{% endif %}}")),
+                    _ => None,
+                };
                 [
-                    c.applies
-                        .as_ref()
-                        .map(|a| format!("{{% if {a} %}}1{{% endif %}}")),
-                    Some(format!("{{% if {} %}}1{{% endif %}}", c.condition)),
+                    expr(c.applies.as_ref()),
+                    expr(Some(&c.condition)),
                     c.subject.as_ref().map(|s| {
                         format!(
                             "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
@@ -168,20 +173,7 @@ fn run_one(
     report: &Value,
     findings: &mut Vec<Finding>,
 ) -> Result<(usize, usize), String> {
-    let items: Vec<Value> = match check.over {
-        Over::Report => vec![Value::UNDEFINED],
-        over => {
-            let mut value = report.clone();
-            for part in over.path().split('.') {
-                value = value.get_attr(part).map_err(|e| e.to_string())?;
-            }
-            if value.is_none() || value.is_undefined() {
-                Vec::new()
-            } else {
-                value.try_iter().map_err(|e| e.to_string())?.collect()
-            }
-        }
-    };
+    let items = items_of(&check.over, report);
     // A house check is bounded in the memory each evaluation takes (see memory_guard).
     let what = (check.origin != "shipped").then(|| {
         format!(
@@ -199,19 +191,32 @@ fn run_one(
     };
     let (mut judged, mut raised) = (0, 0);
     for item in items {
-        let ctx = context! { report => report.clone(), item => item.clone() };
-        if check.applies.is_some() && render("applies", &ctx)?.as_deref() != Some("1") {
+        // Predicates see the section itself as the item (the report, for `over = "report"`);
+        // expressions keep `item` undefined there, as they always had.
+        let native_item = if check.over.is_report() { report } else { &item };
+        let ctx = || context! { report => report.clone(), item => item.clone() };
+        let holds = |cond: &Cond, part: &str| -> Result<bool, String> {
+            match cond {
+                Cond::Predicate(p) => Ok(p.holds(native_item, report)),
+                Cond::Expression(_) => Ok(render(part, &ctx())?.as_deref() == Some("1")),
+            }
+        };
+        if let Some(applies) = &check.applies
+            && !holds(applies, "applies")?
+        {
             continue;
         }
         judged += 1;
-        if render("condition", &ctx)?.as_deref() != Some("1") {
+        if !holds(&check.condition, "condition")? {
             continue;
         }
         raised += 1;
+        // Only a raised finding pays for its message and subject.
+        let ctx = ctx();
         let text = render("message", &ctx)?.unwrap_or_default();
         let subject = match &check.subject {
             Some(_) => render("subject", &ctx)?.filter(|s| !s.is_empty()),
-            None => default_subject(check.over, &item),
+            None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
             id: check.id.clone(),
@@ -245,16 +250,7 @@ fn unknown_fields_unbounded(check: &CheckDef, sample: &Value) -> Result<(), Diag
         }
         .with_key(format!("check \"{}\"", check.id))
     };
-    let items: Vec<Value> = match check.over {
-        Over::Report => vec![Value::UNDEFINED],
-        over => {
-            let mut value = sample.clone();
-            for part in over.path().split('.') {
-                value = value.get_attr(part).unwrap_or(Value::UNDEFINED);
-            }
-            value.try_iter().map(|i| i.collect()).unwrap_or_default()
-        }
-    };
+    let items = items_of(&check.over, sample);
     let undefined = |r: Result<Value, minijinja::Error>, what: &str| match r {
         Err(e) if e.kind() == minijinja::ErrorKind::UndefinedError => Err(problem(format!(
             "{what} refers to a field that does not exist: {}",
@@ -264,12 +260,16 @@ fn unknown_fields_unbounded(check: &CheckDef, sample: &Value) -> Result<(), Diag
     };
     for item in items {
         let ctx = context! { report => sample.clone(), item => item };
+        let expression = |c: Option<&Cond>| match c {
+            Some(Cond::Expression(e)) => Some(e.clone()),
+            _ => None,
+        };
         for (what, expr) in [
-            ("applies", &check.applies),
-            ("condition", &Some(check.condition.clone())),
-            ("subject", &check.subject),
+            ("applies", expression(check.applies.as_ref())),
+            ("condition", expression(Some(&check.condition))),
+            ("subject", check.subject.clone()),
         ] {
-            if let Some(expr) = expr
+            if let Some(expr) = &expr
                 && let Ok(compiled) = env.compile_expression(expr)
             {
                 undefined(compiled.eval(&ctx), what)?;
@@ -282,15 +282,27 @@ fn unknown_fields_unbounded(check: &CheckDef, sample: &Value) -> Result<(), Diag
     Ok(())
 }
 
-/// The id a finding is about, by what the check runs over.
-fn default_subject(over: Over, item: &Value) -> Option<String> {
-    let key = match over {
-        Over::Report => return None,
-        Over::Bridges => "part",
-        Over::IsolationPairs => "accessible",
-        Over::InputWarnings => "key",
-        Over::Barriers | Over::Circuits => "id",
+/// The items a check runs over: every entry of a list, a section once when it is present,
+/// nothing when it is absent (null), the report once for `over = "report"`.
+fn items_of(over: &Over, report: &Value) -> Vec<Value> {
+    if over.is_report() {
+        return vec![Value::UNDEFINED];
+    }
+    let parts: Vec<String> = over.parts().map(str::to_string).collect();
+    let Some(value) = crate::rules::predicate::resolve(report, &parts) else {
+        return Vec::new();
     };
+    match value.kind() {
+        minijinja::value::ValueKind::Seq | minijinja::value::ValueKind::Iterable => {
+            value.try_iter().map(|i| i.collect()).unwrap_or_default()
+        }
+        _ => vec![value],
+    }
+}
+
+/// The id a finding is about, by what the check runs over.
+fn default_subject(over: &Over, item: &Value) -> Option<String> {
+    let key = over.subject_key()?;
     item.get_attr(key)
         .ok()
         .filter(|v| !v.is_none() && !v.is_undefined())

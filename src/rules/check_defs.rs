@@ -3,26 +3,33 @@
 //! a rationale and its source. House files add checks or change shipped ones by id.
 
 use std::collections::BTreeMap;
+use std::fmt;
 
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
 use crate::checks::{Severity, expression_environment};
+use super::predicate::{Fields, Predicate};
 use crate::diag::{Diagnostic, Source, one_of, suggest};
 
-/// What a check runs over: each entry of a report collection, or the report once.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Over {
-    Barriers,
-    Bridges,
-    IsolationPairs,
-    Circuits,
-    InputWarnings,
-    Report,
+/// What a check runs over: each entry of a report collection, an optional section of the
+/// report (`power_entry`, `power_entry.fuse`, `emc`) once when it is present, or the
+/// report once (`report`). Any path of the report's field list that is a list or a table.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Over {
+    /// As written in the check file.
+    pub word: String,
+    path: String,
+}
+
+impl Serialize for Over {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(&self.word)
+    }
 }
 
 impl Over {
+    /// The collections checks ran over before sections could be named; kept for `explain`.
     pub const WORDS: [&'static str; 6] = [
         "barriers",
         "bridges",
@@ -32,28 +39,64 @@ impl Over {
         "report",
     ];
 
-    fn from_word(word: &str) -> Option<Over> {
-        Some(match word {
-            "barriers" => Over::Barriers,
-            "bridges" => Over::Bridges,
-            "isolation_pairs" => Over::IsolationPairs,
-            "circuits" => Over::Circuits,
-            "input_warnings" => Over::InputWarnings,
-            "report" => Over::Report,
-            _ => return None,
-        })
+    pub fn from_word(word: &str) -> Over {
+        let path = match word {
+            "isolation_pairs" => "isolation.pairs",
+            "report" => "",
+            other => other,
+        };
+        Over {
+            word: word.to_string(),
+            path: path.to_string(),
+        }
     }
 
-    /// Where the collection sits in the report context.
-    pub fn path(self) -> &'static str {
-        match self {
-            Over::Barriers => "barriers",
-            Over::Bridges => "bridges",
-            Over::IsolationPairs => "isolation.pairs",
-            Over::Circuits => "circuits",
-            Over::InputWarnings => "input_warnings",
-            Over::Report => "report",
+    pub fn is_report(&self) -> bool {
+        self.path.is_empty()
+    }
+
+    /// Where the collection sits in the report context ("report" for the whole report).
+    pub fn path(&self) -> &str {
+        if self.path.is_empty() { "report" } else { &self.path }
+    }
+
+    /// Path segments from the report root.
+    pub fn parts(&self) -> impl Iterator<Item = &str> {
+        self.path.split('.').filter(|p| !p.is_empty())
+    }
+
+    /// The item field a finding names as its subject when the check gives none.
+    pub fn subject_key(&self) -> Option<&'static str> {
+        match self.word.as_str() {
+            "bridges" => Some("part"),
+            "isolation_pairs" => Some("accessible"),
+            "input_warnings" => Some("key"),
+            "barriers" | "circuits" => Some("id"),
+            _ => None,
         }
+    }
+}
+
+/// A condition: a predicate table evaluated natively, or a minijinja expression (the
+/// escape hatch for what the predicates cannot say).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Cond {
+    Predicate(Predicate),
+    Expression(String),
+}
+
+impl fmt::Display for Cond {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Cond::Predicate(p) => write!(f, "{p}"),
+            Cond::Expression(e) => write!(f, "{e}"),
+        }
+    }
+}
+
+impl Serialize for Cond {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
     }
 }
 
@@ -64,10 +107,10 @@ pub struct CheckDef {
     pub title: String,
     pub severity: Severity,
     pub over: Over,
-    /// Expression deciding whether the check has anything to judge (default: always).
-    pub applies: Option<String>,
-    /// Expression that raises the finding when true.
-    pub condition: String,
+    /// Whether the check has anything to judge on an item (default: always).
+    pub applies: Option<Cond>,
+    /// Raises the finding when it holds.
+    pub condition: Cond,
     /// Expression giving the finding's subject (default: the item's id).
     pub subject: Option<String>,
     /// Template of the finding's message.
@@ -110,8 +153,8 @@ struct RawCheck {
     title: Option<String>,
     severity: Option<String>,
     over: Option<String>,
-    applies: Option<String>,
-    condition: Option<String>,
+    applies: Option<serde_json::Value>,
+    condition: Option<serde_json::Value>,
     subject: Option<String>,
     message: Option<String>,
     rationale: Option<String>,
@@ -133,7 +176,63 @@ struct ShippedCheckFile {
     check: Vec<RawCheck>,
 }
 
-pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec<CheckDef> {
+/// A retired check id and why it went; no check may take it again.
+#[derive(Debug, Clone, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct Retired {
+    pub id: String,
+    pub reason: String,
+}
+
+/// The line and column where `key` is given inside the `[[check]]` entry that starts at
+/// `line` (1-based), and where `needle` (a quoted field name) stands after it, if given.
+fn locate_key(text: &str, line: usize, key: &str, needle: Option<&str>) -> Option<(usize, usize)> {
+    // `name =` at the start of a line: the key it gives, if any.
+    fn key_of(l: &str) -> Option<&str> {
+        let t = l.trim_start();
+        let name_len = t
+            .find(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+            .unwrap_or(t.len());
+        (name_len > 0 && t[name_len..].trim_start().starts_with('=')).then(|| &t[..name_len])
+    }
+    let mut found: Option<(usize, usize)> = None;
+    for (i, l) in text.lines().enumerate().skip(line) {
+        if l.trim_start().starts_with('[') {
+            break;
+        }
+        match (found, key_of(l)) {
+            (None, Some(k)) if k == key => {
+                let eq = l.find('=').unwrap_or(0);
+                let after = &l[eq + 1..];
+                found = Some((i + 1, eq + 2 + after.len() - after.trim_start().len()));
+            }
+            (None, _) => continue,
+            (Some(_), Some(_)) => break,
+            (Some(_), None) => {}
+        }
+        if let Some(needle) = needle
+            && let Some(col) = l.find(&format!("\"{needle}\""))
+        {
+            return Some((i + 1, col + 1));
+        }
+    }
+    found
+}
+
+/// Reads a condition (`applies` or `condition`): a quoted expression or a predicate table.
+fn read_cond(value: &serde_json::Value) -> Result<Cond, String> {
+    match value {
+        serde_json::Value::String(e) => Ok(Cond::Expression(e.clone())),
+        other => Predicate::parse(other).map(Cond::Predicate),
+    }
+}
+
+pub fn load_checks(
+    files: &[CheckSource],
+    fields: &Fields,
+    retired: &[Retired],
+    problems: &mut Vec<Diagnostic>,
+) -> Vec<CheckDef> {
     let mut checks: Vec<CheckDef> = Vec::new();
     let mut index: BTreeMap<String, usize> = BTreeMap::new();
     let env = expression_environment();
@@ -172,11 +271,17 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                 }
             },
         };
-        // Shipped checks are tested with the project; only house checks are validated here.
+        // Expressions of shipped checks are tested with the project; house ones are read here.
         let validate = shipped.is_none();
         for (raw, line) in &entries {
             let line = *line;
-            let at = |message: String, key: &str| {
+            // Located at the entry's [[check]] line, with the key's own line and column in
+            // the message (tools that jump to the first position land on the entry).
+            let at_field = |message: String, key: &str, needle: Option<&str>| {
+                let message = match locate_key(&source.text, line, key, needle) {
+                    Some((l, c)) => format!("{message} (`{key}` at line {l}, column {c})"),
+                    None => message,
+                };
                 Diagnostic {
                     line: Some(line),
                     column: Some(1),
@@ -184,7 +289,15 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                 }
                 .with_key(format!("check \"{}\".{key}", raw.id))
             };
+            let at = |message: String, key: &str| at_field(message, key, None);
             let before = problems.len();
+            if let Some(r) = retired.iter().find(|r| r.id == raw.id) {
+                problems.push(
+                    at(format!("check id \"{}\" is retired ({}) and may not be used again", raw.id, r.reason), "id")
+                        .with_help("choose a new id; a retired id keeps its old meaning in old reports"),
+                );
+                continue;
+            }
             let existing = index.get(&raw.id).copied();
             let base = match (existing, raw.overrides) {
                 (Some(_), false) => {
@@ -223,11 +336,6 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                 "title",
                 problems,
             );
-            let condition = required(
-                field(&raw.condition, base.as_ref().map(|b| &b.condition)),
-                "condition",
-                problems,
-            );
             let message = required(
                 field(&raw.message, base.as_ref().map(|b| &b.message)),
                 "message",
@@ -240,10 +348,23 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
             );
             let rationale =
                 field(&raw.rationale, base.as_ref().map(|b| &b.rationale)).unwrap_or_default();
-            let applies = raw
-                .applies
-                .clone()
-                .or_else(|| base.as_ref().and_then(|b| b.applies.clone()));
+            let mut read = |value: &Option<serde_json::Value>, key: &str| match value {
+                None => None,
+                Some(v) => match read_cond(v) {
+                    Ok(c) => Some(c),
+                    Err(m) => {
+                        problems.push(at(m, key));
+                        None
+                    }
+                },
+            };
+            let applies = read(&raw.applies, "applies")
+                .or_else(|| if raw.applies.is_none() { base.as_ref().and_then(|b| b.applies.clone()) } else { None });
+            let condition = read(&raw.condition, "condition")
+                .or_else(|| if raw.condition.is_none() { base.as_ref().map(|b| b.condition.clone()) } else { None });
+            if condition.is_none() && raw.condition.is_none() {
+                problems.push(at("is missing; every new check needs it".to_string(), "condition"));
+            }
             let subject = raw
                 .subject
                 .clone()
@@ -274,21 +395,30 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                 }
             };
             let over = match (&raw.over, &base) {
-                (Some(word), _) => match Over::from_word(word) {
-                    Some(o) => Some(o),
-                    None => {
-                        let mut d = at(
-                            format!("\"{word}\" is not known; expected {}", one_of(&Over::WORDS)),
-                            "over",
-                        );
-                        if let Some(best) = suggest(word, &Over::WORDS) {
-                            d = d.with_help(format!("did you mean \"{best}\"?"));
+                (Some(word), _) => {
+                    let over = Over::from_word(word);
+                    let kind = if over.is_report() { Some("map") } else { fields.type_of(over.path()) };
+                    match kind {
+                        Some("list" | "map" | "null" | "any") => Some(over),
+                        _ => {
+                            let mut sections: Vec<&str> = Over::WORDS.to_vec();
+                            sections.extend(fields.children(""));
+                            let mut d = at(
+                                format!(
+                                    "\"{word}\" is not a collection or section of the report; expected {} or a section such as \"power_entry\", \"power_entry.fuse\", \"emc\"",
+                                    one_of(&Over::WORDS)
+                                ),
+                                "over",
+                            );
+                            if let Some(best) = suggest(word, &sections) {
+                                d = d.with_help(format!("did you mean \"{best}\"?"));
+                            }
+                            problems.push(d);
+                            None
                         }
-                        problems.push(d);
-                        None
                     }
-                },
-                (None, Some(b)) => Some(b.over),
+                }
+                (None, Some(b)) => Some(b.over.clone()),
                 (None, None) => {
                     problems.push(at(
                         "is missing; every new check needs it".to_string(),
@@ -297,10 +427,26 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
                     None
                 }
             };
+            // Every field a predicate reads must exist in the report, whatever the design.
+            if let Some(over) = &over {
+                let prefix = if over.is_report() { String::new() } else { fields.item_prefix(over.path()) };
+                for (key, cond) in [("applies", &applies), ("condition", &condition)] {
+                    let Some(Cond::Predicate(p)) = cond else { continue };
+                    let mut used = Vec::new();
+                    p.fields(&mut used);
+                    for (f, need) in used {
+                        if let Err(m) = fields.check(&prefix, &f, need) {
+                            let needle = f.parts.last().map(String::as_str);
+                            let m = if over.is_report() || f.from_report { m } else { format!("{m} (a \"{}\" item)", over.word) };
+                            problems.push(at_field(m, key, needle));
+                        }
+                    }
+                }
+            }
             for (key, expr) in [
-                ("applies", &applies),
-                ("condition", &condition),
-                ("subject", &subject),
+                ("applies", applies.as_ref().and_then(expression)),
+                ("condition", condition.as_ref().and_then(expression)),
+                ("subject", subject.as_deref()),
             ] {
                 if let Some(expr) = expr
                     && validate
@@ -373,4 +519,11 @@ pub fn load_checks(files: &[CheckSource], problems: &mut Vec<Diagnostic>) -> Vec
         }
     }
     checks
+}
+
+fn expression(c: &Cond) -> Option<&str> {
+    match c {
+        Cond::Expression(e) => Some(e),
+        Cond::Predicate(_) => None,
+    }
 }

@@ -4,6 +4,7 @@
 //! Every table and check names its source and provenance.
 
 mod check_defs;
+pub mod predicate;
 mod tables;
 
 use std::collections::BTreeMap;
@@ -12,7 +13,7 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use crate::diag::{Diagnostic, Problems, Source};
-pub use check_defs::{CheckDef, Over};
+pub use check_defs::{CheckDef, Cond, Over, Retired};
 pub use tables::*;
 
 /// Every shipped rule file (`rules/**/*.toml`, path inside `rules/` and text), embedded at
@@ -264,7 +265,29 @@ impl RuleBook {
                 shipped: l.shipped.map(|s| (s.json, s.check_lines)),
             })
             .collect();
-        let checks = check_defs::load_checks(&check_sources, &mut problems);
+        // Retired check ids: the shipped list, plus any a house file retires itself.
+        #[derive(Deserialize)]
+        struct RetiredList {
+            #[serde(default)]
+            retired: Vec<Retired>,
+        }
+        let mut retired: Vec<Retired> = Vec::new();
+        for l in order.iter().filter_map(|id| files.get(id)).filter(|l| !l.is_checks) {
+            let list = match l.shipped {
+                Some(s) if s.json.contains("\"retired\"") => serde_json::from_str::<RetiredList>(s.json)
+                    .map_err(|e| Diagnostic::new(&l.source.name, e.to_string())),
+                Some(_) => continue,
+                None if l.source.text.contains("retired") => toml::from_str::<RetiredList>(&l.source.text)
+                    .map_err(|e| toml_problem(&l.source, &e, "")),
+                None => continue,
+            };
+            match list {
+                Ok(list) => retired.extend(list.retired),
+                Err(d) => problems.push(d),
+            }
+        }
+        let fields = predicate::Fields::shipped();
+        let checks = check_defs::load_checks(&check_sources, &fields, &retired, &mut problems);
         let compiled_checks = match crate::checks::CompiledChecks::new(&checks) {
             Ok(c) => Some(c),
             Err(p) => {

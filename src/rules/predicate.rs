@@ -1,0 +1,487 @@
+//! The small predicate language of checks: conditions written as TOML tables, read into
+//! typed values once and evaluated natively (no template engine), plus the list of report
+//! fields that every check is validated against at load.
+//!
+//! A predicate is one table: `{ field = "path", <test> }` or a combination
+//! (`{ all = [...] }`, `{ any = [...] }`, `{ not = {...} }`); `verdict = "name"` stands
+//! for the field `verdicts.<name>` (verdict names may contain dots). A path is relative to
+//! the item the check runs over, or to the whole report when it starts with `report.`.
+//! Tests: `is`, `is_not`, `lt`, `le`, `gt`, `ge` (against a constant or `{ field = ... }`),
+//! `one_of = [...]`, `missing = true|false`, `set = true|false`, `not_empty = true|false`.
+//! A missing (absent or null) field fails every comparison except `is_not`.
+
+use std::collections::BTreeMap;
+use std::fmt;
+
+use minijinja::value::Value;
+use serde_json::Value as Json;
+
+use crate::diag::{one_of, suggest};
+
+/// A field named by a check: path segments from the item or from the report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldRef {
+    pub from_report: bool,
+    pub parts: Vec<String>,
+    /// As written, for messages and `explain`.
+    pub written: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Op {
+    Is,
+    IsNot,
+    Lt,
+    Le,
+    Gt,
+    Ge,
+}
+
+impl Op {
+    const ALL: [(&'static str, Op); 6] = [
+        ("is", Op::Is),
+        ("is_not", Op::IsNot),
+        ("lt", Op::Lt),
+        ("le", Op::Le),
+        ("gt", Op::Gt),
+        ("ge", Op::Ge),
+    ];
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Operand {
+    Constant(Value),
+    Field(FieldRef),
+}
+
+/// One condition, checked against the report's fields when it was read.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Predicate {
+    Compare(FieldRef, Op, Operand),
+    OneOf(FieldRef, Vec<Value>),
+    Missing(FieldRef, bool),
+    Set(FieldRef, bool),
+    NotEmpty(FieldRef, bool),
+    All(Vec<Predicate>),
+    Any(Vec<Predicate>),
+    Not(Box<Predicate>),
+}
+
+const KEYS: [&str; 15] = [
+    "field",
+    "verdict",
+    "is",
+    "is_not",
+    "lt",
+    "le",
+    "gt",
+    "ge",
+    "one_of",
+    "missing",
+    "set",
+    "not_empty",
+    "all",
+    "any",
+    "not",
+];
+
+const TESTS: [&str; 10] = [
+    "is",
+    "is_not",
+    "lt",
+    "le",
+    "gt",
+    "ge",
+    "one_of",
+    "missing",
+    "set",
+    "not_empty",
+];
+
+fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
+    let (from_report, rest) = match path.strip_prefix("report.") {
+        Some(rest) => (true, rest),
+        None => (false, path),
+    };
+    if rest.is_empty() || (!verdict && rest.split('.').any(str::is_empty)) {
+        return Err(format!("\"{path}\" is not a field path (dotted names, e.g. \"fuse.rated_v\")"));
+    }
+    let parts = if verdict {
+        vec!["verdicts".to_string(), rest.to_string()]
+    } else {
+        rest.split('.').map(str::to_string).collect()
+    };
+    Ok(FieldRef {
+        from_report,
+        parts,
+        written: if verdict { format!("verdicts['{rest}']") } else { path.to_string() },
+    })
+}
+
+impl Predicate {
+    /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
+    pub fn parse(value: &Json) -> Result<Predicate, String> {
+        let Json::Object(map) = value else {
+            return Err(format!(
+                "a condition is an expression in quotes or a table such as {{ field = \"...\", is = ... }}, not {value}"
+            ));
+        };
+        for key in map.keys() {
+            if !KEYS.contains(&key.as_str()) {
+                let mut m = format!("unknown key \"{key}\" in a condition; expected {}", one_of(&KEYS));
+                if let Some(best) = suggest(key, &KEYS) {
+                    m.push_str(&format!(" (did you mean \"{best}\"?)"));
+                }
+                return Err(m);
+            }
+        }
+        let list = |key: &str| -> Result<Option<Vec<Predicate>>, String> {
+            match map.get(key) {
+                None => Ok(None),
+                Some(Json::Array(items)) if !items.is_empty() => {
+                    items.iter().map(Predicate::parse).collect::<Result<_, _>>().map(Some)
+                }
+                Some(_) => Err(format!("{key} takes a non-empty list of conditions")),
+            }
+        };
+        let combinators = ["all", "any", "not"].iter().filter(|k| map.contains_key(**k)).count();
+        if combinators > 0 {
+            if map.len() != 1 {
+                return Err("all, any and not stand alone in their table".to_string());
+            }
+            if let Some(items) = list("all")? {
+                return Ok(Predicate::All(items));
+            }
+            if let Some(items) = list("any")? {
+                return Ok(Predicate::Any(items));
+            }
+            if let Some(inner) = map.get("not") {
+                return Ok(Predicate::Not(Box::new(Predicate::parse(inner)?)));
+            }
+        }
+        let field = match (map.get("field"), map.get("verdict")) {
+            (Some(Json::String(f)), None) => field_ref(f, false)?,
+            (None, Some(Json::String(v))) => field_ref(v, true)?,
+            (Some(_), Some(_)) => return Err("give field or verdict, not both".to_string()),
+            (Some(_), None) | (None, Some(_)) => {
+                return Err("field and verdict take a name in quotes".to_string());
+            }
+            (None, None) => {
+                return Err("a condition table needs field (or verdict) and one test, or all/any/not".to_string());
+            }
+        };
+        let tests: Vec<&str> = TESTS.iter().copied().filter(|t| map.contains_key(*t)).collect();
+        let [test] = tests.as_slice() else {
+            return Err(format!(
+                "a condition on \"{}\" needs exactly one test of {}",
+                field.written,
+                one_of(&TESTS)
+            ));
+        };
+        let arg = &map[*test];
+        let flag = |what: &str| match arg {
+            Json::Bool(b) => Ok(*b),
+            _ => Err(format!("{what} takes true or false")),
+        };
+        Ok(match *test {
+            "missing" => Predicate::Missing(field, flag("missing")?),
+            "set" => Predicate::Set(field, flag("set")?),
+            "not_empty" => Predicate::NotEmpty(field, flag("not_empty")?),
+            "one_of" => match arg {
+                Json::Array(values) if !values.is_empty() => {
+                    Predicate::OneOf(field, values.iter().map(|v| Value::from(minijinja::value::Serde(v))).collect())
+                }
+                _ => return Err("one_of takes a non-empty list of values".to_string()),
+            },
+            word => {
+                let op = Op::ALL.iter().find(|(w, _)| *w == word).map(|(_, o)| *o).unwrap_or(Op::Is);
+                let operand = match arg {
+                    Json::Object(inner) => match (inner.get("field"), inner.len()) {
+                        (Some(Json::String(f)), 1) => Operand::Field(field_ref(f, false)?),
+                        _ => return Err(format!("{word} takes a value or {{ field = \"...\" }}")),
+                    },
+                    Json::Array(_) => return Err(format!("{word} takes one value; use one_of for a list")),
+                    Json::Null => return Err(format!("{word} takes a value; use missing = true for null")),
+                    Json::Number(_) | Json::String(_) | Json::Bool(_) => {
+                        Operand::Constant(Value::from(minijinja::value::Serde(arg)))
+                    }
+                };
+                if matches!(op, Op::Lt | Op::Le | Op::Gt | Op::Ge)
+                    && matches!(&operand, Operand::Constant(c) if f64::try_from(c.clone()).is_err())
+                {
+                    return Err(format!("{word} compares numbers; give a number or {{ field = \"...\" }}"));
+                }
+                Predicate::Compare(field, op, operand)
+            }
+        })
+    }
+
+    /// Every field the predicate reads, with what it needs the field to be.
+    pub fn fields(&self, out: &mut Vec<(FieldRef, Need)>) {
+        match self {
+            Predicate::Compare(f, op, with) => {
+                let need = if matches!(op, Op::Is | Op::IsNot) { Need::Any } else { Need::Number };
+                out.push((f.clone(), need));
+                if let Operand::Field(g) = with {
+                    out.push((g.clone(), need));
+                }
+            }
+            Predicate::OneOf(f, _) | Predicate::Missing(f, _) => out.push((f.clone(), Need::Any)),
+            Predicate::Set(f, _) => out.push((f.clone(), Need::Bool)),
+            Predicate::NotEmpty(f, _) => out.push((f.clone(), Need::List)),
+            Predicate::All(ps) | Predicate::Any(ps) => ps.iter().for_each(|p| p.fields(out)),
+            Predicate::Not(p) => p.fields(out),
+        }
+    }
+
+    /// True when the condition holds for this item of this report.
+    pub fn holds(&self, item: &Value, report: &Value) -> bool {
+        let get = |f: &FieldRef| resolve(if f.from_report { report } else { item }, &f.parts);
+        match self {
+            Predicate::Compare(f, op, with) => {
+                let left = get(f);
+                let right = match with {
+                    Operand::Constant(c) => Some(c.clone()),
+                    Operand::Field(g) => get(g),
+                };
+                let equal = match (&left, &right) {
+                    (Some(a), Some(b)) => a == b,
+                    _ => false,
+                };
+                match op {
+                    Op::Is => equal,
+                    Op::IsNot => !equal,
+                    _ => {
+                        let number = |v: &Option<Value>| {
+                            v.as_ref().filter(|v| v.is_number()).and_then(|v| f64::try_from(v.clone()).ok())
+                        };
+                        match (number(&left), number(&right)) {
+                            (Some(a), Some(b)) => match op {
+                                Op::Lt => a < b,
+                                Op::Le => a <= b,
+                                Op::Gt => a > b,
+                                _ => a >= b,
+                            },
+                            _ => false,
+                        }
+                    }
+                }
+            }
+            Predicate::OneOf(f, values) => get(f).is_some_and(|v| values.contains(&v)),
+            Predicate::Missing(f, want) => get(f).is_none() == *want,
+            Predicate::Set(f, want) => get(f).is_some_and(|v| v.is_true()) == *want,
+            Predicate::NotEmpty(f, want) => {
+                get(f).and_then(|v| v.len()).is_some_and(|n| n > 0) == *want
+            }
+            Predicate::All(ps) => ps.iter().all(|p| p.holds(item, report)),
+            Predicate::Any(ps) => ps.iter().any(|p| p.holds(item, report)),
+            Predicate::Not(p) => !p.holds(item, report),
+        }
+    }
+}
+
+/// The value at a path, or `None` where a step is absent or null.
+pub fn resolve(from: &Value, parts: &[String]) -> Option<Value> {
+    let mut value = from.clone();
+    for part in parts {
+        if value.is_none() || value.is_undefined() {
+            return None;
+        }
+        value = value.get_item(&Value::from(part.as_str())).ok()?;
+    }
+    (!value.is_none() && !value.is_undefined()).then_some(value)
+}
+
+impl fmt::Display for Predicate {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let word = |op: &Op| Op::ALL.iter().find(|(_, o)| o == op).map(|(w, _)| *w).unwrap_or("is");
+        let operand = |o: &Operand| match o {
+            Operand::Constant(c) if c.as_str().is_some() => format!("'{c}'"),
+            Operand::Constant(c) => c.to_string(),
+            Operand::Field(g) => g.written.clone(),
+        };
+        let join = |ps: &[Predicate], sep: &str| {
+            ps.iter().map(|p| format!("({p})")).collect::<Vec<_>>().join(sep)
+        };
+        match self {
+            Predicate::Compare(g, op, with) => write!(f, "{} {} {}", g.written, word(op), operand(with)),
+            Predicate::OneOf(g, vs) => {
+                let vs: Vec<String> = vs.iter().map(|v| operand(&Operand::Constant(v.clone()))).collect();
+                write!(f, "{} one_of [{}]", g.written, vs.join(", "))
+            }
+            Predicate::Missing(g, w) => write!(f, "{} {}", g.written, if *w { "missing" } else { "present" }),
+            Predicate::Set(g, w) => write!(f, "{} {}", g.written, if *w { "set" } else { "not set" }),
+            Predicate::NotEmpty(g, w) => write!(f, "{} {}", g.written, if *w { "not empty" } else { "empty" }),
+            Predicate::All(ps) => write!(f, "{}", join(ps, " and ")),
+            Predicate::Any(ps) => write!(f, "{}", join(ps, " or ")),
+            Predicate::Not(p) => write!(f, "not ({p})"),
+        }
+    }
+}
+
+/// What a test needs a field to hold.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Need {
+    Any,
+    Number,
+    Bool,
+    List,
+}
+
+/// The report's fields as the checks see them: `path type` per line, list entries under
+/// `[]`, generated from the serialised reports of the shipped examples and test fixtures
+/// (`tests/check_fields.rs` regenerates and compares it).
+pub const REPORT_FIELDS: &str = include_str!("report_fields.txt");
+
+/// The field list, read once per rule book.
+#[derive(Debug, Clone, Default)]
+pub struct Fields {
+    types: BTreeMap<String, String>,
+}
+
+impl Fields {
+    pub fn shipped() -> Fields {
+        Fields::parse(REPORT_FIELDS)
+    }
+
+    pub fn parse(text: &str) -> Fields {
+        let types = text
+            .lines()
+            .filter(|l| !l.trim().is_empty() && !l.starts_with('#'))
+            .filter_map(|l| l.rsplit_once(' '))
+            .map(|(p, t)| (p.to_string(), t.to_string()))
+            .collect();
+        Fields { types }
+    }
+
+    /// The type word of a full path (`barriers[].clearance_mm`), if the path exists or
+    /// lies under a section never seen filled (whose shape is then unknown: "any").
+    pub fn type_of(&self, path: &str) -> Option<&str> {
+        // An empty list (only while it is being generated) validates nothing.
+        if path.is_empty() || self.types.is_empty() {
+            return Some(if path.is_empty() { "map" } else { "any" });
+        }
+        if let Some(t) = self.types.get(path) {
+            return Some(t);
+        }
+        // Under a field only ever seen null, nothing more can be said.
+        let mut head = path;
+        while let Some((parent, _)) = head.rsplit_once('.') {
+            if self.types.get(parent).is_some_and(|t| t == "null") {
+                return Some("any");
+            }
+            head = parent;
+        }
+        None
+    }
+
+    /// The prefix of an item's fields for a check over `path` (`barriers` -> `barriers[]`).
+    pub fn item_prefix(&self, path: &str) -> String {
+        match self.type_of(path) {
+            Some("list") => format!("{path}[]"),
+            _ => path.to_string(),
+        }
+    }
+
+    /// The direct children of a prefix, for "did you mean".
+    pub fn children(&self, prefix: &str) -> Vec<&str> {
+        let start = if prefix.is_empty() { String::new() } else { format!("{prefix}.") };
+        self.types
+            .keys()
+            .filter_map(|k| k.strip_prefix(start.as_str()))
+            .filter(|rest| !rest.contains('.') && !rest.contains("[]"))
+            .collect()
+    }
+
+    /// Checks one field a predicate reads; the message names it and what was meant.
+    pub fn check(&self, item_prefix: &str, field: &FieldRef, need: Need) -> Result<(), String> {
+        let base = if field.from_report { "" } else { item_prefix };
+        let mut path = base.to_string();
+        for part in &field.parts {
+            if !path.is_empty() {
+                path.push('.');
+            }
+            path.push_str(part);
+        }
+        let Some(found) = self.type_of(&path) else {
+            let (parent, last) = path.rsplit_once('.').unwrap_or(("", path.as_str()));
+            let mut m = format!(
+                "field \"{}\" does not exist in {}",
+                field.written,
+                if parent.is_empty() { "the report".to_string() } else { format!("\"{parent}\"") }
+            );
+            if let Some(best) = suggest(last, &self.children(parent)) {
+                m.push_str(&format!(" (did you mean \"{best}\"?)"));
+            }
+            return Err(m);
+        };
+        let fits = match (need, found) {
+            (_, "null" | "any") | (Need::Any, _) => true,
+            (Need::Number, t) => t == "number",
+            (Need::Bool, t) => t == "bool",
+            (Need::List, t) => t == "list" || t == "map",
+        };
+        if fits {
+            Ok(())
+        } else {
+            let wanted = match need {
+                Need::Number => "a number",
+                Need::Bool => "true or false",
+                Need::List => "a list",
+                Need::Any => "a value",
+            };
+            Err(format!("field \"{}\" is a {found}, but this test needs {wanted}", field.written))
+        }
+    }
+}
+
+/// Walks a serialised report and records every path with its type word.
+pub fn collect_fields(value: &Json, path: &str, out: &mut BTreeMap<String, String>) {
+    let word = match value {
+        Json::Null => "null",
+        Json::Bool(_) => "bool",
+        Json::Number(_) => "number",
+        Json::String(_) => "string",
+        Json::Array(_) => "list",
+        Json::Object(_) => "map",
+    };
+    if !path.is_empty() {
+        let entry = out.entry(path.to_string()).or_insert_with(|| word.to_string());
+        if entry == "null" {
+            *entry = word.to_string();
+        } else if word != "null" && entry != word {
+            *entry = "any".to_string();
+        }
+    }
+    match value {
+        Json::Array(items) => {
+            for item in items {
+                collect_fields(item, &format!("{path}[]"), out);
+            }
+        }
+        Json::Object(map) => {
+            for (k, v) in map {
+                let p = if path.is_empty() { k.clone() } else { format!("{path}.{k}") };
+                collect_fields(v, &p, out);
+            }
+        }
+        _ => {}
+    }
+}
+
+/// The field list text for a set of serialised reports (what `REPORT_FIELDS` holds).
+pub fn field_list(reports: &[Json]) -> String {
+    let mut out = BTreeMap::new();
+    for r in reports {
+        collect_fields(r, "", &mut out);
+    }
+    let mut text = String::from(
+        "# The report's fields as checks see them (path, then type: number, string, bool, list,\n\
+         # map, null when only ever seen empty, any when it varies). Generated by\n\
+         # `GAPWARDEN_UPDATE_FIELDS=1 cargo test --test check_fields`; do not edit by hand.\n",
+    );
+    for (path, kind) in out {
+        text.push_str(&format!("{path} {kind}\n"));
+    }
+    text
+}

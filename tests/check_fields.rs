@@ -1,0 +1,60 @@
+//! The field list every check is validated against is generated from the reports the
+//! shipped examples and the test fixtures produce; this test regenerates it and fails when
+//! the checked-in copy is stale (`GAPWARDEN_UPDATE_FIELDS=1` rewrites it).
+
+use gapwarden::diag::Source;
+use gapwarden::rules::RuleBook;
+use gapwarden::rules::predicate::{REPORT_FIELDS, field_list};
+
+fn sample_reports() -> Vec<serde_json::Value> {
+    let rules = RuleBook::shipped().expect("the shipped rules load");
+    let mut sources: Vec<Source> = gapwarden::commands::EXAMPLES
+        .iter()
+        .map(|(name, text)| Source::new(format!("examples/{name}.toml"), *text))
+        .collect();
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures");
+    let mut paths: Vec<_> = std::fs::read_dir(dir)
+        .expect("fixtures folder")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "toml"))
+        .collect();
+    paths.sort();
+    for p in paths {
+        let text = std::fs::read_to_string(&p).expect("fixture text");
+        sources.push(Source::new(p.display().to_string(), &text));
+    }
+    let mut reports = Vec::new();
+    for s in &sources {
+        if let Ok(mut report) = gapwarden::report::figures(s, &rules) {
+            // One input warning, so its fields are listed even where no fixture has one.
+            report.input_warnings.push(gapwarden::report::InputWarning {
+                key: Some("barrier[1].clearance_mm".to_string()),
+                message: "a sample warning".to_string(),
+                line: Some(1),
+                column: Some(1),
+            });
+            reports.push(serde_json::to_value(&report).expect("a report serialises"));
+        }
+    }
+    reports
+}
+
+#[test]
+fn report_field_list_is_current() {
+    let reports = sample_reports();
+    assert!(reports.len() > 20, "most fixtures produce a report");
+    let generated = field_list(&reports);
+    if std::env::var_os("GAPWARDEN_UPDATE_FIELDS").is_some() {
+        let path = concat!(env!("CARGO_MANIFEST_DIR"), "/src/rules/report_fields.txt");
+        std::fs::write(path, &generated).expect("write the field list");
+        return;
+    }
+    assert_eq!(
+        REPORT_FIELDS, generated,
+        "src/rules/report_fields.txt is stale: run GAPWARDEN_UPDATE_FIELDS=1 cargo test --test check_fields"
+    );
+    // The sections the checks name are in it, with their types.
+    for line in ["barriers list", "power_entry map", "power_entry.fuse map", "emc.points list", "barriers[].clearance_mm number"] {
+        assert!(generated.lines().any(|l| l == line), "{line} is listed");
+    }
+}
