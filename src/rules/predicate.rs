@@ -57,6 +57,8 @@ pub enum Operand {
 /// One condition, checked against the report's fields when it was read.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Predicate {
+    /// `condition = true`: raises on every item (a list of input warnings, say).
+    Always(bool),
     Compare(FieldRef, Op, Operand),
     OneOf(FieldRef, Vec<Value>),
     Missing(FieldRef, bool),
@@ -121,6 +123,9 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
 impl Predicate {
     /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
     pub fn parse(value: &Json) -> Result<Predicate, String> {
+        if let Json::Bool(b) = value {
+            return Ok(Predicate::Always(*b));
+        }
         let Json::Object(map) = value else {
             return Err(format!(
                 "a condition is an expression in quotes or a table such as {{ field = \"...\", is = ... }}, not {value}"
@@ -230,6 +235,7 @@ impl Predicate {
             Predicate::Set(f, _) => out.push((f.clone(), Need::Bool)),
             Predicate::NotEmpty(f, _) => out.push((f.clone(), Need::List)),
             Predicate::All(ps) | Predicate::Any(ps) => ps.iter().for_each(|p| p.fields(out)),
+            Predicate::Always(_) => {}
             Predicate::Not(p) => p.fields(out),
         }
     }
@@ -273,6 +279,7 @@ impl Predicate {
             Predicate::NotEmpty(f, want) => {
                 get(f).and_then(|v| v.len()).is_some_and(|n| n > 0) == *want
             }
+            Predicate::Always(b) => *b,
             Predicate::All(ps) => ps.iter().all(|p| p.holds(item, report)),
             Predicate::Any(ps) => ps.iter().any(|p| p.holds(item, report)),
             Predicate::Not(p) => !p.holds(item, report),
@@ -312,6 +319,7 @@ impl fmt::Display for Predicate {
             Predicate::Missing(g, w) => write!(f, "{} {}", g.written, if *w { "missing" } else { "present" }),
             Predicate::Set(g, w) => write!(f, "{} {}", g.written, if *w { "set" } else { "not set" }),
             Predicate::NotEmpty(g, w) => write!(f, "{} {}", g.written, if *w { "not empty" } else { "empty" }),
+            Predicate::Always(b) => write!(f, "{b}"),
             Predicate::All(ps) => write!(f, "{}", join(ps, " and ")),
             Predicate::Any(ps) => write!(f, "{}", join(ps, " or ")),
             Predicate::Not(p) => write!(f, "not ({p})"),
@@ -367,8 +375,12 @@ impl Fields {
         // Under a field only ever seen null, nothing more can be said.
         let mut head = path;
         while let Some((parent, _)) = head.rsplit_once('.') {
-            if self.types.get(parent).is_some_and(|t| t == "null") {
-                return Some("any");
+            match self.types.get(parent).map(String::as_str) {
+                Some("null") => return Some("any"),
+                Some("verdicts") => {
+                    return Some("string");
+                }
+                _ => {}
             }
             head = parent;
         }
@@ -445,6 +457,12 @@ pub fn collect_fields(value: &Json, path: &str, out: &mut BTreeMap<String, Strin
         Json::Array(_) => "list",
         Json::Object(_) => "map",
     };
+    // A verdict map has a key per figure judged in that design (some only under house
+    // rules), so its keys are open: any verdict name is accepted, as a string.
+    if path == "verdicts" || path.ends_with(".verdicts") {
+        out.insert(path.to_string(), "verdicts".to_string());
+        return;
+    }
     if !path.is_empty() {
         let entry = out.entry(path.to_string()).or_insert_with(|| word.to_string());
         if entry == "null" {
