@@ -193,7 +193,11 @@ fn run_one(
     for item in items {
         // Predicates see the section itself as the item (the report, for `over = "report"`);
         // expressions keep `item` undefined there, as they always had.
-        let native_item = if check.over.is_report() { report } else { &item };
+        let native_item = if check.over.is_report() {
+            report
+        } else {
+            &item
+        };
         let ctx = || context! { report => report.clone(), item => item.clone() };
         let holds = |cond: &Cond, part: &str| -> Result<bool, String> {
             match cond {

@@ -8,7 +8,8 @@ use gapwarden::rules::predicate::{Fields, REPORT_FIELDS, field_list};
 
 fn sample_reports() -> Vec<serde_json::Value> {
     // Not validated against the list being regenerated.
-    let rules = RuleBook::load_with_fields(None, &Fields::default()).expect("the shipped rules load");
+    let rules =
+        RuleBook::load_with_fields(None, &Fields::default()).expect("the shipped rules load");
     let mut sources: Vec<Source> = gapwarden::commands::EXAMPLES
         .iter()
         .map(|(name, text)| Source::new(format!("examples/{name}.toml"), *text))
@@ -55,7 +56,13 @@ fn report_field_list_is_current() {
         "src/rules/report_fields.txt is stale: run GAPWARDEN_UPDATE_FIELDS=1 cargo test --test check_fields"
     );
     // The sections the checks name are in it, with their types.
-    for line in ["barriers list", "power_entry map", "power_entry.fuse map", "emc.points list", "barriers[].clearance_mm number"] {
+    for line in [
+        "barriers list",
+        "power_entry map",
+        "power_entry.fuse map",
+        "emc.points list",
+        "barriers[].clearance_mm number",
+    ] {
         assert!(generated.lines().any(|l| l == line), "{line} is listed");
     }
 }

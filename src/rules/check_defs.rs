@@ -8,8 +8,8 @@ use std::fmt;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use crate::checks::{Severity, expression_environment};
 use super::predicate::{Fields, Predicate};
+use crate::checks::{Severity, expression_environment};
 use crate::diag::{Diagnostic, Source, one_of, suggest};
 
 /// What a check runs over: each entry of a report collection, an optional section of the
@@ -57,7 +57,11 @@ impl Over {
 
     /// Where the collection sits in the report context ("report" for the whole report).
     pub fn path(&self) -> &str {
-        if self.path.is_empty() { "report" } else { &self.path }
+        if self.path.is_empty() {
+            "report"
+        } else {
+            &self.path
+        }
     }
 
     /// Path segments from the report root.
@@ -293,8 +297,16 @@ pub fn load_checks(
             let before = problems.len();
             if let Some(r) = retired.iter().find(|r| r.id == raw.id) {
                 problems.push(
-                    at(format!("check id \"{}\" is retired ({}) and may not be used again", raw.id, r.reason), "id")
-                        .with_help("choose a new id; a retired id keeps its old meaning in old reports"),
+                    at(
+                        format!(
+                            "check id \"{}\" is retired ({}) and may not be used again",
+                            raw.id, r.reason
+                        ),
+                        "id",
+                    )
+                    .with_help(
+                        "choose a new id; a retired id keeps its old meaning in old reports",
+                    ),
                 );
                 continue;
             }
@@ -358,12 +370,25 @@ pub fn load_checks(
                     }
                 },
             };
-            let applies = read(&raw.applies, "applies")
-                .or_else(|| if raw.applies.is_none() { base.as_ref().and_then(|b| b.applies.clone()) } else { None });
-            let condition = read(&raw.condition, "condition")
-                .or_else(|| if raw.condition.is_none() { base.as_ref().map(|b| b.condition.clone()) } else { None });
+            let applies = read(&raw.applies, "applies").or_else(|| {
+                if raw.applies.is_none() {
+                    base.as_ref().and_then(|b| b.applies.clone())
+                } else {
+                    None
+                }
+            });
+            let condition = read(&raw.condition, "condition").or_else(|| {
+                if raw.condition.is_none() {
+                    base.as_ref().map(|b| b.condition.clone())
+                } else {
+                    None
+                }
+            });
             if condition.is_none() && raw.condition.is_none() {
-                problems.push(at("is missing; every new check needs it".to_string(), "condition"));
+                problems.push(at(
+                    "is missing; every new check needs it".to_string(),
+                    "condition",
+                ));
             }
             let subject = raw
                 .subject
@@ -397,7 +422,11 @@ pub fn load_checks(
             let over = match (&raw.over, &base) {
                 (Some(word), _) => {
                     let over = Over::from_word(word);
-                    let kind = if over.is_report() { Some("map") } else { fields.type_of(over.path()) };
+                    let kind = if over.is_report() {
+                        Some("map")
+                    } else {
+                        fields.type_of(over.path())
+                    };
                     match kind {
                         Some("list" | "map" | "null" | "any") => Some(over),
                         _ => {
@@ -429,15 +458,20 @@ pub fn load_checks(
             };
             // Every field a predicate reads must exist in the report, whatever the design.
             if let Some(over) = &over {
-                let prefix = if over.is_report() { String::new() } else { fields.item_prefix(over.path()) };
+                let prefix = if over.is_report() {
+                    String::new()
+                } else {
+                    fields.item_prefix(over.path())
+                };
                 for (key, cond) in [("applies", &applies), ("condition", &condition)] {
-                    let Some(Cond::Predicate(p)) = cond else { continue };
+                    let Some(Cond::Predicate(p)) = cond else {
+                        continue;
+                    };
                     let mut used = Vec::new();
                     p.fields(&mut used);
                     for (f, need) in used {
                         if let Err(m) = fields.check(&prefix, &f, need) {
                             let needle = f.parts.last().map(String::as_str);
-                            let m = if over.is_report() || f.from_report { m } else { format!("{m} (a \"{}\" item)", over.word) };
                             problems.push(at_field(m, key, needle));
                         }
                     }

@@ -106,7 +106,9 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
         None => (false, path),
     };
     if rest.is_empty() || (!verdict && rest.split('.').any(str::is_empty)) {
-        return Err(format!("\"{path}\" is not a field path (dotted names, e.g. \"fuse.rated_v\")"));
+        return Err(format!(
+            "\"{path}\" is not a field path (dotted names, e.g. \"fuse.rated_v\")"
+        ));
     }
     let parts = if verdict {
         vec!["verdicts".to_string(), rest.to_string()]
@@ -116,7 +118,11 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
     Ok(FieldRef {
         from_report,
         parts,
-        written: if verdict { format!("verdicts['{rest}']") } else { path.to_string() },
+        written: if verdict {
+            format!("verdicts['{rest}']")
+        } else {
+            path.to_string()
+        },
     })
 }
 
@@ -133,7 +139,10 @@ impl Predicate {
         };
         for key in map.keys() {
             if !KEYS.contains(&key.as_str()) {
-                let mut m = format!("unknown key \"{key}\" in a condition; expected {}", one_of(&KEYS));
+                let mut m = format!(
+                    "unknown key \"{key}\" in a condition; expected {}",
+                    one_of(&KEYS)
+                );
                 if let Some(best) = suggest(key, &KEYS) {
                     m.push_str(&format!(" (did you mean \"{best}\"?)"));
                 }
@@ -143,13 +152,18 @@ impl Predicate {
         let list = |key: &str| -> Result<Option<Vec<Predicate>>, String> {
             match map.get(key) {
                 None => Ok(None),
-                Some(Json::Array(items)) if !items.is_empty() => {
-                    items.iter().map(Predicate::parse).collect::<Result<_, _>>().map(Some)
-                }
+                Some(Json::Array(items)) if !items.is_empty() => items
+                    .iter()
+                    .map(Predicate::parse)
+                    .collect::<Result<_, _>>()
+                    .map(Some),
                 Some(_) => Err(format!("{key} takes a non-empty list of conditions")),
             }
         };
-        let combinators = ["all", "any", "not"].iter().filter(|k| map.contains_key(**k)).count();
+        let combinators = ["all", "any", "not"]
+            .iter()
+            .filter(|k| map.contains_key(**k))
+            .count();
         if combinators > 0 {
             if map.len() != 1 {
                 return Err("all, any and not stand alone in their table".to_string());
@@ -172,10 +186,17 @@ impl Predicate {
                 return Err("field and verdict take a name in quotes".to_string());
             }
             (None, None) => {
-                return Err("a condition table needs field (or verdict) and one test, or all/any/not".to_string());
+                return Err(
+                    "a condition table needs field (or verdict) and one test, or all/any/not"
+                        .to_string(),
+                );
             }
         };
-        let tests: Vec<&str> = TESTS.iter().copied().filter(|t| map.contains_key(*t)).collect();
+        let tests: Vec<&str> = TESTS
+            .iter()
+            .copied()
+            .filter(|t| map.contains_key(*t))
+            .collect();
         let [test] = tests.as_slice() else {
             return Err(format!(
                 "a condition on \"{}\" needs exactly one test of {}",
@@ -193,20 +214,32 @@ impl Predicate {
             "set" => Predicate::Set(field, flag("set")?),
             "not_empty" => Predicate::NotEmpty(field, flag("not_empty")?),
             "one_of" => match arg {
-                Json::Array(values) if !values.is_empty() => {
-                    Predicate::OneOf(field, values.iter().map(|v| Value::from(minijinja::value::Serde(v))).collect())
-                }
+                Json::Array(values) if !values.is_empty() => Predicate::OneOf(
+                    field,
+                    values
+                        .iter()
+                        .map(|v| Value::from(minijinja::value::Serde(v)))
+                        .collect(),
+                ),
                 _ => return Err("one_of takes a non-empty list of values".to_string()),
             },
             word => {
-                let op = Op::ALL.iter().find(|(w, _)| *w == word).map(|(_, o)| *o).unwrap_or(Op::Is);
+                let op = Op::ALL
+                    .iter()
+                    .find(|(w, _)| *w == word)
+                    .map(|(_, o)| *o)
+                    .unwrap_or(Op::Is);
                 let operand = match arg {
                     Json::Object(inner) => match (inner.get("field"), inner.len()) {
                         (Some(Json::String(f)), 1) => Operand::Field(field_ref(f, false)?),
                         _ => return Err(format!("{word} takes a value or {{ field = \"...\" }}")),
                     },
-                    Json::Array(_) => return Err(format!("{word} takes one value; use one_of for a list")),
-                    Json::Null => return Err(format!("{word} takes a value; use missing = true for null")),
+                    Json::Array(_) => {
+                        return Err(format!("{word} takes one value; use one_of for a list"));
+                    }
+                    Json::Null => {
+                        return Err(format!("{word} takes a value; use missing = true for null"));
+                    }
                     Json::Number(_) | Json::String(_) | Json::Bool(_) => {
                         Operand::Constant(Value::from(minijinja::value::Serde(arg)))
                     }
@@ -214,7 +247,9 @@ impl Predicate {
                 if matches!(op, Op::Lt | Op::Le | Op::Gt | Op::Ge)
                     && matches!(&operand, Operand::Constant(c) if f64::try_from(c.clone()).is_err())
                 {
-                    return Err(format!("{word} compares numbers; give a number or {{ field = \"...\" }}"));
+                    return Err(format!(
+                        "{word} compares numbers; give a number or {{ field = \"...\" }}"
+                    ));
                 }
                 Predicate::Compare(field, op, operand)
             }
@@ -225,7 +260,11 @@ impl Predicate {
     pub fn fields(&self, out: &mut Vec<(FieldRef, Need)>) {
         match self {
             Predicate::Compare(f, op, with) => {
-                let need = if matches!(op, Op::Is | Op::IsNot) { Need::Any } else { Need::Number };
+                let need = if matches!(op, Op::Is | Op::IsNot) {
+                    Need::Any
+                } else {
+                    Need::Number
+                };
                 out.push((f.clone(), need));
                 if let Operand::Field(g) = with {
                     out.push((g.clone(), need));
@@ -259,7 +298,9 @@ impl Predicate {
                     Op::IsNot => !equal,
                     _ => {
                         let number = |v: &Option<Value>| {
-                            v.as_ref().filter(|v| v.is_number()).and_then(|v| f64::try_from(v.clone()).ok())
+                            v.as_ref()
+                                .filter(|v| v.is_number())
+                                .and_then(|v| f64::try_from(v.clone()).ok())
                         };
                         match (number(&left), number(&right)) {
                             (Some(a), Some(b)) => match op {
@@ -301,24 +342,50 @@ pub fn resolve(from: &Value, parts: &[String]) -> Option<Value> {
 
 impl fmt::Display for Predicate {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let word = |op: &Op| Op::ALL.iter().find(|(_, o)| o == op).map(|(w, _)| *w).unwrap_or("is");
+        let word = |op: &Op| {
+            Op::ALL
+                .iter()
+                .find(|(_, o)| o == op)
+                .map(|(w, _)| *w)
+                .unwrap_or("is")
+        };
         let operand = |o: &Operand| match o {
             Operand::Constant(c) if c.as_str().is_some() => format!("'{c}'"),
             Operand::Constant(c) => c.to_string(),
             Operand::Field(g) => g.written.clone(),
         };
         let join = |ps: &[Predicate], sep: &str| {
-            ps.iter().map(|p| format!("({p})")).collect::<Vec<_>>().join(sep)
+            ps.iter()
+                .map(|p| format!("({p})"))
+                .collect::<Vec<_>>()
+                .join(sep)
         };
         match self {
-            Predicate::Compare(g, op, with) => write!(f, "{} {} {}", g.written, word(op), operand(with)),
+            Predicate::Compare(g, op, with) => {
+                write!(f, "{} {} {}", g.written, word(op), operand(with))
+            }
             Predicate::OneOf(g, vs) => {
-                let vs: Vec<String> = vs.iter().map(|v| operand(&Operand::Constant(v.clone()))).collect();
+                let vs: Vec<String> = vs
+                    .iter()
+                    .map(|v| operand(&Operand::Constant(v.clone())))
+                    .collect();
                 write!(f, "{} one_of [{}]", g.written, vs.join(", "))
             }
-            Predicate::Missing(g, w) => write!(f, "{} {}", g.written, if *w { "missing" } else { "present" }),
-            Predicate::Set(g, w) => write!(f, "{} {}", g.written, if *w { "set" } else { "not set" }),
-            Predicate::NotEmpty(g, w) => write!(f, "{} {}", g.written, if *w { "not empty" } else { "empty" }),
+            Predicate::Missing(g, w) => write!(
+                f,
+                "{} {}",
+                g.written,
+                if *w { "missing" } else { "present" }
+            ),
+            Predicate::Set(g, w) => {
+                write!(f, "{} {}", g.written, if *w { "set" } else { "not set" })
+            }
+            Predicate::NotEmpty(g, w) => write!(
+                f,
+                "{} {}",
+                g.written,
+                if *w { "not empty" } else { "empty" }
+            ),
             Predicate::Always(b) => write!(f, "{b}"),
             Predicate::All(ps) => write!(f, "{}", join(ps, " and ")),
             Predicate::Any(ps) => write!(f, "{}", join(ps, " or ")),
@@ -397,7 +464,11 @@ impl Fields {
 
     /// The direct children of a prefix, for "did you mean".
     pub fn children(&self, prefix: &str) -> Vec<&str> {
-        let start = if prefix.is_empty() { String::new() } else { format!("{prefix}.") };
+        let start = if prefix.is_empty() {
+            String::new()
+        } else {
+            format!("{prefix}.")
+        };
         self.types
             .keys()
             .filter_map(|k| k.strip_prefix(start.as_str()))
@@ -417,11 +488,12 @@ impl Fields {
         }
         let Some(found) = self.type_of(&path) else {
             let (parent, last) = path.rsplit_once('.').unwrap_or(("", path.as_str()));
-            let mut m = format!(
-                "field \"{}\" does not exist in {}",
-                field.written,
-                if parent.is_empty() { "the report".to_string() } else { format!("\"{parent}\"") }
-            );
+            let place = match parent.strip_suffix("[]") {
+                _ if parent.is_empty() => "the report".to_string(),
+                Some(list) => format!("an entry of \"{list}\""),
+                None => format!("\"{parent}\""),
+            };
+            let mut m = format!("field \"{}\" does not exist in {place}", field.written);
             if let Some(best) = suggest(last, &self.children(parent)) {
                 m.push_str(&format!(" (did you mean \"{best}\"?)"));
             }
@@ -442,7 +514,10 @@ impl Fields {
                 Need::List => "a list",
                 Need::Any => "a value",
             };
-            Err(format!("field \"{}\" is a {found}, but this test needs {wanted}", field.written))
+            Err(format!(
+                "field \"{}\" is a {found}, but this test needs {wanted}",
+                field.written
+            ))
         }
     }
 }
@@ -464,7 +539,9 @@ pub fn collect_fields(value: &Json, path: &str, out: &mut BTreeMap<String, Strin
         return;
     }
     if !path.is_empty() {
-        let entry = out.entry(path.to_string()).or_insert_with(|| word.to_string());
+        let entry = out
+            .entry(path.to_string())
+            .or_insert_with(|| word.to_string());
         if entry == "null" {
             *entry = word.to_string();
         } else if word != "null" && entry != word {
@@ -479,7 +556,11 @@ pub fn collect_fields(value: &Json, path: &str, out: &mut BTreeMap<String, Strin
         }
         Json::Object(map) => {
             for (k, v) in map {
-                let p = if path.is_empty() { k.clone() } else { format!("{path}.{k}") };
+                let p = if path.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{path}.{k}")
+                };
                 collect_fields(v, &p, out);
             }
         }
@@ -502,4 +583,216 @@ pub fn field_list(reports: &[Json]) -> String {
         text.push_str(&format!("{path} {kind}\n"));
     }
     text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use serde_json::json;
+
+    fn pred(v: Json) -> Predicate {
+        Predicate::parse(&v).unwrap_or_else(|e| panic!("{v} does not parse: {e}"))
+    }
+
+    fn item() -> Value {
+        Value::from(minijinja::value::Serde(json!({
+            "clearance_mm": 6.2,
+            "required_clearance_mm": 6.4,
+            "grade": "reinforced",
+            "house_minimum_applied": false,
+            "earthed": true,
+            "subclass": null,
+            "count": 2,
+            "gaps": [],
+            "tapes": ["a"],
+            "verdicts": { "low_line.bulk_valley_v": "fail", "inrush_peak_a": "pass" },
+            "fuse": { "rated_a": 2.0 }
+        })))
+    }
+
+    fn report() -> Value {
+        Value::from(minijinja::value::Serde(
+            json!({ "design": { "protection_class": "II" } }),
+        ))
+    }
+
+    fn holds(v: Json) -> bool {
+        pred(v).holds(&item(), &report())
+    }
+
+    #[test]
+    fn field_against_a_constant() {
+        assert!(holds(json!({ "field": "clearance_mm", "lt": 7 })));
+        assert!(!holds(json!({ "field": "clearance_mm", "gt": 7.0 })));
+        assert!(holds(json!({ "field": "clearance_mm", "le": 6.2 })));
+        assert!(holds(json!({ "field": "clearance_mm", "ge": 6.2 })));
+        assert!(holds(json!({ "field": "grade", "is": "reinforced" })));
+        assert!(holds(json!({ "field": "grade", "is_not": "functional" })));
+        // A whole number in the file equals the same number in the report.
+        assert!(holds(json!({ "field": "count", "is": 2 })));
+        assert!(holds(json!({ "field": "count", "is": 2.0 })));
+        assert!(holds(json!({ "field": "fuse.rated_a", "is": 2 })));
+    }
+
+    #[test]
+    fn field_against_field() {
+        assert!(holds(
+            json!({ "field": "clearance_mm", "lt": { "field": "required_clearance_mm" } })
+        ));
+        assert!(!holds(
+            json!({ "field": "required_clearance_mm", "lt": { "field": "clearance_mm" } })
+        ));
+        assert!(holds(
+            json!({ "field": "clearance_mm", "is": { "field": "clearance_mm" } })
+        ));
+    }
+
+    #[test]
+    fn a_missing_field_fails_every_comparison_but_is_not() {
+        assert!(!holds(json!({ "field": "subclass", "lt": 1 })));
+        assert!(!holds(json!({ "field": "subclass", "ge": 1 })));
+        assert!(!holds(json!({ "field": "subclass", "is": "Y1" })));
+        assert!(holds(json!({ "field": "subclass", "is_not": "Y1" })));
+        assert!(!holds(json!({ "field": "no_such.thing", "gt": 0 })));
+        assert!(!holds(
+            json!({ "field": "clearance_mm", "lt": { "field": "subclass" } })
+        ));
+    }
+
+    #[test]
+    fn missing_set_and_not_empty() {
+        assert!(holds(json!({ "field": "subclass", "missing": true })));
+        assert!(holds(json!({ "field": "grade", "missing": false })));
+        // Through a section that is null or absent, a field is missing.
+        assert!(holds(
+            json!({ "field": "subclass.rated_v", "missing": true })
+        ));
+        assert!(holds(json!({ "field": "earthed", "set": true })));
+        assert!(holds(
+            json!({ "field": "house_minimum_applied", "set": false })
+        ));
+        assert!(holds(json!({ "field": "subclass", "set": false })));
+        assert!(holds(json!({ "field": "tapes", "not_empty": true })));
+        assert!(holds(json!({ "field": "gaps", "not_empty": false })));
+        assert!(holds(json!({ "field": "subclass", "not_empty": false })));
+    }
+
+    #[test]
+    fn verdicts_one_of_and_the_report() {
+        // A verdict name may contain a dot; it is one key of the verdicts map.
+        assert!(holds(
+            json!({ "verdict": "low_line.bulk_valley_v", "is": "fail" })
+        ));
+        assert!(!holds(json!({ "verdict": "inrush_peak_a", "is": "fail" })));
+        assert!(!holds(
+            json!({ "verdict": "not_judged_here", "is": "fail" })
+        ));
+        assert!(holds(
+            json!({ "field": "grade", "one_of": ["basic", "reinforced"] })
+        ));
+        assert!(!holds(
+            json!({ "field": "subclass", "one_of": ["Y1", "Y2"] })
+        ));
+        assert!(holds(
+            json!({ "field": "report.design.protection_class", "is": "II" })
+        ));
+    }
+
+    #[test]
+    fn all_any_not_and_constants() {
+        assert!(holds(
+            json!({ "all": [{ "field": "earthed", "set": true }, { "field": "count", "gt": 1 }] })
+        ));
+        assert!(!holds(
+            json!({ "all": [{ "field": "earthed", "set": true }, { "field": "count", "gt": 2 }] })
+        ));
+        assert!(holds(
+            json!({ "any": [{ "field": "earthed", "set": false }, { "field": "count", "gt": 1 }] })
+        ));
+        assert!(holds(
+            json!({ "not": { "verdict": "inrush_peak_a", "is": "fail" } })
+        ));
+        assert!(holds(json!(true)));
+        assert!(!holds(json!(false)));
+    }
+
+    #[test]
+    fn malformed_predicates_are_refused_naming_the_key() {
+        let err = |v: Json| Predicate::parse(&v).expect_err("refused");
+        assert!(err(json!({ "feild": "x", "is": 1 })).contains("did you mean \"field\"?"));
+        assert!(err(json!({ "field": "x", "is": 1, "lt": 2 })).contains("exactly one test"));
+        assert!(err(json!({ "field": "x" })).contains("exactly one test"));
+        assert!(err(json!({ "field": "x", "lt": "high" })).contains("compares numbers"));
+        assert!(err(json!({ "field": "x", "is": ["a"] })).contains("use one_of"));
+        assert!(err(json!({ "field": "x", "missing": "yes" })).contains("true or false"));
+        assert!(err(json!({ "all": [] })).contains("non-empty list"));
+        assert!(err(json!({ "all": [true], "field": "x" })).contains("stand alone"));
+        assert!(err(json!({ "field": "a..b", "is": 1 })).contains("not a field path"));
+        assert!(err(json!(3)).contains("expression in quotes or a table"));
+    }
+
+    #[test]
+    fn fields_are_checked_against_the_list_with_their_types() {
+        let fields = Fields::parse(
+            "barriers list\nbarriers[] map\nbarriers[].clearance_mm number\nbarriers[].grade string\n\
+             power_entry map\npower_entry.fuse map\npower_entry.fuse.rated_a number\n\
+             power_entry.verdicts verdicts\nemc null\n",
+        );
+        let f = |path: &str| field_ref(path, false).expect("a path");
+        let prefix = fields.item_prefix("barriers");
+        assert_eq!(prefix, "barriers[]");
+        assert!(
+            fields
+                .check(&prefix, &f("clearance_mm"), Need::Number)
+                .is_ok()
+        );
+        let e = fields
+            .check(&prefix, &f("clearence_mm"), Need::Number)
+            .expect_err("misspelt");
+        assert!(
+            e.contains("an entry of \"barriers\"") && e.contains("did you mean \"clearance_mm\"?"),
+            "{e}"
+        );
+        let e = fields
+            .check(&prefix, &f("grade"), Need::Number)
+            .expect_err("a string");
+        assert!(e.contains("is a string"), "{e}");
+        assert!(
+            fields
+                .check("power_entry", &f("fuse.rated_a"), Need::Number)
+                .is_ok()
+        );
+        assert!(
+            fields
+                .check(
+                    "power_entry",
+                    &field_ref("low_line.x", true).expect("verdict"),
+                    Need::Any
+                )
+                .is_ok()
+        );
+        // A section only ever seen empty has an unknown shape: not refused.
+        assert!(fields.check("", &f("emc.anything"), Need::Number).is_ok());
+        assert!(
+            fields
+                .check("", &f("power_entry.nothing"), Need::Any)
+                .is_err()
+        );
+    }
+
+    #[test]
+    fn the_field_list_records_types_lists_and_open_verdicts() {
+        let mut out = BTreeMap::new();
+        collect_fields(
+            &json!({ "a": [{ "b": 1 }, { "b": null, "c": "x" }], "s": null, "verdicts": { "k.j": "pass" } }),
+            "",
+            &mut out,
+        );
+        assert_eq!(out.get("a").map(String::as_str), Some("list"));
+        assert_eq!(out.get("a[].b").map(String::as_str), Some("number"));
+        assert_eq!(out.get("a[].c").map(String::as_str), Some("string"));
+        assert_eq!(out.get("s").map(String::as_str), Some("null"));
+        assert_eq!(out.get("verdicts").map(String::as_str), Some("verdicts"));
+        assert!(!out.contains_key("verdicts.k.j"));
+    }
 }

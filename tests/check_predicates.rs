@@ -1,0 +1,272 @@
+//! End-to-end tests of checks written as predicates: house checks in the predicate form
+//! raise findings on the shipped example, a check over an optional section has no item when
+//! the project lacks that section, a misspelt field or section is refused at load with the
+//! file, the entry's line and the key's own line, and a retired id cannot be taken again.
+//!
+//! The house rule folders are written to a scratch folder per test; the designs are the
+//! shipped example (examples/class2-adapter.toml: barriers "pri-sec" 6.2 mm and
+//! "input-output" 8.0 mm clearance as declared in that file, an [input] with a fuse) and
+//! tests/fixtures/iso-class2-reinforced.toml (no [input], no [emc]).
+
+mod common;
+use common::*;
+
+use std::path::{Path, PathBuf};
+
+use serde_json::Value;
+
+/// A fresh house rules folder holding `checks/house.toml` with the given [[check]] entries.
+fn house(name: &str, entries: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!(
+        "gapwarden-predicates-{}-{name}",
+        std::process::id()
+    ));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(dir.join("checks")).expect("scratch folder");
+    let text = format!(
+        "id = \"house.predicates\"\ntitle = \"House checks for the tests\"\nsource = \"invented for the tests\"\nprovenance = \"House rule, no published source.\"\n\n{entries}"
+    );
+    std::fs::write(dir.join("checks/house.toml"), text).expect("write house checks");
+    dir
+}
+
+fn json_run(project: &str, rules: &Path) -> Value {
+    let out = run(&[
+        "check",
+        project,
+        "--format",
+        "json",
+        "--rules",
+        rules.to_str().expect("utf-8 path"),
+    ]);
+    let text = stdout(&out);
+    serde_json::from_str(&text).unwrap_or_else(|e| panic!("no JSON ({e})\n{}", describe(&out)))
+}
+
+fn outcome<'a>(report: &'a Value, id: &str) -> &'a Value {
+    report["checks"]
+        .as_array()
+        .and_then(|c| c.iter().find(|c| c["id"] == id))
+        .unwrap_or_else(|| panic!("no outcome for {id}"))
+}
+
+fn findings<'a>(report: &'a Value, id: &str) -> Vec<&'a Value> {
+    report["findings"]
+        .as_array()
+        .map(|f| f.iter().filter(|f| f["id"] == id).collect())
+        .unwrap_or_default()
+}
+
+#[test]
+fn a_house_predicate_check_compares_a_field_with_a_constant_and_names_the_barrier() {
+    // 7 mm lies between the example's 6.2 mm (pri-sec) and 8.0 mm (input-output).
+    let dir = house(
+        "constant",
+        r#"[[check]]
+id = "house.clearance_under_7mm"
+title = "House floor of 7 mm clearance"
+severity = "note"
+over = "barriers"
+applies = { all = [{ field = "clearance_mm", missing = false }, { field = "grade", is = "reinforced" }] }
+condition = { field = "clearance_mm", lt = 7.0 }
+message = "{{ item.id }} has {{ item.clearance_mm | num }} mm"
+source = "invented for the tests"
+"#,
+    );
+    let report = json_run("examples/class2-adapter.toml", &dir);
+    let raised = findings(&report, "house.clearance_under_7mm");
+    assert_eq!(raised.len(), 1, "{raised:?}");
+    assert_eq!(raised[0]["subject"], "pri-sec");
+    assert_eq!(raised[0]["message"], "pri-sec has 6.2 mm");
+    assert_eq!(outcome(&report, "house.clearance_under_7mm")["judged"], 2);
+}
+
+#[test]
+fn a_section_that_is_absent_yields_no_items() {
+    let dir = house(
+        "sections",
+        r#"[[check]]
+id = "house.input_present"
+title = "The input section is there"
+severity = "note"
+over = "power_entry"
+condition = true
+message = "input described"
+source = "invented for the tests"
+
+[[check]]
+id = "house.fuse_present"
+title = "The fuse section is there"
+severity = "note"
+over = "power_entry.fuse"
+condition = { field = "rated_a", missing = false }
+message = "fuse described"
+source = "invented for the tests"
+
+[[check]]
+id = "house.emc_points"
+title = "Each EMC point is listed"
+severity = "note"
+over = "emc.points"
+condition = true
+message = "a point"
+source = "invented for the tests"
+"#,
+    );
+    let without = json_run("tests/fixtures/iso-class2-reinforced.toml", &dir);
+    for id in [
+        "house.input_present",
+        "house.fuse_present",
+        "house.emc_points",
+    ] {
+        assert_eq!(outcome(&without, id)["judged"], 0, "{id}");
+        assert!(findings(&without, id).is_empty(), "{id}");
+    }
+    let with = json_run("examples/class2-adapter.toml", &dir);
+    for id in ["house.input_present", "house.fuse_present"] {
+        assert_eq!(outcome(&with, id)["judged"], 1, "{id}");
+        assert_eq!(findings(&with, id).len(), 1, "{id}");
+        assert_eq!(findings(&with, id)[0]["subject"], Value::Null, "{id}");
+    }
+}
+
+#[test]
+fn a_misspelt_predicate_field_is_refused_with_the_entry_line_and_the_key_line() {
+    let dir = house(
+        "misspelt",
+        r#"[[check]]
+id = "house.misspelt"
+title = "A misspelt field"
+severity = "note"
+over = "barriers"
+condition = { field = "clearence_mm", lt = 7.0 }
+message = "never shown"
+source = "invented for the tests"
+"#,
+    );
+    let out = run(&[
+        "check",
+        "examples/class2-adapter.toml",
+        "--rules",
+        dir.to_str().expect("utf-8"),
+    ]);
+    assert_exit(&out, 2);
+    let err = stderr(&out);
+    // The header comment takes lines 1-4, a blank line 5: [[check]] is line 6, condition 11.
+    assert!(err.contains("checks/house.toml:6:"), "{err}");
+    assert!(err.contains("check \"house.misspelt\".condition"), "{err}");
+    assert!(
+        err.contains("field \"clearence_mm\" does not exist in an entry of \"barriers\""),
+        "{err}"
+    );
+    assert!(err.contains("did you mean \"clearance_mm\"?"), "{err}");
+    assert!(err.contains("`condition` at line 11, column 23"), "{err}");
+}
+
+#[test]
+fn a_predicate_with_a_wrong_test_or_section_is_refused_naming_the_key() {
+    let dir = house(
+        "wrong",
+        r#"[[check]]
+id = "house.wrong_test"
+title = "A test on a string field that needs a number"
+severity = "note"
+over = "barriers"
+condition = { field = "grade", gt = 2 }
+message = "never shown"
+source = "invented for the tests"
+
+[[check]]
+id = "house.wrong_section"
+title = "A section that does not exist"
+severity = "note"
+over = "power_entri"
+condition = true
+message = "never shown"
+source = "invented for the tests"
+
+[[check]]
+id = "house.two_tests"
+title = "Two tests in one table"
+severity = "note"
+over = "barriers"
+applies = { field = "clearance_mm", missing = false, set = true }
+condition = true
+message = "never shown"
+source = "invented for the tests"
+"#,
+    );
+    let out = run(&[
+        "check",
+        "examples/class2-adapter.toml",
+        "--rules",
+        dir.to_str().expect("utf-8"),
+    ]);
+    assert_exit(&out, 2);
+    let err = stderr(&out);
+    assert!(
+        err.contains("field \"grade\" is a string, but this test needs a number"),
+        "{err}"
+    );
+    assert!(err.contains("`condition` at line 11"), "{err}");
+    assert!(err.contains("check \"house.wrong_section\".over"), "{err}");
+    assert!(err.contains("did you mean \"power_entry\"?"), "{err}");
+    assert!(err.contains("`over` at line 19"), "{err}");
+    assert!(err.contains("check \"house.two_tests\".applies"), "{err}");
+    assert!(err.contains("needs exactly one test"), "{err}");
+}
+
+#[test]
+fn a_retired_check_id_cannot_be_taken_again() {
+    let dir = house(
+        "retired",
+        r#"[[check]]
+id = "house.old_check"
+title = "Takes a retired id"
+severity = "note"
+over = "report"
+condition = true
+message = "never shown"
+source = "invented for the tests"
+"#,
+    );
+    std::fs::write(
+        dir.join("retired.toml"),
+        "id = \"house.retired\"\ntitle = \"Retired house check ids\"\nsource = \"invented for the tests\"\nprovenance = \"House rule.\"\n\n[[retired]]\nid = \"house.old_check\"\nreason = \"replaced by house.new_check\"\n",
+    )
+    .expect("write retired list");
+    let out = run(&[
+        "check",
+        "examples/class2-adapter.toml",
+        "--rules",
+        dir.to_str().expect("utf-8"),
+    ]);
+    assert_exit(&out, 2);
+    let err = stderr(&out);
+    assert!(
+        err.contains("check id \"house.old_check\" is retired (replaced by house.new_check)"),
+        "{err}"
+    );
+    assert!(err.contains("check \"house.old_check\".id"), "{err}");
+}
+
+#[test]
+fn an_expression_condition_still_works_beside_predicates() {
+    let dir = house(
+        "expression",
+        r#"[[check]]
+id = "house.expression_form"
+title = "Old form"
+severity = "note"
+over = "barriers"
+applies = "item.clearance_mm is not none"
+condition = "item.clearance_mm < 7.0 and item.grade == 'reinforced'"
+message = "{{ item.id }}"
+source = "invented for the tests"
+"#,
+    );
+    let report = json_run("examples/class2-adapter.toml", &dir);
+    let raised = findings(&report, "house.expression_form");
+    assert_eq!(raised.len(), 1);
+    assert_eq!(raised[0]["subject"], "pri-sec");
+}
