@@ -3,7 +3,7 @@
 //! the checked-in copy is stale (`GAPWARDEN_UPDATE_FIELDS=1` rewrites it).
 
 use gapwarden::diag::Source;
-use gapwarden::rules::RuleBook;
+use gapwarden::rules::{Cond, RuleBook};
 use gapwarden::rules::predicate::{Fields, REPORT_FIELDS, field_list};
 
 fn sample_reports() -> Vec<serde_json::Value> {
@@ -65,4 +65,47 @@ fn report_field_list_is_current() {
     ] {
         assert!(generated.lines().any(|l| l == line), "{line} is listed");
     }
+}
+
+/// Every field a shipped check's expressions, subject and message read exists in the
+/// report's field list (predicates are validated when the rules load; this covers the rest).
+#[test]
+fn shipped_check_expressions_and_messages_name_existing_fields() {
+    let rules = RuleBook::shipped().expect("the shipped rules load");
+    let fields = Fields::shipped();
+    let env = gapwarden::checks::expression_environment();
+    let mut problems = Vec::new();
+    let mut seen = 0;
+    for check in &rules.checks {
+        let prefix = if check.over.is_report() {
+            String::new()
+        } else {
+            fields.item_prefix(check.over.path())
+        };
+        let mut texts: Vec<String> = vec![check.message.clone()];
+        for cond in [check.applies.as_ref(), Some(&check.condition)].into_iter().flatten() {
+            if let Cond::Expression(e) = cond {
+                texts.push(format!("{{{{ {e} }}}}"));
+            }
+        }
+        if let Some(s) = &check.subject {
+            texts.push(format!("{{{{ {s} }}}}"));
+        }
+        for text in texts {
+            let template = env.template_from_str(&text).expect("shipped templates compile");
+            for var in template.undeclared_variables(true) {
+                let path = match (var.strip_prefix("item."), var.strip_prefix("report.")) {
+                    (Some(rest), _) => format!("{prefix}.{rest}").trim_start_matches('.').to_string(),
+                    (_, Some(rest)) => rest.to_string(),
+                    _ => continue,
+                };
+                seen += 1;
+                if fields.type_of(&path).is_none() {
+                    problems.push(format!("{}: {var} ({path})", check.id));
+                }
+            }
+        }
+    }
+    assert!(seen > 200, "the messages read many fields ({seen})");
+    assert!(problems.is_empty(), "{problems:#?}");
 }
