@@ -126,6 +126,20 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
     })
 }
 
+/// A constant from the check file as a template value, built directly (no serde pass).
+fn constant(v: &Json) -> Value {
+    match v {
+        Json::Bool(b) => Value::from(*b),
+        Json::String(s) => Value::from(s.as_str()),
+        Json::Number(n) => match (n.as_i64(), n.as_f64()) {
+            (Some(i), _) => Value::from(i),
+            (None, Some(f)) => Value::from(f),
+            (None, None) => Value::from(minijinja::value::Serde(v)),
+        },
+        other => Value::from(minijinja::value::Serde(other)),
+    }
+}
+
 impl Predicate {
     /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
     pub fn parse(value: &Json) -> Result<Predicate, String> {
@@ -214,13 +228,9 @@ impl Predicate {
             "set" => Predicate::Set(field, flag("set")?),
             "not_empty" => Predicate::NotEmpty(field, flag("not_empty")?),
             "one_of" => match arg {
-                Json::Array(values) if !values.is_empty() => Predicate::OneOf(
-                    field,
-                    values
-                        .iter()
-                        .map(|v| Value::from(minijinja::value::Serde(v)))
-                        .collect(),
-                ),
+                Json::Array(values) if !values.is_empty() => {
+                    Predicate::OneOf(field, values.iter().map(constant).collect())
+                }
                 _ => return Err("one_of takes a non-empty list of values".to_string()),
             },
             word => {
@@ -241,7 +251,7 @@ impl Predicate {
                         return Err(format!("{word} takes a value; use missing = true for null"));
                     }
                     Json::Number(_) | Json::String(_) | Json::Bool(_) => {
-                        Operand::Constant(Value::from(minijinja::value::Serde(arg)))
+                        Operand::Constant(constant(arg))
                     }
                 };
                 if matches!(op, Op::Lt | Op::Le | Op::Gt | Op::Ge)
@@ -408,10 +418,12 @@ pub enum Need {
 /// (`tests/check_fields.rs` regenerates and compares it).
 pub const REPORT_FIELDS: &str = include_str!("report_fields.txt");
 
-/// The field list, read once per rule book.
+/// The field list, read once per rule book: sorted `(path, type)` pairs borrowed from
+/// the embedded text (generated in byte order), searched by bisection, so a run pays for
+/// no allocation per field.
 #[derive(Debug, Clone, Default)]
 pub struct Fields {
-    types: BTreeMap<String, String>,
+    entries: Vec<(&'static str, &'static str)>,
 }
 
 impl Fields {
@@ -419,30 +431,39 @@ impl Fields {
         Fields::parse(REPORT_FIELDS)
     }
 
-    pub fn parse(text: &str) -> Fields {
-        let types = text
+    pub fn parse(text: &'static str) -> Fields {
+        let mut entries: Vec<(&str, &str)> = text
             .lines()
             .filter(|l| !l.trim().is_empty() && !l.starts_with('#'))
             .filter_map(|l| l.rsplit_once(' '))
-            .map(|(p, t)| (p.to_string(), t.to_string()))
             .collect();
-        Fields { types }
+        if !entries.is_sorted_by(|a, b| a.0 < b.0) {
+            entries.sort_unstable_by(|a, b| a.0.cmp(b.0));
+        }
+        Fields { entries }
+    }
+
+    fn get(&self, path: &str) -> Option<&'static str> {
+        self.entries
+            .binary_search_by(|(p, _)| (*p).cmp(path))
+            .ok()
+            .map(|i| self.entries[i].1)
     }
 
     /// The type word of a full path (`barriers[].clearance_mm`), if the path exists or
     /// lies under a section never seen filled (whose shape is then unknown: "any").
-    pub fn type_of(&self, path: &str) -> Option<&str> {
+    pub fn type_of(&self, path: &str) -> Option<&'static str> {
         // An empty list (only while it is being generated) validates nothing.
-        if path.is_empty() || self.types.is_empty() {
+        if path.is_empty() || self.entries.is_empty() {
             return Some(if path.is_empty() { "map" } else { "any" });
         }
-        if let Some(t) = self.types.get(path) {
+        if let Some(t) = self.get(path) {
             return Some(t);
         }
         // Under a field only ever seen null, nothing more can be said.
         let mut head = path;
         while let Some((parent, _)) = head.rsplit_once('.') {
-            match self.types.get(parent).map(String::as_str) {
+            match self.get(parent) {
                 Some("null") => return Some("any"),
                 Some("verdicts") => {
                     return Some("string");
@@ -469,9 +490,9 @@ impl Fields {
         } else {
             format!("{prefix}.")
         };
-        self.types
-            .keys()
-            .filter_map(|k| k.strip_prefix(start.as_str()))
+        self.entries
+            .iter()
+            .filter_map(|(k, _)| k.strip_prefix(start.as_str()))
             .filter(|rest| !rest.contains('.') && !rest.contains("[]"))
             .collect()
     }
