@@ -270,3 +270,38 @@ source = "invented for the tests"
     assert_eq!(raised.len(), 1);
     assert_eq!(raised[0]["subject"], "pri-sec");
 }
+
+#[test]
+fn a_misspelt_field_in_a_house_expression_or_message_is_named_with_a_suggestion() {
+    let dir = house(
+        "expression-misspelt",
+        r#"[[check]]
+id = "house.expression_misspelt"
+title = "Old form, misspelt"
+severity = "note"
+over = "barriers"
+condition = "item.clearance_mm < 7.0"
+message = "{{ item.id }} at {{ item.creepge_mm }} mm"
+source = "invented for the tests"
+"#,
+    );
+    let out = run(&[
+        "check",
+        "examples/class2-adapter.toml",
+        "--rules",
+        dir.to_str().expect("utf-8"),
+    ]);
+    assert_exit(&out, 2);
+    let err = stderr(&out);
+    assert!(err.contains("checks/house.toml:6:"), "{err}");
+    assert!(
+        err.contains("check \"house.expression_misspelt\".message"),
+        "{err}"
+    );
+    assert!(
+        err.contains("field \"item.creepge_mm\" does not exist in an entry of \"barriers\""),
+        "{err}"
+    );
+    assert!(err.contains("did you mean \"creepage_mm\"?"), "{err}");
+    assert!(err.contains("`message` at line 12"), "{err}");
+}

@@ -8,7 +8,7 @@ use std::fmt;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use super::predicate::{Fields, Predicate};
+use super::predicate::{FieldRef, Fields, Need, Predicate};
 use crate::checks::{Severity, expression_environment};
 use crate::diag::{Diagnostic, Source, one_of, suggest};
 
@@ -493,6 +493,54 @@ pub fn load_checks(
                         ),
                         key,
                     ));
+                }
+            }
+            // A house check's expressions and message name fields of the report too: each
+            // `item.` or `report.` path they read is looked up in the field list, so a
+            // misspelt one is named with "did you mean" whatever the design at hand holds.
+            if validate
+                && problems.len() == before
+                && let Some(over) = &over
+            {
+                let prefix = if over.is_report() {
+                    String::new()
+                } else {
+                    fields.item_prefix(over.path())
+                };
+                let wrap = |e: &str| format!("{{{{ {e} }}}}");
+                let texts = [
+                    ("applies", applies.as_ref().and_then(expression).map(wrap)),
+                    (
+                        "condition",
+                        condition.as_ref().and_then(expression).map(wrap),
+                    ),
+                    ("subject", subject.as_deref().map(wrap)),
+                    ("message", message.clone()),
+                ];
+                for (key, text) in texts {
+                    let Some(text) = text else { continue };
+                    let Ok(template) = env.template_from_str(&text) else {
+                        continue;
+                    };
+                    let mut names: Vec<String> =
+                        template.undeclared_variables(true).into_iter().collect();
+                    names.sort();
+                    for name in names {
+                        let (from_report, rest) =
+                            match (name.strip_prefix("item."), name.strip_prefix("report.")) {
+                                (Some(rest), _) if !over.is_report() => (false, rest),
+                                (_, Some(rest)) => (true, rest),
+                                _ => continue,
+                            };
+                        let field = FieldRef {
+                            from_report,
+                            parts: rest.split('.').map(str::to_string).collect(),
+                            written: name.clone(),
+                        };
+                        if let Err(m) = fields.check(&prefix, &field, Need::Any) {
+                            problems.push(at(m, key));
+                        }
+                    }
                 }
             }
             if let Some(message) = &message
