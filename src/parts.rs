@@ -5,7 +5,7 @@
 use serde::Serialize;
 
 use crate::project::{Barrier, Grade, Part, PartKind, Project};
-use crate::rules::{CapacitorSubclasses, RuleBook, TestVoltages, ThermalClasses};
+use crate::rules::{CapacitorSubclasses, EPS, RuleBook, TestVoltages, ThermalClasses};
 use crate::spacing::{BarrierResult, Step, show, tidy};
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -207,7 +207,7 @@ fn test_voltage(
     if grade == Grade::Functional {
         return (None, None);
     }
-    let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - 1e-9) else {
+    let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - EPS) else {
         let from = beyond_test_table(table);
         steps.push(Step {
             rule: Some(TestVoltages::ID.to_string()),
