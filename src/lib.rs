@@ -7,6 +7,7 @@ pub mod commands;
 pub mod compare;
 pub mod diag;
 pub mod emc;
+pub mod input_limits;
 pub mod isolation;
 pub mod memory_guard;
 pub mod parts;

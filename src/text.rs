@@ -52,21 +52,80 @@ pub fn visible(text: &str) -> Cow<'_, str> {
     Cow::Owned(out)
 }
 
-/// A number for a message, exactly as stored (shortest form that reads back the same),
-/// in scientific notation where plain digits would be unreadable: 1e300, 5e-324.
-pub fn exact_number(x: f64) -> String {
+/// How a number is printed in text. One formatter serves every message, derivation and
+/// report line; the modes differ only in how much is rounded away first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Digits {
+    /// Exactly as stored (the shortest form that reads back the same), in scientific
+    /// notation where plain digits would be unreadable: 1e300, 5e-324. For values a user
+    /// wrote, quoted back in a message about them. Not finite: `NaN`, `inf`.
+    Exact,
+    /// Rounded to four decimals, no trailing zeros: the report's figures (millimetres,
+    /// volts, decibels). Not finite: "not computed", never inf or NaN.
+    FourDecimals,
+    /// Six significant digits: in scientific notation below 0.001, whole from 10000, four
+    /// decimals between. For the power-entry figures, which span microfarads to kiloamperes
+    /// squared seconds. Not finite: `NaN`, `inf`.
+    SixSignificant,
+}
+
+/// `x` as text in the given mode. Whatever the mode, zero prints as "0" (never "-0") and a
+/// magnitude of 1e15 or more in scientific notation, not as hundreds of digits.
+pub fn number(x: f64, digits: Digits) -> String {
     if !x.is_finite() {
-        return format!("{x}");
+        return match digits {
+            // A figure that could not be computed is never printed as inf or NaN.
+            Digits::FourDecimals => "not computed".to_string(),
+            Digits::Exact | Digits::SixSignificant => format!("{x}"),
+        };
     }
+    let four_decimals = |x: f64| (x * 1e4).round() / 1e4;
+    let x = match digits {
+        Digits::Exact => x,
+        Digits::FourDecimals => four_decimals(x),
+        Digits::SixSignificant => {
+            let x = significant(x);
+            if x != 0.0 && x.abs() < 1e-3 {
+                let s = format!("{x:.5e}");
+                let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
+                let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+                return format!("{mantissa}e{exponent}");
+            }
+            if x.abs() >= 1e4 { x.round() } else { four_decimals(x) }
+        }
+    };
     if x == 0.0 {
         return "0".to_string();
     }
-    let a = x.abs();
-    if !(1e-6..1e15).contains(&a) {
+    // Only an exact value can still be this small; a rounded one is 0 or at least 1e-4.
+    let plain_from = if digits == Digits::Exact { 1e-6 } else { 0.0 };
+    if x.abs() >= 1e15 || x.abs() < plain_from {
         format!("{x:e}")
     } else {
         format!("{x}")
     }
+}
+
+/// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
+pub fn exact_number(x: f64) -> String {
+    number(x, Digits::Exact)
+}
+
+/// A number as a designer writes it, the report's usual form:
+/// `number(x, Digits::FourDecimals)`.
+pub fn show(x: f64) -> String {
+    number(x, Digits::FourDecimals)
+}
+
+/// Rounds to six significant digits, for the report (the engine keeps full precision).
+pub fn significant(x: f64) -> f64 {
+    if !x.is_finite() || x == 0.0 {
+        return x;
+    }
+    let magnitude = x.abs().log10().floor() as i32;
+    let scale = 10f64.powi(5 - magnitude);
+    let rounded = (x * scale).round() / scale;
+    if rounded.is_finite() { rounded } else { x }
 }
 
 /// `value` as `shown` would print it, unless that would print it the same as one of

@@ -10,7 +10,9 @@ use serde::Serialize;
 use crate::diag::Diagnostic;
 use crate::toml_read::Span;
 
-pub use read::{DISTANCE_MM, VOLTAGE_V, read_project};
+// Re-exported for the `spacing` command, which judges its flags by the same limits.
+pub use crate::input_limits::{DISTANCE_MM, VOLTAGE_V};
+pub use read::read_project;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum ProtectionClass {

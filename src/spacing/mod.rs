@@ -178,23 +178,8 @@ pub fn round_up(x: f64, step: f64) -> f64 {
     tidy((x / step - 1e-9).ceil() * step)
 }
 
-/// A number as a designer writes it: no trailing zeros.
-pub fn show(x: f64) -> String {
-    // Rounded to 4 decimals, then printed in the shortest form that reads back the same.
-    if !x.is_finite() {
-        // A figure that could not be computed is never printed as inf or NaN.
-        return "not computed".to_string();
-    }
-    let rounded = (x * 1e4).round() / 1e4;
-    if rounded == 0.0 {
-        return "0".to_string();
-    }
-    if rounded.abs() >= 1e15 {
-        // 1e300 as 1e300, not as 301 digits.
-        return format!("{rounded:e}");
-    }
-    format!("{rounded}")
-}
+/// The report's number form, here for the modules that print figures with it.
+pub use crate::text::show;
 
 /// Required clearance and creepage of one barrier, judged against its declared distances.
 /// Every input outside a table is returned, not only the first.
