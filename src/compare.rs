@@ -186,26 +186,16 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
     let old_f: Vec<_> = old.findings.iter().map(key).collect();
     let new_f: Vec<_> = new.findings.iter().map(key).collect();
     let mut any = false;
-    for f in &new.findings {
-        if !old_f.contains(&key(f)) {
+    // A finding in one revision and not the other: "new" in bold, "gone" struck through.
+    let changes = [
+        (&new.findings, &old_f, "new", "**"),
+        (&old.findings, &new_f, "gone", "~~"),
+    ];
+    for (findings, other, word, mark) in changes {
+        for f in findings.iter().filter(|f| !other.contains(&key(f))) {
             any = true;
             out.push_str(&format!(
-                "- new {:?}: **{}**{}: {}\n",
-                f.severity,
-                e(&f.id),
-                f.subject
-                    .as_deref()
-                    .map(|s| format!(" ({})", e(s)))
-                    .unwrap_or_default(),
-                e(&f.message)
-            ));
-        }
-    }
-    for f in &old.findings {
-        if !new_f.contains(&key(f)) {
-            any = true;
-            out.push_str(&format!(
-                "- gone {:?}: ~~{}~~{}: {}\n",
+                "- {word} {:?}: {mark}{}{mark}{}: {}\n",
                 f.severity,
                 e(&f.id),
                 f.subject

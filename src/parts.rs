@@ -6,7 +6,7 @@ use serde::Serialize;
 
 use crate::project::{Barrier, Grade, Part, PartKind, Project};
 use crate::rules::{CapacitorSubclasses, EPS, RuleBook, TestVoltages, ThermalClasses};
-use crate::spacing::{BarrierResult, Step, show, tidy};
+use crate::spacing::{BarrierResult, Step, show};
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BridgeResult {
@@ -94,9 +94,7 @@ fn bridge(
 ) -> BridgeResult {
     let r = &part.ratings;
     let mut derivation = Vec::new();
-    let working_peak_v = barrier
-        .working_peak_v
-        .unwrap_or_else(|| tidy(barrier.working_rms_v * std::f64::consts::SQRT_2));
+    let working_peak_v = barrier.peak_v();
     let (subclass_bridges, subclass_allowed, series_accepted) = capacitor_fit(
         &rules.capacitors,
         r.subclass.as_deref(),

@@ -164,6 +164,23 @@ mod tests {
     }
 
     #[test]
+    fn one_formatter_three_modes() {
+        // Worked by hand: 0.000123456789 to six significant digits is 0.000123457.
+        assert_eq!(number(0.000123456789, Digits::SixSignificant), "1.23457e-4");
+        assert_eq!(number(12_345.678, Digits::SixSignificant), "12346");
+        // 3.14159265 -> 3.14159 (six significant) -> 3.1416 (four decimals).
+        assert_eq!(number(3.14159265, Digits::SixSignificant), "3.1416");
+        assert_eq!(number(3.14159265, Digits::FourDecimals), "3.1416");
+        assert_eq!(number(3.14159265, Digits::Exact), "3.14159265");
+        for digits in [Digits::Exact, Digits::FourDecimals, Digits::SixSignificant] {
+            assert_eq!(number(1e20, digits), "1e20");
+            assert_eq!(number(-0.0, digits), "0");
+        }
+        assert_eq!(number(f64::NAN, Digits::FourDecimals), "not computed");
+        assert_eq!(number(f64::INFINITY, Digits::Exact), "inf");
+    }
+
+    #[test]
     fn a_value_is_never_printed_as_its_bound() {
         let kilo = |x: f64| format!("{}", (x / 1e3 * 1e4).round() / 1e4);
         assert_eq!(apart(149_999.999, &[150_000.0], kilo), "149999.999");

@@ -1870,9 +1870,7 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
     let mut out = Vec::new();
     let mut figures = Vec::new();
     for barrier in &b.project.barriers {
-        let peak = barrier
-            .working_peak_v
-            .unwrap_or(SQRT_2 * barrier.working_rms_v);
+        let peak = barrier.peak_v();
         let peak_from = if barrier.working_peak_v.is_some() {
             "working_peak_v".to_string()
         } else {

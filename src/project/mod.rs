@@ -257,6 +257,14 @@ impl Barrier {
             .cloned()
             .unwrap_or_else(|| self.span.clone())
     }
+
+    /// The working peak voltage: as declared, or else the peak of a sinusoid of the working
+    /// rms voltage (rounded to a microvolt, so that every table read at it, the clearance,
+    /// the board spacing and the test voltage, sees the same number).
+    pub fn peak_v(&self) -> f64 {
+        self.working_peak_v
+            .unwrap_or_else(|| crate::spacing::tidy(self.working_rms_v * std::f64::consts::SQRT_2))
+    }
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -112,7 +112,7 @@ pub fn functional_spacing(
             p
         }
         None => {
-            let p = tidy(barrier.working_rms_v * std::f64::consts::SQRT_2);
+            let p = barrier.peak_v();
             steps.push(Step::new(None, format!(
                 "Working peak voltage not declared: {} V rms x sqrt(2) = {} V (sinusoidal).",
                 show(barrier.working_rms_v),

@@ -477,7 +477,7 @@ pub fn required(
             p
         }
         None => {
-            let p = tidy(barrier.working_rms_v * std::f64::consts::SQRT_2);
+            let p = barrier.peak_v();
             steps.push(Step::new(None, format!(
                 "Steady-state peak voltage not declared: {} V rms x sqrt(2) = {} V (sinusoidal; declare working_peak_v for a d.c. or other waveform).",
                 show(barrier.working_rms_v),
