@@ -149,6 +149,9 @@ impl HouseRules {
 struct HouseTemplates {
     /// A folder of house templates (report.md.j2 and the sections it includes) that
     /// replace the shipped ones of the same name.
+    ///
+    /// With --format json no template is parsed: house templates are only read and named,
+    /// with their SHA-256, in the report's house section.
     #[arg(long, value_name = "DIR")]
     templates: Option<PathBuf>,
 }
