@@ -53,6 +53,17 @@ impl OvervoltageCategory {
     }
 }
 
+/// The command line's words are `WORDS`, the same as the project file's.
+impl clap::ValueEnum for OvervoltageCategory {
+    fn value_variants<'a>() -> &'a [Self] {
+        &[Self::I, Self::II, Self::III, Self::IV]
+    }
+
+    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
+        Some(clap::builder::PossibleValue::new(self.as_str()))
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum CircuitKind {
@@ -62,7 +73,7 @@ pub enum CircuitKind {
 }
 
 /// Insulation grade of a barrier, weakest first.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "lowercase")]
 pub enum Grade {
     Functional,
@@ -123,6 +134,17 @@ impl MaterialGroup {
     }
 }
 
+/// The command line's words are `WORDS`, the same as the project file's.
+impl clap::ValueEnum for MaterialGroup {
+    fn value_variants<'a>() -> &'a [Self] {
+        &[Self::I, Self::II, Self::IIIa, Self::IIIb]
+    }
+
+    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
+        Some(clap::builder::PossibleValue::new(self.as_str()))
+    }
+}
+
 /// How the insulating material of a barrier is known.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Material {
@@ -151,7 +173,7 @@ pub enum BetweenRows {
 }
 
 /// Where a functional spacing on a printed board sits (selects the IPC-2221B column).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum BoardConductor {
     OuterLayer,
@@ -159,7 +181,7 @@ pub enum BoardConductor {
     ComponentLead,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum BoardCoating {
     None,

@@ -5,6 +5,7 @@ mod render;
 
 use serde::Serialize;
 
+use crate::ExitStatus;
 use crate::checks::{CheckOutcome, Finding, Severity, run_checks};
 use crate::diag::{Problems, Source};
 use crate::isolation::{IsolationReport, analyse};
@@ -175,13 +176,13 @@ impl Report {
         self.summary.blocking > 0
     }
 
-    /// The exit status of `check`: 0 ready for review, 1 not. `allow_incomplete` (early
+    /// The exit status of `check`: ready for review or not. `allow_incomplete` (early
     /// layout work) does not count incomplete barriers against the exit status; the
     /// report still says "not ready".
-    pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
+    pub fn exit_status(&self, allow_incomplete: bool) -> ExitStatus {
         let r = &self.readiness;
         let not_ready = r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
-        u8::from(not_ready)
+        ExitStatus::ready_unless(not_ready)
     }
 }
 
