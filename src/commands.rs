@@ -661,16 +661,30 @@ pub struct SpacingQuery {
 
 /// Required figures for one barrier from flags; the same engine and JSON as `check`.
 pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Problems> {
-    use crate::project::{DISTANCE_MM, VOLTAGE_V};
+    spacing_with_warnings(rules, q).map(|(result, _)| result)
+}
+
+/// As [`spacing`], with the warnings for flags whose values look implausible (the
+/// `input.suspicious_value` cases of a project file), for the command to print: a figure
+/// resting on such a value must say so even where there is no verdict to mark.
+pub fn spacing_with_warnings(
+    rules: &RuleBook,
+    q: &SpacingQuery,
+) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
+    use crate::project::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
     let mut problems = Vec::new();
-    let mut implausible = false;
+    let mut warnings = Vec::new();
+    // Each flag is judged by the rule of the project key it stands for, so the command and
+    // a report agree on what is out of range and what is implausible.
     let mut judge = |flag: &str, value: Option<f64>, rule: &NumberRule| {
         if let Some(v) = value {
             match rule.judge(v) {
                 Err(reason) => {
                     problems.push(Diagnostic::new("command line", reason).with_key(flag))
                 }
-                Ok(Some(_)) => implausible = true,
+                Ok(Some(warning)) => {
+                    warnings.push(Diagnostic::new("command line", warning).with_key(flag))
+                }
                 Ok(None) => {}
             }
         }
@@ -678,29 +692,12 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
     judge("--working-rms-v", Some(q.working_rms_v), &VOLTAGE_V);
     judge("--working-peak-v", q.working_peak_v, &VOLTAGE_V);
     judge("--nominal-v", Some(q.nominal_v), &VOLTAGE_V);
-    judge("--transient-v", q.transient_v, &VOLTAGE_V);
+    judge("--transient-v", q.transient_v, &TRANSIENT_V);
     judge("--clearance-mm", q.clearance_mm, &DISTANCE_MM);
     judge("--creepage-mm", q.creepage_mm, &DISTANCE_MM);
-    if !(q.altitude_m.is_finite() && q.altitude_m >= 0.0) {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected an altitude in metres above sea level, 0 or more",
-            )
-            .with_key("--altitude-m"),
-        );
-    }
-    if let Some(c) = q.cti
-        && !(c.is_finite() && c >= 0.0)
-    {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected a comparative tracking index, 0 or more",
-            )
-            .with_key("--cti"),
-        );
-    }
+    judge("--altitude-m", Some(q.altitude_m), &ALTITUDE_M);
+    judge("--cti", q.cti, &CTI);
+    let implausible = !warnings.is_empty();
     if q.material_group.is_some() && q.cti.is_some() {
         problems.push(
             Diagnostic::new("command line", "give --material-group or --cti, not both")
@@ -773,6 +770,6 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         if implausible && r.verdict == crate::spacing::Verdict::Pass {
             r.verdict = crate::spacing::Verdict::CheckInput;
         }
-        r
+        (r, warnings)
     })
 }

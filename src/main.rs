@@ -439,7 +439,12 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 clearance_mm: a.clearance_mm,
                 creepage_mm: a.creepage_mm,
             };
-            let result = commands::spacing(&rules, &query)?;
+            let (result, warnings) = commands::spacing_with_warnings(&rules, &query)?;
+            // The JSON on stdout stays one barrier's entry; what looks implausible goes to
+            // stderr, as `input.suspicious_value` would in a report.
+            for w in &warnings {
+                eprintln!("warning: {w} (input.suspicious_value)");
+            }
             print(&gapwarden::report::to_json(&result));
             Ok(match result.verdict {
                 Verdict::Fail | Verdict::CheckInput => 1,

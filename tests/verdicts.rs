@@ -159,6 +159,93 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
     assert_eq!(json(&o)["verdict"], "pass");
 }
 
+/// `spacing` with the flags of a passing reinforced barrier at 250 V (IEC 60664-1:2020
+/// Table F.1, 230 V OVC II: 2500 V; one step up 4000 V; Table F.2 Case A 3.0 mm; creepage
+/// 250 V PD2 printed wiring 1.0 mm x 2 = 2.0 mm, raised to the clearance: REFERENCES.md),
+/// laid out at 4 / 4 mm, plus `extra`, which must give the material (group I to IIIa: the
+/// printed-wiring column; IIIb would read the general column, 2.5 mm x 2 = 5.0 mm).
+fn spacing_reinforced_with(extra: &[&str]) -> Output {
+    let mut args = vec![
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--grade",
+        "reinforced",
+        "--printed-board",
+        "--clearance-mm",
+        "4",
+        "--creepage-mm",
+        "4",
+    ];
+    args.extend_from_slice(extra);
+    run(&args)
+}
+
+#[test]
+fn spacing_command_with_an_implausible_cti_says_check_input_not_pass() {
+    // Regression: --cti was only checked for being a number, so a CTI of 6000 (no material
+    // has one; IEC 60112 tests up to 600 V: material group I is CTI >= 600, REFERENCES.md)
+    // gave "pass" where the same cti in a project file is input.suspicious_value.
+    let o = spacing_reinforced_with(&["--cti", "6000"]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+    assert!(stderr(&o).contains("--cti"), "{}", stderr(&o));
+    // A plausible CTI passes, and 1e9 is out of range as in a project file (exit 2).
+    let o = spacing_reinforced_with(&["--cti", "600"]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "pass");
+    assert!(stderr(&o).is_empty(), "{}", stderr(&o));
+    assert_exit(&spacing_reinforced_with(&["--cti", "1e9"]), 2);
+}
+
+#[test]
+fn spacing_command_with_a_plausible_transient_is_not_check_input() {
+    // Regression: --transient-v was judged as a working voltage (implausible above 1000 V),
+    // so every real impulse voltage (2500 V is Table F.1's 230 V OVC II value, REFERENCES.md)
+    // turned a pass into "check-input" and exit 1. As a project file's transient_v it is
+    // plausible up to 12 kV (the top of the preferred impulse series).
+    let o = spacing_reinforced_with(&["--material-group", "IIIa", "--transient-v", "2500"]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "pass");
+    assert!(stderr(&o).is_empty(), "{}", stderr(&o));
+    // 20 kV is beyond the preferred series: implausible, never a pass.
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--transient-v",
+        "20000",
+        "--clearance-mm",
+        "90",
+        "--creepage-mm",
+        "90",
+    ]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+}
+
+#[test]
+fn spacing_command_with_an_implausible_altitude_says_check_input() {
+    // Regression: --altitude-m had no plausibility check; 1e-300 m reads as sea level and
+    // would pass, where altitude_m = 1e-300 in a project file is input.suspicious_value.
+    let o = spacing_reinforced_with(&["--material-group", "IIIa", "--altitude-m", "1e-300"]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+    assert!(stderr(&o).contains("--altitude-m"), "{}", stderr(&o));
+}
+
+#[test]
+fn spacing_command_warns_of_an_implausible_value_even_without_a_verdict() {
+    // Regression: with no distances declared (a pure look-up, verdict "incomplete") an
+    // implausible value left no trace at all: the figure looked as good as any other.
+    let o = run(&["spacing", "--working-rms-v", "250", "--working-peak-v", "5000"]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "incomplete");
+    let err = stderr(&o);
+    assert!(err.starts_with("warning:"), "{err}");
+    assert!(err.contains("--working-peak-v") && err.contains("5000"), "{err}");
+}
+
 // ---------------------------------------------------------------------------------------
 // 10.19: ready for review, and the exit status
 // ---------------------------------------------------------------------------------------
