@@ -78,7 +78,8 @@ enum Command {
         #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
         jobs: Option<u16>,
         /// Early layout work: incomplete barriers (distances not yet declared) do not make
-        /// the exit status 1. The report still says "not ready".
+        /// the exit status 1. The report still says "not ready". A design that declares no
+        /// barrier at all still exits 1.
         #[arg(long)]
         allow_incomplete: bool,
     },

@@ -354,6 +354,42 @@ earthed = false
 }
 
 #[test]
+fn allow_incomplete_does_not_let_a_design_without_barriers_exit_0() {
+    // Regression: --allow-incomplete relaxed "no barrier is declared" as if it were a
+    // barrier whose distances are not yet known, so a file with one circuit and nothing
+    // else passed a CI job run with the flag. The flag is for distances not yet declared.
+    let s = Scratch::new("no-barrier-allowed");
+    let p = s.write(
+        "p.toml",
+        r#"[design]
+name = "Nothing declared yet"
+protection_class = "II"
+
+[mains]
+nominal_v = 230
+
+[[circuit]]
+id = "primary"
+kind = "hazardous"
+accessible = false
+earthed = false
+"#,
+    );
+    let o = run(&["check", &p, "--allow-incomplete", "--format", "json"]);
+    assert_exit(&o, 1);
+    let r = json(&o);
+    assert_eq!(r["readiness"]["no_barrier"], true);
+    assert_eq!(r["readiness"]["state"], "not ready: incomplete");
+    // In a batch and in compare too.
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &p, CLASS2, "--out-dir", &out, "--allow-incomplete"]);
+    assert_exit(&o, 1);
+    assert_exit(&run(&["compare", CLASS2, &p, "--allow-incomplete"]), 1);
+    // A barrier whose distances are not yet declared is still relaxed.
+    assert_exit(&run(&["check", CLASS1, "--allow-incomplete"]), 0);
+}
+
+#[test]
 fn the_first_lines_say_whether_ready_and_which_conditions_fail() {
     for format in ["md", "html"] {
         let o = run(&["check", CLASS1, "--format", format]);

@@ -108,6 +108,9 @@ pub struct Readiness {
     pub blocking: bool,
     pub incomplete: bool,
     pub implausible_inputs: bool,
+    /// No barrier is declared at all (also counted in `incomplete`): nothing was
+    /// evaluated, which `--allow-incomplete` does not relax.
+    pub no_barrier: bool,
 }
 
 /// A house rule file or house template in force, with its hash.
@@ -177,10 +180,14 @@ impl Report {
 
     /// The exit status of `check`: 0 ready for review, 1 not. `allow_incomplete` (early
     /// layout work) does not count incomplete barriers against the exit status; the
-    /// report still says "not ready".
+    /// report still says "not ready". A design without any barrier is not early layout
+    /// work but no design at all: the flag does not relax that.
     pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
         let r = &self.readiness;
-        let not_ready = r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
+        let not_ready = r.blocking
+            || r.implausible_inputs
+            || r.no_barrier
+            || (r.incomplete && !allow_incomplete);
         u8::from(not_ready)
     }
 }
@@ -318,6 +325,7 @@ fn readiness(report: &Report) -> Readiness {
         blocking: !blocking.is_empty(),
         incomplete: !incomplete.is_empty(),
         implausible_inputs: !implausible.is_empty(),
+        no_barrier,
     }
 }
 
