@@ -293,11 +293,12 @@ fn run(cli: Cli) -> Result<u8, Problems> {
                 return Ok(report.exit_code(allow_incomplete));
             }
             if output.is_some() {
-                return Err(Diagnostic::new(
-                    "-o",
-                    "with several designs, give --out-dir DIR for one report each",
-                )
-                .into());
+                let why = if out_dir.is_some() {
+                    "give -o FILE (one design) or --out-dir DIR (one report each), not both; nothing was written"
+                } else {
+                    "with several designs, give --out-dir DIR for one report each"
+                };
+                return Err(Diagnostic::new("-o", why).into());
             }
             let (designs, notes) = batch::find_projects_noting(&projects)?;
             for note in &notes {

@@ -762,3 +762,24 @@ fn designs_whose_reports_cannot_be_kept_apart_are_refused_naming_both() {
         run.stdout
     );
 }
+
+#[test]
+fn o_together_with_out_dir_is_refused_naming_both_flags_and_writes_nothing() {
+    // Regression: one design with both -o and --out-dir was refused with "with several
+    // designs, give --out-dir", which names the wrong cause (there is one design, and
+    // --out-dir was given).
+    let scratch = Scratch::new("o-and-out-dir");
+    scratch.write("p.toml", BASE);
+    let run = run_in(
+        &scratch.0,
+        &["check", "p.toml", "-o", "r.md", "--out-dir", "out"],
+    );
+    run.refused("-o");
+    assert!(
+        run.stderr.contains("--out-dir") && run.stderr.contains("not both"),
+        "{}",
+        run.describe()
+    );
+    assert!(!scratch.path("r.md").exists());
+    assert!(!scratch.path("out").exists());
+}
