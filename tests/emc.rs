@@ -1225,8 +1225,8 @@ fn declared_corner_just_above_the_required_corner_is_flagged_not_rounded_onto_it
     let declared_hz: f64 = 70000.3;
     let l_uh = 1.0 / ((2.0 * std::f64::consts::PI * declared_hz).powi(2) * 1e-6) * 1e6;
     assert!(40.0 * (1e6 / declared_hz).log10() < attenuation);
-    let base = std::fs::read_to_string(root().join(fixture("emc-declared-filter.toml")))
-        .expect("fixture");
+    let base =
+        std::fs::read_to_string(root().join(fixture("emc-declared-filter.toml"))).expect("fixture");
     let head = &base[..base.find("[emc]").expect("[emc] table")];
     let text = format!(
         "{head}[emc]\nlimit_class = \"B\"\nmargin_db = 6\n\n[[emc.prescan]]\nfrequency_hz = 1000000\nlevel_dbuv = {level:?}\ndetector = \"average\"\n\n[emc.filter]\ndm_inductance_uh = {l_uh:?}\nx_capacitance_uf = 1.0\n"

@@ -217,7 +217,10 @@ fn power_entry_checks_compare_exact_figures_not_six_significant_digits() {
     // E = C V_pk² / 2 = 47e-6 x (sqrt(2) x 264)² / 2 = 47e-6 x 139392 / 2 = 3.275712 J,
     // which rounded to 3.27571 J sat below a 3.275711 J rating: no finding.
     let energy = C_BULK_F * (SQRT_2 * V_MAX).powi(2) / 2.0;
-    assert!(energy > 3.275711 && energy < 3.2757121, "hand calculation {energy}");
+    assert!(
+        energy > 3.275711 && energy < 3.2757121,
+        "hand calculation {energy}"
+    );
     let (o, r) = variant(
         "energy-exact",
         &[("energy_rating_j = 5", "energy_rating_j = 3.275711")],
@@ -230,7 +233,10 @@ fn power_entry_checks_compare_exact_figures_not_six_significant_digits() {
     // The other way: I_pk = V_pk / 10.5 ohm = 35.5573696 A, just under a 35.55737 A
     // rating, rounded up to 35.5574 A, above it: a shortfall that is not there.
     let peak = SQRT_2 * V_MAX / 10.5;
-    assert!(peak < 35.55737 && peak > 35.557369, "hand calculation {peak}");
+    assert!(
+        peak < 35.55737 && peak > 35.557369,
+        "hand calculation {peak}"
+    );
     let (_, r) = variant(
         "surge-exact",
         &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")],

@@ -238,12 +238,21 @@ fn spacing_command_with_an_implausible_altitude_says_check_input() {
 fn spacing_command_warns_of_an_implausible_value_even_without_a_verdict() {
     // Regression: with no distances declared (a pure look-up, verdict "incomplete") an
     // implausible value left no trace at all: the figure looked as good as any other.
-    let o = run(&["spacing", "--working-rms-v", "250", "--working-peak-v", "5000"]);
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--working-peak-v",
+        "5000",
+    ]);
     assert_exit(&o, 0);
     assert_eq!(json(&o)["verdict"], "incomplete");
     let err = stderr(&o);
     assert!(err.starts_with("warning:"), "{err}");
-    assert!(err.contains("--working-peak-v") && err.contains("5000"), "{err}");
+    assert!(
+        err.contains("--working-peak-v") && err.contains("5000"),
+        "{err}"
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -387,6 +396,63 @@ earthed = false
     assert_exit(&run(&["compare", CLASS2, &p, "--allow-incomplete"]), 1);
     // A barrier whose distances are not yet declared is still relaxed.
     assert_exit(&run(&["check", CLASS1, "--allow-incomplete"]), 0);
+}
+
+#[test]
+fn summaries_count_check_input_barriers_so_the_counts_add_up() {
+    // Regression: the batch summary and the compare summary had columns pass, fail and
+    // incomplete only, so a design with a barrier resting on an implausible distance
+    // (6000 mm: a unit slip) read "3 barriers: 2 pass, 0 fail, 0 incomplete".
+    let s = Scratch::new("summary-check-input");
+    let implausible = s.write(
+        "designs/implausible.toml",
+        &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 6000"),
+    );
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &implausible, "--out-dir", &out]);
+    assert_exit(&o, 1);
+    let summary = stdout(&o);
+    let header = summary
+        .lines()
+        .find(|l| l.starts_with("| design |"))
+        .expect("header");
+    let row = summary
+        .lines()
+        .find(|l| l.contains("| implausible.toml |"))
+        .expect("row");
+    let cells = |l: &str| -> Vec<String> {
+        l.trim_matches('|')
+            .split('|')
+            .map(|c| c.trim().to_string())
+            .collect()
+    };
+    let (h, r) = (cells(header), cells(row));
+    let at = |name: &str| {
+        let i = h.iter().position(|c| c == name).unwrap_or_else(|| {
+            panic!("no column {name}: {header}");
+        });
+        r[i].parse::<u32>().expect("a count")
+    };
+    // The Class II example has three barriers; one now rests on 6000 mm.
+    assert_eq!(at("check input"), 1, "{summary}");
+    assert_eq!(
+        at("pass") + at("fail") + at("incomplete") + at("check input"),
+        3,
+        "{summary}"
+    );
+    let md = stdout(&run(&["compare", CLASS2, &implausible]));
+    let new_row = md
+        .lines()
+        .find(|l| l.starts_with("| new |"))
+        .expect("the new revision's summary row");
+    let header = md
+        .lines()
+        .find(|l| l.starts_with("| | barriers |"))
+        .expect("the summary header");
+    assert!(header.contains("| check input |"), "{header}");
+    let (h, r) = (cells(header), cells(new_row));
+    let i = h.iter().position(|c| c == "check input").expect("column");
+    assert_eq!(r[i], "1", "{md}");
 }
 
 #[test]
