@@ -818,6 +818,52 @@ fn bidi_overrides_and_zero_width_characters_are_made_visible() {
     assert!(stderr(&o).contains("<U+202E>"));
 }
 
+#[test]
+fn batch_summary_compare_and_rules_never_pass_control_or_bidi_characters() {
+    // Pins three more paths to a terminal: the batch summary (design name, file name),
+    // compare (design name) and `rules` (a house table's title, and a raw bidi character
+    // in a comment, which TOML allows).
+    let s = Scratch::new("controls-other-paths");
+    let text = example_with(
+        CLASS2,
+        "name = ",
+        r#"name = "Adapter \u001B]0;owned\u0007 \u202Eevil""#,
+    );
+    let p = s.write("designs/p\u{1b}[2J\u{202e}.toml", &text);
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &p, CLASS2, "--out-dir", &out]);
+    let summary = stdout(&o);
+    assert!(summary.contains("| ready |"), "{summary}");
+    assert!(!has_raw_control(&summary) && !has_raw_invisible(&summary));
+    assert!(summary.contains("p<U+001B>"), "{summary}");
+    assert!(!has_raw_control(&stderr(&o)) && !has_raw_invisible(&stderr(&o)));
+    let o = run(&["compare", CLASS2, &p]);
+    let md = stdout(&o);
+    assert!(md.contains("<U+202E>evil"), "{md}");
+    assert!(!has_raw_control(&md) && !has_raw_invisible(&md));
+    let house = s.write(
+        "house/extra.toml",
+        "# a comment with a raw \u{202e} override\nid = \"house.x\"\ntitle = \"T \\u001B[2J \\u202E\"\nsource = \"s\"\nprovenance = \"p\"\n",
+    );
+    let folder = Path::new(&house)
+        .parent()
+        .expect("folder")
+        .display()
+        .to_string();
+    for args in [
+        vec!["rules", "--rules", folder.as_str()],
+        vec!["rules", "house.x", "--rules", folder.as_str()],
+    ] {
+        let o = run(&args);
+        let text = format!("{}{}", stdout(&o), stderr(&o));
+        assert!(text.contains("house.x"), "{args:?}: {text}");
+        assert!(
+            !has_raw_control(&text) && !has_raw_invisible(&text),
+            "{args:?}: {text:?}"
+        );
+    }
+}
+
 // ---------------------------------------------------------------------------------------
 // 11.14: the EMC chart's place
 // ---------------------------------------------------------------------------------------
