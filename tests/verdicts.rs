@@ -645,6 +645,39 @@ fn house_rules_are_named_with_their_sha256_and_what_they_changed() {
 }
 
 #[test]
+fn a_house_file_replacing_a_shipped_file_of_checks_counts_the_checks_it_removes() {
+    // Regression: a house file with the id of the shipped barrier checks
+    // (`checks.barrier`, overrides = true) and no [[check]] at all silently dropped every
+    // shipped barrier check, and the first lines said "1 table replaced; 0 checks changed,
+    // 0 added": a reinforced barrier with a third of its clearance then read "Ready for
+    // review: yes" with nothing in the header to say the clearance check was gone.
+    let s = Scratch::new("house-removes-checks");
+    let house = s.write(
+        "house/barrier.toml",
+        "id = \"checks.barrier\"\noverrides = true\ntitle = \"No barrier checks\"\nsource = \"invented for the test\"\nprovenance = \"House rule, no published source.\"\n",
+    );
+    let folder = Path::new(&house).parent().unwrap().display().to_string();
+    // 1 mm across reinforced insulation on 230 V mains: 3.0 mm is required (Table F.1
+    // 2500 V, one step up 4000 V, Table F.2 Case A 3.0 mm; REFERENCES.md).
+    let short = s.write(
+        "short.toml",
+        &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 1.0"),
+    );
+    let o = run(&["check", &short, "--rules", &folder, "--format", "json"]);
+    let r = json(&o);
+    let h = &r["house"];
+    assert_eq!(barrier(&r, "pri-sec")["verdict"], "fail");
+    assert!(
+        h["checks_removed"].as_u64().unwrap_or(0) >= 2,
+        "at least the clearance and creepage shortfall checks are gone: {h}"
+    );
+    assert_eq!(h["tables_replaced"], 0, "{h}");
+    assert_eq!(h["rules"][0]["kind"], "checks", "{h}");
+    let first = head(&stdout(&run(&["check", &short, "--rules", &folder])), 8);
+    assert!(first.contains("removed**"), "{first}");
+}
+
+#[test]
 fn a_house_template_is_named_with_its_sha256_and_cannot_hide_readiness() {
     let s = Scratch::new("house-template");
     // A house template that prints almost nothing: the first lines are gapwarden's own.

@@ -139,6 +139,9 @@ pub struct HouseInfo {
     pub tables_added: usize,
     pub checks_changed: usize,
     pub checks_added: usize,
+    /// Shipped checks no longer in force: a house file that replaces a whole shipped file
+    /// of checks drops every shipped check it does not define again.
+    pub checks_removed: usize,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -332,14 +335,22 @@ fn readiness(report: &Report) -> Readiness {
 /// The house rule files in force and what they changed.
 fn house_info(rules: &RuleBook) -> HouseInfo {
     let shipped_ids: Vec<&str> = crate::rules::SHIPPED_RULES.iter().map(|r| r.id).collect();
+    let shipped_check_files: Vec<&str> = crate::rules::SHIPPED_RULES
+        .iter()
+        .filter(|r| r.is_checks)
+        .map(|r| r.id)
+        .collect();
     let mut info = HouseInfo::default();
     for r in rules.info.iter().filter(|r| r.origin == "house") {
         let replaced = shipped_ids.contains(&r.id.as_str());
-        // A file of checks is counted by its checks below, not as a table.
-        let is_checks = rules
-            .checks
-            .iter()
-            .any(|c| c.origin != "shipped" && c.file == r.file);
+        // A file of checks is counted by its checks below, not as a table; so is a house
+        // file that replaces a shipped file of checks, even one holding no check at all
+        // (it removes them).
+        let is_checks = shipped_check_files.contains(&r.id.as_str())
+            || rules
+                .checks
+                .iter()
+                .any(|c| c.origin != "shipped" && c.file == r.file);
         match (is_checks, replaced) {
             (true, _) => {}
             (false, true) => info.tables_replaced += 1,
@@ -353,15 +364,35 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
             kind: if is_checks { "checks" } else { "table" },
         });
     }
+    if info.rules.is_empty() {
+        return info;
+    }
+    let shipped = shipped_check_ids();
     for c in &rules.checks {
         match c.origin.as_str() {
-            "house" => info.checks_added += 1,
             "shipped" => {}
+            // A check under a shipped id, in a house file that replaced the shipped
+            // file, changes that check; it adds nothing.
+            "house" if !shipped.contains(&c.id) => info.checks_added += 1,
             _ => info.checks_changed += 1,
         }
     }
-    info.in_force = !info.rules.is_empty();
+    info.checks_removed = shipped
+        .iter()
+        .filter(|id| !rules.checks.iter().any(|c| &c.id == *id))
+        .count();
+    info.in_force = true;
     info
+}
+
+/// The ids of the shipped checks, read once.
+fn shipped_check_ids() -> &'static [String] {
+    static IDS: std::sync::OnceLock<Vec<String>> = std::sync::OnceLock::new();
+    IDS.get_or_init(|| {
+        RuleBook::shipped()
+            .map(|book| book.checks.iter().map(|c| c.id.clone()).collect())
+            .unwrap_or_default()
+    })
 }
 
 /// Reads, evaluates and judges one project file's text.
