@@ -897,6 +897,39 @@ fn batch_summary_compare_and_rules_never_pass_control_or_bidi_characters() {
     }
 }
 
+#[test]
+fn a_newline_in_a_key_or_file_name_cannot_forge_a_line_on_stderr() {
+    // Regression: a quoted TOML key (or a file name) may hold a newline; printed as it was,
+    // an unknown key "x\nerror: none; all good" put a line of its own on the terminal that
+    // reads as another diagnostic. The key and the file name of a diagnostic stay on one
+    // line; the newline is shown as <U+000A>.
+    let s = Scratch::new("newline-key");
+    let bad = s.write(
+        "bad.toml",
+        &example_with(
+            CLASS2,
+            "[environment]",
+            "[environment]\n\"x\\nforged: all good\" = 1",
+        ),
+    );
+    let o = run(&["check", &bad]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(
+        !err.lines().any(|l| l.starts_with("forged")),
+        "a line was forged: {err}"
+    );
+    assert!(err.contains("x<U+000A>forged: all good"), "{err}");
+    let o = run(&["check", "no\nforged: such.toml"]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(
+        !err.lines().any(|l| l.starts_with("forged")),
+        "a line was forged: {err}"
+    );
+    assert!(err.contains("no<U+000A>forged"), "{err}");
+}
+
 // ---------------------------------------------------------------------------------------
 // 11.14: the EMC chart's place
 // ---------------------------------------------------------------------------------------
