@@ -84,6 +84,29 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
             return Err(refuse_input());
         }
     }
+    // /dev/stdout, /dev/stderr, /dev/fd/N: a descriptor this process already holds, which
+    // the shell may have opened for appending or as a pipe. Followed as a link, it would
+    // name the file behind it (replaced by a rename: `-o /dev/stdout >> log.md` lost the
+    // log) or nothing at all (a pipe), so it is written through the descriptor itself.
+    if let Some(fd) = descriptor_named(out) {
+        let written = match fd {
+            1 => {
+                let mut o = std::io::stdout().lock();
+                o.write_all(text.as_bytes()).and_then(|()| o.flush())
+            }
+            2 => {
+                let mut e = std::io::stderr().lock();
+                e.write_all(text.as_bytes()).and_then(|()| e.flush())
+            }
+            n => {
+                return Err(fail(format!(
+                    "names the file descriptor {n}; only standard output (1) and standard \
+                     error (2) are written through; nothing was written"
+                )));
+            }
+        };
+        return written.map_err(|e| fail(format!("cannot be written: {e}")));
+    }
     let link = std::fs::symlink_metadata(out);
     let (path, meta) = match link {
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
@@ -114,6 +137,33 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
         Ok(m) => (out.to_path_buf(), m),
     };
     write_existing(&path, &meta, text).map_err(fail)
+}
+
+/// The descriptor a path names through the kernel's descriptor links, followed one link
+/// at a time: `/dev/stdout` (a link to `/proc/self/fd/1`), `/dev/fd/2`,
+/// `/proc/self/fd/1`, `/proc/PID/fd/N` for this process. None for any other path.
+fn descriptor_named(out: &Path) -> Option<u32> {
+    let own = format!("/proc/{}/fd/", std::process::id());
+    let prefixes = ["/dev/fd/", "/proc/self/fd/", "/proc/thread-self/fd/", own.as_str()];
+    let mut path = out.to_path_buf();
+    // As many hops as the kernel follows before it gives up on a chain of links.
+    for _ in 0..40 {
+        if let Some(text) = path.to_str()
+            && let Some(n) = prefixes
+                .iter()
+                .find_map(|p| text.strip_prefix(p))
+                .and_then(|rest| rest.parse::<u32>().ok())
+        {
+            return Some(n);
+        }
+        let target = std::fs::read_link(&path).ok()?;
+        path = if target.is_absolute() {
+            target
+        } else {
+            path.parent().unwrap_or(Path::new("/")).join(target)
+        };
+    }
+    None
 }
 
 /// Writes onto something that exists, by what it is (see `write_atomically`).

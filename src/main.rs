@@ -56,7 +56,9 @@ enum Command {
         /// A regular file or a new path is written atomically (a temporary file beside it,
         /// then a rename); a symbolic link is followed and its target written, the link
         /// kept; a character device (/dev/null, a terminal) or a named pipe is written
-        /// through (a pipe waits for its reader). Refused, with nothing written: a
+        /// through (a pipe waits for its reader); /dev/stdout, /dev/stderr and /dev/fd/1 or
+        /// 2 are written through the descriptor the run holds (appending where the shell
+        /// opened it so), other descriptors are refused. Refused, with nothing written: a
         /// read-only file (owner's write bit clear, even for root), a folder, a block
         /// device, a socket, a link to nothing, and any input of the run (project file,
         /// --rules or --templates file), however it is named.
