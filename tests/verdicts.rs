@@ -1017,6 +1017,27 @@ fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
 }
 
 #[test]
+fn a_steady_state_peak_just_above_case_a_is_not_printed_as_its_last_row() {
+    // Regression: the Table F.8 refusal printed the peak rounded, "a steady-state peak of
+    // 50 kV is above the last row ... (0.04 to 50 kV)". IEC 60664-1:2020 Table F.8 Case A
+    // ends at 50 kV (REFERENCES.md, [N20]); reinforced reads it at 160 % of the peak (from
+    // memory of clause 5.1.6): 31250.00001 V x 1.6 = 50000.000016 V, just above.
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--working-peak-v",
+        "31250.00001",
+        "--grade",
+        "reinforced",
+    ]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(!err.contains("peak of 50 kV"), "{err}");
+    assert!(err.contains("peak of 50.0000000"), "{err}");
+}
+
+#[test]
 fn absurdly_small_values_are_flagged_and_huge_ones_print_in_scientific_notation() {
     let s = Scratch::new("tiny");
     // 5e-324 Hz is the smallest subnormal double: no mains runs at it, and it printed as 0.
