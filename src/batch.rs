@@ -402,24 +402,27 @@ pub fn summary(outcomes: &[Outcome]) -> String {
 /// for a design that is not ready.
 pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     let mut out = String::from(
-        "| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n",
+        "| design | revision | file | pass | fail | incomplete | check input | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---:|---|\n",
     );
     let cell = |s: &str| crate::report::md_escape(s);
     for o in outcomes {
         let file = cell(&o.found.relative.display().to_string());
         match &o.result {
             Ok((r, _)) => out.push_str(&format!(
-                "| {} | {} | {file} | {} | {} | {} | {} | {} |\n",
+                "| {} | {} | {file} | {} | {} | {} | {} | {} | {} |\n",
                 cell(&r.design.name),
                 cell(r.design.revision.as_deref().unwrap_or("not stated")),
                 r.summary.pass,
                 r.summary.fail,
                 r.summary.incomplete,
+                // Barriers that would pass on an implausible input: without this column
+                // the counts of a design with one would not add up to its barriers.
+                r.summary.check_input,
                 r.summary.blocking,
                 cell(&r.readiness.state)
             )),
             Err(p) => out.push_str(&format!(
-                "| not read | | {file} | | | | | unusable input ({} problem{}) |\n",
+                "| not read | | {file} | | | | | | unusable input ({} problem{}) |\n",
                 p.0.len(),
                 if p.0.len() == 1 { "" } else { "s" }
             )),

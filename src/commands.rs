@@ -105,11 +105,12 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
         return Ok(report.exit_status(req.allow_incomplete));
     }
     if req.output.is_some() {
-        return Err(Diagnostic::new(
-            "-o",
-            "with several designs, give --out-dir DIR for one report each",
-        )
-        .into());
+        let why = if req.out_dir.is_some() {
+            "give -o FILE (one design) or --out-dir DIR (one report each), not both; nothing was written"
+        } else {
+            "with several designs, give --out-dir DIR for one report each"
+        };
+        return Err(Diagnostic::new("-o", why).into());
     }
     let (designs, notes) = crate::batch::find_projects_noting(projects)?;
     for note in &notes {
@@ -189,6 +190,29 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
             return Err(refuse_input());
         }
     }
+    // /dev/stdout, /dev/stderr, /dev/fd/N: a descriptor this process already holds, which
+    // the shell may have opened for appending or as a pipe. Followed as a link, it would
+    // name the file behind it (replaced by a rename: `-o /dev/stdout >> log.md` lost the
+    // log) or nothing at all (a pipe), so it is written through the descriptor itself.
+    if let Some(fd) = descriptor_named(out) {
+        let written = match fd {
+            1 => {
+                let mut o = std::io::stdout().lock();
+                o.write_all(text.as_bytes()).and_then(|()| o.flush())
+            }
+            2 => {
+                let mut e = std::io::stderr().lock();
+                e.write_all(text.as_bytes()).and_then(|()| e.flush())
+            }
+            n => {
+                return Err(fail(format!(
+                    "names the file descriptor {n}; only standard output (1) and standard \
+                     error (2) are written through; nothing was written"
+                )));
+            }
+        };
+        return written.map_err(|e| fail(format!("cannot be written: {e}")));
+    }
     let link = std::fs::symlink_metadata(out);
     let (path, meta) = match link {
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
@@ -219,6 +243,33 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
         Ok(m) => (out.to_path_buf(), m),
     };
     write_existing(&path, &meta, text).map_err(fail)
+}
+
+/// The descriptor a path names through the kernel's descriptor links, followed one link
+/// at a time: `/dev/stdout` (a link to `/proc/self/fd/1`), `/dev/fd/2`,
+/// `/proc/self/fd/1`, `/proc/PID/fd/N` for this process. None for any other path.
+fn descriptor_named(out: &Path) -> Option<u32> {
+    let own = format!("/proc/{}/fd/", std::process::id());
+    let prefixes = ["/dev/fd/", "/proc/self/fd/", "/proc/thread-self/fd/", own.as_str()];
+    let mut path = out.to_path_buf();
+    // As many hops as the kernel follows before it gives up on a chain of links.
+    for _ in 0..40 {
+        if let Some(text) = path.to_str()
+            && let Some(n) = prefixes
+                .iter()
+                .find_map(|p| text.strip_prefix(p))
+                .and_then(|rest| rest.parse::<u32>().ok())
+        {
+            return Some(n);
+        }
+        let target = std::fs::read_link(&path).ok()?;
+        path = if target.is_absolute() {
+            target
+        } else {
+            path.parent().unwrap_or(Path::new("/")).join(target)
+        };
+    }
+    None
 }
 
 /// Writes onto something that exists, by what it is (see `write_atomically`).
@@ -874,16 +925,30 @@ pub fn spacing_exit_status(result: &BarrierResult) -> ExitStatus {
 
 /// Required figures for one barrier from flags; the same engine and JSON as `check`.
 pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Problems> {
-    use crate::project::{DISTANCE_MM, VOLTAGE_V};
+    spacing_with_warnings(rules, q).map(|(result, _)| result)
+}
+
+/// As [`spacing`], with the warnings for flags whose values look implausible (the
+/// `input.suspicious_value` cases of a project file), for the command to print: a figure
+/// resting on such a value must say so even where there is no verdict to mark.
+pub fn spacing_with_warnings(
+    rules: &RuleBook,
+    q: &SpacingQuery,
+) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
+    use crate::project::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
     let mut problems = Vec::new();
-    let mut implausible = false;
+    let mut warnings = Vec::new();
+    // Each flag is judged by the rule of the project key it stands for, so the command and
+    // a report agree on what is out of range and what is implausible.
     let mut judge = |flag: &str, value: Option<f64>, rule: &NumberRule| {
         if let Some(v) = value {
             match rule.judge(v) {
                 Err(reason) => {
                     problems.push(Diagnostic::new("command line", reason).with_key(flag))
                 }
-                Ok(Some(_)) => implausible = true,
+                Ok(Some(warning)) => {
+                    warnings.push(Diagnostic::new("command line", warning).with_key(flag))
+                }
                 Ok(None) => {}
             }
         }
@@ -891,29 +956,12 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
     judge("--working-rms-v", Some(q.working_rms_v), &VOLTAGE_V);
     judge("--working-peak-v", q.working_peak_v, &VOLTAGE_V);
     judge("--nominal-v", Some(q.nominal_v), &VOLTAGE_V);
-    judge("--transient-v", q.transient_v, &VOLTAGE_V);
+    judge("--transient-v", q.transient_v, &TRANSIENT_V);
     judge("--clearance-mm", q.clearance_mm, &DISTANCE_MM);
     judge("--creepage-mm", q.creepage_mm, &DISTANCE_MM);
-    if !(q.altitude_m.is_finite() && q.altitude_m >= 0.0) {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected an altitude in metres above sea level, 0 or more",
-            )
-            .with_key("--altitude-m"),
-        );
-    }
-    if let Some(c) = q.cti
-        && !(c.is_finite() && c >= 0.0)
-    {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected a comparative tracking index, 0 or more",
-            )
-            .with_key("--cti"),
-        );
-    }
+    judge("--altitude-m", Some(q.altitude_m), &ALTITUDE_M);
+    judge("--cti", q.cti, &CTI);
+    let implausible = !warnings.is_empty();
     if q.material_group.is_some() && q.cti.is_some() {
         problems.push(
             Diagnostic::new("command line", "give --material-group or --cti, not both")
@@ -986,7 +1034,7 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         if implausible && r.verdict == crate::spacing::Verdict::Pass {
             r.verdict = crate::spacing::Verdict::CheckInput;
         }
-        r
+        (r, warnings)
     })
 }
 

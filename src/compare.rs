@@ -133,12 +133,12 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
     }
     out.push_str("> Advisory only: defer to the applicable end-product standard, local electrical codes and licensed or accredited review.\n\n");
 
-    out.push_str("## Summary\n\n| | barriers | pass | fail | incomplete | blocking | warnings | notes |\n|---|---:|---:|---:|---:|---:|---:|---:|\n");
+    out.push_str("## Summary\n\n| | barriers | pass | fail | incomplete | check input | blocking | warnings | notes |\n|---|---:|---:|---:|---:|---:|---:|---:|---:|\n");
     for (label, r) in [("old", old), ("new", new)] {
         let s = &r.summary;
         out.push_str(&format!(
-            "| {label} | {} | {} | {} | {} | {} | {} | {} |\n",
-            s.barriers, s.pass, s.fail, s.incomplete, s.blocking, s.warning, s.note
+            "| {label} | {} | {} | {} | {} | {} | {} | {} | {} |\n",
+            s.barriers, s.pass, s.fail, s.incomplete, s.check_input, s.blocking, s.warning, s.note
         ));
     }
 

@@ -51,7 +51,9 @@ enum Command {
         /// A regular file or a new path is written atomically (a temporary file beside it,
         /// then a rename); a symbolic link is followed and its target written, the link
         /// kept; a character device (/dev/null, a terminal) or a named pipe is written
-        /// through (a pipe waits for its reader). Refused, with nothing written: a
+        /// through (a pipe waits for its reader); /dev/stdout, /dev/stderr and /dev/fd/1 or
+        /// 2 are written through the descriptor the run holds (appending where the shell
+        /// opened it so), other descriptors are refused. Refused, with nothing written: a
         /// read-only file (owner's write bit clear, even for root), a folder, a block
         /// device, a socket, a link to nothing, and any input of the run (project file,
         /// --rules or --templates file), however it is named.
@@ -70,7 +72,8 @@ enum Command {
         #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
         jobs: Option<u16>,
         /// Early layout work: incomplete barriers (distances not yet declared) do not make
-        /// the exit status 1. The report still says "not ready".
+        /// the exit status 1. The report still says "not ready". A design that declares no
+        /// barrier at all still exits 1.
         #[arg(long)]
         allow_incomplete: bool,
     },
@@ -242,7 +245,12 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             Ok(ExitStatus::Ready)
         }
         Command::Spacing { flags, rules } => {
-            let result = commands::spacing(&rules.load()?, &flags.query())?;
+            let (result, warnings) = commands::spacing_with_warnings(&rules.load()?, &flags.query())?;
+            // The JSON on stdout stays one barrier's entry; what looks implausible goes to
+            // stderr, as `input.suspicious_value` would in a report.
+            for w in &warnings {
+                eprintln!("warning: {w} (input.suspicious_value)");
+            }
             print(&gapwarden::report::to_json(&result));
             Ok(commands::spacing_exit_status(&result))
         }

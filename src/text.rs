@@ -52,6 +52,25 @@ pub fn visible(text: &str) -> Cow<'_, str> {
     Cow::Owned(out)
 }
 
+/// As [`visible`], for text that must stay on one line (a file name, a key): newlines,
+/// carriage returns and tabs are shown as `<U+000A>` and the like too, so that a name
+/// cannot start a line of its own (a forged "error:" line on a terminal).
+pub fn visible_line(text: &str) -> Cow<'_, str> {
+    let breaks = |c: char| matches!(c, '\n' | '\r' | '\t');
+    if !text.chars().any(|c| breaks(c) || is_hazardous(c)) {
+        return Cow::Borrowed(text);
+    }
+    let mut out = String::with_capacity(text.len() + 16);
+    for c in text.chars() {
+        if breaks(c) || is_hazardous(c) {
+            out.push_str(&marker(c));
+        } else {
+            out.push(c);
+        }
+    }
+    Cow::Owned(out)
+}
+
 /// A number for a message, exactly as stored (shortest form that reads back the same),
 /// in scientific notation where plain digits would be unreadable: 1e300, 5e-324.
 pub fn exact_number(x: f64) -> String {

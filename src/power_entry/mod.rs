@@ -625,7 +625,7 @@ pub fn show_value(x: f64) -> String {
     if !x.is_finite() {
         return x.to_string();
     }
-    let x = significant(x);
+    let x = six_significant(x);
     if x != 0.0 && x.abs() < 1e-3 {
         let s = format!("{x:.5e}");
         let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
@@ -638,8 +638,16 @@ pub fn show_value(x: f64) -> String {
     show(x)
 }
 
-/// Rounds to six significant digits, for the report (the engine keeps full precision).
+/// A figure as the report model keeps it: exactly as computed. The checks in
+/// `rules/checks/power_entry.toml` compare these fields, and a verdict compares exact
+/// values, never a rounded figure (a limiter energy of 3.275712 J against a 3.275711 J
+/// rating is over it, though both print as 3.27571); text rounds with `show_value`.
 pub fn significant(x: f64) -> f64 {
+    x
+}
+
+/// Rounds to six significant digits, for text only.
+fn six_significant(x: f64) -> f64 {
     if !x.is_finite() || x == 0.0 {
         return x;
     }

@@ -10,7 +10,7 @@ use serde::Serialize;
 use crate::diag::Diagnostic;
 use crate::toml_read::Span;
 
-pub use read::{DISTANCE_MM, VOLTAGE_V, read_project};
+pub use read::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V, read_project};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum ProtectionClass {

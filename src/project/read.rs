@@ -139,7 +139,7 @@ pub const VOLTAGE_V: NumberRule = NumberRule {
     expected: "a voltage in volts, above 0 and at most 100000",
 };
 
-const TRANSIENT_V: NumberRule = NumberRule {
+pub const TRANSIENT_V: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: false,
     max: 1_000_000.0,
@@ -190,7 +190,7 @@ const MAINS_FREQUENCY_HZ: NumberRule = NumberRule {
     expected: "a mains frequency in hertz, above 0 (50, 60 or 400)",
 };
 
-const ALTITUDE_M: NumberRule = NumberRule {
+pub const ALTITUDE_M: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: true,
     max: 100_000.0,
@@ -210,7 +210,7 @@ const POLLUTION_DEGREE: NumberRule = NumberRule {
     expected: "1, 2 or 3 (pollution degree 4 is not covered)",
 };
 
-const CTI: NumberRule = NumberRule {
+pub const CTI: NumberRule = NumberRule {
     min: 0.0,
     min_inclusive: true,
     max: 10_000.0,

@@ -201,13 +201,18 @@ fn preamble(report: &Report) -> String {
     let h = &report.house;
     if !h.rules.is_empty() {
         out.push_str(&format!(
-            "\n**House rules in force: the shipped rules were changed.** {} table{} replaced, {} added; {} check{} changed, {} added.\n\n",
+            "\n**House rules in force: the shipped rules were changed.** {} table{} replaced, {} added; {} check{} changed, {} added{}.\n\n",
             h.tables_replaced,
             if h.tables_replaced == 1 { "" } else { "s" },
             h.tables_added,
             h.checks_changed,
             if h.checks_changed == 1 { "" } else { "s" },
-            h.checks_added
+            h.checks_added,
+            if h.checks_removed > 0 {
+                format!(", **{} removed**", h.checks_removed)
+            } else {
+                String::new()
+            }
         ));
         for f in &h.rules {
             let what = match (f.kind, f.effect) {
