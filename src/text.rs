@@ -52,6 +52,25 @@ pub fn visible(text: &str) -> Cow<'_, str> {
     Cow::Owned(out)
 }
 
+/// As [`visible`], for text that must stay on one line (a file name, a key): newlines,
+/// carriage returns and tabs are shown as `<U+000A>` and the like too, so that a name
+/// cannot start a line of its own (a forged "error:" line on a terminal).
+pub fn visible_line(text: &str) -> Cow<'_, str> {
+    let breaks = |c: char| matches!(c, '\n' | '\r' | '\t');
+    if !text.chars().any(|c| breaks(c) || is_hazardous(c)) {
+        return Cow::Borrowed(text);
+    }
+    let mut out = String::with_capacity(text.len() + 16);
+    for c in text.chars() {
+        if breaks(c) || is_hazardous(c) {
+            out.push_str(&marker(c));
+        } else {
+            out.push(c);
+        }
+    }
+    Cow::Owned(out)
+}
+
 /// How a number is printed in text. One formatter serves every message, derivation and
 /// report line; the modes differ only in how much is rounded away first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -84,7 +103,7 @@ pub fn number(x: f64, digits: Digits) -> String {
         Digits::Exact => x,
         Digits::FourDecimals => four_decimals(x),
         Digits::SixSignificant => {
-            let x = significant(x);
+            let x = six_significant(x);
             if x != 0.0 && x.abs() < 1e-3 {
                 let s = format!("{x:.5e}");
                 let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
@@ -117,8 +136,8 @@ pub fn show(x: f64) -> String {
     number(x, Digits::FourDecimals)
 }
 
-/// Rounds to six significant digits, for the report (the engine keeps full precision).
-pub fn significant(x: f64) -> f64 {
+/// Rounds to six significant digits, for text only (the report model keeps figures exact).
+fn six_significant(x: f64) -> f64 {
     if !x.is_finite() || x == 0.0 {
         return x;
     }

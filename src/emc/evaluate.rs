@@ -1265,7 +1265,9 @@ fn declared_filter(
                 show(round_to(z, 0.001))
             ),
         ));
-        dm_corner_hz = Some(hz_round(fc));
+        // Exact: the check compares it with the required corner (itself rounded down, to
+        // the stricter side); rounding this one could put it on that corner from above.
+        dm_corner_hz = Some(fc);
         r0 = Some(z);
     }
     let (mut ratio, mut optimum) = (None, None);
@@ -1324,7 +1326,8 @@ fn declared_filter(
                 show(hz_round(fc))
             ),
         ));
-        cm_corner_hz = Some(hz_round(fc));
+        // Exact, as the differential-mode corner above.
+        cm_corner_hz = Some(fc);
     }
     Some(DeclaredFilter {
         dm_inductance_uh: f.dm_inductance_uh,

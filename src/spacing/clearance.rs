@@ -293,7 +293,7 @@ pub fn steady_state_clearance(
             key,
             format!(
                 "a steady-state peak of {} kV is above the last row of {} for {case} ({} to {} kV); the tool does not extrapolate",
-                show(kv),
+                crate::text::apart(kv, &[first.peak_kv, last.peak_kv], show),
                 table.source,
                 show(first.peak_kv),
                 show(last.peak_kv)
