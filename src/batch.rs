@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
+use crate::ExitStatus;
 use crate::commands::{Format, check_file, render, write_atomically};
 use crate::diag::{Diagnostic, Problems};
 use crate::report::{Report, Templates};
@@ -231,16 +232,16 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    /// 0 ready for review, 1 not ready, 2 unusable; see `Report::exit_code`.
-    pub fn exit_code(&self) -> u8 {
-        self.exit_code_allowing(false)
+    /// Ready for review, not ready, or unusable; see `Report::exit_status`.
+    pub fn exit_status(&self) -> ExitStatus {
+        self.exit_status_allowing(false)
     }
 
-    /// As `exit_code`, with `--allow-incomplete` applied when `allow_incomplete`.
-    pub fn exit_code_allowing(&self, allow_incomplete: bool) -> u8 {
+    /// As `exit_status`, with `--allow-incomplete` applied when `allow_incomplete`.
+    pub fn exit_status_allowing(&self, allow_incomplete: bool) -> ExitStatus {
         match &self.result {
-            Ok((report, _)) => report.exit_code(allow_incomplete),
-            Err(_) => 2,
+            Ok((report, _)) => report.exit_status(allow_incomplete),
+            Err(_) => ExitStatus::Unusable,
         }
     }
 }
@@ -401,24 +402,27 @@ pub fn summary(outcomes: &[Outcome]) -> String {
 /// for a design that is not ready.
 pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     let mut out = String::from(
-        "| design | revision | file | pass | fail | incomplete | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---|\n",
+        "| design | revision | file | pass | fail | incomplete | check input | blocking findings | status |\n|---|---|---|---:|---:|---:|---:|---:|---|\n",
     );
     let cell = |s: &str| crate::report::md_escape(s);
     for o in outcomes {
         let file = cell(&o.found.relative.display().to_string());
         match &o.result {
             Ok((r, _)) => out.push_str(&format!(
-                "| {} | {} | {file} | {} | {} | {} | {} | {} |\n",
+                "| {} | {} | {file} | {} | {} | {} | {} | {} | {} |\n",
                 cell(&r.design.name),
                 cell(r.design.revision.as_deref().unwrap_or("not stated")),
                 r.summary.pass,
                 r.summary.fail,
                 r.summary.incomplete,
+                // Barriers that would pass on an implausible input: without this column
+                // the counts of a design with one would not add up to its barriers.
+                r.summary.check_input,
                 r.summary.blocking,
                 cell(&r.readiness.state)
             )),
             Err(p) => out.push_str(&format!(
-                "| not read | | {file} | | | | | unusable input ({} problem{}) |\n",
+                "| not read | | {file} | | | | | | unusable input ({} problem{}) |\n",
                 p.0.len(),
                 if p.0.len() == 1 { "" } else { "s" }
             )),
@@ -426,9 +430,9 @@ pub fn summary_with(outcomes: &[Outcome], allow_incomplete: bool) -> String {
     }
     let worst = outcomes
         .iter()
-        .map(|o| o.exit_code_allowing(allow_incomplete))
+        .map(|o| o.exit_status_allowing(allow_incomplete))
         .max()
-        .unwrap_or(0);
+        .unwrap_or(ExitStatus::Ready);
     out.push_str(&format!(
         "\n{} design{} checked; exit status {worst}.\n",
         outcomes.len(),

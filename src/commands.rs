@@ -5,6 +5,7 @@ use std::fs::OpenOptions;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+use crate::ExitStatus;
 use crate::checks::Severity;
 use crate::diag::{Diagnostic, Problems, Source, suggest};
 use crate::project::{
@@ -28,11 +29,116 @@ pub const EXAMPLES: &[(&str, &str)] = &[
     ),
 ];
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+/// The report's output format; the variants' names and docs are `--format`'s words and help.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Format {
+    /// Markdown checklist
+    #[value(name = "md")]
     Markdown,
+    /// Self-contained HTML page
     Html,
+    /// The report model as JSON
     Json,
+}
+
+/// The templates a report in `format` needs: for Markdown and HTML the shipped ones (with
+/// any house copies from `dir`) parsed now; for JSON none are parsed, and house copies are
+/// only read and hashed, because the JSON names them in its `house` section.
+pub fn templates_for(format: Format, dir: Option<&Path>) -> Result<Templates, Problems> {
+    match format {
+        Format::Markdown | Format::Html => Templates::load(dir),
+        Format::Json => Templates::read(dir),
+    }
+}
+
+/// What `gapwarden check` was asked to do (its command-line options).
+#[derive(Debug, Clone, Copy)]
+pub struct CheckRequest<'a> {
+    /// Project files or folders of them.
+    pub projects: &'a [PathBuf],
+    pub format: Format,
+    /// `-o`: the one design's report goes here instead of standard output.
+    pub output: Option<&'a Path>,
+    /// `--rules`: house rule tables.
+    pub rules_dir: Option<&'a Path>,
+    /// `--templates`: house templates.
+    pub templates_dir: Option<&'a Path>,
+    /// `--out-dir`: one report a design.
+    pub out_dir: Option<&'a Path>,
+    /// `--jobs`: designs checked at once; `None` for the number of cores.
+    pub jobs: Option<usize>,
+    /// `--allow-incomplete`: incomplete barriers do not make the run not ready.
+    pub allow_incomplete: bool,
+}
+
+/// Runs `check`. One file: its report goes to `print` (or to `-o`). Several files or a
+/// folder: one report each into `--out-dir`, the summary table to `print`, and each
+/// design's problems to standard error as they come. The status is the worst over all
+/// designs; problems that stop the whole run (rules, templates, `-o` with several
+/// designs) are the `Err`.
+pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStatus, Problems> {
+    // Every file the run reads besides the designs: no report may replace one.
+    let mut house_inputs: Vec<PathBuf> = Vec::new();
+    if let Some(dir) = req.rules_dir {
+        house_inputs.extend(crate::rules::house_rule_files(dir));
+    }
+    if let Some(dir) = req.templates_dir {
+        house_inputs.extend(crate::report::house_template_files(dir));
+    }
+    let rules = RuleBook::load(req.rules_dir)?;
+    let templates = templates_for(req.format, req.templates_dir)?;
+    let projects = req.projects;
+    let single = projects.len() == 1 && !projects[0].is_dir() && req.out_dir.is_none();
+    if single {
+        let project = &projects[0];
+        let report = check_file(project, &rules)?;
+        let text = render(&report, req.format, &templates)?;
+        match req.output {
+            Some(out) => {
+                let protected: Vec<&Path> = std::iter::once(project.as_path())
+                    .chain(house_inputs.iter().map(PathBuf::as_path))
+                    .collect();
+                write_atomically(out, &text, &protected)?
+            }
+            None => print(&text),
+        }
+        return Ok(report.exit_status(req.allow_incomplete));
+    }
+    if req.output.is_some() {
+        let why = if req.out_dir.is_some() {
+            "give -o FILE (one design) or --out-dir DIR (one report each), not both; nothing was written"
+        } else {
+            "with several designs, give --out-dir DIR for one report each"
+        };
+        return Err(Diagnostic::new("-o", why).into());
+    }
+    let (designs, notes) = crate::batch::find_projects_noting(projects)?;
+    for note in &notes {
+        eprintln!("{note}");
+    }
+    let jobs = req
+        .jobs
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+    let outcomes = crate::batch::check_many(&designs, &rules, &templates, req.format, jobs, true);
+    for o in &outcomes {
+        if let Err(problems) = &o.result {
+            eprintln!("{problems}");
+        }
+    }
+    let mut worst = outcomes
+        .iter()
+        .map(|o| o.exit_status_allowing(req.allow_incomplete))
+        .max()
+        .unwrap_or(ExitStatus::Ready);
+    if let Some(dir) = req.out_dir
+        && let Err(problems) =
+            crate::batch::write_reports_protecting(&outcomes, dir, req.format, &house_inputs)
+    {
+        eprintln!("{problems}");
+        worst = ExitStatus::Unusable;
+    }
+    print(&crate::batch::summary_with(&outcomes, req.allow_incomplete));
+    Ok(worst)
 }
 
 /// Reads a project file and evaluates it.
@@ -84,6 +190,29 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
             return Err(refuse_input());
         }
     }
+    // /dev/stdout, /dev/stderr, /dev/fd/N: a descriptor this process already holds, which
+    // the shell may have opened for appending or as a pipe. Followed as a link, it would
+    // name the file behind it (replaced by a rename: `-o /dev/stdout >> log.md` lost the
+    // log) or nothing at all (a pipe), so it is written through the descriptor itself.
+    if let Some(fd) = descriptor_named(out) {
+        let written = match fd {
+            1 => {
+                let mut o = std::io::stdout().lock();
+                o.write_all(text.as_bytes()).and_then(|()| o.flush())
+            }
+            2 => {
+                let mut e = std::io::stderr().lock();
+                e.write_all(text.as_bytes()).and_then(|()| e.flush())
+            }
+            n => {
+                return Err(fail(format!(
+                    "names the file descriptor {n}; only standard output (1) and standard \
+                     error (2) are written through; nothing was written"
+                )));
+            }
+        };
+        return written.map_err(|e| fail(format!("cannot be written: {e}")));
+    }
     let link = std::fs::symlink_metadata(out);
     let (path, meta) = match link {
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
@@ -114,6 +243,33 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
         Ok(m) => (out.to_path_buf(), m),
     };
     write_existing(&path, &meta, text).map_err(fail)
+}
+
+/// The descriptor a path names through the kernel's descriptor links, followed one link
+/// at a time: `/dev/stdout` (a link to `/proc/self/fd/1`), `/dev/fd/2`,
+/// `/proc/self/fd/1`, `/proc/PID/fd/N` for this process. None for any other path.
+fn descriptor_named(out: &Path) -> Option<u32> {
+    let own = format!("/proc/{}/fd/", std::process::id());
+    let prefixes = ["/dev/fd/", "/proc/self/fd/", "/proc/thread-self/fd/", own.as_str()];
+    let mut path = out.to_path_buf();
+    // As many hops as the kernel follows before it gives up on a chain of links.
+    for _ in 0..40 {
+        if let Some(text) = path.to_str()
+            && let Some(n) = prefixes
+                .iter()
+                .find_map(|p| text.strip_prefix(p))
+                .and_then(|rest| rest.parse::<u32>().ok())
+        {
+            return Some(n);
+        }
+        let target = std::fs::read_link(&path).ok()?;
+        path = if target.is_absolute() {
+            target
+        } else {
+            path.parent().unwrap_or(Path::new("/")).join(target)
+        };
+    }
+    None
 }
 
 /// Writes onto something that exists, by what it is (see `write_atomically`).
@@ -659,18 +815,140 @@ pub struct SpacingQuery {
     pub creepage_mm: Option<f64>,
 }
 
+/// The flags of `gapwarden spacing` that describe the barrier (`--rules` is the command
+/// line's own); `query` turns them into a `SpacingQuery`.
+#[derive(Debug, Clone, clap::Args)]
+pub struct SpacingFlags {
+    /// Working voltage across the barrier, V rms.
+    #[arg(long, value_name = "V")]
+    pub working_rms_v: f64,
+    /// Steady-state or recurring peak working voltage, V.
+    #[arg(long, value_name = "V")]
+    pub working_peak_v: Option<f64>,
+    /// Insulation grade.
+    #[arg(long, value_enum, default_value_t = Grade::Basic)]
+    pub grade: Grade,
+    /// Pollution degree (1, 2 or 3).
+    #[arg(long, default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    pub pollution_degree: u8,
+    /// Overvoltage category (I, II, III or IV).
+    #[arg(long, value_enum, default_value = "II")]
+    pub overvoltage_category: OvervoltageCategory,
+    /// Nominal line-to-neutral voltage of the supply system, V.
+    #[arg(long, default_value_t = 230.0, value_name = "V")]
+    pub nominal_v: f64,
+    /// Transient overvoltage that replaces the rated impulse voltage from the mains, V.
+    #[arg(long, value_name = "V")]
+    pub transient_v: Option<f64>,
+    /// Altitude above sea level, m.
+    #[arg(long, default_value_t = 2000.0, value_name = "M")]
+    pub altitude_m: f64,
+    /// Material group (I, II, IIIa, IIIb); IIIb is assumed when neither this nor --cti is given.
+    #[arg(long, value_enum)]
+    pub material_group: Option<MaterialGroup>,
+    /// Comparative tracking index of the insulating material.
+    #[arg(long)]
+    pub cti: Option<f64>,
+    /// The barrier is on a printed board (printed-wiring creepage columns where allowed).
+    #[arg(long)]
+    pub printed_board: bool,
+    /// The field is homogeneous (Case B); inhomogeneous (Case A) otherwise.
+    #[arg(long)]
+    pub homogeneous: bool,
+    /// For functional spacing on a board: where the conductors are.
+    #[arg(long, value_enum, default_value_t = BoardConductor::OuterLayer)]
+    pub board_conductor: BoardConductor,
+    /// For functional spacing on a board: the coating.
+    #[arg(long, value_enum, default_value_t = BoardCoating::None)]
+    pub board_coating: BoardCoating,
+    /// Interpolate creepage between table rows (rounded up to 0.1 mm) instead of taking the next row.
+    #[arg(long)]
+    pub interpolate: bool,
+    /// Interpolate the altitude correction factor between table rows instead of taking the next row.
+    #[arg(long)]
+    pub interpolate_altitude: bool,
+    /// Clearance as laid out, mm (to get a verdict).
+    #[arg(long, value_name = "MM")]
+    pub clearance_mm: Option<f64>,
+    /// Creepage as laid out, mm (to get a verdict).
+    #[arg(long, value_name = "MM")]
+    pub creepage_mm: Option<f64>,
+}
+
+impl SpacingFlags {
+    /// The barrier the flags describe; a switch that is absent is the conservative reading
+    /// (inhomogeneous field, next table row).
+    pub fn query(&self) -> SpacingQuery {
+        let between_rows = |interpolate: bool| {
+            if interpolate {
+                BetweenRows::Interpolate
+            } else {
+                BetweenRows::NextRow
+            }
+        };
+        SpacingQuery {
+            working_rms_v: self.working_rms_v,
+            working_peak_v: self.working_peak_v,
+            grade: self.grade,
+            pollution_degree: self.pollution_degree,
+            overvoltage_category: self.overvoltage_category,
+            nominal_v: self.nominal_v,
+            transient_v: self.transient_v,
+            altitude_m: self.altitude_m,
+            material_group: self.material_group,
+            cti: self.cti,
+            printed_board: self.printed_board,
+            field: if self.homogeneous {
+                Field::Homogeneous
+            } else {
+                Field::Inhomogeneous
+            },
+            board_conductor: self.board_conductor,
+            board_coating: self.board_coating,
+            creepage_between_rows: between_rows(self.interpolate),
+            altitude_between_rows: between_rows(self.interpolate_altitude),
+            clearance_mm: self.clearance_mm,
+            creepage_mm: self.creepage_mm,
+        }
+    }
+}
+
+/// The exit status of `gapwarden spacing`: not ready when the declared distances fall
+/// short or would pass only on an implausible value.
+pub fn spacing_exit_status(result: &BarrierResult) -> ExitStatus {
+    use crate::spacing::Verdict;
+    match result.verdict {
+        Verdict::Fail | Verdict::CheckInput => ExitStatus::NotReady,
+        Verdict::Pass | Verdict::Incomplete => ExitStatus::Ready,
+    }
+}
+
 /// Required figures for one barrier from flags; the same engine and JSON as `check`.
 pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Problems> {
-    use crate::project::{DISTANCE_MM, VOLTAGE_V};
+    spacing_with_warnings(rules, q).map(|(result, _)| result)
+}
+
+/// As [`spacing`], with the warnings for flags whose values look implausible (the
+/// `input.suspicious_value` cases of a project file), for the command to print: a figure
+/// resting on such a value must say so even where there is no verdict to mark.
+pub fn spacing_with_warnings(
+    rules: &RuleBook,
+    q: &SpacingQuery,
+) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
+    use crate::project::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
     let mut problems = Vec::new();
-    let mut implausible = false;
+    let mut warnings = Vec::new();
+    // Each flag is judged by the rule of the project key it stands for, so the command and
+    // a report agree on what is out of range and what is implausible.
     let mut judge = |flag: &str, value: Option<f64>, rule: &NumberRule| {
         if let Some(v) = value {
             match rule.judge(v) {
                 Err(reason) => {
                     problems.push(Diagnostic::new("command line", reason).with_key(flag))
                 }
-                Ok(Some(_)) => implausible = true,
+                Ok(Some(warning)) => {
+                    warnings.push(Diagnostic::new("command line", warning).with_key(flag))
+                }
                 Ok(None) => {}
             }
         }
@@ -678,29 +956,12 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
     judge("--working-rms-v", Some(q.working_rms_v), &VOLTAGE_V);
     judge("--working-peak-v", q.working_peak_v, &VOLTAGE_V);
     judge("--nominal-v", Some(q.nominal_v), &VOLTAGE_V);
-    judge("--transient-v", q.transient_v, &VOLTAGE_V);
+    judge("--transient-v", q.transient_v, &TRANSIENT_V);
     judge("--clearance-mm", q.clearance_mm, &DISTANCE_MM);
     judge("--creepage-mm", q.creepage_mm, &DISTANCE_MM);
-    if !(q.altitude_m.is_finite() && q.altitude_m >= 0.0) {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected an altitude in metres above sea level, 0 or more",
-            )
-            .with_key("--altitude-m"),
-        );
-    }
-    if let Some(c) = q.cti
-        && !(c.is_finite() && c >= 0.0)
-    {
-        problems.push(
-            Diagnostic::new(
-                "command line",
-                "expected a comparative tracking index, 0 or more",
-            )
-            .with_key("--cti"),
-        );
-    }
+    judge("--altitude-m", Some(q.altitude_m), &ALTITUDE_M);
+    judge("--cti", q.cti, &CTI);
+    let implausible = !warnings.is_empty();
     if q.material_group.is_some() && q.cti.is_some() {
         problems.push(
             Diagnostic::new("command line", "give --material-group or --cti, not both")
@@ -773,6 +1034,173 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
         if implausible && r.verdict == crate::spacing::Verdict::Pass {
             r.verdict = crate::spacing::Verdict::CheckInput;
         }
-        r
+        (r, warnings)
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::Parser;
+
+    /// `SpacingFlags` as the binary flattens it into `gapwarden spacing`.
+    #[derive(Parser)]
+    struct Cli {
+        #[command(flatten)]
+        flags: SpacingFlags,
+    }
+
+    fn query(args: &[&str]) -> SpacingQuery {
+        let argv = std::iter::once("spacing").chain(args.iter().copied());
+        Cli::try_parse_from(argv)
+            .unwrap_or_else(|e| panic!("{args:?} should parse: {e}"))
+            .flags
+            .query()
+    }
+
+    #[test]
+    fn absent_switches_give_the_conservative_reading() {
+        let q = query(&["--working-rms-v", "230"]);
+        assert_eq!(q.grade, Grade::Basic);
+        assert_eq!(q.pollution_degree, 2);
+        assert_eq!(q.overvoltage_category, OvervoltageCategory::II);
+        assert_eq!(q.nominal_v, 230.0);
+        assert_eq!(q.altitude_m, 2000.0);
+        assert_eq!(q.material_group, None);
+        assert_eq!(q.cti, None);
+        assert_eq!(q.field, Field::Inhomogeneous);
+        assert_eq!(q.board_conductor, BoardConductor::OuterLayer);
+        assert_eq!(q.board_coating, BoardCoating::None);
+        assert_eq!(q.creepage_between_rows, BetweenRows::NextRow);
+        assert_eq!(q.altitude_between_rows, BetweenRows::NextRow);
+        assert!(!q.printed_board);
+    }
+
+    #[test]
+    fn every_flag_reaches_its_field_with_the_project_files_words() {
+        let q = query(&[
+            "--working-rms-v",
+            "300",
+            "--working-peak-v",
+            "450",
+            "--grade",
+            "reinforced",
+            "--pollution-degree",
+            "3",
+            "--overvoltage-category",
+            "III",
+            "--nominal-v",
+            "120",
+            "--transient-v",
+            "1500",
+            "--altitude-m",
+            "3000",
+            "--material-group",
+            "IIIa",
+            "--printed-board",
+            "--homogeneous",
+            "--board-conductor",
+            "component-lead",
+            "--board-coating",
+            "conformal",
+            "--interpolate",
+            "--interpolate-altitude",
+            "--clearance-mm",
+            "5.5",
+            "--creepage-mm",
+            "6.5",
+        ]);
+        assert_eq!(q.working_rms_v, 300.0);
+        assert_eq!(q.working_peak_v, Some(450.0));
+        assert_eq!(q.grade, Grade::Reinforced);
+        assert_eq!(q.pollution_degree, 3);
+        assert_eq!(q.overvoltage_category, OvervoltageCategory::III);
+        assert_eq!(q.nominal_v, 120.0);
+        assert_eq!(q.transient_v, Some(1500.0));
+        assert_eq!(q.altitude_m, 3000.0);
+        assert_eq!(q.material_group, Some(MaterialGroup::IIIa));
+        assert!(q.printed_board);
+        assert_eq!(q.field, Field::Homogeneous);
+        assert_eq!(q.board_conductor, BoardConductor::ComponentLead);
+        assert_eq!(q.board_coating, BoardCoating::Conformal);
+        assert_eq!(q.creepage_between_rows, BetweenRows::Interpolate);
+        assert_eq!(q.altitude_between_rows, BetweenRows::Interpolate);
+        assert_eq!(q.clearance_mm, Some(5.5));
+        assert_eq!(q.creepage_mm, Some(6.5));
+        assert_eq!(
+            query(&["--working-rms-v", "1", "--cti", "175"]).cti,
+            Some(175.0)
+        );
+    }
+
+    #[test]
+    fn enum_words_are_the_project_files_words_exactly() {
+        // The words a project file uses (README's key list); clap takes them verbatim.
+        for (word, grade) in [
+            ("functional", Grade::Functional),
+            ("supplementary", Grade::Supplementary),
+            ("double", Grade::Double),
+        ] {
+            assert_eq!(
+                query(&["--working-rms-v", "1", "--grade", word]).grade,
+                grade
+            );
+        }
+        for word in ["I", "II", "III", "IV"] {
+            let q = query(&["--working-rms-v", "1", "--overvoltage-category", word]);
+            assert_eq!(q.overvoltage_category.as_str(), word);
+        }
+        for word in ["I", "II", "IIIa", "IIIb"] {
+            let q = query(&["--working-rms-v", "1", "--material-group", word]);
+            assert_eq!(q.material_group.map(MaterialGroup::as_str), Some(word));
+        }
+        let coating = query(&["--working-rms-v", "1", "--board-coating", "polymer"]);
+        assert_eq!(coating.board_coating, BoardCoating::Polymer);
+        let layer = query(&["--working-rms-v", "1", "--board-conductor", "inner-layer"]);
+        assert_eq!(layer.board_conductor, BoardConductor::InnerLayer);
+        // Case matters, as it does in the project file.
+        for bad in [
+            ["--overvoltage-category", "ii"],
+            ["--material-group", "iiia"],
+            ["--grade", "Basic"],
+        ] {
+            let argv = ["spacing", "--working-rms-v", "1", bad[0], bad[1]];
+            assert!(Cli::try_parse_from(argv).is_err(), "{bad:?} was accepted");
+        }
+    }
+
+    #[test]
+    fn json_output_parses_no_template_and_still_names_a_house_one() {
+        let dir =
+            std::env::temp_dir().join(format!("gapwarden-templates-for-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).expect("scratch folder");
+        // Not a template minijinja can parse.
+        let broken = "{% if %}\n";
+        std::fs::write(dir.join("report.md.j2"), broken).expect("written");
+        let json = templates_for(Format::Json, Some(&dir));
+        let markdown = templates_for(Format::Markdown, Some(&dir)).err();
+        let html = templates_for(Format::Html, Some(&dir)).err();
+        let _ = std::fs::remove_dir_all(&dir);
+
+        let json = json.unwrap_or_else(|p| panic!("JSON needs no template parsed: {p}"));
+        let house = json.house();
+        assert_eq!(house.len(), 1);
+        assert_eq!(house[0].file, "report.md.j2");
+        let expected: String = {
+            use sha2::{Digest, Sha256};
+            Sha256::digest(broken.as_bytes())
+                .iter()
+                .map(|b| format!("{b:02x}"))
+                .collect()
+        };
+        assert_eq!(house[0].sha256, expected);
+        for (format, refused) in [("md", markdown), ("html", html)] {
+            let refused = refused.unwrap_or_else(|| panic!("{format}: a broken template is used"));
+            assert!(
+                refused.to_string().contains("report.md.j2"),
+                "{format}: {refused}"
+            );
+        }
+    }
 }

@@ -2,9 +2,52 @@
 //! required figures, margins, verdicts and findings, as Markdown for a review record.
 
 use std::collections::BTreeMap;
+use std::path::Path;
 
-use crate::report::{Report, md_escape};
+use crate::ExitStatus;
+use crate::diag::{Problems, Source};
+use crate::report::{Report, check_source, md_escape};
+use crate::rules::RuleBook;
 use crate::spacing::show;
+
+/// Two revisions read, evaluated and compared.
+pub struct Comparison {
+    /// The comparison as Markdown (see [`compare`]).
+    pub markdown: String,
+    /// The later revision's report: its readiness is the comparison's exit status.
+    pub new: Report,
+}
+
+impl Comparison {
+    /// Ready when the later revision is ready for review; `allow_incomplete` as for `check`.
+    pub fn exit_status(&self, allow_incomplete: bool) -> ExitStatus {
+        self.new.exit_status(allow_incomplete)
+    }
+}
+
+/// Reads and evaluates both project files and compares them. Both are read before any
+/// problem is returned, so the designer sees what is wrong in either file at once.
+pub fn compare_files(old: &Path, new: &Path, rules: &RuleBook) -> Result<Comparison, Problems> {
+    let read = |path: &Path| -> Result<(String, Report), Problems> {
+        let name = path.display().to_string();
+        let text = crate::read_text(path, &name)?;
+        let report = check_source(&Source::new(name, text.clone()), rules)?;
+        Ok((text, report))
+    };
+    match (read(old), read(new)) {
+        (Ok((old_text, old_report)), Ok((new_text, new_report))) => Ok(Comparison {
+            markdown: compare(&old_text, &old_report, &new_text, &new_report),
+            new: new_report,
+        }),
+        (a, b) => Err(Problems(
+            a.err()
+                .into_iter()
+                .chain(b.err())
+                .flat_map(|p| p.0)
+                .collect(),
+        )),
+    }
+}
 
 /// Every input value by a readable key path (`barrier[pri-sec].creepage_mm`).
 pub fn flatten_inputs(text: &str) -> BTreeMap<String, String> {
@@ -90,12 +133,12 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
     }
     out.push_str("> Advisory only: defer to the applicable end-product standard, local electrical codes and licensed or accredited review.\n\n");
 
-    out.push_str("## Summary\n\n| | barriers | pass | fail | incomplete | blocking | warnings | notes |\n|---|---:|---:|---:|---:|---:|---:|---:|\n");
+    out.push_str("## Summary\n\n| | barriers | pass | fail | incomplete | check input | blocking | warnings | notes |\n|---|---:|---:|---:|---:|---:|---:|---:|---:|\n");
     for (label, r) in [("old", old), ("new", new)] {
         let s = &r.summary;
         out.push_str(&format!(
-            "| {label} | {} | {} | {} | {} | {} | {} | {} |\n",
-            s.barriers, s.pass, s.fail, s.incomplete, s.blocking, s.warning, s.note
+            "| {label} | {} | {} | {} | {} | {} | {} | {} | {} |\n",
+            s.barriers, s.pass, s.fail, s.incomplete, s.check_input, s.blocking, s.warning, s.note
         ));
     }
 
@@ -186,26 +229,16 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
     let old_f: Vec<_> = old.findings.iter().map(key).collect();
     let new_f: Vec<_> = new.findings.iter().map(key).collect();
     let mut any = false;
-    for f in &new.findings {
-        if !old_f.contains(&key(f)) {
+    // A finding in one revision and not the other: "new" in bold, "gone" struck through.
+    let changes = [
+        (&new.findings, &old_f, "new", "**"),
+        (&old.findings, &new_f, "gone", "~~"),
+    ];
+    for (findings, other, word, mark) in changes {
+        for f in findings.iter().filter(|f| !other.contains(&key(f))) {
             any = true;
             out.push_str(&format!(
-                "- new {:?}: **{}**{}: {}\n",
-                f.severity,
-                e(&f.id),
-                f.subject
-                    .as_deref()
-                    .map(|s| format!(" ({})", e(s)))
-                    .unwrap_or_default(),
-                e(&f.message)
-            ));
-        }
-    }
-    for f in &old.findings {
-        if !new_f.contains(&key(f)) {
-            any = true;
-            out.push_str(&format!(
-                "- gone {:?}: ~~{}~~{}: {}\n",
+                "- {word} {:?}: {mark}{}{mark}{}: {}\n",
                 f.severity,
                 e(&f.id),
                 f.subject
@@ -288,4 +321,40 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
         out.push_str(&inputs);
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn problems_in_both_revisions_are_reported_together() {
+        let rules = RuleBook::load(None).expect("shipped rules load");
+        let old = Path::new("no-such-old-revision.toml");
+        let new = Path::new("no-such-new-revision.toml");
+        let Err(problems) = compare_files(old, new, &rules) else {
+            panic!("two missing files compared");
+        };
+        let text = problems.to_string();
+        assert_eq!(problems.0.len(), 2, "{text}");
+        assert!(text.contains("no-such-old-revision.toml"), "{text}");
+        assert!(text.contains("no-such-new-revision.toml"), "{text}");
+    }
+
+    #[test]
+    fn the_status_is_the_new_revisions_readiness() {
+        let rules = RuleBook::load(None).expect("shipped rules load");
+        let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+        let fixture = root.join("tests/fixtures/short-clearance.toml");
+        let example = root.join("examples/class2-adapter.toml");
+        // The fixture declares 2.4 mm across reinforced insulation on a 230 V, OVC II
+        // system, which needs 3.0 mm: 2500 V (IEC 60664-1 Table F.1), one step up for
+        // reinforced -> 4000 V, Table F.2 Case A -> 3.0 mm (REFERENCES.md, Table F.2).
+        // The shipped Class II example is ready for review (tests/cli.rs pins its exit 0).
+        let worse = compare_files(&example, &fixture, &rules).expect("both read");
+        assert_eq!(worse.exit_status(false), ExitStatus::NotReady);
+        assert!(worse.markdown.starts_with("# Revision comparison"));
+        let better = compare_files(&fixture, &example, &rules).expect("both read");
+        assert_eq!(better.exit_status(false), ExitStatus::Ready);
+    }
 }

@@ -79,8 +79,10 @@ impl fmt::Display for Diagnostic {
     // Every part may carry project text (a file name, an id in the message): a control
     // or bidi character in it is shown, never sent to the terminal.
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        use crate::text::visible;
-        write!(f, "{}", visible(&self.file))?;
+        use crate::text::{visible, visible_line};
+        // The file name and the key stay on one line: a newline in either could start a
+        // line that reads as another diagnostic.
+        write!(f, "{}", visible_line(&self.file))?;
         if let Some(line) = self.line {
             write!(f, ":{line}")?;
             if let Some(column) = self.column {
@@ -89,7 +91,7 @@ impl fmt::Display for Diagnostic {
         }
         write!(f, ": ")?;
         if let Some(key) = &self.key {
-            write!(f, "`{}`: ", visible(key))?;
+            write!(f, "`{}`: ", visible_line(key))?;
         }
         write!(f, "{}", visible(&self.message))?;
         if let Some(help) = &self.help {

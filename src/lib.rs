@@ -7,6 +7,8 @@ pub mod commands;
 pub mod compare;
 pub mod diag;
 pub mod emc;
+pub mod input_limits;
+mod exit_status;
 pub mod isolation;
 pub mod memory_guard;
 pub mod parts;
@@ -17,6 +19,8 @@ pub mod rules;
 pub mod spacing;
 pub mod text;
 pub mod toml_read;
+
+pub use exit_status::ExitStatus;
 
 use std::path::Path;
 

@@ -5,8 +5,8 @@
 use serde::Serialize;
 
 use crate::project::{Barrier, Grade, Part, PartKind, Project};
-use crate::rules::{CapacitorSubclasses, RuleBook, TestVoltages, ThermalClasses};
-use crate::spacing::{BarrierResult, Step, show, tidy};
+use crate::rules::{CapacitorSubclasses, EPS, RuleBook, TestVoltages, ThermalClasses};
+use crate::spacing::{BarrierResult, Step, show};
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BridgeResult {
@@ -94,9 +94,7 @@ fn bridge(
 ) -> BridgeResult {
     let r = &part.ratings;
     let mut derivation = Vec::new();
-    let working_peak_v = barrier
-        .working_peak_v
-        .unwrap_or_else(|| tidy(barrier.working_rms_v * std::f64::consts::SQRT_2));
+    let working_peak_v = barrier.peak_v();
     let (subclass_bridges, subclass_allowed, series_accepted) = capacitor_fit(
         &rules.capacitors,
         r.subclass.as_deref(),
@@ -207,7 +205,7 @@ fn test_voltage(
     if grade == Grade::Functional {
         return (None, None);
     }
-    let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - 1e-9) else {
+    let Some(row) = table.rows.iter().find(|r| r.up_to_peak_v >= peak_v - EPS) else {
         let from = beyond_test_table(table);
         steps.push(Step {
             rule: Some(TestVoltages::ID.to_string()),

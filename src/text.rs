@@ -52,21 +52,99 @@ pub fn visible(text: &str) -> Cow<'_, str> {
     Cow::Owned(out)
 }
 
-/// A number for a message, exactly as stored (shortest form that reads back the same),
-/// in scientific notation where plain digits would be unreadable: 1e300, 5e-324.
-pub fn exact_number(x: f64) -> String {
-    if !x.is_finite() {
-        return format!("{x}");
+/// As [`visible`], for text that must stay on one line (a file name, a key): newlines,
+/// carriage returns and tabs are shown as `<U+000A>` and the like too, so that a name
+/// cannot start a line of its own (a forged "error:" line on a terminal).
+pub fn visible_line(text: &str) -> Cow<'_, str> {
+    let breaks = |c: char| matches!(c, '\n' | '\r' | '\t');
+    if !text.chars().any(|c| breaks(c) || is_hazardous(c)) {
+        return Cow::Borrowed(text);
     }
+    let mut out = String::with_capacity(text.len() + 16);
+    for c in text.chars() {
+        if breaks(c) || is_hazardous(c) {
+            out.push_str(&marker(c));
+        } else {
+            out.push(c);
+        }
+    }
+    Cow::Owned(out)
+}
+
+/// How a number is printed in text. One formatter serves every message, derivation and
+/// report line; the modes differ only in how much is rounded away first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Digits {
+    /// Exactly as stored (the shortest form that reads back the same), in scientific
+    /// notation where plain digits would be unreadable: 1e300, 5e-324. For values a user
+    /// wrote, quoted back in a message about them. Not finite: `NaN`, `inf`.
+    Exact,
+    /// Rounded to four decimals, no trailing zeros: the report's figures (millimetres,
+    /// volts, decibels). Not finite: "not computed", never inf or NaN.
+    FourDecimals,
+    /// Six significant digits: in scientific notation below 0.001, whole from 10000, four
+    /// decimals between. For the power-entry figures, which span microfarads to kiloamperes
+    /// squared seconds. Not finite: `NaN`, `inf`.
+    SixSignificant,
+}
+
+/// `x` as text in the given mode. Whatever the mode, zero prints as "0" (never "-0") and a
+/// magnitude of 1e15 or more in scientific notation, not as hundreds of digits.
+pub fn number(x: f64, digits: Digits) -> String {
+    if !x.is_finite() {
+        return match digits {
+            // A figure that could not be computed is never printed as inf or NaN.
+            Digits::FourDecimals => "not computed".to_string(),
+            Digits::Exact | Digits::SixSignificant => format!("{x}"),
+        };
+    }
+    let four_decimals = |x: f64| (x * 1e4).round() / 1e4;
+    let x = match digits {
+        Digits::Exact => x,
+        Digits::FourDecimals => four_decimals(x),
+        Digits::SixSignificant => {
+            let x = six_significant(x);
+            if x != 0.0 && x.abs() < 1e-3 {
+                let s = format!("{x:.5e}");
+                let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
+                let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+                return format!("{mantissa}e{exponent}");
+            }
+            if x.abs() >= 1e4 { x.round() } else { four_decimals(x) }
+        }
+    };
     if x == 0.0 {
         return "0".to_string();
     }
-    let a = x.abs();
-    if !(1e-6..1e15).contains(&a) {
+    // Only an exact value can still be this small; a rounded one is 0 or at least 1e-4.
+    let plain_from = if digits == Digits::Exact { 1e-6 } else { 0.0 };
+    if x.abs() >= 1e15 || x.abs() < plain_from {
         format!("{x:e}")
     } else {
         format!("{x}")
     }
+}
+
+/// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
+pub fn exact_number(x: f64) -> String {
+    number(x, Digits::Exact)
+}
+
+/// A number as a designer writes it, the report's usual form:
+/// `number(x, Digits::FourDecimals)`.
+pub fn show(x: f64) -> String {
+    number(x, Digits::FourDecimals)
+}
+
+/// Rounds to six significant digits, for text only (the report model keeps figures exact).
+fn six_significant(x: f64) -> f64 {
+    if !x.is_finite() || x == 0.0 {
+        return x;
+    }
+    let magnitude = x.abs().log10().floor() as i32;
+    let scale = 10f64.powi(5 - magnitude);
+    let rounded = (x * scale).round() / scale;
+    if rounded.is_finite() { rounded } else { x }
 }
 
 /// `value` as `shown` would print it, unless that would print it the same as one of
@@ -102,6 +180,23 @@ mod tests {
         assert_eq!(exact_number(5e-324), "5e-324");
         assert_eq!(exact_number(149_999.999), "149999.999");
         assert_eq!(exact_number(-0.0), "0");
+    }
+
+    #[test]
+    fn one_formatter_three_modes() {
+        // Worked by hand: 0.000123456789 to six significant digits is 0.000123457.
+        assert_eq!(number(0.000123456789, Digits::SixSignificant), "1.23457e-4");
+        assert_eq!(number(12_345.678, Digits::SixSignificant), "12346");
+        // 3.14159265 -> 3.14159 (six significant) -> 3.1416 (four decimals).
+        assert_eq!(number(3.14159265, Digits::SixSignificant), "3.1416");
+        assert_eq!(number(3.14159265, Digits::FourDecimals), "3.1416");
+        assert_eq!(number(3.14159265, Digits::Exact), "3.14159265");
+        for digits in [Digits::Exact, Digits::FourDecimals, Digits::SixSignificant] {
+            assert_eq!(number(1e20, digits), "1e20");
+            assert_eq!(number(-0.0, digits), "0");
+        }
+        assert_eq!(number(f64::NAN, Digits::FourDecimals), "not computed");
+        assert_eq!(number(f64::INFINITY, Digits::Exact), "inf");
     }
 
     #[test]

@@ -1419,6 +1419,30 @@ fn values_a_million_times_too_small_are_flagged_as_suspicious() {
     );
 }
 
+/// One quantity, one limit, whichever table the key is in. A capacitor across insulation
+/// is picofarads to tens of nanofarads (IEC 60384-14 Y capacitors; common practice, no
+/// published source for the bound), so 2 uF written as 2000 nF is most likely picofarads
+/// meant, in a part as in the filter; 2 F (2e9 nF) is no such capacitor at all. A
+/// resistance in the power or filter path above 1 Mohm (2e6 ohm) is refused in the filter
+/// as in the inrush limiter (common practice, no published source).
+#[test]
+fn a_quantity_has_the_same_limits_in_every_table() {
+    let warned: &[(&str, &str, &str)] = &[
+        ("[[part]]#3", "capacitance_nf", "2000"),
+        ("[emc.filter]", "y_capacitance_nf", "2000"),
+    ];
+    let mut failures = run_parallel(warned, |(s, k, v)| assert_warned(s, k, v));
+    let refused: &[(&str, &str, &str, &str)] = &[
+        ("[[part]]#3", "capacitance_nf", "2e9", "a capacitance in nanofarads"),
+        ("[emc.filter]", "y_capacitance_nf", "2e9", "a capacitance in nanofarads"),
+        ("[input.limiter]", "cold_ohm", "2e6", "a resistance in ohms, above 0"),
+        ("[emc.filter]", "damping_resistance_ohm", "2e6", "a resistance in ohms, above 0"),
+        ("[emc.filter]", "dm_inductor_resistance_ohm", "2e6", "a resistance in ohms, above 0"),
+    ];
+    failures.extend(run_parallel(refused, key_case));
+    report_failures("shared limit", warned.len() + refused.len(), &failures);
+}
+
 // ---------------------------------------------------------------------------------------
 // 3. Whole files: shape, encoding, the file system
 // ---------------------------------------------------------------------------------------

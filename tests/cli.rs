@@ -1256,3 +1256,75 @@ fn rules_lists_the_creepage_table_with_its_source() {
     assert_exit(&o, 0);
     assert!(stdout(&o).contains("iec60664-1.creepage"));
 }
+
+#[test]
+fn json_output_needs_no_template_so_a_broken_house_one_only_stops_markdown_and_html() {
+    // JSON is the report model itself; the templates are parsed only to write Markdown
+    // (and HTML from it). A house template is still named, with its SHA-256, in JSON.
+    let scratch = Scratch::new("json-no-template");
+    let template = "{% if %}\n";
+    std::fs::write(scratch.path("report.md.j2"), template).expect("written");
+    let dir = path_str(&scratch.0).to_string();
+    let o = run(&["check", CLASS2, "--templates", &dir, "--format", "json"]);
+    // The Class II example is ready for review (see the exit-status tests above).
+    assert_exit(&o, 0);
+    let v = json(&o);
+    assert_eq!(v["house"]["templates"][0]["file"], "report.md.j2");
+    assert_eq!(
+        v["house"]["templates"][0]["sha256"],
+        sha256_hex(template.as_bytes()).as_str()
+    );
+    for format in ["md", "html"] {
+        let o = run(&["check", CLASS2, "--templates", &dir, "--format", format]);
+        assert_exit(&o, 2);
+        assert!(stdout(&o).is_empty(), "{format}: {}", describe(&o));
+        assert!(
+            stderr(&o).contains("report.md.j2") && stderr(&o).contains("template error"),
+            "{format}: {}",
+            describe(&o)
+        );
+    }
+}
+
+#[test]
+fn every_command_that_reads_rules_takes_the_same_rules_flag() {
+    // `--rules` is declared once; a folder that does not exist is refused the same way by
+    // every command that takes it.
+    let missing = "no-such-house-rules-folder";
+    let commands: [&[&str]; 5] = [
+        &["check", CLASS2],
+        &["compare", CLASS2, CLASS2],
+        &["explain", CLASS2, "readiness"],
+        &["rules"],
+        &["spacing", "--working-rms-v", "230"],
+    ];
+    let mut messages = Vec::new();
+    for args in commands {
+        let mut argv = args.to_vec();
+        argv.extend(["--rules", missing]);
+        let o = run(&argv);
+        assert_exit(&o, 2);
+        assert!(stdout(&o).is_empty(), "{args:?}: {}", describe(&o));
+        assert!(stderr(&o).contains(missing), "{args:?}: {}", describe(&o));
+        messages.push(stderr(&o));
+    }
+    assert!(
+        messages.windows(2).all(|w| w[0] == w[1]),
+        "different messages: {messages:#?}"
+    );
+    let help = stdout(&run(&["spacing", "--help"]));
+    let check_help = stdout(&run(&["check", "--help"]));
+    let rules_help = |h: &str| {
+        h.lines()
+            .skip_while(|l| !l.trim_start().starts_with("--rules"))
+            .nth(1)
+            .unwrap_or("")
+            .trim()
+            .to_string()
+    };
+    assert!(
+        rules_help(&help).starts_with("A folder of house rule tables"),
+        "{help}"
+    );
+    assert_eq!(rules_help(&help), rules_help(&check_help));
+}

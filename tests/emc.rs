@@ -1541,3 +1541,45 @@ fn regression_emc_verdicts_compare_exact_corners_not_the_printed_ones() {
     assert_eq!(num(&emc["dm_corner_hz"]).floor(), num(&emc["filter"]["dm_corner_hz"]).floor());
     assert_eq!(emc["verdicts"]["dm_corner_hz"], "fail");
 }
+
+#[test]
+fn declared_corner_just_above_the_required_corner_is_flagged_not_rounded_onto_it() {
+    // Regression (issue 10.16): the declared filter's corner was rounded to whole hertz
+    // before the check compared it with the required corner (rounded down), so a corner
+    // 0.2 Hz above the one the noise allows printed as equal and raised nothing.
+    //
+    // One average reading at 1 MHz, class B: limit 46 dBuV (CISPR 32, 0.5-5 MHz AV,
+    // REFERENCES.md); margin 6 dB. The level is chosen so that the required attenuation A
+    // puts the highest second-order corner at f / 10^(A/40) = 70000.1 Hz (40 dB per decade,
+    // circuit theory). The declared stage: C = 1 uF and L = 1 / ((2 pi f0)^2 C) for
+    // f0 = 70000.3 Hz: 0.2 Hz above it, so 1 MHz is attenuated 40 log10(1e6 / 70000.3) dB,
+    // a hair under A.
+    let required_hz: f64 = 70000.1;
+    let attenuation = 40.0 * (1e6 / required_hz).log10();
+    let level = attenuation + 46.0 - 6.0;
+    let declared_hz: f64 = 70000.3;
+    let l_uh = 1.0 / ((2.0 * std::f64::consts::PI * declared_hz).powi(2) * 1e-6) * 1e6;
+    assert!(40.0 * (1e6 / declared_hz).log10() < attenuation);
+    let base =
+        std::fs::read_to_string(root().join(fixture("emc-declared-filter.toml"))).expect("fixture");
+    let head = &base[..base.find("[emc]").expect("[emc] table")];
+    let text = format!(
+        "{head}[emc]\nlimit_class = \"B\"\nmargin_db = 6\n\n[[emc.prescan]]\nfrequency_hz = 1000000\nlevel_dbuv = {level:?}\ndetector = \"average\"\n\n[emc.filter]\ndm_inductance_uh = {l_uh:?}\nx_capacitance_uf = 1.0\n"
+    );
+    let dir = std::env::temp_dir().join(format!("gapwarden-emc-corner-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp folder");
+    let path = dir.join("corner.toml");
+    std::fs::write(&path, text).expect("written");
+    let o = run(&["check", path.to_str().expect("UTF-8"), "--format", "json"]);
+    let _ = std::fs::remove_dir_all(&dir);
+    let report: Value = serde_json::from_slice(&o.stdout)
+        .unwrap_or_else(|e| panic!("stdout is not JSON: {e}\n{}", describe(&o)));
+    close(
+        num(&report["emc"]["filter"]["dm_corner_hz"]),
+        declared_hz,
+        1e-6,
+        "declared corner, exact",
+    );
+    assert!(num(&report["emc"]["dm_corner_hz"]) <= required_hz);
+    finding(&report, "emc.dm_corner_above_required");
+}

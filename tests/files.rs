@@ -762,3 +762,71 @@ fn designs_whose_reports_cannot_be_kept_apart_are_refused_naming_both() {
         run.stdout
     );
 }
+
+#[test]
+fn o_together_with_out_dir_is_refused_naming_both_flags_and_writes_nothing() {
+    // Regression: one design with both -o and --out-dir was refused with "with several
+    // designs, give --out-dir", which names the wrong cause (there is one design, and
+    // --out-dir was given).
+    let scratch = Scratch::new("o-and-out-dir");
+    scratch.write("p.toml", BASE);
+    let run = run_in(
+        &scratch.0,
+        &["check", "p.toml", "-o", "r.md", "--out-dir", "out"],
+    );
+    run.refused("-o");
+    assert!(
+        run.stderr.contains("--out-dir") && run.stderr.contains("not both"),
+        "{}",
+        run.describe()
+    );
+    assert!(!scratch.path("r.md").exists());
+    assert!(!scratch.path("out").exists());
+}
+
+#[test]
+fn o_dev_stdout_writes_through_the_descriptor_and_never_replaces_the_file_behind_it() {
+    // Regression: /dev/stdout was followed as a link to the file the shell had opened and
+    // that file was replaced by a rename, so `-o /dev/stdout >> log.md` destroyed the log;
+    // with stdout a pipe, the link led to "pipe:[N]" and the run was refused as "a link to
+    // nothing", though --help says pipes are written through.
+    let scratch = Scratch::new("dev-stdout");
+    scratch.write("p.toml", BASE);
+    let log = scratch.write("log.md", "PRECIOUS FIRST LINE\n");
+    let appending = std::fs::OpenOptions::new()
+        .append(true)
+        .open(&log)
+        .expect("log opened for appending");
+    let status = std::process::Command::new(env!("CARGO_BIN_EXE_gapwarden"))
+        .current_dir(&scratch.0)
+        .args(["check", "p.toml", "-o", "/dev/stdout"])
+        .stdin(std::process::Stdio::null())
+        .stdout(appending)
+        .status()
+        .expect("the binary runs");
+    assert_eq!(status.code(), Some(0));
+    let text = std::fs::read_to_string(&log).unwrap();
+    assert!(
+        text.starts_with("PRECIOUS FIRST LINE\n# Pre-review checklist"),
+        "the log was not appended to: {:?}",
+        text.chars().take(120).collect::<String>()
+    );
+    assert!(scratch.temp_files("").is_empty());
+    // Stdout a pipe (what Command::output gives): the report arrives through it.
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_gapwarden"))
+        .current_dir(&scratch.0)
+        .args(["check", "p.toml", "-o", "/dev/stdout"])
+        .stdin(std::process::Stdio::null())
+        .output()
+        .expect("the binary runs");
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert!(String::from_utf8_lossy(&o.stdout).starts_with("# Pre-review checklist"));
+    // Standard input is no place for a report.
+    let run = run_in(&scratch.0, &["check", "p.toml", "-o", "/dev/stdin"]);
+    run.refused("/dev/stdin");
+}

@@ -211,6 +211,44 @@ fn inrush_passes_within_the_bridge_and_limiter_ratings_and_fails_beyond() {
 }
 
 #[test]
+fn power_entry_checks_compare_exact_figures_not_six_significant_digits() {
+    // Regression (issue 10.16): the report model held power-entry figures rounded to six
+    // significant digits and the checks compared those. Circuit theory: the limiter absorbs
+    // E = C V_pk² / 2 = 47e-6 x (sqrt(2) x 264)² / 2 = 47e-6 x 139392 / 2 = 3.275712 J,
+    // which rounded to 3.27571 J sat below a 3.275711 J rating: no finding.
+    let energy = C_BULK_F * (SQRT_2 * V_MAX).powi(2) / 2.0;
+    assert!(
+        energy > 3.275711 && energy < 3.2757121,
+        "hand calculation {energy}"
+    );
+    let (o, r) = variant(
+        "energy-exact",
+        &[("energy_rating_j = 5", "energy_rating_j = 3.275711")],
+    );
+    assert_exit(&o, 1);
+    assert_eq!(
+        the(&r, "power_entry.limiter_energy_high")["severity"],
+        "blocking"
+    );
+    // The other way: I_pk = V_pk / 10.5 ohm = 35.5573696 A, just under a 35.55737 A
+    // rating, rounded up to 35.5574 A, above it: a shortfall that is not there.
+    let peak = SQRT_2 * V_MAX / 10.5;
+    assert!(
+        peak < 35.55737 && peak > 35.557369,
+        "hand calculation {peak}"
+    );
+    let (_, r) = variant(
+        "surge-exact",
+        &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")],
+    );
+    assert!(
+        !has(&r, "power_entry.inrush_over_bridge_surge"),
+        "{:#}",
+        r["findings"]
+    );
+}
+
+#[test]
 fn hot_restart_over_the_surge_rating_is_flagged_with_the_remedies() {
     // 373 A through the hot thermistor against a 50 A bridge: a warning with remedies.
     let (_, r) = check_json(BASE);
@@ -1257,7 +1295,8 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
     for part in [
         "35.5574 A",
         "I\\_pk = V\\_pk / (R\\_cold + R\\_s)",
-        "V\\_pk = 373.352 V",
+        // sqrt(2) x 264 V = 373.35238 V, printed to four decimals like every figure.
+        "V\\_pk = 373.3524 V",
         "R\\_cold = 10 Ω",
         "R\\_s = 0.5 Ω",
     ] {
@@ -1753,7 +1792,9 @@ fn regression_verdicts_compare_exact_figures_not_the_printed_ones() {
     let exact = SQRT_2 * 264.0 / 10.5;
     assert!(exact < 35.55737 && exact > 35.55736, "{exact}");
     let (_, r) = variant("surge-above", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")]);
-    assert_eq!(r["power_entry"]["inrush_peak_a"], 35.5574);
+    // The JSON keeps the exact figure (only the Markdown rounds it).
+    let json_peak = r["power_entry"]["inrush_peak_a"].as_f64().expect("a number");
+    assert!((json_peak - exact).abs() < 1e-9, "{json_peak}");
     assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "pass");
     assert!(!has(&r, "power_entry.inrush_over_bridge_surge"));
     let (_, r) = variant("surge-below", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55736")]);

@@ -159,6 +159,102 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
     assert_eq!(json(&o)["verdict"], "pass");
 }
 
+/// `spacing` with the flags of a passing reinforced barrier at 250 V (IEC 60664-1:2020
+/// Table F.1, 230 V OVC II: 2500 V; one step up 4000 V; Table F.2 Case A 3.0 mm; creepage
+/// 250 V PD2 printed wiring 1.0 mm x 2 = 2.0 mm, raised to the clearance: REFERENCES.md),
+/// laid out at 4 / 4 mm, plus `extra`, which must give the material (group I to IIIa: the
+/// printed-wiring column; IIIb would read the general column, 2.5 mm x 2 = 5.0 mm).
+fn spacing_reinforced_with(extra: &[&str]) -> Output {
+    let mut args = vec![
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--grade",
+        "reinforced",
+        "--printed-board",
+        "--clearance-mm",
+        "4",
+        "--creepage-mm",
+        "4",
+    ];
+    args.extend_from_slice(extra);
+    run(&args)
+}
+
+#[test]
+fn spacing_command_with_an_implausible_cti_says_check_input_not_pass() {
+    // Regression: --cti was only checked for being a number, so a CTI of 6000 (no material
+    // has one; IEC 60112 tests up to 600 V: material group I is CTI >= 600, REFERENCES.md)
+    // gave "pass" where the same cti in a project file is input.suspicious_value.
+    let o = spacing_reinforced_with(&["--cti", "6000"]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+    assert!(stderr(&o).contains("--cti"), "{}", stderr(&o));
+    // A plausible CTI passes, and 1e9 is out of range as in a project file (exit 2).
+    let o = spacing_reinforced_with(&["--cti", "600"]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "pass");
+    assert!(stderr(&o).is_empty(), "{}", stderr(&o));
+    assert_exit(&spacing_reinforced_with(&["--cti", "1e9"]), 2);
+}
+
+#[test]
+fn spacing_command_with_a_plausible_transient_is_not_check_input() {
+    // Regression: --transient-v was judged as a working voltage (implausible above 1000 V),
+    // so every real impulse voltage (2500 V is Table F.1's 230 V OVC II value, REFERENCES.md)
+    // turned a pass into "check-input" and exit 1. As a project file's transient_v it is
+    // plausible up to 12 kV (the top of the preferred impulse series).
+    let o = spacing_reinforced_with(&["--material-group", "IIIa", "--transient-v", "2500"]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "pass");
+    assert!(stderr(&o).is_empty(), "{}", stderr(&o));
+    // 20 kV is beyond the preferred series: implausible, never a pass.
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--transient-v",
+        "20000",
+        "--clearance-mm",
+        "90",
+        "--creepage-mm",
+        "90",
+    ]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+}
+
+#[test]
+fn spacing_command_with_an_implausible_altitude_says_check_input() {
+    // Regression: --altitude-m had no plausibility check; 1e-300 m reads as sea level and
+    // would pass, where altitude_m = 1e-300 in a project file is input.suspicious_value.
+    let o = spacing_reinforced_with(&["--material-group", "IIIa", "--altitude-m", "1e-300"]);
+    assert_exit(&o, 1);
+    assert_eq!(json(&o)["verdict"], "check-input");
+    assert!(stderr(&o).contains("--altitude-m"), "{}", stderr(&o));
+}
+
+#[test]
+fn spacing_command_warns_of_an_implausible_value_even_without_a_verdict() {
+    // Regression: with no distances declared (a pure look-up, verdict "incomplete") an
+    // implausible value left no trace at all: the figure looked as good as any other.
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--working-peak-v",
+        "5000",
+    ]);
+    assert_exit(&o, 0);
+    assert_eq!(json(&o)["verdict"], "incomplete");
+    let err = stderr(&o);
+    assert!(err.starts_with("warning:"), "{err}");
+    assert!(
+        err.contains("--working-peak-v") && err.contains("5000"),
+        "{err}"
+    );
+}
+
 // ---------------------------------------------------------------------------------------
 // 10.19: ready for review, and the exit status
 // ---------------------------------------------------------------------------------------
@@ -264,6 +360,99 @@ earthed = false
             .unwrap()
             .contains("no [[barrier]] is declared")
     );
+}
+
+#[test]
+fn allow_incomplete_does_not_let_a_design_without_barriers_exit_0() {
+    // Regression: --allow-incomplete relaxed "no barrier is declared" as if it were a
+    // barrier whose distances are not yet known, so a file with one circuit and nothing
+    // else passed a CI job run with the flag. The flag is for distances not yet declared.
+    let s = Scratch::new("no-barrier-allowed");
+    let p = s.write(
+        "p.toml",
+        r#"[design]
+name = "Nothing declared yet"
+protection_class = "II"
+
+[mains]
+nominal_v = 230
+
+[[circuit]]
+id = "primary"
+kind = "hazardous"
+accessible = false
+earthed = false
+"#,
+    );
+    let o = run(&["check", &p, "--allow-incomplete", "--format", "json"]);
+    assert_exit(&o, 1);
+    let r = json(&o);
+    assert_eq!(r["readiness"]["no_barrier"], true);
+    assert_eq!(r["readiness"]["state"], "not ready: incomplete");
+    // In a batch and in compare too.
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &p, CLASS2, "--out-dir", &out, "--allow-incomplete"]);
+    assert_exit(&o, 1);
+    assert_exit(&run(&["compare", CLASS2, &p, "--allow-incomplete"]), 1);
+    // A barrier whose distances are not yet declared is still relaxed.
+    assert_exit(&run(&["check", CLASS1, "--allow-incomplete"]), 0);
+}
+
+#[test]
+fn summaries_count_check_input_barriers_so_the_counts_add_up() {
+    // Regression: the batch summary and the compare summary had columns pass, fail and
+    // incomplete only, so a design with a barrier resting on an implausible distance
+    // (6000 mm: a unit slip) read "3 barriers: 2 pass, 0 fail, 0 incomplete".
+    let s = Scratch::new("summary-check-input");
+    let implausible = s.write(
+        "designs/implausible.toml",
+        &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 6000"),
+    );
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &implausible, "--out-dir", &out]);
+    assert_exit(&o, 1);
+    let summary = stdout(&o);
+    let header = summary
+        .lines()
+        .find(|l| l.starts_with("| design |"))
+        .expect("header");
+    let row = summary
+        .lines()
+        .find(|l| l.contains("| implausible.toml |"))
+        .expect("row");
+    let cells = |l: &str| -> Vec<String> {
+        l.trim_matches('|')
+            .split('|')
+            .map(|c| c.trim().to_string())
+            .collect()
+    };
+    let (h, r) = (cells(header), cells(row));
+    let at = |name: &str| {
+        let i = h.iter().position(|c| c == name).unwrap_or_else(|| {
+            panic!("no column {name}: {header}");
+        });
+        r[i].parse::<u32>().expect("a count")
+    };
+    // The Class II example has three barriers; one now rests on 6000 mm.
+    assert_eq!(at("check input"), 1, "{summary}");
+    assert_eq!(
+        at("pass") + at("fail") + at("incomplete") + at("check input"),
+        3,
+        "{summary}"
+    );
+    let md = stdout(&run(&["compare", CLASS2, &implausible]));
+    let new_row = md
+        .lines()
+        .find(|l| l.starts_with("| new |"))
+        .expect("the new revision's summary row");
+    let header = md
+        .lines()
+        .find(|l| l.starts_with("| | barriers |"))
+        .expect("the summary header");
+    assert!(header.contains("| check input |"), "{header}");
+    let (h, r) = (cells(header), cells(new_row));
+    let i = h.iter().position(|c| c == "check input").expect("column");
+    assert_eq!(r[i], "1", "{md}");
 }
 
 #[test]
@@ -456,6 +645,39 @@ fn house_rules_are_named_with_their_sha256_and_what_they_changed() {
 }
 
 #[test]
+fn a_house_file_replacing_a_shipped_file_of_checks_counts_the_checks_it_removes() {
+    // Regression: a house file with the id of the shipped barrier checks
+    // (`checks.barrier`, overrides = true) and no [[check]] at all silently dropped every
+    // shipped barrier check, and the first lines said "1 table replaced; 0 checks changed,
+    // 0 added": a reinforced barrier with a third of its clearance then read "Ready for
+    // review: yes" with nothing in the header to say the clearance check was gone.
+    let s = Scratch::new("house-removes-checks");
+    let house = s.write(
+        "house/barrier.toml",
+        "id = \"checks.barrier\"\noverrides = true\ntitle = \"No barrier checks\"\nsource = \"invented for the test\"\nprovenance = \"House rule, no published source.\"\n",
+    );
+    let folder = Path::new(&house).parent().unwrap().display().to_string();
+    // 1 mm across reinforced insulation on 230 V mains: 3.0 mm is required (Table F.1
+    // 2500 V, one step up 4000 V, Table F.2 Case A 3.0 mm; REFERENCES.md).
+    let short = s.write(
+        "short.toml",
+        &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 1.0"),
+    );
+    let o = run(&["check", &short, "--rules", &folder, "--format", "json"]);
+    let r = json(&o);
+    let h = &r["house"];
+    assert_eq!(barrier(&r, "pri-sec")["verdict"], "fail");
+    assert!(
+        h["checks_removed"].as_u64().unwrap_or(0) >= 2,
+        "at least the clearance and creepage shortfall checks are gone: {h}"
+    );
+    assert_eq!(h["tables_replaced"], 0, "{h}");
+    assert_eq!(h["rules"][0]["kind"], "checks", "{h}");
+    let first = head(&stdout(&run(&["check", &short, "--rules", &folder])), 8);
+    assert!(first.contains("removed**"), "{first}");
+}
+
+#[test]
 fn a_house_template_is_named_with_its_sha256_and_cannot_hide_readiness() {
     let s = Scratch::new("house-template");
     // A house template that prints almost nothing: the first lines are gapwarden's own.
@@ -629,6 +851,85 @@ fn bidi_overrides_and_zero_width_characters_are_made_visible() {
     assert!(stderr(&o).contains("<U+202E>"));
 }
 
+#[test]
+fn batch_summary_compare_and_rules_never_pass_control_or_bidi_characters() {
+    // Pins three more paths to a terminal: the batch summary (design name, file name),
+    // compare (design name) and `rules` (a house table's title, and a raw bidi character
+    // in a comment, which TOML allows).
+    let s = Scratch::new("controls-other-paths");
+    let text = example_with(
+        CLASS2,
+        "name = ",
+        r#"name = "Adapter \u001B]0;owned\u0007 \u202Eevil""#,
+    );
+    let p = s.write("designs/p\u{1b}[2J\u{202e}.toml", &text);
+    let out = s.0.join("out").display().to_string();
+    let o = run(&["check", &p, CLASS2, "--out-dir", &out]);
+    let summary = stdout(&o);
+    assert!(summary.contains("| ready |"), "{summary}");
+    assert!(!has_raw_control(&summary) && !has_raw_invisible(&summary));
+    assert!(summary.contains("p<U+001B>"), "{summary}");
+    assert!(!has_raw_control(&stderr(&o)) && !has_raw_invisible(&stderr(&o)));
+    let o = run(&["compare", CLASS2, &p]);
+    let md = stdout(&o);
+    assert!(md.contains("<U+202E>evil"), "{md}");
+    assert!(!has_raw_control(&md) && !has_raw_invisible(&md));
+    let house = s.write(
+        "house/extra.toml",
+        "# a comment with a raw \u{202e} override\nid = \"house.x\"\ntitle = \"T \\u001B[2J \\u202E\"\nsource = \"s\"\nprovenance = \"p\"\n",
+    );
+    let folder = Path::new(&house)
+        .parent()
+        .expect("folder")
+        .display()
+        .to_string();
+    for args in [
+        vec!["rules", "--rules", folder.as_str()],
+        vec!["rules", "house.x", "--rules", folder.as_str()],
+    ] {
+        let o = run(&args);
+        let text = format!("{}{}", stdout(&o), stderr(&o));
+        assert!(text.contains("house.x"), "{args:?}: {text}");
+        assert!(
+            !has_raw_control(&text) && !has_raw_invisible(&text),
+            "{args:?}: {text:?}"
+        );
+    }
+}
+
+#[test]
+fn a_newline_in_a_key_or_file_name_cannot_forge_a_line_on_stderr() {
+    // Regression: a quoted TOML key (or a file name) may hold a newline; printed as it was,
+    // an unknown key "x\nerror: none; all good" put a line of its own on the terminal that
+    // reads as another diagnostic. The key and the file name of a diagnostic stay on one
+    // line; the newline is shown as <U+000A>.
+    let s = Scratch::new("newline-key");
+    let bad = s.write(
+        "bad.toml",
+        &example_with(
+            CLASS2,
+            "[environment]",
+            "[environment]\n\"x\\nforged: all good\" = 1",
+        ),
+    );
+    let o = run(&["check", &bad]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(
+        !err.lines().any(|l| l.starts_with("forged")),
+        "a line was forged: {err}"
+    );
+    assert!(err.contains("x<U+000A>forged: all good"), "{err}");
+    let o = run(&["check", "no\nforged: such.toml"]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(
+        !err.lines().any(|l| l.starts_with("forged")),
+        "a line was forged: {err}"
+    );
+    assert!(err.contains("no<U+000A>forged"), "{err}");
+}
+
 // ---------------------------------------------------------------------------------------
 // 11.14: the EMC chart's place
 // ---------------------------------------------------------------------------------------
@@ -713,6 +1014,27 @@ fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
     assert_exit(&o, 2);
     let err = stderr(&o);
     assert!(err.contains("1000.00001 V is above the last row"), "{err}");
+}
+
+#[test]
+fn a_steady_state_peak_just_above_case_a_is_not_printed_as_its_last_row() {
+    // Regression: the Table F.8 refusal printed the peak rounded, "a steady-state peak of
+    // 50 kV is above the last row ... (0.04 to 50 kV)". IEC 60664-1:2020 Table F.8 Case A
+    // ends at 50 kV (REFERENCES.md, [N20]); reinforced reads it at 160 % of the peak (from
+    // memory of clause 5.1.6): 31250.00001 V x 1.6 = 50000.000016 V, just above.
+    let o = run(&[
+        "spacing",
+        "--working-rms-v",
+        "250",
+        "--working-peak-v",
+        "31250.00001",
+        "--grade",
+        "reinforced",
+    ]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    assert!(!err.contains("peak of 50 kV"), "{err}");
+    assert!(err.contains("peak of 50.0000000"), "{err}");
 }
 
 #[test]

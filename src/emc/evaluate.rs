@@ -81,12 +81,6 @@ pub struct InputProblem {
     pub message: String,
 }
 
-fn step(rule: Option<&str>, text: impl Into<String>) -> Step {
-    Step {
-        rule: rule.map(str::to_string),
-        text: text.into(),
-    }
-}
 
 fn cite(p: &Parameter) -> String {
     format!("{} ({})", show(p.value), p.cite())
@@ -225,7 +219,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     let noise_source: &'static str;
     if !spec.prescan.is_empty() {
         noise_source = "prescan";
-        d.noise.push(step(
+        d.noise.push(Step::new(
             None,
             format!(
                 "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
@@ -405,7 +399,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         }
     } else {
         noise_source = "none";
-        d.noise.push(step(
+        d.noise.push(Step::new(
             None,
             "No prescan points and no converter figures: the noise to beat is not known, so no attenuation or corner is computed.",
         ));
@@ -429,7 +423,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         && let Some(c) = candidates.get(i)
     {
         d.limit.push(c.limit_step.clone());
-        d.attenuation.push(step(
+        d.attenuation.push(Step::new(
             None,
             format!(
                 "Required attenuation at {} ({} {}, against the {} limit): level - limit + margin = {} - {} + {} = {} dB.",
@@ -445,7 +439,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
     }
     if let Some(c) = max_required {
-        d.attenuation.push(step(
+        d.attenuation.push(Step::new(
             None,
             format!(
                 "The largest attenuation needed at any of the {} point(s): {} dB at {} ({}).",
@@ -457,7 +451,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
     }
     if !candidates.is_empty() && overall.is_none() {
-        d.attenuation.push(step(
+        d.attenuation.push(Step::new(
             None,
             "Every point is already below its limit by the margin or more: no attenuation is needed and no corner is set.",
         ));
@@ -482,7 +476,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     let cm_corner_hz = cm2.map(|(_, f)| corner_down(f));
 
     // --- Touch current caps the Y capacitance --------------------------------------------
-    d.y_capacitance.push(step(
+    d.y_capacitance.push(Step::new(
         None,
         if inputs.mains_from_power_entry {
             format!(
@@ -504,7 +498,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             let max_y_f =
                 limit_a / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v);
             let max_y = round_down(max_y_f * 1e9, 0.001);
-            d.y_capacitance.push(step(
+            d.y_capacitance.push(Step::new(
                 Some(&t.rule),
                 format!(
                     "Touch-current limit {} mA for a {} part under {} ({}).",
@@ -514,7 +508,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                     t.source
                 ),
             ));
-            d.y_capacitance.push(step(
+            d.y_capacitance.push(Step::new(
                 None,
                 format!(
                     "Largest Y capacitance from one line: C = I / (2 pi f V) = {} mA / (2 pi x {} Hz x {} V) = {} nF (rounded down), at the highest mains voltage and frequency.",
@@ -527,7 +521,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             (max_y_f.is_finite() && max_y_f > 0.0).then_some(max_y)
         }
         None => {
-            d.y_capacitance.push(step(
+            d.y_capacitance.push(Step::new(
                 None,
                 format!(
                     "The touch-current rules give no limit for a {} part under {}: the Y capacitance is not capped.",
@@ -594,7 +588,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             Some(max) => format!("within the cap of {} nF", show(max)),
             None => "not capped".to_string(),
         };
-        d.y_capacitance.push(step(
+        d.y_capacitance.push(Step::new(
             None,
             format!(
                 "Declared Y capacitance per line {} nF, from {}: {verdict}.",
@@ -621,7 +615,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (Some(fc), Some(cx))
             if fc > 0.0 && !finite(inductance_for_corner_h(fc, cx * 1e-6) * 1e6) =>
         {
-            d.dm_corner.push(step(
+            d.dm_corner.push(Step::new(
                 None,
                 format!(
                     "The X capacitance from {x_from} is {} uF: no finite inductance puts the corner at {} Hz with it, so the inductance for the corner is not computed.",
@@ -634,7 +628,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (Some(fc), Some(cx)) if fc > 0.0 => {
             let l = inductance_for_corner_h(fc, cx * 1e-6) * 1e6;
             let l = round_up(l, 0.001);
-            d.dm_corner.push(step(
+            d.dm_corner.push(Step::new(
                 None,
                 format!(
                     "Inductance for that corner with the X capacitance from {x_from}: L = 1 / ((2 pi f)^2 C) = 1 / ((2 pi x {} Hz)^2 x {} uF) = {} uH.",
@@ -646,7 +640,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             Some(l)
         }
         (Some(_), None) => {
-            d.dm_corner.push(step(
+            d.dm_corner.push(Step::new(
                 None,
                 "No X capacitance (x_capacitance_uf in the emc filter table or the input table): the inductance for the corner is not computed.",
             ));
@@ -663,7 +657,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (Some(fc), Some(c), Some(_))
             if fc > 0.0 && !finite(inductance_for_corner_h(fc, c * 1e-9) * 1e3) =>
         {
-            d.cm_corner.push(step(
+            d.cm_corner.push(Step::new(
                 None,
                 format!(
                     "Common-mode capacitance {} nF: no finite choke puts the corner at {} Hz with it, so the choke for the corner is not computed.",
@@ -678,7 +672,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         {
             let l = inductance_for_corner_h(fc, cm_capacitance_used_nf * 1e-9) * 1e3;
             let l = round_up(l, 0.0001);
-            d.cm_corner.push(step(
+            d.cm_corner.push(Step::new(
                 None,
                 format!(
                     "Common-mode choke for that corner: L = 1 / ((2 pi f)^2 C_cm) = 1 / ((2 pi x {} Hz)^2 x {} nF) = {} mH, with C_cm = {} ({} arrangement; {}).",
@@ -702,7 +696,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             Some(l)
         }
         (Some(_), _, _) => {
-            d.cm_corner.push(step(
+            d.cm_corner.push(Step::new(
                 None,
                 "No Y capacitance known (none declared and no touch-current cap): the common-mode choke for the corner is not computed.",
             ));
@@ -791,7 +785,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         show(model.network_inductance_uh.value),
         model.network_inductance_uh.source
     );
-    d.filter.push(step(
+    d.filter.push(Step::new(
         Some(model_id),
         format!(
             "Insertion loss of a declared stage: IL = 20 log10 |V_without / V_with|, V_without = V_s Z_n / (Z_s + Z_n), V_with = V_s Z_p / (Z_s + Z_p) x Z_n / (Z_L + Z_n), Z_p = Z_shunt || (Z_L + Z_n); Z_shunt the X (or Y) capacitance with the damping branch, Z_L the inductance with its resistance, Z_s the source impedance ({} ohm differential, {} ohm common mode; {}), Z_n the measuring network (50 ohm || 50 uH per line). Near the resonance it can be negative: the stage amplifies.",
@@ -923,14 +917,14 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         None
     };
     if let Some(why) = &middlebrook_not_applied {
-        d.middlebrook.push(step(None, why.clone()));
+        d.middlebrook.push(Step::new(None, why.clone()));
     } else if inputs.converter.is_none() {
-        d.middlebrook.push(step(
+        d.middlebrook.push(Step::new(
             None,
             "Not judged: the project has no converter table, so the converter's power, efficiency and lowest bulk voltage are not known.",
         ));
     } else if middlebrook.is_none() {
-        d.middlebrook.push(step(
+        d.middlebrook.push(Step::new(
             None,
             "Not judged: no differential-mode stage is declared (dm_inductance_uh and x_capacitance_uf), and none is proposed (no X capacitance, or no corner needed).",
         ));
@@ -938,7 +932,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     if middlebrook.is_some() {
         d.middlebrook.insert(
             0,
-            step(
+            Step::new(
                 Some(model_id),
                 format!(
                     "Margin below the converter's input impedance: {}.",
@@ -966,7 +960,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             })
         })
         .collect();
-    d.limit.push(step(
+    d.limit.push(Step::new(
         Some(limits_id),
         format!(
             "Class {} limits: quasi-peak and average lines from {}; between a segment's ends the limit runs linearly in log f.",
@@ -1102,7 +1096,7 @@ fn corner_steps(
     if let Some((i, fc)) = second
         && let Some(c) = candidates.get(i)
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "{what} corner, second order (40 dB/decade): fc = f / 10^(A / 40) = {} Hz / 10^({} / 40) = {} Hz, set by the point at {}, the lowest corner of the {considered} point(s) considered.",
@@ -1116,7 +1110,7 @@ fn corner_steps(
     if let Some((i, fc)) = fourth
         && let Some(c) = candidates.get(i)
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "{what} corner, fourth order (two stages, 80 dB/decade): fc = f / 10^(A / 80) = {} Hz / 10^({} / 80) = {} Hz, set by the point at {}.",
@@ -1143,7 +1137,7 @@ fn noise_steps(
     cm: &[Harmonic],
 ) {
     let height = noise::pulse_height_a(c);
-    steps.push(step(
+    steps.push(Step::new(
         None,
         format!(
             "Waveform model: the converter draws a rectangular current pulse train from the bulk capacitor, height I_pk = P_out / (efficiency x V_bulk x D) = {} / ({} x {} x {}) = {} A, duty D = {}, at {} Hz; the switch node swings {} V with the same duty. Ramps, ringing and edges are left out (an upper bound at high frequencies).",
@@ -1157,12 +1151,12 @@ fn noise_steps(
             show(swing_v)
         ),
     ));
-    steps.push(step(
+    steps.push(Step::new(
         None,
         "Harmonic n of a rectangular pulse train of height A and duty D: peak 2 A |sin(n pi D)| / (n pi).",
     ));
     if let Some(bulk) = bulk {
-        steps.push(step(
+        steps.push(Step::new(
             Some(model_id),
             format!(
                 "Differential mode: harmonic current split between the bulk capacitor ({} uF, ESR {} ohm) and the measuring network, {} ohm per line, two lines in series: I_line = I_n |Z_C| / |Z_C + 2 R|; level = I_line x {} ohm, as rms in dBuV.",
@@ -1173,7 +1167,7 @@ fn noise_steps(
             ),
         ));
     }
-    steps.push(step(
+    steps.push(Step::new(
         Some(model_id),
         format!(
             "Common mode: the switch node is a trapezoid with rise and fall time t_r = {} ns: each rectangular harmonic is multiplied by |sin(x) / x|, x = pi n f t_r, so the spectrum falls 40 dB/decade above 1 / (pi t_r) = {} MHz. Harmonics at a null of the spectrum (sin(n pi D) or the trapezoid factor zero) carry no noise and are left out.",
@@ -1181,7 +1175,7 @@ fn noise_steps(
             show(round_to(1.0 / (std::f64::consts::PI * rise_ns * 1e-9) / 1e6, 0.001))
         ),
     ));
-    steps.push(step(
+    steps.push(Step::new(
         Some(model_id),
         format!(
             "Common mode: the swing drives {} pF to earth in series with {} ohm (both lines in parallel); level = current x {} ohm, as rms in dBuV.",
@@ -1191,7 +1185,7 @@ fn noise_steps(
         ),
     ));
     if let Some(h) = dm.first().or(cm.first()) {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "First switching harmonic in the band: n = {} at {} (switching frequencies are chosen so that the harmonics below it stay under the band; common practice, no published source).",
@@ -1201,7 +1195,7 @@ fn noise_steps(
         ));
     }
     if let Some(h) = dm.first() {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Differential mode at {}: {} mA peak from the pulse train, {} mA into the network, {} dBuV.",
@@ -1213,13 +1207,13 @@ fn noise_steps(
         ));
     }
     if dm.is_empty() && cm.is_empty() {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             "No switching harmonic falls inside the band: nothing to estimate.",
         ));
     }
     if let Some(h) = cm.first() {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Common mode at {}: {} V peak from the swing, {} mA, {} dBuV.",
@@ -1250,7 +1244,7 @@ fn declared_filter(
         && !(finite(lc_corner_hz(l * 1e-6, c * 1e-6))
             && finite(characteristic_impedance_ohm(l * 1e-6, c * 1e-6)))
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared differential-mode corner not computed: {} uH with {} uF gives no finite corner or R0.",
@@ -1261,7 +1255,7 @@ fn declared_filter(
     } else if let (Some(l), Some(c)) = (f.dm_inductance_uh, f.x_capacitance_uf) {
         let fc = lc_corner_hz(l * 1e-6, c * 1e-6);
         let z = characteristic_impedance_ohm(l * 1e-6, c * 1e-6);
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared differential-mode corner: f0 = 1 / (2 pi sqrt(L C)) = 1 / (2 pi sqrt({} uH x {} uF)) = {} Hz; R0 = sqrt(L / C) = {} ohm.",
@@ -1271,7 +1265,9 @@ fn declared_filter(
                 show(round_to(z, 0.001))
             ),
         ));
-        dm_corner_hz = Some(hz_round(fc));
+        // Exact: the check compares it with the required corner (itself rounded down, to
+        // the stricter side); rounding this one could put it on that corner from above.
+        dm_corner_hz = Some(fc);
         r0 = Some(z);
     }
     let (mut ratio, mut optimum) = (None, None);
@@ -1280,7 +1276,7 @@ fn declared_filter(
             && finite(optimum_parallel_damping(z, cd / c).0)
             && finite(optimum_parallel_damping(z, cd / c).1))
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared damping ratio not computed: Cd = {} uF over C = {} uF gives no finite ratio or optimum Rd.",
@@ -1291,7 +1287,7 @@ fn declared_filter(
     } else if let (Some((_, cd)), Some(c), Some(z)) = (f.damping, f.x_capacitance_uf, r0) {
         let n = cd / c;
         let (rd, peak) = optimum_parallel_damping(z, n);
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared damping ratio n = Cd / C = {} / {} = {}; the optimum Rd for it is R0 sqrt((2+n)(4+3n) / (2 n^2 (4+n))) = {} ohm, with a peak output impedance of R0 sqrt(2 (2+n)) / n = {} ohm (Erickson and Maksimovic, 2nd ed., ch. 10; from memory).",
@@ -1311,7 +1307,7 @@ fn declared_filter(
     if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_exact_nf)
         && !finite(lc_corner_hz(l * 1e-3, c * 1e-9))
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared common-mode corner not computed: {} mH with {} nF gives no finite corner.",
@@ -1321,7 +1317,7 @@ fn declared_filter(
         ));
     } else if let (Some(l), Some(c)) = (f.cm_inductance_mh, cm_capacitance_exact_nf) {
         let fc = lc_corner_hz(l * 1e-3, c * 1e-9);
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared common-mode corner: f0 = 1 / (2 pi sqrt(L C_cm)) = 1 / (2 pi sqrt({} mH x {} nF)) = {} Hz.",
@@ -1330,7 +1326,8 @@ fn declared_filter(
                 show(hz_round(fc))
             ),
         ));
-        cm_corner_hz = Some(hz_round(fc));
+        // Exact, as the differential-mode corner above.
+        cm_corner_hz = Some(fc);
     }
     Some(DeclaredFilter {
         dm_inductance_uh: f.dm_inductance_uh,
@@ -1397,7 +1394,7 @@ pub fn middlebrook(
         .all(finite)
         || allowed <= 0.0
     {
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Filter stability against the converter not checked: the {which} stage ({} uH, {} uF) and the converter figures give no finite corner, R0 or converter input impedance.",
@@ -1407,7 +1404,7 @@ pub fn middlebrook(
         ));
         return None;
     }
-    steps.push(step(
+    steps.push(Step::new(
         None,
         format!(
             "Converter input impedance at the lowest line voltage (behind its PFC stage): |Z_in| = V^2 / P = {}^2 / ({} / {}) = {} ohm (a constant-power load looks like -V^2/P; Middlebrook's criterion asks the filter's output impedance to stay well below it).",
@@ -1417,7 +1414,7 @@ pub fn middlebrook(
             show(round_to(z_in, 0.001))
         ),
     ));
-    steps.push(step(
+    steps.push(Step::new(
         None,
         format!(
             "Allowed peak of the filter's output impedance: {} ohm / 10^({} / 20) = {} ohm.",
@@ -1426,7 +1423,7 @@ pub fn middlebrook(
             show(round_to(allowed, 0.001))
         ),
     ));
-    steps.push(step(
+    steps.push(Step::new(
         None,
         format!(
             "The {which} stage: L = {} uH{}, C = {} uF; f0 = {} Hz, R0 = sqrt(L / C) = {} ohm{}.",
@@ -1451,7 +1448,7 @@ pub fn middlebrook(
     ));
     let peak = peak_output_impedance(&stage);
     match peak {
-        Some((z, at)) => steps.push(step(
+        Some((z, at)) => steps.push(Step::new(
             None,
             format!(
                 "Peak output impedance |(R_L + j w L) || 1/(j w C){}| found by a frequency sweep: {} ohm at {} Hz.",
@@ -1460,7 +1457,7 @@ pub fn middlebrook(
                 show(hz_round(at))
             ),
         )),
-        None => steps.push(step(
+        None => steps.push(Step::new(
             None,
             "Peak output impedance unbounded: a lossless, undamped LC stage resonates without limit at f0.",
         )),
@@ -1470,7 +1467,7 @@ pub fn middlebrook(
         let n = ratio_for_peak(r0, allowed);
         let (rd, peak) = optimum_parallel_damping(r0, n);
         if ![n, n * c_uf, rd, peak].into_iter().all(finite) {
-            steps.push(step(
+            steps.push(Step::new(
                 None,
                 format!(
                     "Parallel R-C damping not proposed: for an allowed peak of {} ohm against R0 = {} ohm the ratio n = Cd / C, Cd or Rd is not a finite figure.",
@@ -1480,7 +1477,7 @@ pub fn middlebrook(
             ));
             return None;
         }
-        steps.push(step(
+        steps.push(Step::new(
             None,
             format!(
                 "Proposed parallel R-C damping: the smallest n = Cd / C whose optimum damping meets the allowed peak solves R0 sqrt(2 (2+n)) / n = {} ohm: n = {}; Cd = n C = {} uF; Rd = R0 sqrt((2+n)(4+3n) / (2 n^2 (4+n))) = {} ohm; peak {} ohm (Erickson and Maksimovic, Fundamentals of Power Electronics, 2nd ed., ch. 10; from memory).",

@@ -4,7 +4,11 @@
 
 use super::rules::LimitClass;
 use super::{EmcSpec, FilterSpec, PrescanDetector, PrescanPoint, YArrangement};
-use crate::toml_read::{NumberRule, Reader, TableRef};
+use crate::input_limits::{
+    CAPACITANCE_NF, CAPACITANCE_PF, CAPACITANCE_UF, INDUCTANCE_MH, INDUCTANCE_UH, LEVEL_DBUV,
+    MARGIN_DB, PRESCAN_FREQUENCY_HZ, RESISTANCE_OHM, RISE_NS, SWING_V,
+};
+use crate::toml_read::{Reader, TableRef};
 
 const EMC_KEYS: &[&str] = &[
     "limit_class",
@@ -27,118 +31,6 @@ const FILTER_KEYS: &[&str] = &[
     "y_arrangement",
 ];
 
-const MARGIN_DB: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 60.0,
-    plausible_min: 0.0,
-    plausible_max: 20.0,
-    integer: false,
-    expected: "a margin in dB below the limit, 0 to 60",
-};
-
-const FREQUENCY_HZ: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e12,
-    plausible_min: 0.0,
-    plausible_max: 30e6,
-    integer: false,
-    expected: "a frequency in hertz, above 0 (the limits cover 150000 to 30000000)",
-};
-
-const LEVEL_DBUV: NumberRule = NumberRule {
-    min: -100.0,
-    min_inclusive: true,
-    max: 250.0,
-    plausible_min: 0.0,
-    plausible_max: 150.0,
-    integer: false,
-    expected: "a level in dBuV, -100 to 250",
-};
-
-const INDUCTANCE_UH: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e9,
-    plausible_min: 0.0,
-    plausible_max: 100_000.0,
-    integer: false,
-    expected: "an inductance in microhenries, above 0",
-};
-
-const INDUCTANCE_MH: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e6,
-    plausible_min: 0.0,
-    plausible_max: 200.0,
-    integer: false,
-    expected: "an inductance in millihenries, above 0",
-};
-
-/// Below 1 pF no filter capacitor is meant; the corner, R0 and the damping ratio divide
-/// by it.
-const CAPACITANCE_UF: NumberRule = NumberRule {
-    min: 1e-6,
-    min_inclusive: true,
-    max: 1e6,
-    plausible_min: 0.0001,
-    plausible_max: 100.0,
-    integer: false,
-    expected: "a capacitance in microfarads, above 0 (at least 0.000001, 1 pF)",
-};
-
-const CAPACITANCE_NF: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e9,
-    plausible_min: 0.001,
-    plausible_max: 1_000.0,
-    integer: false,
-    expected: "a capacitance in nanofarads, above 0",
-};
-
-const CAPACITANCE_PF: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e9,
-    plausible_min: 0.0,
-    plausible_max: 10_000.0,
-    integer: false,
-    expected: "a capacitance in picofarads, above 0",
-};
-
-const RESISTANCE_OHM: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e9,
-    plausible_min: 0.0,
-    plausible_max: 10_000.0,
-    integer: false,
-    expected: "a resistance in ohms, above 0",
-};
-
-const RISE_NS: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e6,
-    plausible_min: 0.1,
-    plausible_max: 10_000.0,
-    integer: false,
-    expected: "a rise time in nanoseconds, above 0 (20 for 20 ns)",
-};
-
-const SWING_V: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 100_000.0,
-    plausible_min: 0.0,
-    plausible_max: 2_000.0,
-    integer: false,
-    expected: "a voltage swing in volts, above 0 and at most 100000",
-};
-
 /// Reads `[emc]`; `None` when absent or unusable (the problem is then reported).
 pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
     let t = r.table(root, "emc", EMC_KEYS)?;
@@ -159,7 +51,7 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
 
     let mut prescan = Vec::new();
     for p in r.table_array(&t, "prescan", PRESCAN_KEYS) {
-        let frequency = r.required_number(&p, "frequency_hz", &FREQUENCY_HZ);
+        let frequency = r.required_number(&p, "frequency_hz", &PRESCAN_FREQUENCY_HZ);
         let level = r.required_number(&p, "level_dbuv", &LEVEL_DBUV);
         let detector = r.required_word(&p, "detector", &PrescanDetector::WORDS);
         let (Some(frequency), Some(level), Some(detector)) = (frequency, level, detector) else {

@@ -9,7 +9,7 @@ use super::*;
 use crate::diag::{Diagnostic, suggest};
 use crate::project::{CircuitKind, Grade, PartKind, ProtectionClass};
 use crate::emc::YArrangement;
-use crate::rules::TestVoltages;
+use crate::rules::{EPS, TestVoltages};
 
 const PE: &str = "power_entry";
 
@@ -22,12 +22,6 @@ fn input(symbol: &str, value: f64, unit: &str, from: impl Into<String>) -> Input
     }
 }
 
-fn step(rule: Option<&str>, text: impl Into<String>) -> Step {
-    Step {
-        rule: rule.map(str::to_string),
-        text: text.into(),
-    }
-}
 
 fn sig(x: Option<f64>) -> Option<f64> {
     x.filter(|v| v.is_finite()).map(significant)
@@ -76,7 +70,7 @@ impl Figure {
     fn done(self, inputs: Vec<Input>, judged_against: Option<String>, steps: Vec<Step>) -> Derived {
         let mut steps = steps;
         if self.value.is_some_and(|v| !v.is_finite()) {
-            steps.push(step(
+            steps.push(Step::new(
                 None,
                 "Not computed: with these inputs the formula gives no finite figure (a divisor is zero or too small, or a value overflows).",
             ));
@@ -600,7 +594,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         v
     };
     let lrc_step = |x: Option<super::inrush::LrcInrush>, r: f64, resistive: f64| match x {
-        Some(x) => step(
+        Some(x) => Step::new(
             None,
             format!(
                 "L-R-C: sqrt(L / C) = {} Ω, damping ratio R / (2 sqrt(L / C)) = {}; the current peaks {} µs after switch-on at {} A (V_pk / sqrt(L / C) = {} A bounds it for a light damping; V_pk / R = {} A is the R-C figure without L); the bulk capacitor reaches {} V{}.",
@@ -614,7 +608,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
                 if x.converged { "" } else { " (the step halvings did not agree within 1e-5: an estimate)" }
             ),
         ),
-        None => step(None, "R-C: no filter inductance is declared in the charging path (emc.filter.dm_inductance_uh)."),
+        None => Step::new(None, "R-C: no filter inductance is declared in the charging path (emc.filter.dm_inductance_uh)."),
     };
     let surge_fails = |peak: f64| spec.bridge_surge_a.map(|a| peak > a);
     let inrush_keys: &[&str] = &[
@@ -639,7 +633,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             .done(
                 vec![input("V_max", b.mains.max_v, "V", "highest mains voltage")],
                 None,
-                vec![step(None, "Common practice: 230 V rms has a 325 V peak; switch-on at the crest is the worst case.")],
+                vec![Step::new(None, "Common practice: 230 V rms has a 325 V peak; switch-on at the crest is the worst case.")],
             ),
         Figure::new(
             "inrush_peak_a",
@@ -658,9 +652,9 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             [vec![peak_input(b)], cold_in("at switch-on"), vec![r_s_in.clone()], l_in(), vec![c_in.clone()]].concat(),
             surge_judge.clone(),
             if lrc_used {
-                vec![step(None, theory), lrc_step(cold_lrc, r_cold, resistive_peak)]
+                vec![Step::new(None, theory), lrc_step(cold_lrc, r_cold, resistive_peak)]
             } else {
-                vec![step(None, format!("{theory}; the peak is at t = 0."))]
+                vec![Step::new(None, format!("{theory}; the peak is at t = 0."))]
             },
         ),
         Figure::new("inrush_i2t_a2s", "Inrush pulse I²t", Some(i2t), "A²s")
@@ -673,7 +667,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
                 [vec![peak_input(b), c_in.clone()], cold_in("at switch-on"), vec![r_s_in.clone()], l_in()]
                     .concat(),
                 Some("the fuse's melting I²t divided by the pulse factor (judged in the fuse section)".to_string()),
-                vec![step(None, if lrc_used { theory.to_string() } else { format!("{theory}; the integral of i² from 0 to infinity is V_pk² C / (2 R).") })],
+                vec![Step::new(None, if lrc_used { theory.to_string() } else { format!("{theory}; the integral of i² from 0 to infinity is V_pk² C / (2 R).") })],
             ),
         Figure::new(
             "inrush_time_constant_ms",
@@ -685,7 +679,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         .done(
             [cold_in("at switch-on"), vec![r_s_in.clone(), c_in.clone()]].concat(),
             None,
-            vec![step(None, "A bridge's surge rating is given for a 8.3 ms or 10 ms half-sine: a pulse much shorter than that is judged conservatively by its peak.")],
+            vec![Step::new(None, "A bridge's surge rating is given for a 8.3 ms or 10 ms half-sine: a pulse much shorter than that is judged conservatively by its peak.")],
         ),
         Figure::new(
             "limiter_energy_j",
@@ -704,7 +698,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             b.limiter
                 .energy_rating_j
                 .map(|e| format!("the limiter's energy rating input.limiter.energy_rating_j = {} J", show(e))),
-            vec![step(
+            vec![Step::new(
                 None,
                 if has_limiter {
                     "Circuit theory: charging C through any resistance dissipates C V_pk² / 2 in it; all of it is charged to the limiter (the convention of thermistor energy ratings), which is conservative when R_s takes a share."
@@ -730,7 +724,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             [vec![peak_input(b)], hot_in(), vec![r_s_in.clone()], l_in(), vec![c_in.clone()]].concat(),
             surge_judge,
             {
-                let mut v = vec![step(None, "A brief mains interruption lets the bulk capacitor discharge through the load before the limiter cools; the next crest charges it through the hot resistance (from 0 V: the bulk capacitor may have discharged fully; conservative).")];
+                let mut v = vec![Step::new(None, "A brief mains interruption lets the bulk capacitor discharge through the load before the limiter cools; the next crest charges it through the hot resistance (from 0 V: the bulk capacitor may have discharged fully; conservative).")];
                 if lrc_used {
                     v.push(lrc_step(hot_lrc, r_hot, resistive_hot_peak));
                 }
@@ -746,7 +740,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             .done(
                 [vec![peak_input(b), c_in.clone()], hot_in(), vec![r_s_in], l_in()].concat(),
                 Some("the fuse's melting I²t (a single pulse; judged in the fuse section)".to_string()),
-                vec![step(None, theory)],
+                vec![Step::new(None, theory)],
             ),
         Figure::new(
             "bulk_peak_v",
@@ -774,7 +768,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
                 Some(r) => format!("the bulk capacitor's rated voltage input.bulk_rated_v = {} V", show(r)),
                 None => "the bulk capacitor's rated voltage (input.bulk_rated_v not declared: not judged)".to_string(),
             }),
-            vec![step(
+            vec![Step::new(
                 None,
                 if lrc_used {
                     format!(
@@ -941,7 +935,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
                         input("P", load_w, "W", "converter.output_w / converter.efficiency"),
                     ],
                     None,
-                    vec![step(
+                    vec![Step::new(
                         None,
                         if value.is_some() {
                             "Energy balance at constant power: C (V1² - V2²) / 2 = P t; a mains drop-out at the valley is the worst case."
@@ -1022,7 +1016,7 @@ fn point_figures(
         ]
     };
     let sim_step = || {
-        vec![step(
+        vec![Step::new(
             None,
             format!(
                 "Steady state after {} half-cycles ({}).",
@@ -1059,7 +1053,7 @@ fn point_figures(
         .done(
             sim_inputs(),
             None,
-            vec![step(
+            vec![Step::new(
                 None,
                 format!(
                     "Conduction {} ms per half-cycle.",
@@ -1077,7 +1071,7 @@ fn point_figures(
         .done(
             sim_inputs(),
             None,
-            vec![step(
+            vec![Step::new(
                 None,
                 format!(
                     "Real input power {} W (load plus resistance and bridge losses).",
@@ -1109,7 +1103,7 @@ fn point_figures(
         .done(
             sim_inputs(),
             None,
-            vec![step(
+            vec![Step::new(
                 None,
                 if ripple_bound.is_finite() {
                     format!(
@@ -1139,7 +1133,7 @@ fn point_figures(
                     input("R_hot", r_hot_lim, "Ω", "limiter resistance in operation"),
                 ],
                 None,
-                vec![step(None, if i_avg.is_finite() {
+                vec![Step::new(None, if i_avg.is_finite() {
                     format!("For scale: the average current into the bulk capacitor is about P / V_pk = {} A.", show(i_avg))
                 } else {
                     "For scale: the average current into the bulk capacitor, P / V_pk, is not computed (the source peak is too small to divide by).".to_string()
@@ -1270,7 +1264,7 @@ fn fuse(
                 Some(i) => format!("the input RMS current {} A (the higher of the two operating points)", show(i)),
                 None => "the input RMS current (not computed: no converter)".to_string(),
             }),
-            vec![step(rule, format!("Derating {}: {} (at 25 C ambient; derate further for a hotter one).", show(derating), rules.derating.source))],
+            vec![Step::new(rule, format!("Derating {}: {} (at 25 C ambient; derate further for a hotter one).", show(derating), rules.derating.source))],
         ),
         Figure::new(
             "fuse_required_i2t_a2s",
@@ -1294,7 +1288,7 @@ fn fuse(
             .concat(),
             f.melting_i2t_a2s
                 .map(|m| format!("the fuse's melting I²t input.fuse.melting_i2t_a2s = {} A²s", show(m))),
-            vec![step(
+            vec![Step::new(
                 rule,
                 match (pulse, f.speed) {
                     (Some(p), _) => format!("Pulse factor {} for repeated switch-ons: {}.", show(p.factor), p.source),
@@ -1328,7 +1322,7 @@ fn fuse(
             if prospective_declared {
                 Vec::new()
             } else {
-                vec![step(rule, rules.default_prospective_fault_a.source.clone())]
+                vec![Step::new(rule, rules.default_prospective_fault_a.source.clone())]
             },
         ),
     ];
@@ -1356,7 +1350,7 @@ fn fuse(
             )],
             f.rated_v
                 .map(|v| format!("the fuse's rated voltage input.fuse.rated_v = {} V", show(v))),
-            vec![step(
+            vec![Step::new(
                 None,
                 format!(
                     "A fuse's voltage rating is compared with the equipment's highest rated voltage (the top of its marked range), not with the tolerance above it (common practice, no published source); the highest mains voltage with tolerance, {} V, is {}.",
@@ -1523,7 +1517,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
             connection.as_str()
         ),
     };
-    let mut tau_steps = vec![step(
+    let mut tau_steps = vec![Step::new(
         rule,
         format!(
             "Applies above {} µF across the mains ({}): {}.",
@@ -1545,12 +1539,12 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         ),
     )];
     if let Some(x) = exempt {
-        tau_steps.push(step(rule, format!("connection = \"{}\": {} ({}).", connection.as_str(), x.reason, x.source)));
+        tau_steps.push(Step::new(rule, format!("connection = \"{}\": {} ({}).", connection.as_str(), x.reason, x.source)));
     }
     if spec.bleeder_ohm.is_none() {
-        tau_steps.push(step(None, "No bleeder is declared (input.bleeder_ohm): nothing discharges the capacitance across the line but the converter, which is not credited."));
+        tau_steps.push(Step::new(None, "No bleeder is declared (input.bleeder_ohm): nothing discharges the capacitance across the line but the converter, which is not credited."));
     } else {
-        tau_steps.push(step(None, "Only the bleeder is counted; discharge through the rectifier and converter is not credited."));
+        tau_steps.push(Step::new(None, "Only the bleeder is counted; discharge through the rectifier and converter is not credited."));
     }
     let keys: &[&str] = &[
         "input.x_capacitance_uf",
@@ -1589,7 +1583,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
                 .residual_limit_v
                 .as_ref()
                 .map(|l| format!("{} V ({})", show(l.value), l.source)),
-            vec![step(
+            vec![Step::new(
                 rule,
                 format!(
                     "{}; no limit on this voltage is shipped, a house rule may add one.{}",
@@ -1759,13 +1753,13 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
         }
         let mut steps = Vec::new();
         if !caps.is_empty() {
-            steps.push(step(None, touch_model(arrangement, caps.len(), counted_nf)));
+            steps.push(Step::new(None, touch_model(arrangement, caps.len(), counted_nf)));
         }
         if caps.is_empty() {
-            steps.push(step(None, "No Y-capacitor bridges a barrier from a mains or hazardous circuit to this circuit: no touch current through Y-capacitors."));
+            steps.push(Step::new(None, "No Y-capacitor bridges a barrier from a mains or hazardous circuit to this circuit: no touch current through Y-capacitors."));
         }
         for c in &caps {
-            steps.push(step(
+            steps.push(Step::new(
                 None,
                 match c.current_ma {
                     Some(i) => format!("{} across {}: {} mA.", c.part, c.barrier, show(i)),
@@ -1776,7 +1770,7 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
                 },
             ));
         }
-        steps.push(step(
+        steps.push(Step::new(
             Some(TouchRules::ID),
             match limit {
                 Some(l) => format!(
@@ -1876,16 +1870,14 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
     let mut out = Vec::new();
     let mut figures = Vec::new();
     for barrier in &b.project.barriers {
-        let peak = barrier
-            .working_peak_v
-            .unwrap_or(SQRT_2 * barrier.working_rms_v);
+        let peak = barrier.peak_v();
         let peak_from = if barrier.working_peak_v.is_some() {
             "working_peak_v".to_string()
         } else {
             format!("√2 × working_rms_v {} V", show(barrier.working_rms_v))
         };
         let required = barrier.grade != Grade::Functional;
-        let row = table.rows.iter().find(|r| r.up_to_peak_v >= peak - 1e-9);
+        let row = table.rows.iter().find(|r| r.up_to_peak_v >= peak - EPS);
         let reinforced = matches!(barrier.grade, Grade::Reinforced | Grade::Double);
         let value = match (required, row) {
             (true, Some(r)) => Some(if reinforced {
@@ -1957,7 +1949,7 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             .done(
                 vec![input("V_work,pk", peak, "V", peak_from)],
                 None,
-                vec![step(rule, text)],
+                vec![Step::new(rule, text)],
             );
         figure.not_computed_because = if !required {
             Some("no electric strength test applies to functional insulation".to_string())

@@ -15,6 +15,7 @@ use crate::diag::{Problems, Source};
 use crate::project::Project;
 use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
+use crate::text::{Digits, number};
 use crate::toml_read::{Located, Reader, TableRef};
 
 pub(crate) use figures::rests_on_suspicious;
@@ -563,7 +564,7 @@ fn explain_section(out: &mut String, s: &Section) {
         out.push_str(&format!(
             "  {} = {} {} ({})\n",
             i.symbol,
-            show_value(i.value),
+            number(i.value, Digits::SixSignificant),
             i.unit,
             i.from
         ));
@@ -580,7 +581,7 @@ fn explain_section(out: &mut String, s: &Section) {
 fn explain_figure(out: &mut String, f: &Derived) {
     let value = f
         .value
-        .map(|v| format!("{} {}", show_value(v), f.unit))
+        .map(|v| format!("{} {}", number(v, Digits::SixSignificant), f.unit))
         .unwrap_or_else(|| match &f.not_computed_because {
             Some(why) => format!("not computed: {why}"),
             None => "not computed".to_string(),
@@ -591,7 +592,7 @@ fn explain_figure(out: &mut String, f: &Derived) {
         out.push_str(&format!(
             "  {} = {} {} ({})\n",
             i.symbol,
-            show_value(i.value),
+            number(i.value, Digits::SixSignificant),
             i.unit,
             i.from
         ));
@@ -620,31 +621,12 @@ fn explain_figure(out: &mut String, f: &Derived) {
     }
 }
 
-/// A value for text: six significant digits, no trailing zeros.
-pub fn show_value(x: f64) -> String {
-    if !x.is_finite() {
-        return x.to_string();
-    }
-    let x = significant(x);
-    if x != 0.0 && x.abs() < 1e-3 {
-        let s = format!("{x:.5e}");
-        let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
-        let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
-        return format!("{mantissa}e{exponent}");
-    }
-    if x.abs() >= 1e4 {
-        return format!("{}", x.round());
-    }
-    show(x)
+/// A figure as the report model keeps it: exactly as computed. The checks in
+/// `rules/checks/power_entry.toml` compare these fields, and a verdict compares exact
+/// values, never a rounded figure (a limiter energy of 3.275712 J against a 3.275711 J
+/// rating is over it, though both print as 3.27571); text rounds with
+/// `text::number(x, Digits::SixSignificant)`.
+pub fn significant(x: f64) -> f64 {
+    x
 }
 
-/// Rounds to six significant digits, for the report (the engine keeps full precision).
-pub fn significant(x: f64) -> f64 {
-    if !x.is_finite() || x == 0.0 {
-        return x;
-    }
-    let magnitude = x.abs().log10().floor() as i32;
-    let scale = 10f64.powi(5 - magnitude);
-    let rounded = (x * scale).round() / scale;
-    if rounded.is_finite() { rounded } else { x }
-}

@@ -3,6 +3,11 @@
 
 use super::tables::{CONNECTIONS, FUSE_SPEEDS};
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
+use crate::input_limits::{
+    BLEEDER_OHM, BREAKING_A, BULK_UF, CURRENT_A, DROP_V, EFFICIENCY, ENERGY_J, FUSE_A, I2T_A2S,
+    MAINS_FREQUENCY_HZ, MAX_DUTY, MIN_BULK_V, OUTPUT_W, RATED_V, RESISTANCE_OHM, SERIES_OHM,
+    SWITCHING_HZ, X_UF,
+};
 use crate::toml_read::{Located, NumberRule, Reader, TableRef};
 
 const INPUT_KEYS: &[&str] = &[
@@ -41,112 +46,6 @@ const CONVERTER_KEYS: &[&str] = &[
     "pfc_stage",
 ];
 
-const fn above_zero(max: f64, plausible_max: f64, expected: &'static str) -> NumberRule {
-    NumberRule {
-        min: 0.0,
-        min_inclusive: false,
-        max,
-        plausible_min: 0.0,
-        plausible_max,
-        integer: false,
-        expected,
-    }
-}
-
-const BULK_UF: NumberRule = NumberRule {
-    // Below 0.1 uF a bulk capacitor was most likely written in farads.
-    plausible_min: 0.1,
-    ..above_zero(
-        1e6,
-        10_000.0,
-        "a capacitance in microfarads, above 0 (47 for 47 uF)",
-    )
-};
-const SERIES_OHM: NumberRule = NumberRule {
-    min: 1e-6,
-    min_inclusive: true,
-    max: 1e6,
-    plausible_min: 0.0,
-    plausible_max: 100.0,
-    integer: false,
-    expected: "a resistance in ohms, at least 0.000001 (every charging path has some: line, bridge, ESR)",
-};
-const CURRENT_A: NumberRule = above_zero(1e6, 10_000.0, "a current in amperes, above 0");
-const DROP_V: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 100.0,
-    plausible_min: 0.0,
-    plausible_max: 5.0,
-    integer: false,
-    expected: "the total forward drop of two bridge diodes in volts, 0 or more",
-};
-const X_UF: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 10_000.0,
-    plausible_min: 0.0001,
-    plausible_max: 10.0,
-    integer: false,
-    expected: "a capacitance in microfarads, 0 or more (0.47 for 470 nF)",
-};
-const BLEEDER_OHM: NumberRule = above_zero(1e13, 1e9, "a resistance in ohms, above 0");
-const FREQUENCY_HZ: NumberRule = above_zero(
-    1e6,
-    400.0,
-    "a mains frequency in hertz, above 0 (50, 60 or 400)",
-);
-const LIMITER_OHM: NumberRule = above_zero(1e6, 10_000.0, "a resistance in ohms, above 0");
-const ENERGY_J: NumberRule = above_zero(1e6, 1_000.0, "an energy in joules, above 0");
-const FUSE_A: NumberRule = above_zero(1e4, 100.0, "a rated current in amperes, above 0");
-const I2T_A2S: NumberRule = above_zero(1e9, 1e5, "a melting I2t in A2s, above 0");
-const BREAKING_A: NumberRule = above_zero(1e7, 1e5, "a breaking capacity in amperes, above 0");
-const RATED_V: NumberRule = above_zero(1e5, 1_000.0, "a rated voltage in volts, above 0");
-/// Below a milliwatt no mains converter's output is meant (the hold-up time and the
-/// operating point divide by it).
-const OUTPUT_W: NumberRule = NumberRule {
-    min: 0.001,
-    min_inclusive: true,
-    ..above_zero(1e7, 10_000.0, "an output power in watts, at least 0.001")
-};
-/// Below 1 % no converter's efficiency is meant (the input power divides by it).
-const EFFICIENCY: NumberRule = NumberRule {
-    min: 0.01,
-    min_inclusive: true,
-    max: 1.0,
-    plausible_min: 0.0,
-    plausible_max: 1.0,
-    integer: false,
-    expected: "an efficiency as a fraction, at least 0.01 and at most 1 (0.86 for 86 %)",
-};
-const MIN_BULK_V: NumberRule = above_zero(
-    1e5,
-    1_000.0,
-    "the lowest bulk voltage in volts at which the converter regulates, above 0",
-);
-/// The lowest switching frequency the noise estimate can use. Below 1 kHz a figure is no
-/// switching converter's (most likely a value in kilohertz or megahertz written into a
-/// hertz key), and it would put tens of thousands of harmonics into the conducted band.
-pub(crate) const MIN_SWITCHING_HZ: f64 = 1_000.0;
-const SWITCHING_HZ: NumberRule = NumberRule {
-    min: MIN_SWITCHING_HZ,
-    min_inclusive: true,
-    ..above_zero(
-        1e10,
-        1e7,
-        "a switching frequency in hertz, at least 1000 (65000 for 65 kHz)",
-    )
-};
-const MAX_DUTY: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1.0,
-    plausible_min: 0.0,
-    plausible_max: 1.0,
-    integer: false,
-    expected: "a duty cycle as a fraction, above 0 and below 1 (0.45 for 45 %)",
-};
-
 fn value(l: Option<Located<f64>>) -> Option<f64> {
     l.map(|l| l.value)
 }
@@ -179,8 +78,8 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
     let prospective = r.number(t, "prospective_fault_a", &BREAKING_A);
     let standard = r.string(t, "end_product_standard");
     let hand_held = r.boolean(t, "hand_held");
-    let f_min = r.number(t, "min_frequency_hz", &FREQUENCY_HZ);
-    let f_max = r.number(t, "max_frequency_hz", &FREQUENCY_HZ);
+    let f_min = r.number(t, "min_frequency_hz", &MAINS_FREQUENCY_HZ);
+    let f_max = r.number(t, "max_frequency_hz", &MAINS_FREQUENCY_HZ);
     let bulk_rated = r.number(t, "bulk_rated_v", &RATED_V);
     let highest_rated = r.number(t, "highest_rated_v", &RATED_V);
     let limiter = r
@@ -243,8 +142,8 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
 fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
     let before = r.problems.len();
     let kind = r.required_word(t, "kind", &["ntc", "resistor", "none"]);
-    let cold = r.number(t, "cold_ohm", &LIMITER_OHM);
-    let hot = r.number(t, "hot_ohm", &LIMITER_OHM);
+    let cold = r.number(t, "cold_ohm", &RESISTANCE_OHM);
+    let hot = r.number(t, "hot_ohm", &RESISTANCE_OHM);
     let energy = r.number(t, "energy_rating_j", &ENERGY_J);
     let kind = match kind.map(|l| l.value) {
         Some("ntc") => LimiterKind::Ntc,

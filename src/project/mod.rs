@@ -10,7 +10,9 @@ use serde::Serialize;
 use crate::diag::Diagnostic;
 use crate::toml_read::Span;
 
-pub use read::{DISTANCE_MM, VOLTAGE_V, read_project};
+// Re-exported for the `spacing` command, which judges its flags by the same limits.
+pub use crate::input_limits::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
+pub use read::read_project;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum ProtectionClass {
@@ -53,6 +55,17 @@ impl OvervoltageCategory {
     }
 }
 
+/// The command line's words are `WORDS`, the same as the project file's.
+impl clap::ValueEnum for OvervoltageCategory {
+    fn value_variants<'a>() -> &'a [Self] {
+        &[Self::I, Self::II, Self::III, Self::IV]
+    }
+
+    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
+        Some(clap::builder::PossibleValue::new(self.as_str()))
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum CircuitKind {
@@ -62,7 +75,7 @@ pub enum CircuitKind {
 }
 
 /// Insulation grade of a barrier, weakest first.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "lowercase")]
 pub enum Grade {
     Functional,
@@ -123,6 +136,17 @@ impl MaterialGroup {
     }
 }
 
+/// The command line's words are `WORDS`, the same as the project file's.
+impl clap::ValueEnum for MaterialGroup {
+    fn value_variants<'a>() -> &'a [Self] {
+        &[Self::I, Self::II, Self::IIIa, Self::IIIb]
+    }
+
+    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
+        Some(clap::builder::PossibleValue::new(self.as_str()))
+    }
+}
+
 /// How the insulating material of a barrier is known.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Material {
@@ -151,7 +175,7 @@ pub enum BetweenRows {
 }
 
 /// Where a functional spacing on a printed board sits (selects the IPC-2221B column).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum BoardConductor {
     OuterLayer,
@@ -159,7 +183,7 @@ pub enum BoardConductor {
     ComponentLead,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum BoardCoating {
     None,
@@ -254,6 +278,14 @@ impl Barrier {
             .get(key)
             .cloned()
             .unwrap_or_else(|| self.span.clone())
+    }
+
+    /// The working peak voltage: as declared, or else the peak of a sinusoid of the working
+    /// rms voltage (rounded to a microvolt, so that every table read at it, the clearance,
+    /// the board spacing and the test voltage, sees the same number).
+    pub fn peak_v(&self) -> f64 {
+        self.working_peak_v
+            .unwrap_or_else(|| crate::spacing::tidy(self.working_rms_v * std::f64::consts::SQRT_2))
     }
 }
 

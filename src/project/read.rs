@@ -4,7 +4,12 @@ use std::collections::{BTreeMap, BTreeSet};
 
 use super::*;
 use crate::diag::{Problems, Source, one_of, suggest};
-use crate::toml_read::{NumberRule, Reader, TableRef, parse_document};
+use crate::input_limits::{
+    ALTITUDE_M, CAPACITANCE_NF, COUNT_IN_SERIES, CTI, DISTANCE_MM, MAINS_FREQUENCY_HZ,
+    POLLUTION_DEGREE, SLOT_MM, TAPE_LAYERS, TEMPERATURE_C, TEST_V_RMS, THICKNESS_MM, TRANSIENT_V,
+    VOLTAGE_V, WORKING_FREQUENCY_HZ,
+};
+use crate::toml_read::{Reader, TableRef, parse_document};
 
 const TOP_KEYS: &[&str] = &[
     "design",
@@ -67,56 +72,6 @@ const PART_KEYS: &[&str] = &[
     "hot_spot_c",
 ];
 
-const COUNT_IN_SERIES: NumberRule = NumberRule {
-    min: 1.0,
-    min_inclusive: true,
-    max: 100.0,
-    plausible_min: 0.0,
-    plausible_max: 4.0,
-    integer: true,
-    expected: "a whole number of capacitors in series, 1 or more",
-};
-
-const TAPE_LAYERS: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 1000.0,
-    plausible_min: 0.0,
-    plausible_max: 20.0,
-    integer: true,
-    expected: "a whole number of tape layers, 0 or more",
-};
-
-const TEST_V_RMS: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1_000_000.0,
-    plausible_min: 0.0,
-    plausible_max: 20_000.0,
-    integer: false,
-    expected: "a test voltage in V rms, above 0",
-};
-
-const THICKNESS_MM: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1000.0,
-    plausible_min: 0.0,
-    plausible_max: 10.0,
-    integer: false,
-    expected: "a thickness in millimetres, above 0",
-};
-
-const TEMPERATURE_C: NumberRule = NumberRule {
-    min: -273.15,
-    min_inclusive: false,
-    max: 10_000.0,
-    plausible_min: 0.0,
-    plausible_max: 250.0,
-    integer: false,
-    expected: "a temperature in degrees Celsius",
-};
-
 const PART_KIND_WORDS: &[&str] = &[
     "y-capacitor",
     "x-capacitor",
@@ -127,108 +82,6 @@ const PART_KIND_WORDS: &[&str] = &[
     "relay",
     "other",
 ];
-
-/// A voltage in volts (working, nominal, peak): above zero, at most 100 kV.
-pub const VOLTAGE_V: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 100_000.0,
-    plausible_min: 0.0,
-    plausible_max: 1_000.0,
-    integer: false,
-    expected: "a voltage in volts, above 0 and at most 100000",
-};
-
-const TRANSIENT_V: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1_000_000.0,
-    plausible_min: 0.0,
-    plausible_max: 12_000.0,
-    integer: false,
-    expected: "an impulse voltage in volts, above 0",
-};
-
-/// A distance as laid out, in millimetres. Zero is a real (failing) distance.
-pub const DISTANCE_MM: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 1_000_000.0,
-    plausible_min: 0.0,
-    plausible_max: 100.0,
-    integer: false,
-    expected: "a distance in millimetres, 0 or more",
-};
-
-const SLOT_MM: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1_000_000.0,
-    plausible_min: 0.0,
-    plausible_max: 20.0,
-    integer: false,
-    expected: "a slot width in millimetres, above 0",
-};
-
-const FREQUENCY_HZ: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 1e12,
-    plausible_min: 0.0,
-    plausible_max: 100e6,
-    integer: false,
-    expected: "a frequency in hertz, 0 (dc) or more",
-};
-
-const MAINS_FREQUENCY_HZ: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e6,
-    plausible_min: 0.0,
-    plausible_max: 400.0,
-    integer: false,
-    expected: "a mains frequency in hertz, above 0 (50, 60 or 400)",
-};
-
-const ALTITUDE_M: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 100_000.0,
-    plausible_min: 0.0,
-    plausible_max: 10_000.0,
-    integer: false,
-    expected: "an altitude in metres above sea level, 0 or more",
-};
-
-const POLLUTION_DEGREE: NumberRule = NumberRule {
-    min: 1.0,
-    min_inclusive: true,
-    max: 3.0,
-    plausible_min: 0.0,
-    plausible_max: 3.0,
-    integer: true,
-    expected: "1, 2 or 3 (pollution degree 4 is not covered)",
-};
-
-const CTI: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: true,
-    max: 10_000.0,
-    plausible_min: 0.0,
-    plausible_max: 600.0,
-    integer: false,
-    expected: "a comparative tracking index in volts, 0 or more",
-};
-
-const CAPACITANCE_NF: NumberRule = NumberRule {
-    min: 0.0,
-    min_inclusive: false,
-    max: 1e12,
-    plausible_min: 0.001,
-    plausible_max: 1e5,
-    integer: false,
-    expected: "a capacitance in nanofarads, above 0",
-};
 
 /// Reads a project from its text. `source.name` is used in messages as given.
 pub fn read_project(source: &Source) -> Result<Project, Problems> {
@@ -593,7 +446,7 @@ fn read_barriers(
         let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
         let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
         let transient = r.number(t, "transient_v", &TRANSIENT_V);
-        let frequency = r.number(t, "working_frequency_hz", &FREQUENCY_HZ);
+        let frequency = r.number(t, "working_frequency_hz", &WORKING_FREQUENCY_HZ);
         let group = r.word(t, "material_group", &MaterialGroup::WORDS);
         let cti = r.number(t, "cti", &CTI);
         let printed = r.boolean(t, "printed_board");

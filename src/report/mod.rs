@@ -5,6 +5,7 @@ mod render;
 
 use serde::Serialize;
 
+use crate::ExitStatus;
 use crate::checks::{CheckOutcome, Finding, Severity, run_checks};
 use crate::diag::{Problems, Source};
 use crate::isolation::{IsolationReport, analyse};
@@ -108,6 +109,9 @@ pub struct Readiness {
     pub blocking: bool,
     pub incomplete: bool,
     pub implausible_inputs: bool,
+    /// No barrier is declared at all (also counted in `incomplete`): nothing was
+    /// evaluated, which `--allow-incomplete` does not relax.
+    pub no_barrier: bool,
 }
 
 /// A house rule file or house template in force, with its hash.
@@ -136,6 +140,9 @@ pub struct HouseInfo {
     pub tables_added: usize,
     pub checks_changed: usize,
     pub checks_added: usize,
+    /// Shipped checks no longer in force: a house file that replaces a whole shipped file
+    /// of checks drops every shipped check it does not define again.
+    pub checks_removed: usize,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -175,13 +182,17 @@ impl Report {
         self.summary.blocking > 0
     }
 
-    /// The exit status of `check`: 0 ready for review, 1 not. `allow_incomplete` (early
+    /// The exit status of `check`: ready for review or not. `allow_incomplete` (early
     /// layout work) does not count incomplete barriers against the exit status; the
-    /// report still says "not ready".
-    pub fn exit_code(&self, allow_incomplete: bool) -> u8 {
+    /// report still says "not ready". A design without any barrier is not early layout
+    /// work but no design at all: the flag does not relax that.
+    pub fn exit_status(&self, allow_incomplete: bool) -> ExitStatus {
         let r = &self.readiness;
-        let not_ready = r.blocking || r.implausible_inputs || (r.incomplete && !allow_incomplete);
-        u8::from(not_ready)
+        let not_ready = r.blocking
+            || r.implausible_inputs
+            || r.no_barrier
+            || (r.incomplete && !allow_incomplete);
+        ExitStatus::ready_unless(not_ready)
     }
 }
 
@@ -318,20 +329,29 @@ fn readiness(report: &Report) -> Readiness {
         blocking: !blocking.is_empty(),
         incomplete: !incomplete.is_empty(),
         implausible_inputs: !implausible.is_empty(),
+        no_barrier,
     }
 }
 
 /// The house rule files in force and what they changed.
 fn house_info(rules: &RuleBook) -> HouseInfo {
     let shipped_ids: Vec<&str> = crate::rules::SHIPPED_RULES.iter().map(|r| r.id).collect();
+    let shipped_check_files: Vec<&str> = crate::rules::SHIPPED_RULES
+        .iter()
+        .filter(|r| r.is_checks)
+        .map(|r| r.id)
+        .collect();
     let mut info = HouseInfo::default();
     for r in rules.info.iter().filter(|r| r.origin == "house") {
         let replaced = shipped_ids.contains(&r.id.as_str());
-        // A file of checks is counted by its checks below, not as a table.
-        let is_checks = rules
-            .checks
-            .iter()
-            .any(|c| c.origin != "shipped" && c.file == r.file);
+        // A file of checks is counted by its checks below, not as a table; so is a house
+        // file that replaces a shipped file of checks, even one holding no check at all
+        // (it removes them).
+        let is_checks = shipped_check_files.contains(&r.id.as_str())
+            || rules
+                .checks
+                .iter()
+                .any(|c| c.origin != "shipped" && c.file == r.file);
         match (is_checks, replaced) {
             (true, _) => {}
             (false, true) => info.tables_replaced += 1,
@@ -345,15 +365,35 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
             kind: if is_checks { "checks" } else { "table" },
         });
     }
+    if info.rules.is_empty() {
+        return info;
+    }
+    let shipped = shipped_check_ids();
     for c in &rules.checks {
         match c.origin.as_str() {
-            "house" => info.checks_added += 1,
             "shipped" => {}
+            // A check under a shipped id, in a house file that replaced the shipped
+            // file, changes that check; it adds nothing.
+            "house" if !shipped.contains(&c.id) => info.checks_added += 1,
             _ => info.checks_changed += 1,
         }
     }
-    info.in_force = !info.rules.is_empty();
+    info.checks_removed = shipped
+        .iter()
+        .filter(|id| !rules.checks.iter().any(|c| &c.id == *id))
+        .count();
+    info.in_force = true;
     info
+}
+
+/// The ids of the shipped checks, read once.
+fn shipped_check_ids() -> &'static [String] {
+    static IDS: std::sync::OnceLock<Vec<String>> = std::sync::OnceLock::new();
+    IDS.get_or_init(|| {
+        RuleBook::shipped()
+            .map(|book| book.checks.iter().map(|c| c.id.clone()).collect())
+            .unwrap_or_default()
+    })
 }
 
 /// Reads, evaluates and judges one project file's text.

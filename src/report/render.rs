@@ -4,6 +4,7 @@
 
 use std::borrow::Cow;
 use std::path::Path;
+use std::sync::OnceLock;
 
 use minijinja::value::{Value, ValueKind};
 use minijinja::{Environment, Error, ErrorKind, State};
@@ -44,8 +45,9 @@ const TEMPLATE_RECURSION: usize = 50;
 pub struct Templates {
     /// (name, source, where it came from for messages)
     files: Vec<(String, String, String)>,
-    /// The environment with every template parsed, built once.
-    env: Result<Environment<'static>, Problems>,
+    /// The environment with every template parsed, built on first use: a JSON report never
+    /// needs it (parsing is about a tenth of a whole run of the Class II example).
+    env: OnceLock<Result<Environment<'static>, Problems>>,
     /// House templates in force (name, SHA-256 of the file as read), for the report's
     /// first lines.
     house: Vec<super::HouseFile>,
@@ -77,17 +79,31 @@ impl Templates {
         for (_, text, _) in &mut files {
             *text = mark_chart(text);
         }
-        let mut templates = Templates {
+        Templates {
             files,
-            env: Err(Problems(Vec::new())),
+            env: OnceLock::new(),
             house: Vec::new(),
-        };
-        templates.env = environment(&templates);
-        templates
+        }
     }
 
-    /// The shipped templates, with any of the same name in `dir` taking their place.
+    /// Every template parsed (once, on first call).
+    fn env(&self) -> &Result<Environment<'static>, Problems> {
+        self.env.get_or_init(|| environment(self))
+    }
+
+    /// The shipped templates, with any of the same name in `dir` taking their place, all
+    /// parsed now so that a broken house template stops the run before any design is read.
     pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
+        let templates = Self::read(dir)?;
+        if let Err(problems) = templates.env() {
+            return Err(problems.clone());
+        }
+        Ok(templates)
+    }
+
+    /// As `load`, but nothing is parsed until a report is rendered as Markdown or HTML:
+    /// house templates are read and hashed (a JSON report names them), not compiled.
+    pub fn read(dir: Option<&Path>) -> Result<Self, Problems> {
         let mut templates = Self::shipped();
         let Some(dir) = dir else {
             return Ok(templates);
@@ -119,9 +135,6 @@ impl Templates {
         }
         let mut templates = Self::from_files(files);
         templates.house = house;
-        if let Err(problems) = &templates.env {
-            return Err(problems.clone());
-        }
         Ok(templates)
     }
 }
@@ -188,13 +201,18 @@ fn preamble(report: &Report) -> String {
     let h = &report.house;
     if !h.rules.is_empty() {
         out.push_str(&format!(
-            "\n**House rules in force: the shipped rules were changed.** {} table{} replaced, {} added; {} check{} changed, {} added.\n\n",
+            "\n**House rules in force: the shipped rules were changed.** {} table{} replaced, {} added; {} check{} changed, {} added{}.\n\n",
             h.tables_replaced,
             if h.tables_replaced == 1 { "" } else { "s" },
             h.tables_added,
             h.checks_changed,
             if h.checks_changed == 1 { "" } else { "s" },
-            h.checks_added
+            h.checks_added,
+            if h.checks_removed > 0 {
+                format!(", **{} removed**", h.checks_removed)
+            } else {
+                String::new()
+            }
         ));
         for f in &h.rules {
             let what = match (f.kind, f.effect) {
@@ -388,7 +406,7 @@ impl std::io::Write for BoundedOutput {
 
 /// The report as a Markdown checklist.
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
-    let env = templates.env.as_ref().map_err(Clone::clone)?;
+    let env = templates.env().as_ref().map_err(Clone::clone)?;
     let origin = |e: &Error| {
         let name = innermost(e).name().unwrap_or(TEMPLATE_NAME);
         templates

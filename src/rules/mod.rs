@@ -16,6 +16,15 @@ use crate::diag::{Diagnostic, Problems, Source};
 pub use check_defs::{CheckDef, Cond, Over, Retired};
 pub use tables::*;
 
+/// Tolerance for reading an input against a table row: a value within `EPS` of a row's
+/// bound counts as on it. Inputs are written with a handful of decimals in volts,
+/// millimetres, metres or CTI, and the engine converts them (V to kV, rms to peak with
+/// √2) with a rounding error near 1e-16 of the value, so below 1e-10 for anything up to
+/// the 1e6 that the input limits allow. 1e-9 sits above that noise and far below any
+/// gap between table rows or any resolution a designer writes (a micrometre, a millivolt),
+/// so it never moves a value to a different row by more than noise.
+pub const EPS: f64 = 1e-9;
+
 /// Every shipped rule file (`rules/**/*.toml`, path inside `rules/` and text), embedded at
 /// build time by `build.rs`.
 pub use shipped::SHIPPED_RULES;

@@ -3,14 +3,13 @@
 
 use super::{Conditions, Figure, OutOfTable, Step, show, tidy};
 use crate::project::{Barrier, BoardCoating, BoardConductor};
-use crate::rules::{BoardSpacingTable, RuleBook};
+use crate::rules::{BoardSpacingTable, EPS, RuleBook};
 
 pub struct BoardFigure {
     pub figure: Figure,
     pub column: &'static str,
 }
 
-const EPS: f64 = 1e-9;
 
 /// Above this altitude uncoated outer conductors move from column B2 to B3.
 pub const B3_ABOVE_M: f64 = 3050.0;
@@ -62,8 +61,8 @@ pub fn table_spacing(
         };
         return Ok((
             row.mm[col],
-            Step::from(
-                BoardSpacingTable::ID,
+            Step::new(
+                Some(BoardSpacingTable::ID),
                 format!(
                     "{}, row {label} V, column {column}: {} mm ({}).",
                     table.source,
@@ -78,8 +77,8 @@ pub fn table_spacing(
     let mm = tidy(base + per_v * (peak_v - last.up_to_peak_v));
     Ok((
         mm,
-        Step::from(
-            BoardSpacingTable::ID,
+        Step::new(
+            Some(BoardSpacingTable::ID),
             format!(
                 "{}, above {} V, column {column}: {} mm + {} mm/V x ({} V - {} V) = {} mm (the table's own rule above its last row; {}).",
                 table.source,
@@ -101,20 +100,20 @@ pub fn functional_spacing(
     cond: &Conditions,
     barrier: &Barrier,
 ) -> Result<BoardFigure, OutOfTable> {
-    let mut steps = vec![Step::plain(
+    let mut steps = vec![Step::new(None, 
         "Functional insulation on a printed board: IPC-2221B conductor spacing applies (not IEC 60664-1).",
     )];
     let peak = match barrier.working_peak_v {
         Some(p) => {
-            steps.push(Step::plain(format!(
+            steps.push(Step::new(None, format!(
                 "Working peak voltage {} V as declared.",
                 show(p)
             )));
             p
         }
         None => {
-            let p = tidy(barrier.working_rms_v * std::f64::consts::SQRT_2);
-            steps.push(Step::plain(format!(
+            let p = barrier.peak_v();
+            steps.push(Step::new(None, format!(
                 "Working peak voltage not declared: {} V rms x sqrt(2) = {} V (sinusoidal).",
                 show(barrier.working_rms_v),
                 show(p)
@@ -127,7 +126,7 @@ pub fn functional_spacing(
         barrier.board.coating,
         cond.altitude_m,
     );
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "Column {column}: {} conductor, coating {}, altitude {} m (B3 replaces B2 above {} m).",
         match barrier.board.conductor {
             BoardConductor::OuterLayer => "outer-layer",
@@ -144,7 +143,7 @@ pub fn functional_spacing(
     )));
     let (mm, step) = table_spacing(&rules.board, peak, column)?;
     steps.push(step);
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "Required spacing (functional): {} mm.",
         show(mm)
     )));

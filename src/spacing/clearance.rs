@@ -6,7 +6,7 @@
 use super::{Conditions, Figure, OutOfTable, Step, round_up, show, tidy};
 use crate::project::{Barrier, BetweenRows, Field, Grade};
 use crate::rules::{
-    AltitudeTable, ClearanceTable, ImpulseTable, ReinforcedRule, RuleBook,
+    AltitudeTable, ClearanceTable, EPS, ImpulseTable, ReinforcedRule, RuleBook,
     SteadyStateClearanceTable,
 };
 
@@ -24,7 +24,6 @@ pub struct Clearance {
     /// "transient", "steady-state" or "pollution-degree-minimum".
     pub governed_by: &'static str,
 }
-const EPS: f64 = 1e-9;
 
 /// Rated impulse voltage from the nominal supply voltage and overvoltage category (F.1).
 pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, Step), OutOfTable> {
@@ -62,8 +61,8 @@ pub fn rated_impulse(table: &ImpulseTable, cond: &Conditions) -> Result<(f64, St
     };
     Ok((
         v,
-        Step::from(
-            ImpulseTable::ID,
+        Step::new(
+            Some(ImpulseTable::ID),
             format!(
                 "Rated impulse voltage: {} V nominal falls in the row \"up to {} V\", overvoltage category {}: {} V ({}, {provenance}).",
                 show(cond.nominal_v),
@@ -108,8 +107,8 @@ pub fn step_up(rule: &ReinforcedRule, impulse_v: f64) -> (f64, Step) {
         };
         return (
             raised,
-            Step::from(
-                ReinforcedRule::ID,
+            Step::new(
+                Some(ReinforcedRule::ID),
                 format!(
                     "Reinforced insulation: {at_top}, so {} % of the basic voltage is used: {} V, read at the clearance table's row for it (never a step to the table's next row) ({}).",
                     show(factor * 100.0),
@@ -124,8 +123,8 @@ pub fn step_up(rule: &ReinforcedRule, impulse_v: f64) -> (f64, Step) {
     {
         return (
             next,
-            Step::from(
-                ReinforcedRule::ID,
+            Step::new(
+                Some(ReinforcedRule::ID),
                 format!(
                     "Reinforced insulation: one step higher in the preferred impulse series, from {} V to {} V ({}).",
                     show(impulse_v),
@@ -163,8 +162,8 @@ pub fn step_up(rule: &ReinforcedRule, impulse_v: f64) -> (f64, Step) {
     }
     (
         held,
-        Step::from(
-            ReinforcedRule::ID,
+        Step::new(
+            Some(ReinforcedRule::ID),
             format!(
                 "Reinforced insulation: {} V is not a preferred impulse value, so {} % of it is used: {} V{why} ({}).",
                 show(impulse_v),
@@ -248,8 +247,8 @@ pub fn table_clearance(
     }
     Ok((
         mm,
-        Step::from(
-            ClearanceTable::ID,
+        Step::new(
+            Some(ClearanceTable::ID),
             format!(
                 "{what}: {}, {}, {case}: {} mm ({}){pd2}.",
                 table.source,
@@ -294,7 +293,7 @@ pub fn steady_state_clearance(
             key,
             format!(
                 "a steady-state peak of {} kV is above the last row of {} for {case} ({} to {} kV); the tool does not extrapolate",
-                show(kv),
+                crate::text::apart(kv, &[first.peak_kv, last.peak_kv], show),
                 table.source,
                 show(first.peak_kv),
                 show(last.peak_kv)
@@ -303,8 +302,8 @@ pub fn steady_state_clearance(
     };
     Ok((
         *mm,
-        Step::from(
-            SteadyStateClearanceTable::ID,
+        Step::new(
+            Some(SteadyStateClearanceTable::ID),
             format!(
                 "Steady-state peak requirement: {}, {}, {case}: {} mm ({}).",
                 table.source,
@@ -330,8 +329,8 @@ pub fn altitude_factor(
     if altitude_m <= first.altitude_m + EPS {
         return Ok((
             1.0,
-            Step::from(
-                AltitudeTable::ID,
+            Step::new(
+                Some(AltitudeTable::ID),
                 format!(
                     "Altitude {} m: within the {} m the clearance table holds for; no correction.",
                     show(altitude_m),
@@ -366,8 +365,8 @@ pub fn altitude_factor(
     if (hi.altitude_m - altitude_m).abs() < EPS || i == 0 {
         return Ok((
             hi.factor,
-            Step::from(
-                AltitudeTable::ID,
+            Step::new(
+                Some(AltitudeTable::ID),
                 format!(
                     "Altitude {} m: correction factor {} ({}; row {}).",
                     show(altitude_m),
@@ -382,8 +381,8 @@ pub fn altitude_factor(
     match between {
         BetweenRows::NextRow => Ok((
             hi.factor,
-            Step::from(
-                AltitudeTable::ID,
+            Step::new(
+                Some(AltitudeTable::ID),
                 format!(
                     "Altitude {} m lies between rows {} m and {} m: the next higher row is used (the default; altitude_between_rows = \"interpolate\" in [design] switches to linear interpolation): factor {} ({}; row {}).",
                     show(altitude_m),
@@ -401,8 +400,8 @@ pub fn altitude_factor(
                     / (hi.altitude_m - lo.altitude_m);
             Ok((
                 factor,
-                Step::from(
-                    AltitudeTable::ID,
+                Step::new(
+                    Some(AltitudeTable::ID),
                     format!(
                         "Altitude {} m: factor interpolated linearly between {} m ({}; {}) and {} m ({}; {}): {} (interpolation switched on by altitude_between_rows in [design]; {}).",
                         show(altitude_m),
@@ -432,7 +431,7 @@ pub fn required(
     let mut steps = Vec::new();
     let rated_impulse_v = match barrier.transient_v {
         Some(v) => {
-            steps.push(Step::plain(format!(
+            steps.push(Step::new(None, format!(
                 "Transient overvoltage declared for this barrier (transient_v): {} V, used instead of the rated impulse voltage from the mains.",
                 show(v)
             )));
@@ -471,15 +470,15 @@ pub fn required(
     let steady_table = &rules.steady_state;
     let peak = match barrier.working_peak_v {
         Some(p) => {
-            steps.push(Step::plain(format!(
+            steps.push(Step::new(None, format!(
                 "Steady-state or recurring peak voltage {} V as declared (working_peak_v).",
                 show(p)
             )));
             p
         }
         None => {
-            let p = tidy(barrier.working_rms_v * std::f64::consts::SQRT_2);
-            steps.push(Step::plain(format!(
+            let p = barrier.peak_v();
+            steps.push(Step::new(None, format!(
                 "Steady-state peak voltage not declared: {} V rms x sqrt(2) = {} V (sinusoidal; declare working_peak_v for a d.c. or other waveform).",
                 show(barrier.working_rms_v),
                 show(p)
@@ -490,8 +489,8 @@ pub fn required(
     let mut at_v = peak;
     if reinforced {
         at_v = tidy(peak * steady_table.reinforced_peak_factor);
-        steps.push(Step::from(
-            SteadyStateClearanceTable::ID,
+        steps.push(Step::new(
+            Some(SteadyStateClearanceTable::ID),
             format!(
                 "Reinforced insulation: Table F.8 is read at {} % of the peak: {} V (from memory of IEC 60664-1 clause 5.1.6).",
                 show(steady_table.reinforced_peak_factor * 100.0),
@@ -515,7 +514,7 @@ pub fn required(
     let mut governed_by = "transient";
     let mut mm = transient_mm;
     if steady_mm > transient_mm {
-        steps.push(Step::plain(format!(
+        steps.push(Step::new(None, format!(
             "The steady-state requirement {} mm governs over the transient requirement {} mm (the larger of the two).",
             show(steady_mm),
             show(transient_mm)
@@ -523,7 +522,7 @@ pub fn required(
         mm = steady_mm;
         governed_by = "steady-state";
     } else {
-        steps.push(Step::plain(format!(
+        steps.push(Step::new(None, format!(
             "The transient requirement {} mm governs (the steady-state requirement is {} mm; the larger of the two).",
             show(transient_mm),
             show(steady_mm)
@@ -534,8 +533,8 @@ pub fn required(
     let minimum = rules.clearance.pollution_degree_minimum_mm[index]
         .max(steady_table.pollution_degree_minimum_mm[index]);
     if mm < minimum {
-        steps.push(Step::from(
-            ClearanceTable::ID,
+        steps.push(Step::new(
+            Some(ClearanceTable::ID),
             format!(
                 "Raised to the pollution degree {pd} minimum of {} mm ({}; the same minimum applies to {}, from memory).",
                 show(minimum),
@@ -552,7 +551,7 @@ pub fn required(
     steps.push(step);
     if factor > 1.0 {
         let corrected = round_up(mm * factor, 0.01);
-        steps.push(Step::plain(format!(
+        steps.push(Step::new(None, format!(
             "{} mm x {} = {} mm, rounded up to 0.01 mm.",
             show(mm),
             show(factor),
@@ -560,7 +559,7 @@ pub fn required(
         )));
         mm = corrected;
     }
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "Required clearance ({}): {} mm.",
         grade_label(barrier.grade),
         show(mm)

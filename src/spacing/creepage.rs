@@ -5,7 +5,7 @@
 use super::clearance::grade_label;
 use super::{Conditions, Figure, OutOfTable, Step, round_up, show, tidy};
 use crate::project::{Barrier, BetweenRows, Grade, Material, MaterialGroup};
-use crate::rules::{CreepageTable, MaterialGroupTable, ReinforcedRule, RuleBook};
+use crate::rules::{CreepageTable, EPS, MaterialGroupTable, ReinforcedRule, RuleBook};
 
 pub struct Creepage {
     pub figure: Figure,
@@ -15,7 +15,6 @@ pub struct Creepage {
     pub governed_by: &'static str,
 }
 
-const EPS: f64 = 1e-9;
 
 /// The material group of a barrier, with the step that says how it was found.
 pub fn material_group(
@@ -25,11 +24,11 @@ pub fn material_group(
     match material {
         Material::Group(g) => Ok((
             g,
-            Step::plain(format!("Material group {} as declared.", g.as_str())),
+            Step::new(None, format!("Material group {} as declared.", g.as_str())),
         )),
         Material::Unstated => Ok((
             MaterialGroup::IIIb,
-            Step::plain(
+            Step::new(None, 
                 "Material group IIIb assumed (neither material_group nor cti declared): the least favourable group.",
             ),
         )),
@@ -43,8 +42,8 @@ pub fn material_group(
             match found {
                 Some((group, min)) => Ok((
                     group,
-                    Step::from(
-                        MaterialGroupTable::ID,
+                    Step::new(
+                        Some(MaterialGroupTable::ID),
                         format!(
                             "CTI {} falls in material group {} (CTI {} and above; {}).",
                             show(cti),
@@ -176,8 +175,8 @@ pub fn table_creepage(
         };
         return Ok((
             hi.mm[col],
-            Step::from(
-                CreepageTable::ID,
+            Step::new(
+                Some(CreepageTable::ID),
                 format!(
                     "{head}, {at}: {} mm ({}).",
                     show(hi.mm[col]),
@@ -190,8 +189,8 @@ pub fn table_creepage(
     match between {
         BetweenRows::NextRow => Ok((
             hi.mm[col],
-            Step::from(
-                CreepageTable::ID,
+            Step::new(
+                Some(CreepageTable::ID),
                 format!(
                     "{head}: {} V lies between rows {} V and {} V; the next higher row is used: {} mm ({}).",
                     show(working_rms_v),
@@ -216,8 +215,8 @@ pub fn table_creepage(
             };
             Ok((
                 mm,
-                Step::from(
-                    CreepageTable::ID,
+                Step::new(
+                    Some(CreepageTable::ID),
                     format!(
                         "{head}: linear interpolation between {} V ({} mm, {}) and {} V ({} mm, {}): {} mm, rounded up to {} mm{capped}: {} mm (interpolation switched on in [design]).",
                         show(lo.working_rms_v),
@@ -252,14 +251,14 @@ pub fn required(
     } = from_table(rules, cond, barrier, grade)?;
     let mut governed_by = "creepage-table";
     if mm < clearance.mm {
-        steps.push(Step::plain(format!(
+        steps.push(Step::new(None, format!(
             "Raised to the required clearance {} mm: creepage is never less than clearance (common practice in IEC 60664-1 dimensioning; from memory).",
             show(clearance.mm)
         )));
         mm = clearance.mm;
         governed_by = "clearance";
     }
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "Required creepage ({}): {} mm.",
         grade_label(barrier.grade),
         show(mm)
@@ -288,7 +287,7 @@ pub fn from_table(
     steps.push(step);
     let (column, note) = column(cond.pollution_degree, group, barrier.printed_board);
     if let Some(note) = note {
-        steps.push(Step::plain(note));
+        steps.push(Step::new(None, note));
     }
     let (mut mm, step) = table_creepage(
         &rules.creepage,
@@ -299,8 +298,8 @@ pub fn from_table(
     steps.push(step);
     if grade == Grade::Reinforced {
         let doubled = tidy(mm * rules.reinforced.creepage_factor);
-        steps.push(Step::from(
-            ReinforcedRule::ID,
+        steps.push(Step::new(
+            Some(ReinforcedRule::ID),
             format!(
                 "Reinforced insulation: {} x the basic creepage: {} mm ({}).",
                 show(rules.reinforced.creepage_factor),

@@ -19,16 +19,10 @@ pub struct Step {
 }
 
 impl Step {
-    fn from(rule: &str, text: impl Into<String>) -> Step {
+    /// A step citing the rule table it read (`Some(id)`), or a plain one (`None`).
+    pub fn new(rule: Option<&str>, text: impl Into<String>) -> Step {
         Step {
-            rule: Some(rule.to_string()),
-            text: text.into(),
-        }
-    }
-
-    fn plain(text: impl Into<String>) -> Step {
-        Step {
-            rule: None,
+            rule: rule.map(str::to_string),
             text: text.into(),
         }
     }
@@ -184,23 +178,8 @@ pub fn round_up(x: f64, step: f64) -> f64 {
     tidy((x / step - 1e-9).ceil() * step)
 }
 
-/// A number as a designer writes it: no trailing zeros.
-pub fn show(x: f64) -> String {
-    // Rounded to 4 decimals, then printed in the shortest form that reads back the same.
-    if !x.is_finite() {
-        // A figure that could not be computed is never printed as inf or NaN.
-        return "not computed".to_string();
-    }
-    let rounded = (x * 1e4).round() / 1e4;
-    if rounded == 0.0 {
-        return "0".to_string();
-    }
-    if rounded.abs() >= 1e15 {
-        // 1e300 as 1e300, not as 301 digits.
-        return format!("{rounded:e}");
-    }
-    format!("{rounded}")
-}
+/// The report's number form, here for the modules that print figures with it.
+pub use crate::text::show;
 
 /// Required clearance and creepage of one barrier, judged against its declared distances.
 /// Every input outside a table is returned, not only the first.
@@ -312,8 +291,8 @@ fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (
         if reduced < x {
             return (
                 reduced,
-                Step::from(
-                    crate::rules::GrooveTable::ID,
+                Step::new(
+                    Some(crate::rules::GrooveTable::ID),
                     format!(
                         "{head}; the required clearance {} mm is under {} mm, so X is reduced to it divided by {}: {} mm.",
                         show(clearance_mm),
@@ -327,7 +306,7 @@ fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (
     }
     (
         x,
-        Step::from(crate::rules::GrooveTable::ID, format!("{head}.")),
+        Step::new(Some(crate::rules::GrooveTable::ID), format!("{head}.")),
     )
 }
 
@@ -347,12 +326,12 @@ fn functional_on_board(
     };
     let ipc_mm = ipc.figure.mm;
     let table_mm = table.figure.mm;
-    let mut steps = vec![Step::plain(
+    let mut steps = vec![Step::new(None, 
         "Functional insulation on a printed board: IEC 60664-1 Table F.5 (F.4 in 2007) applies to functional insulation too, and IPC-2221B gives a spacing for correct operation; both are given and the larger is the required creepage.",
     )];
     steps.extend(table.figure.steps);
-    steps.push(Step::from(
-        crate::rules::BoardSpacingTable::ID,
+    steps.push(Step::new(
+        Some(crate::rules::BoardSpacingTable::ID),
         format!(
             "IPC-2221B spacing, column {}: {} mm (see the clearance).",
             ipc.column,
@@ -364,7 +343,7 @@ fn functional_on_board(
     } else {
         (ipc_mm, "ipc2221b")
     };
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "The {} governs: {} mm (creepage table {} mm, IPC-2221B {} mm).",
         if governed_by == "ipc2221b" {
             "IPC-2221B figure"
@@ -375,7 +354,7 @@ fn functional_on_board(
         show(table_mm),
         show(ipc_mm)
     )));
-    steps.push(Step::plain(format!(
+    steps.push(Step::new(None, format!(
         "Required creepage (functional): {} mm. A shortfall is a warning: the end-product standard may accept functional insulation that passes a fault test (the insulation short-circuited) instead.",
         show(mm)
     )));
@@ -427,8 +406,8 @@ fn house_minimums(
     .enumerate()
     {
         if floor > figure.mm {
-            figure.steps.push(Step::from(
-                crate::rules::MinimumDistances::ID,
+            figure.steps.push(Step::new(
+                Some(crate::rules::MinimumDistances::ID),
                 format!(
                     "Raised to the house minimum {what} for {} insulation: {} mm ({}).",
                     grade.as_str(),
@@ -442,7 +421,7 @@ fn house_minimums(
     }
     let mut raised_to_clearance = false;
     if (applied[0] || applied[1]) && creepage.mm < clearance.mm {
-        creepage.steps.push(Step::plain(format!(
+        creepage.steps.push(Step::new(None, format!(
             "Raised to the required clearance {} mm.",
             show(clearance.mm)
         )));
@@ -531,8 +510,8 @@ fn insulation_coordination(
     let mut creepage = creep.figure;
     if grade == Grade::Functional {
         let note = "Functional insulation off a printed board: IEC 60664-1 Table F.5 (F.4 in 2007) applies to functional insulation too, and the clearance is dimensioned as basic (conservative). A shortfall is a warning: the end-product standard may accept functional insulation that passes a fault test (the insulation short-circuited) instead.";
-        clearance.steps.insert(0, Step::plain(note));
-        creepage.steps.insert(0, Step::plain(note));
+        clearance.steps.insert(0, Step::new(None, note));
+        creepage.steps.insert(0, Step::new(None, note));
     }
     let mut double_parts = None;
     if grade == Grade::Double {
@@ -545,7 +524,7 @@ fn insulation_coordination(
         for (figure, what) in [(&mut clearance, "clearance"), (&mut creepage, "creepage")] {
             let part = figure.mm;
             figure.mm = tidy(part * 2.0);
-            figure.steps.push(Step::plain(format!(
+            figure.steps.push(Step::new(None, format!(
                 "Double insulation: basic {what} {} mm + supplementary {what} {} mm (each dimensioned as basic) = {} mm.",
                 show(part),
                 show(part),
