@@ -126,6 +126,9 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
     })
 }
 
+/// How deep `all`, `any` and `not` may nest.
+const MAX_DEPTH: usize = 16;
+
 /// A constant from the check file as a template value, built directly (no serde pass).
 fn constant(v: &Json) -> Value {
     match v {
@@ -143,6 +146,14 @@ fn constant(v: &Json) -> Value {
 impl Predicate {
     /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
     pub fn parse(value: &Json) -> Result<Predicate, String> {
+        Predicate::parse_at(value, 0)
+    }
+
+    fn parse_at(value: &Json, depth: usize) -> Result<Predicate, String> {
+        // A house file could nest `not` without end; evaluation recurses as deep.
+        if depth > MAX_DEPTH {
+            return Err(format!("conditions nest more than {MAX_DEPTH} deep"));
+        }
         if let Json::Bool(b) = value {
             return Ok(Predicate::Always(*b));
         }
@@ -168,7 +179,7 @@ impl Predicate {
                 None => Ok(None),
                 Some(Json::Array(items)) if !items.is_empty() => items
                     .iter()
-                    .map(Predicate::parse)
+                    .map(|p| Predicate::parse_at(p, depth + 1))
                     .collect::<Result<_, _>>()
                     .map(Some),
                 Some(_) => Err(format!("{key} takes a non-empty list of conditions")),
@@ -189,7 +200,10 @@ impl Predicate {
                 return Ok(Predicate::Any(items));
             }
             if let Some(inner) = map.get("not") {
-                return Ok(Predicate::Not(Box::new(Predicate::parse(inner)?)));
+                return Ok(Predicate::Not(Box::new(Predicate::parse_at(
+                    inner,
+                    depth + 1,
+                )?)));
             }
         }
         let field = match (map.get("field"), map.get("verdict")) {
@@ -750,6 +764,11 @@ mod tests {
         assert!(err(json!({ "all": [true], "field": "x" })).contains("stand alone"));
         assert!(err(json!({ "field": "a..b", "is": 1 })).contains("not a field path"));
         assert!(err(json!(3)).contains("expression in quotes or a table"));
+        let mut deep = json!(true);
+        for _ in 0..40 {
+            deep = json!({ "not": deep });
+        }
+        assert!(err(deep).contains("nest more than 16 deep"));
     }
 
     #[test]
