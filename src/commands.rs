@@ -250,7 +250,12 @@ pub fn write_atomically(out: &Path, text: &str, protected: &[&Path]) -> Result<(
 /// `/proc/self/fd/1`, `/proc/PID/fd/N` for this process. None for any other path.
 fn descriptor_named(out: &Path) -> Option<u32> {
     let own = format!("/proc/{}/fd/", std::process::id());
-    let prefixes = ["/dev/fd/", "/proc/self/fd/", "/proc/thread-self/fd/", own.as_str()];
+    let prefixes = [
+        "/dev/fd/",
+        "/proc/self/fd/",
+        "/proc/thread-self/fd/",
+        own.as_str(),
+    ];
     let mut path = out.to_path_buf();
     // As many hops as the kernel follows before it gives up on a chain of links.
     for _ in 0..40 {

@@ -189,9 +189,10 @@ fn capacitor_fit(
 
 /// Where the test voltage comes from above the test-voltage table's last row, in words.
 pub fn beyond_test_table(table: &TestVoltages) -> String {
-    table.above_last_row.clone().unwrap_or_else(|| {
-        "the end-product standard that applies to the product".to_string()
-    })
+    table
+        .above_last_row
+        .clone()
+        .unwrap_or_else(|| "the end-product standard that applies to the product".to_string())
 }
 
 /// Electric strength test voltage for a grade at a working peak, and where it comes from;

@@ -110,7 +110,11 @@ pub fn number(x: f64, digits: Digits) -> String {
                 let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
                 return format!("{mantissa}e{exponent}");
             }
-            if x.abs() >= 1e4 { x.round() } else { four_decimals(x) }
+            if x.abs() >= 1e4 {
+                x.round()
+            } else {
+                four_decimals(x)
+            }
         }
     };
     if x == 0.0 {

@@ -1433,11 +1433,36 @@ fn a_quantity_has_the_same_limits_in_every_table() {
     ];
     let mut failures = run_parallel(warned, |(s, k, v)| assert_warned(s, k, v));
     let refused: &[(&str, &str, &str, &str)] = &[
-        ("[[part]]#3", "capacitance_nf", "2e9", "a capacitance in nanofarads"),
-        ("[emc.filter]", "y_capacitance_nf", "2e9", "a capacitance in nanofarads"),
-        ("[input.limiter]", "cold_ohm", "2e6", "a resistance in ohms, above 0"),
-        ("[emc.filter]", "damping_resistance_ohm", "2e6", "a resistance in ohms, above 0"),
-        ("[emc.filter]", "dm_inductor_resistance_ohm", "2e6", "a resistance in ohms, above 0"),
+        (
+            "[[part]]#3",
+            "capacitance_nf",
+            "2e9",
+            "a capacitance in nanofarads",
+        ),
+        (
+            "[emc.filter]",
+            "y_capacitance_nf",
+            "2e9",
+            "a capacitance in nanofarads",
+        ),
+        (
+            "[input.limiter]",
+            "cold_ohm",
+            "2e6",
+            "a resistance in ohms, above 0",
+        ),
+        (
+            "[emc.filter]",
+            "damping_resistance_ohm",
+            "2e6",
+            "a resistance in ohms, above 0",
+        ),
+        (
+            "[emc.filter]",
+            "dm_inductor_resistance_ohm",
+            "2e6",
+            "a resistance in ohms, above 0",
+        ),
     ];
     failures.extend(run_parallel(refused, key_case));
     report_failures("shared limit", warned.len() + refused.len(), &failures);

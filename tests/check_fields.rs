@@ -3,8 +3,8 @@
 //! the checked-in copy is stale (`GAPWARDEN_UPDATE_FIELDS=1` rewrites it).
 
 use gapwarden::diag::Source;
-use gapwarden::rules::{Cond, RuleBook};
 use gapwarden::rules::predicate::{Fields, REPORT_FIELDS, field_list};
+use gapwarden::rules::{Cond, RuleBook};
 
 fn sample_reports() -> Vec<serde_json::Value> {
     // Not validated against the list being regenerated.
@@ -83,7 +83,10 @@ fn shipped_check_expressions_and_messages_name_existing_fields() {
             fields.item_prefix(check.over.path())
         };
         let mut texts: Vec<String> = vec![check.message.clone()];
-        for cond in [check.applies.as_ref(), Some(&check.condition)].into_iter().flatten() {
+        for cond in [check.applies.as_ref(), Some(&check.condition)]
+            .into_iter()
+            .flatten()
+        {
             if let Cond::Expression(e) = cond {
                 texts.push(format!("{{{{ {e} }}}}"));
             }
@@ -92,10 +95,14 @@ fn shipped_check_expressions_and_messages_name_existing_fields() {
             texts.push(format!("{{{{ {s} }}}}"));
         }
         for text in texts {
-            let template = env.template_from_str(&text).expect("shipped templates compile");
+            let template = env
+                .template_from_str(&text)
+                .expect("shipped templates compile");
             for var in template.undeclared_variables(true) {
                 let path = match (var.strip_prefix("item."), var.strip_prefix("report.")) {
-                    (Some(rest), _) => format!("{prefix}.{rest}").trim_start_matches('.').to_string(),
+                    (Some(rest), _) => format!("{prefix}.{rest}")
+                        .trim_start_matches('.')
+                        .to_string(),
                     (_, Some(rest)) => rest.to_string(),
                     _ => continue,
                 };

@@ -683,7 +683,8 @@ fn altitude_5000_m_multiplies_the_clearance_by_1_48() {
 }
 
 #[test]
-fn altitude_between_rows_is_interpolated_when_switched_on_and_the_clearance_rounded_up_to_0_01_mm() {
+fn altitude_between_rows_is_interpolated_when_switched_on_and_the_clearance_rounded_up_to_0_01_mm()
+{
     let r = run(&SpacingQuery {
         altitude_m: 2500.0,
         altitude_between_rows: BetweenRows::Interpolate,

@@ -19,8 +19,8 @@ use serde_json::Value;
 
 use gapwarden::diag::Source;
 use gapwarden::emc::filter::{
-    Complex, NetworkLine, Stage, TwoPort, insertion_loss_db, inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, output_impedance_ohm,
-    peak_output_impedance, ratio_for_peak,
+    Complex, NetworkLine, Stage, TwoPort, inductance_for_corner_h, insertion_loss_db, lc_corner_hz,
+    optimum_parallel_damping, output_impedance_ohm, peak_output_impedance, ratio_for_peak,
 };
 use gapwarden::emc::limits::limit_dbuv;
 use gapwarden::emc::noise::{
@@ -1222,7 +1222,11 @@ fn explain_prints_the_corner_and_its_formula() {
     ]);
     assert_exit(&o, 0);
     assert!(stdout(&o).contains("C = I / (2 pi f V)"));
-    let o = run(&["explain", &fixture("emc-estimate-pfc.toml"), "emc.middlebrook"]);
+    let o = run(&[
+        "explain",
+        &fixture("emc-estimate-pfc.toml"),
+        "emc.middlebrook",
+    ]);
     assert_exit(&o, 0);
     assert!(stdout(&o).contains("Proposed parallel R-C damping"));
     // Without a PFC stage the criterion is not applied, and explain says why.
@@ -1262,16 +1266,31 @@ fn regression_y_capacitance_each_line_from_the_parts_is_not_counted_twice() {
     assert_eq!(emc["y_arrangement"], "each-line");
     close(num(&emc["cm_capacitance_used_nf"]), 9.4, 1e-9, "C_cm");
     close(num(&emc["y_capacitance_nf"]), 4.7, 1e-9, "per line");
-    close(num(&emc["filter"]["cm_capacitance_nf"]), 9.4, 1e-9, "declared C_cm");
+    close(
+        num(&emc["filter"]["cm_capacitance_nf"]),
+        9.4,
+        1e-9,
+        "declared C_cm",
+    );
     // Declared 10 mH: f0 = 1 / (2 pi sqrt(10 mH x 9.4 nF)) = 16.416 kHz.
     let f0 = 1.0 / (2.0 * PI * (10e-3_f64 * 9.4e-9).sqrt());
-    close(num(&emc["filter"]["cm_corner_hz"]), f0, 0.5, "declared cm corner");
+    close(
+        num(&emc["filter"]["cm_corner_hz"]),
+        f0,
+        0.5,
+        "declared cm corner",
+    );
     // The prescan point 80 dBuV average at 1 MHz, class B AV 46 dBuV (REFERENCES.md),
     // margin 6: A = 40 dB, corner f / 10^(A/40) = 100 kHz; the choke for it with 9.4 nF:
     // L = 1 / ((2 pi 100 kHz)^2 9.4 nF) = 0.2695 mH (twice what 18.8 nF would have asked).
     close(num(&emc["cm_corner_hz"]), 100e3, 1.0, "required corner");
     let l = 1.0 / ((2.0 * PI * 100e3).powi(2) * 9.4e-9) * 1e3;
-    close(num(&emc["cm_inductance_for_corner_mh"]), l, 1e-4, "choke, mH");
+    close(
+        num(&emc["cm_inductance_for_corner_mh"]),
+        l,
+        1e-4,
+        "choke, mH",
+    );
 }
 
 #[test]
@@ -1283,12 +1302,20 @@ fn regression_a_quasi_peak_only_reading_is_held_to_the_average_limit_too() {
     let (_, r) = emc_variant(
         "emc-single-point.toml",
         "qp-only",
-        &[("frequency_hz = 195000", "frequency_hz = 1000000"), ("level_dbuv = 110", "level_dbuv = 55")],
+        &[
+            ("frequency_hz = 195000", "frequency_hz = 1000000"),
+            ("level_dbuv = 110", "level_dbuv = 55"),
+        ],
     );
     let emc = &r["emc"];
     assert_eq!(emc["governing_detector"], "average");
     close(num(&emc["limit_dbuv"]), 46.0, 1e-9, "limit");
-    close(num(&emc["required_attenuation_db"]), 15.0, 1e-9, "attenuation");
+    close(
+        num(&emc["required_attenuation_db"]),
+        15.0,
+        1e-9,
+        "attenuation",
+    );
     assert_eq!(emc["points"][0]["detector"], "quasi-peak");
     assert_eq!(emc["points"][0]["compared_with"], "average");
 }
@@ -1316,7 +1343,12 @@ fn regression_zero_amplitude_harmonics_are_left_out_of_the_estimate() {
     let cm = common_mode(&c, &path, &network, (150e3, 30e6)).expect("estimate");
     for h in dm.iter().chain(cm.iter()) {
         assert!(h.number % 2 == 1, "even harmonic {} kept", h.number);
-        assert!(h.level_dbuv > 0.0, "harmonic {} at {} dBuV", h.number, h.level_dbuv);
+        assert!(
+            h.level_dbuv > 0.0,
+            "harmonic {} at {} dBuV",
+            h.number,
+            h.level_dbuv
+        );
     }
     // Odd harmonics 3 to 461 are all there: 230 of them, per mode.
     assert_eq!(dm.len(), 230);
@@ -1358,12 +1390,18 @@ fn the_common_mode_estimate_uses_the_trapezoid_spectrum_of_the_switch_node() {
         let h = cm.iter().find(|h| h.number == n).expect("harmonic");
         let numeric = numerical_harmonic(wave, n as u32, 2_000_000);
         let db = 20.0 * (h.source_peak / numeric).log10();
-        assert!(db.abs() < 0.05, "n = {n}: engine {}, numerical {numeric} ({db} dB)", h.source_peak);
+        assert!(
+            db.abs() < 0.05,
+            "n = {n}: engine {}, numerical {numeric} ({db} dB)",
+            h.source_peak
+        );
     }
     // The report states the default rise time where none is declared.
     let (_, report) = check_json("emc-estimate.toml");
     assert!(
-        report["emc"]["assumptions"].to_string().contains("rise time 10 ns"),
+        report["emc"]["assumptions"]
+            .to_string()
+            .contains("rise time 10 ns"),
         "{}",
         report["emc"]["assumptions"]
     );
@@ -1432,7 +1470,10 @@ fn regression_filter_attenuation_near_the_corner_uses_the_transfer_function() {
         let expected = abcd_insertion_loss_db(shunt, (0.0, w * l), 100.0, (2.0 * zl.0, 2.0 * zl.1));
         let z = line.impedance(f);
         let engine = insertion_loss_db(&stage, 100.0, z.plus(z), f);
-        assert!((engine - expected).abs() < 1e-6, "at {f} Hz: {engine} vs {expected}");
+        assert!(
+            (engine - expected).abs() < 1e-6,
+            "at {f} Hz: {engine} vs {expected}"
+        );
         let asymptote = if f > f0 { 40.0 * (f / f0).log10() } else { 0.0 };
         worst_gap = worst_gap.max((expected - asymptote).abs());
     }
@@ -1464,12 +1505,25 @@ fn regression_filter_attenuation_near_the_corner_uses_the_transfer_function() {
     let zl = network_line(f);
     // The example declares the inductor's 2.2 ohm winding resistance, in series with it.
     let dm = abcd_insertion_loss_db(shunt, (2.2, w * l), 100.0, (2.0 * zl.0, 2.0 * zl.1));
-    let cm = abcd_insertion_loss_db((0.0, -1.0 / (w * 1e-9)), (0.0, w * 33e-3), 25.0, (zl.0 / 2.0, zl.1 / 2.0));
-    close(num(&p["filter_attenuation_db"]), dm.min(cm), 0.006, "attenuation at 195 kHz");
+    let cm = abcd_insertion_loss_db(
+        (0.0, -1.0 / (w * 1e-9)),
+        (0.0, w * 33e-3),
+        25.0,
+        (zl.0 / 2.0, zl.1 / 2.0),
+    );
+    close(
+        num(&p["filter_attenuation_db"]),
+        dm.min(cm),
+        0.006,
+        "attenuation at 195 kHz",
+    );
     // 90 dBuV quasi-peak held to the class B average 53.82 dBuV with 6 dB margin: after
     // the filter it must be at most 47.82 dBuV.
     let after = 90.0 - dm.min(cm);
-    assert_eq!(p["verdict"], if after > 53.82 - 6.0 { "fail" } else { "pass" });
+    assert_eq!(
+        p["verdict"],
+        if after > 53.82 - 6.0 { "fail" } else { "pass" }
+    );
 }
 
 fn run_json_example() -> (Output, Value) {
@@ -1487,10 +1541,21 @@ fn middlebrook_is_not_applied_behind_a_bridge_and_a_bulk_capacitor_and_a_note_sa
     let emc = &r["emc"];
     assert!(emc["middlebrook"].is_null());
     assert_eq!(emc["middlebrook_applies"], false);
-    assert!(emc["middlebrook_not_applied"].as_str().is_some_and(|s| s.contains("PFC")));
-    assert_eq!(finding(&r, "emc.middlebrook_not_applicable")["severity"], "note");
+    assert!(
+        emc["middlebrook_not_applied"]
+            .as_str()
+            .is_some_and(|s| s.contains("PFC"))
+    );
+    assert_eq!(
+        finding(&r, "emc.middlebrook_not_applicable")["severity"],
+        "note"
+    );
     let ids = finding_ids(&r);
-    assert!(!ids.iter().any(|i| i == "emc.middlebrook_violated" || i == "emc.middlebrook_not_judged"), "{ids:?}");
+    assert!(
+        !ids.iter()
+            .any(|i| i == "emc.middlebrook_violated" || i == "emc.middlebrook_not_judged"),
+        "{ids:?}"
+    );
 }
 
 #[test]
@@ -1498,8 +1563,13 @@ fn every_judged_emc_figure_carries_a_verdict_and_an_implausible_input_never_pass
     let (_, r) = run_json_example();
     let emc = &r["emc"];
     for key in ["y_capacitance_nf", "dm_corner_hz", "cm_corner_hz", "points"] {
-        let v = emc["verdicts"][key].as_str().unwrap_or_else(|| panic!("no verdict {key}"));
-        assert!(["pass", "fail", "not-judged", "check-input"].contains(&v), "{key}: {v}");
+        let v = emc["verdicts"][key]
+            .as_str()
+            .unwrap_or_else(|| panic!("no verdict {key}"));
+        assert!(
+            ["pass", "fail", "not-judged", "check-input"].contains(&v),
+            "{key}: {v}"
+        );
     }
     for p in emc["points"].as_array().expect("points") {
         assert!(p["verdict"].is_string(), "{p}");
@@ -1513,9 +1583,16 @@ fn every_judged_emc_figure_carries_a_verdict_and_an_implausible_input_never_pass
     let (_, r) = emc_variant(
         "emc-single-point.toml",
         "suspicious-margin",
-        &[("margin_db = 6", "margin_db = 25"), ("level_dbuv = 110", "level_dbuv = 20")],
+        &[
+            ("margin_db = 6", "margin_db = 25"),
+            ("level_dbuv = 110", "level_dbuv = 20"),
+        ],
     );
-    assert!(finding_ids(&r).iter().any(|i| i == "input.suspicious_value"));
+    assert!(
+        finding_ids(&r)
+            .iter()
+            .any(|i| i == "input.suspicious_value")
+    );
     assert_eq!(r["emc"]["points"][0]["verdict"], "check-input");
     assert_eq!(r["emc"]["verdicts"]["points"], "check-input");
 }
@@ -1538,7 +1615,10 @@ fn regression_emc_verdicts_compare_exact_corners_not_the_printed_ones() {
         &[("level_dbuv = 120", &format!("level_dbuv = {level}"))],
     );
     let emc = &r["emc"];
-    assert_eq!(num(&emc["dm_corner_hz"]).floor(), num(&emc["filter"]["dm_corner_hz"]).floor());
+    assert_eq!(
+        num(&emc["dm_corner_hz"]).floor(),
+        num(&emc["filter"]["dm_corner_hz"]).floor()
+    );
     assert_eq!(emc["verdicts"]["dm_corner_hz"], "fail");
 }
 

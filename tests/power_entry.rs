@@ -1516,21 +1516,43 @@ fn regression_touch_current_with_pe_open_counts_only_the_line_side_y_capacitor()
     let line_side = 2.0 * PI * 50.0 * 253.0 * 4.7e-9 * 1e3;
     assert_close("touch current", &t["current_ma"], line_side);
     assert_close("counted capacitance", &t["counted_nf"], 4.7);
-    assert_close("touch_current_ma", &r["power_entry"]["touch_current_ma"], line_side);
+    assert_close(
+        "touch_current_ma",
+        &r["power_entry"]["touch_current_ma"],
+        line_side,
+    );
     // The model is stated in the derivation.
     let steps = figure(&r, "power_entry.touch.chassis")["steps"].to_string();
-    assert!(steps.contains("shorts the neutral-side capacitor"), "{steps}");
+    assert!(
+        steps.contains("shorts the neutral-side capacitor"),
+        "{steps}"
+    );
     // IEC 60950-1 Table 5A, Class I other than hand-held: 3.5 mA (confirmed in substance).
     assert_eq!(r["power_entry"]["verdicts"]["touch.chassis"], "pass");
 
     // Unequal parts (2.2 nF and 4.7 nF): the plug may be reversed, so the larger side
     // drives it: 2 pi x 50 x 253 x 4.7 nF again.
-    let (_, r) = variant_of(EACH_LINE, "touch-unequal", &[("capacitance_nf = 4.7", "capacitance_nf = 2.2")]);
-    assert_close("unequal", &r["power_entry"]["touch"][0]["current_ma"], line_side);
+    let (_, r) = variant_of(
+        EACH_LINE,
+        "touch-unequal",
+        &[("capacitance_nf = 4.7", "capacitance_nf = 2.2")],
+    );
+    assert_close(
+        "unequal",
+        &r["power_entry"]["touch"][0]["current_ma"],
+        line_side,
+    );
 
     // A single Y capacitance from the rectified primary counts every capacitor at the full
     // mains voltage (an upper bound): 2 pi x 50 x 253 x 9.4 nF.
-    let (_, r) = variant_of(EACH_LINE, "touch-single", &[("y_arrangement = \"each-line\"", "y_arrangement = \"single\"")]);
+    let (_, r) = variant_of(
+        EACH_LINE,
+        "touch-single",
+        &[(
+            "y_arrangement = \"each-line\"",
+            "y_arrangement = \"single\"",
+        )],
+    );
     assert_close(
         "single",
         &r["power_entry"]["touch"][0]["current_ma"],
@@ -1553,16 +1575,39 @@ fn regression_x_discharge_counts_the_damping_capacitor_across_the_line() {
     let residual = SQRT_2 * 264.0 * (-2.0f64 / 0.57).exp();
     assert_close("residual", &d["residual_v"], residual);
     assert!((residual - 11.18).abs() < 0.01, "{residual}");
-    assert_eq!(r["power_entry"]["verdicts"]["discharge_time_constant_s"], "pass");
+    assert_eq!(
+        r["power_entry"]["verdicts"]["discharge_time_constant_s"],
+        "pass"
+    );
     // Without the bleeder: blocking, where 0.1 uF alone needed nothing.
-    let (o, r) = variant_of(CLASS2_EXAMPLE, "no-bleeder", &[("bleeder_ohm = 1.0e6", "# no bleeder"), ("bleeder_fault_tolerant = false", "")]);
+    let (o, r) = variant_of(
+        CLASS2_EXAMPLE,
+        "no-bleeder",
+        &[
+            ("bleeder_ohm = 1.0e6", "# no bleeder"),
+            ("bleeder_fault_tolerant = false", ""),
+        ],
+    );
     assert_exit(&o, 1);
-    assert_eq!(the(&r, "power_entry.x_discharge_missing")["severity"], "blocking");
+    assert_eq!(
+        the(&r, "power_entry.x_discharge_missing")["severity"],
+        "blocking"
+    );
     assert!(message(the(&r, "power_entry.x_discharge_missing")).contains("0.57"));
     // A 2.2 MOhm bleeder: 1.254 s > 1 s, blocking.
-    let (_, r) = variant_of(CLASS2_EXAMPLE, "slow-bleeder", &[("bleeder_ohm = 1.0e6", "bleeder_ohm = 2.2e6")]);
-    assert_eq!(r["power_entry"]["verdicts"]["discharge_time_constant_s"], "fail");
-    assert_eq!(the(&r, "power_entry.x_discharge_slow")["severity"], "blocking");
+    let (_, r) = variant_of(
+        CLASS2_EXAMPLE,
+        "slow-bleeder",
+        &[("bleeder_ohm = 1.0e6", "bleeder_ohm = 2.2e6")],
+    );
+    assert_eq!(
+        r["power_entry"]["verdicts"]["discharge_time_constant_s"],
+        "fail"
+    );
+    assert_eq!(
+        the(&r, "power_entry.x_discharge_slow")["severity"],
+        "blocking"
+    );
 }
 
 #[test]
@@ -1570,12 +1615,23 @@ fn a_permanently_connected_input_states_why_no_discharge_limit_applies() {
     // 0.47 uF on permanently connected equipment: IEC 60950-1 clause 2.1.1.7 is written for
     // pluggable equipment (types A and B; confirmed through a quotation): a note with the
     // reason, never blocking, and the residual voltage still reported.
-    let (o, r) = variant_of(EACH_LINE, "permanent", &[("x_capacitance_uf = 0.047", "x_capacitance_uf = 0.47")]);
+    let (o, r) = variant_of(
+        EACH_LINE,
+        "permanent",
+        &[("x_capacitance_uf = 0.047", "x_capacitance_uf = 0.47")],
+    );
     assert_exit(&o, 0);
     let d = &r["power_entry"]["discharge"];
     assert_eq!(d["required"], false);
-    assert!(d["not_applicable_reason"].as_str().is_some_and(|s| s.contains("plug")));
-    assert_eq!(the(&r, "power_entry.x_discharge_not_applicable")["severity"], "note");
+    assert!(
+        d["not_applicable_reason"]
+            .as_str()
+            .is_some_and(|s| s.contains("plug"))
+    );
+    assert_eq!(
+        the(&r, "power_entry.x_discharge_not_applicable")["severity"],
+        "note"
+    );
     assert!(!has(&r, "power_entry.x_discharge_missing"));
     // No bleeder: nothing is credited, the crest 253 sqrt(2) V remains.
     assert_close("residual", &d["residual_v"], 253.0 * SQRT_2);
@@ -1629,26 +1685,44 @@ fn regression_inrush_through_the_filter_inductance_rings_the_bulk_capacitor_abov
     let zeta = 1.0 / (2.0 * z0);
     let step_peak = v_pk * (1.0 + (-zeta * PI / (1.0 - zeta * zeta).sqrt()).exp());
     let bulk = num(&pe["bulk_peak_v"]);
-    assert!(bulk < step_peak && bulk > 0.99 * step_peak, "{bulk} vs step {step_peak}");
+    assert!(
+        bulk < step_peak && bulk > 0.99 * step_peak,
+        "{bulk} vs step {step_peak}"
+    );
     // Independent integration, hot restart and cold switch-on (10.5 ohm).
     let (i_hot, i2t_hot, v_hot) = lrc_switch_on(v_pk, 50.0, l, 1.0, c, 2e-8);
     let (i_cold, i2t_cold, v_cold) = lrc_switch_on(v_pk, 50.0, l, 10.5, c, 2e-8);
     let near = |a: f64, b: f64| (a - b).abs() <= 2e-3 * b.abs();
     assert!(near(bulk, v_hot), "bulk {bulk} vs {v_hot}");
     assert!(near(num(&pe["inrush"]["hot_restart_bulk_peak_v"]), v_hot));
-    assert!(near(num(&pe["hot_restart_peak_a"]), i_hot), "{} vs {i_hot}", pe["hot_restart_peak_a"]);
+    assert!(
+        near(num(&pe["hot_restart_peak_a"]), i_hot),
+        "{} vs {i_hot}",
+        pe["hot_restart_peak_a"]
+    );
     assert!(near(num(&pe["inrush"]["hot_restart_i2t_a2s"]), i2t_hot));
-    assert!(near(num(&pe["inrush_peak_a"]), i_cold), "{} vs {i_cold}", pe["inrush_peak_a"]);
+    assert!(
+        near(num(&pe["inrush_peak_a"]), i_cold),
+        "{} vs {i_cold}",
+        pe["inrush_peak_a"]
+    );
     assert!(near(num(&pe["inrush_i2t_a2s"]), i2t_cold));
     assert!(near(num(&pe["inrush"]["bulk_peak_v"]), v_cold.max(v_pk)));
     // The peak current is bounded by V_pk / sqrt(L / C) = 118 A (lossless), far below the
     // 373 A of V_pk / R.
     assert!(num(&pe["hot_restart_peak_a"]) < v_pk / z0);
-    assert_close("R-C figure kept", &pe["inrush"]["resistive_hot_restart_peak_a"], v_pk / 1.0);
+    assert_close(
+        "R-C figure kept",
+        &pe["inrush"]["resistive_hot_restart_peak_a"],
+        v_pk / 1.0,
+    );
     // Judged against the rated voltage (input.bulk_rated_v = 450 V): blocking.
     assert_eq!(pe["bulk_rated_v"], 450.0);
     assert_eq!(pe["verdicts"]["bulk_peak_v"], "fail");
-    assert_eq!(the(&r, "power_entry.bulk_voltage_over_rating")["severity"], "blocking");
+    assert_eq!(
+        the(&r, "power_entry.bulk_voltage_over_rating")["severity"],
+        "blocking"
+    );
     // The shipped example with the inductor's 2.2 ohm: R = 3.2 ohm, damping ratio 0.506,
     // overshoot e^(-0.506 pi / 0.863) = 0.158: about 432 V at a step, within 450 V.
     let (o, r) = check_json(CLASS2_EXAMPLE);
@@ -1659,7 +1733,11 @@ fn regression_inrush_through_the_filter_inductance_rings_the_bulk_capacitor_abov
     assert!(bulk < 450.0);
     assert_eq!(r["power_entry"]["verdicts"]["bulk_peak_v"], "pass");
     // Without a rated voltage: not judged, and the missing rating is a warning.
-    let (_, r) = variant_of(CLASS2_EXAMPLE, "no-bulk-rating", &[("bulk_rated_v = 450", "")]);
+    let (_, r) = variant_of(
+        CLASS2_EXAMPLE,
+        "no-bulk-rating",
+        &[("bulk_rated_v = 450", "")],
+    );
     assert!(!has(&r, "power_entry.bulk_voltage_over_rating"));
     assert!(message(the(&r, "power_entry.rating_missing")).contains("input.bulk_rated_v"));
 }
@@ -1689,7 +1767,11 @@ fn the_lrc_inrush_simulation_meets_the_closed_form_step_response() {
     let v_pk = v * (1.0 + (-alpha * PI / wd).exp());
     assert!(x.converged);
     assert!(close(x.peak_a, i_pk, 1e-4), "{} vs {i_pk}", x.peak_a);
-    assert!(close(x.bulk_peak_v, v_pk, 1e-4), "{} vs {v_pk}", x.bulk_peak_v);
+    assert!(
+        close(x.bulk_peak_v, v_pk, 1e-4),
+        "{} vs {v_pk}",
+        x.bulk_peak_v
+    );
     assert!(close(x.peak_at_s, tp, 1e-3), "{} vs {tp}", x.peak_at_s);
 }
 
@@ -1697,7 +1779,14 @@ fn the_lrc_inrush_simulation_meets_the_closed_form_step_response() {
 /// bridge conducts (stable far below R C), the exact v² = v0² - 2 P t / C between pulses,
 /// run for `half_cycles` from the crest voltage; figures of the last half-cycle.
 /// Returns (RMS current, repetitive peak, input power).
-fn reference_rectifier(v_rms: f64, f: f64, r: f64, c: f64, p: f64, half_cycles: usize) -> (f64, f64, f64) {
+fn reference_rectifier(
+    v_rms: f64,
+    f: f64,
+    r: f64,
+    c: f64,
+    p: f64,
+    half_cycles: usize,
+) -> (f64, f64, f64) {
     let v_pk = SQRT_2 * v_rms;
     let steps = (0.5 / f / 5e-9) as usize;
     let h = 0.5 / f / steps as f64;
@@ -1739,17 +1828,38 @@ fn regression_rectifier_step_adapts_until_the_energy_balances() {
     };
     let (rms, peak, p_in) = reference_rectifier(230.0, 50.0, 0.2, 4.7e-6, 20.0, 6);
     let coarse = steady_state_with(&rect, STEPS_PER_HALF_CYCLE, None);
-    assert!(coarse.repetitive_peak_a > 1.05 * peak, "the fixed step was too coarse: {} vs {peak}", coarse.repetitive_peak_a);
+    assert!(
+        coarse.repetitive_peak_a > 1.05 * peak,
+        "the fixed step was too coarse: {} vs {peak}",
+        coarse.repetitive_peak_a
+    );
     let s = steady_state(&rect);
     assert!(s.sustained && s.converged && s.step_converged, "{s:?}");
     assert!(s.steps_per_half_cycle > STEPS_PER_HALF_CYCLE);
-    assert!(close(s.repetitive_peak_a, peak, 0.005), "peak {} vs {peak}", s.repetitive_peak_a);
-    assert!(close(s.input_rms_a, rms, 0.005), "rms {} vs {rms}", s.input_rms_a);
+    assert!(
+        close(s.repetitive_peak_a, peak, 0.005),
+        "peak {} vs {peak}",
+        s.repetitive_peak_a
+    );
+    assert!(
+        close(s.input_rms_a, rms, 0.005),
+        "rms {} vs {rms}",
+        s.input_rms_a
+    );
     // Energy balance (circuit theory): P_in = P + R I_rms² (no diode drop), within 0.1 %.
-    let balance = (s.input_power_w - (20.0 + 0.2 * s.input_rms_a * s.input_rms_a)).abs() / s.input_power_w;
+    let balance =
+        (s.input_power_w - (20.0 + 0.2 * s.input_rms_a * s.input_rms_a)).abs() / s.input_power_w;
     assert!(balance <= 1e-3, "energy balance {balance}");
-    assert!(s.input_power_w >= 20.0, "input power below the load: {}", s.input_power_w);
-    assert!(close(s.input_power_w, p_in, 0.005), "P_in {} vs {p_in}", s.input_power_w);
+    assert!(
+        s.input_power_w >= 20.0,
+        "input power below the load: {}",
+        s.input_power_w
+    );
+    assert!(
+        close(s.input_power_w, p_in, 0.005),
+        "P_in {} vs {p_in}",
+        s.input_power_w
+    );
 }
 
 #[test]
@@ -1761,26 +1871,45 @@ fn regression_fuse_voltage_rating_is_judged_against_the_rated_voltage_not_the_to
         "fuse250-rated240",
         &[
             ("rated_v = 300", "rated_v = 250"),
-            ("bulk_capacitance_uf = 47", "bulk_capacitance_uf = 47\nhighest_rated_v = 240"),
+            (
+                "bulk_capacitance_uf = 47",
+                "bulk_capacitance_uf = 47\nhighest_rated_v = 240",
+            ),
         ],
     );
     assert_exit(&o, 0);
     assert!(!has(&r, "power_entry.fuse_voltage_low"));
-    assert_eq!(the(&r, "power_entry.fuse_voltage_tolerance")["severity"], "note");
+    assert_eq!(
+        the(&r, "power_entry.fuse_voltage_tolerance")["severity"],
+        "note"
+    );
     assert_eq!(r["power_entry"]["verdicts"]["fuse_rated_supply_v"], "pass");
     assert_eq!(r["power_entry"]["fuse"]["rated_supply_v"], 240.0);
     // Without input.highest_rated_v the nominal 230 V stands for it (stated as an assumption).
     let (_, r) = variant("fuse250-nominal", &[("rated_v = 300", "rated_v = 250")]);
     assert_eq!(r["power_entry"]["fuse"]["rated_supply_v"], 230.0);
     assert!(!has(&r, "power_entry.fuse_voltage_low"));
-    assert!(r["power_entry"]["assumptions"].to_string().contains("input.highest_rated_v"));
+    assert!(
+        r["power_entry"]["assumptions"]
+            .to_string()
+            .contains("input.highest_rated_v")
+    );
     // Declared 277 V: a 250 V fuse is short of it, blocking.
     let (o, r) = variant(
         "fuse250-rated277",
-        &[("rated_v = 300", "rated_v = 250"), ("bulk_capacitance_uf = 47", "bulk_capacitance_uf = 47\nhighest_rated_v = 277")],
+        &[
+            ("rated_v = 300", "rated_v = 250"),
+            (
+                "bulk_capacitance_uf = 47",
+                "bulk_capacitance_uf = 47\nhighest_rated_v = 277",
+            ),
+        ],
     );
     assert_exit(&o, 1);
-    assert_eq!(the(&r, "power_entry.fuse_voltage_low")["severity"], "blocking");
+    assert_eq!(
+        the(&r, "power_entry.fuse_voltage_low")["severity"],
+        "blocking"
+    );
     assert_eq!(r["power_entry"]["verdicts"]["fuse_rated_supply_v"], "fail");
 }
 
@@ -1791,13 +1920,21 @@ fn regression_verdicts_compare_exact_figures_not_the_printed_ones() {
     // finding, although the printed figure is above it; at 35.55736 A it is short.
     let exact = SQRT_2 * 264.0 / 10.5;
     assert!(exact < 35.55737 && exact > 35.55736, "{exact}");
-    let (_, r) = variant("surge-above", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")]);
+    let (_, r) = variant(
+        "surge-above",
+        &[("bridge_surge_a = 50", "bridge_surge_a = 35.55737")],
+    );
     // The JSON keeps the exact figure (only the Markdown rounds it).
-    let json_peak = r["power_entry"]["inrush_peak_a"].as_f64().expect("a number");
+    let json_peak = r["power_entry"]["inrush_peak_a"]
+        .as_f64()
+        .expect("a number");
     assert!((json_peak - exact).abs() < 1e-9, "{json_peak}");
     assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "pass");
     assert!(!has(&r, "power_entry.inrush_over_bridge_surge"));
-    let (_, r) = variant("surge-below", &[("bridge_surge_a = 50", "bridge_surge_a = 35.55736")]);
+    let (_, r) = variant(
+        "surge-below",
+        &[("bridge_surge_a = 50", "bridge_surge_a = 35.55736")],
+    );
     assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "fail");
     assert!(has(&r, "power_entry.inrush_over_bridge_surge"));
 }
@@ -1820,9 +1957,18 @@ fn every_judged_power_entry_figure_carries_a_verdict_in_json_and_markdown() {
         "low_line.bulk_valley_v",
         "touch.output",
     ] {
-        let v = pe["verdicts"][id].as_str().unwrap_or_else(|| panic!("no verdict for {id}"));
-        assert!(["pass", "fail", "not-judged", "check-input"].contains(&v), "{id}: {v}");
-        assert_eq!(figure(&r, &format!("power_entry.{id}"))["verdict"], v, "{id}");
+        let v = pe["verdicts"][id]
+            .as_str()
+            .unwrap_or_else(|| panic!("no verdict for {id}"));
+        assert!(
+            ["pass", "fail", "not-judged", "check-input"].contains(&v),
+            "{id}: {v}"
+        );
+        assert_eq!(
+            figure(&r, &format!("power_entry.{id}"))["verdict"],
+            v,
+            "{id}"
+        );
     }
     let md = stdout(&run(&["check", BASE]));
     let section = &md[md.find("## Power entry").expect("section")..];
@@ -1834,17 +1980,26 @@ fn every_judged_power_entry_figure_carries_a_verdict_in_json_and_markdown() {
 fn a_figure_resting_on_an_implausible_input_is_check_input_never_pass() {
     // bridge_surge_a = 20000 A is accepted but flagged implausible (input.suspicious_value):
     // the inrush comparison passes, so its verdict is check-input.
-    let (_, r) = variant("suspicious-surge", &[("bridge_surge_a = 50", "bridge_surge_a = 20000")]);
+    let (_, r) = variant(
+        "suspicious-surge",
+        &[("bridge_surge_a = 50", "bridge_surge_a = 20000")],
+    );
     assert!(has(&r, "input.suspicious_value"));
     assert_eq!(r["power_entry"]["verdicts"]["inrush_peak_a"], "check-input");
-    assert_eq!(r["power_entry"]["verdicts"]["hot_restart_peak_a"], "check-input");
+    assert_eq!(
+        r["power_entry"]["verdicts"]["hot_restart_peak_a"],
+        "check-input"
+    );
     // A figure that does not rest on it keeps its own verdict.
     assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "pass");
     let md = stdout(&run(&["check", BASE]));
     assert!(!md.contains("check-input"));
     // A Y capacitance a million times too small (1e-7 nF) is flagged; the touch current it
     // gives passes, so its verdict is check-input.
-    let (_, r) = variant("suspicious-y", &[("capacitance_nf = 1.0", "capacitance_nf = 0.0000001")]);
+    let (_, r) = variant(
+        "suspicious-y",
+        &[("capacitance_nf = 1.0", "capacitance_nf = 0.0000001")],
+    );
     assert_eq!(r["power_entry"]["verdicts"]["touch.output"], "check-input");
     let md = {
         let o = run(&["check", BASE]);

@@ -119,7 +119,11 @@ fn steady_state_peak_reads_the_steady_state_table_not_the_transient_table() {
     assert_eq!(at3.clearance_governed_by, "steady-state");
     // IEC 60664-1:2020 Table F.2, 1.5 kV, Case A -> 0.5 mm (confirmed [N20]) is the transient part
     assert_mm(at3.transient_clearance_mm.expect("a transient figure"), 0.5);
-    assert_mm(at3.steady_state_clearance_mm.expect("a steady-state figure"), 2.4);
+    assert_mm(
+        at3.steady_state_clearance_mm
+            .expect("a steady-state figure"),
+        2.4,
+    );
 
     let at5 = run(&SpacingQuery {
         transient_v: Some(1500.0),
@@ -296,7 +300,11 @@ fn altitude_3500_m_is_interpolated_only_when_the_project_switches_it_on() {
         ..query()
     });
     // Linear between 3000 m (1.14, indirectly confirmed [SE]) and 4000 m (1.29, confirmed): 1.215
-    assert!((r.altitude_factor - 1.215).abs() < 1e-6, "{}", r.altitude_factor);
+    assert!(
+        (r.altitude_factor - 1.215).abs() < 1e-6,
+        "{}",
+        r.altitude_factor
+    );
     // 1.5 mm x 1.215 = 1.8225 mm, rounded up to 0.01 mm -> 1.83 mm
     assert_mm(r.required_clearance_mm, 1.83);
     let text: String = r
@@ -464,9 +472,7 @@ creepage_mm = 2.0"#,
         .filter(|f| f.subject.as_deref() == Some("b1") && f.id.starts_with("barrier."))
         .collect();
     assert!(
-        about
-            .iter()
-            .all(|f| f.severity != Severity::Blocking),
+        about.iter().all(|f| f.severity != Severity::Blocking),
         "a functional shortfall must not block by itself: {about:?}"
     );
     let warning = about
@@ -474,7 +480,11 @@ creepage_mm = 2.0"#,
         .find(|f| f.id == "barrier.functional_creepage_short")
         .expect("a warning for the functional shortfall");
     assert_eq!(warning.severity, Severity::Warning);
-    assert!(warning.message.contains("fault test"), "{}", warning.message);
+    assert!(
+        warning.message.contains("fault test"),
+        "{}",
+        warning.message
+    );
     assert!(warning.message.contains("end-product standard"));
 }
 
@@ -663,7 +673,11 @@ speed = "time-lag""#,
         .iter()
         .find(|f| f.id == "part.test_voltage_out_of_table")
         .expect("a finding for the test voltage");
-    assert!(finding.message.contains("IEC 62368-1"), "{}", finding.message);
+    assert!(
+        finding.message.contains("IEC 62368-1"),
+        "{}",
+        finding.message
+    );
 
     let pe = report.power_entry.as_ref().expect("a power-entry section");
     let test = pe

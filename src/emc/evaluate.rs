@@ -3,9 +3,9 @@
 //! touch-current cap on the Y capacitance, and Middlebrook's criterion with damping.
 
 use super::filter::{
-    Complex, NetworkLine, Stage, TwoPort, asymptotic_attenuation_db, insertion_loss_db, characteristic_impedance_ohm, corner_for_attenuation,
-    inductance_for_corner_h, lc_corner_hz, optimum_parallel_damping, peak_output_impedance,
-    ratio_for_peak,
+    Complex, NetworkLine, Stage, TwoPort, asymptotic_attenuation_db, characteristic_impedance_ohm,
+    corner_for_attenuation, inductance_for_corner_h, insertion_loss_db, lc_corner_hz,
+    optimum_parallel_damping, peak_output_impedance, ratio_for_peak,
 };
 use super::limits::{OutOfBand, frequency_words, limit_dbuv};
 use super::noise::{self, BulkCapacitor, CommonModePath, ConverterFigures, Harmonic, Network};
@@ -80,7 +80,6 @@ pub struct InputProblem {
     pub span: Option<Span>,
     pub message: String,
 }
-
 
 fn cite(p: &Parameter) -> String {
     format!("{} ({})", show(p.value), p.cite())
@@ -247,9 +246,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                         limit_dbuv: limit,
                         limit_step,
                         required_db: p.level_dbuv - limit + margin_db,
-                        key_prefix: Some(
-                            p.key.trim_end_matches(".frequency_hz").to_string(),
-                        ),
+                        key_prefix: Some(p.key.trim_end_matches(".frequency_hz").to_string()),
                     });
                     dm_indices.push(i);
                     cm_indices.push(i);
@@ -761,7 +758,11 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         .is_none()
         .then(|| cm_corner_hz.map(|c| (c, "required")))
         .flatten();
-    let describe = |what: &str, declared_stage: bool, c: Option<(f64, &str)>, source: f64, load: &str| {
+    let describe = |what: &str,
+                    declared_stage: bool,
+                    c: Option<(f64, &str)>,
+                    source: f64,
+                    load: &str| {
         if declared_stage {
             format!(
                 "{what}: the declared stage's insertion loss, from a {} ohm source into the measuring network ({load}), damping and resonance included",
@@ -779,8 +780,20 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     };
     let after_filter = format!(
         "{}; {}. The measuring network is {} ohm in parallel with {} uH per line ({}); parasitics of the parts are left out.",
-        describe("differential mode", dm_stage.is_some(), dm_after, dm_source, "two lines in series"),
-        describe("common mode", cm_stage.is_some(), cm_after, cm_source, "two lines in parallel"),
+        describe(
+            "differential mode",
+            dm_stage.is_some(),
+            dm_after,
+            dm_source,
+            "two lines in series"
+        ),
+        describe(
+            "common mode",
+            cm_stage.is_some(),
+            cm_after,
+            cm_source,
+            "two lines in parallel"
+        ),
         show(model.line_impedance_ohm.value),
         show(model.network_inductance_uh.value),
         model.network_inductance_uh.source
@@ -837,29 +850,33 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         all.clone()
     };
     let judge = |c: &Candidate| {
-            let dm = dm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(dm_after, c.frequency_hz));
-            let cm = cm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(cm_after, c.frequency_hz));
-            let (filter_db, judged_by_declared) = match c.mode {
-                "differential" => (dm, dm_stage.is_some()),
-                "common" => (cm, cm_stage.is_some()),
-                _ => (dm.min(cm), dm_stage.is_some() && cm_stage.is_some()),
-            };
-            let after = c.level_dbuv - filter_db;
-            let mut verdict = if c.required_db <= 0.0 {
-                Verdict::Pass
-            } else if judged_by_declared {
-                Verdict::of(Some(after > c.limit_dbuv - margin_db))
-            } else {
-                Verdict::NotJudged
-            };
-            let keys: Vec<String> = match c.key_prefix.as_deref() {
-                Some(k) => vec![k.to_string(), "emc.filter".to_string(), "emc.margin_db".to_string()],
-                None => estimate_keys.clone(),
-            };
-            if verdict == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
-                verdict = Verdict::CheckInput;
-            }
-            (filter_db, after, verdict)
+        let dm = dm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(dm_after, c.frequency_hz));
+        let cm = cm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(cm_after, c.frequency_hz));
+        let (filter_db, judged_by_declared) = match c.mode {
+            "differential" => (dm, dm_stage.is_some()),
+            "common" => (cm, cm_stage.is_some()),
+            _ => (dm.min(cm), dm_stage.is_some() && cm_stage.is_some()),
+        };
+        let after = c.level_dbuv - filter_db;
+        let mut verdict = if c.required_db <= 0.0 {
+            Verdict::Pass
+        } else if judged_by_declared {
+            Verdict::of(Some(after > c.limit_dbuv - margin_db))
+        } else {
+            Verdict::NotJudged
+        };
+        let keys: Vec<String> = match c.key_prefix.as_deref() {
+            Some(k) => vec![
+                k.to_string(),
+                "emc.filter".to_string(),
+                "emc.margin_db".to_string(),
+            ],
+            None => estimate_keys.clone(),
+        };
+        if verdict == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
+            verdict = Verdict::CheckInput;
+        }
+        (filter_db, after, verdict)
     };
     let points: Vec<NoisePoint> = keep
         .iter()
@@ -983,12 +1000,21 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     };
     if let Some(y) = y_exact_nf {
         let cap = inputs.touch_limit.as_ref().map(|t| {
-            t.limit_ma / 1000.0 / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v) * 1e9
+            t.limit_ma
+                / 1000.0
+                / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v)
+                * 1e9
         });
         put(
             "y_capacitance_nf",
             Verdict::of(cap.filter(|c| c.is_finite()).map(|c| y > c)),
-            &["part", "emc.filter.y_", "mains", "input.max_frequency_hz", "input.end_product_standard"],
+            &[
+                "part",
+                "emc.filter.y_",
+                "mains",
+                "input.max_frequency_hz",
+                "input.end_product_standard",
+            ],
         );
     }
     let declared_dm_exact = match (f.dm_inductance_uh, f.x_capacitance_uf) {
@@ -998,7 +1024,10 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     if let Some(fc) = declared_dm_exact {
         put(
             "dm_corner_hz",
-            Verdict::of(dm2.map(|(_, req)| fc > req).or((!candidates.is_empty()).then_some(false))),
+            Verdict::of(
+                dm2.map(|(_, req)| fc > req)
+                    .or((!candidates.is_empty()).then_some(false)),
+            ),
             &["emc", "converter", "input.bulk_capacitance_uf"],
         );
     }
@@ -1009,12 +1038,19 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     if let Some(fc) = declared_cm_exact {
         put(
             "cm_corner_hz",
-            Verdict::of(cm2.map(|(_, req)| fc > req).or((!candidates.is_empty()).then_some(false))),
+            Verdict::of(
+                cm2.map(|(_, req)| fc > req)
+                    .or((!candidates.is_empty()).then_some(false)),
+            ),
             &["emc", "converter", "part"],
         );
     }
     if let Some(m) = &middlebrook {
-        put("middlebrook", Verdict::of(Some(!m.satisfied)), &["emc.filter", "converter", "mains"]);
+        put(
+            "middlebrook",
+            Verdict::of(Some(!m.satisfied)),
+            &["emc.filter", "converter", "mains"],
+        );
     }
     if !candidates.is_empty() {
         let all: Vec<Verdict> = candidates.iter().map(|c| judge(c).2).collect();

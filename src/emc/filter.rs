@@ -207,7 +207,12 @@ pub struct TwoPort {
 /// Insertion loss in dB of `stage` between a resistive source impedance and a load (the
 /// measuring network as the mode sees it): 20 log10 |V_load without / V_load with|.
 /// Negative near the resonance where the stage amplifies.
-pub fn insertion_loss_db(stage: &TwoPort, source_ohm: f64, load: Complex, frequency_hz: f64) -> f64 {
+pub fn insertion_loss_db(
+    stage: &TwoPort,
+    source_ohm: f64,
+    load: Complex,
+    frequency_hz: f64,
+) -> f64 {
     let w = 2.0 * PI * frequency_hz;
     let zs = Complex::new(source_ohm, 0.0);
     let mut shunt = Complex::new(0.0, -1.0 / (w * stage.shunt_capacitance_f));

@@ -58,7 +58,11 @@ pub const NULL_FRACTION: f64 = 1e-9;
 /// |sin(x) / x| for x = pi n f t_r: the trapezoid's extra fall, 1 at x = 0.
 pub fn trapezoid_factor(n: u64, switching_hz: f64, rise_time_s: f64) -> f64 {
     let x = std::f64::consts::PI * n as f64 * switching_hz * rise_time_s;
-    if x.abs() < 1e-12 { 1.0 } else { (x.sin() / x).abs() }
+    if x.abs() < 1e-12 {
+        1.0
+    } else {
+        (x.sin() / x).abs()
+    }
 }
 
 /// The measuring network as the estimate sees it.

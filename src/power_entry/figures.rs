@@ -7,8 +7,8 @@ use std::f64::consts::{PI, SQRT_2};
 use super::rectifier::{self, Rectifier};
 use super::*;
 use crate::diag::{Diagnostic, suggest};
-use crate::project::{CircuitKind, Grade, PartKind, ProtectionClass};
 use crate::emc::YArrangement;
+use crate::project::{CircuitKind, Grade, PartKind, ProtectionClass};
 use crate::rules::{EPS, TestVoltages};
 
 const PE: &str = "power_entry";
@@ -21,7 +21,6 @@ fn input(symbol: &str, value: f64, unit: &str, from: impl Into<String>) -> Input
         from: from.into(),
     }
 }
-
 
 fn sig(x: Option<f64>) -> Option<f64> {
     x.filter(|v| v.is_finite()).map(significant)
@@ -187,7 +186,9 @@ pub(super) fn evaluate(
 
     // The bulk capacitor's highest voltage: switch-on, hot restart and operation.
     let bulk_peak = max_of(points.iter().map(|p| p.exact_bulk_peak_v))
-        .map_or(inrush.exact_bulk_peak_v, |v| v.max(inrush.exact_bulk_peak_v));
+        .map_or(inrush.exact_bulk_peak_v, |v| {
+            v.max(inrush.exact_bulk_peak_v)
+        });
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         if f.id == format!("{PE}.bulk_peak_v") {
             f.value = sig(Some(bulk_peak));
@@ -219,13 +220,20 @@ pub(super) fn evaluate(
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         if let Some((_, v)) = copies.iter().find(|(id, _)| *id == f.id) {
             f.verdict = *v;
-            f.rests_on = vec!["input".into(), "mains".into(), "converter".into(), "emc.filter.dm_".into()];
+            f.rests_on = vec![
+                "input".into(),
+                "mains".into(),
+                "converter".into(),
+                "emc.filter.dm_".into(),
+            ];
         }
         if f.id == format!("{PE}.discharge_residual_v") && discharge.residual_limit_v.is_some() {
-            f.verdict = Some(Verdict::of(match (discharge.exact_residual_v, discharge.residual_limit_v) {
-                (Some(v), Some(l)) => Some(v > l),
-                _ => None,
-            }));
+            f.verdict = Some(Verdict::of(
+                match (discharge.exact_residual_v, discharge.residual_limit_v) {
+                    (Some(v), Some(l)) => Some(v > l),
+                    _ => None,
+                },
+            ));
         }
     }
     // A figure that rests on an implausible input is never `pass`.
@@ -586,9 +594,19 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
     let l_in = || {
         let mut v = Vec::new();
         if lrc_used && let Some(l) = l_uh {
-            v.push(input("L", l, "µH", "emc.filter.dm_inductance_uh (in the charging path)"));
+            v.push(input(
+                "L",
+                l,
+                "µH",
+                "emc.filter.dm_inductance_uh (in the charging path)",
+            ));
             if r_l > 0.0 {
-                v.push(input("R_L", r_l, "Ω", "emc.filter.dm_inductor_resistance_ohm"));
+                v.push(input(
+                    "R_L",
+                    r_l,
+                    "Ω",
+                    "emc.filter.dm_inductor_resistance_ohm",
+                ));
             }
         }
         v
@@ -605,10 +623,17 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
                 show(significant(v_pk / z0.unwrap_or(f64::NAN))),
                 show(significant(resistive)),
                 show(significant(x.bulk_peak_v)),
-                if x.converged { "" } else { " (the step halvings did not agree within 1e-5: an estimate)" }
+                if x.converged {
+                    ""
+                } else {
+                    " (the step halvings did not agree within 1e-5: an estimate)"
+                }
             ),
         ),
-        None => Step::new(None, "R-C: no filter inductance is declared in the charging path (emc.filter.dm_inductance_uh)."),
+        None => Step::new(
+            None,
+            "R-C: no filter inductance is declared in the charging path (emc.filter.dm_inductance_uh).",
+        ),
     };
     let surge_fails = |peak: f64| spec.bridge_surge_a.map(|a| peak > a);
     let inrush_keys: &[&str] = &[
@@ -909,7 +934,8 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
                 .filter(|_| r_hot_lim > 0.0),
             energy_balance_error: ok(s.energy_balance_error),
             exact_input_rms_a: (s.sustained && s.input_rms_a.is_finite()).then_some(s.input_rms_a),
-            exact_bulk_valley_v: (s.sustained && s.bulk_valley_v.is_finite()).then_some(s.bulk_valley_v),
+            exact_bulk_valley_v: (s.sustained && s.bulk_valley_v.is_finite())
+                .then_some(s.bulk_valley_v),
             exact_bulk_peak_v: (s.sustained && s.bulk_peak_v.is_finite()).then_some(s.bulk_peak_v),
         };
         figures.extend(point_figures(b, conv, &rect, &s, &point));
@@ -1209,10 +1235,7 @@ fn fuse(
     let max_operating = f.rated_a.map(|a| a * derating);
     let required_i2t = pulse.map(|p| p.factor * inrush.exact_i2t_a2s);
     let rated_supply_declared = b.spec.highest_rated_v.is_some();
-    let rated_supply = b
-        .spec
-        .highest_rated_v
-        .unwrap_or(b.project.mains.nominal_v);
+    let rated_supply = b.spec.highest_rated_v.unwrap_or(b.project.mains.nominal_v);
     if !rated_supply_declared && f.rated_v.is_some() {
         b.assumptions.push(format!(
             "The equipment's highest rated voltage is taken as mains.nominal_v = {} V for the fuse's voltage rating (input.highest_rated_v not given; 240 for a 100-240 V rating).",
@@ -1372,12 +1395,19 @@ fn fuse(
             "A²s",
         )
         .formula("I²t_hot (inrush section)")
-        .judged(f.melting_i2t_a2s.map(|m| m < inrush.exact_hot_restart_i2t_a2s))
+        .judged(
+            f.melting_i2t_a2s
+                .map(|m| m < inrush.exact_hot_restart_i2t_a2s),
+        )
         .rests_on(&["input", "mains", "emc.filter.dm_"])
         .done(
             Vec::new(),
-            f.melting_i2t_a2s
-                .map(|m| format!("the fuse's melting I²t input.fuse.melting_i2t_a2s = {} A²s", show(m))),
+            f.melting_i2t_a2s.map(|m| {
+                format!(
+                    "the fuse's melting I²t input.fuse.melting_i2t_a2s = {} A²s",
+                    show(m)
+                )
+            }),
             Vec::new(),
         ),
     );
@@ -1444,7 +1474,8 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
     let t_res = rules.residual_after_s.value;
     let residual = tau.map(|t| v_pk * (-t_res / t).exp());
     // Without a bleeder nothing is credited: the crest stays.
-    let residual = residual.or((across.is_some_and(|c| c > 0.0) && spec.bleeder_ohm.is_none()).then_some(v_pk));
+    let residual = residual
+        .or((across.is_some_and(|c| c > 0.0) && spec.bleeder_ohm.is_none()).then_some(v_pk));
     let tau_fails = if required && limit.is_some() {
         match (tau, spec.bleeder_ohm) {
             (_, None) => Some(true),
@@ -1463,7 +1494,9 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         bleeder_fault_tolerant: tolerant,
         threshold_uf: threshold,
         required,
-        not_applicable_reason: exempt.filter(|_| above).map(|x| format!("{} ({})", x.reason, x.source)),
+        not_applicable_reason: exempt
+            .filter(|_| above)
+            .map(|x| format!("{} ({})", x.reason, x.source)),
         time_constant_s: sig(tau),
         max_time_constant_s: limit.map(|l| l.max_time_constant_s),
         residual_after_s: t_res,
@@ -1498,7 +1531,11 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         }
         v
     };
-    let c_words = if damping_uf.is_some() { "(C_X + C_d)" } else { "C_X" };
+    let c_words = if damping_uf.is_some() {
+        "(C_X + C_d)"
+    } else {
+        "C_X"
+    };
     let limit_words = match (limit, exempt) {
         (_, Some(x)) => format!(
             "no limit for connection = \"{}\": {}",
@@ -1527,8 +1564,16 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
                 Some(x) if above => format!(
                     "{} µF across the line{} is above it{}",
                     show(significant(x)),
-                    if damping_uf.is_some() { " (X capacitance plus the damping capacitor)" } else { "" },
-                    if exempt.is_some() { ", but not for this connection (below)" } else { ", so a discharge means is required" }
+                    if damping_uf.is_some() {
+                        " (X capacitance plus the damping capacitor)"
+                    } else {
+                        ""
+                    },
+                    if exempt.is_some() {
+                        ", but not for this connection (below)"
+                    } else {
+                        ", so a discharge means is required"
+                    }
                 ),
                 Some(x) => format!(
                     "{} µF across the line is not above it, so no discharge means is required",
@@ -1539,7 +1584,15 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         ),
     )];
     if let Some(x) = exempt {
-        tau_steps.push(Step::new(rule, format!("connection = \"{}\": {} ({}).", connection.as_str(), x.reason, x.source)));
+        tau_steps.push(Step::new(
+            rule,
+            format!(
+                "connection = \"{}\": {} ({}).",
+                connection.as_str(),
+                x.reason,
+                x.source
+            ),
+        ));
     }
     if spec.bleeder_ohm.is_none() {
         tau_steps.push(Step::new(None, "No bleeder is declared (input.bleeder_ohm): nothing discharges the capacitance across the line but the converter, which is not credited."));
@@ -1588,7 +1641,11 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
                 format!(
                     "{}; no limit on this voltage is shipped, a house rule may add one.{}",
                     rules.residual_after_s.source,
-                    if spec.bleeder_ohm.is_none() { " Without a bleeder nothing is credited: the crest remains." } else { "" }
+                    if spec.bleeder_ohm.is_none() {
+                        " Without a bleeder nothing is credited: the crest remains."
+                    } else {
+                        ""
+                    }
                 ),
             )],
         ),
@@ -1753,7 +1810,10 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
         }
         let mut steps = Vec::new();
         if !caps.is_empty() {
-            steps.push(Step::new(None, touch_model(arrangement, caps.len(), counted_nf)));
+            steps.push(Step::new(
+                None,
+                touch_model(arrangement, caps.len(), counted_nf),
+            ));
         }
         if caps.is_empty() {
             steps.push(Step::new(None, "No Y-capacitor bridges a barrier from a mains or hazardous circuit to this circuit: no touch current through Y-capacitors."));
@@ -1829,7 +1889,11 @@ fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircu
         "Limits of {standard_title} (rule table {}). The Y-capacitors counted bridge a barrier from a mains or hazardous circuit to the accessible circuit. Earthed parts of Class I equipment are judged with the protective earth open. Y arrangement \"{}\"{}.",
         TouchRules::ID,
         arrangement.as_str(),
-        if declared_arrangement.is_some() { " (emc.filter.y_arrangement)" } else { " (emc.filter.y_arrangement not given: the default for the protection class)" }
+        if declared_arrangement.is_some() {
+            " (emc.filter.y_arrangement)"
+        } else {
+            " (emc.filter.y_arrangement not given: the default for the protection class)"
+        }
     )];
     if out.is_empty() {
         notes.push("No circuit is declared accessible: no touch current to judge.".to_string());
@@ -1936,21 +2000,21 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             Some(crate::parts::beyond_test_table(table))
         };
         let mut figure = Figure::new(
-                &format!("test_voltage.{}", barrier.id),
-                format!(
-                    "Electric strength test, {} ({})",
-                    barrier.id,
-                    barrier.grade.as_str()
-                ),
-                value,
-                "V rms",
-            )
-            .formula("table lookup: the first row whose working peak is at or above the barrier's")
-            .done(
-                vec![input("V_work,pk", peak, "V", peak_from)],
-                None,
-                vec![Step::new(rule, text)],
-            );
+            &format!("test_voltage.{}", barrier.id),
+            format!(
+                "Electric strength test, {} ({})",
+                barrier.id,
+                barrier.grade.as_str()
+            ),
+            value,
+            "V rms",
+        )
+        .formula("table lookup: the first row whose working peak is at or above the barrier's")
+        .done(
+            vec![input("V_work,pk", peak, "V", peak_from)],
+            None,
+            vec![Step::new(rule, text)],
+        );
         figure.not_computed_because = if !required {
             Some("no electric strength test applies to functional insulation".to_string())
         } else if beyond {

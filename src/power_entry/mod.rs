@@ -629,4 +629,3 @@ fn explain_figure(out: &mut String, f: &Derived) {
 pub fn significant(x: f64) -> f64 {
     x
 }
-

@@ -222,7 +222,8 @@ pub fn steady_state_with(
     let input_rms_a = (tally.sum_i2 / n).sqrt();
     let input_power_w = tally.sum_ui / n;
     let apparent = r.v_rms * input_rms_a;
-    let accounted = r.load_w + r.series_ohm * input_rms_a * input_rms_a + r.diode_drop_v * tally.sum_i / n;
+    let accounted =
+        r.load_w + r.series_ohm * input_rms_a * input_rms_a + r.diode_drop_v * tally.sum_i / n;
     let energy_balance_error = if input_power_w > 0.0 {
         (input_power_w - accounted).abs() / input_power_w
     } else {

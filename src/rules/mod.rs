@@ -290,13 +290,21 @@ impl RuleBook {
             retired: Vec<Retired>,
         }
         let mut retired: Vec<Retired> = Vec::new();
-        for l in order.iter().filter_map(|id| files.get(id)).filter(|l| !l.is_checks) {
+        for l in order
+            .iter()
+            .filter_map(|id| files.get(id))
+            .filter(|l| !l.is_checks)
+        {
             let list = match l.shipped {
-                Some(s) if s.json.contains("\"retired\"") => serde_json::from_str::<RetiredList>(s.json)
-                    .map_err(|e| Diagnostic::new(&l.source.name, e.to_string())),
+                Some(s) if s.json.contains("\"retired\"") => {
+                    serde_json::from_str::<RetiredList>(s.json)
+                        .map_err(|e| Diagnostic::new(&l.source.name, e.to_string()))
+                }
                 Some(_) => continue,
-                None if l.source.text.contains("retired") => toml::from_str::<RetiredList>(&l.source.text)
-                    .map_err(|e| toml_problem(&l.source, &e, "")),
+                None if l.source.text.contains("retired") => {
+                    toml::from_str::<RetiredList>(&l.source.text)
+                        .map_err(|e| toml_problem(&l.source, &e, ""))
+                }
                 None => continue,
             };
             match list {

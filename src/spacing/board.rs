@@ -10,7 +10,6 @@ pub struct BoardFigure {
     pub column: &'static str,
 }
 
-
 /// Above this altitude uncoated outer conductors move from column B2 to B3.
 pub const B3_ABOVE_M: f64 = 3050.0;
 
@@ -100,53 +99,58 @@ pub fn functional_spacing(
     cond: &Conditions,
     barrier: &Barrier,
 ) -> Result<BoardFigure, OutOfTable> {
-    let mut steps = vec![Step::new(None, 
+    let mut steps = vec![Step::new(
+        None,
         "Functional insulation on a printed board: IPC-2221B conductor spacing applies (not IEC 60664-1).",
     )];
-    let peak = match barrier.working_peak_v {
-        Some(p) => {
-            steps.push(Step::new(None, format!(
-                "Working peak voltage {} V as declared.",
-                show(p)
-            )));
-            p
-        }
-        None => {
-            let p = barrier.peak_v();
-            steps.push(Step::new(None, format!(
+    let peak =
+        match barrier.working_peak_v {
+            Some(p) => {
+                steps.push(Step::new(
+                    None,
+                    format!("Working peak voltage {} V as declared.", show(p)),
+                ));
+                p
+            }
+            None => {
+                let p = barrier.peak_v();
+                steps.push(Step::new(None, format!(
                 "Working peak voltage not declared: {} V rms x sqrt(2) = {} V (sinusoidal).",
                 show(barrier.working_rms_v),
                 show(p)
             )));
-            p
-        }
-    };
+                p
+            }
+        };
     let column = column(
         barrier.board.conductor,
         barrier.board.coating,
         cond.altitude_m,
     );
-    steps.push(Step::new(None, format!(
-        "Column {column}: {} conductor, coating {}, altitude {} m (B3 replaces B2 above {} m).",
-        match barrier.board.conductor {
-            BoardConductor::OuterLayer => "outer-layer",
-            BoardConductor::InnerLayer => "inner-layer",
-            BoardConductor::ComponentLead => "component-lead",
-        },
-        match barrier.board.coating {
-            BoardCoating::None => "none",
-            BoardCoating::Polymer => "permanent polymer",
-            BoardCoating::Conformal => "conformal",
-        },
-        show(cond.altitude_m),
-        show(B3_ABOVE_M)
-    )));
+    steps.push(Step::new(
+        None,
+        format!(
+            "Column {column}: {} conductor, coating {}, altitude {} m (B3 replaces B2 above {} m).",
+            match barrier.board.conductor {
+                BoardConductor::OuterLayer => "outer-layer",
+                BoardConductor::InnerLayer => "inner-layer",
+                BoardConductor::ComponentLead => "component-lead",
+            },
+            match barrier.board.coating {
+                BoardCoating::None => "none",
+                BoardCoating::Polymer => "permanent polymer",
+                BoardCoating::Conformal => "conformal",
+            },
+            show(cond.altitude_m),
+            show(B3_ABOVE_M)
+        ),
+    ));
     let (mm, step) = table_spacing(&rules.board, peak, column)?;
     steps.push(step);
-    steps.push(Step::new(None, format!(
-        "Required spacing (functional): {} mm.",
-        show(mm)
-    )));
+    steps.push(Step::new(
+        None,
+        format!("Required spacing (functional): {} mm.", show(mm)),
+    ));
     Ok(BoardFigure {
         figure: Figure { mm, steps },
         column,

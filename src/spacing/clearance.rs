@@ -470,10 +470,13 @@ pub fn required(
     let steady_table = &rules.steady_state;
     let peak = match barrier.working_peak_v {
         Some(p) => {
-            steps.push(Step::new(None, format!(
-                "Steady-state or recurring peak voltage {} V as declared (working_peak_v).",
-                show(p)
-            )));
+            steps.push(Step::new(
+                None,
+                format!(
+                    "Steady-state or recurring peak voltage {} V as declared (working_peak_v).",
+                    show(p)
+                ),
+            ));
             p
         }
         None => {
@@ -551,19 +554,25 @@ pub fn required(
     steps.push(step);
     if factor > 1.0 {
         let corrected = round_up(mm * factor, 0.01);
-        steps.push(Step::new(None, format!(
-            "{} mm x {} = {} mm, rounded up to 0.01 mm.",
-            show(mm),
-            show(factor),
-            show(corrected)
-        )));
+        steps.push(Step::new(
+            None,
+            format!(
+                "{} mm x {} = {} mm, rounded up to 0.01 mm.",
+                show(mm),
+                show(factor),
+                show(corrected)
+            ),
+        ));
         mm = corrected;
     }
-    steps.push(Step::new(None, format!(
-        "Required clearance ({}): {} mm.",
-        grade_label(barrier.grade),
-        show(mm)
-    )));
+    steps.push(Step::new(
+        None,
+        format!(
+            "Required clearance ({}): {} mm.",
+            grade_label(barrier.grade),
+            show(mm)
+        ),
+    ));
     Ok(Clearance {
         figure: Figure {
             mm: tidy(mm),

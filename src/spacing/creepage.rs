@@ -15,7 +15,6 @@ pub struct Creepage {
     pub governed_by: &'static str,
 }
 
-
 /// The material group of a barrier, with the step that says how it was found.
 pub fn material_group(
     table: &MaterialGroupTable,
@@ -28,7 +27,8 @@ pub fn material_group(
         )),
         Material::Unstated => Ok((
             MaterialGroup::IIIb,
-            Step::new(None, 
+            Step::new(
+                None,
                 "Material group IIIb assumed (neither material_group nor cti declared): the least favourable group.",
             ),
         )),
@@ -258,11 +258,14 @@ pub fn required(
         mm = clearance.mm;
         governed_by = "clearance";
     }
-    steps.push(Step::new(None, format!(
-        "Required creepage ({}): {} mm.",
-        grade_label(barrier.grade),
-        show(mm)
-    )));
+    steps.push(Step::new(
+        None,
+        format!(
+            "Required creepage ({}): {} mm.",
+            grade_label(barrier.grade),
+            show(mm)
+        ),
+    ));
     Ok(Creepage {
         figure: Figure {
             mm: tidy(mm),

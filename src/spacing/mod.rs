@@ -326,7 +326,8 @@ fn functional_on_board(
     };
     let ipc_mm = ipc.figure.mm;
     let table_mm = table.figure.mm;
-    let mut steps = vec![Step::new(None, 
+    let mut steps = vec![Step::new(
+        None,
         "Functional insulation on a printed board: IEC 60664-1 Table F.5 (F.4 in 2007) applies to functional insulation too, and IPC-2221B gives a spacing for correct operation; both are given and the larger is the required creepage.",
     )];
     steps.extend(table.figure.steps);
@@ -343,17 +344,20 @@ fn functional_on_board(
     } else {
         (ipc_mm, "ipc2221b")
     };
-    steps.push(Step::new(None, format!(
-        "The {} governs: {} mm (creepage table {} mm, IPC-2221B {} mm).",
-        if governed_by == "ipc2221b" {
-            "IPC-2221B figure"
-        } else {
-            "creepage table"
-        },
-        show(mm),
-        show(table_mm),
-        show(ipc_mm)
-    )));
+    steps.push(Step::new(
+        None,
+        format!(
+            "The {} governs: {} mm (creepage table {} mm, IPC-2221B {} mm).",
+            if governed_by == "ipc2221b" {
+                "IPC-2221B figure"
+            } else {
+                "creepage table"
+            },
+            show(mm),
+            show(table_mm),
+            show(ipc_mm)
+        ),
+    ));
     steps.push(Step::new(None, format!(
         "Required creepage (functional): {} mm. A shortfall is a warning: the end-product standard may accept functional insulation that passes a fault test (the insulation short-circuited) instead.",
         show(mm)
@@ -421,10 +425,13 @@ fn house_minimums(
     }
     let mut raised_to_clearance = false;
     if (applied[0] || applied[1]) && creepage.mm < clearance.mm {
-        creepage.steps.push(Step::new(None, format!(
-            "Raised to the required clearance {} mm.",
-            show(clearance.mm)
-        )));
+        creepage.steps.push(Step::new(
+            None,
+            format!(
+                "Raised to the required clearance {} mm.",
+                show(clearance.mm)
+            ),
+        ));
         creepage.mm = clearance.mm;
         raised_to_clearance = true;
     }
