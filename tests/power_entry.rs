@@ -1498,7 +1498,7 @@ fn figure<'a>(report: &'a Value, id: &str) -> &'a Value {
         .as_array()
         .expect("sections")
         .iter()
-        .flat_map(|s| s["figures"].as_array().expect("figures").iter())
+        .flat_map(|s| s["figures"].as_array().into_iter().flatten())
         .find(|f| f["id"] == id)
         .unwrap_or_else(|| panic!("no figure {id}"))
 }
@@ -2006,4 +2006,28 @@ fn a_figure_resting_on_an_implausible_input_is_check_input_never_pass() {
         stdout(&o)
     };
     assert!(md.contains("| verdict |"));
+}
+
+#[test]
+fn regression_inrush_time_constant_lists_every_resistance_it_sums() {
+    // tau = (R_cold + R_s + R_L) C: with the filter's winding resistance in the charging
+    // path the figure must list R_L among its inputs, or a reviewer cannot recompute it.
+    // Class II example: (10 + 0.5 + 2.2) ohm x 47 uF = 0.5969 ms (circuit theory).
+    let (_, r) = check_json(CLASS2_EXAMPLE);
+    let tau = figure(&r, "power_entry.inrush_time_constant_ms");
+    let expected_ms = (10.0 + 0.5 + 2.2) * 47e-6 * 1e3;
+    let value = tau["value"].as_f64().expect("a value");
+    assert!((value - expected_ms).abs() < 1e-9, "{value} ms");
+    let symbols: Vec<&str> = tau["inputs"]
+        .as_array()
+        .expect("inputs")
+        .iter()
+        .map(|i| i["symbol"].as_str().expect("symbol"))
+        .collect();
+    assert_eq!(symbols, ["R_cold", "R_s", "R_L", "C"]);
+    let sum: f64 = tau["inputs"].as_array().expect("inputs")[..3]
+        .iter()
+        .map(|i| i["value"].as_f64().expect("value"))
+        .sum();
+    assert!((sum * 47e-6 * 1e3 - value).abs() < 1e-9);
 }

@@ -702,7 +702,14 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         )
         .formula(format!("τ = {r_cold_words} × C"))
         .done(
-            [cold_in("at switch-on"), vec![r_s_in.clone(), c_in.clone()]].concat(),
+            [
+                cold_in("at switch-on"),
+                vec![r_s_in.clone()],
+                // The inductor's winding resistance is in the charging path; L itself is not in τ.
+                l_in().into_iter().filter(|i| i.symbol == "R_L").collect(),
+                vec![c_in.clone()],
+            ]
+            .concat(),
             None,
             vec![Step::new(None, "A bridge's surge rating is given for a 8.3 ms or 10 ms half-sine: a pulse much shorter than that is judged conservatively by its peak.")],
         ),
