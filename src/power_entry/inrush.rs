@@ -211,7 +211,13 @@ fn next_unblocked_step(n: usize, h: f64, omega: f64, ratio: f64, steps: usize) -
     // |cos| repeats every pi of phase; within one period it exceeds `ratio` before
     // acos(ratio) and after pi - acos(ratio).
     let phase = (omega * t).rem_euclid(PI);
-    let reopen_phase = PI - ratio.acos();
+    let window = ratio.acos();
+    if phase <= window + 1e-6 {
+        // Rounding put a blocked grid point inside (or at the edge of) the window after the
+        // crest: step on rather than skip what may remain of that window.
+        return next;
+    }
+    let reopen_phase = PI - window;
     // Rounding of acos near 1 is about sqrt(machine epsilon) ~ 1.5e-8 rad; 1e-6 rad and
     // four steps of margin are far beyond it and beyond the rounding of t and omega t.
     let wait = (reopen_phase - phase - 1e-6) / omega;
