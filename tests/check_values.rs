@@ -3,35 +3,13 @@
 //! shipped `rules/` files, and each one names that source and how sure it is.
 
 mod common;
-use common::query;
+use common::{query, spacing_of as run, spacing_refusal as refusal};
 
-use gapwarden::commands::{SpacingQuery, spacing};
+use gapwarden::commands::SpacingQuery;
 use gapwarden::project::{
     BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
 };
-use gapwarden::rules::RuleBook;
 use gapwarden::spacing::{BarrierResult, Verdict};
-
-fn rules() -> RuleBook {
-    RuleBook::shipped().unwrap_or_else(|p| panic!("the shipped rule tables do not load:\n{p}"))
-}
-
-/// The engine's figures for a query that lies inside every table.
-fn run(q: &SpacingQuery) -> BarrierResult {
-    spacing(&rules(), q)
-        .unwrap_or_else(|p| panic!("a query inside the tables was refused:\n{p}\nquery: {q:?}"))
-}
-
-/// The message of a query the engine must refuse.
-fn refusal(q: &SpacingQuery) -> String {
-    match spacing(&rules(), q) {
-        Ok(r) => panic!(
-            "expected a refusal, got clearance {} mm and creepage {} mm for {q:?}",
-            r.required_clearance_mm, r.required_creepage_mm
-        ),
-        Err(p) => p.to_string(),
-    }
-}
 
 #[track_caller]
 fn assert_mm(actual: f64, expected: f64) {

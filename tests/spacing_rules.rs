@@ -5,36 +5,16 @@
 //! from the shared reference notes (REFERENCES.md) or is worked out here, never from `rules/`.
 
 mod common;
-use common::query;
+use common::{query, shipped_rules as rules, spacing_of as run, spacing_refusal as refusal};
 
 use gapwarden::checks::Severity;
-use gapwarden::commands::{SpacingQuery, spacing};
+use gapwarden::commands::SpacingQuery;
 use gapwarden::diag::Source;
 use gapwarden::project::{
     BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
 };
 use gapwarden::report::{Report, Templates, check_source, render_markdown};
-use gapwarden::rules::RuleBook;
 use gapwarden::spacing::{BarrierResult, Verdict};
-
-fn rules() -> RuleBook {
-    RuleBook::shipped().unwrap_or_else(|p| panic!("the shipped rule tables do not load:\n{p}"))
-}
-
-fn run(q: &SpacingQuery) -> BarrierResult {
-    spacing(&rules(), q)
-        .unwrap_or_else(|p| panic!("a query inside the tables was refused:\n{p}\nquery: {q:?}"))
-}
-
-fn refusal(q: &SpacingQuery) -> String {
-    match spacing(&rules(), q) {
-        Ok(r) => panic!(
-            "expected a refusal, got clearance {} mm for {q:?}",
-            r.required_clearance_mm
-        ),
-        Err(p) => p.to_string(),
-    }
-}
 
 #[track_caller]
 fn assert_mm(actual: f64, expected: f64) {

@@ -6,10 +6,12 @@ use std::path::Path;
 use std::process::Output;
 
 use assert_cmd::cargo::cargo_bin_cmd;
-use gapwarden::commands::SpacingQuery;
+use gapwarden::commands::{SpacingQuery, spacing};
 use gapwarden::project::{
     BetweenRows, BoardCoating, BoardConductor, Field, Grade, MaterialGroup, OvervoltageCategory,
 };
+use gapwarden::rules::RuleBook;
+use gapwarden::spacing::BarrierResult;
 
 /// The crate root: examples and fixtures are named relative to it.
 pub fn root() -> &'static Path {
@@ -87,5 +89,27 @@ pub fn query() -> SpacingQuery {
         altitude_between_rows: BetweenRows::NextRow,
         clearance_mm: None,
         creepage_mm: None,
+    }
+}
+
+/// The shipped rule book, which every spacing check value is read against.
+pub fn shipped_rules() -> RuleBook {
+    RuleBook::shipped().unwrap_or_else(|p| panic!("the shipped rule tables do not load:\n{p}"))
+}
+
+/// The engine's figures for a spacing query that lies inside every table.
+pub fn spacing_of(q: &SpacingQuery) -> BarrierResult {
+    spacing(&shipped_rules(), q)
+        .unwrap_or_else(|p| panic!("a query inside the tables was refused:\n{p}\nquery: {q:?}"))
+}
+
+/// The message of a spacing query the engine must refuse.
+pub fn spacing_refusal(q: &SpacingQuery) -> String {
+    match spacing(&shipped_rules(), q) {
+        Ok(r) => panic!(
+            "expected a refusal, got clearance {} mm and creepage {} mm for {q:?}",
+            r.required_clearance_mm, r.required_creepage_mm
+        ),
+        Err(p) => p.to_string(),
     }
 }
