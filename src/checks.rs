@@ -8,7 +8,6 @@ use serde::Serialize;
 
 use crate::diag::{Diagnostic, Problems};
 use crate::rules::{CheckDef, Cond, Over, RuleBook};
-use crate::spacing::show;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -55,12 +54,7 @@ pub fn expression_environment() -> Environment<'static> {
     // Keeps the source context in errors in release builds too, so a misspelt field in a
     // house check is shown with its expression, not as a bare "undefined value".
     env.set_debug(true);
-    env.add_filter("num", |value: Value| -> String {
-        match f64::try_from(value.clone()) {
-            Ok(x) => show(x),
-            Err(_) => value.to_string(),
-        }
-    });
+    env.add_filter("num", |value: Value| crate::report::value_number(&value));
     env
 }
 

@@ -16,6 +16,7 @@ use crate::project::{
 use crate::rules::{RuleBook, RuleInfo};
 use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
 
+pub(crate) use render::number as value_number;
 pub use render::{
     Templates, house_template_files, md_escape, render_html, render_json, render_markdown, to_json,
     with_templates,
@@ -202,19 +203,25 @@ const SHARED_BARRIER_INPUTS: &[&str] = &["environment.", "mains.nominal_v", "boa
 /// A barrier that would pass on an implausible input says "check-input" instead: a figure
 /// resting on a value that looks like a unit slip is never a pass.
 fn mark_check_input(barriers: &mut [BarrierResult], warnings: &[crate::diag::Diagnostic]) {
-    for w in warnings {
-        let Some(key) = &w.key else { continue };
-        let shared = SHARED_BARRIER_INPUTS.iter().any(|p| key.starts_with(p));
+    let mut shared = false;
+    let mut own = std::collections::BTreeSet::new();
+    for key in warnings.iter().filter_map(|w| w.key.as_deref()) {
+        shared |= SHARED_BARRIER_INPUTS.iter().any(|p| key.starts_with(p));
         // The reader names the n-th [[barrier]] table `barrier[n]`, from 1, in file order,
         // which is the order of `barriers`.
-        let own = key
+        if let Some(n) = key
             .strip_prefix("barrier[")
             .and_then(|rest| rest.split_once(']'))
-            .and_then(|(n, _)| n.parse::<usize>().ok());
-        for (i, b) in barriers.iter_mut().enumerate() {
-            if (shared || own == Some(i + 1)) && b.verdict == Verdict::Pass {
-                b.verdict = Verdict::CheckInput;
-            }
+            .and_then(|(n, _)| n.parse::<usize>().ok())
+        {
+            own.insert(n);
+        }
+    }
+    // One pass over the barriers, however many warnings: a large design with an implausible
+    // value on every barrier stays linear.
+    for (i, b) in barriers.iter_mut().enumerate() {
+        if (shared || own.contains(&(i + 1))) && b.verdict == Verdict::Pass {
+            b.verdict = Verdict::CheckInput;
         }
     }
 }

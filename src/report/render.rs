@@ -341,7 +341,9 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     Ok(env)
 }
 
-fn number(value: &Value) -> String {
+/// A template value as the report prints it: numbers through the one formatter, anything
+/// else as itself (the `num` filter of checks' messages prints the same way).
+pub(crate) fn number(value: &Value) -> String {
     match f64::try_from(value.clone()) {
         Ok(x) => show(x),
         Err(_) => value.to_string(),
