@@ -490,7 +490,12 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         })
     };
     let cold_lrc = lrc(r_cold);
-    let hot_lrc = lrc(r_hot);
+    // A resistor limiter (or none) has the same path hot and cold: one simulation serves both.
+    let hot_lrc = if r_hot == r_cold {
+        cold_lrc
+    } else {
+        lrc(r_hot)
+    };
     let (peak_a, i2t) = match &cold_lrc {
         Some(x) => (x.peak_a, x.i2t_a2s),
         None => (resistive_peak, resistive_i2t),
