@@ -350,7 +350,7 @@ mod tests {
         // The fixture declares 2.4 mm across reinforced insulation on a 230 V, OVC II
         // system, which needs 3.0 mm: 2500 V (IEC 60664-1 Table F.1), one step up for
         // reinforced -> 4000 V, Table F.2 Case A -> 3.0 mm (REFERENCES.md, Table F.2).
-        // The shipped Class II example is ready for review (tests/cli.rs pins its exit 0).
+        // The shipped Class II example is ready for review (tests/it/cli.rs pins its exit 0).
         let worse = compare_files(&example, &fixture, &rules).expect("both read");
         assert_eq!(worse.exit_status(false), ExitStatus::NotReady);
         assert!(worse.markdown.starts_with("# Revision comparison"));

@@ -20,7 +20,7 @@ use serde::Serialize;
 
 /// Steps per half-cycle of the mains the adaptive search starts from. With this step,
 /// halving it changes the input RMS current by well under 0.5 % over the designs in
-/// `tests/power_entry.rs`; where R C is shorter than a step it is not enough, so
+/// `tests/it/power_entry.rs`; where R C is shorter than a step it is not enough, so
 /// [`steady_state`] doubles it until the energy balances.
 pub const STEPS_PER_HALF_CYCLE: usize = 2000;
 

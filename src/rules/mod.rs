@@ -132,7 +132,7 @@ impl RuleBook {
     }
 
     /// Loads with the checks validated against `fields`; an empty list validates nothing,
-    /// which is how the list itself is regenerated (`tests/check_fields.rs`).
+    /// which is how the list itself is regenerated (`tests/it/check_fields.rs`).
     pub fn load_with_fields(
         house: Option<&Path>,
         fields: &predicate::Fields,

@@ -1,6 +1,6 @@
 //! Physical invariants over whole random designs, read and evaluated through the library
 //! as a project file (`report::check_source`), so the reader, the defaults and the report
-//! model are part of what is checked. `tests/properties.rs` covers the spacing engine on
+//! model are part of what is checked. `tests/it/properties.rs` covers the spacing engine on
 //! its own; here the same directions are checked from the project file, and the power
 //! entry and the EMC filter get theirs:
 //!

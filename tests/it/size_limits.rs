@@ -5,7 +5,7 @@
 //! address-space limit (`ulimit -v` in `sh -c`), so a regression fails the test instead of
 //! exhausting the machine.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::path::{Path, PathBuf};

@@ -9,7 +9,7 @@
 //! and numerical integration done here. None is read from rules/. Fixtures in
 //! tests/fixtures/emc-*.toml are invented design scenarios, not real products.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::f64::consts::PI;

@@ -2,7 +2,7 @@
 //! this project (the published tables as cited in the shared reference notes), never from the
 //! shipped `rules/` files, and each one names that source and how sure it is.
 
-mod common;
+use crate::common;
 use common::{query, spacing_of as run, spacing_refusal as refusal};
 
 use gapwarden::commands::SpacingQuery;

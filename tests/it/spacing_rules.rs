@@ -4,7 +4,7 @@
 //! verdicts and electric strength tests above the shipped table. Every expected figure comes
 //! from the shared reference notes (REFERENCES.md) or is worked out here, never from `rules/`.
 
-mod common;
+use crate::common;
 use common::{query, shipped_rules as rules, spacing_of as run, spacing_refusal as refusal};
 
 use gapwarden::checks::Severity;

@@ -17,7 +17,7 @@ use assert_cmd::cargo::cargo_bin_cmd;
 use serde_json::Value;
 
 /// The base project: every table of the project file, valid, no error.
-const BASE: &str = include_str!("../examples/class2-adapter.toml");
+const BASE: &str = include_str!("../../examples/class2-adapter.toml");
 
 /// Stands for a quoted string of 5000 characters (the reader allows 4000).
 const LONG: &str = "<long-string>";

@@ -6,7 +6,7 @@
 //! relative to it, so messages and reports carry the paths as a user would type them.
 //! Fixtures in tests/fixtures/ are invented design scenarios, not real products.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::path::{Path, PathBuf};

@@ -9,7 +9,7 @@
 //! the sha2 crate over the file's bytes, the readiness rule from DESIGN.md), never read
 //! back from the tool's rule files.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::path::{Path, PathBuf};

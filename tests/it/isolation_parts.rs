@@ -10,7 +10,7 @@
 //! laid out generously (reinforced 8 mm, basic 4 mm) so that only the behaviour under test
 //! raises a finding.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::ops::RangeInclusive;

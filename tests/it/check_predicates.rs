@@ -8,7 +8,7 @@
 //! "input-output" 8.0 mm clearance as declared in that file, an [input] with a fuse) and
 //! tests/fixtures/iso-class2-reinforced.toml (no [input], no [emc]).
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::path::{Path, PathBuf};

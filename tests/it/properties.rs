@@ -2,7 +2,7 @@
 //! voltage, pollution, overvoltage or altitude never needs less distance; reinforced never
 //! needs less than basic; creepage is never below clearance; double is twice basic.
 
-mod common;
+use crate::common;
 use common::query;
 
 use std::sync::LazyLock;

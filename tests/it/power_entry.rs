@@ -14,7 +14,7 @@
 //! copy with one value changed into a scratch folder (`variant`), so each pass/fail pair
 //! differs in exactly the value under test.
 
-mod common;
+use crate::common;
 use common::*;
 
 use std::f64::consts::{PI, SQRT_2};

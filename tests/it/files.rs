@@ -10,7 +10,7 @@ use std::process::{Command, Stdio};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
 
-const BASE: &str = include_str!("../examples/class2-adapter.toml");
+const BASE: &str = include_str!("../../examples/class2-adapter.toml");
 const BIN: &str = env!("CARGO_BIN_EXE_gapwarden");
 
 /// How long any one run may take; a check of the example takes well under a second.

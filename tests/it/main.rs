@@ -1,0 +1,21 @@
+//! The one integration test crate: every end-to-end, check-value, property and fuzz test of
+//! gapwarden, a module per subject. One crate links the library and its dependencies once.
+
+mod common;
+
+mod bad_inputs;
+mod batch;
+mod check_fields;
+mod check_predicates;
+mod check_values;
+mod cli;
+mod emc;
+mod files;
+mod fuzz;
+mod invariants;
+mod isolation_parts;
+mod power_entry;
+mod properties;
+mod size_limits;
+mod spacing_rules;
+mod verdicts;
