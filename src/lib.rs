@@ -7,6 +7,7 @@ pub mod commands;
 pub mod compare;
 pub mod diag;
 pub mod emc;
+pub mod hints;
 mod exit_status;
 pub mod input_limits;
 pub mod isolation;
@@ -17,6 +18,7 @@ pub mod project;
 pub mod report;
 pub mod rules;
 pub mod spacing;
+pub mod terminal;
 pub mod text;
 pub mod toml_read;
 

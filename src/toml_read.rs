@@ -564,25 +564,29 @@ impl<'s> Reader<'s> {
         let path = join(&table.path, key);
         let span = value.span();
         let DeValue::String(s) = value.get_ref() else {
-            self.error(
-                &span,
-                path,
-                format!(
-                    "expected one of {}, found {}",
-                    one_of(words),
-                    value.get_ref().type_str()
-                ),
+            let message = format!(
+                "expected one of {}, found {}",
+                one_of(words),
+                value.get_ref().type_str()
             );
+            // `protection_class = 2`: the numeral's Roman word, in quotes.
+            let written = match value.get_ref() {
+                DeValue::Integer(i) => Some(i.to_string()),
+                DeValue::Float(f) => Some(f.to_string()),
+                _ => None,
+            };
+            match written.and_then(|w| crate::hints::word_help(&w, words, false)) {
+                Some(help) => self.error_with_help(&span, path, message, help),
+                None => self.error(&span, path, message),
+            }
             return None;
         };
         if let Some(word) = words.iter().find(|w| **w == s.as_ref()) {
             return Some(Located { value: word, span });
         }
         let message = format!("\"{s}\" is not known; expected {}", one_of(words));
-        match suggest(s, words) {
-            Some(best) => {
-                self.error_with_help(&span, path, message, format!("did you mean \"{best}\"?"))
-            }
+        match crate::hints::word_help(s, words, true) {
+            Some(help) => self.error_with_help(&span, path, message, help),
             None => self.error(&span, path, message),
         }
         None

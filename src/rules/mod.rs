@@ -446,6 +446,22 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         .replace("expected f64", "expected a number")
         .replace("expected u32", "expected a whole number")
         .replace("expected usize", "expected a whole number");
+    // An unknown key: serde points at the whole table; point at the key itself, name it,
+    // and suggest the key probably meant.
+    if let Some((field, meant)) = crate::hints::unknown_field(&message)
+        && let Some(span) = e.span()
+        && let Some(at) = crate::hints::key_span(&source.text, span.start, &field)
+    {
+        let mut d = source
+            .diag(&at, message.replacen("unknown field", "unknown key", 1))
+            .with_key(field);
+        if let Some(meant) = meant {
+            d = d.with_help(format!("did you mean `{meant}`?"));
+        } else if !help.is_empty() {
+            d = d.with_help(help);
+        }
+        return d;
+    }
     let mut d = match e.span() {
         Some(span) => {
             let d = source.diag(&span, message);
