@@ -168,8 +168,9 @@ pub fn terminal_summary(report: &Report, place: ReportPlace, colour: bool) -> St
         ReportPlace::NotWritten { project } => {
             let p = shell_word(&visible_line(project));
             out.push_str(&format!(
-                "Full report (not written): gapwarden check {p} -o report.md\n  \
-                 or --format md|html|json to print it; `gapwarden explain {p} ITEM` explains one figure or finding\n"
+                "Full report: not written. `gapwarden check {p} -o report.md` writes it, \
+                 --format md|html|json prints it;\n  `gapwarden explain {p} ITEM` explains one \
+                 figure or finding.\n"
             ));
         }
     }
