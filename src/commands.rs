@@ -174,12 +174,17 @@ pub fn check(
             &house_inputs,
         ) {
             Ok(files) => {
-                let names: Vec<String> = files.iter().map(|f| f.display().to_string()).collect();
+                // File names only: the same designs give the same output whatever the
+                // folder (as the reports themselves carry no machine paths).
+                let names: Vec<String> = files
+                    .iter()
+                    .filter_map(|f| f.file_name())
+                    .map(|n| n.to_string_lossy().to_string())
+                    .collect();
                 closing = format!(
-                    "{} report{} written into {}; summary: {}.\n",
+                    "{} report{} written into the output folder, with the summary beside them: {}.\n",
                     written.len(),
                     if written.len() == 1 { "" } else { "s" },
-                    dir.display(),
                     names.join(" and ")
                 );
             }

@@ -255,7 +255,12 @@ fn figure_changes(old: &Report, new: &Report) -> Vec<FigureChange> {
                 id,
                 "barrier",
                 "added".to_string(),
-                format!("{} {}, verdict {:?}", b.grade.as_str(), b.working_rms_v, b.verdict),
+                format!(
+                    "{} {}, verdict {:?}",
+                    b.grade.as_str(),
+                    b.working_rms_v,
+                    b.verdict
+                ),
                 (None, None),
             )),
             Some(a) => {
@@ -560,7 +565,11 @@ fn severity_name(s: crate::checks::Severity) -> String {
 /// The comparison's Markdown, from the model.
 pub fn model_markdown(m: &ComparisonModel) -> String {
     let e = |s: &str| md_escape(s);
-    let rev = |r: &RevisionInfo| r.revision.clone().unwrap_or_else(|| "not stated".to_string());
+    let rev = |r: &RevisionInfo| {
+        r.revision
+            .clone()
+            .unwrap_or_else(|| "not stated".to_string())
+    };
     let mut out = format!(
         "# Revision comparison: {}\n\nFrom revision {} ({}, SHA-256 {}) to revision {} ({}, SHA-256 {}).\n\n",
         e(&m.design),
@@ -682,7 +691,10 @@ pub fn model_markdown(m: &ComparisonModel) -> String {
                     "| {} | {} | {} | {} (needs level {level}) |\n",
                     e(&i.hazardous),
                     e(&i.accessible),
-                    i.old.as_deref().map(e).unwrap_or_else(|| "not judged".to_string()),
+                    i.old
+                        .as_deref()
+                        .map(e)
+                        .unwrap_or_else(|| "not judged".to_string()),
                     e(now)
                 )),
                 _ => out.push_str(&format!(
@@ -703,8 +715,14 @@ pub fn model_markdown(m: &ComparisonModel) -> String {
             out.push_str(&format!(
                 "| {} | {} | {} |\n",
                 e(&i.key),
-                i.old.as_deref().map(e).unwrap_or_else(|| "not set".to_string()),
-                i.new.as_deref().map(e).unwrap_or_else(|| "not set".to_string())
+                i.old
+                    .as_deref()
+                    .map(e)
+                    .unwrap_or_else(|| "not set".to_string()),
+                i.new
+                    .as_deref()
+                    .map(e)
+                    .unwrap_or_else(|| "not set".to_string())
             ));
         }
     }

@@ -33,7 +33,10 @@ pub fn word_for(written: &str, words: &[&'static str]) -> Option<&'static str> {
         _ => return None,
     };
     let meant = format!("{roman}{}", rest.to_ascii_lowercase());
-    words.iter().find(|w| w.eq_ignore_ascii_case(&meant)).copied()
+    words
+        .iter()
+        .find(|w| w.eq_ignore_ascii_case(&meant))
+        .copied()
 }
 
 /// The help line for a value that is not one of `words`: a numeral's Roman word first,

@@ -10,9 +10,9 @@ use clap::{CommandFactory, Parser, Subcommand};
 
 use gapwarden::ExitStatus;
 use gapwarden::commands::{self, CheckRequest, Format, SpacingFlags, SpacingFormat};
-use gapwarden::terminal::ColorChoice;
 use gapwarden::diag::Problems;
 use gapwarden::rules::RuleBook;
+use gapwarden::terminal::ColorChoice;
 
 /// Pre-review checklist for the insulation of a mains-connected power supply.
 ///
@@ -243,7 +243,10 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             // no particular format; scripts (a pipe, a file, --format) get the report.
             let terminal = std::io::stdout().is_terminal();
             let summary = (format.is_none() && terminal).then(|| {
-                color.enabled(terminal, std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty()))
+                color.enabled(
+                    terminal,
+                    std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty()),
+                )
             });
             commands::check(
                 &CheckRequest {
@@ -327,7 +330,9 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             let mut page = Vec::new();
             clap_mangen::Man::new(Cli::command())
                 .render(&mut page)
-                .map_err(|e| gapwarden::diag::Diagnostic::new("man", format!("cannot render: {e}")))?;
+                .map_err(|e| {
+                    gapwarden::diag::Diagnostic::new("man", format!("cannot render: {e}"))
+                })?;
             print(&String::from_utf8_lossy(&page));
             Ok(ExitStatus::Ready)
         }

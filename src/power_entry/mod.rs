@@ -602,7 +602,9 @@ pub fn explain_items(report: &PowerEntryReport) -> Vec<String> {
         for (name, value) in fields {
             let item = format!("power_entry.{name}");
             let suffix = format!(".{name}");
-            let derivable = figure_ids.iter().any(|id| *id == item || id.ends_with(&suffix))
+            let derivable = figure_ids
+                .iter()
+                .any(|id| *id == item || id.ends_with(&suffix))
                 || FIELD_SECTIONS.iter().any(|(f, _)| *f == name);
             if value.is_number() && derivable && !items.contains(&item) {
                 items.push(item);

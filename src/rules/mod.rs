@@ -452,9 +452,7 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         && let Some(span) = e.span()
         && let Some(at) = crate::hints::key_span(&source.text, span.start, &field)
     {
-        let mut d = source
-            .diag(&at, message.replacen("unknown field", "unknown key", 1))
-            .with_key(field);
+        let mut d = source.diag(&at, message.clone()).with_key(field);
         if let Some(meant) = meant {
             d = d.with_help(format!("did you mean `{meant}`?"));
         } else if !help.is_empty() {

@@ -1049,7 +1049,10 @@ fn new_writes_a_starting_project_that_checks_cleanly() {
         assert_exit(&o, 0);
         let written = std::fs::read_to_string(&p).expect("new wrote the file");
         let (header, body) = written.split_once('\n').expect("a header line");
-        assert!(header.starts_with('#') && header.contains(path_str(&p)), "{header}");
+        assert!(
+            header.starts_with('#') && header.contains(path_str(&p)),
+            "{header}"
+        );
         let written = body.replace(path_str(&p), source).into_bytes();
         assert_eq!(
             written,

@@ -134,8 +134,14 @@ fn no_color_and_color_never_leave_the_summary_plain_and_always_overrides_no_colo
             "{text}"
         );
     }
-    let (text, _) = on_terminal(&["check", CLASS1, "--color", "always"], &[("NO_COLOR", "1")]);
-    assert!(text.contains('\x1b'), "--color always is an explicit request: {text:?}");
+    let (text, _) = on_terminal(
+        &["check", CLASS1, "--color", "always"],
+        &[("NO_COLOR", "1")],
+    );
+    assert!(
+        text.contains('\x1b'),
+        "--color always is an explicit request: {text:?}"
+    );
     // auto on a terminal without NO_COLOR: coloured.
     let (text, code) = on_terminal(&["check", CLASS2], &[]);
     assert_eq!(code, 0, "{text}");
@@ -167,7 +173,11 @@ fn on_a_terminal_with_o_the_report_is_written_and_the_summary_names_it() {
     assert_eq!(code, 1, "{text}");
     assert!(text.contains(&format!("Full report: {out_s}")), "{text}");
     let written = std::fs::read(&out).expect("the report was written");
-    assert_eq!(written, run(&["check", SHORT]).stdout, "the file is the full report");
+    assert_eq!(
+        written,
+        run(&["check", SHORT]).stdout,
+        "the file is the full report"
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -257,7 +267,13 @@ fn new_writes_a_blank_template_that_is_honestly_not_ready() {
     assert!(first.starts_with("# ") && first.contains(p_s), "{first}");
     assert!(!text.contains("examples/"), "names an example's path");
     // Every section, the optional ones commented out.
-    for section in ["[design]", "[environment]", "[mains]", "[[circuit]]", "[[barrier]]"] {
+    for section in [
+        "[design]",
+        "[environment]",
+        "[mains]",
+        "[[circuit]]",
+        "[[barrier]]",
+    ] {
         assert!(text.lines().any(|l| l == section), "{section} missing");
     }
     for section in [
@@ -274,7 +290,16 @@ fn new_writes_a_blank_template_that_is_honestly_not_ready() {
         assert!(text.lines().any(header), "{section} missing");
     }
     // Required keys are marked; no distance is given.
-    for key in ["name", "protection_class", "nominal_v", "id", "kind", "between", "grade", "working_rms_v"] {
+    for key in [
+        "name",
+        "protection_class",
+        "nominal_v",
+        "id",
+        "kind",
+        "between",
+        "grade",
+        "working_rms_v",
+    ] {
         assert!(
             text.lines()
                 .any(|l| l.starts_with(&format!("{key} =")) && l.contains("required")),
@@ -314,18 +339,24 @@ fn new_with_an_example_names_the_file_written_not_the_examples_path() {
         assert_exit(&o, 0);
         let text = std::fs::read_to_string(&p).unwrap();
         let first = text.lines().next().unwrap();
-        assert!(
-            first.contains(&format!("gapwarden check {p_s}")),
-            "{first}"
-        );
+        assert!(first.contains(&format!("gapwarden check {p_s}")), "{first}");
         assert!(!text.contains(source), "{name}: still names {source}");
         // Everything from [design] on is the example as shipped.
         let body = |t: &str| t[t.find("[design]").unwrap()..].to_string();
         assert_eq!(body(&text), body(&example_text(source)));
     }
-    let o = run(&["new", scratch.path("x.toml").to_str().unwrap(), "--example", "class2-adaptor"]);
+    let o = run(&[
+        "new",
+        scratch.path("x.toml").to_str().unwrap(),
+        "--example",
+        "class2-adaptor",
+    ]);
     assert_exit(&o, 2);
-    assert!(stderr(&o).contains("did you mean \"class2-adapter\""), "{}", describe(&o));
+    assert!(
+        stderr(&o).contains("did you mean \"class2-adapter\""),
+        "{}",
+        describe(&o)
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -353,7 +384,10 @@ fn spacing_prints_a_readable_table_by_default() {
     // 2 mm declared against 3.0 mm required (module docs): fail, exit 1.
     assert_exit(&o, 1);
     let text = stdout(&o);
-    assert!(serde_json::from_str::<Value>(&text).is_err(), "JSON by default");
+    assert!(
+        serde_json::from_str::<Value>(&text).is_err(),
+        "JSON by default"
+    );
     let row = |name: &str| {
         text.lines()
             .find(|l| l.starts_with(name))
@@ -362,12 +396,21 @@ fn spacing_prints_a_readable_table_by_default() {
             .collect::<Vec<_>>()
             .join(" ")
     };
-    assert!(row("clearance").starts_with("clearance 3 mm 2 mm -1 mm transient"), "{text}");
+    assert!(
+        row("clearance").starts_with("clearance 3 mm 2 mm -1 mm transient"),
+        "{text}"
+    );
     // Creepage: PD2, printed wiring, group I-IIIa at 250 V 1.0 mm x 2 = 2.0 mm for
     // reinforced (REFERENCES.md), raised to the 3.0 mm clearance; 9 mm declared: +6 mm.
-    assert!(row("creepage").starts_with("creepage 3 mm 9 mm +6 mm clearance"), "{text}");
+    assert!(
+        row("creepage").starts_with("creepage 3 mm 9 mm +6 mm clearance"),
+        "{text}"
+    );
     assert!(text.contains("verdict: FAIL"), "{text}");
-    assert!(text.contains("Table F.2"), "the derivation steps are shown\n{text}");
+    assert!(
+        text.contains("Table F.2"),
+        "the derivation steps are shown\n{text}"
+    );
 }
 
 #[test]
@@ -381,7 +424,13 @@ fn spacing_format_json_is_one_barrier_without_made_up_circuit_names() {
     assert_eq!(v["required_clearance_mm"].as_f64(), Some(3.0));
     assert!(v["between"].is_null(), "{}", v["between"]);
     assert!(!stdout(&o).contains("\"a\"") && !stdout(&o).contains("\"b\""));
-    for key in ["id", "required_creepage_mm", "clearance_mm", "creepage_mm", "derivation"] {
+    for key in [
+        "id",
+        "required_creepage_mm",
+        "clearance_mm",
+        "creepage_mm",
+        "derivation",
+    ] {
         assert!(v.get(key).is_some(), "{key}");
     }
 }
@@ -437,14 +486,23 @@ fn compare_format_json_lists_barrier_power_entry_and_emc_figures() {
             && f["subject"] == "pri-sec"),
         "{findings:?}"
     );
-    assert!(m["inputs"].as_array().unwrap().iter().any(|i| i["key"] == "design.revision"));
+    assert!(
+        m["inputs"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|i| i["key"] == "design.revision")
+    );
 }
 
 #[test]
 fn a_finding_whose_message_changed_is_changed_not_new_and_gone() {
     let scratch = Scratch::new("compare-changed");
     let text = example_text(SHORT);
-    let new = scratch.write("rev-d.toml", &text.replace("clearance_mm = 2.4", "clearance_mm = 2.0"));
+    let new = scratch.write(
+        "rev-d.toml",
+        &text.replace("clearance_mm = 2.4", "clearance_mm = 2.0"),
+    );
     let o = run(&["compare", SHORT, &new, "--format", "json"]);
     assert_exit(&o, 1);
     let m = json(&o);
@@ -458,11 +516,20 @@ fn a_finding_whose_message_changed_is_changed_not_new_and_gone() {
     let f = same_id[0];
     assert_eq!(f["change"], "changed");
     // 3.0 mm required (module docs): 2.4 mm is 0.6 mm short, 2.0 mm is 1 mm short.
-    assert!(f["old_message"].as_str().unwrap().contains("0.6 mm short"), "{f}");
+    assert!(
+        f["old_message"].as_str().unwrap().contains("0.6 mm short"),
+        "{f}"
+    );
     assert!(f["message"].as_str().unwrap().contains("1 mm short"), "{f}");
     let md = stdout(&run(&["compare", SHORT, &new]));
-    assert!(md.contains("- changed Blocking: barrier.clearance\\_short (gap-under-t1)"), "{md}");
-    assert!(!md.contains("- new Blocking") && !md.contains("- gone Blocking"), "{md}");
+    assert!(
+        md.contains("- changed Blocking: barrier.clearance\\_short (gap-under-t1)"),
+        "{md}"
+    );
+    assert!(
+        !md.contains("- new Blocking") && !md.contains("- gone Blocking"),
+        "{md}"
+    );
 }
 
 #[test]
@@ -472,19 +539,33 @@ fn compare_o_writes_the_comparison_and_never_over_a_revision() {
         let printed = run(&["compare", CLASS1, CLASS2, "--format", format]);
         assert_exit(&printed, 0);
         let out = scratch.path(name);
-        let o = run(&["compare", CLASS1, CLASS2, "--format", format, "-o", out.to_str().unwrap()]);
+        let o = run(&[
+            "compare",
+            CLASS1,
+            CLASS2,
+            "--format",
+            format,
+            "-o",
+            out.to_str().unwrap(),
+        ]);
         assert_exit(&o, 0);
         assert!(o.stdout.is_empty(), "{}", describe(&o));
         assert_eq!(std::fs::read(&out).unwrap(), printed.stdout, "{format}");
     }
     let html = std::fs::read_to_string(scratch.path("cmp.html")).unwrap();
-    assert!(html.starts_with("<!DOCTYPE html>") && html.contains("<table>"), "{html}");
+    assert!(
+        html.starts_with("<!DOCTYPE html>") && html.contains("<table>"),
+        "{html}"
+    );
     assert!(!html.contains("http://") && !html.contains("https://") && !html.contains(" src="));
     // The later revision's file is an input: refused, unchanged.
     let copy = scratch.write("new.toml", &example_text(CLASS2));
     let o = run(&["compare", CLASS1, &copy, "-o", &copy]);
     assert_exit(&o, 2);
-    assert_eq!(std::fs::read_to_string(&copy).unwrap(), example_text(CLASS2));
+    assert_eq!(
+        std::fs::read_to_string(&copy).unwrap(),
+        example_text(CLASS2)
+    );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -497,13 +578,20 @@ fn explain_a_part_shows_its_ratings_against_the_barrier_it_bridges() {
     assert_exit(&o, 0);
     let text = stdout(&o);
     // The example's CY1: a Y1 capacitor, 250 V ac, 1.0 nF, across pri-sec (reinforced).
-    assert!(text.contains("CY1 (y-capacitor) across pri-sec (reinforced insulation"), "{text}");
+    assert!(
+        text.contains("CY1 (y-capacitor) across pri-sec (reinforced insulation"),
+        "{text}"
+    );
     assert!(text.contains("subclass = Y1"), "{text}");
     assert!(text.contains("rated_ac_v = 250"), "{text}");
     assert!(text.contains("capacitance_nf = 1"), "{text}");
     let o = run(&["explain", CLASS2, "U3"]);
     assert_exit(&o, 0);
-    assert!(stdout(&o).contains("isolation_test_v_rms = 5000"), "{}", stdout(&o));
+    assert!(
+        stdout(&o).contains("isolation_test_v_rms = 5000"),
+        "{}",
+        stdout(&o)
+    );
 }
 
 #[test]
@@ -514,7 +602,10 @@ fn explain_a_finding_gives_its_checks_rationale_and_source() {
     assert!(text.contains("check barrier.clearance_short:"), "{text}");
     assert!(text.contains("rationale: "), "{text}");
     assert!(text.contains("source: IEC 60664-1"), "{text}");
-    assert!(text.contains("gap-under-t1.clearance: required 3 mm"), "{text}");
+    assert!(
+        text.contains("gap-under-t1.clearance: required 3 mm"),
+        "{text}"
+    );
 }
 
 #[test]
@@ -538,7 +629,10 @@ fn explain_covers_every_assumption_and_every_power_entry_and_emc_figure() {
             assert!(text.contains(a.as_str().unwrap()), "missing {a}\n{text}");
         }
     }
-    assert!(shown > 3, "the report shows more than the project's own assumptions");
+    assert!(
+        shown > 3,
+        "the report shows more than the project's own assumptions"
+    );
     // Every numeric top-level figure of the EMC section can be explained by its JSON name.
     for (field, value) in report["emc"].as_object().unwrap() {
         if !value.is_number() || matches!(field.as_str(), "harmonics_evaluated") {
@@ -546,7 +640,11 @@ fn explain_covers_every_assumption_and_every_power_entry_and_emc_figure() {
         }
         let o = run(&["explain", CLASS2, &format!("emc.{field}")]);
         assert_exit(&o, 0);
-        assert!(stdout(&o).starts_with(&format!("emc.{field} = ")), "{}", stdout(&o));
+        assert!(
+            stdout(&o).starts_with(&format!("emc.{field} = ")),
+            "{}",
+            stdout(&o)
+        );
     }
     // Every power-entry figure of the report's sections, and the contract's fields.
     for section in report["power_entry"]["sections"].as_array().unwrap() {
@@ -568,13 +666,21 @@ fn explain_covers_every_assumption_and_every_power_entry_and_emc_figure() {
     ] {
         let o = run(&["explain", CLASS2, &format!("power_entry.{field}")]);
         assert_exit(&o, 0);
-        assert!(stdout(&o).contains("formula") || stdout(&o).contains("power_entry."), "{field}");
+        assert!(
+            stdout(&o).contains("formula") || stdout(&o).contains("power_entry."),
+            "{field}"
+        );
     }
     // An unknown item lists parts and figures among the items.
     let o = run(&["explain", CLASS2, "nothing-here"]);
     assert_exit(&o, 2);
     let err = stderr(&o);
-    for item in ["CY1", "emc.dm_corner_hz", "power_entry.inrush_peak_a", "assumptions"] {
+    for item in [
+        "CY1",
+        "emc.dm_corner_hz",
+        "power_entry.inrush_peak_a",
+        "assumptions",
+    ] {
         assert!(err.contains(item), "{item}: {err}");
     }
 }
@@ -608,7 +714,11 @@ fn batch_with_out_dir_writes_a_markdown_and_json_summary_beside_the_reports() {
         let report = d["report"].as_str().expect("a report path");
         assert!(out.join(report).is_file(), "{report}");
     }
-    assert!(stdout(&o).contains("gapwarden-summary.md"), "{}", stdout(&o));
+    assert!(
+        stdout(&o).contains("gapwarden-summary.md"),
+        "{}",
+        stdout(&o)
+    );
 }
 
 #[test]
@@ -663,6 +773,6 @@ fn a_house_checks_unknown_field_is_named_at_its_line_with_the_field_meant() {
     let err = stderr(&o);
     // `severty` stands on line 9 of the file above.
     assert!(err.contains("checks.toml:9:1"), "{err}");
-    assert!(err.contains("unknown key `severty`"), "{err}");
+    assert!(err.contains("unknown field `severty`"), "{err}");
     assert!(err.contains("did you mean `severity`?"), "{err}");
 }

@@ -1127,6 +1127,13 @@ fn negative_zero_prints_as_zero_in_json() {
             .is_some_and(|x| x.is_sign_positive())
     );
     // The spacing command writes JSON the same way.
-    let o = run(&["spacing", "--format", "json", "--working-rms-v", "250", "--clearance-mm=-0.0"]);
+    let o = run(&[
+        "spacing",
+        "--format",
+        "json",
+        "--working-rms-v",
+        "250",
+        "--clearance-mm=-0.0",
+    ]);
     assert!(!stdout(&o).contains("-0.0"), "{}", stdout(&o));
 }
