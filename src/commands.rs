@@ -769,15 +769,21 @@ fn explain_part(out: &mut String, report: &Report, part: &str) {
         // Every rating and requirement the report holds for the part, by its JSON name, so
         // a field added to the report is explained without code here.
         if let Ok(serde_json::Value::Object(fields)) = serde_json::to_value(b) {
-            for (name, value) in fields {
+            for (name, value) in &fields {
+                // A minimum is shown beside the rating it is held against, where the part
+                // declares one (a capacitor has no tape layers to count).
+                let absent = |rating: &str| fields.get(rating).is_none_or(|v| v.is_null());
+                let rating_absent = name.strip_prefix("min_").is_some_and(absent)
+                    || (name.starts_with("subclass_") && absent("subclass"));
                 if matches!(
                     name.as_str(),
                     "barrier" | "part" | "kind" | "grade" | "derivation"
                 ) || value.is_null()
+                    || rating_absent
                 {
                     continue;
                 }
-                let shown = match &value {
+                let shown = match value {
                     serde_json::Value::Number(n) => n
                         .as_f64()
                         .map(crate::spacing::show)

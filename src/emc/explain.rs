@@ -162,8 +162,22 @@ pub fn explain(r: &EmcReport, item: &str) -> Option<String> {
             .ok()
             .and_then(|v| v.get(*field).cloned())
             .unwrap_or(serde_json::Value::Null);
+        // The unit is the field name's suffix, as everywhere in the JSON report.
+        let unit = [
+            ("_dbuv", " dBuV"),
+            ("_db", " dB"),
+            ("_hz", " Hz"),
+            ("_nf", " nF"),
+            ("_uh", " uH"),
+            ("_mh", " mH"),
+            ("_ma", " mA"),
+            ("_v", " V"),
+        ]
+        .iter()
+        .find(|(suffix, _)| field.ends_with(suffix))
+        .map_or("", |(_, unit)| *unit);
         let value = match value.as_f64() {
-            Some(x) => show(x),
+            Some(x) => format!("{}{unit}", show(x)),
             None => "not computed".to_string(),
         };
         let mut out = format!("emc.{field} = {value} (derivation: {shown_by})\n");
