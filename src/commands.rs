@@ -672,6 +672,36 @@ pub fn explain_with_rules(
         }
         return Ok(out);
     }
+    if item == "isolation"
+        && let Some(iso) = &report.isolation
+    {
+        out.push_str(&format!(
+            "isolation: protection class {}, {} hazardous and {} accessible circuit(s)\n",
+            format!("{:?}", iso.protection_class),
+            iso.hazardous_count,
+            iso.accessible_count
+        ));
+        for p in &iso.pairs {
+            out.push_str(&format!(
+                "  {} -> {}: provides {} (level {}), needs {} (level {}){}\n",
+                p.hazardous,
+                p.accessible,
+                p.provides,
+                p.provides_level,
+                p.needs,
+                p.needs_level,
+                p.earth
+                    .as_deref()
+                    .map(|e| format!("; earth relied on: {e}"))
+                    .unwrap_or_default()
+            ));
+        }
+        out.push_str(&iso.diagram);
+        if !iso.diagram.ends_with('\n') {
+            out.push('\n');
+        }
+        return Ok(out);
+    }
     if item == "assumptions" {
         let groups = all_assumptions(report);
         for (area, list) in &groups {
@@ -686,6 +716,9 @@ pub fn explain_with_rules(
         return Ok(out);
     }
     let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
+    if report.isolation.is_some() {
+        known.push("isolation".to_string());
+    }
     for b in &report.barriers {
         known.push(b.id.clone());
         known.push(format!("{}.clearance", b.id));

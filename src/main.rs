@@ -125,7 +125,7 @@ enum Command {
     /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a part
     /// reference (its ratings against every barrier it bridges), a finding id such as
     /// barrier.clearance_short (with its check's rationale and source), "assumptions"
-    /// (every default the report applied), "readiness", a power-entry item or figure
+    /// (every default the report applied), "readiness", "isolation", a power-entry item or figure
     /// (power_entry, power_entry.fuse, power_entry.inrush_peak_a, ...) or an EMC item or
     /// figure (emc, emc.corner, emc.dm_corner_hz, emc.middlebrook, ...). An unknown ITEM
     /// lists them all.

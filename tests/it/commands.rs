@@ -671,6 +671,12 @@ fn explain_covers_every_assumption_and_every_power_entry_and_emc_figure() {
             "{field}"
         );
     }
+    // The isolation section: the pair the Class II example judges, and its structure.
+    let o = run(&["explain", CLASS2, "isolation"]);
+    assert_exit(&o, 0);
+    let text = stdout(&o);
+    assert!(text.contains("ac-input -> output"), "{text}");
+    assert!(text.contains("input-output (reinforced)"), "{text}");
     // An unknown item lists parts and figures among the items.
     let o = run(&["explain", CLASS2, "nothing-here"]);
     assert_exit(&o, 2);
