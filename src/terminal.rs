@@ -92,13 +92,9 @@ pub fn terminal_summary(report: &Report, place: ReportPlace, colour: bool) -> St
     } else {
         let state = visible_line(&report.readiness.state).to_uppercase();
         out.push_str(&format!("{}\n", s.bad(&format!("✗ {state}"))));
-        for c in report.readiness.conditions.iter().filter(|c| !c.holds) {
-            out.push_str(&format!(
-                "  {} {}: {}\n",
-                s.bad("✗"),
-                c.condition,
-                visible_line(&c.detail)
-            ));
+        // One sentence per failing condition ("1 blocking finding: ...").
+        for reason in &report.readiness.reasons {
+            out.push_str(&format!("  {} {}\n", s.bad("✗"), visible_line(reason)));
         }
     }
     let sum = &report.summary;
