@@ -164,9 +164,9 @@ pub fn terminal_summary(report: &Report, place: ReportPlace, colour: bool) -> St
         ReportPlace::NotWritten { project } => {
             let p = shell_word(&visible_line(project));
             out.push_str(&format!(
-                "Full report: not written. `gapwarden check {p} -o report.md` writes it, \
-                 --format md|html|json prints it;\n  `gapwarden explain {p} ITEM` explains one \
-                 figure or finding.\n"
+                "Full report: not written. Write it:  gapwarden check {p} -o report.md\n\
+                 Print it:  add --format md (or html, json)\n\
+                 Explain one figure or finding:  gapwarden explain {p} ITEM\n"
             ));
         }
     }
