@@ -43,6 +43,57 @@ pub struct Diagnostic {
     pub key: Option<String>,
     pub message: String,
     pub help: Option<String>,
+    /// Where the surroundings of the position start (the `[[check]]` entry of a key), as
+    /// `file:line:column`.
+    pub note: Option<String>,
+    /// The source line the position falls on, shown beneath the message with a marker.
+    pub snippet: Option<SourceLine>,
+}
+
+/// One line of an input, with the byte range of the marked text inside it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SourceLine {
+    /// The line's number, from 1.
+    pub line: usize,
+    pub text: String,
+    pub marked: Range<usize>,
+}
+
+/// Lines longer than this are not shown beneath a message (a 5000-character string would
+/// bury the message itself).
+const MAX_SNIPPET_LINE_BYTES: usize = 400;
+
+impl SourceLine {
+    /// The line around `span`, or `None` where it could not be shown faithfully (a control
+    /// or bidi character in it, which the terminal must never receive; a very long line).
+    fn of(source: &Source, span: &Range<usize>) -> Option<SourceLine> {
+        let text = &source.text;
+        let start = span.start.min(text.len());
+        let line_start = text[..start].rfind('\n').map_or(0, |i| i + 1);
+        let line_end = text[start..].find('\n').map_or(text.len(), |i| start + i);
+        let line = text.get(line_start..line_end)?.trim_end_matches('\r');
+        if line.len() > MAX_SNIPPET_LINE_BYTES || crate::text::visible_line(line) != line {
+            return None;
+        }
+        let from = start - line_start;
+        let to = span.end.clamp(start, line_start + line.len()) - line_start;
+        Some(SourceLine {
+            line: source.index.locate(text, start).0,
+            text: line.to_string(),
+            marked: from..to.max(from),
+        })
+    }
+
+    /// The line with its number and a marker under the text, as annotate-snippets draws it.
+    pub fn render(&self) -> String {
+        use annotate_snippets::{AnnotationKind, Group, Level, Renderer, Snippet};
+        let report = [Group::with_level(Level::ERROR).element(
+            Snippet::source(self.text.as_str())
+                .line_start(self.line)
+                .annotation(AnnotationKind::Primary.span(self.marked.clone())),
+        )];
+        Renderer::plain().render(&report)
+    }
 }
 
 impl Diagnostic {
@@ -54,6 +105,8 @@ impl Diagnostic {
             key: None,
             message: message.into(),
             help: None,
+            note: None,
+            snippet: None,
         }
     }
 
@@ -67,10 +120,16 @@ impl Diagnostic {
         self
     }
 
+    pub fn with_note(mut self, note: impl Into<String>) -> Self {
+        self.note = Some(note.into());
+        self
+    }
+
     pub fn at(mut self, source: &Source, span: &Range<usize>) -> Self {
         let (line, column) = source.index.locate(&source.text, span.start);
         self.line = Some(line);
         self.column = Some(column);
+        self.snippet = SourceLine::of(source, span);
         self
     }
 }
@@ -94,6 +153,14 @@ impl fmt::Display for Diagnostic {
             write!(f, "`{}`: ", visible_line(key))?;
         }
         write!(f, "{}", visible(&self.message))?;
+        if let Some(snippet) = &self.snippet {
+            for line in snippet.render().lines().filter(|l| !l.trim().is_empty()) {
+                write!(f, "\n {line}")?;
+            }
+        }
+        if let Some(note) = &self.note {
+            write!(f, "\n    note: {}", visible_line(note))?;
+        }
         if let Some(help) = &self.help {
             write!(f, "\n    help: {}", visible(help))?;
         }
@@ -188,3 +255,57 @@ pub fn one_of(words: &[&str]) -> String {
         }
     }
 }
+
+/// The words of a domain enum, as the project file, the rule files and the command line
+/// write them (its `clap::ValueEnum` names, which its serde names match).
+pub fn words<E: clap::ValueEnum>() -> Vec<String> {
+    E::value_variants()
+        .iter()
+        .filter_map(|v| v.to_possible_value())
+        .map(|v| v.get_name().to_string())
+        .collect()
+}
+
+/// The variant of a domain enum that `word` names exactly, if any.
+pub fn word<E: clap::ValueEnum>(word: &str) -> Option<E> {
+    E::from_str(word, false).ok()
+}
+
+/// The byte range of the value at a dotted path (`rows[5].up_to_v`, lists counted from 1)
+/// in a TOML text, as the parser located it; where the path goes further than the text, the
+/// deepest value it reaches. `None` where the text does not parse or the first key is absent.
+pub fn span_of_path(text: &str, path: &str) -> Option<Range<usize>> {
+    use toml::de::{DeTable, DeValue};
+    let doc = DeTable::parse(text).ok()?;
+    let mut table: &DeTable = doc.get_ref();
+    let mut found: Option<Range<usize>> = None;
+    for part in path.split('.').filter(|p| !p.is_empty()) {
+        let (name, indices) = match part.find('[') {
+            Some(i) => (&part[..i], &part[i..]),
+            None => (part, ""),
+        };
+        let Some((_, mut value)) = table.iter().find(|(k, _)| k.get_ref().as_ref() == name) else {
+            return found;
+        };
+        found = Some(value.span());
+        for index in indices.split(['[', ']']).filter(|i| !i.is_empty()) {
+            let n: usize = index.parse().ok()?;
+            let DeValue::Array(items) = value.get_ref() else {
+                return found;
+            };
+            let Some(next) = n.checked_sub(1).and_then(|i| items.get(i)) else {
+                return found;
+            };
+            value = next;
+            found = Some(value.span());
+        }
+        match value.get_ref() {
+            DeValue::Table(t) => table = t,
+            _ => table = EMPTY.get_or_init(DeTable::new),
+        }
+    }
+    found
+}
+
+// A value that is not a table has no keys: the rest of a path goes nowhere.
+static EMPTY: std::sync::OnceLock<toml::de::DeTable<'static>> = std::sync::OnceLock::new();

@@ -12,6 +12,7 @@ pub mod noise;
 mod read;
 pub mod rules;
 
+use crate::rules::Table as _;
 use serde::Serialize;
 
 use crate::diag::{Diagnostic, Problems, Source};

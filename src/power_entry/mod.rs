@@ -13,7 +13,7 @@ use serde::Serialize;
 
 use crate::diag::{Problems, Source};
 use crate::project::Project;
-use crate::rules::{RuleBook, Typed};
+use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
 use crate::toml_read::{Located, Reader, TableRef};
@@ -148,28 +148,14 @@ pub struct ConverterSpec {
     pub pfc_stage: bool,
 }
 
-/// The rule tables power entry reads. The electric strength test voltages come from the
-/// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
-#[derive(Debug, Clone)]
-pub struct PowerEntryRules {
-    pub fuse: FuseRules,
-    pub discharge: DischargeRules,
-    pub touch: TouchRules,
-    pub mains: MainsDefaults,
-}
-
-impl PowerEntryRules {
-    pub fn load(tables: &mut Typed) -> Option<Self> {
-        let fuse = tables.get::<FuseRules>(FuseRules::ID);
-        let discharge = tables.get::<DischargeRules>(DischargeRules::ID);
-        let touch = tables.get::<TouchRules>(TouchRules::ID);
-        let mains = tables.get::<MainsDefaults>(MainsDefaults::ID);
-        Some(PowerEntryRules {
-            fuse: fuse?,
-            discharge: discharge?,
-            touch: touch?,
-            mains: mains?,
-        })
+crate::table_set! {
+    /// The rule tables power entry reads. The electric strength test voltages come from the
+    /// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
+    pub struct PowerEntryRules {
+        pub fuse: FuseRules,
+        pub discharge: DischargeRules,
+        pub touch: TouchRules,
+        pub mains: MainsDefaults,
     }
 }
 

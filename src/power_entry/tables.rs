@@ -51,8 +51,6 @@ pub struct FuseRules {
 }
 
 impl FuseRules {
-    pub const ID: &'static str = "power-entry.fuse";
-
     pub fn pulse_factor(&self, speed: &str) -> Option<&PulseFactor> {
         self.pulse_factors.iter().find(|p| p.speed == speed)
     }
@@ -62,6 +60,8 @@ impl FuseRules {
 pub const FUSE_SPEEDS: [&str; 2] = ["fast", "time-lag"];
 
 impl Table for FuseRules {
+    const ID: &'static str = "power-entry.fuse";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.derating, "derating")?;
         if self.derating.value > 1.0 {
@@ -145,8 +145,6 @@ pub struct NotApplicable {
 pub const CONNECTIONS: [&str; 3] = ["plug", "industrial-plug", "permanent"];
 
 impl DischargeRules {
-    pub const ID: &'static str = "power-entry.x-discharge";
-
     pub fn limit(&self, connection: &str) -> Option<&DischargeLimit> {
         self.limits.iter().find(|l| l.connection == connection)
     }
@@ -159,6 +157,8 @@ impl DischargeRules {
 }
 
 impl Table for DischargeRules {
+    const ID: &'static str = "power-entry.x-discharge";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.threshold_uf, "threshold_uf")?;
         positive(&self.residual_after_s, "residual_after_s")?;
@@ -250,8 +250,6 @@ pub struct TouchRules {
 pub const TOUCH_PARTS: [&str; 3] = ["not-earthed", "earthed-hand-held", "earthed"];
 
 impl TouchRules {
-    pub const ID: &'static str = "power-entry.touch-current";
-
     pub fn standard(&self, id: &str) -> Option<&StandardEntry> {
         self.standards.iter().find(|s| s.id == id)
     }
@@ -264,6 +262,8 @@ impl TouchRules {
 }
 
 impl Table for TouchRules {
+    const ID: &'static str = "power-entry.touch-current";
+
     fn check(&self) -> Result<(), String> {
         if self.standards.is_empty() {
             return Err("standards: at least one end-product standard is needed".to_string());
@@ -334,11 +334,9 @@ pub struct MainsDefaults {
     pub high_frequency_hz: Sourced,
 }
 
-impl MainsDefaults {
-    pub const ID: &'static str = "power-entry.mains-defaults";
-}
-
 impl Table for MainsDefaults {
+    const ID: &'static str = "power-entry.mains-defaults";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.low_frequency_hz, "low_frequency_hz")?;
         positive(&self.high_frequency_hz, "high_frequency_hz")?;

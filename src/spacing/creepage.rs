@@ -5,6 +5,7 @@
 use super::clearance::grade_label;
 use super::{Conditions, Figure, OutOfTable, Step, round_up, show, tidy};
 use crate::project::{Barrier, BetweenRows, Grade, Material, MaterialGroup};
+use crate::rules::Table as _;
 use crate::rules::{CreepageTable, EPS, MaterialGroupTable, ReinforcedRule, RuleBook};
 
 pub struct Creepage {
