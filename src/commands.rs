@@ -633,11 +633,7 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
 }
 
 fn severity_word(s: Severity) -> &'static str {
-    match s {
-        Severity::Blocking => "blocking",
-        Severity::Warning => "warning",
-        Severity::Note => "note",
-    }
+    s.as_str()
 }
 
 fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {

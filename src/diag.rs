@@ -309,3 +309,117 @@ pub fn span_of_path(text: &str, path: &str) -> Option<Range<usize>> {
 
 // A value that is not a table has no keys: the rest of a path goes nowhere.
 static EMPTY: std::sync::OnceLock<toml::de::DeTable<'static>> = std::sync::OnceLock::new();
+
+/// Gives a domain enum its words once: the `clap::ValueEnum` derive names each variant
+/// (kebab-case of the variant, or `#[value(name = "IIIa")]`), and this macro makes serde,
+/// `Display` and `as_str` use the same words, so the project file, the rule files, the
+/// report and the command line cannot drift apart. A word that is not one of them is an
+/// error listing them all.
+#[macro_export]
+macro_rules! domain_words {
+    ($($t:ty),* $(,)?) => {$(
+        impl $t {
+            /// The word the project file, the report and the command line use for it.
+            pub fn as_str(self) -> &'static str {
+                static WORDS: std::sync::OnceLock<Vec<String>> = std::sync::OnceLock::new();
+                let words = WORDS.get_or_init($crate::diag::words::<$t>);
+                <$t as clap::ValueEnum>::value_variants()
+                    .iter()
+                    .position(|v| *v == self)
+                    .and_then(|i| words.get(i))
+                    .map_or("", String::as_str)
+            }
+        }
+
+        impl std::fmt::Display for $t {
+            fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str(self.as_str())
+            }
+        }
+
+        impl serde::Serialize for $t {
+            fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+                s.serialize_str(self.as_str())
+            }
+        }
+
+        impl<'de> serde::Deserialize<'de> for $t {
+            fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+                let word = <std::borrow::Cow<'de, str> as serde::Deserialize>::deserialize(d)?;
+                $crate::diag::word::<$t>(&word).ok_or_else(|| {
+                    let words = $crate::diag::words::<$t>();
+                    let words: Vec<&str> = words.iter().map(String::as_str).collect();
+                    serde::de::Error::custom(format!(
+                        "\"{word}\" is not known; expected {}",
+                        $crate::diag::one_of(&words)
+                    ))
+                })
+            }
+        }
+    )*};
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::project::{Grade, MaterialGroup, PartKind, ProtectionClass};
+
+    #[test]
+    fn domain_words_are_the_project_files_words_in_serde_and_on_the_command_line() {
+        // The words of DESIGN.md's project file and README's key list, written out here.
+        assert_eq!(
+            words::<Grade>(),
+            [
+                "functional",
+                "basic",
+                "supplementary",
+                "reinforced",
+                "double"
+            ]
+        );
+        assert_eq!(words::<MaterialGroup>(), ["I", "II", "IIIa", "IIIb"]);
+        assert_eq!(words::<ProtectionClass>(), ["I", "II", "III"]);
+        assert_eq!(
+            words::<PartKind>(),
+            [
+                "y-capacitor",
+                "x-capacitor",
+                "optocoupler",
+                "digital-isolator",
+                "transformer",
+                "resistor",
+                "relay",
+                "other"
+            ]
+        );
+        for grade in [Grade::Functional, Grade::Reinforced] {
+            let json = serde_json::to_string(&grade).unwrap();
+            assert_eq!(json, format!("\"{}\"", grade.as_str()));
+            assert_eq!(serde_json::from_str::<Grade>(&json).unwrap(), grade);
+        }
+        assert_eq!(
+            serde_json::to_string(&MaterialGroup::IIIa).unwrap(),
+            "\"IIIa\""
+        );
+        assert_eq!(word::<MaterialGroup>("IIIb"), Some(MaterialGroup::IIIb));
+        // Case matters, as in the project file.
+        assert_eq!(word::<MaterialGroup>("iiib"), None);
+        let e = serde_json::from_str::<Grade>("\"reinforcd\"").unwrap_err();
+        assert!(
+            e.to_string().contains("\"reinforced\" or \"double\""),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn a_path_is_located_through_the_parsers_spans() {
+        let text = "id = \"x\"\nrows = [\n  { a = 1, b = 2 },\n  { a = 3, b = 500 },\n]\n[t]\nk = { m = 7 }\n";
+        let at = |path: &str| span_of_path(text, path).map(|s| &text[s]);
+        assert_eq!(at("rows[2].b"), Some("500"));
+        assert_eq!(at("rows[1].a"), Some("1"));
+        assert_eq!(at("t.k.m"), Some("7"));
+        // Past the text: the deepest value reached.
+        assert_eq!(at("rows[2].c"), Some("{ a = 3, b = 500 }"));
+        assert_eq!(at("nothing"), None);
+    }
+}

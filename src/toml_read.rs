@@ -553,33 +553,35 @@ impl<'s> Reader<'s> {
         self.number(table, key, rule)
     }
 
-    /// One of a fixed set of words; a near miss gets a suggestion.
-    pub fn word(
+    /// One of the words of a domain enum (`crate::domain_words!`); a near miss gets a
+    /// suggestion, and the list in the message is the enum's own.
+    pub fn word<E: clap::ValueEnum>(
         &mut self,
         table: &TableRef<'_, '_>,
         key: &str,
-        words: &[&'static str],
-    ) -> Option<Located<&'static str>> {
+    ) -> Option<Located<E>> {
         let (_, value) = entry(table, key)?;
         let path = join(&table.path, key);
         let span = value.span();
+        let words = crate::diag::words::<E>();
+        let words: Vec<&str> = words.iter().map(String::as_str).collect();
         let DeValue::String(s) = value.get_ref() else {
             self.error(
                 &span,
                 path,
                 format!(
                     "expected one of {}, found {}",
-                    one_of(words),
+                    one_of(&words),
                     value.get_ref().type_str()
                 ),
             );
             return None;
         };
-        if let Some(word) = words.iter().find(|w| **w == s.as_ref()) {
+        if let Some(word) = crate::diag::word::<E>(s) {
             return Some(Located { value: word, span });
         }
-        let message = format!("\"{s}\" is not known; expected {}", one_of(words));
-        match suggest(s, words) {
+        let message = format!("\"{s}\" is not known; expected {}", one_of(&words));
+        match suggest(s, &words) {
             Some(best) => {
                 self.error_with_help(&span, path, message, format!("did you mean \"{best}\"?"))
             }
@@ -588,17 +590,18 @@ impl<'s> Reader<'s> {
         None
     }
 
-    pub fn required_word(
+    pub fn required_word<E: clap::ValueEnum>(
         &mut self,
         table: &TableRef<'_, '_>,
         key: &str,
-        words: &[&'static str],
-    ) -> Option<Located<&'static str>> {
+    ) -> Option<Located<E>> {
         if entry(table, key).is_none() {
-            self.missing(table, key, &one_of(words));
+            let words = crate::diag::words::<E>();
+            let words: Vec<&str> = words.iter().map(String::as_str).collect();
+            self.missing(table, key, &one_of(&words));
             return None;
         }
-        self.word(table, key, words)
+        self.word(table, key)
     }
 
     /// An array of strings; each element keeps its own position.

@@ -28,8 +28,7 @@ pub use noise::{BulkCapacitor, CommonModePath, ConverterFigures, Network};
 pub use rules::{Detector, EmcRules, LimitClass};
 
 /// The detector a prescan point was read with.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum PrescanDetector {
     QuasiPeak,
     Average,
@@ -37,55 +36,18 @@ pub enum PrescanDetector {
     Peak,
 }
 
-impl PrescanDetector {
-    pub const WORDS: [&'static str; 3] = ["quasi-peak", "average", "peak"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "quasi-peak" => Some(Self::QuasiPeak),
-            "average" => Some(Self::Average),
-            "peak" => Some(Self::Peak),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::QuasiPeak => "quasi-peak",
-            Self::Average => "average",
-            Self::Peak => "peak",
-        }
-    }
-}
-
 /// How the Y capacitors sit: one from each mains line to earth (common-mode capacitance
 /// twice the per-line value), or a single one from the rectified primary to earth or to the
 /// secondary (common-mode capacitance equal to it).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum YArrangement {
     EachLine,
     Single,
 }
 
+crate::domain_words!(PrescanDetector, YArrangement);
+
 impl YArrangement {
-    pub const WORDS: [&'static str; 2] = ["each-line", "single"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "each-line" => Some(Self::EachLine),
-            "single" => Some(Self::Single),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::EachLine => "each-line",
-            Self::Single => "single",
-        }
-    }
-
     /// Common-mode capacitance as a multiple of the per-line Y capacitance.
     pub fn common_mode_factor(self) -> f64 {
         match self {

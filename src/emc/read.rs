@@ -35,9 +35,7 @@ const FILTER_KEYS: &[&str] = &[
 pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
     let t = r.table(root, "emc", EMC_KEYS)?;
     let problems_before = r.problems.len();
-    let limit_class = r
-        .word(&t, "limit_class", &LimitClass::WORDS)
-        .and_then(|l| LimitClass::from_word(l.value));
+    let limit_class = r.word::<LimitClass>(&t, "limit_class").map(|l| l.value);
     let margin_db = r.number(&t, "margin_db", &MARGIN_DB).map(|l| l.value);
     let parasitic_capacitance_pf = r
         .number(&t, "parasitic_capacitance_pf", &CAPACITANCE_PF)
@@ -53,13 +51,11 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
     for p in r.table_array(&t, "prescan", PRESCAN_KEYS) {
         let frequency = r.required_number(&p, "frequency_hz", &PRESCAN_FREQUENCY_HZ);
         let level = r.required_number(&p, "level_dbuv", &LEVEL_DBUV);
-        let detector = r.required_word(&p, "detector", &PrescanDetector::WORDS);
+        let detector = r.required_word::<PrescanDetector>(&p, "detector");
         let (Some(frequency), Some(level), Some(detector)) = (frequency, level, detector) else {
             continue;
         };
-        let Some(detector) = PrescanDetector::from_word(detector.value) else {
-            continue;
-        };
+        let detector = detector.value;
         prescan.push(PrescanPoint {
             frequency_hz: frequency.value,
             level_dbuv: level.value,
@@ -106,9 +102,7 @@ fn read_filter(r: &mut Reader, f: &TableRef) -> FilterSpec {
     let y_capacitance_nf = r
         .number(f, "y_capacitance_nf", &CAPACITANCE_NF)
         .map(|l| l.value);
-    let y_arrangement = r
-        .word(f, "y_arrangement", &YArrangement::WORDS)
-        .and_then(|l| YArrangement::from_word(l.value));
+    let y_arrangement = r.word::<YArrangement>(f, "y_arrangement").map(|l| l.value);
 
     // The damping branch is a resistor and a capacitor in series: both or neither.
     for (present, absent, other) in [

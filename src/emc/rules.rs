@@ -7,47 +7,22 @@ use serde::{Deserialize, Serialize};
 use crate::rules::Table;
 
 /// Limit class of the conducted-emission limits.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum LimitClass {
+    #[value(name = "A")]
     A,
+    #[value(name = "B")]
     B,
 }
 
-impl LimitClass {
-    pub const WORDS: [&'static str; 2] = ["A", "B"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "A" => Some(Self::A),
-            "B" => Some(Self::B),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::A => "A",
-            Self::B => "B",
-        }
-    }
-}
-
 /// Detector of a limit line (a prescan point may also be read with a peak detector).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Detector {
     QuasiPeak,
     Average,
 }
 
-impl Detector {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::QuasiPeak => "quasi-peak",
-            Self::Average => "average",
-        }
-    }
-}
+crate::domain_words!(LimitClass, Detector);
 
 /// One straight piece of a limit line on a log-frequency axis.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]

@@ -23,8 +23,7 @@ pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
 /// How the equipment connects to the mains (`input.connection`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Connection {
     /// Pluggable equipment type A (a household plug).
     Plug,
@@ -34,49 +33,20 @@ pub enum Connection {
     Permanent,
 }
 
-impl Connection {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Connection::Plug => "plug",
-            Connection::IndustrialPlug => "industrial-plug",
-            Connection::Permanent => "permanent",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum LimiterKind {
     Ntc,
     Resistor,
     None,
 }
 
-impl LimiterKind {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            LimiterKind::Ntc => "ntc",
-            LimiterKind::Resistor => "resistor",
-            LimiterKind::None => "none",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum FuseSpeed {
     Fast,
     TimeLag,
 }
 
-impl FuseSpeed {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            FuseSpeed::Fast => "fast",
-            FuseSpeed::TimeLag => "time-lag",
-        }
-    }
-}
+crate::domain_words!(Connection, LimiterKind, FuseSpeed);
 
 /// The checked `[input.limiter]` table. For a resistor, `hot_ohm` is `cold_ohm` unless
 /// given; for `none`, both are absent.

@@ -1,7 +1,6 @@
 //! Reads `[input]` (with `[input.limiter]` and `[input.fuse]`) and `[converter]` key by key
 //! through the project reader, so every problem is reported at once with its line.
 
-use super::tables::{CONNECTIONS, FUSE_SPEEDS};
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
 use crate::input_limits::{
     BLEEDER_OHM, BREAKING_A, BULK_UF, CURRENT_A, DROP_V, EFFICIENCY, ENERGY_J, FUSE_A, I2T_A2S,
@@ -74,7 +73,7 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
     let x = r.number(t, "x_capacitance_uf", &X_UF);
     let bleeder = r.number(t, "bleeder_ohm", &BLEEDER_OHM);
     let tolerant = r.boolean(t, "bleeder_fault_tolerant");
-    let connection = r.word(t, "connection", &CONNECTIONS);
+    let connection = r.word::<Connection>(t, "connection");
     let prospective = r.number(t, "prospective_fault_a", &BREAKING_A);
     let standard = r.string(t, "end_product_standard");
     let hand_held = r.boolean(t, "hand_held");
@@ -122,11 +121,7 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
         x_capacitance_uf: value(x),
         bleeder_ohm: value(bleeder),
         bleeder_fault_tolerant: tolerant.map(|l| l.value),
-        connection: connection.map(|l| match l.value {
-            "industrial-plug" => Connection::IndustrialPlug,
-            "permanent" => Connection::Permanent,
-            _ => Connection::Plug,
-        }),
+        connection: connection.map(|l| l.value),
         prospective_fault_a: value(prospective),
         end_product_standard: standard,
         hand_held: hand_held.map(|l| l.value),
@@ -141,16 +136,11 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
 
 fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
     let before = r.problems.len();
-    let kind = r.required_word(t, "kind", &["ntc", "resistor", "none"]);
+    let kind = r.required_word::<LimiterKind>(t, "kind");
     let cold = r.number(t, "cold_ohm", &RESISTANCE_OHM);
     let hot = r.number(t, "hot_ohm", &RESISTANCE_OHM);
     let energy = r.number(t, "energy_rating_j", &ENERGY_J);
-    let kind = match kind.map(|l| l.value) {
-        Some("ntc") => LimiterKind::Ntc,
-        Some("resistor") => LimiterKind::Resistor,
-        Some(_) => LimiterKind::None,
-        None => return None,
-    };
+    let kind = kind?.value;
     match kind {
         LimiterKind::None => {
             for (key, present) in [
@@ -221,7 +211,7 @@ fn read_fuse(r: &mut Reader, t: &TableRef) -> Option<FuseSpec> {
     let i2t = r.number(t, "melting_i2t_a2s", &I2T_A2S);
     let breaking = r.number(t, "breaking_a", &BREAKING_A);
     let rated_v = r.number(t, "rated_v", &RATED_V);
-    let speed = r.word(t, "speed", &FUSE_SPEEDS);
+    let speed = r.word::<FuseSpeed>(t, "speed");
     if r.problems.len() > before {
         return None;
     }
@@ -230,10 +220,7 @@ fn read_fuse(r: &mut Reader, t: &TableRef) -> Option<FuseSpec> {
         melting_i2t_a2s: value(i2t),
         breaking_a: value(breaking),
         rated_v: value(rated_v),
-        speed: speed.map(|l| match l.value {
-            "fast" => FuseSpeed::Fast,
-            _ => FuseSpeed::TimeLag,
-        }),
+        speed: speed.map(|l| l.value),
     })
 }
 

@@ -56,9 +56,6 @@ impl FuseRules {
     }
 }
 
-/// Fuse speeds the project file accepts (and the pulse-factor table may name).
-pub const FUSE_SPEEDS: [&str; 2] = ["fast", "time-lag"];
-
 impl Table for FuseRules {
     const ID: &'static str = "power-entry.fuse";
 
@@ -75,7 +72,7 @@ impl Table for FuseRules {
             "default_prospective_fault_a",
         )?;
         for (i, p) in self.pulse_factors.iter().enumerate() {
-            if !FUSE_SPEEDS.contains(&p.speed.as_str()) {
+            if crate::diag::word::<super::FuseSpeed>(&p.speed).is_none() {
                 return Err(format!(
                     "pulse_factors[{}]: speed \"{}\" is not \"fast\" or \"time-lag\"",
                     i + 1,
@@ -142,7 +139,10 @@ pub struct NotApplicable {
 }
 
 /// How the equipment is connected to the mains (`input.connection`).
-pub const CONNECTIONS: [&str; 3] = ["plug", "industrial-plug", "permanent"];
+/// The connections a limit may be given for: those of the project file.
+fn connections() -> Vec<String> {
+    crate::diag::words::<super::Connection>()
+}
 
 impl DischargeRules {
     pub fn limit(&self, connection: &str) -> Option<&DischargeLimit> {
@@ -166,12 +166,12 @@ impl Table for DischargeRules {
             positive(limit, "residual_limit_v")?;
         }
         for (i, x) in self.not_applicable.iter().enumerate() {
-            if !CONNECTIONS.contains(&x.connection.as_str()) {
+            if !connections().contains(&x.connection) {
                 return Err(format!(
                     "not_applicable[{}]: connection \"{}\" is not one of {}",
                     i + 1,
                     x.connection,
-                    CONNECTIONS.join(", ")
+                    connections().join(", ")
                 ));
             }
             if self.limit(&x.connection).is_some() {
@@ -183,12 +183,12 @@ impl Table for DischargeRules {
             }
         }
         for (i, l) in self.limits.iter().enumerate() {
-            if !CONNECTIONS.contains(&l.connection.as_str()) {
+            if !connections().contains(&l.connection) {
                 return Err(format!(
                     "limits[{}]: connection \"{}\" is not one of {}",
                     i + 1,
                     l.connection,
-                    CONNECTIONS.join(", ")
+                    connections().join(", ")
                 ));
             }
             if !(l.max_time_constant_s.is_finite() && l.max_time_constant_s > 0.0) {

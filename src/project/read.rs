@@ -72,17 +72,6 @@ const PART_KEYS: &[&str] = &[
     "hot_spot_c",
 ];
 
-const PART_KIND_WORDS: &[&str] = &[
-    "y-capacitor",
-    "x-capacitor",
-    "optocoupler",
-    "digital-isolator",
-    "transformer",
-    "resistor",
-    "relay",
-    "other",
-];
-
 /// Reads a project from its text. `source.name` is used in messages as given.
 pub fn read_project(source: &Source) -> Result<Project, Problems> {
     let doc = parse_document(source)?;
@@ -143,11 +132,10 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
     };
     let name = r.required_string(&t, "name");
     let revision = r.string(&t, "revision").map(|l| l.value);
-    let class = r.required_word(&t, "protection_class", &["I", "II", "III"]);
-    let between = r.word(&t, "creepage_between_rows", &["next-row", "interpolate"]);
+    let class = r.required_word::<ProtectionClass>(&t, "protection_class");
+    let between = r.word::<BetweenRows>(&t, "creepage_between_rows");
     let creepage_between_rows = match between.map(|l| l.value) {
-        Some("interpolate") => BetweenRows::Interpolate,
-        Some(_) => BetweenRows::NextRow,
+        Some(rows) => rows,
         None => {
             assumptions.push(
                 "Creepage between two table rows: the next higher row (creepage_between_rows not set in [design])."
@@ -156,22 +144,15 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
             BetweenRows::NextRow
         }
     };
-    let altitude_between = r.word(&t, "altitude_between_rows", &["next-row", "interpolate"]);
-    let altitude_between_rows = match altitude_between.map(|l| l.value) {
-        Some("interpolate") => BetweenRows::Interpolate,
-        Some(_) => BetweenRows::NextRow,
-        None => BetweenRows::NextRow,
-    };
+    let altitude_between_rows = r
+        .word::<BetweenRows>(&t, "altitude_between_rows")
+        .map_or(BetweenRows::NextRow, |l| l.value);
     if revision.is_none() {
         assumptions.push(
             "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
         );
     }
-    let protection_class = match class?.value {
-        "I" => ProtectionClass::I,
-        "II" => ProtectionClass::II,
-        _ => ProtectionClass::III,
-    };
+    let protection_class = class?.value;
     Some(Design {
         name: name?.value,
         revision,
@@ -196,7 +177,7 @@ fn read_environment(
         .and_then(|t| r.number(t, "pollution_degree", &POLLUTION_DEGREE));
     let ovc = t
         .as_ref()
-        .and_then(|t| r.word(t, "overvoltage_category", &OvervoltageCategory::WORDS));
+        .and_then(|t| r.word::<OvervoltageCategory>(t, "overvoltage_category"));
     let altitude = t
         .as_ref()
         .and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
@@ -223,9 +204,7 @@ fn read_environment(
     }
     Some(Environment {
         pollution_degree: pd.map(|l| l.value as u8).unwrap_or(2),
-        overvoltage_category: ovc
-            .and_then(|l| OvervoltageCategory::from_word(l.value))
-            .unwrap_or(OvervoltageCategory::II),
+        overvoltage_category: ovc.map_or(OvervoltageCategory::II, |l| l.value),
         altitude_m: altitude.map(|l| l.value).unwrap_or(2000.0),
     })
 }
@@ -289,7 +268,7 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
     let mut circuits = Vec::new();
     for t in &tables {
         let id = r.required_string(t, "id");
-        let kind = r.required_word(t, "kind", &["mains", "hazardous", "safe"]);
+        let kind = r.required_word::<CircuitKind>(t, "kind");
         let accessible = r.boolean(t, "accessible");
         let earthed = r.boolean(t, "earthed");
         let description = r.string(t, "description").map(|l| l.value);
@@ -313,11 +292,7 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
         };
         circuits.push(Circuit {
             id: id.value,
-            kind: match kind.value {
-                "mains" => CircuitKind::Mains,
-                "hazardous" => CircuitKind::Hazardous,
-                _ => CircuitKind::Safe,
-            },
+            kind: kind.value,
             accessible: accessible.is_some_and(|l| l.value),
             earthed: earthed.is_some_and(|l| l.value),
             description,
@@ -334,11 +309,11 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
     let mut parts = Vec::new();
     for t in &tables {
         let reference = r.required_string(t, "ref");
-        let kind = r.required_word(t, "kind", PART_KIND_WORDS);
+        let kind = r.required_word::<PartKind>(t, "kind");
         let description = r.string(t, "description").map(|l| l.value);
         let ratings = PartRatings {
             subclass: r
-                .word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"])
+                .word::<CapacitorSubclass>(t, "subclass")
                 .map(|l| l.value.to_string()),
             capacitance_nf: r
                 .number(t, "capacitance_nf", &CAPACITANCE_NF)
@@ -361,18 +336,14 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
                 .map(|l| l.value),
             thin_layer_rated: r.boolean(t, "thin_layer_rated").is_some_and(|l| l.value),
             insulation_system: r
-                .word(
-                    t,
-                    "insulation_system",
-                    &["triple-insulated-wire", "tape", "margin-tape"],
-                )
+                .word::<InsulationSystem>(t, "insulation_system")
                 .map(|l| l.value.to_string()),
             tape_layers: r
                 .number(t, "tape_layers", &TAPE_LAYERS)
                 .map(|l| l.value as u32),
             margin_mm: r.number(t, "margin_mm", &DISTANCE_MM).map(|l| l.value),
             thermal_class: r
-                .word(t, "thermal_class", &["A", "E", "B", "F", "H", "N", "R"])
+                .word::<ThermalClassLetter>(t, "thermal_class")
                 .map(|l| l.value.to_string()),
             hot_spot_c: r.number(t, "hot_spot_c", &TEMPERATURE_C).map(|l| l.value),
         };
@@ -389,16 +360,7 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
         let (Some(reference), Some(kind)) = (reference, kind) else {
             continue;
         };
-        let kind = match kind.value {
-            "y-capacitor" => PartKind::YCapacitor,
-            "x-capacitor" => PartKind::XCapacitor,
-            "optocoupler" => PartKind::Optocoupler,
-            "digital-isolator" => PartKind::DigitalIsolator,
-            "transformer" => PartKind::Transformer,
-            "resistor" => PartKind::Resistor,
-            "relay" => PartKind::Relay,
-            _ => PartKind::Other,
-        };
+        let kind = kind.value;
         parts.push(Part {
             reference: reference.value,
             kind,
@@ -442,21 +404,17 @@ fn read_barriers(
         };
         let id = r.required_string(t, "id");
         let between = read_between(r, t, circuit_set, &circuit_ids);
-        let grade = r.required_word(t, "grade", &Grade::WORDS);
+        let grade = r.required_word::<Grade>(t, "grade");
         let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
         let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
         let transient = r.number(t, "transient_v", &TRANSIENT_V);
         let frequency = r.number(t, "working_frequency_hz", &WORKING_FREQUENCY_HZ);
-        let group = r.word(t, "material_group", &MaterialGroup::WORDS);
+        let group = r.word::<MaterialGroup>(t, "material_group");
         let cti = r.number(t, "cti", &CTI);
         let printed = r.boolean(t, "printed_board");
-        let field = r.word(t, "field", &["inhomogeneous", "homogeneous"]);
-        let conductor = r.word(
-            t,
-            "board_conductor",
-            &["outer-layer", "inner-layer", "component-lead"],
-        );
-        let coating = r.word(t, "board_coating", &["none", "polymer", "conformal"]);
+        let field = r.word::<Field>(t, "field");
+        let conductor = r.word::<BoardConductor>(t, "board_conductor");
+        let coating = r.word::<BoardCoating>(t, "board_coating");
         let clearance = r.number(t, "clearance_mm", &DISTANCE_MM);
         let creepage = r.number(t, "creepage_mm", &DISTANCE_MM);
         let slot = r.number(t, "slot_width_mm", &SLOT_MM);
@@ -542,9 +500,7 @@ fn read_barriers(
             }
         }
         let material = match (group, cti) {
-            (Some(g), _) => {
-                Material::Group(MaterialGroup::from_word(g.value).unwrap_or(MaterialGroup::IIIb))
-            }
+            (Some(g), _) => Material::Group(g.value),
             (None, Some(c)) => Material::Cti(c.value),
             (None, None) => {
                 defaults.material.push(id.value.clone());
@@ -557,7 +513,7 @@ fn read_barriers(
         if printed.is_none() {
             defaults.printed_board.push(id.value.clone());
         }
-        let grade = Grade::from_word(grade.value).unwrap_or(Grade::Reinforced);
+        let grade = grade.value;
         let printed_board = printed.is_some_and(|l| l.value);
         if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none())
         {
@@ -573,21 +529,11 @@ fn read_barriers(
             working_frequency_hz: frequency.map(|l| l.value),
             material,
             printed_board,
-            field: match field.map(|l| l.value) {
-                Some("homogeneous") => Field::Homogeneous,
-                _ => Field::Inhomogeneous,
-            },
+            // Absent keys take the defaults the assumptions above name.
+            field: field.map_or(Field::Inhomogeneous, |l| l.value),
             board: BoardSpacing {
-                conductor: match conductor.map(|l| l.value) {
-                    Some("inner-layer") => BoardConductor::InnerLayer,
-                    Some("component-lead") => BoardConductor::ComponentLead,
-                    _ => BoardConductor::OuterLayer,
-                },
-                coating: match coating.map(|l| l.value) {
-                    Some("polymer") => BoardCoating::Polymer,
-                    Some("conformal") => BoardCoating::Conformal,
-                    _ => BoardCoating::None,
-                },
+                conductor: conductor.map_or(BoardConductor::OuterLayer, |l| l.value),
+                coating: coating.map_or(BoardCoating::None, |l| l.value),
             },
             clearance_mm: clearance.map(|l| l.value),
             creepage_mm: creepage.map(|l| l.value),

@@ -388,16 +388,13 @@ pub fn load_checks(
                 .clone()
                 .or_else(|| base.as_ref().and_then(|b| b.subject.clone()));
             let severity = match (&raw.severity, &base) {
-                (Some(word), _) => match word.as_str() {
-                    "blocking" => Some(Severity::Blocking),
-                    "warning" => Some(Severity::Warning),
-                    "note" => Some(Severity::Note),
-                    other => {
+                (Some(word), _) => match crate::diag::word::<Severity>(word) {
+                    Some(severity) => Some(severity),
+                    None => {
+                        let words = crate::diag::words::<Severity>();
+                        let words: Vec<&str> = words.iter().map(String::as_str).collect();
                         problems.push(at(
-                            format!(
-                                "\"{other}\" is not a severity; expected {}",
-                                one_of(&["blocking", "warning", "note"])
-                            ),
+                            format!("\"{word}\" is not a severity; expected {}", one_of(&words)),
                             "severity",
                         ));
                         None

@@ -497,7 +497,7 @@ impl Table for MaterialGroupTable {
             return Err("groups: the table has no rows".to_string());
         }
         for (i, g) in self.groups.iter().enumerate() {
-            if crate::project::MaterialGroup::from_word(&g.group).is_none() {
+            if crate::diag::word::<crate::project::MaterialGroup>(&g.group).is_none() {
                 return Err(format!(
                     "{}: \"{}\" is not one of {}",
                     item("groups", i, "group"),
