@@ -19,12 +19,13 @@ use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
 use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
+use crate::raw::{Reader, Span, TableAt};
 use crate::rules::RuleBook;
 use crate::spacing::{Step, show};
-use crate::toml_read::{Reader, Span, TableRef};
 
 pub use evaluate::{EmcInputs, InputProblem, TouchLimit, compute};
 pub use noise::{BulkCapacitor, CommonModePath, ConverterFigures, Network};
+pub use read::{RawEmc, RawFilter, RawPrescan};
 pub use rules::{Detector, EmcRules, LimitClass};
 
 /// The detector a prescan point was read with.
@@ -284,8 +285,13 @@ pub struct EmcReport {
 }
 
 /// Reads `[emc]`; a table present is read in full (nothing is left unevaluated).
-pub fn read(r: &mut Reader, root: &TableRef, _not_evaluated: &mut Vec<String>) -> Option<EmcSpec> {
-    read::read_emc(r, root)
+pub fn read(
+    r: &mut Reader,
+    root: &TableAt,
+    raw_root: &crate::project::RawProject,
+    _not_evaluated: &mut Vec<String>,
+) -> Option<EmcSpec> {
+    read::read_emc(r, root, raw_root)
 }
 
 /// The EMC figures; `None` when the project has no `[emc]`.

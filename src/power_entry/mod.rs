@@ -13,12 +13,13 @@ use serde::Serialize;
 
 use crate::diag::{Problems, Source};
 use crate::project::Project;
+use crate::raw::{Located, Reader, TableAt};
 use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
-use crate::toml_read::{Located, Reader, TableRef};
 
 pub(crate) use figures::rests_on_suspicious;
+pub use read::{RawConverter, RawFuse, RawInput, RawLimiter};
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
@@ -468,10 +469,11 @@ pub struct PowerEntryReport {
 /// tables are evaluated, so nothing is added to `not_evaluated`.
 pub fn read(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &crate::project::RawProject,
     _not_evaluated: &mut Vec<String>,
 ) -> (Option<InputSpec>, Option<ConverterSpec>) {
-    read::read_tables(r, root)
+    read::read_tables(r, root, raw_root)
 }
 
 /// The power-entry figures; `None` when the project has no `[input]`.

@@ -1,6 +1,7 @@
 //! The project file: the checked description of one design. `read` turns TOML text into a
 //! [`Project`] or into every problem found, located by line and key.
 
+mod raw;
 mod read;
 
 use std::collections::BTreeMap;
@@ -8,10 +9,11 @@ use std::collections::BTreeMap;
 use serde::Serialize;
 
 use crate::diag::Diagnostic;
-use crate::toml_read::Span;
+use crate::raw::Span;
 
 // Re-exported for the `spacing` command, which judges its flags by the same limits.
 pub use crate::input_limits::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
+pub use raw::*;
 pub use read::read_project;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
