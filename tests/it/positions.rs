@@ -208,3 +208,82 @@ fn a_diagnostic_shows_the_source_line_with_a_marker_beneath_the_message() {
         "{err}"
     );
 }
+
+/// An invented project, one key a line, with an unknown key (line 25), a value out of range
+/// (line 6) and an unknown key in a nested table (line 29).
+const PROJECT: &str = r#"[design]
+name = "Positions"
+protection_class = "II"
+
+[environment]
+pollution_degree = 5
+
+[mains]
+nominal_v = 230
+
+[[circuit]]
+id = "primary"
+kind = "mains"
+
+[[circuit]]
+id = "output"
+kind = "safe"
+accessible = true
+
+[[barrier]]
+id = "pri-sec"
+between = ["primary", "output"]
+grade = "reinforced"
+working_rms_v = 250
+clearence_mm = 6.2
+
+[input.limiter]
+kind = "ntc"
+cold_ohms = 10
+"#;
+
+#[test]
+fn unknown_project_keys_and_bad_values_are_all_reported_at_their_lines() {
+    use gapwarden::diag::Source;
+    let Err(problems) = gapwarden::project::read_project(&Source::new("p.toml", PROJECT)) else {
+        panic!("the project was accepted");
+    };
+    let at: Vec<(Option<usize>, Option<&str>)> = problems
+        .0
+        .iter()
+        .map(|d| (d.line, d.key.as_deref()))
+        .collect();
+    // [input] without its required keys is reported too (at its header, line 27).
+    assert!(
+        at.contains(&(Some(6), Some("environment.pollution_degree"))),
+        "{problems}"
+    );
+    assert!(
+        at.contains(&(Some(25), Some("barrier[1].clearence_mm"))),
+        "{problems}"
+    );
+    assert!(
+        at.contains(&(Some(29), Some("input.limiter.cold_ohms"))),
+        "{problems}"
+    );
+    let unknown = problems
+        .0
+        .iter()
+        .find(|d| d.key.as_deref() == Some("barrier[1].clearence_mm"))
+        .unwrap();
+    assert_eq!(unknown.column, Some(1));
+    assert_eq!(unknown.message, "unknown key in [barrier[1]]");
+    assert_eq!(
+        unknown.help.as_deref(),
+        Some("did you mean `clearance_mm`?")
+    );
+    let nested = problems
+        .0
+        .iter()
+        .find(|d| d.key.as_deref() == Some("input.limiter.cold_ohms"))
+        .unwrap();
+    assert_eq!(nested.help.as_deref(), Some("did you mean `cold_ohm`?"));
+    // In file order.
+    let lines: Vec<usize> = problems.0.iter().filter_map(|d| d.line).collect();
+    assert!(lines.windows(2).all(|w| w[0] <= w[1]), "{problems}");
+}
