@@ -271,6 +271,17 @@ pub fn word<E: clap::ValueEnum>(word: &str) -> Option<E> {
     E::from_str(word, false).ok()
 }
 
+/// The dotted key path the TOML parser records in an error (it shows it only in the
+/// error's own rendering, as "in `a.b`", when no input text is attached).
+pub fn toml_error_key(e: &toml::de::Error) -> Option<String> {
+    let mut bare = e.clone();
+    bare.set_input(None);
+    let shown = bare.to_string();
+    let line = shown.lines().rev().find(|l| l.starts_with("in `"))?;
+    let key = line.strip_prefix("in `")?.strip_suffix('`')?;
+    (!key.is_empty()).then(|| key.to_string())
+}
+
 /// The byte range of the value at a dotted path (`rows[5].up_to_v`, lists counted from 1)
 /// in a TOML text, as the parser located it; where the path goes further than the text, the
 /// deepest value it reaches. `None` where the text does not parse or the first key is absent.

@@ -414,11 +414,17 @@ pub fn read_document<T: for<'de> Deserialize<'de>>(
     let doc = parse_document(source)?;
     let span = doc.span();
     Section::<T>::deserialize(toml::de::Deserializer::from(doc)).map_err(|e| {
-        let message = e.message().trim().to_string();
-        let span = e.span().unwrap_or(span);
-        Problems(vec![
-            source.diag(&span, format!("cannot be read: {message}")),
-        ])
+        // The leaves take any value, so serde fails only where a date stands for a table.
+        let message = if e.message().contains(DATETIME_KEY) {
+            "expected a table, found datetime".to_string()
+        } else {
+            format!("cannot be read: {}", e.message().trim())
+        };
+        let d = source.diag(&e.span().unwrap_or(span), message);
+        Problems(vec![match crate::diag::toml_error_key(&e) {
+            Some(key) => d.with_key(key),
+            None => d,
+        }])
     })
 }
 

@@ -472,24 +472,13 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         Some(span) => source.diag(&span, message),
         None => Diagnostic::new(&source.name, message),
     };
-    if let Some(key) = error_key(e) {
+    if let Some(key) = crate::diag::toml_error_key(e) {
         d = d.with_key(key);
     }
     if !help.is_empty() {
         d = d.with_help(help);
     }
     d
-}
-
-/// The dotted key path the parser records in an error (it shows it only in the error's
-/// own rendering, as "in `a.b`", when no input text is attached).
-fn error_key(e: &toml::de::Error) -> Option<String> {
-    let mut bare = e.clone();
-    bare.set_input(None);
-    let shown = bare.to_string();
-    let line = shown.lines().rev().find(|l| l.starts_with("in `"))?;
-    let key = line.strip_prefix("in `")?.strip_suffix('`')?;
-    (!key.is_empty()).then(|| key.to_string())
 }
 
 /// A table's `check()` problem (`path: message`), located at the value the path names

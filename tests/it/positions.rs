@@ -287,3 +287,16 @@ fn unknown_project_keys_and_bad_values_are_all_reported_at_their_lines() {
     let lines: Vec<usize> = problems.0.iter().filter_map(|d| d.line).collect();
     assert!(lines.windows(2).all(|w| w[0] <= w[1]), "{problems}");
 }
+
+#[test]
+fn a_date_where_a_table_belongs_is_reported_at_its_line_and_key() {
+    use gapwarden::diag::Source;
+    let text = PROJECT.replace("[design]\n", "design = 1979-05-27\n[old_design]\n");
+    let Err(problems) = gapwarden::project::read_project(&Source::new("p.toml", text)) else {
+        panic!("the project was accepted");
+    };
+    let d = only(&problems.0);
+    assert_eq!((d.line, d.column), (Some(1), Some(10)), "{d}");
+    assert_eq!(d.key.as_deref(), Some("design"), "{d}");
+    assert_eq!(d.message, "expected a table, found datetime");
+}
