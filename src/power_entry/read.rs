@@ -219,14 +219,14 @@ fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<Limit
             }
         }
         LimiterKind::Ntc | LimiterKind::Resistor => {
-            if !raw_t.cold_ohm.is_some() {
+            if raw_t.cold_ohm.is_none() {
                 r.missing(
                     t,
                     "cold_ohm",
                     "the limiter's resistance at switch-on in ohms (it sets the inrush peak)",
                 );
             }
-            if kind == LimiterKind::Ntc && !raw_t.hot_ohm.is_some() {
+            if kind == LimiterKind::Ntc && raw_t.hot_ohm.is_none() {
                 r.missing(
                     t,
                     "hot_ohm",

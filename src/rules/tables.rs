@@ -50,10 +50,7 @@ fn ascending(values: impl Iterator<Item = f64>, list: &str, key: &str) -> Result
 }
 
 /// Figures (each with its path) that must be finite and 0 or more.
-fn non_negative<'a>(
-    values: impl Iterator<Item = (String, f64)>,
-    what: &'a str,
-) -> Result<(), String> {
+fn non_negative(values: impl Iterator<Item = (String, f64)>, what: &str) -> Result<(), String> {
     for (path, v) in values {
         if !v.is_finite() || v < 0.0 {
             return Err(format!(
