@@ -8,7 +8,7 @@ use crate::diag::suggest;
 /// The word among `words` that `written` stands for when it was written as an Arabic
 /// numeral (`2`, `"3a"`) or in the wrong letter case (`"iiia"`), if there is one.
 /// `written` is the value as the file gives it, without quotes.
-pub fn word_for(written: &str, words: &[&'static str]) -> Option<&'static str> {
+pub fn word_for<'a>(written: &str, words: &[&'a str]) -> Option<&'a str> {
     let compact: String = written
         .chars()
         .filter(|c| !c.is_whitespace() && *c != '-' && *c != '_')
@@ -41,7 +41,7 @@ pub fn word_for(written: &str, words: &[&'static str]) -> Option<&'static str> {
 
 /// The help line for a value that is not one of `words`: a numeral's Roman word first,
 /// then the nearest spelling.
-pub fn word_help(written: &str, words: &[&'static str], quoted: bool) -> Option<String> {
+pub fn word_help(written: &str, words: &[&str], quoted: bool) -> Option<String> {
     if let Some(w) = word_for(written, words) {
         return Some(if quoted {
             format!("did you mean \"{w}\"?")
