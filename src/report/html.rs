@@ -95,6 +95,7 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
     let mut open_anchors = 0usize;
     let mut verdict_open = false;
     let mut at_cell_start = false;
+    let mut in_item = false;
     for event in events {
         match event {
             // The EMC template marks where the chart goes; the SVG is gapwarden's own.
@@ -127,17 +128,29 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
             )),
             Event::Start(Tag::TableCell) | Event::Start(Tag::Item) => {
                 at_cell_start = true;
+                in_item = matches!(event, Event::Start(Tag::Item));
                 out_events.push(event);
             }
+            // A cell's verdict is coloured to the cell's end; an item's badge only.
             Event::Text(text) if at_cell_start => {
                 at_cell_start = false;
-                if let Some(class) = verdict_class(&text) {
-                    verdict_open = true;
-                    out_events.push(Event::InlineHtml(
-                        format!("<span class=\"v v-{class}\">").into(),
-                    ));
+                match verdict_class(&text) {
+                    Some(class) if in_item => {
+                        out_events.push(Event::InlineHtml(
+                            format!("<span class=\"v v-{class}\">").into(),
+                        ));
+                        out_events.push(Event::Text(text));
+                        out_events.push(Event::InlineHtml("</span>".into()));
+                    }
+                    Some(class) => {
+                        verdict_open = true;
+                        out_events.push(Event::InlineHtml(
+                            format!("<span class=\"v v-{class}\">").into(),
+                        ));
+                        out_events.push(Event::Text(text));
+                    }
+                    None => out_events.push(Event::Text(text)),
                 }
-                out_events.push(Event::Text(text));
             }
             Event::End(TagEnd::TableCell) | Event::End(TagEnd::Item) => {
                 at_cell_start = false;
@@ -194,12 +207,13 @@ pub fn page(
 /// The embedded stylesheet. Colours of our own; every verdict also carries its word and
 /// symbol, so a black-and-white printout loses nothing.
 const STYLE: &str = r#":root { --ink: #1d2327; --rule: #b8c2cc; --head: #e9eef2; }
-body { font-family: system-ui, "DejaVu Sans", sans-serif; max-width: 76rem; margin: 1.5rem auto; padding: 0 1rem; line-height: 1.45; color: var(--ink); font-size: 15px; }
+body { font-family: system-ui, "DejaVu Sans", sans-serif; max-width: 76rem; margin: 1.5rem auto; padding: 0 1rem; line-height: 1.45; color: var(--ink); font-size: 15px; overflow-wrap: break-word; }
 h1 { font-size: 1.6rem; margin-bottom: 0.5rem; }
 h2 { font-size: 1.3rem; margin-top: 2rem; padding-bottom: 0.2rem; border-bottom: 2px solid var(--rule); }
 h3 { font-size: 1.08rem; margin-top: 1.4rem; }
 table { border-collapse: collapse; margin: 0.8rem 0; font-size: 0.9rem; }
 th, td { border: 1px solid var(--rule); padding: 0.25rem 0.5rem; text-align: left; vertical-align: top; }
+td[style*="right"] { min-width: 6rem; }
 th { background: var(--head); }
 code { font-size: 0.85rem; word-break: break-all; }
 pre { background: #f6f8fa; padding: 0.5rem 0.75rem; overflow-x: auto; }
