@@ -43,6 +43,10 @@ fn escape(text: &str) -> String {
         .replace('"', "&quot;")
 }
 
+/// A table of at most this many body rows is kept whole on a printed page; a longer one
+/// breaks between rows, its header repeated.
+const SHORT_TABLE_ROWS: usize = 16;
+
 /// The page's body from the Markdown, and its table of contents (second-level headings).
 fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>) {
     let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
@@ -91,6 +95,20 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
         }
         i += 1;
     }
+    // Rows of each table, in order: a short table is kept whole on a printed page.
+    let mut table_rows: Vec<usize> = Vec::new();
+    for e in &events {
+        match e {
+            Event::Start(Tag::Table(_)) => table_rows.push(0),
+            Event::Start(Tag::TableRow) => {
+                if let Some(n) = table_rows.last_mut() {
+                    *n += 1;
+                }
+            }
+            _ => {}
+        }
+    }
+    let mut tables = table_rows.into_iter();
     let mut out_events: Vec<Event> = Vec::with_capacity(events.len());
     let mut open_anchors = 0usize;
     let mut verdict_open = false;
@@ -126,6 +144,19 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
                 }
                 .into(),
             )),
+            Event::Start(Tag::Table(_)) => {
+                let class = if tables.next().unwrap_or(0) <= SHORT_TABLE_ROWS {
+                    "table short"
+                } else {
+                    "table"
+                };
+                out_events.push(Event::Html(format!("<div class=\"{class}\">\n").into()));
+                out_events.push(event);
+            }
+            Event::End(TagEnd::Table) => {
+                out_events.push(event);
+                out_events.push(Event::Html("</div>\n".into()));
+            }
             Event::Start(Tag::TableCell) | Event::Start(Tag::Item) => {
                 at_cell_start = true;
                 in_item = matches!(event, Event::Start(Tag::Item));
@@ -142,12 +173,29 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
                         out_events.push(Event::Text(text));
                         out_events.push(Event::InlineHtml("</span>".into()));
                     }
-                    Some(class) => {
+                    // The symbol alone (its word follows in bold): coloured to the cell's end.
+                    Some(class) if text.trim_end().chars().count() == 1 => {
                         verdict_open = true;
                         out_events.push(Event::InlineHtml(
                             format!("<span class=\"v v-{class}\">").into(),
                         ));
                         out_events.push(Event::Text(text));
+                    }
+                    // The symbol and its word, then perhaps a remark in brackets: only the
+                    // verdict is coloured.
+                    Some(class) => {
+                        let (verdict, rest) = match text.find(" (") {
+                            Some(at) => text.split_at(at),
+                            None => (&*text, ""),
+                        };
+                        out_events.push(Event::InlineHtml(
+                            format!("<span class=\"v v-{class}\">").into(),
+                        ));
+                        out_events.push(Event::Text(verdict.to_string().into()));
+                        out_events.push(Event::InlineHtml("</span>".into()));
+                        if !rest.is_empty() {
+                            out_events.push(Event::Text(rest.to_string().into()));
+                        }
                     }
                     None => out_events.push(Event::Text(text)),
                 }
@@ -216,6 +264,8 @@ th, td { border: 1px solid var(--rule); padding: 0.25rem 0.5rem; text-align: lef
 td[style*="right"] { min-width: 6rem; }
 th { background: var(--head); }
 code { font-size: 0.85rem; word-break: break-all; }
+/* A hash alone in a cell: two lines of 32 digits, not a column of seven. */
+td > code:only-child { display: inline-block; width: 32ch; font-size: 0.78rem; }
 pre { background: #f6f8fa; padding: 0.5rem 0.75rem; overflow-x: auto; }
 blockquote { border-left: 4px solid #b3541e; margin: 1rem 0; padding: 0.25rem 1rem; background: #fbf3ee; }
 li { margin: 0.2rem 0; }
@@ -233,18 +283,25 @@ nav.toc ol { columns: 3; column-gap: 2rem; margin: 0.4rem 0 0; padding-left: 1.5
 nav.toc li { margin: 0.1rem 0; break-inside: avoid; }
 figure.chart { margin: 1rem 0; }
 figure.chart svg { max-width: 100%; height: auto; }
-@page { size: A4; margin: 16mm 12mm 14mm 12mm; @bottom-right { content: "page " counter(page) " of " counter(pages); font-size: 8pt; color: #555; } }
-@page { @top-left { font-size: 8pt; color: #555; } }
+@page { margin: 14mm 11mm 12mm 11mm; @bottom-right { content: "page " counter(page) " of " counter(pages); font: 8pt sans-serif; color: #555; } }
+@page { @top-left { font: 8pt sans-serif; color: #555; } }
 @media print {
-  body { max-width: none; margin: 0; padding: 0; font-size: 9.5pt; }
-  h2#power-entry, h2#input-emc-filter, h2#checks-run, h2#derivations, h2#rule-tables, h2#appendix-every-check-of-the-checklist { break-before: page; }
+  body { max-width: none; margin: 0; padding: 0; font-size: 9pt; line-height: 1.35; }
+  table { font-size: 8.5pt; }
+  th, td { padding: 0.15rem 0.35rem; }
+  h2#power-entry, h2#input-emc-filter, h2#derivations, h2#rule-tables, h2#appendix-every-check-of-the-checklist { break-before: page; }
   h1, h2, h3, h4 { break-after: avoid-page; break-inside: avoid; }
-  table { break-inside: auto; }
+  /* A short table is kept whole; a longer one breaks between rows, never right under its
+     header, and the text that introduces a table or a list stays with it. */
+  div.table.short { break-inside: avoid; }
+  tbody tr:first-child { break-before: avoid; }
+  p:has(+ div.table), p:has(+ ul), p:has(+ ol), h3 + p { break-after: avoid; }
   tr, figure, pre, li { break-inside: avoid; }
   thead { display: table-header-group; }
   p { orphans: 3; widows: 3; }
   a { color: inherit; text-decoration: none; }
   nav.toc ol { columns: 3; }
   figure.chart svg { max-width: 100%; }
+  td > code:only-child { width: 22ch; }
 }
 "#;
