@@ -397,18 +397,19 @@ pub fn write_reports_protecting(
             ));
             continue;
         }
-        if format == Format::Markdown
-            && let Ok((report, _)) = &outcome.result
-            && let Some(svg) = report.emc.as_ref().and_then(crate::emc::chart_svg)
-        {
-            let chart = target.with_extension("emc-chart.svg");
-            if let Err(p) = write_atomically(&chart, &svg, &inputs) {
-                problems.extend(p.0);
-                continue;
-            }
-        }
         match write_atomically(&target, text, &inputs) {
-            Ok(()) => written.push(target),
+            Ok(()) => {
+                // The EMC chart of a Markdown report, beside it (the report links it).
+                if format == Format::Markdown
+                    && let Ok((report, _)) = &outcome.result
+                    && let Some(svg) = report.emc.as_ref().and_then(crate::emc::chart_svg)
+                    && let Err(p) =
+                        write_atomically(&target.with_extension("emc-chart.svg"), &svg, &inputs)
+                {
+                    problems.extend(p.0);
+                }
+                written.push(target)
+            }
             Err(p) => problems.extend(p.0),
         }
     }

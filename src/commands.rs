@@ -107,10 +107,11 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
                 let protected: Vec<&Path> = std::iter::once(project.as_path())
                     .chain(house_inputs.iter().map(PathBuf::as_path))
                     .collect();
+                // The report first: where it cannot be written, no chart is left behind.
+                write_atomically(out, &text, &protected)?;
                 if let Some((path, svg)) = &chart {
                     write_atomically(path, svg, &protected)?;
                 }
-                write_atomically(out, &text, &protected)?
             }
             None => print(&text),
         }

@@ -10,16 +10,17 @@ use crate::power_entry::Verdict;
 use crate::spacing::show;
 
 // Sized to print on A4 without scaling (about 700 CSS pixels between the margins), so the
-// labels keep their size on paper: none below 13 px.
+// labels keep their size on paper. plotters writes an SVG font size of about 0.81 times
+// the size it is given: 15 gives 12.1 px, the smallest text in the chart.
 const WIDTH: u32 = 700;
 const PLOT_HEIGHT: u32 = 400;
 /// Height of the legend band under the plot, in pixels.
-const LEGEND_HEIGHT: u32 = 118;
+const LEGEND_HEIGHT: u32 = 124;
 const HEIGHT: u32 = PLOT_HEIGHT + LEGEND_HEIGHT;
 /// How far below the lowest limit less its margin the chart reaches, dB: points further
 /// below pass by far and are drawn on the lower edge, so the limits keep the height.
 const BELOW_LIMITS_DB: f64 = 60.0;
-const LABEL_PX: u32 = 13;
+const LABEL_PX: u32 = 15;
 
 // A palette of our own: ink-blue limits, rust for the raw noise, green for the filtered
 // noise that passes, red for the filtered noise above the limit less the margin.
@@ -173,7 +174,7 @@ fn draw(
         report.limit_class.as_str()
     );
     let mut chart = ChartBuilder::on(&plot_area)
-        .caption(title, ("sans-serif", 16))
+        .caption(title, ("sans-serif", 18))
         .margin(12)
         .x_label_area_size(46)
         .y_label_area_size(58)
@@ -189,7 +190,7 @@ fn draw(
         .x_label_formatter(&|_| String::new())
         .y_label_formatter(&|v: &f64| show(*v))
         .label_style(("sans-serif", LABEL_PX))
-        .axis_desc_style(("sans-serif", 14))
+        .axis_desc_style(("sans-serif", 16))
         .draw()?;
 
     // Our own log grid: a line at 1 to 9 of each decade, labels at 1, 2 and 5 and the
@@ -306,7 +307,7 @@ where
     let font = ("sans-serif", LABEL_PX).into_font().color(&BLACK);
     let text = |s: &str, at: (i32, i32)| Text::new(s.to_string(), (at.0, at.1 - 8), font.clone());
     let columns = [14, 250, 480];
-    let rows = [14, 42, 70, 98];
+    let rows = [16, 45, 74, 103];
     // Row 1: the lines.
     let (c, r) = (columns[0], rows[0]);
     area.draw(&PathElement::new(vec![(c, r), (c + 24, r)], QUASI_PEAK.stroke_width(2)))?;

@@ -4,7 +4,7 @@
 //! before the major sections, headings kept with what follows, a running header naming
 //! the design, its revision and the inputs' hash).
 
-use pulldown_cmark::{CowStr, Event, Options, Parser, Tag, TagEnd, html};
+use pulldown_cmark::{Event, Options, Parser, Tag, TagEnd, html};
 
 use super::render::CHART_COMMENT;
 use super::view::heading_slug;
@@ -84,9 +84,12 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
             if *level == pulldown_cmark::HeadingLevel::H2 {
                 toc.push((slug.clone(), text));
             }
+            // The anchor goes just before the heading (the heading's own markup stays
+            // plain `<h2>Title</h2>`).
+            events.push(Event::Html(format!("<a id=\"{}\"></a>\n", escape(&slug)).into()));
             events.push(Event::Start(Tag::Heading {
                 level: *level,
-                id: Some(CowStr::from(slug)),
+                id: None,
                 classes: classes.clone(),
                 attrs: attrs.clone(),
             }));
@@ -123,6 +126,15 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
                         format!("<figure class=\"chart\" id=\"emc-chart\">{svg}</figure>").into(),
                     ));
                 }
+            }
+            // A heading's anchor (above), or the same from a template line: kept.
+            Event::Html(text)
+                if text
+                    .trim_end()
+                    .strip_suffix("</a>")
+                    .is_some_and(is_anchor) =>
+            {
+                out_events.push(Event::Html(text));
             }
             Event::InlineHtml(text) if is_anchor(&text) => {
                 open_anchors += 1;
@@ -242,9 +254,12 @@ pub fn page(
     }
     nav.push_str("</ol>\n</nav>\n");
     // The contents go before the first section, after the title block.
-    let body = match body.find("<h2") {
-        Some(at) if !toc.is_empty() => format!("{}{nav}{}", &body[..at], &body[at..]),
-        _ => body,
+    let first = toc
+        .first()
+        .and_then(|(slug, _)| body.find(&format!("<a id=\"{}\"></a>", escape(slug))));
+    let body = match first {
+        Some(at) => format!("{}{nav}{}", &body[..at], &body[at..]),
+        None => body,
     };
     let title = escape(&crate::text::visible(title));
     format!(
@@ -289,7 +304,7 @@ figure.chart svg { max-width: 100%; height: auto; }
   body { max-width: none; margin: 0; padding: 0; font-size: 9pt; line-height: 1.35; }
   table { font-size: 8.5pt; }
   th, td { padding: 0.15rem 0.35rem; }
-  h2#power-entry, h2#input-emc-filter, h2#derivations, h2#rule-tables, h2#appendix-every-check-of-the-checklist { break-before: page; }
+  #power-entry + h2, #input-emc-filter + h2, #derivations + h2, #rule-tables + h2, #appendix-every-check-of-the-checklist + h2 { break-before: page; }
   h1, h2, h3, h4 { break-after: avoid-page; break-inside: avoid; }
   /* A short table is kept whole; a longer one breaks between rows, never right under its
      header, and the text that introduces a table or a list stays with it. */

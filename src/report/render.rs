@@ -331,8 +331,10 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     });
     env.add_filter("signed", |value: Value| -> String {
         match f64::try_from(value) {
-            // Four significant digits never round a value that is not zero to 0, so a
-            // shortfall always prints as one.
+            // A margin smaller than a tenth of a micrometre is shown as such, with its
+            // sign: a shortfall too small to print is still a shortfall, never "0".
+            Ok(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
+            Ok(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
             Ok(x) if x > 0.0 => format!("+{}", figure(x)),
             Ok(x) => figure(x),
             Err(_) => "not declared".to_string(),

@@ -7,6 +7,7 @@ use serde::Serialize;
 
 use super::Report;
 use crate::checks::Severity;
+use crate::spacing::Verdict;
 
 /// Which page the templates are rendering: plain Markdown (links would not survive being
 /// pasted into a review system, so places are named in words) or the HTML page (live
@@ -55,8 +56,9 @@ pub struct View {
     /// Parallel to `bridges`: "pass" where no blocking finding or warning names the part,
     /// "fail" where a blocking one does, "check" where only a warning does.
     pub bridge_verdicts: Vec<&'static str>,
-    /// Parallel to `isolation.pairs`: "pass" where the weakest path provides what the
-    /// protection class needs, "fail" where it does not or there is no path.
+    /// Parallel to `isolation.pairs`: "fail" where the weakest path does not provide the
+    /// grade the protection class needs (or there is none) or one of its barriers fails;
+    /// else the worst of its barriers' verdicts ("incomplete", "check-input", "pass").
     pub pair_verdicts: Vec<&'static str>,
     /// Checks that judged nothing and raised nothing (left out of the Markdown table).
     pub quiet_checks: usize,
@@ -243,11 +245,23 @@ pub fn build(report: &Report, page: Page, options: &MarkdownOptions) -> View {
             iso.pairs
                 .iter()
                 .map(|p| {
-                    if p.path.is_some() && p.provides_level >= p.needs_level {
-                        "pass"
-                    } else {
-                        "fail"
+                    let Some(path) = &p.path else { return "fail" };
+                    if p.provides_level < p.needs_level {
+                        return "fail";
                     }
+                    // The grade is enough; the path is only as good as its barriers.
+                    let mut verdict = "pass";
+                    for id in &path.barriers {
+                        match report.barriers.iter().find(|b| &b.id == id).map(|b| b.verdict) {
+                            Some(Verdict::Fail) => return "fail",
+                            Some(Verdict::Incomplete) => verdict = "incomplete",
+                            Some(Verdict::CheckInput) if verdict == "pass" => {
+                                verdict = "check-input"
+                            }
+                            _ => {}
+                        }
+                    }
+                    verdict
                 })
                 .collect()
         })

@@ -16,6 +16,7 @@ mod invariants;
 mod isolation_parts;
 mod power_entry;
 mod properties;
+mod report_layout;
 mod size_limits;
 mod spacing_rules;
 mod verdicts;
