@@ -28,7 +28,7 @@ pub use view::MarkdownOptions;
 /// Cautions printed in every report.
 pub const CAUTIONS: &[&str] = &[
     "This checklist is advisory. Defer to the applicable end-product standard, local electrical codes and licensed or accredited review; it does not certify anything.",
-    "The rule tables were copied out by hand, partly from memory of the published standards, and may carry copying errors. The table of rule tables near the end says how each was checked: compare every figure with a licensed copy of the standard before relying on it.",
+    "The rule tables were copied out by hand, partly from memory of the published standards, and may carry copying errors. The list of rule tables in this report says how each was checked: compare every figure with a licensed copy of the standard before relying on it.",
     "Figures cover only what the project file declares. A barrier, circuit or part that is not described is not evaluated, and the absence of a finding is not evidence that a design is safe.",
     "No table is extrapolated: an input beyond a table's range is refused rather than estimated.",
 ];

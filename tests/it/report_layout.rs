@@ -475,7 +475,7 @@ fn the_cautions_point_to_the_tables_where_they_are_and_the_readme_has_one_cautio
     let cautions = md.find("\n## Cautions\n").unwrap();
     let tables = md.find("\n## Rule tables\n").unwrap();
     assert!(tables < cautions, "the rule tables come before the cautions");
-    assert!(md[cautions..].contains("The table of rule tables near the end"));
+    assert!(md[cautions..].contains("The list of rule tables in this report says how each was checked"));
     let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
     assert_eq!(readme.matches("\n## Cautions\n").count(), 1);
 }
