@@ -315,7 +315,8 @@ figure.chart svg { max-width: 100%; height: auto; }
   thead { display: table-header-group; }
   p { orphans: 3; widows: 3; }
   a { color: inherit; text-decoration: none; }
-  nav.toc ol { columns: 3; }
+  /* Without page numbers a printed contents list is no help; page one is for what is open. */
+  nav.toc { display: none; }
   figure.chart svg { max-width: 100%; }
   td > code:only-child { width: 22ch; }
 }

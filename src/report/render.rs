@@ -410,8 +410,12 @@ fn is_html(state: &State) -> bool {
         .is_some_and(|v| v.is_true())
 }
 
-/// A number as the Markdown and HTML report print it: four significant digits.
+/// A number as the Markdown and HTML report print it: a whole number (a count) as it is,
+/// a figure to four significant digits.
 fn report_number(value: &Value) -> String {
+    if value.is_integer() {
+        return value.to_string();
+    }
     match f64::try_from(value.clone()) {
         Ok(x) => figure(x),
         Err(_) => value.to_string(),
