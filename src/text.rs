@@ -194,8 +194,8 @@ pub fn figure(x: f64) -> String {
 /// "IEC 60664-1", a year, an id) is left alone.
 const UNITS: &[&str] = &[
     "V", "kV", "mV", "A", "mA", "µA", "uA", "W", "mW", "kW", "J", "mJ", "s", "ms", "µs", "us",
-    "ns", "Hz", "kHz", "MHz", "Ω", "ohm", "kΩ", "MΩ", "F", "µF", "uF", "nF", "pF", "H", "mH",
-    "µH", "uH", "dB", "dBµV", "dBuV", "mm", "m", "°C", "K", "A²s", "A2s", "%",
+    "ns", "Hz", "kHz", "MHz", "Ω", "ohm", "kΩ", "MΩ", "F", "µF", "uF", "nF", "pF", "H", "mH", "µH",
+    "uH", "dB", "dBµV", "dBuV", "mm", "m", "°C", "K", "A²s", "A2s", "%",
 ];
 
 /// The text with every figure of more than four significant digits rounded to four, for
@@ -373,8 +373,14 @@ mod tests {
         );
         assert_eq!(round_figures("ends at 42.1792."), "ends at 42.18.");
         assert_eq!(round_figures("margin -0.123456 mm"), "margin -0.1235 mm");
-        assert_eq!(round_figures("version 0.1.0, id C12345.678"), "version 0.1.0, id C12345.678");
-        assert_eq!(round_figures("hash 29f6dc8be3212 and 12345 parts"), "hash 29f6dc8be3212 and 12345 parts");
+        assert_eq!(
+            round_figures("version 0.1.0, id C12345.678"),
+            "version 0.1.0, id C12345.678"
+        );
+        assert_eq!(
+            round_figures("hash 29f6dc8be3212 and 12345 parts"),
+            "hash 29f6dc8be3212 and 12345 parts"
+        );
     }
 
     #[test]

@@ -64,7 +64,9 @@ where
     DB::ErrorType: 'static,
 {
     match shape {
-        Shape::Differential => area.draw(&(EmptyElement::at(at) + Circle::new((0, 0), size, style)))?,
+        Shape::Differential => {
+            area.draw(&(EmptyElement::at(at) + Circle::new((0, 0), size, style)))?
+        }
         Shape::Common => area.draw(
             &(EmptyElement::at(at) + Rectangle::new([(-size, -size), (size, size)], style)),
         )?,
@@ -134,7 +136,11 @@ pub fn svg(report: &EmcReport) -> Option<String> {
         levels.push(p.after_filter_dbuv);
     }
     levels.retain(|v| v.is_finite());
-    let min = levels.iter().copied().fold(f64::INFINITY, f64::min).max(floor);
+    let min = levels
+        .iter()
+        .copied()
+        .fold(f64::INFINITY, f64::min)
+        .max(floor);
     let max = levels.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if !(min.is_finite() && max.is_finite()) {
         return None;
@@ -273,7 +279,11 @@ fn draw(
     }
     // Failing points last, so nothing covers them.
     for failing in [false, true] {
-        for p in report.points.iter().filter(|p| (p.verdict == Verdict::Fail) == failing) {
+        for p in report
+            .points
+            .iter()
+            .filter(|p| (p.verdict == Verdict::Fail) == failing)
+        {
             let Some(at) = place(p.frequency_hz, p.after_filter_dbuv) else {
                 continue;
             };
@@ -310,19 +320,31 @@ where
     let rows = [16, 45, 74, 103];
     // Row 1: the lines.
     let (c, r) = (columns[0], rows[0]);
-    area.draw(&PathElement::new(vec![(c, r), (c + 24, r)], QUASI_PEAK.stroke_width(2)))?;
+    area.draw(&PathElement::new(
+        vec![(c, r), (c + 24, r)],
+        QUASI_PEAK.stroke_width(2),
+    ))?;
     area.draw(&text("quasi-peak limit", (c + 32, r)))?;
     let c = columns[1];
     for (a, b) in [(0, 7), (11, 18), (22, 24)] {
-        area.draw(&PathElement::new(vec![(c + a, r), (c + b, r)], AVERAGE.stroke_width(2)))?;
+        area.draw(&PathElement::new(
+            vec![(c + a, r), (c + b, r)],
+            AVERAGE.stroke_width(2),
+        ))?;
     }
     area.draw(&text("average limit", (c + 32, r)))?;
     let c = columns[2];
     if margin > 0.0 {
         for a in (0..24).step_by(5) {
-            area.draw(&PathElement::new(vec![(c + a, r), (c + a + 2, r)], AVERAGE.stroke_width(1)))?;
+            area.draw(&PathElement::new(
+                vec![(c + a, r), (c + a + 2, r)],
+                AVERAGE.stroke_width(1),
+            ))?;
         }
-        area.draw(&text(&format!("each limit less {} dB margin", show(margin)), (c + 32, r)))?;
+        area.draw(&text(
+            &format!("each limit less {} dB margin", show(margin)),
+            (c + 32, r),
+        ))?;
     }
     // Row 2: shapes by mode, as the noise before the filter shows them.
     let mut modes: Vec<Shape> = Vec::new();
@@ -335,7 +357,10 @@ where
     if modes.is_empty() {
         modes.push(Shape::Measured);
     }
-    area.draw(&text("noise without the filter (hollow):", (columns[0], rows[1])))?;
+    area.draw(&text(
+        "noise without the filter (hollow):",
+        (columns[0], rows[1]),
+    ))?;
     for (i, s) in modes.iter().enumerate() {
         let c = columns[1] + 150 * i as i32;
         marker(area, (c + 10, rows[1]), *s, BEFORE.stroke_width(2), 4)?;
@@ -347,18 +372,37 @@ where
         area.draw(&text(word, (c + 24, rows[1])))?;
     }
     // Rows 3 and 4: after the filter, by verdict.
-    area.draw(&text("noise after the filter (filled):", (columns[0], rows[2])))?;
+    area.draw(&text(
+        "noise after the filter (filled):",
+        (columns[0], rows[2]),
+    ))?;
     let shape = modes[0];
     marker(area, (columns[1] + 10, rows[2]), shape, AFTER.filled(), 4)?;
-    area.draw(&text("within the limit less the margin", (columns[1] + 24, rows[2])))?;
+    area.draw(&text(
+        "within the limit less the margin",
+        (columns[1] + 24, rows[2]),
+    ))?;
     failing_marker(area, (columns[1] + 10, rows[3]), shape)?;
     area.draw(&text("above it: fails", (columns[1] + 24, rows[3])))?;
-    if report.points.iter().any(|p| !matches!(p.verdict, Verdict::Pass | Verdict::Fail)) {
-        marker(area, (columns[2] + 10, rows[3]), shape, NOT_JUDGED.filled(), 4)?;
+    if report
+        .points
+        .iter()
+        .any(|p| !matches!(p.verdict, Verdict::Pass | Verdict::Fail))
+    {
+        marker(
+            area,
+            (columns[2] + 10, rows[3]),
+            shape,
+            NOT_JUDGED.filled(),
+            4,
+        )?;
         area.draw(&text("not judged", (columns[2] + 24, rows[3])))?;
     }
     if clamped {
-        area.draw(&text("on the lower edge: lower still", (columns[0], rows[3])))?;
+        area.draw(&text(
+            "on the lower edge: lower still",
+            (columns[0], rows[3]),
+        ))?;
     }
     Ok(())
 }

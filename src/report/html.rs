@@ -86,7 +86,9 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
             }
             // The anchor goes just before the heading (the heading's own markup stays
             // plain `<h2>Title</h2>`).
-            events.push(Event::Html(format!("<a id=\"{}\"></a>\n", escape(&slug)).into()));
+            events.push(Event::Html(
+                format!("<a id=\"{}\"></a>\n", escape(&slug)).into(),
+            ));
             events.push(Event::Start(Tag::Heading {
                 level: *level,
                 id: None,
@@ -128,12 +130,7 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
                 }
             }
             // A heading's anchor (above), or the same from a template line: kept.
-            Event::Html(text)
-                if text
-                    .trim_end()
-                    .strip_suffix("</a>")
-                    .is_some_and(is_anchor) =>
-            {
+            Event::Html(text) if text.trim_end().strip_suffix("</a>").is_some_and(is_anchor) => {
                 out_events.push(Event::Html(text));
             }
             Event::InlineHtml(text) if is_anchor(&text) => {
@@ -235,12 +232,7 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
 }
 
 /// The whole page.
-pub fn page(
-    markdown: &str,
-    title: &str,
-    running_header: &str,
-    chart: Option<String>,
-) -> String {
+pub fn page(markdown: &str, title: &str, running_header: &str, chart: Option<String>) -> String {
     let (body, toc) = body(markdown, chart);
     let mut nav = String::from(
         "<nav class=\"toc\" aria-label=\"Contents\"><strong>Contents</strong>\n<ol>\n",

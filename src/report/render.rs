@@ -489,7 +489,12 @@ impl std::io::Write for BoundedOutput {
 
 /// The report as a Markdown checklist.
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
-    render_page(report, templates, Page::Markdown, &MarkdownOptions::default())
+    render_page(
+        report,
+        templates,
+        Page::Markdown,
+        &MarkdownOptions::default(),
+    )
 }
 
 /// The report as a Markdown checklist, with the EMC chart linked where `options` says it
@@ -680,4 +685,3 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         self.0.end_object_value(w)
     }
 }
-

@@ -131,8 +131,18 @@ fn emc_figure(verdict: &str) -> Option<Place> {
         "dm_corner_hz" => "differential-mode corner",
         "cm_corner_hz" => "common-mode corner",
         "y_capacitance_nf" => "declared Y capacitance",
-        "points" => return Some(place("noise before and after the filter", "noise-before-and-after-the-filter")),
-        "middlebrook" => return Some(place("Middlebrook's criterion", "filter-and-converter-middlebrooks-criterion")),
+        "points" => {
+            return Some(place(
+                "noise before and after the filter",
+                "noise-before-and-after-the-filter",
+            ));
+        }
+        "middlebrook" => {
+            return Some(place(
+                "Middlebrook's criterion",
+                "filter-and-converter-middlebrooks-criterion",
+            ));
+        }
         _ => return None,
     };
     Some(Place {
@@ -252,7 +262,12 @@ pub fn build(report: &Report, page: Page, options: &MarkdownOptions) -> View {
                     // The grade is enough; the path is only as good as its barriers.
                     let mut verdict = "pass";
                     for id in &path.barriers {
-                        match report.barriers.iter().find(|b| &b.id == id).map(|b| b.verdict) {
+                        match report
+                            .barriers
+                            .iter()
+                            .find(|b| &b.id == id)
+                            .map(|b| b.verdict)
+                        {
                             Some(Verdict::Fail) => return "fail",
                             Some(Verdict::Incomplete) => verdict = "incomplete",
                             Some(Verdict::CheckInput) if verdict == "pass" => {
@@ -308,13 +323,19 @@ mod tests {
             "filter-and-converter-middlebrooks-criterion"
         );
         assert_eq!(heading_slug("Derivation: pri-sec"), "derivation-pri-sec");
-        assert_eq!(anchor_id("power_entry.test_voltage.a b"), "power_entry.test_voltage.a-b");
+        assert_eq!(
+            anchor_id("power_entry.test_voltage.a b"),
+            "power_entry.test_voltage.a-b"
+        );
     }
 
     #[test]
     fn a_css_string_cannot_close_itself_or_the_style() {
         let s = css_string("a\"</style>\\ b");
-        assert!(!s.contains('"') && !s.contains('<') && !s.contains("\\\\"), "{s}");
+        assert!(
+            !s.contains('"') && !s.contains('<') && !s.contains("\\\\"),
+            "{s}"
+        );
         assert!(s.starts_with('a') && s.ends_with(" b"), "{s}");
     }
 

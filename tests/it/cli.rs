@@ -1147,7 +1147,9 @@ fn output_file_holds_the_same_bytes_as_stdout() {
                 let _ = std::fs::remove_file(&chart);
                 let only_chart = |text: &str| -> String {
                     text.lines()
-                        .filter(|l| !l.starts_with("Chart of the limits") && !l.starts_with("![EMC chart"))
+                        .filter(|l| {
+                            !l.starts_with("Chart of the limits") && !l.starts_with("![EMC chart")
+                        })
                         .collect::<Vec<_>>()
                         .join("\n")
                 };

@@ -984,7 +984,11 @@ fn the_chart_is_well_formed_svg_with_the_limit_lines_and_the_points() {
     // (an outline in the rust colour #965A28) per point; after: one filled diamond per
     // point; plus the legend's samples (one hollow; passing, failing and, as no filter is
     // declared here, not judged, each filled).
-    assert!(emc.points.iter().all(|p| p.verdict.as_str() == "not-judged"));
+    assert!(
+        emc.points
+            .iter()
+            .all(|p| p.verdict.as_str() == "not-judged")
+    );
     let hollow = svg.matches("stroke=\"#965A28\"").count();
     let filled = svg.matches("<polygon").count();
     assert_eq!(hollow, emc.points.len() + 1, "hollow diamonds");

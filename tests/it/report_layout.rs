@@ -92,7 +92,11 @@ fn figures_in(text: &str) -> Vec<(String, usize)> {
         }
         let token: String = chars[start..i].iter().collect();
         let token = token.trim_end_matches('.').to_string();
-        let before = if start > 0 { Some(chars[start - 1]) } else { None };
+        let before = if start > 0 {
+            Some(chars[start - 1])
+        } else {
+            None
+        };
         let after = chars.get(start + token.chars().count()).copied();
         let glued = |c: Option<char>| {
             c.is_some_and(|c| c.is_alphanumeric() || matches!(c, '_' | '-' | ':' | '/' | '\\'))
@@ -107,8 +111,7 @@ fn figures_in(text: &str) -> Vec<(String, usize)> {
         let standard = ["IEC ", "EN ", "CISPR ", "ISO ", "UL ", "IPC-", "IEC 6"]
             .iter()
             .any(|w| preceded_by(w));
-        if (glued(before) && !sign) || glued(after) || token.matches('.').count() > 1 || standard
-        {
+        if (glued(before) && !sign) || glued(after) || token.matches('.').count() > 1 || standard {
             continue;
         }
         let digits: String = token.chars().filter(char::is_ascii_digit).collect();
@@ -124,7 +127,9 @@ fn figures_in(text: &str) -> Vec<(String, usize)> {
 
 #[test]
 fn the_figure_scanner_counts_significant_digits_as_a_reader_does() {
-    let found = figures_in("35.5574 A, 0.0829 mA, 17200 Hz, 1000000 Ω, -0.99 dB, IEC 60664-1, EN 55032, CY1, 0.1.0");
+    let found = figures_in(
+        "35.5574 A, 0.0829 mA, 17200 Hz, 1000000 Ω, -0.99 dB, IEC 60664-1, EN 55032, CY1, 0.1.0",
+    );
     let counts: Vec<usize> = found.iter().map(|(_, n)| *n).collect();
     // 35.5574: six; 0.0829: three; 17200: three; 1000000: one; -0.99: two. The standards'
     // numbers, the part reference and the version are not figures.
@@ -141,7 +146,10 @@ fn no_markdown_number_has_more_than_four_significant_digits() {
             .filter(|(_, n)| *n > 4)
             .map(|(t, _)| t)
             .collect();
-        assert!(long.is_empty(), "{project}: figures with more than four significant digits: {long:?}");
+        assert!(
+            long.is_empty(),
+            "{project}: figures with more than four significant digits: {long:?}"
+        );
     }
     // The issue's own examples: 35.5574 A of inrush (sqrt(2) x 264 V / 10.5 ohm = 35.557 A)
     // reads 35.56 A; the same figure stays whole in the JSON.
@@ -173,8 +181,13 @@ fn blocking_findings_and_warnings_come_before_the_barrier_table() {
                 } else {
                     format!("**{}**", id.replace('_', "\\_"))
                 };
-                let at = page.find(&shown).unwrap_or_else(|| panic!("{project}: {id} missing"));
-                assert!(at > verdict && at < barriers, "{project}: {id} after the barrier table");
+                let at = page
+                    .find(&shown)
+                    .unwrap_or_else(|| panic!("{project}: {id} missing"));
+                assert!(
+                    at > verdict && at < barriers,
+                    "{project}: {id} after the barrier table"
+                );
                 open += 1;
             }
             if project == SHORT {
@@ -193,7 +206,9 @@ fn each_open_item_links_its_section_and_derivation_on_the_html_page_and_names_th
         .as_array()
         .unwrap()
         .iter()
-        .filter(|f| f["severity"] == "blocking" && f["id"].as_str().unwrap().starts_with("barrier."))
+        .filter(|f| {
+            f["severity"] == "blocking" && f["id"].as_str().unwrap().starts_with("barrier.")
+        })
         .collect();
     assert!(!blocking.is_empty());
     for f in blocking {
@@ -202,7 +217,10 @@ fn each_open_item_links_its_section_and_derivation_on_the_html_page_and_names_th
         let link = format!("href=\"#derivation-{subject}\"");
         assert!(page.contains(&link), "{link} missing");
         assert!(page.contains(&format!("id=\"derivation-{subject}\"")));
-        assert!(md.contains(&format!("See Barriers; derivation of {subject}.")), "{md}");
+        assert!(
+            md.contains(&format!("See Barriers; derivation of {subject}.")),
+            "{md}"
+        );
     }
 }
 
@@ -254,15 +272,29 @@ fn the_html_page_parses_is_self_contained_and_every_internal_link_lands() {
         let page = html(project);
         html_parses(&page).unwrap_or_else(|e| panic!("{project}: {e}"));
         let lower = page.to_ascii_lowercase();
-        for external in ["http:", "https:", "src=", "<link", "<script", "@import", "url(", "//cdn"] {
-            let allowed = external == "http:" && lower.matches("http:").count() == lower.matches("xmlns=\"http://www.w3.org/2000/svg\"").count();
-            assert!(allowed || !lower.contains(external), "{project}: external reference {external}");
+        for external in [
+            "http:", "https:", "src=", "<link", "<script", "@import", "url(", "//cdn",
+        ] {
+            let allowed = external == "http:"
+                && lower.matches("http:").count()
+                    == lower
+                        .matches("xmlns=\"http://www.w3.org/2000/svg\"")
+                        .count();
+            assert!(
+                allowed || !lower.contains(external),
+                "{project}: external reference {external}"
+            );
         }
         // Every link is to an anchor on the page, and the anchor exists.
         for part in page.split("href=\"").skip(1) {
             let target = &part[..part.find('"').unwrap()];
-            let id = target.strip_prefix('#').unwrap_or_else(|| panic!("{project}: link {target}"));
-            assert!(page.contains(&format!("id=\"{id}\"")), "{project}: no anchor {id}");
+            let id = target
+                .strip_prefix('#')
+                .unwrap_or_else(|| panic!("{project}: link {target}"));
+            assert!(
+                page.contains(&format!("id=\"{id}\"")),
+                "{project}: no anchor {id}"
+            );
         }
     }
 }
@@ -272,8 +304,17 @@ fn the_html_page_carries_contents_anchors_print_rules_and_tickable_boxes() {
     let page = html(CLASS2);
     let report = json(CLASS2);
     assert!(page.contains("<nav class=\"toc\""));
-    for heading in ["open-items", "barriers", "power-entry", "input-emc-filter", "derivations"] {
-        assert!(page.contains(&format!("href=\"#{heading}\"")), "contents lack {heading}");
+    for heading in [
+        "open-items",
+        "barriers",
+        "power-entry",
+        "input-emc-filter",
+        "derivations",
+    ] {
+        assert!(
+            page.contains(&format!("href=\"#{heading}\"")),
+            "contents lack {heading}"
+        );
     }
     // Anchors on every barrier, finding and power-entry figure.
     for i in 1..=report["barriers"].as_array().unwrap().len() {
@@ -310,17 +351,32 @@ fn the_html_page_carries_contents_anchors_print_rules_and_tickable_boxes() {
 fn verdicts_are_words_and_symbols_in_every_table() {
     let md = markdown(CLASS2);
     // The hot restart exceeds the bridge's surge rating (64.08 A against 50 A).
-    let row = md.lines().find(|l| l.starts_with("| peak at a hot restart |")).unwrap();
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| peak at a hot restart |"))
+        .unwrap();
     assert!(row.ends_with("| ✗ fail |"), "{row}");
-    let row = md.lines().find(|l| l.starts_with("| inrush peak at switch-on")).unwrap();
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| inrush peak at switch-on"))
+        .unwrap();
     assert!(row.ends_with("| ✓ pass |"), "{row}");
     let row = md.lines().find(|l| l.starts_with("| pri-sec |")).unwrap();
     assert!(row.ends_with("| ✓ **PASS** |"), "{row}");
     // EMC: the figure table and every point.
-    for line in md.lines().filter(|l| l.starts_with("| 195 |") || l.starts_with("| 390 |")) {
-        assert!(line.ends_with("| ✗ fail |") || line.ends_with("| ✓ pass |"), "{line}");
+    for line in md
+        .lines()
+        .filter(|l| l.starts_with("| 195 |") || l.starts_with("| 390 |"))
+    {
+        assert!(
+            line.ends_with("| ✗ fail |") || line.ends_with("| ✓ pass |"),
+            "{line}"
+        );
     }
-    let row = md.lines().find(|l| l.starts_with("| differential-mode corner, second order")).unwrap();
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| differential-mode corner, second order"))
+        .unwrap();
     assert!(row.contains("| ✗ fail (declared"), "{row}");
     // Every cell of a verdict column is a word with its symbol, or "–" where nothing is
     // judged.
@@ -356,7 +412,9 @@ fn verdicts_are_words_and_symbols_in_every_table() {
                 let cell = cells[i];
                 assert!(
                     cell == "–"
-                        || ["✓ ", "✗ ", "⚠ ", "○ ", "? ", "– "].iter().any(|s| cell.starts_with(s)),
+                        || ["✓ ", "✗ ", "⚠ ", "○ ", "? ", "– "]
+                            .iter()
+                            .any(|s| cell.starts_with(s)),
                     "verdict without a symbol: {cell} in {line}"
                 );
             }
@@ -374,7 +432,10 @@ fn the_checks_run_table_lists_what_judged_and_the_html_appendix_lists_all() {
         .filter(|c| c["judged"] == 0 && c["raised"] == 0)
         .map(|c| c["id"].as_str().unwrap())
         .collect();
-    assert!(!quiet.is_empty(), "the example has checks with nothing to judge");
+    assert!(
+        !quiet.is_empty(),
+        "the example has checks with nothing to judge"
+    );
     let md = markdown(CLASS2);
     let start = md.find("\n## Checks run\n").unwrap();
     let end = start + 1 + md[start + 1..].find("\n## ").unwrap();
@@ -385,12 +446,21 @@ fn the_checks_run_table_lists_what_judged_and_the_html_appendix_lists_all() {
         assert!(!md.contains(&shown), "{id} appears in the Markdown");
     }
     assert!(!section.contains("nothing to judge |"));
-    let rows = section.lines().filter(|l| l.starts_with("| ") && !l.starts_with("| check |")).count();
+    let rows = section
+        .lines()
+        .filter(|l| l.starts_with("| ") && !l.starts_with("| check |"))
+        .count();
     assert_eq!(rows, checks.len() - quiet.len());
     let page = html(CLASS2);
-    let appendix = &page[page.find("id=\"appendix-every-check-of-the-checklist\"").expect("appendix")..];
+    let appendix = &page[page
+        .find("id=\"appendix-every-check-of-the-checklist\"")
+        .expect("appendix")..];
     for c in checks {
-        assert!(appendix.contains(&format!("<td>{}:", c["id"].as_str().unwrap())), "{}", c["id"]);
+        assert!(
+            appendix.contains(&format!("<td>{}:", c["id"].as_str().unwrap())),
+            "{}",
+            c["id"]
+        );
     }
 }
 
@@ -408,14 +478,24 @@ fn the_markdown_has_no_html_only_placeholder_and_says_where_the_chart_is() {
     let o = run(&["check", CLASS2, "-o", out.to_str().unwrap()]);
     assert_exit(&o, 0);
     let written = std::fs::read_to_string(&out).unwrap();
-    let svg = std::fs::read_to_string(dir.join("review copy.emc-chart.svg")).expect("chart beside the report");
+    let svg = std::fs::read_to_string(dir.join("review copy.emc-chart.svg"))
+        .expect("chart beside the report");
     assert!(svg.starts_with("<svg") && svg.contains("</svg>"));
-    assert!(written.contains("](review%20copy.emc-chart.svg)"), "{written}");
+    assert!(
+        written.contains("](review%20copy.emc-chart.svg)"),
+        "{written}"
+    );
     assert!(!written.contains("drawn in the HTML report"));
 
     // One report a design with --out-dir: each Markdown report has its chart beside it.
     let batch = dir.join("batch");
-    let o = run(&["check", CLASS2, CLASS1, "--out-dir", batch.to_str().unwrap()]);
+    let o = run(&[
+        "check",
+        CLASS2,
+        CLASS1,
+        "--out-dir",
+        batch.to_str().unwrap(),
+    ]);
     assert!(matches!(code(&o), 0 | 1), "{}", describe(&o));
     let md = std::fs::read_to_string(batch.join("class2-adapter.md")).unwrap();
     assert!(md.contains("](class2-adapter.emc-chart.svg)"));
@@ -454,16 +534,25 @@ fn declared_ratings_keep_every_value_and_leave_no_dangling_separator() {
     // distance through insulation (examples/class2-adapter.toml, part U3) and ended in a
     // separator.
     let md = markdown(CLASS2);
-    let row = md.lines().find(|l| l.starts_with("| pri-sec | U3 |")).expect("U3 row");
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| pri-sec | U3 |"))
+        .expect("U3 row");
     assert!(row.contains("test 5000 V rms"), "{row}");
     assert!(row.contains("package clearance 8 / creepage 8 mm"), "{row}");
     assert!(row.contains("distance through insulation 0.4 mm"), "{row}");
-    let row = md.lines().find(|l| l.starts_with("| pri-sec | CY1 |")).expect("CY1 row");
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| pri-sec | CY1 |"))
+        .expect("CY1 row");
     assert!(row.contains("Y1; 1 nF; 250 V ac |"), "{row}");
     for project in DESIGNS {
         let md = markdown(project);
         for line in md.lines().filter(|l| l.starts_with('|')) {
-            assert!(!line.contains("; |") && !line.contains(";  "), "{project}: {line}");
+            assert!(
+                !line.contains("; |") && !line.contains(";  "),
+                "{project}: {line}"
+            );
         }
     }
 }
@@ -474,8 +563,13 @@ fn the_cautions_point_to_the_tables_where_they_are_and_the_readme_has_one_cautio
     assert!(!md.contains("Each table below"));
     let cautions = md.find("\n## Cautions\n").unwrap();
     let tables = md.find("\n## Rule tables\n").unwrap();
-    assert!(tables < cautions, "the rule tables come before the cautions");
-    assert!(md[cautions..].contains("The list of rule tables in this report says how each was checked"));
+    assert!(
+        tables < cautions,
+        "the rule tables come before the cautions"
+    );
+    assert!(
+        md[cautions..].contains("The list of rule tables in this report says how each was checked")
+    );
     let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
     assert_eq!(readme.matches("\n## Cautions\n").count(), 1);
 }
@@ -494,7 +588,11 @@ fn the_emc_chart_marks_failing_points_modes_and_the_margin_with_readable_labels(
     // The Class II example: the 195 kHz point is above the limit less the margin after the
     // filter (56.53 dBuV against 53.82 - 6 dBuV, CISPR 32 class B average at 195 kHz).
     let (svg, emc) = chart_of("../../examples/class2-adapter.toml");
-    let failing = emc.points.iter().filter(|p| p.verdict.as_str() == "fail").count();
+    let failing = emc
+        .points
+        .iter()
+        .filter(|p| p.verdict.as_str() == "fail")
+        .count();
     assert!(failing > 0);
     // Failing points are red and crossed out (a cross of two lines each).
     assert!(svg.contains("#C81E1E"), "the failing colour");
@@ -502,23 +600,37 @@ fn the_emc_chart_marks_failing_points_modes_and_the_margin_with_readable_labels(
     assert!(svg.contains("less 6 dB margin"));
     // Labels at least 12 px.
     for part in svg.split("font-size=\"").skip(1) {
-        let size: f64 = part[..part.find('"').unwrap()].trim_end_matches("px").parse().unwrap();
+        let size: f64 = part[..part.find('"').unwrap()]
+            .trim_end_matches("px")
+            .parse()
+            .unwrap();
         assert!(size >= 12.0, "label of {size} px");
     }
     // The vertical range fits the data: the highest level is under the top of the chart,
     // and the top is within 20 dB of it.
-    let highest = emc.points.iter().map(|p| p.level_dbuv).fold(f64::MIN, f64::max);
+    let highest = emc
+        .points
+        .iter()
+        .map(|p| p.level_dbuv)
+        .fold(f64::MIN, f64::max);
     let ticks: Vec<f64> = svg
         .split('>')
         .filter_map(|s| s.split('<').next())
         .filter_map(|t| t.trim().parse::<f64>().ok())
         .collect();
     let top = ticks.iter().copied().fold(f64::MIN, f64::max);
-    assert!(top >= highest && top - highest < 20.0, "top {top} for {highest}");
+    assert!(
+        top >= highest && top - highest < 20.0,
+        "top {top} for {highest}"
+    );
 
     // emc-estimate: differential mode as circles, common mode as squares.
     let (svg, emc) = chart_of("emc-estimate.toml");
-    let dm = emc.points.iter().filter(|p| p.mode == "differential").count();
+    let dm = emc
+        .points
+        .iter()
+        .filter(|p| p.mode == "differential")
+        .count();
     let cm = emc.points.iter().filter(|p| p.mode == "common").count();
     assert!(dm > 0 && cm > 0);
     // Each point before and after the filter, plus the legend's samples.
