@@ -495,28 +495,16 @@ pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
     })
 }
 
-/// The derivation of one figure or finding, as plain text.
+/// The derivation of one figure or finding, as plain text. Every area answers for its own
+/// items (`Area::explain`); a finding is found by its id; `readiness` and `assumptions`
+/// are the report's own.
 pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     let mut out = String::new();
-    let (barrier_id, figure) = match item.rsplit_once('.') {
-        Some((b, f @ ("clearance" | "creepage"))) => (b, Some(f)),
-        _ => (item, None),
-    };
-    if let Some(b) = report.barriers.iter().find(|b| b.id == barrier_id) {
-        explain_barrier(&mut out, b, figure);
-        for f in report
-            .findings
-            .iter()
-            .filter(|f| f.subject.as_deref() == Some(b.id.as_str()))
-        {
-            out.push_str(&format!(
-                "finding {} ({}): {}\n",
-                f.id,
-                severity_word(f.severity),
-                f.message
-            ));
-        }
-        return Ok(out);
+    if let Some(text) = crate::area::AREAS
+        .iter()
+        .find_map(|area| area.explain(report, item))
+    {
+        return Ok(text);
     }
     let matching: Vec<_> = report.findings.iter().filter(|f| f.id == item).collect();
     if !matching.is_empty() {
@@ -544,24 +532,10 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
                 } else {
                     None
                 };
-                explain_barrier(&mut out, b, figure);
+                crate::insulation::explain_barrier(&mut out, b, figure);
             }
         }
         return Ok(out);
-    }
-    if let Some(text) = report
-        .power_entry
-        .as_ref()
-        .and_then(|p| crate::power_entry::explain(p, item))
-    {
-        return Ok(text);
-    }
-    if let Some(text) = report
-        .emc
-        .as_ref()
-        .and_then(|e| crate::emc::explain(e, item))
-    {
-        return Ok(text);
     }
     if item == "readiness" {
         let r = &report.readiness;
@@ -585,41 +559,7 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
-    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
-    for b in &report.barriers {
-        known.push(b.id.clone());
-        known.push(format!("{}.clearance", b.id));
-        known.push(format!("{}.creepage", b.id));
-    }
-    if report.power_entry.is_some() {
-        known.extend(
-            [
-                "power_entry",
-                "power_entry.inrush",
-                "power_entry.fuse",
-                "power_entry.discharge",
-                "power_entry.touch",
-            ]
-            .map(String::from),
-        );
-    }
-    if report.emc.is_some() {
-        known.extend(
-            [
-                "emc",
-                "emc.corner",
-                "emc.limit",
-                "emc.attenuation",
-                "emc.filter",
-                "emc.middlebrook",
-                "emc.points",
-            ]
-            .map(String::from),
-        );
-    }
-    known.extend(report.findings.iter().map(|f| f.id.clone()));
-    known.sort();
-    known.dedup();
+    let known = explain_items(report);
     let refs: Vec<&str> = known.iter().map(String::as_str).collect();
     let mut d = Diagnostic::new(
         "explain",
@@ -632,101 +572,23 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     Err(d.into())
 }
 
-fn severity_word(s: Severity) -> &'static str {
+/// Every item `explain` takes for this report, sorted: the report's own (`assumptions`,
+/// `readiness`), every area's, and every finding id.
+pub fn explain_items(report: &Report) -> Vec<String> {
+    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
+    known.extend(crate::area::explain_items(report).into_iter().map(|i| i.id));
+    known.extend(report.findings.iter().map(|f| f.id.clone()));
+    known.sort();
+    known.dedup();
+    known
+}
+
+pub(crate) fn severity_word(s: Severity) -> &'static str {
     match s {
         Severity::Blocking => "blocking",
         Severity::Warning => "warning",
         Severity::Note => "note",
     }
-}
-
-fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
-    use crate::spacing::show;
-    let declared = |d: Option<f64>| {
-        d.map(|d| format!("{} mm", show(d)))
-            .unwrap_or_else(|| "not declared".to_string())
-    };
-    for (what, required, laid_out, steps) in [
-        (
-            "clearance",
-            b.required_clearance_mm,
-            b.clearance_mm,
-            &b.derivation.clearance,
-        ),
-        (
-            "creepage",
-            b.required_creepage_mm,
-            b.creepage_mm,
-            &b.derivation.creepage,
-        ),
-    ] {
-        if figure.is_some_and(|f| f != what) {
-            continue;
-        }
-        out.push_str(&format!(
-            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {})\n",
-            b.id,
-            show(required),
-            declared(laid_out),
-            b.grade.as_str(),
-            b.verdict.as_str()
-        ));
-        let governed_by = if what == "clearance" {
-            b.clearance_governed_by
-        } else {
-            b.creepage_governed_by
-        };
-        out.push_str(&format!("  set by: {}\n", governed_by_words(governed_by)));
-        if what == "clearance"
-            && let (Some(t), Some(s), Some(v)) = (
-                b.transient_clearance_mm,
-                b.steady_state_clearance_mm,
-                b.steady_state_peak_v,
-            )
-        {
-            out.push_str(&format!(
-                "  transient requirement (Table F.2) {} mm; steady-state requirement (Table F.8, read at {} V) {} mm; the larger governs\n",
-                show(t),
-                show(v),
-                show(s)
-            ));
-        }
-        if what == "creepage"
-            && let Some(f) = &b.functional_figures
-        {
-            out.push_str(&format!(
-                "  functional insulation: creepage table {} mm, IPC-2221B column {} {} mm; the larger governs; a shortfall is a warning (the end-product standard may accept a passed fault test instead)\n",
-                show(f.creepage_table_mm),
-                f.ipc2221b_column,
-                show(f.ipc2221b_spacing_mm)
-            ));
-        }
-        for (i, s) in steps.iter().enumerate() {
-            let rule = s
-                .rule
-                .as_deref()
-                .map(|r| format!(" [{r}]"))
-                .unwrap_or_default();
-            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
-        }
-    }
-}
-
-/// What a `*_governed_by` value means, for `explain`.
-fn governed_by_words(value: &str) -> String {
-    let words = match value {
-        "transient" => "the transient requirement (IEC 60664-1 Table F.2 at the impulse voltage)",
-        "steady-state" => {
-            "the steady-state requirement (IEC 60664-1 Table F.8 at the working peak voltage)"
-        }
-        "pollution-degree-minimum" => "the pollution-degree minimum",
-        "ipc2221b" => "IPC-2221B conductor spacing (functional insulation on a board)",
-        "creepage-table" => "the creepage table (IEC 60664-1 Table F.5)",
-        "clearance" => "the required clearance (creepage is never less)",
-        "house-minimum" => "a house minimum",
-        other => other,
-    };
-    format!("{words} [{value}]")
 }
 
 /// A list of the loaded tables, or the full text of one.
@@ -924,7 +786,7 @@ pub fn spacing_exit_status(result: &BarrierResult) -> ExitStatus {
     use crate::spacing::Verdict;
     match result.verdict {
         Verdict::Fail | Verdict::CheckInput => ExitStatus::NotReady,
-        Verdict::Pass | Verdict::Incomplete => ExitStatus::Ready,
+        Verdict::Pass | Verdict::Incomplete | Verdict::NotJudged => ExitStatus::Ready,
     }
 }
 

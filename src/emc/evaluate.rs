@@ -14,7 +14,7 @@ use super::{
     Damping, DeclaredFilter, EmcDerivation, EmcReport, EmcSpec, LimitLineOut, Middlebrook,
     NoisePoint, PrescanDetector, YArrangement,
 };
-use crate::power_entry::{Verdict, rests_on_suspicious};
+use crate::derivation::{Suspicious, Verdict};
 use crate::project::ProtectionClass;
 use crate::spacing::{Step, round_up, show, tidy};
 use crate::toml_read::Span;
@@ -69,8 +69,8 @@ pub struct EmcInputs {
     pub pfc_stage: bool,
     /// The lowest mains voltage (rms), the PFC stage's input.
     pub min_mains_v: f64,
-    /// Keys of inputs flagged implausible: a figure resting on one is never `pass`.
-    pub suspicious_keys: Vec<String>,
+    /// Inputs flagged implausible: a figure resting on one is never `pass`.
+    pub suspicious: Suspicious,
 }
 
 /// An input the evaluation cannot use, with where it was written when known.
@@ -342,7 +342,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             (Ok(dm), Ok(cm)) => {
                 harmonics_evaluated = dm.len() + cm.len();
                 noise_steps(
-                    &mut d.noise,
+                    &mut d.noise.steps,
                     c,
                     inputs.bulk.as_ref(),
                     swing_v,
@@ -454,7 +454,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
     }
     corner_steps(
-        &mut d.dm_corner,
+        &mut d.dm_corner.steps,
         "Differential-mode",
         &candidates,
         dm_indices.len(),
@@ -462,7 +462,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         dm4,
     );
     corner_steps(
-        &mut d.cm_corner,
+        &mut d.cm_corner.steps,
         "Common-mode",
         &candidates,
         cm_indices.len(),
@@ -703,7 +703,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     };
 
     // --- The declared filter ---------------------------------------------------------------
-    let declared = declared_filter(f, declared_cm_nf, &mut d.filter);
+    let declared = declared_filter(f, declared_cm_nf, &mut d.filter.steps);
 
     // --- After the filter ------------------------------------------------------------------
     // A declared stage is judged by its transfer function (insertion loss between a stated
@@ -812,7 +812,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             asymptotic_attenuation_db(c, hz, SECOND_ORDER_DB)
         })
     };
-    let suspicious: Vec<&str> = inputs.suspicious_keys.iter().map(String::as_str).collect();
+    let suspicious = &inputs.suspicious;
     let estimate_keys: Vec<String> = [
         "converter",
         "input.bulk_capacitance_uf",
@@ -873,9 +873,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             ],
             None => estimate_keys.clone(),
         };
-        if verdict == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
-            verdict = Verdict::CheckInput;
-        }
+        verdict = suspicious.settle(verdict, &keys);
         (filter_db, after, verdict)
     };
     let points: Vec<NoisePoint> = keep
@@ -927,7 +925,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                 x_capacitance_uf,
                 dm_inductance_for_corner_uh,
                 model.middlebrook_margin_db.value,
-                &mut d.middlebrook,
+                &mut d.middlebrook.steps,
             )
         })
     } else {
@@ -947,7 +945,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
     }
     if middlebrook.is_some() {
-        d.middlebrook.insert(
+        d.middlebrook.steps.insert(
             0,
             Step::new(
                 Some(model_id),
@@ -990,13 +988,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     // --- Verdicts on the unrounded figures ------------------------------------------------
     let mut verdicts = std::collections::BTreeMap::new();
     let mut put = |name: &str, v: Verdict, keys: &[&str]| {
-        let keys: Vec<String> = keys.iter().map(|k| k.to_string()).collect();
-        let v = if v == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
-            Verdict::CheckInput
-        } else {
-            v
-        };
-        verdicts.insert(name.to_string(), v);
+        verdicts.insert(name.to_string(), suspicious.settle(v, keys));
     };
     if let Some(y) = y_exact_nf {
         let cap = inputs.touch_limit.as_ref().map(|t| {

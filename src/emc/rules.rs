@@ -4,7 +4,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::rules::{Table, Typed};
+use crate::rules::Table;
 
 /// Limit class of the conducted-emission limits.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -270,22 +270,12 @@ impl Table for FilterModel {
     }
 }
 
-/// The rule tables the EMC evaluation reads. The touch-current limits and the mains
-/// defaults are power entry's tables (`power-entry.touch-current`,
-/// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
-#[derive(Debug, Clone)]
-pub struct EmcRules {
-    pub limits: LimitTable,
-    pub model: FilterModel,
-}
-
-impl EmcRules {
-    pub fn load(tables: &mut Typed) -> Option<Self> {
-        let limits = tables.get::<LimitTable>(LimitTable::ID);
-        let model = tables.get::<FilterModel>(FilterModel::ID);
-        Some(EmcRules {
-            limits: limits?,
-            model: model?,
-        })
+crate::rule_tables! {
+    /// The rule tables the EMC evaluation reads. The touch-current limits and the mains
+    /// defaults are power entry's tables (`power-entry.touch-current`,
+    /// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
+    pub struct EmcRules {
+        limits: LimitTable,
+        model: FilterModel,
     }
 }

@@ -1,41 +1,9 @@
-//! Typed forms of the rule tables, with the checks that make a table usable: rows in
+//! Typed forms of the insulation area's rule tables, with the checks that make a table usable: rows in
 //! ascending order, no negative figures, every row as wide as the column list.
 
 use serde::Deserialize;
 
-/// A rule table as read from TOML.
-pub trait Table: for<'de> Deserialize<'de> {
-    /// Rejects a table the engine could not read safely.
-    fn check(&self) -> Result<(), String>;
-}
-
-fn ascending(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
-    let mut last = f64::NEG_INFINITY;
-    for v in values {
-        if !v.is_finite() || v < 0.0 {
-            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
-        }
-        if v <= last {
-            return Err(format!(
-                "{what}: rows must be in strictly ascending order ({v} follows {last})"
-            ));
-        }
-        last = v;
-    }
-    if last == f64::NEG_INFINITY {
-        return Err(format!("{what}: the table has no rows"));
-    }
-    Ok(())
-}
-
-fn non_negative(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
-    for v in values {
-        if !v.is_finite() || v < 0.0 {
-            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
-        }
-    }
-    Ok(())
-}
+use crate::rules::table::{Table, ascending, non_negative};
 
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]

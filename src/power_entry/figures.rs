@@ -105,7 +105,7 @@ struct Basis<'a> {
 pub(super) fn evaluate(
     project: &Project,
     rules: &RuleBook,
-    _barriers: &[BarrierResult],
+    suspicious: &crate::derivation::Suspicious,
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
     let Some(spec) = &project.input else {
@@ -237,16 +237,9 @@ pub(super) fn evaluate(
         }
     }
     // A figure that rests on an implausible input is never `pass`.
-    let suspicious: Vec<&str> = project
-        .warnings
-        .iter()
-        .filter_map(|w| w.key.as_deref())
-        .collect();
     let mut verdicts = std::collections::BTreeMap::new();
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
-        if f.verdict == Some(Verdict::Pass) && rests_on_suspicious(&f.rests_on, &suspicious) {
-            f.verdict = Some(Verdict::CheckInput);
-        }
+        suspicious.settle_derivation(f);
         if let Some(v) = f.verdict {
             verdicts.insert(f.id.trim_start_matches("power_entry.").to_string(), v);
         }
@@ -292,20 +285,6 @@ pub(super) fn evaluate(
         assumptions: b.assumptions,
         sections,
     }))
-}
-
-/// Whether a warning key falls under one of the prefixes a figure rests on: `input` covers
-/// `input.fuse.rated_a`, `part` covers `part[2].capacitance_nf`.
-pub(crate) fn rests_on_suspicious(prefixes: &[String], suspicious: &[&str]) -> bool {
-    suspicious.iter().any(|key| {
-        prefixes.iter().any(|p| {
-            key.starts_with(p.as_str())
-                && (p.ends_with('_')
-                    || p.ends_with('.')
-                    || key.len() == p.len()
-                    || matches!(key.as_bytes().get(p.len()), Some(b'.') | Some(b'[')))
-        })
-    })
 }
 
 fn max_of(values: impl Iterator<Item = Option<f64>>) -> Option<f64> {
@@ -1941,7 +1920,7 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
 }
 
 fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
-    let table = &b.rules.test_voltages;
+    let table = &b.rules.insulation.test_voltages;
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();

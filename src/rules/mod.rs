@@ -5,7 +5,7 @@
 
 mod check_defs;
 pub mod predicate;
-mod tables;
+pub mod table;
 
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -14,7 +14,8 @@ use serde::{Deserialize, Serialize};
 
 use crate::diag::{Diagnostic, Problems, Source};
 pub use check_defs::{CheckDef, Cond, Over, Retired};
-pub use tables::*;
+pub use crate::insulation::tables::*;
+pub use table::Table;
 
 /// Tolerance for reading an input against a table row: a value within `EPS` of a row's
 /// bound counts as on it. Inputs are written with a handful of decimals in volts,
@@ -86,20 +87,8 @@ struct Header {
 #[derive(Debug, Clone)]
 pub struct RuleBook {
     pub info: Vec<RuleInfo>,
-    pub impulse: ImpulseTable,
-    pub clearance: ClearanceTable,
-    pub steady_state: SteadyStateClearanceTable,
-    pub creepage: CreepageTable,
-    pub reinforced: ReinforcedRule,
-    pub altitude: AltitudeTable,
-    pub grooves: GrooveTable,
-    pub material_groups: MaterialGroupTable,
-    pub board: BoardSpacingTable,
-    pub capacitors: CapacitorSubclasses,
-    pub test_voltages: TestVoltages,
-    pub thermal: ThermalClasses,
-    pub solid: SolidInsulation,
-    pub minimums: MinimumDistances,
+    /// Tables owned by the insulation area (spacing, isolation, bridging parts).
+    pub insulation: crate::insulation::InsulationRules,
     /// Tables owned by the power-entry evaluation.
     pub power_entry: crate::power_entry::PowerEntryRules,
     /// Tables owned by the EMC evaluation.
@@ -255,22 +244,11 @@ impl RuleBook {
             files: &files,
             problems: Vec::new(),
         };
-        let impulse = typed.get::<ImpulseTable>(ImpulseTable::ID);
-        let clearance = typed.get::<ClearanceTable>(ClearanceTable::ID);
-        let steady_state = typed.get::<SteadyStateClearanceTable>(SteadyStateClearanceTable::ID);
-        let creepage = typed.get::<CreepageTable>(CreepageTable::ID);
-        let reinforced = typed.get::<ReinforcedRule>(ReinforcedRule::ID);
-        let altitude = typed.get::<AltitudeTable>(AltitudeTable::ID);
-        let grooves = typed.get::<GrooveTable>(GrooveTable::ID);
-        let material_groups = typed.get::<MaterialGroupTable>(MaterialGroupTable::ID);
-        let board = typed.get::<BoardSpacingTable>(BoardSpacingTable::ID);
-        let capacitors = typed.get::<CapacitorSubclasses>(CapacitorSubclasses::ID);
-        let test_voltages = typed.get::<TestVoltages>(TestVoltages::ID);
-        let thermal = typed.get::<ThermalClasses>(ThermalClasses::ID);
-        let solid = typed.get::<SolidInsulation>(SolidInsulation::ID);
-        let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
-        let power_entry = crate::power_entry::PowerEntryRules::load(&mut typed);
-        let emc = crate::emc::EmcRules::load(&mut typed);
+        // Each area loads its own tables; every problem is collected.
+        let mut areas = crate::area::LoadedRules::default();
+        for area in crate::area::AREAS {
+            area.load_rules(&mut typed, &mut areas);
+        }
         let mut problems = typed.problems;
         let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
@@ -334,22 +312,9 @@ impl RuleBook {
         }
         let book = RuleBook {
             info,
-            impulse: need(impulse)?,
-            clearance: need(clearance)?,
-            steady_state: need(steady_state)?,
-            creepage: need(creepage)?,
-            reinforced: need(reinforced)?,
-            altitude: need(altitude)?,
-            grooves: need(grooves)?,
-            material_groups: need(material_groups)?,
-            board: need(board)?,
-            capacitors: need(capacitors)?,
-            test_voltages: need(test_voltages)?,
-            thermal: need(thermal)?,
-            solid: need(solid)?,
-            minimums: need(minimums)?,
-            power_entry: need(power_entry)?,
-            emc: need(emc)?,
+            insulation: need(areas.insulation)?,
+            power_entry: need(areas.power_entry)?,
+            emc: need(areas.emc)?,
             checks,
             compiled_checks: need(compiled_checks)?,
         };
@@ -399,7 +364,7 @@ impl RuleBook {
 }
 
 /// Typed access to the loaded rule files, collecting every problem; domain modules load
-/// their own tables through it (`PowerEntryRules::load`, `EmcRules::load`).
+/// their own tables through it (`rule_tables!`'s `load`, called by `Area::load_rules`).
 pub struct Typed<'a> {
     files: &'a BTreeMap<String, Loaded>,
     problems: Vec<Diagnostic>,
