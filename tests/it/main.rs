@@ -10,6 +10,7 @@ mod check_predicates;
 mod check_values;
 mod cli;
 mod emc;
+mod explain_items;
 mod files;
 mod fuzz;
 mod invariants;
