@@ -112,7 +112,7 @@ pub fn evaluate_all(
         suspicious: Suspicious::of(&project.warnings),
         sections: Sections::default(),
     };
-    for area in AREAS {
+    for area in AREAS.iter().filter(|a| a.described(project)) {
         area.evaluate(&mut run)?;
     }
     Ok(run.sections)

@@ -204,7 +204,11 @@ mod tests {
 
     #[test]
     fn a_prefix_covers_itself_and_what_lies_below_it_only() {
-        let s = Suspicious::new(["barrier[12].creepage_mm", "input.fuse.rated_a", "mains.nominal_v"]);
+        let s = Suspicious::new([
+            "barrier[12].creepage_mm",
+            "input.fuse.rated_a",
+            "mains.nominal_v",
+        ]);
         assert!(!s.covers(&["barrier[1]"]), "barrier[1] is not barrier[12]");
         assert!(s.covers(&["barrier[12]"]));
         assert!(s.covers(&["input"]));
@@ -212,7 +216,10 @@ mod tests {
         assert!(!s.covers(&["input.fuse.rated"]), "rated is not rated_a");
         assert!(s.covers(&["mains.nominal_v"]));
         assert!(!s.covers(&["mains.nominal"]));
-        assert!(s.covers(&["mains.nominal_"]), "a prefix ending in _ covers what follows");
+        assert!(
+            s.covers(&["mains.nominal_"]),
+            "a prefix ending in _ covers what follows"
+        );
         assert!(!s.covers::<&str>(&[]));
     }
 

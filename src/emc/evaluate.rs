@@ -323,7 +323,13 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
 
     let settings = settings(inputs, rules, &mut assumptions);
     let (class, margin_db) = (settings.class, settings.margin_db);
-    let noise = noise_to_beat(inputs, rules, &settings, &mut assumptions, &mut d.noise.steps)?;
+    let noise = noise_to_beat(
+        inputs,
+        rules,
+        &settings,
+        &mut assumptions,
+        &mut d.noise.steps,
+    )?;
     let corners = corners(&noise, margin_db, &mut d);
     let y = y_capacitance(inputs, &mut assumptions, &mut d.y_capacitance.steps);
     let inductances = inductances(inputs, &corners, &y, &mut d);
@@ -354,8 +360,12 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         gaps: noise_gaps,
         ..
     } = &noise;
-    let (candidates, noise_source, harmonics_evaluated, noise_gaps) =
-        (candidates, *noise_source, *harmonics_evaluated, noise_gaps.clone());
+    let (candidates, noise_source, harmonics_evaluated, noise_gaps) = (
+        candidates,
+        *noise_source,
+        *harmonics_evaluated,
+        noise_gaps.clone(),
+    );
     let Corners {
         overall,
         dm2,
@@ -384,6 +394,34 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     let (max_mains_v, max_mains_frequency_hz) = (inputs.max_mains_v, inputs.max_mains_frequency_hz);
     let after_filter = after.text;
     let governing_point = overall.and_then(|(i, _)| candidates.get(i));
+    // Each topic's derivation carries its figure and verdict, as every area's do.
+    for (topic, value, unit, verdict) in [
+        (
+            &mut d.limit,
+            governing_point.map(|c| c.limit_dbuv),
+            "dBuV",
+            None,
+        ),
+        (
+            &mut d.attenuation,
+            governing_point.map(|c| c.required_db),
+            "dB",
+            None,
+        ),
+        (&mut d.dm_corner, dm_corner_hz, "Hz", Some("dm_corner_hz")),
+        (&mut d.cm_corner, cm_corner_hz, "Hz", Some("cm_corner_hz")),
+        (
+            &mut d.y_capacitance,
+            max_y_capacitance_nf,
+            "nF",
+            Some("y_capacitance_nf"),
+        ),
+        (&mut d.middlebrook, None, "", Some("middlebrook")),
+    ] {
+        topic.value = value;
+        topic.unit = unit.to_string();
+        topic.verdict = verdict.and_then(|v| verdicts.get(v).copied());
+    }
     Ok(EmcReport {
         limit_class: class,
         margin_db,
@@ -1060,25 +1098,21 @@ fn after_filter<'a>(
         inductance_h: model.network_inductance_uh.value * 1e-6,
     };
     let dm_stage = match (f.dm_inductance_uh, f.x_capacitance_uf) {
-        (Some(l), Some(c)) if declared.is_some_and(|x| x.dm_corner_hz.is_some()) => {
-            Some(TwoPort {
-                series_inductance_h: l * 1e-6,
-                series_resistance_ohm: f.dm_inductor_resistance_ohm.unwrap_or(0.0),
-                shunt_capacitance_f: c * 1e-6,
-                damping: f.damping.map(|(rd, cd)| (rd, cd * 1e-6)),
-            })
-        }
+        (Some(l), Some(c)) if declared.is_some_and(|x| x.dm_corner_hz.is_some()) => Some(TwoPort {
+            series_inductance_h: l * 1e-6,
+            series_resistance_ohm: f.dm_inductor_resistance_ohm.unwrap_or(0.0),
+            shunt_capacitance_f: c * 1e-6,
+            damping: f.damping.map(|(rd, cd)| (rd, cd * 1e-6)),
+        }),
         _ => None,
     };
     let cm_stage = match (f.cm_inductance_mh, declared_cm_nf) {
-        (Some(l), Some(c)) if declared.is_some_and(|x| x.cm_corner_hz.is_some()) => {
-            Some(TwoPort {
-                series_inductance_h: l * 1e-3,
-                series_resistance_ohm: 0.0,
-                shunt_capacitance_f: c * 1e-9,
-                damping: None,
-            })
-        }
+        (Some(l), Some(c)) if declared.is_some_and(|x| x.cm_corner_hz.is_some()) => Some(TwoPort {
+            series_inductance_h: l * 1e-3,
+            series_resistance_ohm: 0.0,
+            shunt_capacitance_f: c * 1e-9,
+            damping: None,
+        }),
         _ => None,
     };
     let dm_source = model.dm_source_impedance_ohm.value;
@@ -1182,7 +1216,8 @@ fn report_points(noise: &Noise, corners: &Corners, after: &AfterFilter) -> Vec<N
         max_required,
         ..
     } = corners;
-    let (overall, dm2, dm4, cm2, cm4, max_required) = (*overall, *dm2, *dm4, *cm2, *cm4, *max_required);
+    let (overall, dm2, dm4, cm2, cm4, max_required) =
+        (*overall, *dm2, *dm4, *cm2, *cm4, *max_required);
     let judge = |c: &Candidate| after.judge(c);
     let keep: Vec<usize> = if noise_source == "estimate" {
         let mut keep = Vec::new();
@@ -1205,8 +1240,7 @@ fn report_points(noise: &Noise, corners: &Corners, after: &AfterFilter) -> Vec<N
     } else {
         all.clone()
     };
-    keep
-        .iter()
+    keep.iter()
         .filter_map(|&i| candidates.get(i))
         .map(|c| {
             let (filter_db, after, verdict) = judge(c);

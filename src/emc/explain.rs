@@ -165,9 +165,7 @@ pub fn explain(r: &EmcReport, item: &str) -> Option<String> {
         }
         "emc.y_capacitance" => steps(&mut out, &d.y_capacitance),
         "emc.filter" => steps(&mut out, &d.filter),
-        "emc.middlebrook" | "emc.damping" => {
-            steps(&mut out, &d.middlebrook)
-        }
+        "emc.middlebrook" | "emc.damping" => steps(&mut out, &d.middlebrook),
         "emc.points" => points(&mut out, r),
         "emc.assumptions" => {
             if r.assumptions.is_empty() {

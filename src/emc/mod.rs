@@ -14,14 +14,14 @@ pub mod rules;
 
 use serde::Serialize;
 
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::derivation::{Derivation, Suspicious, steps_only};
 use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
 use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
-use crate::rules::RuleBook;
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
-use crate::derivation::{Derivation, Suspicious, steps_only};
 use crate::report::Report;
+use crate::rules::RuleBook;
 use crate::rules::Typed;
 use crate::spacing::show;
 use crate::toml_read::{Reader, Span, TableRef};

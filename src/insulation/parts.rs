@@ -141,10 +141,18 @@ fn bridge(
         external_creepage_mm: r.external_creepage_mm,
         distance_through_insulation_mm: r.distance_through_insulation_mm,
         thin_layer_rated: r.thin_layer_rated,
-        min_distance_through_insulation_mm: rules.insulation.solid.min_distance_through_insulation_mm,
+        min_distance_through_insulation_mm: rules
+            .insulation
+            .solid
+            .min_distance_through_insulation_mm,
         insulation_system: r.insulation_system.clone(),
         tape_layers: r.tape_layers,
-        min_tape_layers: rules.insulation.solid.min_tape_layers.get(barrier.grade).round() as u32,
+        min_tape_layers: rules
+            .insulation
+            .solid
+            .min_tape_layers
+            .get(barrier.grade)
+            .round() as u32,
         margin_mm: r.margin_mm,
         thermal_class: r.thermal_class.clone(),
         thermal_class_max_c,

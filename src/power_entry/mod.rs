@@ -11,9 +11,9 @@ pub mod tables;
 
 use serde::Serialize;
 
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
 use crate::diag::{Problems, Source};
 use crate::project::Project;
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
 use crate::report::Report;
 use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};

@@ -503,10 +503,7 @@ mod tests {
 
     /// The barriers' check-input marking (`insulation::mark_check_input`), from warnings.
     fn mark_check_input(barriers: &mut [BarrierResult], warnings: &[crate::diag::Diagnostic]) {
-        crate::insulation::mark_check_input(
-            barriers,
-            &crate::derivation::Suspicious::of(warnings),
-        );
+        crate::insulation::mark_check_input(barriers, &crate::derivation::Suspicious::of(warnings));
     }
 
     #[test]

@@ -13,8 +13,8 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use crate::diag::{Diagnostic, Problems, Source};
-pub use check_defs::{CheckDef, Cond, Over, Retired};
 pub use crate::insulation::tables::*;
+pub use check_defs::{CheckDef, Cond, Over, Retired};
 pub use table::Table;
 
 /// Tolerance for reading an input against a table row: a value within `EPS` of a row's

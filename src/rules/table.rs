@@ -39,7 +39,6 @@ pub(crate) fn non_negative(values: impl Iterator<Item = f64>, what: &str) -> Res
     Ok(())
 }
 
-
 /// Declares an area's rule tables: a struct with one field per table, and its `load`, which
 /// reads each table by its `ID` through [`crate::rules::Typed`] (every problem is
 /// collected; `None` when any table failed). Adding a table to an area is one line here.

@@ -67,7 +67,10 @@ fn shown(json: &Value) -> Vec<String> {
         items.push("bridges".to_string());
     }
     items.extend(parts.into_iter().map(|p| format!("bridge.{p}")));
-    if let Some(sections) = json.pointer("/power_entry/sections").and_then(Value::as_array) {
+    if let Some(sections) = json
+        .pointer("/power_entry/sections")
+        .and_then(Value::as_array)
+    {
         items.push("power_entry".to_string());
         for s in sections {
             items.extend(s["id"].as_str().map(str::to_string));
@@ -118,7 +121,10 @@ fn every_figure_and_section_the_report_shows_has_an_explain_item() {
         }
     }
     // The sweep must have covered every area, or it proves nothing about them.
-    assert!(with_power_entry > 5 && with_emc > 5, "{with_power_entry} {with_emc}");
+    assert!(
+        with_power_entry > 5 && with_emc > 5,
+        "{with_power_entry} {with_emc}"
+    );
 }
 
 #[test]

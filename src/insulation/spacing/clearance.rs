@@ -549,8 +549,11 @@ pub fn required(
         governed_by = "pollution-degree-minimum";
     }
 
-    let (factor, step) =
-        altitude_factor(&rules.insulation.altitude, cond.altitude_m, cond.altitude_between_rows)?;
+    let (factor, step) = altitude_factor(
+        &rules.insulation.altitude,
+        cond.altitude_m,
+        cond.altitude_between_rows,
+    )?;
     steps.push(step);
     if factor > 1.0 {
         let corrected = round_up(mm * factor, 0.01);

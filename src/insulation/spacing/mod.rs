@@ -11,8 +11,8 @@ use serde::Serialize;
 use crate::project::{Barrier, BetweenRows, Grade, OvervoltageCategory};
 use crate::rules::RuleBook;
 
-pub use crate::derivation::{Step, Verdict};
 use crate::derivation::{Derivation, steps_only};
+pub use crate::derivation::{Step, Verdict};
 
 /// A required distance and how it was found.
 #[derive(Debug, Clone, PartialEq)]
@@ -247,7 +247,10 @@ fn figure_derivation(
             Some(d) => Verdict::of(Some(d < figure.mm)),
             None => Verdict::Incomplete,
         }),
-        rests_on: SHARED_BARRIER_INPUTS.iter().map(|k| k.to_string()).collect(),
+        rests_on: SHARED_BARRIER_INPUTS
+            .iter()
+            .map(|k| k.to_string())
+            .collect(),
         steps: figure.steps,
         ..Derivation::default()
     }
