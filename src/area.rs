@@ -2,7 +2,7 @@
 //! one trait each implements. The rule book, the report's assembly and `explain` go over
 //! [`AREAS`] instead of keeping their own lists of tables, sections and items.
 //!
-//! To add an area: a module that owns its checked input types, a `rule_tables!` set of
+//! To add an area: a module that owns its checked input types, a `table_set!` set of
 //! its tables, its calculations returning [`crate::derivation::Derivation`]s, and an
 //! `impl Area`; then a field for its rules in `RuleBook`, one for its section in
 //! [`Sections`] (and the report), and an entry in [`AREAS`]. Its checks are TOML in
@@ -77,7 +77,7 @@ pub trait Area: Sync {
     /// Whether the project describes this area (its part of the project is present).
     fn described(&self, project: &Project) -> bool;
 
-    /// Loads and checks the area's rule tables (`rule_tables!`'s `load`) into `into`;
+    /// Loads and checks the area's rule tables (`table_set!`'s `load`) into `into`;
     /// every problem goes to `tables`.
     fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules);
 

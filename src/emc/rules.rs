@@ -270,12 +270,12 @@ impl Table for FilterModel {
     }
 }
 
-crate::rule_tables! {
+crate::table_set! {
     /// The rule tables the EMC evaluation reads. The touch-current limits and the mains
     /// defaults are power entry's tables (`power-entry.touch-current`,
     /// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
     pub struct EmcRules {
-        limits: LimitTable,
-        model: FilterModel,
+        pub limits: LimitTable,
+        pub model: FilterModel,
     }
 }

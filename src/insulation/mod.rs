@@ -20,24 +20,24 @@ use parts::BridgeResult;
 use spacing::{BarrierResult, Conditions, show};
 use tables::*;
 
-crate::rule_tables! {
+crate::table_set! {
     /// The insulation area's rule tables. The electric strength test voltages are read by
     /// power entry too (`rules.insulation.test_voltages`).
     pub struct InsulationRules {
-        impulse: ImpulseTable,
-        clearance: ClearanceTable,
-        steady_state: SteadyStateClearanceTable,
-        creepage: CreepageTable,
-        reinforced: ReinforcedRule,
-        altitude: AltitudeTable,
-        grooves: GrooveTable,
-        material_groups: MaterialGroupTable,
-        board: BoardSpacingTable,
-        capacitors: CapacitorSubclasses,
-        test_voltages: TestVoltages,
-        thermal: ThermalClasses,
-        solid: SolidInsulation,
-        minimums: MinimumDistances,
+        pub impulse: ImpulseTable,
+        pub clearance: ClearanceTable,
+        pub steady_state: SteadyStateClearanceTable,
+        pub creepage: CreepageTable,
+        pub reinforced: ReinforcedRule,
+        pub altitude: AltitudeTable,
+        pub grooves: GrooveTable,
+        pub material_groups: MaterialGroupTable,
+        pub board: BoardSpacingTable,
+        pub capacitors: CapacitorSubclasses,
+        pub test_voltages: TestVoltages,
+        pub thermal: ThermalClasses,
+        pub solid: SolidInsulation,
+        pub minimums: MinimumDistances,
     }
 }
 

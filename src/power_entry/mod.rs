@@ -150,14 +150,14 @@ pub struct ConverterSpec {
     pub pfc_stage: bool,
 }
 
-crate::rule_tables! {
+crate::table_set! {
     /// The rule tables power entry reads. The electric strength test voltages come from the
     /// insulation area's table `iec60950-1.test-voltages` (`rules.insulation.test_voltages`).
     pub struct PowerEntryRules {
-        fuse: FuseRules,
-        discharge: DischargeRules,
-        touch: TouchRules,
-        mains: MainsDefaults,
+        pub fuse: FuseRules,
+        pub discharge: DischargeRules,
+        pub touch: TouchRules,
+        pub mains: MainsDefaults,
     }
 }
 

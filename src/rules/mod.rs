@@ -364,7 +364,7 @@ impl RuleBook {
 }
 
 /// Typed access to the loaded rule files, collecting every problem; domain modules load
-/// their own tables through it (`rule_tables!`'s `load`, called by `Area::load_rules`).
+/// their own tables through it (`table_set!`'s `load`, called by `Area::load_rules`).
 pub struct Typed<'a> {
     files: &'a BTreeMap<String, Loaded>,
     problems: Vec<Diagnostic>,

@@ -1,6 +1,6 @@
 //! What every rule table is to the rule book: a serde type with a permanent id and a
 //! `check` that rejects what the engine could not read safely; and the declaration of an
-//! area's set of tables (`rule_tables!`), so a new table is its TOML file, its struct and
+//! area's set of tables (`table_set!`), so a new table is its TOML file, its struct and
 //! one line in its area's set.
 
 use serde::Deserialize;
@@ -39,25 +39,26 @@ pub(crate) fn non_negative(values: impl Iterator<Item = f64>, what: &str) -> Res
     Ok(())
 }
 
-/// Declares an area's rule tables: a struct with one field per table, and its `load`, which
-/// reads each table by its `ID` through [`crate::rules::Typed`] (every problem is
-/// collected; `None` when any table failed). Adding a table to an area is one line here.
+/// Declares an area's set of rule tables: a struct with one field per table, and its
+/// `load`, which reads each table by its `ID` through [`crate::rules::Typed`] (every
+/// problem is collected; `None` when any table failed). Adding a table to an area is one
+/// line in its set.
 #[macro_export]
-macro_rules! rule_tables {
-    ($(#[$m:meta])* $vis:vis struct $name:ident {
-        $($(#[$fm:meta])* $field:ident : $ty:ty),* $(,)?
+macro_rules! table_set {
+    ($(#[$meta:meta])* pub struct $name:ident {
+        $($(#[$field_meta:meta])* pub $field:ident: $ty:ty,)*
     }) => {
-        $(#[$m])*
+        $(#[$meta])*
         #[derive(Debug, Clone)]
-        $vis struct $name {
-            $($(#[$fm])* pub $field: $ty),*
+        pub struct $name {
+            $($(#[$field_meta])* pub $field: $ty,)*
         }
 
         impl $name {
             /// Loads and checks every table of the set.
-            pub fn load(tables: &mut $crate::rules::Typed) -> Option<Self> {
-                $(let $field = tables.get::<$ty>(<$ty>::ID);)*
-                Some($name { $($field: $field?),* })
+            pub fn load(typed: &mut $crate::rules::Typed) -> Option<Self> {
+                $(let $field = typed.get::<$ty>(<$ty>::ID);)*
+                Some($name { $($field: $field?,)* })
             }
         }
     };
