@@ -141,7 +141,7 @@ impl Area for Insulation {
         parts.dedup();
         for p in parts {
             items.push(ExplainItem::new(
-                format!("bridge.{p}"),
+                p,
                 "the part against each barrier it bridges",
             ));
         }
@@ -180,13 +180,14 @@ impl Area for Insulation {
             }
             return Some(out);
         }
-        if let Some(part) = item.strip_prefix("bridge.") {
-            let mut found = false;
-            for b in report.bridges.iter().filter(|b| b.part == part) {
-                explain_bridge(&mut out, b);
-                found = true;
-            }
-            return found.then_some(out);
+        // A part by its reference (after the barriers: a barrier's id comes first).
+        let mut found = false;
+        for b in report.bridges.iter().filter(|b| b.part == item) {
+            explain_bridge(&mut out, b);
+            found = true;
+        }
+        if found {
+            return Some(out);
         }
         None
     }

@@ -49,7 +49,7 @@ pub struct BridgeResult {
     pub thermal_class: Option<String>,
     pub thermal_class_max_c: Option<f64>,
     pub hot_spot_c: Option<f64>,
-    /// `bridge.<part>` for `explain`; the JSON shows its steps, as it always has.
+    /// Explained as the part's reference; the JSON shows its steps, as it always has.
     #[serde(serialize_with = "crate::derivation::steps_only")]
     pub derivation: crate::derivation::Derivation,
 }
@@ -160,7 +160,7 @@ fn bridge(
         derivation: crate::derivation::Derivation {
             steps: derivation,
             ..crate::derivation::Derivation::new(
-                format!("bridge.{}", part.reference),
+                part.reference.clone(),
                 format!("{} across {}", part.reference, barrier.id),
             )
         },

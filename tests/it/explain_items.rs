@@ -66,7 +66,8 @@ fn shown(json: &Value) -> Vec<String> {
     if !parts.is_empty() {
         items.push("bridges".to_string());
     }
-    items.extend(parts.into_iter().map(|p| format!("bridge.{p}")));
+    // A bridging part by its reference.
+    items.extend(parts);
     if let Some(sections) = json
         .pointer("/power_entry/sections")
         .and_then(Value::as_array)
