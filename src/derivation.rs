@@ -3,6 +3,7 @@
 //! by, and the input keys it rests on; and one check-input mechanism ([`Suspicious`]) that
 //! turns a `pass` resting on an implausible input into `check-input`.
 
+use std::borrow::Cow;
 use std::collections::BTreeSet;
 
 use serde::{Serialize, Serializer};
@@ -81,10 +82,11 @@ pub struct Derivation {
     /// Stable id, e.g. `power_entry.inrush_peak_a`, `pri-sec.clearance`, `emc.dm_corner`;
     /// `gapwarden explain` takes it.
     pub id: String,
-    pub title: String,
+    // Words and keys are mostly fixed text: borrowed, they cost a large design nothing.
+    pub title: Cow<'static, str>,
     /// Null when it cannot be computed (the steps say why) or the topic has no one value.
     pub value: Option<f64>,
-    pub unit: String,
+    pub unit: Cow<'static, str>,
     pub formula: String,
     pub inputs: Vec<Input>,
     /// What the figure is judged against, in words (the check compares).
@@ -94,7 +96,7 @@ pub struct Derivation {
     pub verdict: Option<Verdict>,
     /// Project keys (prefixes, as the reader names them) the figure rests on; an
     /// implausible one among them turns a `pass` into `check-input` ([`Suspicious`]).
-    pub rests_on: Vec<String>,
+    pub rests_on: Vec<Cow<'static, str>>,
     pub steps: Vec<Step>,
     /// Where `value` is null: why, in words (for instance, which standard provides it).
     pub not_computed_because: Option<String>,
@@ -102,7 +104,7 @@ pub struct Derivation {
 
 impl Derivation {
     /// An empty derivation with its id and title; the rest is filled in as it is derived.
-    pub fn new(id: impl Into<String>, title: impl Into<String>) -> Self {
+    pub fn new(id: impl Into<String>, title: impl Into<Cow<'static, str>>) -> Self {
         Derivation {
             id: id.into(),
             title: title.into(),

@@ -419,7 +419,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (&mut d.middlebrook, None, "", Some("middlebrook")),
     ] {
         topic.value = value;
-        topic.unit = unit.to_string();
+        topic.unit = unit.into();
         topic.verdict = verdict.and_then(|v| verdicts.get(v).copied());
     }
     Ok(EmcReport {

@@ -201,7 +201,7 @@ pub(crate) fn mark_check_input(barriers: &mut [BarrierResult], suspicious: &Susp
         // which is the order of `project.barriers` and so of the results.
         let own = format!("barrier[{}]", i + 1);
         for d in [&mut b.derivation.clearance, &mut b.derivation.creepage] {
-            d.rests_on.push(own.clone());
+            d.rests_on.push(own.clone().into());
             suspicious.settle_derivation(d);
         }
         b.verdict = suspicious.settle(b.verdict, &b.derivation.clearance.rests_on);

@@ -33,7 +33,7 @@ struct Figure {
     unit: &'static str,
     formula: String,
     verdict: Option<Verdict>,
-    rests_on: Vec<String>,
+    rests_on: Vec<std::borrow::Cow<'static, str>>,
 }
 
 impl Figure {
@@ -56,8 +56,8 @@ impl Figure {
         self
     }
 
-    fn rests_on(mut self, keys: &[&str]) -> Self {
-        self.rests_on = keys.iter().map(|k| k.to_string()).collect();
+    fn rests_on(mut self, keys: &[&'static str]) -> Self {
+        self.rests_on = keys.iter().map(|k| (*k).into()).collect();
         self
     }
 
@@ -76,9 +76,9 @@ impl Figure {
         }
         Derived {
             id: self.id,
-            title: self.title,
+            title: self.title.into(),
             value: sig(self.value),
-            unit: self.unit.to_string(),
+            unit: self.unit.into(),
             formula: self.formula,
             inputs,
             judged_against,

@@ -483,7 +483,7 @@ impl Area for PowerEntry {
         for s in &pe.sections {
             items.push(ExplainItem::new(&s.id, &s.title));
             for f in &s.figures {
-                items.push(ExplainItem::new(&f.id, &f.title));
+                items.push(ExplainItem::new(&f.id, f.title.as_ref()));
             }
         }
         items

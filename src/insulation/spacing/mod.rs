@@ -230,7 +230,8 @@ pub fn evaluate(
 }
 
 /// A required distance as a derivation: `<barrier>.clearance` or `<barrier>.creepage`,
-/// judged against the declared distance (incomplete where none is declared).
+/// judged against the declared distance (incomplete where none is declared). Its words are
+/// fixed text, so a design of many barriers allocates only the id and the steps.
 fn figure_derivation(
     barrier: &Barrier,
     what: &str,
@@ -239,18 +240,18 @@ fn figure_derivation(
 ) -> Derivation {
     Derivation {
         id: format!("{}.{what}", barrier.id),
-        title: format!("Required {what}"),
+        title: if what == "clearance" {
+            "Required clearance".into()
+        } else {
+            "Required creepage".into()
+        },
         value: Some(figure.mm),
-        unit: "mm".to_string(),
-        judged_against: declared_mm.map(|d| format!("the declared {what} {} mm", show(d))),
+        unit: "mm".into(),
         verdict: Some(match declared_mm {
             Some(d) => Verdict::of(Some(d < figure.mm)),
             None => Verdict::Incomplete,
         }),
-        rests_on: SHARED_BARRIER_INPUTS
-            .iter()
-            .map(|k| k.to_string())
-            .collect(),
+        rests_on: SHARED_BARRIER_INPUTS.iter().map(|k| (*k).into()).collect(),
         steps: figure.steps,
         ..Derivation::default()
     }
