@@ -516,199 +516,39 @@ fn noise_to_beat(
     assumptions: &mut Vec<String>,
     steps: &mut Vec<Step>,
 ) -> Result<Noise, Vec<InputProblem>> {
-    let spec = &inputs.spec;
-    let model = &rules.model;
-    let model_id = model.id.as_str();
-    let band = rules.limits.band_hz();
-    let (class, margin_db, network) = (settings.class, settings.margin_db, settings.network);
-    let max_mains_v = inputs.max_mains_v;
-    let mut noise_gaps: Vec<String> = Vec::new();
+    let mut noise = Noise {
+        source: "none",
+        candidates: Vec::new(),
+        dm_indices: Vec::new(),
+        cm_indices: Vec::new(),
+        harmonics_evaluated: 0,
+        gaps: Vec::new(),
+    };
     let mut problems = Vec::new();
-    let mut candidates: Vec<Candidate> = Vec::new();
-    let mut dm_indices = Vec::new();
-    let mut cm_indices = Vec::new();
-    let mut harmonics_evaluated = 0usize;
-    let noise_source: &'static str;
-    if !spec.prescan.is_empty() {
-        noise_source = "prescan";
-        steps.push(Step::new(
-            None,
-            format!(
-                "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
-                spec.prescan.len()
-            ),
-        ));
-        for p in &spec.prescan {
-            let detectors: &[Detector] = match p.detector {
-                // A switching harmonic is a continuous wave: the average detector reads
-                // about what quasi-peak reads, so a quasi-peak reading meets both limits.
-                PrescanDetector::QuasiPeak => &[Detector::QuasiPeak, Detector::Average],
-                PrescanDetector::Average => &[Detector::Average],
-                PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
-            };
-            match binding_limit(rules, class, detectors, p.frequency_hz) {
-                Ok((det, limit, limit_step)) => {
-                    let i = candidates.len();
-                    candidates.push(Candidate {
-                        frequency_hz: p.frequency_hz,
-                        mode: "measured",
-                        harmonic: None,
-                        detector: p.detector.as_str(),
-                        compared_with: det,
-                        level_dbuv: p.level_dbuv,
-                        limit_dbuv: limit,
-                        limit_step,
-                        required_db: p.level_dbuv - limit + margin_db,
-                        key_prefix: Some(p.key.trim_end_matches(".frequency_hz").to_string()),
-                    });
-                    dm_indices.push(i);
-                    cm_indices.push(i);
-                }
-                Err(e) => problems.push(InputProblem {
-                    key: p.key.clone(),
-                    span: Some(p.span.clone()),
-                    message: e.message,
-                }),
-            }
-        }
-        if spec
-            .prescan
-            .iter()
-            .any(|p| p.detector == PrescanDetector::QuasiPeak)
-        {
-            assumptions.push(
-                "Quasi-peak readings are held against the average limit too (the lower governs): a switching harmonic is a continuous wave, for which the average detector reads about what quasi-peak reads (common practice of pre-compliance work, no published source)."
-                    .to_string(),
-            );
-        }
-        if spec
-            .prescan
-            .iter()
-            .any(|p| p.detector == PrescanDetector::Peak)
-        {
-            assumptions.push(
-                "Peak readings are held against the lower of the quasi-peak and average limits (a peak reading is never below either; conservative)."
-                    .to_string(),
-            );
-        }
-        assumptions.push(
-            "Prescan points do not say whether their noise is differential or common mode: both corners are sized for the full measured level."
-                .to_string(),
+    if !inputs.spec.prescan.is_empty() {
+        noise.source = "prescan";
+        prescan_points(
+            inputs,
+            rules,
+            settings,
+            assumptions,
+            steps,
+            &mut noise,
+            &mut problems,
         );
     } else if let Some(c) = &inputs.converter {
-        noise_source = "estimate";
-        let parasitic_pf = spec.parasitic_capacitance_pf.unwrap_or_else(|| {
-            assumptions.push(format!(
-                "Parasitic capacitance from the switch node to earth {} pF (parasitic_capacitance_pf not stated; {}).",
-                show(model.default_parasitic_capacitance_pf.value),
-                model.default_parasitic_capacitance_pf.provenance
-            ));
-            model.default_parasitic_capacitance_pf.value
-        });
-        let swing_v = spec.switch_node_swing_v.unwrap_or_else(|| {
-            let v = model.default_switch_node_swing_factor.value
-                * std::f64::consts::SQRT_2
-                * max_mains_v;
-            assumptions.push(format!(
-                "Switch-node swing {} V = {} x sqrt(2) x {} V (switch_node_swing_v not stated; {}).",
-                show(v),
-                show(model.default_switch_node_swing_factor.value),
-                show(max_mains_v),
-                model.default_switch_node_swing_factor.provenance
-            ));
-            v
-        });
-        let rise_ns = spec.switch_node_rise_time_ns.unwrap_or_else(|| {
-            assumptions.push(format!(
-                "Switch-node rise time {} ns for the common-mode estimate (switch_node_rise_time_ns not stated; {}; {}).",
-                show(model.default_switch_node_rise_time_ns.value),
-                model.default_switch_node_rise_time_ns.source,
-                model.default_switch_node_rise_time_ns.provenance
-            ));
-            model.default_switch_node_rise_time_ns.value
-        });
-        assumptions.push(
-            "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
-                .to_string(),
-        );
-        let dm = match &inputs.bulk {
-            Some(bulk) => noise::differential_mode(c, bulk, &network, band),
-            None => {
-                noise_gaps.push(
-                    "differential-mode noise not estimated: no input table with the bulk capacitor (bulk_capacitance_uf)"
-                        .to_string(),
-                );
-                Ok(Vec::new())
-            }
-        };
-        let cm = noise::common_mode(
+        noise.source = "estimate";
+        estimated_points(
             c,
-            &CommonModePath {
-                switch_node_swing_v: swing_v,
-                parasitic_capacitance_pf: parasitic_pf,
-                rise_time_s: rise_ns * 1e-9,
-            },
-            &network,
-            band,
+            inputs,
+            rules,
+            settings,
+            assumptions,
+            steps,
+            &mut noise,
+            &mut problems,
         );
-        match (dm, cm) {
-            (Ok(dm), Ok(cm)) => {
-                harmonics_evaluated = dm.len() + cm.len();
-                noise_steps(
-                    steps,
-                    c,
-                    inputs.bulk.as_ref(),
-                    swing_v,
-                    parasitic_pf,
-                    rise_ns,
-                    model_id,
-                    &network,
-                    &dm,
-                    &cm,
-                );
-                for (mode, list, indices) in [
-                    ("differential", &dm, &mut dm_indices),
-                    ("common", &cm, &mut cm_indices),
-                ] {
-                    for h in list {
-                        match binding_limit(
-                            rules,
-                            class,
-                            &[Detector::QuasiPeak, Detector::Average],
-                            h.frequency_hz,
-                        ) {
-                            Ok((det, limit, limit_step)) => {
-                                indices.push(candidates.len());
-                                candidates.push(Candidate {
-                                    frequency_hz: h.frequency_hz,
-                                    mode,
-                                    harmonic: Some(h.number),
-                                    detector: "estimate",
-                                    compared_with: det,
-                                    level_dbuv: h.level_dbuv,
-                                    limit_dbuv: limit,
-                                    limit_step,
-                                    required_db: h.level_dbuv - limit + margin_db,
-                                    key_prefix: None,
-                                });
-                            }
-                            Err(e) => problems.push(InputProblem {
-                                key: "converter.switching_hz".to_string(),
-                                span: None,
-                                message: e.message,
-                            }),
-                        }
-                    }
-                }
-            }
-            (Err(e), _) | (_, Err(e)) => problems.push(InputProblem {
-                key: "emc".to_string(),
-                span: None,
-                message: format!("the noise estimate cannot be made: {e}"),
-            }),
-        }
     } else {
-        noise_source = "none";
         steps.push(Step::new(
             None,
             "No prescan points and no converter figures: the noise to beat is not known, so no attenuation or corner is computed.",
@@ -717,14 +557,229 @@ fn noise_to_beat(
     if !problems.is_empty() {
         return Err(problems);
     }
-    Ok(Noise {
-        source: noise_source,
+    Ok(noise)
+}
+
+/// The prescan points, each held against both filter modes (their mode is not known).
+fn prescan_points(
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    settings: &Settings,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+    noise: &mut Noise,
+    problems: &mut Vec<InputProblem>,
+) {
+    let spec = &inputs.spec;
+    let (class, margin_db) = (settings.class, settings.margin_db);
+    let Noise {
+        candidates,
+        dm_indices,
+        cm_indices,
+        ..
+    } = noise;
+    steps.push(Step::new(
+        None,
+        format!(
+            "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
+            spec.prescan.len()
+        ),
+    ));
+    for p in &spec.prescan {
+        let detectors: &[Detector] = match p.detector {
+            // A switching harmonic is a continuous wave: the average detector reads
+            // about what quasi-peak reads, so a quasi-peak reading meets both limits.
+            PrescanDetector::QuasiPeak => &[Detector::QuasiPeak, Detector::Average],
+            PrescanDetector::Average => &[Detector::Average],
+            PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
+        };
+        match binding_limit(rules, class, detectors, p.frequency_hz) {
+            Ok((det, limit, limit_step)) => {
+                let i = candidates.len();
+                candidates.push(Candidate {
+                    frequency_hz: p.frequency_hz,
+                    mode: "measured",
+                    harmonic: None,
+                    detector: p.detector.as_str(),
+                    compared_with: det,
+                    level_dbuv: p.level_dbuv,
+                    limit_dbuv: limit,
+                    limit_step,
+                    required_db: p.level_dbuv - limit + margin_db,
+                    key_prefix: Some(p.key.trim_end_matches(".frequency_hz").to_string()),
+                });
+                dm_indices.push(i);
+                cm_indices.push(i);
+            }
+            Err(e) => problems.push(InputProblem {
+                key: p.key.clone(),
+                span: Some(p.span.clone()),
+                message: e.message,
+            }),
+        }
+    }
+    if spec
+        .prescan
+        .iter()
+        .any(|p| p.detector == PrescanDetector::QuasiPeak)
+    {
+        assumptions.push(
+            "Quasi-peak readings are held against the average limit too (the lower governs): a switching harmonic is a continuous wave, for which the average detector reads about what quasi-peak reads (common practice of pre-compliance work, no published source)."
+                .to_string(),
+        );
+    }
+    if spec
+        .prescan
+        .iter()
+        .any(|p| p.detector == PrescanDetector::Peak)
+    {
+        assumptions.push(
+            "Peak readings are held against the lower of the quasi-peak and average limits (a peak reading is never below either; conservative)."
+                .to_string(),
+        );
+    }
+    assumptions.push(
+        "Prescan points do not say whether their noise is differential or common mode: both corners are sized for the full measured level."
+            .to_string(),
+    );
+}
+
+/// The switching harmonics estimated from the converter's figures: differential mode
+/// through the bulk capacitor, common mode through the parasitic capacitance to earth.
+#[allow(clippy::too_many_arguments)]
+fn estimated_points(
+    c: &ConverterFigures,
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    settings: &Settings,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+    noise: &mut Noise,
+    problems: &mut Vec<InputProblem>,
+) {
+    let spec = &inputs.spec;
+    let model = &rules.model;
+    let model_id = model.id.as_str();
+    let band = rules.limits.band_hz();
+    let (class, margin_db, network) = (settings.class, settings.margin_db, settings.network);
+    let max_mains_v = inputs.max_mains_v;
+    let Noise {
         candidates,
         dm_indices,
         cm_indices,
         harmonics_evaluated,
         gaps: noise_gaps,
-    })
+        ..
+    } = noise;
+    let parasitic_pf = spec.parasitic_capacitance_pf.unwrap_or_else(|| {
+        assumptions.push(format!(
+            "Parasitic capacitance from the switch node to earth {} pF (parasitic_capacitance_pf not stated; {}).",
+            show(model.default_parasitic_capacitance_pf.value),
+            model.default_parasitic_capacitance_pf.provenance
+        ));
+        model.default_parasitic_capacitance_pf.value
+    });
+    let swing_v = spec.switch_node_swing_v.unwrap_or_else(|| {
+        let v =
+            model.default_switch_node_swing_factor.value * std::f64::consts::SQRT_2 * max_mains_v;
+        assumptions.push(format!(
+            "Switch-node swing {} V = {} x sqrt(2) x {} V (switch_node_swing_v not stated; {}).",
+            show(v),
+            show(model.default_switch_node_swing_factor.value),
+            show(max_mains_v),
+            model.default_switch_node_swing_factor.provenance
+        ));
+        v
+    });
+    let rise_ns = spec.switch_node_rise_time_ns.unwrap_or_else(|| {
+        assumptions.push(format!(
+            "Switch-node rise time {} ns for the common-mode estimate (switch_node_rise_time_ns not stated; {}; {}).",
+            show(model.default_switch_node_rise_time_ns.value),
+            model.default_switch_node_rise_time_ns.source,
+            model.default_switch_node_rise_time_ns.provenance
+        ));
+        model.default_switch_node_rise_time_ns.value
+    });
+    assumptions.push(
+        "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
+            .to_string(),
+    );
+    let dm = match &inputs.bulk {
+        Some(bulk) => noise::differential_mode(c, bulk, &network, band),
+        None => {
+            noise_gaps.push(
+                "differential-mode noise not estimated: no input table with the bulk capacitor (bulk_capacitance_uf)"
+                    .to_string(),
+            );
+            Ok(Vec::new())
+        }
+    };
+    let cm = noise::common_mode(
+        c,
+        &CommonModePath {
+            switch_node_swing_v: swing_v,
+            parasitic_capacitance_pf: parasitic_pf,
+            rise_time_s: rise_ns * 1e-9,
+        },
+        &network,
+        band,
+    );
+    match (dm, cm) {
+        (Ok(dm), Ok(cm)) => {
+            *harmonics_evaluated = dm.len() + cm.len();
+            noise_steps(
+                steps,
+                c,
+                inputs.bulk.as_ref(),
+                swing_v,
+                parasitic_pf,
+                rise_ns,
+                model_id,
+                &network,
+                &dm,
+                &cm,
+            );
+            for (mode, list, indices) in [
+                ("differential", &dm, &mut *dm_indices),
+                ("common", &cm, &mut *cm_indices),
+            ] {
+                for h in list {
+                    match binding_limit(
+                        rules,
+                        class,
+                        &[Detector::QuasiPeak, Detector::Average],
+                        h.frequency_hz,
+                    ) {
+                        Ok((det, limit, limit_step)) => {
+                            indices.push(candidates.len());
+                            candidates.push(Candidate {
+                                frequency_hz: h.frequency_hz,
+                                mode,
+                                harmonic: Some(h.number),
+                                detector: "estimate",
+                                compared_with: det,
+                                level_dbuv: h.level_dbuv,
+                                limit_dbuv: limit,
+                                limit_step,
+                                required_db: h.level_dbuv - limit + margin_db,
+                                key_prefix: None,
+                            });
+                        }
+                        Err(e) => problems.push(InputProblem {
+                            key: "converter.switching_hz".to_string(),
+                            span: None,
+                            message: e.message,
+                        }),
+                    }
+                }
+            }
+        }
+        (Err(e), _) | (_, Err(e)) => problems.push(InputProblem {
+            key: "emc".to_string(),
+            span: None,
+            message: format!("the noise estimate cannot be made: {e}"),
+        }),
+    }
 }
 
 /// The required attenuation and the corners that meet every point, by mode and order.
