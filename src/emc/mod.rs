@@ -615,6 +615,3 @@ pub fn chart_svg(report: &EmcReport) -> Option<String> {
 pub fn explain(report: &EmcReport, item: &str) -> Option<String> {
     explain::explain(report, item)
 }
-
-/// The items `explain` takes for an EMC report, with what each shows.
-pub use explain::ITEMS as EXPLAIN_ITEMS;
