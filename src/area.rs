@@ -6,7 +6,8 @@
 //! its tables, its calculations returning [`crate::derivation::Derivation`]s, and an
 //! `impl Area`; then a field for its rules in `RuleBook`, one for its section in
 //! [`Sections`] (and the report), and an entry in [`AREAS`]. Its checks are TOML in
-//! `rules/checks/`, its finding ids and explain items start with its name.
+//! `rules/checks/`, with finding ids grouped by area (DESIGN.md: `barrier.*`, `isolation.*`
+//! and `part.*` for insulation, `power_entry.*`, `emc.*`).
 
 use crate::derivation::Suspicious;
 use crate::diag::{Problems, Source};
@@ -71,7 +72,8 @@ pub struct Evaluation<'a> {
 /// project, and an area whose tables are absent writes no section (its JSON section is
 /// null and its `*.not_evaluated` note appears).
 pub trait Area: Sync {
-    /// `insulation`, `power_entry`, `emc`: the prefix of its explain items.
+    /// `insulation`, `power_entry`, `emc`. Power entry's and EMC's explain items start
+    /// with it; insulation's are the barrier ids, `isolation`, `bridges` and part refs.
     fn name(&self) -> &'static str;
 
     /// Whether the project describes this area (its part of the project is present).
