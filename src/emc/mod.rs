@@ -386,11 +386,10 @@ impl Area for Emc {
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
-        run.sections.emc = evaluate_with(
+        run.sections.emc = evaluate(
             run.project,
             run.rules,
             run.sections.power_entry.as_ref(),
-            &run.suspicious,
             run.source,
         )?;
         Ok(())
@@ -418,21 +417,10 @@ pub fn evaluate(
     power_entry: Option<&PowerEntryReport>,
     source: &Source,
 ) -> Result<Option<EmcReport>, Problems> {
-    let suspicious = Suspicious::of(&project.warnings);
-    evaluate_with(project, rules, power_entry, &suspicious, source)
-}
-
-fn evaluate_with(
-    project: &Project,
-    rules: &RuleBook,
-    power_entry: Option<&PowerEntryReport>,
-    suspicious: &Suspicious,
-    source: &Source,
-) -> Result<Option<EmcReport>, Problems> {
     let Some(spec) = &project.emc else {
         return Ok(None);
     };
-    let inputs = gather(project, rules, power_entry, spec, suspicious);
+    let inputs = gather(project, rules, power_entry, spec);
     compute(&inputs, &rules.emc).map(Some).map_err(|problems| {
         Problems(
             problems
@@ -457,7 +445,6 @@ fn gather(
     rules: &RuleBook,
     power_entry: Option<&PowerEntryReport>,
     spec: &EmcSpec,
-    suspicious: &Suspicious,
 ) -> EmcInputs {
     let mut assumptions = Vec::new();
     let mains_defaults = &rules.power_entry.mains;
@@ -602,7 +589,7 @@ fn gather(
                 .min_v
                 .unwrap_or(project.mains.nominal_v * (1.0 - mains_defaults.tolerance.value)),
         },
-        suspicious: suspicious.clone(),
+        suspicious: Suspicious::of(&project.warnings),
     }
 }
 

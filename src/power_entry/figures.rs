@@ -105,7 +105,7 @@ struct Basis<'a> {
 pub(super) fn evaluate(
     project: &Project,
     rules: &RuleBook,
-    suspicious: &crate::derivation::Suspicious,
+    _barriers: &[BarrierResult],
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
     let Some(spec) = &project.input else {
@@ -237,6 +237,7 @@ pub(super) fn evaluate(
         }
     }
     // A figure that rests on an implausible input is never `pass`.
+    let suspicious = crate::derivation::Suspicious::of(&project.warnings);
     let mut verdicts = std::collections::BTreeMap::new();
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         suspicious.settle_derivation(f);

@@ -443,11 +443,10 @@ pub fn read(
 pub fn evaluate(
     project: &Project,
     rules: &RuleBook,
-    _barriers: &[BarrierResult],
+    barriers: &[BarrierResult],
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
-    let suspicious = crate::derivation::Suspicious::of(&project.warnings);
-    figures::evaluate(project, rules, &suspicious, source)
+    figures::evaluate(project, rules, barriers, source)
 }
 
 /// The power-entry area: `[input]` and `[converter]`.
@@ -468,7 +467,7 @@ impl Area for PowerEntry {
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
         run.sections.power_entry =
-            figures::evaluate(run.project, run.rules, &run.suspicious, run.source)?;
+            evaluate(run.project, run.rules, &run.sections.barriers, run.source)?;
         Ok(())
     }
 
