@@ -44,6 +44,17 @@ pub struct LoadedRules {
     pub emc: Option<crate::emc::EmcRules>,
 }
 
+impl LoadedRules {
+    /// Every area's tables, or `None` when any area's failed (its problems are recorded).
+    pub fn complete(self) -> Option<crate::rules::Tables> {
+        Some(crate::rules::Tables {
+            insulation: self.insulation?,
+            power_entry: self.power_entry?,
+            emc: self.emc?,
+        })
+    }
+}
+
 /// What the areas contribute to the report: each area writes its own section.
 #[derive(Debug, Clone, Default)]
 pub struct Sections {

@@ -8,6 +8,7 @@ use std::path::{Path, PathBuf};
 use crate::ExitStatus;
 use crate::checks::Severity;
 use crate::diag::{Diagnostic, Problems, Source, suggest};
+use crate::input_limits::NumberRule;
 use crate::project::{
     Barrier, BetweenRows, BoardCoating, BoardConductor, BoardSpacing, Field, Grade, Material,
     MaterialGroup, OvervoltageCategory,
@@ -15,7 +16,6 @@ use crate::project::{
 use crate::report::{Report, Templates, check_source, render_html, render_json, render_markdown};
 use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Conditions, evaluate};
-use crate::toml_read::NumberRule;
 
 /// Example projects that `gapwarden new --example NAME` writes.
 pub const EXAMPLES: &[(&str, &str)] = &[
@@ -583,12 +583,8 @@ pub fn explain_items(report: &Report) -> Vec<String> {
     known
 }
 
-pub(crate) fn severity_word(s: Severity) -> &'static str {
-    match s {
-        Severity::Blocking => "blocking",
-        Severity::Warning => "warning",
-        Severity::Note => "note",
-    }
+fn severity_word(s: Severity) -> &'static str {
+    s.as_str()
 }
 
 /// A list of the loaded tables, or the full text of one.

@@ -15,10 +15,10 @@ pub mod insulation;
 pub mod memory_guard;
 pub mod power_entry;
 pub mod project;
+pub mod raw;
 pub mod report;
 pub mod rules;
 pub mod text;
-pub mod toml_read;
 
 pub use exit_status::ExitStatus;
 // The insulation area's modules keep the paths they always had.

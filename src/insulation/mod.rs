@@ -68,7 +68,7 @@ impl Area for Insulation {
     }
 
     fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.insulation = InsulationRules::load(tables);
+        into.insulation = crate::rules::TableSet::load(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
@@ -164,7 +164,7 @@ impl Area for Insulation {
                 out.push_str(&format!(
                     "finding {} ({}): {}\n",
                     f.id,
-                    crate::commands::severity_word(f.severity),
+                    f.severity.as_str(),
                     f.message
                 ));
             }

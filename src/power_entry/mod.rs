@@ -14,19 +14,19 @@ use serde::Serialize;
 use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
 use crate::diag::{Problems, Source};
 use crate::project::Project;
+use crate::raw::{Located, Reader, TableAt};
 use crate::report::Report;
 use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
-use crate::toml_read::{Located, Reader, TableRef};
 
 pub use crate::derivation::{Derivation as Derived, Input, Verdict};
+pub use read::{RawConverter, RawFuse, RawInput, RawLimiter};
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
 /// How the equipment connects to the mains (`input.connection`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Connection {
     /// Pluggable equipment type A (a household plug).
     Plug,
@@ -36,49 +36,20 @@ pub enum Connection {
     Permanent,
 }
 
-impl Connection {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Connection::Plug => "plug",
-            Connection::IndustrialPlug => "industrial-plug",
-            Connection::Permanent => "permanent",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum LimiterKind {
     Ntc,
     Resistor,
     None,
 }
 
-impl LimiterKind {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            LimiterKind::Ntc => "ntc",
-            LimiterKind::Resistor => "resistor",
-            LimiterKind::None => "none",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum FuseSpeed {
     Fast,
     TimeLag,
 }
 
-impl FuseSpeed {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            FuseSpeed::Fast => "fast",
-            FuseSpeed::TimeLag => "time-lag",
-        }
-    }
-}
+crate::domain_words!(Connection, LimiterKind, FuseSpeed);
 
 /// The checked `[input.limiter]` table. For a resistor, `hot_ohm` is `cold_ohm` unless
 /// given; for `none`, both are absent.
@@ -433,10 +404,11 @@ pub struct PowerEntryReport {
 /// tables are evaluated, so nothing is added to `not_evaluated`.
 pub fn read(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &crate::project::RawProject,
     _not_evaluated: &mut Vec<String>,
 ) -> (Option<InputSpec>, Option<ConverterSpec>) {
-    read::read_tables(r, root)
+    read::read_tables(r, root, raw_root)
 }
 
 /// The power-entry figures; `None` when the project has no `[input]`.
@@ -462,7 +434,7 @@ impl Area for PowerEntry {
     }
 
     fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.power_entry = PowerEntryRules::load(tables);
+        into.power_entry = crate::rules::TableSet::load(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
