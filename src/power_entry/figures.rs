@@ -34,7 +34,7 @@ struct Figure {
     unit: &'static str,
     formula: String,
     verdict: Option<Verdict>,
-    rests_on: Vec<String>,
+    rests_on: Vec<std::borrow::Cow<'static, str>>,
 }
 
 impl Figure {
@@ -57,8 +57,8 @@ impl Figure {
         self
     }
 
-    fn rests_on(mut self, keys: &[&str]) -> Self {
-        self.rests_on = keys.iter().map(|k| k.to_string()).collect();
+    fn rests_on(mut self, keys: &[&'static str]) -> Self {
+        self.rests_on = keys.iter().map(|k| (*k).into()).collect();
         self
     }
 
@@ -77,9 +77,9 @@ impl Figure {
         }
         Derived {
             id: self.id,
-            title: self.title,
+            title: self.title.into(),
             value: sig(self.value),
-            unit: self.unit.to_string(),
+            unit: self.unit.into(),
             formula: self.formula,
             inputs,
             judged_against,
@@ -238,16 +238,10 @@ pub(super) fn evaluate(
         }
     }
     // A figure that rests on an implausible input is never `pass`.
-    let suspicious: Vec<&str> = project
-        .warnings
-        .iter()
-        .filter_map(|w| w.key.as_deref())
-        .collect();
+    let suspicious = crate::derivation::Suspicious::of(&project.warnings);
     let mut verdicts = std::collections::BTreeMap::new();
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
-        if f.verdict == Some(Verdict::Pass) && rests_on_suspicious(&f.rests_on, &suspicious) {
-            f.verdict = Some(Verdict::CheckInput);
-        }
+        suspicious.settle_derivation(f);
         if let Some(v) = f.verdict {
             verdicts.insert(f.id.trim_start_matches("power_entry.").to_string(), v);
         }
@@ -293,20 +287,6 @@ pub(super) fn evaluate(
         assumptions: b.assumptions,
         sections,
     }))
-}
-
-/// Whether a warning key falls under one of the prefixes a figure rests on: `input` covers
-/// `input.fuse.rated_a`, `part` covers `part[2].capacitance_nf`.
-pub(crate) fn rests_on_suspicious(prefixes: &[String], suspicious: &[&str]) -> bool {
-    suspicious.iter().any(|key| {
-        prefixes.iter().any(|p| {
-            key.starts_with(p.as_str())
-                && (p.ends_with('_')
-                    || p.ends_with('.')
-                    || key.len() == p.len()
-                    || matches!(key.as_bytes().get(p.len()), Some(b'.') | Some(b'[')))
-        })
-    })
 }
 
 fn max_of(values: impl Iterator<Item = Option<f64>>) -> Option<f64> {
@@ -1942,7 +1922,7 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
 }
 
 fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
-    let table = &b.rules.test_voltages;
+    let table = &b.rules.insulation.test_voltages;
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();

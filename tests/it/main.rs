@@ -11,6 +11,7 @@ mod check_values;
 mod cli;
 mod commands;
 mod emc;
+mod explain_items;
 mod files;
 mod fuzz;
 mod invariants;
