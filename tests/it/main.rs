@@ -6,6 +6,7 @@ mod common;
 mod bad_inputs;
 mod batch;
 mod check_fields;
+mod check_fixtures;
 mod check_predicates;
 mod check_values;
 mod cli;
