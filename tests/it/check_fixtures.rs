@@ -81,9 +81,9 @@ const CANNOT_BE_RAISED: &[(&str, &str)] = &[(
 
 /// A house x-discharge table with a residual-voltage limit (none is shipped). The limits
 /// are those of IEC 60950-1:2005 clause 2.1.1.7 (0.1 uF; 1 s pluggable type A, 10 s type B;
-/// confirmed through a quotation, REFERENCES "Power entry"); the residual time is the 2 s
+/// confirmed through a quotation, rules/SOURCES.md "Power entry"); the residual time is the 2 s
 /// of IEC 62368-1 ed. 3 (from memory). The 60 V limit is an invented house policy (it is
-/// the ES1 d.c. boundary of IEC 62368-1, one source, REFERENCES "IEC 62368-1").
+/// the ES1 d.c. boundary of IEC 62368-1, one source, rules/SOURCES.md "Power entry").
 const HOUSE_X_RESIDUAL: &str = r#"
 id = "power-entry.x-discharge"
 overrides = true
@@ -378,7 +378,7 @@ const CASES: &[Case] = &[
         base: CLASS2,
         common: &[],
         // Y2 may bridge basic or supplementary insulation only, Y1 double or reinforced
-        // (IEC 60384-14, mostly confirmed; REFERENCES "Safety capacitors").
+        // (IEC 60384-14, mostly confirmed; rules/SOURCES.md "Safety capacitors").
         raise: &[Set("part[CY1].subclass", "\"Y2\"")],
         clear: &[],
         also: &[],
@@ -387,7 +387,7 @@ const CASES: &[Case] = &[
         id: "part.y_series_accepted",
         base: CLASS2,
         // Two Y2 in series across reinforced insulation: community practice under IEC
-        // 60950-1, not universal (REFERENCES "Safety capacitors"); two Y1 need no note.
+        // 60950-1, not universal (rules/SOURCES.md "Safety capacitors"); two Y1 need no note.
         common: &[Set("part[CY1].count_in_series", "2")],
         raise: &[Set("part[CY1].subclass", "\"Y2\"")],
         clear: &[Set("part[CY1].subclass", "\"Y1\"")],
@@ -469,7 +469,7 @@ const CASES: &[Case] = &[
         base: CLASS2,
         common: &[],
         // 0.4 mm through reinforced solid insulation (IEC 60950-1, confirmed in a CB
-        // report; REFERENCES "Power entry").
+        // report; rules/SOURCES.md "Power entry").
         raise: &[Set("part[U3].distance_through_insulation_mm", "0.3")],
         clear: &[Set("part[U3].distance_through_insulation_mm", "0.4")],
         also: &[],
@@ -843,7 +843,7 @@ const CASES: &[Case] = &[
         id: "emc.attenuation_beyond_two_stages",
         base: CLASS2,
         common: &[],
-        // Class B average limit at 195 kHz 53.82 dBuV (CISPR 32, worked in REFERENCES; a
+        // Class B average limit at 195 kHz 53.82 dBuV (CISPR 32, worked in rules/SOURCES.md; a
         // quasi-peak reading is held to it, common practice); required = level - 53.82 + 6:
         // 130 -> 82.18 dB, 127 -> 79.18 dB against about 80 dB for two LC stages (common
         // practice, no published source).

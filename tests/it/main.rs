@@ -18,6 +18,7 @@ mod isolation_parts;
 mod output_snapshots;
 mod power_entry;
 mod properties;
+mod sources;
 mod size_limits;
 mod spacing_rules;
 mod verdicts;
