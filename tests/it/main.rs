@@ -16,6 +16,7 @@ mod fuzz;
 mod invariants;
 mod isolation_parts;
 mod output_snapshots;
+mod positions;
 mod power_entry;
 mod properties;
 mod sources;
