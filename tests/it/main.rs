@@ -19,6 +19,7 @@ mod output_snapshots;
 mod positions;
 mod power_entry;
 mod properties;
+mod report_layout;
 mod sources;
 mod size_limits;
 mod spacing_rules;

@@ -1,4 +1,5 @@
-//! Snapshots (insta) of what the binary prints: the HTML and JSON reports, `compare`,
+//! Snapshots (insta) of what the binary prints: the HTML (class1 example; the class2 page is
+//! pinned in report_layout.rs) and JSON reports, `compare`,
 //! `explain`, and the error output for typical bad project files and a bad house table.
 //! The snapshots pin the shape and wording of the output; the figures in them are pinned
 //! against published values by the check-value tests, never by these.
@@ -120,16 +121,19 @@ fn round_numbers(v: &mut Value) {
 // ---------------------------------------------------------------------------------------
 
 #[test]
-fn html_report_of_class2_adapter_matches_snapshot() {
-    let o = run(&["check", CLASS2, "--format", "html"]);
-    assert_exit(&o, 0);
+fn html_report_of_class1_appliance_matches_snapshot() {
+    // The class2 example's page is pinned in report_layout.rs; this one is the Class I
+    // example (earthed chassis, permanent connection, no EMC table), with hashes hidden.
+    // Exit 1: its pri-control barrier has no declared creepage yet (incomplete).
+    let o = run(&["check", CLASS1, "--format", "html"]);
+    assert_exit(&o, 1);
     let html = stdout(&o);
     assert!(
-        html.starts_with("<!DOCTYPE html>") || html.starts_with("<!doctype html>"),
+        html.to_ascii_lowercase().starts_with("<!doctype html>"),
         "{}",
         describe(&o)
     );
-    insta::assert_snapshot!("class2_adapter_report_html", normalise(&html, None));
+    insta::assert_snapshot!("class1_appliance_report_html", normalise(&html, None));
 }
 
 #[test]
