@@ -10,6 +10,7 @@ mod check_fixtures;
 mod check_predicates;
 mod check_values;
 mod cli;
+mod commands;
 mod emc;
 mod files;
 mod fuzz;
