@@ -1565,7 +1565,7 @@ fn regression_touch_current_with_pe_open_counts_only_the_line_side_y_capacitor()
 #[test]
 fn regression_x_discharge_counts_the_damping_capacitor_across_the_line() {
     // The shipped Class II example: 0.1 uF X plus the 0.47 uF of the R-C damping network,
-    // both across the line (circuit theory; REFERENCES.md power entry): 0.57 uF, above the
+    // both across the line (circuit theory; rules/SOURCES.md power entry): 0.57 uF, above the
     // 0.1 uF of IEC 60950-1 clause 2.1.1.7 (confirmed through a quotation), so a discharge
     // means is required. tau = 1 MOhm x 0.57 uF = 0.57 s (<= 1 s for pluggable type A);
     // 2 s after disconnection at the crest of 264 V: 373.35 V x e^(-2 / 0.57) = 11.18 V.
