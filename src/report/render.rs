@@ -538,6 +538,11 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         w: &mut W,
         fragment: &str,
     ) -> std::io::Result<()> {
+        // Printable ASCII needs no look at each character (serde_json has escaped the
+        // controls and quotes already).
+        if fragment.bytes().all(|b| (0x20..0x7f).contains(&b)) {
+            return w.write_all(fragment.as_bytes());
+        }
         let mut start = 0;
         for (i, c) in fragment.char_indices() {
             if crate::text::is_hazardous(c) {
