@@ -1060,8 +1060,14 @@ fn point_figures(
         vec![Step::new(
             None,
             format!(
-                "Steady state after {} half-cycles ({}).",
+                "Steady state after {} half-cycles of {} steps{} ({}).",
                 s.half_cycles,
+                s.steps_per_half_cycle,
+                if s.steps_per_half_cycle > rectifier::STEPS_PER_HALF_CYCLE {
+                    ", starting from the steady state at the coarser step"
+                } else {
+                    ""
+                },
                 if !s.sustained {
                     "not sustained: the load collapses the bulk voltage"
                 } else if s.converged {

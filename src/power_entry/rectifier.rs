@@ -71,6 +71,8 @@ pub struct SteadyState {
     pub sustained: bool,
     /// The half-cycle map reached its fixed point within the tolerance.
     pub converged: bool,
+    /// Half-cycles simulated at the final step size (from [`steady_state`], they start from
+    /// the steady state found at the coarser step).
     pub half_cycles: usize,
     pub steps_per_half_cycle: usize,
     pub source_peak_v: f64,
