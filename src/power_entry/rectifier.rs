@@ -388,9 +388,42 @@ impl HalfCycle {
         let mut dv_prev = 1.0;
         let mut dv = 1.0;
         let mut conducting = false;
-        for (n, &source) in self.source.iter().enumerate() {
+        let steps = self.source.len();
+        let mut n = 0;
+        while n < steps {
+            let source = self.source[n];
             let u = source - self.drop;
             let v_off = self.discharged(v, h)?;
+            if u <= v_off && wave.is_none() {
+                // A blocked stretch, most of a half-cycle: the same arithmetic as the general
+                // step below without its bookkeeping. Nothing flows, so the sums and the
+                // peak stay; the load alone discharges, so v only falls and of the tally
+                // only the valley can move, to the stretch's last voltage.
+                let mut v_off = v_off;
+                loop {
+                    if !(v_off.is_finite() && v_off > self.floor) {
+                        return Err(Collapse);
+                    }
+                    let dv_next = v / v_off * dv;
+                    v_prev = v;
+                    v = v_off;
+                    dv_prev = dv;
+                    dv = dv_next;
+                    n += 1;
+                    if n == steps {
+                        break;
+                    }
+                    v_off = self.discharged(v, h)?;
+                    if self.source[n] - self.drop > v_off {
+                        break;
+                    }
+                }
+                conducting = false;
+                if let Some(t) = tally.as_deref_mut() {
+                    t.v_min = t.v_min.min(v);
+                }
+                continue;
+            }
             let (v_next, i, dv_next) = if u > v_off {
                 // Implicit step: a v_{n+1} = A + k ((u - v)/R - P/v), a quadratic in v.
                 let (a, b, beta) = if conducting {
@@ -442,6 +475,7 @@ impl HalfCycle {
             v = v_next;
             dv_prev = dv;
             dv = dv_next;
+            n += 1;
         }
         Ok((v, dv))
     }
