@@ -3,13 +3,14 @@
 # whole `gapwarden check` of an example as Markdown and as JSON, and of the parse-only
 # baseline process (examples/parse_baseline.rs). The figures quoted in the README's
 # "Performance" section come from this script. Usage:
-#   scripts/bench-instructions.sh [PROJECT.toml]
+#   [GAPWARDEN_BIN=other/gapwarden] scripts/bench-instructions.sh [PROJECT.toml]
 # Needs valgrind. Runs from a scratch folder so that the output files land there.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 project=$(realpath "${1:-examples/class2-adapter.toml}")
 cargo build --release --locked --quiet --bin gapwarden --example parse_baseline
-tool=$PWD/target/release/gapwarden
+# GAPWARDEN_BIN=path measures another build of the tool (for a before/after comparison).
+tool=$(realpath "${GAPWARDEN_BIN:-target/release/gapwarden}")
 base=$PWD/target/release/examples/parse_baseline
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT

@@ -2222,3 +2222,53 @@ fn the_closed_form_switch_on_meets_the_textbook_step_response() {
     assert!(close(x.peak_at_s, tp, 1e-7), "{} vs {tp}", x.peak_at_s);
     assert!(close(x.i2t_a2s, i2t, 1e-7), "{} vs {i2t}", x.i2t_a2s);
 }
+
+#[test]
+fn the_closed_form_switch_on_never_panics_and_steps_where_it_does_not_apply() {
+    use gapwarden::power_entry::inrush::{LrcCircuit, switch_on};
+    let base = LrcCircuit {
+        peak_v: 325.0,
+        frequency_hz: 50.0,
+        inductance_h: 470e-6,
+        resistance_ohm: 1.0,
+        capacitance_f: 47e-6,
+        start_v: 0.0,
+    };
+    // Unusable or extreme figures: no panic; a result has finite, non-negative figures and
+    // a capacitor below twice the crest (a lossless L-C charged from rest by a source that
+    // never exceeds the crest overshoots to at most twice it: circuit theory).
+    for value in [f64::NAN, 0.0, -1.0, f64::INFINITY, 1e-12, 1e-6, 1e3, 1e6] {
+        for field in 0..6 {
+            let mut c = base;
+            match field {
+                0 => c.peak_v = value,
+                1 => c.frequency_hz = value,
+                2 => c.inductance_h = value,
+                3 => c.resistance_ohm = value,
+                4 => c.capacitance_f = value,
+                _ => c.start_v = value,
+            }
+            if let Some(x) = switch_on(&c) {
+                assert!(
+                    [x.peak_a, x.i2t_a2s, x.bulk_peak_v, x.peak_at_s]
+                        .iter()
+                        .all(|v| v.is_finite() && *v >= 0.0),
+                    "{c:?}: {x:?}"
+                );
+                assert!(x.bulk_peak_v <= 2.0 * c.peak_v.max(c.start_v) * (1.0 + 1e-9), "{c:?}: {x:?}");
+            }
+        }
+    }
+    // No resistance and the circuit's own resonance at the mains frequency (L = 1 / (w² C)):
+    // the sinusoidal steady state is unbounded, so the closed form does not apply and the
+    // stepping simulation answers; the lossless step response bounds it (twice the crest).
+    let w = 2.0 * PI * 50.0;
+    let resonant = LrcCircuit {
+        inductance_h: 1.0 / (w * w * 47e-6),
+        resistance_ohm: 0.0,
+        ..base
+    };
+    let x = switch_on(&resonant).expect("usable");
+    assert!(!x.closed_form);
+    assert!(x.bulk_peak_v > 325.0 && x.bulk_peak_v <= 650.0 * (1.0 + 1e-6), "{x:?}");
+}
