@@ -44,7 +44,12 @@ fn marker(c: char) -> String {
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
 pub fn visible(text: &str) -> Cow<'_, str> {
-    if !text.chars().any(is_hazardous) {
+    // Printable ASCII with newlines and tabs, most text, is decided a byte at a time.
+    if text
+        .bytes()
+        .all(|b| (0x20..0x7f).contains(&b) || b == b'\n' || b == b'\t')
+        || !text.chars().any(is_hazardous)
+    {
         return Cow::Borrowed(text);
     }
     let mut out = String::with_capacity(text.len() + 16);
