@@ -7,6 +7,7 @@ mod figures;
 pub mod inrush;
 mod read;
 pub mod rectifier;
+pub mod series_rlc;
 pub mod tables;
 
 use serde::Serialize;
