@@ -2,6 +2,7 @@
 //! The library owns the whole engine; the binary only parses the command line.
 
 pub mod batch;
+pub mod board;
 pub mod checks;
 pub mod commands;
 pub mod compare;
