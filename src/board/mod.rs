@@ -448,3 +448,219 @@ impl Conductor {
         }
     }
 }
+
+/// The board section of the report: what was read and what the measurement cannot show.
+#[derive(Debug, Clone, Serialize)]
+pub struct BoardReport {
+    pub files: Vec<BoardFile>,
+    pub thickness_mm: f64,
+    /// Nets the files carry that no circuit names (perhaps an unassigned part of the design).
+    pub unassigned_nets: Vec<String>,
+    /// Copper objects without a net attribute, taken as floating conductors.
+    pub unknown_net_conductors: usize,
+    pub conductors: usize,
+    pub cutouts: usize,
+    /// The groove width X: cut-outs at least this wide are walked round by creepage.
+    pub groove_width_mm: f64,
+    /// Arcs and circles are chords within this; every gap is rounded down by it.
+    pub chord_tolerance_mm: f64,
+    /// Spacing of the points on rims where a path passes between faces.
+    pub rim_spacing_mm: f64,
+    pub barriers_measured: usize,
+    /// What the fabrication files cannot show.
+    pub cannot_show: Vec<&'static str>,
+}
+
+/// Reads `[board]`, checks the circuits' nets against the files, and measures every
+/// barrier between two circuits with nets: the measured figures, the witness and the
+/// verdict on the smaller of declared and measured go into each barrier's result.
+pub fn apply(
+    project: &crate::project::Project,
+    source: &crate::diag::Source,
+    rules: &crate::rules::RuleBook,
+    barriers: &mut [crate::spacing::BarrierResult],
+) -> Result<Option<BoardReport>, Problems> {
+    use crate::spacing::{Step, verdict};
+    use crate::text::show;
+    let Some(spec) = &project.board else {
+        return Ok(None);
+    };
+    let folder = match Path::new(&source.name).parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let names: Vec<String> = spec.files.iter().map(|f| f.value.clone()).collect();
+    let board = load(&folder, &names, spec.thickness_mm)?;
+
+    // Every net a circuit names must be in the files, and in one circuit only.
+    let mut problems = Vec::new();
+    let known: Vec<&str> = board.nets.iter().map(String::as_str).collect();
+    let mut owner: std::collections::BTreeMap<&str, &str> = std::collections::BTreeMap::new();
+    for c in &project.circuits {
+        for net in &c.nets {
+            let key = format!("circuit \"{}\".nets", c.id);
+            if !board.nets.contains(&net.value) {
+                let mut near: Vec<(f64, &str)> = known
+                    .iter()
+                    .map(|k| (strsim::jaro_winkler(&net.value.to_lowercase(), &k.to_lowercase()), *k))
+                    .filter(|(s, _)| *s >= 0.7)
+                    .collect();
+                near.sort_by(|a, b| b.0.total_cmp(&a.0));
+                let mut d = source
+                    .diag(
+                        &net.span,
+                        format!(
+                            "net \"{}\" is not in the board files ({} nets there)",
+                            net.value,
+                            known.len()
+                        ),
+                    )
+                    .with_key(key);
+                if !near.is_empty() {
+                    let list: Vec<String> = near.iter().take(3).map(|(_, n)| format!("\"{n}\"")).collect();
+                    d = d.with_help(format!("near matches in the files: {}", list.join(", ")));
+                }
+                problems.push(d);
+            } else if let Some(other) = owner.insert(net.value.as_str(), c.id.as_str())
+                && other != c.id
+            {
+                problems.push(
+                    source
+                        .diag(
+                            &net.span,
+                            format!(
+                                "net \"{}\" is named by circuit \"{other}\" too; a net belongs to one circuit",
+                                net.value
+                            ),
+                        )
+                        .with_key(key),
+                );
+            }
+        }
+    }
+    if !problems.is_empty() {
+        return Err(Problems(problems));
+    }
+
+    let index = Index::new(&board);
+    let pd = project.environment.pollution_degree.clamp(1, 3);
+    let groove_width_mm = rules.grooves.min_width_mm[(pd - 1) as usize];
+    let files_text: Vec<String> = board
+        .files
+        .iter()
+        .map(|f| format!("{} ({}, SHA-256 {})", f.file, f.function, f.sha256))
+        .collect();
+    let nets_of = |id: &str| -> Vec<String> {
+        project
+            .circuits
+            .iter()
+            .find(|c| c.id == id)
+            .map(|c| c.nets.iter().map(|n| n.value.clone()).collect())
+            .unwrap_or_default()
+    };
+    let mut measured = 0;
+    for b in barriers.iter_mut() {
+        let (a, z) = (nets_of(&b.between[0]), nets_of(&b.between[1]));
+        if a.is_empty() || z.is_empty() {
+            continue;
+        }
+        let m = index.measure(&a, &z, groove_width_mm);
+        measured += 1;
+        let point = |p: &PathPoint| format!("({}, {}) mm on {}", show(p.x_mm), show(p.y_mm), p.layer);
+        let describe = |what: &str, path: &Option<measure::MeasuredPath>| -> String {
+            match path {
+                None => format!(
+                    "Measured {what}: none, the copper of \"{}\" or \"{}\" is on no outer layer.",
+                    b.between[0], b.between[1]
+                ),
+                Some(p) => format!(
+                    "Measured {what} {} mm on the board files {}: from {} to {}{}{}; arcs and circles as chords within {} mm, each gap rounded down by it.",
+                    show(p.distance_mm),
+                    files_text.join(", "),
+                    p.path.first().map(point).unwrap_or_default(),
+                    p.path.last().map(point).unwrap_or_default(),
+                    if p.intervening_conductors > 0 {
+                        format!(", crossing {} conductor(s) of neither circuit at no cost", p.intervening_conductors)
+                    } else {
+                        String::new()
+                    },
+                    if p.between_faces {
+                        format!(", passing between the faces with the board {} mm thick", show(board.thickness_mm))
+                    } else {
+                        String::new()
+                    },
+                    show(g::CHORD_TOLERANCE_MM)
+                ),
+            }
+        };
+        b.derivation.clearance.push(Step::new(None, describe("clearance", &m.clearance)));
+        let mut creep = describe("creepage", &m.creepage);
+        creep.push_str(&format!(
+            " Cut-outs at least X = {} mm wide (pollution degree {pd}, {}) are walked round ({} here), narrower ones crossed straight ({}).",
+            show(groove_width_mm),
+            rules.grooves.source,
+            m.cutouts_walked_round,
+            m.cutouts_bridged
+        ));
+        b.derivation.creepage.push(Step::new(Some(crate::rules::GrooveTable::ID), creep));
+        for inner in &m.inner_layers {
+            b.derivation.clearance.push(Step::new(
+                None,
+                format!(
+                    "Copper of both circuits on {}: {} mm apart in the layer's plane, from {} to {}; this is distance through insulation, not clearance (the stack-up is not in the files).",
+                    inner.layer,
+                    show(inner.distance_mm),
+                    point(&inner.from),
+                    point(&inner.to)
+                ),
+            ));
+        }
+        b.measured_clearance_mm = m.clearance.as_ref().map(|p| p.distance_mm);
+        b.measured_creepage_mm = m.creepage.as_ref().map(|p| p.distance_mm);
+        let smaller = |d: Option<f64>, m: Option<f64>| match (d, m) {
+            (Some(d), Some(m)) => Some(d.min(m)),
+            (d, m) => d.or(m),
+        };
+        b.judged_clearance_mm = smaller(b.clearance_mm, b.measured_clearance_mm);
+        b.judged_creepage_mm = smaller(b.creepage_mm, b.measured_creepage_mm);
+        let differs = |d: Option<f64>, m: Option<f64>| {
+            matches!((d, m), (Some(d), Some(m)) if (d - m).abs() > (0.05 * d.min(m)).max(0.1))
+        };
+        if differs(b.clearance_mm, b.measured_clearance_mm) {
+            b.measured_differs.push("clearance");
+        }
+        if differs(b.creepage_mm, b.measured_creepage_mm) {
+            b.measured_differs.push("creepage");
+        }
+        b.verdict = verdict(
+            b.judged_clearance_mm,
+            b.required_clearance_mm,
+            b.judged_creepage_mm,
+            b.required_creepage_mm,
+        );
+        b.board = Some(m);
+    }
+    let named: BTreeSet<&str> = project
+        .circuits
+        .iter()
+        .flat_map(|c| c.nets.iter().map(|n| n.value.as_str()))
+        .collect();
+    Ok(Some(BoardReport {
+        unassigned_nets: board
+            .nets
+            .iter()
+            .filter(|n| !named.contains(n.as_str()))
+            .cloned()
+            .collect(),
+        unknown_net_conductors: board.unknown_net_objects,
+        conductors: board.conductors.len(),
+        cutouts: board.cutouts.len(),
+        files: board.files.clone(),
+        thickness_mm: board.thickness_mm,
+        groove_width_mm,
+        chord_tolerance_mm: g::CHORD_TOLERANCE_MM,
+        rim_spacing_mm: measure::RIM_SPACING_MM,
+        barriers_measured: measured,
+        cannot_show: CANNOT_SHOW.to_vec(),
+    }))
+}

@@ -21,7 +21,9 @@ const TOP_KEYS: &[&str] = &[
     "input",
     "converter",
     "emc",
+    "board",
 ];
+const BOARD_KEYS: &[&str] = &["files", "thickness_mm"];
 const DESIGN_KEYS: &[&str] = &[
     "name",
     "revision",
@@ -31,7 +33,7 @@ const DESIGN_KEYS: &[&str] = &[
 ];
 const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
 const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
-const CIRCUIT_KEYS: &[&str] = &["id", "kind", "accessible", "earthed", "description"];
+const CIRCUIT_KEYS: &[&str] = &["id", "kind", "accessible", "earthed", "description", "nets"];
 const BARRIER_KEYS: &[&str] = &[
     "id",
     "between",
@@ -104,6 +106,7 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
     let mut not_evaluated = Vec::new();
     let (input, converter) = crate::power_entry::read(&mut r, &root, &mut not_evaluated);
     let emc = crate::emc::read(&mut r, &root, &mut not_evaluated);
+    let board = read_board(&mut r, &root);
 
     r.finish()?;
     // Every field below was checked above; a missing one has already been reported.
@@ -125,8 +128,32 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
         input,
         converter,
         emc,
+        board,
         not_evaluated,
         key_spans,
+    })
+}
+
+/// `[board]`: the fabrication files to measure from, and the board's thickness.
+fn read_board(r: &mut Reader, root: &TableRef) -> Option<BoardSpec> {
+    let t = r.table(root, "board", BOARD_KEYS)?;
+    if !r.has(&t, "files") {
+        r.missing(&t, "files", "the Gerber X2 files, e.g. [\"fab/top.gbr\", \"fab/outline.gbr\"]");
+        return None;
+    }
+    let files = r.string_list(&t, "files")?;
+    if files.value.is_empty() {
+        r.error(&files.span, "board.files", "lists no file; name the Gerber X2 files of the board");
+        return None;
+    }
+    let thickness = r.number(&t, "thickness_mm", &THICKNESS_MM);
+    if r.has(&t, "thickness_mm") && thickness.is_none() {
+        return None;
+    }
+    Some(BoardSpec {
+        files: files.value,
+        thickness_mm: thickness.map_or(crate::board::DEFAULT_THICKNESS_MM, |l| l.value),
+        span: t.span.clone(),
     })
 }
 
@@ -293,6 +320,7 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
         let accessible = r.boolean(t, "accessible");
         let earthed = r.boolean(t, "earthed");
         let description = r.string(t, "description").map(|l| l.value);
+        let nets = r.string_list(t, "nets").map(|l| l.value).unwrap_or_default();
         if let Some(id) = &id
             && !seen.insert(id.value.clone())
         {
@@ -321,6 +349,7 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
             accessible: accessible.is_some_and(|l| l.value),
             earthed: earthed.is_some_and(|l| l.value),
             description,
+            nets,
             span: t.span.clone(),
         });
     }

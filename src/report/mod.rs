@@ -176,6 +176,8 @@ pub struct Report {
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
     pub emc: Option<crate::emc::EmcReport>,
+    /// Distances measured from the board's fabrication files; null without `[board]`.
+    pub board: Option<crate::board::BoardReport>,
 }
 
 impl Report {
@@ -459,6 +461,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         problems.sort_by_key(|d| (d.line, d.column));
         return Err(Problems(problems));
     }
+    let board = crate::board::apply(&project, source, rules, &mut barriers)?;
     mark_check_input(&mut barriers, &project.warnings);
     let bridges = bridges(rules, &project, &barriers);
     let isolation = analyse(&project);
@@ -520,6 +523,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         cautions: CAUTIONS.to_vec(),
         power_entry,
         emc,
+        board,
     })
 }
 
