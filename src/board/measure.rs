@@ -626,7 +626,8 @@ impl<'b> Index<'b> {
             between_faces |= h.from_layer != h.to_layer;
         }
         Some(MeasuredPath {
-            distance_mm: dist[t],
+            // To the micrometre: far below the tolerances already taken off.
+            distance_mm: crate::spacing::tidy(dist[t]),
             path,
             intervening_conductors: intervening,
             between_faces,

@@ -375,3 +375,145 @@ proptest! {
         prop_assert!((clearance(&slotted) - clearance(&plain)).abs() < 1e-9);
     }
 }
+
+// ---- end to end: the example board and the project's keys ----
+
+fn example_json() -> serde_json::Value {
+    let out = crate::common::run(&["check", "examples/class2-adapter-board.toml", "--format", "json"]);
+    assert_eq!(out.status.code(), Some(0), "{}", crate::common::stderr(&out));
+    serde_json::from_str(&crate::common::stdout(&out)).expect("JSON report")
+}
+
+fn barrier<'a>(r: &'a serde_json::Value, id: &str) -> &'a serde_json::Value {
+    r["barriers"].as_array().unwrap().iter().find(|b| b["id"] == id).expect("barrier")
+}
+
+#[test]
+fn the_example_board_measures_every_barrier() {
+    let r = example_json();
+    let pri_sec = barrier(&r, "pri-sec");
+    // Clearance: T1's pins HV- at (24.5, 27) and GND_OUT at (32.5, 26), 2 mm pads, either
+    // side of the slot (air): sqrt(8^2 + 1^2) - 2 = 6.0623 mm, less 0.004 mm.
+    let expected_clearance = (64.0f64 + 1.0).sqrt() - 2.0 - GAP_LOSS;
+    let c = pri_sec["measured_clearance_mm"].as_f64().unwrap();
+    assert!((c - expected_clearance).abs() < 1e-6, "{c}");
+    // Creepage: round the slot's ends is longer; the Y-capacitor's pads (1.8 mm, 10 mm
+    // pitch, at y = 36.5 beyond the slot's end) are 10 - 1.8 = 8.2 mm apart, less 0.004.
+    let cr = pri_sec["measured_creepage_mm"].as_f64().unwrap();
+    assert!((cr - (8.2 - GAP_LOSS)).abs() < 1e-6, "{cr}");
+    // No distance declared: the verdict rests on the measured ones.
+    assert!(pri_sec["clearance_mm"].is_null());
+    assert_eq!(pri_sec["judged_clearance_mm"].as_f64(), Some(c));
+    assert_eq!(pri_sec["verdict"], "pass");
+    let path = pri_sec["board"]["creepage"]["path"].as_array().unwrap();
+    assert!(path.len() >= 2 && path[0]["layer"] == "top");
+    // input-bulk: the neutral track's edge at y = 26.5 and C1's HV+ pad edge at 30.2 - 1 =
+    // 29.2: 2.7 mm, less 0.004; declared 2.6 mm, within 5 % (0.135 mm): no warning.
+    let ib = barrier(&r, "input-bulk");
+    assert!((ib["measured_clearance_mm"].as_f64().unwrap() - (2.7 - GAP_LOSS)).abs() < 1e-6);
+    assert_eq!(ib["judged_clearance_mm"].as_f64(), Some(2.6));
+    assert!(ib["measured_differs"].as_array().unwrap().is_empty());
+    // Every barrier measured; the unassigned net listed; the files hashed.
+    assert_eq!(r["board"]["barriers_measured"], 3);
+    assert_eq!(r["board"]["unassigned_nets"], serde_json::json!(["AUX"]));
+    assert_eq!(r["board"]["files"].as_array().unwrap().len(), 5);
+    assert_eq!(r["board"]["files"][0]["sha256"].as_str().unwrap().len(), 64);
+}
+
+#[test]
+fn the_markdown_report_shows_the_board_and_what_it_cannot_show() {
+    let out = crate::common::run(&["check", "examples/class2-adapter-board.toml"]);
+    let md = crate::common::stdout(&out);
+    assert!(md.contains("## Measured on the board"), "{md}");
+    assert!(md.contains("component bodies and leads"));
+    assert!(md.contains("AUX"));
+}
+
+/// A project in a temporary folder using the example's board files (named absolutely).
+fn temp_project(tag: &str, circuits_nets: [&str; 2], extra_file: Option<(&str, String)>) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("gapwarden-board-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let root = crate::common::root().join("examples/board");
+    let mut files: Vec<String> = ["top.gbr", "bottom.gbr", "outline.gbr", "pth.gbr", "npth.gbr"]
+        .iter()
+        .map(|f| format!("\"{}\"", root.join(f).display()))
+        .collect();
+    if let Some((name, text)) = extra_file {
+        std::fs::write(dir.join(name), text).unwrap();
+        files.push(format!("\"{name}\""));
+    }
+    let text = format!(
+        r#"[design]
+name = "board keys"
+protection_class = "II"
+[environment]
+pollution_degree = 2
+overvoltage_category = "II"
+altitude_m = 2000
+[mains]
+nominal_v = 230
+[board]
+files = [{}]
+[[circuit]]
+id = "primary"
+kind = "hazardous"
+nets = [{}]
+[[circuit]]
+id = "output"
+kind = "safe"
+accessible = true
+nets = [{}]
+[[barrier]]
+id = "pri-sec"
+between = ["primary", "output"]
+grade = "reinforced"
+working_rms_v = 250
+material_group = "IIIa"
+printed_board = true
+clearance_mm = 7.0
+creepage_mm = 8.2
+"#,
+        files.join(", "),
+        circuits_nets[0],
+        circuits_nets[1]
+    );
+    let path = dir.join("project.toml");
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+#[test]
+fn a_net_not_in_the_files_is_an_error_with_near_matches() {
+    let p = temp_project("missing-net", ["\"HV+\", \"HV-\"", "\"GND_OUTT\""], None);
+    let out = crate::common::run(&["check", p.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = crate::common::stderr(&out);
+    assert!(err.contains("net \"GND_OUTT\" is not in the board files"), "{err}");
+    assert!(err.contains("\"GND_OUT\""), "near match named: {err}");
+    assert!(err.contains("project.toml:20:"), "the line of the net: {err}");
+}
+
+#[test]
+fn a_declared_distance_far_from_the_measured_one_is_a_warning_and_the_smaller_governs() {
+    // Declared clearance 7.0 mm against the measured 6.058 mm (more than 5 % apart): the
+    // measured one governs and the difference is a warning.
+    let p = temp_project("differs", ["\"HV+\", \"HV-\", \"SW\", \"FB\"", "\"SEC_A\", \"VOUT\", \"GND_OUT\", \"OPTO_A\""], None);
+    let out = crate::common::run(&["check", p.to_str().unwrap(), "--format", "json"]);
+    let r: serde_json::Value = serde_json::from_str(&crate::common::stdout(&out)).unwrap();
+    let b = barrier(&r, "pri-sec");
+    assert_eq!(b["measured_differs"], serde_json::json!(["clearance"]));
+    let judged = b["judged_clearance_mm"].as_f64().unwrap();
+    assert!((judged - ((65.0f64).sqrt() - 2.0 - GAP_LOSS)).abs() < 1e-6);
+    let ids: Vec<&str> = r["findings"].as_array().unwrap().iter().map(|f| f["id"].as_str().unwrap()).collect();
+    assert!(ids.contains(&"barrier.measured_differs"), "{ids:?}");
+}
+
+#[test]
+fn a_board_file_of_an_unknown_function_is_refused() {
+    let legend = gbr("Legend,Top", "");
+    let p = temp_project("legend", ["\"HV+\"", "\"VOUT\""], Some(("silk.gbr", legend)));
+    let out = crate::common::run(&["check", p.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = crate::common::stderr(&out);
+    assert!(err.contains("silk.gbr:4") && err.contains("Legend,Top"), "{err}");
+}
