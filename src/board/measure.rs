@@ -73,6 +73,9 @@ pub struct BarrierMeasurement {
     /// Cut-outs narrower than X (or of unknown width) that creepage crosses straight.
     pub cutouts_bridged: usize,
     pub cutouts_walked_round: usize,
+    /// The neighbourhood drawn for the HTML report (not in the JSON).
+    #[serde(skip)]
+    pub drawing_svg: Option<String>,
 }
 
 /// The board prepared for searching: outlines per layer in grids, rim points.
@@ -319,10 +322,11 @@ impl<'b> Index<'b> {
     /// Measures one barrier between the copper of nets `a` and nets `b`.
     pub fn measure(&self, a: &[String], b: &[String], groove_width_mm: f64) -> BarrierMeasurement {
         let in_set = |set: &[String]| -> Vec<bool> {
+            let set: std::collections::HashSet<&str> = set.iter().map(String::as_str).collect();
             self.board
                 .conductors
                 .iter()
-                .map(|c| matches!(&c.net, Net::Named(n) if set.contains(n)))
+                .map(|c| matches!(&c.net, Net::Named(n) if set.contains(n.as_str())))
                 .collect()
         };
         let (is_a, is_b) = (in_set(a), in_set(b));
@@ -350,6 +354,7 @@ impl<'b> Index<'b> {
             groove_width_mm,
             cutouts_bridged: bridged,
             cutouts_walked_round: round,
+            drawing_svg: None,
         }
     }
 

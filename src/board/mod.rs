@@ -8,6 +8,7 @@
 pub mod geometry;
 pub mod gerber;
 pub mod measure;
+pub mod svg;
 
 use std::collections::BTreeSet;
 use std::path::Path;
@@ -564,7 +565,8 @@ pub fn apply(
         if a.is_empty() || z.is_empty() {
             continue;
         }
-        let m = index.measure(&a, &z, groove_width_mm);
+        let mut m = index.measure(&a, &z, groove_width_mm);
+        m.drawing_svg = svg::drawing(&board, &a, &z, &m);
         measured += 1;
         let point = |p: &PathPoint| format!("({}, {}) mm on {}", show(p.x_mm), show(p.y_mm), p.layer);
         let describe = |what: &str, path: &Option<measure::MeasuredPath>| -> String {
