@@ -466,44 +466,68 @@ impl<'b> Index<'b> {
                         continue;
                     }
                     let (ids, grid) = &self.layers[l as usize];
-                    for si in self.obj_segs(u) {
-                        let s = self.segs[si];
-                        let q_box = self.seg_box[si].grown(r + tol);
-                        grid.query(&q_box, |k| {
+                    // Small objects (pads, tracks) query the grid once round their box; large
+                    // ones (pours) once per edge, so that a pour does not look at its whole box.
+                    let all = self.obj_segs(u);
+                    let groups: Vec<std::ops::Range<usize>> = if all.len() <= 8 {
+                        vec![all]
+                    } else {
+                        all.map(|i| i..i + 1).collect()
+                    };
+                    for group in groups {
+                        let gbox = group
+                            .clone()
+                            .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]));
+                        grid.query(&gbox.grown(r + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
-                            if v == ui || dist[v] <= d || self.seg_box[sj].gap(&self.seg_box[si]) > r + tol {
+                            if v == ui || dist[v] <= d || self.seg_box[sj].gap(&gbox) > r + tol {
                                 return;
                             }
-                            let (gap, pu, pv) = g::seg_distance(&s, &self.segs[sj]);
-                            let w = (gap - tol).max(0.0);
-                            if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, pv)) {
-                                return;
+                            for si in group.clone() {
+                                if self.seg_box[sj].gap(&self.seg_box[si]) > r + tol {
+                                    continue;
+                                }
+                                let (gap, pu, pv) = g::seg_distance(&self.segs[si], &self.segs[sj]);
+                                let w = (gap - tol).max(0.0);
+                                if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, pv)) {
+                                    continue;
+                                }
+                                relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: pv, to_layer: l }, &mut dist, &mut heap);
                             }
-                            relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: pv, to_layer: l }, &mut dist, &mut heap);
                         });
                         if l <= 1 && with_rims {
-                            self.rim_grid.query(&self.seg_box[si].grown(r + tol), |k| {
+                            self.rim_grid.query(&gbox.grown(r + tol), |k| {
                                 let (p, _) = self.rim[k as usize];
                                 let v = rim0 + 2 * k as usize + l as usize;
-                                let (gap, pu) = g::point_seg_distance(p, &s);
-                                let w = (gap - one).max(0.0);
-                                if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
+                                if dist[v] <= d {
                                     return;
                                 }
-                                relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                for si in group.clone() {
+                                    let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
+                                    let w = (gap - one).max(0.0);
+                                    if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
+                                        continue;
+                                    }
+                                    relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                }
                             });
                         }
                         if l <= 1 && let Some(o) = obstacles {
-                            o.corner_grid.query(&self.seg_box[si].grown(r + tol), |k| {
+                            o.corner_grid.query(&gbox.grown(r + tol), |k| {
                                 let p = o.corners[k as usize];
                                 let v = corner0 + 2 * k as usize + l as usize;
-                                let (gap, pu) = g::point_seg_distance(p, &s);
-                                let w = (gap - one).max(0.0);
-                                if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
+                                if dist[v] <= d {
                                     return;
                                 }
-                                relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                for si in group.clone() {
+                                    let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
+                                    let w = (gap - one).max(0.0);
+                                    if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
+                                        continue;
+                                    }
+                                    relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                }
                             });
                         }
                     }
