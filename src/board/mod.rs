@@ -481,6 +481,7 @@ pub fn apply(
     rules: &crate::rules::RuleBook,
     barriers: &mut [crate::spacing::BarrierResult],
 ) -> Result<Option<BoardReport>, Problems> {
+    use crate::rules::Table;
     use crate::spacing::{Step, verdict};
     use crate::text::show;
     let Some(spec) = &project.board else {

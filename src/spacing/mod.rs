@@ -6,6 +6,7 @@ mod board;
 mod clearance;
 mod creepage;
 
+use crate::rules::Table as _;
 use serde::Serialize;
 
 use crate::project::{Barrier, BetweenRows, Grade, OvervoltageCategory};
