@@ -390,7 +390,7 @@ impl<'b> Index<'b> {
                     return self.search(layers, obstacles, is_a, is_b, found.distance_mm);
                 }
                 None if reach >= most => return None,
-                None => reach = (reach * 4.0).min(most),
+                None => reach = (reach * 2.0).min(most),
             }
         }
     }
@@ -412,8 +412,12 @@ impl<'b> Index<'b> {
         let with_rims = layers.contains(&0) || layers.contains(&1);
         let n_rim = if with_rims { self.rim.len() } else { 0 };
         let n_corner = obstacles.map_or(0, |o| o.corners.len());
+        // Rim points have two states per face: reached along the face (they then only pass
+        // down the rim to the other face) and reached from the other face (they then only
+        // go on along this face): a path never gains by touching a rim and turning back.
         let rim0 = n;
-        let corner0 = n + 2 * n_rim;
+        let rimx0 = n + 2 * n_rim;
+        let corner0 = n + 4 * n_rim;
         let total = corner0 + 2 * n_corner;
         let mut dist = vec![f64::INFINITY; total];
         let mut pred: Vec<Option<Pred>> = vec![None; total];
@@ -543,14 +547,17 @@ impl<'b> Index<'b> {
                 continue;
             }
             // A rim point or a corner, on face `f`.
-            let (p, f, rim_of) = if ui < corner0 {
+            let (p, f, rim_of) = if ui < rimx0 {
                 let k = (ui - rim0) / 2;
                 (self.rim[k].0, ((ui - rim0) % 2) as u8, Some(self.rim[k].1))
+            } else if ui < corner0 {
+                let k = (ui - rimx0) / 2;
+                (self.rim[k].0, ((ui - rimx0) % 2) as u8, None)
             } else {
                 let k = (ui - corner0) / 2;
                 (obstacles.map_or([0.0, 0.0], |o| o.corners[k]), ((ui - corner0) % 2) as u8, None)
             };
-            if layers.contains(&(f as usize)) {
+            if rim_of.is_none() && layers.contains(&(f as usize)) {
                 let (ids, grid) = &self.layers[f as usize];
                 let pb = Bbox { min: p, max: p };
                 grid.query(&pb.grown(r + tol), |k| {
@@ -576,7 +583,7 @@ impl<'b> Index<'b> {
                         }
                         relax(v, w, Pred { from: u, from_pt: p, from_layer: f, to_pt: q, to_layer: f }, &mut dist, &mut heap);
                     });
-                    if rim_of.is_none() {
+                    if ui >= corner0 {
                         self.rim_grid.query(&pb.grown(r), |k| {
                             let (q, _) = self.rim[k as usize];
                             let v = rim0 + 2 * k as usize + f as usize;
@@ -603,7 +610,7 @@ impl<'b> Index<'b> {
                     if rj != ri {
                         return;
                     }
-                    let v = rim0 + 2 * k as usize + other as usize;
+                    let v = rimx0 + 2 * k as usize + other as usize;
                     // Clearance: straight through the air of the hole (the chord: never
                     // longer than the true path). Creepage: along the wall, unfolded.
                     let across = if obstacles.is_some() {
