@@ -65,6 +65,8 @@ pub struct Sections {
     pub power_entry: Option<PowerEntryReport>,
     /// Null when the project has no `[emc]`.
     pub emc: Option<EmcReport>,
+    /// Distances measured from the board's fabrication files; null without `[board]`.
+    pub board: Option<crate::board::BoardReport>,
 }
 
 /// One evaluation run: the checked project, the rules, and the sections written so far

@@ -3,6 +3,7 @@
 
 pub mod area;
 pub mod batch;
+pub mod board;
 pub mod checks;
 pub mod commands;
 pub mod compare;

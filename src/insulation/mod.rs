@@ -106,6 +106,8 @@ impl Area for Insulation {
             problems.sort_by_key(|d| (d.line, d.column));
             return Err(Problems(problems));
         }
+        // Measured distances join the declared ones before any verdict is settled.
+        run.sections.board = crate::board::apply(project, source, rules, &mut barriers)?;
         mark_check_input(&mut barriers, &run.suspicious);
         run.sections.bridges = parts::bridges(rules, project, &barriers);
         run.sections.isolation = Some(isolation::analyse(project));

@@ -179,6 +179,8 @@ pub struct Report {
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
     pub emc: Option<crate::emc::EmcReport>,
+    /// Distances measured from the board's fabrication files; null without `[board]`.
+    pub board: Option<crate::board::BoardReport>,
     /// Parallel to `findings`: what the check that raised each one ran over and the
     /// verdicts its condition reads, so the report can link the finding to its figure.
     /// Not part of the JSON.
@@ -494,6 +496,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         cautions: CAUTIONS.to_vec(),
         power_entry: sections.power_entry,
         emc: sections.emc,
+        board: sections.board,
         finding_context: Vec::new(),
     })
 }

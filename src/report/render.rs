@@ -28,6 +28,10 @@ pub const CHART_MARKER: &str = "gapwarden-emc-chart";
 /// from the project cannot produce it, because every `<` in one is escaped on its way into
 /// the Markdown; only the comment (an HTML event, not text) is replaced by the chart.
 pub const CHART_COMMENT: &str = "<!-- gapwarden-emc-chart -->";
+/// A template line holding only this text marks where the next barrier's board drawing goes
+/// in the HTML report (the board template writes one per measured barrier, in order).
+pub const BOARD_MARKER: &str = "gapwarden-board-drawing";
+pub const BOARD_COMMENT: &str = "<!-- gapwarden-board-drawing -->";
 
 /// The template rendered first; it includes the others by name.
 const TEMPLATE_NAME: &str = "report.md.j2";
@@ -257,14 +261,16 @@ fn insert_preamble(text: &str, preamble: &str) -> String {
 /// The template source with each line that holds only the chart marker turned into the
 /// chart comment (template text, never a value the template prints).
 fn mark_chart(text: &str) -> String {
-    if !text.contains(CHART_MARKER) {
+    if !text.contains(CHART_MARKER) && !text.contains(BOARD_MARKER) {
         return text.to_string();
     }
     text.split_inclusive('\n')
         .map(|line| {
+            let end = &line[line.trim_end().len()..];
             if line.trim() == CHART_MARKER {
-                let end = &line[line.trim_end().len()..];
                 format!("{CHART_COMMENT}{end}")
+            } else if line.trim() == BOARD_MARKER {
+                format!("{BOARD_COMMENT}{end}")
             } else {
                 line.to_string()
             }
@@ -607,11 +613,19 @@ pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Pro
     let view = view::build(&report, Page::Html, &MarkdownOptions::default());
     // Taken at the first marker; any later one is dropped, so the chart appears once.
     let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
+    // The board drawings, in the order the board template marks them (measured barriers).
+    let drawings: Vec<Option<String>> = report
+        .barriers
+        .iter()
+        .filter_map(|b| b.board.as_ref())
+        .map(|m| m.drawing_svg.clone())
+        .collect();
     Ok(super::html::page(
         &markdown,
         &format!("Pre-review checklist: {}", report.design.name),
         &view.running_header,
         chart,
+        drawings,
     ))
 }
 

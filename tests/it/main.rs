@@ -5,6 +5,7 @@ mod common;
 
 mod bad_inputs;
 mod batch;
+mod board;
 mod check_fields;
 mod check_fixtures;
 mod check_predicates;

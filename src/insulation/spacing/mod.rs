@@ -136,6 +136,21 @@ pub struct BarrierResult {
     /// (reduced to a third of the required clearance where that is under 3 mm).
     pub narrowest_slot_mm: f64,
     pub bridged_by: Vec<String>,
+    /// Clearance measured on the board's fabrication files (`[board]`); null where not
+    /// measured (no `[board]`, a circuit without `nets`, or no copper of one circuit on an
+    /// outer layer).
+    pub measured_clearance_mm: Option<f64>,
+    /// Creepage measured on the board's fabrication files; null where not measured.
+    pub measured_creepage_mm: Option<f64>,
+    /// The distances the verdict rests on: the smaller of the declared and the measured
+    /// one (either where only one is known).
+    pub judged_clearance_mm: Option<f64>,
+    pub judged_creepage_mm: Option<f64>,
+    /// "clearance" and/or "creepage" where the declared and the measured figure differ by
+    /// more than 5 % (or 0.1 mm, whichever is larger).
+    pub measured_differs: Vec<&'static str>,
+    /// The measurement's witness: paths with their layers and points, inner layers.
+    pub board: Option<crate::board::BarrierMeasurement>,
     pub derivation: BarrierDerivation,
 }
 
@@ -223,6 +238,12 @@ pub fn evaluate(
         slot_width_mm: barrier.slot_width_mm,
         narrowest_slot_mm,
         bridged_by: barrier.bridged_by.clone(),
+        measured_clearance_mm: None,
+        measured_creepage_mm: None,
+        judged_clearance_mm: barrier.clearance_mm,
+        judged_creepage_mm: barrier.creepage_mm,
+        measured_differs: Vec::new(),
+        board: None,
         derivation: BarrierDerivation {
             clearance: figure_derivation(barrier, "clearance", clearance, barrier.clearance_mm),
             creepage: figure_derivation(barrier, "creepage", creepage, barrier.creepage_mm),
@@ -261,7 +282,7 @@ fn figure_derivation(
 /// Declared minus required. Rounding to micrometres hides floating-point noise, but a
 /// shortfall smaller than that keeps its sign: a distance short of the requirement never
 /// shows a margin of zero.
-fn margin(declared: f64, required: f64) -> f64 {
+pub(crate) fn margin(declared: f64, required: f64) -> f64 {
     let exact = declared - required;
     let rounded = tidy(exact);
     if exact < 0.0 && rounded >= 0.0 {
@@ -448,7 +469,7 @@ fn house_minimums(
 /// A shortfall fails; otherwise a distance not yet declared leaves the barrier incomplete.
 /// The declared distances are compared with the exact required figures, never with a
 /// rounded margin or the printed figure.
-fn verdict(
+pub(crate) fn verdict(
     clearance_mm: Option<f64>,
     required_clearance_mm: f64,
     creepage_mm: Option<f64>,
