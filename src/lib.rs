@@ -17,6 +17,7 @@ pub mod project;
 pub mod raw;
 pub mod report;
 pub mod rules;
+pub mod schema;
 pub mod spacing;
 pub mod text;
 

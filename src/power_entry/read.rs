@@ -2,11 +2,9 @@
 //! from their raw form, so every problem is reported at once with its line.
 
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
-use crate::input_limits::{
-    BLEEDER_OHM, BREAKING_A, BULK_UF, CURRENT_A, DROP_V, EFFICIENCY, ENERGY_J, FUSE_A, I2T_A2S,
-    MAINS_FREQUENCY_HZ, MAX_DUTY, MIN_BULK_V, OUTPUT_W, RATED_V, RESISTANCE_OHM, SERIES_OHM,
-    SWITCHING_HZ, X_UF,
-};
+use crate::input_limits::rule;
+use crate::input_limits::{MAX_DUTY, SWITCHING_HZ};
+use schemars::JsonSchema;
 use serde::Deserialize;
 
 use crate::input_limits::NumberRule;
@@ -15,39 +13,39 @@ use crate::project::{Key, RawProject, TableKey};
 use crate::raw::{Flag, Located, Num, Reader, TableAt, Text, Word};
 
 /// `[input]`: the power-entry stage.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawInput {
     /// Bulk capacitance after the bridge in microfarads (required).
-    pub bulk_capacitance_uf: Key<Num>,
+    pub bulk_capacitance_uf: Key<Num<rule::BulkUf>>,
     /// Charging path without the limiter (line, bridge, capacitor ESR) in ohms (required).
-    pub series_resistance_ohm: Key<Num>,
+    pub series_resistance_ohm: Key<Num<rule::SeriesOhm>>,
     /// The bridge rectifier's non-repetitive surge current rating in amperes.
-    pub bridge_surge_a: Key<Num>,
+    pub bridge_surge_a: Key<Num<rule::CurrentA>>,
     /// Total forward drop of the two conducting bridge diodes in volts.
-    pub bridge_drop_v: Key<Num>,
+    pub bridge_drop_v: Key<Num<rule::DropV>>,
     /// Total X capacitance across the line in microfarads.
-    pub x_capacitance_uf: Key<Num>,
+    pub x_capacitance_uf: Key<Num<rule::XUf>>,
     /// Discharge resistance across the X capacitance in ohms; absent = none.
-    pub bleeder_ohm: Key<Num>,
+    pub bleeder_ohm: Key<Num<rule::BleederOhm>>,
     /// The bleeder survives one open resistor (two paths, or a fail-safe part).
     pub bleeder_fault_tolerant: Key<Flag>,
     /// How the equipment connects to the mains.
     pub connection: Key<Word<Connection>>,
     /// Prospective fault current of the supply in amperes.
-    pub prospective_fault_a: Key<Num>,
+    pub prospective_fault_a: Key<Num<rule::BreakingA>>,
     /// The end-product standard whose touch-current limits apply.
     pub end_product_standard: Key<Text>,
     /// The equipment is hand-held.
     pub hand_held: Key<Flag>,
     /// Lowest mains frequency in hertz.
-    pub min_frequency_hz: Key<Num>,
+    pub min_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
     /// Highest mains frequency in hertz.
-    pub max_frequency_hz: Key<Num>,
+    pub max_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
     /// Rated voltage of the bulk capacitor in volts.
-    pub bulk_rated_v: Key<Num>,
+    pub bulk_rated_v: Key<Num<rule::RatedV>>,
     /// Highest rated supply voltage on the marking in volts.
-    pub highest_rated_v: Key<Num>,
+    pub highest_rated_v: Key<Num<rule::RatedV>>,
     /// The inrush limiter.
     pub limiter: TableKey<RawLimiter>,
     /// The input fuse.
@@ -55,45 +53,45 @@ pub struct RawInput {
 }
 
 /// `[input.limiter]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawLimiter {
     /// "ntc", "resistor" or "none" (required).
     pub kind: Key<Word<LimiterKind>>,
     /// Resistance at switch-on in ohms.
-    pub cold_ohm: Key<Num>,
+    pub cold_ohm: Key<Num<rule::ResistanceOhm>>,
     /// Resistance in operation in ohms.
-    pub hot_ohm: Key<Num>,
+    pub hot_ohm: Key<Num<rule::ResistanceOhm>>,
     /// Energy rating in joules.
-    pub energy_rating_j: Key<Num>,
+    pub energy_rating_j: Key<Num<rule::EnergyJ>>,
 }
 
 /// `[input.fuse]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawFuse {
     /// Rated current in amperes.
-    pub rated_a: Key<Num>,
+    pub rated_a: Key<Num<rule::FuseA>>,
     /// Melting I²t in A²s.
-    pub melting_i2t_a2s: Key<Num>,
+    pub melting_i2t_a2s: Key<Num<rule::I2tA2s>>,
     /// Breaking capacity in amperes.
-    pub breaking_a: Key<Num>,
+    pub breaking_a: Key<Num<rule::BreakingA>>,
     /// Rated voltage in volts.
-    pub rated_v: Key<Num>,
+    pub rated_v: Key<Num<rule::RatedV>>,
     /// "fast" or "time-lag".
     pub speed: Key<Word<FuseSpeed>>,
 }
 
 /// `[converter]`: the converter behind the bulk capacitor.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawConverter {
     /// Output power in watts (required).
-    pub output_w: Key<Num>,
+    pub output_w: Key<Num<rule::OutputW>>,
     /// Efficiency, above 0 and at most 1 (required).
-    pub efficiency: Key<Num>,
+    pub efficiency: Key<Num<rule::Efficiency>>,
     /// Lowest bulk voltage at which it still regulates, in volts (required).
-    pub min_bulk_v: Key<Num>,
+    pub min_bulk_v: Key<Num<rule::MinBulkV>>,
     /// Switching frequency in hertz (required).
     pub switching_hz: Key<Num>,
     /// Largest duty cycle, below 1 (required).
@@ -124,21 +122,21 @@ pub(super) fn read_tables(
 
 fn read_input(r: &mut Reader, t: &TableAt, raw_t: &RawInput) -> Option<InputSpec> {
     let before = r.problems.len();
-    let bulk = r.required_number(t, key!(raw_t.bulk_capacitance_uf), &BULK_UF);
-    let series = r.required_number(t, key!(raw_t.series_resistance_ohm), &SERIES_OHM);
-    let surge = r.number(t, key!(raw_t.bridge_surge_a), &CURRENT_A);
-    let drop = r.number(t, key!(raw_t.bridge_drop_v), &DROP_V);
-    let x = r.number(t, key!(raw_t.x_capacitance_uf), &X_UF);
-    let bleeder = r.number(t, key!(raw_t.bleeder_ohm), &BLEEDER_OHM);
+    let bulk = r.required_ruled(t, key!(raw_t.bulk_capacitance_uf));
+    let series = r.required_ruled(t, key!(raw_t.series_resistance_ohm));
+    let surge = r.ruled(t, key!(raw_t.bridge_surge_a));
+    let drop = r.ruled(t, key!(raw_t.bridge_drop_v));
+    let x = r.ruled(t, key!(raw_t.x_capacitance_uf));
+    let bleeder = r.ruled(t, key!(raw_t.bleeder_ohm));
     let tolerant = r.boolean(t, key!(raw_t.bleeder_fault_tolerant));
     let connection = r.word::<Connection>(t, key!(raw_t.connection));
-    let prospective = r.number(t, key!(raw_t.prospective_fault_a), &BREAKING_A);
+    let prospective = r.ruled(t, key!(raw_t.prospective_fault_a));
     let standard = r.string(t, key!(raw_t.end_product_standard));
     let hand_held = r.boolean(t, key!(raw_t.hand_held));
-    let f_min = r.number(t, key!(raw_t.min_frequency_hz), &MAINS_FREQUENCY_HZ);
-    let f_max = r.number(t, key!(raw_t.max_frequency_hz), &MAINS_FREQUENCY_HZ);
-    let bulk_rated = r.number(t, key!(raw_t.bulk_rated_v), &RATED_V);
-    let highest_rated = r.number(t, key!(raw_t.highest_rated_v), &RATED_V);
+    let f_min = r.ruled(t, key!(raw_t.min_frequency_hz));
+    let f_max = r.ruled(t, key!(raw_t.max_frequency_hz));
+    let bulk_rated = r.ruled(t, key!(raw_t.bulk_rated_v));
+    let highest_rated = r.ruled(t, key!(raw_t.highest_rated_v));
     let limiter = r
         .table(t, key!(raw_t.limiter))
         .and_then(|(l, raw_l)| read_limiter(r, &l, raw_l));
@@ -197,9 +195,9 @@ fn read_input(r: &mut Reader, t: &TableAt, raw_t: &RawInput) -> Option<InputSpec
 fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<LimiterSpec> {
     let before = r.problems.len();
     let kind = r.required_word::<LimiterKind>(t, key!(raw_t.kind));
-    let cold = r.number(t, key!(raw_t.cold_ohm), &RESISTANCE_OHM);
-    let hot = r.number(t, key!(raw_t.hot_ohm), &RESISTANCE_OHM);
-    let energy = r.number(t, key!(raw_t.energy_rating_j), &ENERGY_J);
+    let cold = r.ruled(t, key!(raw_t.cold_ohm));
+    let hot = r.ruled(t, key!(raw_t.hot_ohm));
+    let energy = r.ruled(t, key!(raw_t.energy_rating_j));
     let kind = kind?.value;
     match kind {
         LimiterKind::None => {
@@ -267,10 +265,10 @@ fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<Limit
 
 fn read_fuse(r: &mut Reader, t: &TableAt, raw_t: &RawFuse) -> Option<FuseSpec> {
     let before = r.problems.len();
-    let rated = r.number(t, key!(raw_t.rated_a), &FUSE_A);
-    let i2t = r.number(t, key!(raw_t.melting_i2t_a2s), &I2T_A2S);
-    let breaking = r.number(t, key!(raw_t.breaking_a), &BREAKING_A);
-    let rated_v = r.number(t, key!(raw_t.rated_v), &RATED_V);
+    let rated = r.ruled(t, key!(raw_t.rated_a));
+    let i2t = r.ruled(t, key!(raw_t.melting_i2t_a2s));
+    let breaking = r.ruled(t, key!(raw_t.breaking_a));
+    let rated_v = r.ruled(t, key!(raw_t.rated_v));
     let speed = r.word::<FuseSpeed>(t, key!(raw_t.speed));
     if r.problems.len() > before {
         return None;
@@ -342,9 +340,9 @@ fn bounded_number(
 }
 
 fn read_converter(r: &mut Reader, t: &TableAt, raw_t: &RawConverter) -> Option<ConverterSpec> {
-    let output = r.required_number(t, key!(raw_t.output_w), &OUTPUT_W);
-    let efficiency = r.required_number(t, key!(raw_t.efficiency), &EFFICIENCY);
-    let min_bulk = r.required_number(t, key!(raw_t.min_bulk_v), &MIN_BULK_V);
+    let output = r.required_ruled(t, key!(raw_t.output_w));
+    let efficiency = r.required_ruled(t, key!(raw_t.efficiency));
+    let min_bulk = r.required_ruled(t, key!(raw_t.min_bulk_v));
     let switching = bounded_number(r, t, key!(raw_t.switching_hz), &SWITCHING_HZ, None);
     // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
     // a duty below 1.

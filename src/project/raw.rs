@@ -3,25 +3,26 @@
 //! problem with its line. Units are in the key names. These types mirror the file exactly;
 //! the checked types in `mod.rs` are what the engine uses.
 
+use schemars::JsonSchema;
 use serde::Deserialize;
-use toml::Spanned;
 
 use super::{
     BetweenRows, BoardCoating, BoardConductor, CapacitorSubclass, CircuitKind, Field, Grade,
     InsulationSystem, MaterialGroup, OvervoltageCategory, PartKind, ProtectionClass,
     ThermalClassLetter,
 };
-use crate::raw::{Flag, Num, Section, Sections, Text, Texts, Word};
+use crate::input_limits::rule;
+use crate::raw::{At, Flag, Num, Section, Sections, Text, Texts, Word};
 
 /// A key holding a table (`[name]`).
-pub type TableKey<T> = Option<Spanned<Section<T>>>;
+pub type TableKey<T> = Option<At<Section<T>>>;
 /// A key holding an array of tables (`[[name]]`).
-pub type TablesKey<T> = Option<Spanned<Sections<T>>>;
+pub type TablesKey<T> = Option<At<Sections<T>>>;
 /// A key holding a leaf value.
-pub type Key<L> = Option<Spanned<L>>;
+pub type Key<L> = Option<At<L>>;
 
 /// The whole project file.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawProject {
     /// What the design is (required).
@@ -45,7 +46,7 @@ pub struct RawProject {
 }
 
 /// `[design]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawDesign {
     /// The design's name (required).
@@ -61,33 +62,33 @@ pub struct RawDesign {
 }
 
 /// `[environment]`.
-#[derive(Debug, Default, Deserialize)]
+#[derive(Debug, Default, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawEnvironment {
     /// 1, 2 or 3 (default 2).
-    pub pollution_degree: Key<Num>,
+    pub pollution_degree: Key<Num<rule::PollutionDegree>>,
     /// "I" to "IV" (default "II").
     pub overvoltage_category: Key<Word<OvervoltageCategory>>,
     /// Altitude of use in metres (default: up to 2000 m).
-    pub altitude_m: Key<Num>,
+    pub altitude_m: Key<Num<rule::AltitudeM>>,
 }
 
 /// `[mains]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawMains {
     /// Nominal line-to-neutral voltage of the supply system in volts (required).
-    pub nominal_v: Key<Num>,
+    pub nominal_v: Key<Num<rule::VoltageV>>,
     /// Highest supply voltage in volts.
-    pub max_v: Key<Num>,
+    pub max_v: Key<Num<rule::VoltageV>>,
     /// Lowest supply voltage in volts.
-    pub min_v: Key<Num>,
+    pub min_v: Key<Num<rule::VoltageV>>,
     /// Mains frequency in hertz.
-    pub frequency_hz: Key<Num>,
+    pub frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
 }
 
 /// One `[[circuit]]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawCircuit {
     /// Unique id, referred to by barriers (required).
@@ -102,7 +103,7 @@ pub struct RawCircuit {
 }
 
 /// One `[[barrier]]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawBarrier {
     /// Unique id (required).
@@ -112,17 +113,17 @@ pub struct RawBarrier {
     /// Insulation grade (required).
     pub grade: Key<Word<Grade>>,
     /// Working voltage, rms, in volts (required).
-    pub working_rms_v: Key<Num>,
+    pub working_rms_v: Key<Num<rule::VoltageV>>,
     /// Steady-state or recurring peak working voltage in volts.
-    pub working_peak_v: Key<Num>,
+    pub working_peak_v: Key<Num<rule::VoltageV>>,
     /// Declared transient overvoltage in volts, instead of the rated impulse voltage.
-    pub transient_v: Key<Num>,
+    pub transient_v: Key<Num<rule::TransientV>>,
     /// Frequency of the working voltage in hertz.
-    pub working_frequency_hz: Key<Num>,
+    pub working_frequency_hz: Key<Num<rule::WorkingFrequencyHz>>,
     /// "I", "II", "IIIa" or "IIIb"; or give `cti`.
     pub material_group: Key<Word<MaterialGroup>>,
     /// Comparative tracking index of the insulating material.
-    pub cti: Key<Num>,
+    pub cti: Key<Num<rule::Cti>>,
     /// On a printed board (the printed-wiring creepage columns where allowed).
     pub printed_board: Key<Flag>,
     /// "inhomogeneous" (default) or "homogeneous".
@@ -132,18 +133,18 @@ pub struct RawBarrier {
     /// The board's coating (IPC-2221B column).
     pub board_coating: Key<Word<BoardCoating>>,
     /// Clearance as laid out, in millimetres; absent = not yet known.
-    pub clearance_mm: Key<Num>,
+    pub clearance_mm: Key<Num<rule::DistanceMm>>,
     /// Creepage distance as laid out, in millimetres; absent = not yet known.
-    pub creepage_mm: Key<Num>,
+    pub creepage_mm: Key<Num<rule::DistanceMm>>,
     /// Width of a slot or groove in the creepage path, in millimetres.
-    pub slot_width_mm: Key<Num>,
+    pub slot_width_mm: Key<Num<rule::SlotMm>>,
     /// Refs of the parts that bridge it.
     pub bridged_by: Key<Texts>,
     pub description: Key<Text>,
 }
 
 /// One `[[part]]`: a part that bridges a barrier, with its ratings.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawPart {
     /// Unique reference designator (required).
@@ -155,29 +156,29 @@ pub struct RawPart {
     /// Capacitors: safety subclass.
     pub subclass: Key<Word<CapacitorSubclass>>,
     /// Capacitors: capacitance in nanofarads.
-    pub capacitance_nf: Key<Num>,
+    pub capacitance_nf: Key<Num<rule::CapacitanceNf>>,
     /// Rated a.c. voltage in volts.
-    pub rated_ac_v: Key<Num>,
+    pub rated_ac_v: Key<Num<rule::VoltageV>>,
     /// Capacitors: this many identical ones in series stand for the part (default 1).
-    pub count_in_series: Key<Num>,
+    pub count_in_series: Key<Num<rule::CountInSeries>>,
     /// Optocouplers and digital isolators: rated isolation test voltage (60 s), rms, in volts.
-    pub isolation_test_v_rms: Key<Num>,
+    pub isolation_test_v_rms: Key<Num<rule::TestVRms>>,
     /// External clearance of the package in millimetres.
-    pub external_clearance_mm: Key<Num>,
+    pub external_clearance_mm: Key<Num<rule::DistanceMm>>,
     /// External creepage distance of the package in millimetres.
-    pub external_creepage_mm: Key<Num>,
+    pub external_creepage_mm: Key<Num<rule::DistanceMm>>,
     /// Distance through insulation in millimetres.
-    pub distance_through_insulation_mm: Key<Num>,
+    pub distance_through_insulation_mm: Key<Num<rule::ThicknessMm>>,
     /// The part meets the thin-layer rules for solid insulation.
     pub thin_layer_rated: Key<Flag>,
     /// Transformers: how the windings are kept apart.
     pub insulation_system: Key<Word<InsulationSystem>>,
     /// Transformers: layers of insulating tape.
-    pub tape_layers: Key<Num>,
+    pub tape_layers: Key<Num<rule::TapeLayers>>,
     /// Transformers: margin width in millimetres.
-    pub margin_mm: Key<Num>,
+    pub margin_mm: Key<Num<rule::DistanceMm>>,
     /// Transformers: thermal class letter (IEC 60085).
     pub thermal_class: Key<Word<ThermalClassLetter>>,
     /// Transformers: hot-spot temperature in degrees Celsius.
-    pub hot_spot_c: Key<Num>,
+    pub hot_spot_c: Key<Num<rule::TemperatureC>>,
 }
