@@ -16,9 +16,11 @@ use crate::raw::{Num, Reader, TableAt, Word};
 #[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawEmc {
-    /// Conducted-emission limits on the mains port: "A" or "B".
+    /// Conducted-emission limits on the mains port: "A" or "B" (default "B", the
+    /// stricter).
     pub limit_class: Key<Word<LimitClass>>,
-    /// Margin below the limit in decibels.
+    /// Margin below the limit in decibels (default: from the rule book, stated as an
+    /// assumption).
     pub margin_db: Key<Num<rule::MarginDb>>,
     /// Levels measured without the filter.
     pub prescan: TablesKey<RawPrescan>,
@@ -62,7 +64,8 @@ pub struct RawFilter {
     pub cm_inductance_mh: Key<Num<rule::InductanceMh>>,
     /// Y capacitance in nanofarads.
     pub y_capacitance_nf: Key<Num<rule::CapacitanceNf>>,
-    /// How the Y capacitors sit.
+    /// How the Y capacitors sit (default: "each-line" for protection class I, "single"
+    /// otherwise).
     pub y_arrangement: Key<Word<YArrangement>>,
 }
 

@@ -22,29 +22,36 @@ pub struct RawInput {
     pub series_resistance_ohm: Key<Num<rule::SeriesOhm>>,
     /// The bridge rectifier's non-repetitive surge current rating in amperes.
     pub bridge_surge_a: Key<Num<rule::CurrentA>>,
-    /// Total forward drop of the two conducting bridge diodes in volts.
+    /// Total forward drop of the two conducting bridge diodes in volts (default 0: ideal
+    /// diodes).
     pub bridge_drop_v: Key<Num<rule::DropV>>,
     /// Total X capacitance across the line in microfarads.
     pub x_capacitance_uf: Key<Num<rule::XUf>>,
     /// Discharge resistance across the X capacitance in ohms; absent = none.
     pub bleeder_ohm: Key<Num<rule::BleederOhm>>,
-    /// The bleeder survives one open resistor (two paths, or a fail-safe part).
+    /// The bleeder survives one open resistor (two paths, or a fail-safe part) (default
+    /// false).
     pub bleeder_fault_tolerant: Key<Flag>,
-    /// How the equipment connects to the mains.
+    /// How the equipment connects to the mains (default "plug": pluggable type A, the
+    /// strictest discharge limit).
     pub connection: Key<Word<Connection>>,
-    /// Prospective fault current of the supply in amperes.
+    /// Prospective fault current of the supply in amperes (default: from the rule book,
+    /// stated as an assumption).
     pub prospective_fault_a: Key<Num<rule::BreakingA>>,
-    /// The end-product standard whose touch-current limits apply.
+    /// The end-product standard whose touch-current limits apply, by the id of a rule
+    /// table's entry such as "iec62368-1" or "iec60950-1" (default: the rule book's,
+    /// stated as an assumption).
     pub end_product_standard: Key<Text>,
-    /// The equipment is hand-held.
+    /// The equipment is hand-held (default false).
     pub hand_held: Key<Flag>,
-    /// Lowest mains frequency in hertz.
+    /// Lowest mains frequency in hertz (default: mains.frequency_hz).
     pub min_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
-    /// Highest mains frequency in hertz.
+    /// Highest mains frequency in hertz (default: mains.frequency_hz).
     pub max_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
     /// Rated voltage of the bulk capacitor in volts.
     pub bulk_rated_v: Key<Num<rule::RatedV>>,
-    /// Highest rated supply voltage on the marking in volts.
+    /// Highest rated supply voltage on the marking in volts, against the fuse's rating
+    /// (default: mains.nominal_v).
     pub highest_rated_v: Key<Num<rule::RatedV>>,
     /// The inrush limiter.
     pub limiter: TableKey<RawLimiter>,
@@ -96,7 +103,8 @@ pub struct RawConverter {
     pub switching_hz: Key<Num>,
     /// Largest duty cycle, below 1 (required).
     pub max_duty: Key<Num>,
-    /// It has an active power-factor-correction stage.
+    /// It has an active power-factor-correction stage: Middlebrook's criterion applies
+    /// (default false).
     pub pfc_stage: Key<Flag>,
 }
 
