@@ -39,7 +39,37 @@ pub fn project_schema() -> serde_json::Value {
     );
     let mut value = serde_json::Value::from(schema);
     drop_null(&mut value);
+    mark_required(&mut value);
     value
+}
+
+/// A key whose doc comment says "(required)" is listed in its table's `required`, so an
+/// editor flags it when absent. Every key is an `Option` in the raw types (the reader
+/// reports a missing one with its line itself), so this is the one place the schema
+/// learns it; `tests/it/schema.rs` holds the mark and the reader's "missing" to each other.
+fn mark_required(value: &mut serde_json::Value) {
+    use serde_json::Value;
+    match value {
+        Value::Object(map) => {
+            if let Some(Value::Object(props)) = map.get("properties") {
+                let required: Vec<Value> = props
+                    .iter()
+                    .filter(|(_, p)| {
+                        p.get("description")
+                            .and_then(Value::as_str)
+                            .is_some_and(|d| d.contains("(required)"))
+                    })
+                    .map(|(k, _)| Value::from(k.as_str()))
+                    .collect();
+                if !required.is_empty() {
+                    map.insert("required".into(), Value::Array(required));
+                }
+            }
+            map.values_mut().for_each(mark_required);
+        }
+        Value::Array(items) => items.iter_mut().for_each(mark_required),
+        _ => {}
+    }
 }
 
 /// TOML has no null: an absent key is how a value is left out. schemars lets every `Option`

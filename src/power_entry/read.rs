@@ -65,9 +65,11 @@ pub struct RawInput {
 pub struct RawLimiter {
     /// "ntc", "resistor" or "none" (required).
     pub kind: Key<Word<LimiterKind>>,
-    /// Resistance at switch-on in ohms.
+    /// Resistance at switch-on in ohms; required for kind "ntc" or "resistor", refused for
+    /// "none".
     pub cold_ohm: Key<Num<rule::ResistanceOhm>>,
-    /// Resistance in operation in ohms.
+    /// Resistance in operation in ohms; required for kind "ntc" (a "resistor" keeps its
+    /// cold_ohm), refused for "none".
     pub hot_ohm: Key<Num<rule::ResistanceOhm>>,
     /// Energy rating in joules.
     pub energy_rating_j: Key<Num<rule::EnergyJ>>,

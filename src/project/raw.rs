@@ -31,7 +31,7 @@ pub struct RawProject {
     pub environment: TableKey<RawEnvironment>,
     /// The supply system (required).
     pub mains: TableKey<RawMains>,
-    /// The circuits the barriers separate (at least one).
+    /// The circuits the barriers separate; at least one is required.
     pub circuit: TablesKey<RawCircuit>,
     /// The insulation barriers between two circuits.
     pub barrier: TablesKey<RawBarrier>,

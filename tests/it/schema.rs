@@ -479,3 +479,128 @@ fn defaults_are_stated_in_the_descriptions() {
         assert!(d.contains(default), "{path}: \"{d}\" lacks {default}");
     }
 }
+
+/// One key of a document: its path as the reader names it (`barrier[1].id`), its path in
+/// the schema (`barrier`, `id`), and the document without it.
+struct Removal {
+    reader_path: String,
+    schema_path: Vec<String>,
+    without: toml::Value,
+}
+
+fn removals(doc: &toml::Value) -> Vec<Removal> {
+    fn walk(
+        whole: &toml::Value,
+        here: &toml::Value,
+        steps: &mut Vec<(String, Option<usize>)>,
+        out: &mut Vec<Removal>,
+    ) {
+        let toml::Value::Table(t) = here else { return };
+        for (k, v) in t {
+            let mut without = whole.clone();
+            let mut cur = &mut without;
+            for (key, index) in steps.iter() {
+                cur = &mut cur[key.as_str()];
+                if let Some(i) = index {
+                    cur = &mut cur[*i];
+                }
+            }
+            if let toml::Value::Table(t) = cur {
+                t.remove(k);
+            }
+            let mut reader_path = String::new();
+            for (key, index) in steps.iter() {
+                reader_path.push_str(key);
+                if let Some(i) = index {
+                    reader_path.push_str(&format!("[{}]", i + 1));
+                }
+                reader_path.push('.');
+            }
+            reader_path.push_str(k);
+            let mut schema_path: Vec<String> = steps.iter().map(|(k, _)| k.clone()).collect();
+            schema_path.push(k.clone());
+            out.push(Removal {
+                reader_path,
+                schema_path,
+                without,
+            });
+            match v {
+                toml::Value::Table(_) => {
+                    steps.push((k.clone(), None));
+                    walk(whole, v, steps, out);
+                    steps.pop();
+                }
+                // The first table of an array of tables stands for all.
+                toml::Value::Array(items) if items.first().is_some_and(|i| i.is_table()) => {
+                    steps.push((k.clone(), Some(0)));
+                    walk(whole, &items[0], steps, out);
+                    steps.pop();
+                }
+                _ => {}
+            }
+        }
+    }
+    let mut out = Vec::new();
+    walk(doc, doc, &mut Vec::new(), &mut out);
+    out
+}
+
+#[test]
+fn a_key_is_required_in_the_schema_exactly_where_the_reader_reports_it_missing() {
+    let s = schema();
+    let mut tried = 0;
+    let mut required_seen = std::collections::BTreeSet::new();
+    for file in project_files() {
+        let text = std::fs::read_to_string(&file).expect("readable");
+        if read(&text).is_err() {
+            continue;
+        }
+        let doc: toml::Value = toml::from_str(&text).expect("read, so it parses");
+        for r in removals(&doc) {
+            let text = toml::to_string(&r.without).expect("TOML writes back");
+            let missing = match read(&text) {
+                Ok(()) => false,
+                Err(e) => e
+                    .lines()
+                    .any(|l| l.starts_with(&format!("{}: missing", r.reader_path))),
+            };
+            let parts: Vec<&str> = r.schema_path.iter().map(String::as_str).collect();
+            let (parent, key) = parts.split_at(parts.len() - 1);
+            let table = if parent.is_empty() {
+                &s
+            } else {
+                step_into_tables(at(&s, parent).expect("the key's table is in the schema"))
+            };
+            let required = table["required"]
+                .as_array()
+                .is_some_and(|r| r.iter().any(|k| k == key[0]));
+            let description = at(&s, &parts).unwrap()["description"].as_str().unwrap_or("");
+            if missing {
+                // A key that is required only with another's value ("cold_ohm" for an
+                // NTC) cannot be required in the schema, but its description says so.
+                assert!(
+                    required || description.contains("required"),
+                    "{}: the reader requires {} but the schema does not say so",
+                    file.display(),
+                    r.reader_path
+                );
+            } else {
+                assert!(
+                    !required,
+                    "{}: the schema requires {} but the reader reads the file without it",
+                    file.display(),
+                    r.reader_path
+                );
+            }
+            if required {
+                required_seen.insert(r.schema_path.join("."));
+            }
+            tried += 1;
+        }
+    }
+    assert!(tried >= 500, "only {tried} keys removed");
+    // DESIGN.md's required core keys, among those the walk met.
+    for key in ["design", "design.name", "design.protection_class", "mains", "mains.nominal_v"] {
+        assert!(required_seen.contains(key), "{key} not seen as required");
+    }
+}
