@@ -771,7 +771,9 @@ impl<'s> Reader<'s> {
         self.number_by(table, field, &R::THE_RULE)
     }
 
-    fn number_by<R>(
+    /// A number judged by `rule`, whatever its raw type names: for a reader that first
+    /// probes a key's value with a widened copy of its own rule (`power_entry::read`).
+    pub fn number_by<R>(
         &mut self,
         table: &TableAt,
         (key, value): (&str, &Option<At<Num<R>>>),

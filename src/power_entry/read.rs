@@ -3,14 +3,13 @@
 
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
 use crate::input_limits::rule;
-use crate::input_limits::{MAX_DUTY, SWITCHING_HZ};
 use schemars::JsonSchema;
 use serde::Deserialize;
 
 use crate::input_limits::NumberRule;
 use crate::key;
 use crate::project::{Key, RawProject, TableKey};
-use crate::raw::{Flag, Located, Num, Reader, TableAt, Text, Word};
+use crate::raw::{Flag, Located, Num, Reader, Ruled, TableAt, Text, Word};
 
 /// `[input]`: the power-entry stage.
 #[derive(Debug, Deserialize, JsonSchema)]
@@ -102,9 +101,9 @@ pub struct RawConverter {
     /// Lowest bulk voltage at which it still regulates, in volts (required).
     pub min_bulk_v: Key<Num<rule::MinBulkV>>,
     /// Switching frequency in hertz (required).
-    pub switching_hz: Key<Num>,
+    pub switching_hz: Key<Num<rule::SwitchingHz>>,
     /// Largest duty cycle, below 1 (required).
-    pub max_duty: Key<Num>,
+    pub max_duty: Key<Num<rule::MaxDuty>>,
     /// It has an active power-factor-correction stage: Middlebrook's criterion applies
     /// (default false).
     pub pfc_stage: Key<Flag>,
@@ -302,16 +301,21 @@ fn written(r: &Reader, span: &crate::raw::Span) -> String {
         .unwrap_or_default()
 }
 
-/// Reads a number, first refusing (at its line, with the value as written) one below
-/// `rule.min` or at/above `below`, so that the message shows what the user typed.
-fn bounded_number(
+/// Reads a required number by its raw type's rule, first refusing (at its line, with the
+/// value as written) one below `rule.min` or at/above `below`, so that the message shows
+/// what the user typed.
+fn bounded_number<R: Ruled>(
     r: &mut Reader,
     t: &TableAt,
-    field: (&str, &Key<Num>),
-    rule: &NumberRule,
+    field: (&str, &Key<Num<R>>),
     below: Option<f64>,
 ) -> Option<Located<f64>> {
+    let rule = &R::THE_RULE;
     let key = field.0;
+    if field.1.is_none() {
+        r.missing(t, key, rule.expected);
+        return None;
+    }
     let before = r.problems.len();
     let wide = NumberRule {
         min: f64::MIN,
@@ -322,7 +326,7 @@ fn bounded_number(
         ..*rule
     };
     let mut warnings = std::mem::take(&mut r.warnings);
-    let probe = r.required_number(t, field, &wide);
+    let probe = r.number_by(t, field, &wide);
     std::mem::swap(&mut r.warnings, &mut warnings);
     if r.problems.len() > before {
         // Not a number at all (or missing): the wide reading said so already.
@@ -346,17 +350,17 @@ fn bounded_number(
         return None;
     }
     // In range: read it again through the rule for its warnings.
-    r.required_number(t, field, rule)
+    r.number_by(t, field, rule)
 }
 
 fn read_converter(r: &mut Reader, t: &TableAt, raw_t: &RawConverter) -> Option<ConverterSpec> {
     let output = r.required_ruled(t, key!(raw_t.output_w));
     let efficiency = r.required_ruled(t, key!(raw_t.efficiency));
     let min_bulk = r.required_ruled(t, key!(raw_t.min_bulk_v));
-    let switching = bounded_number(r, t, key!(raw_t.switching_hz), &SWITCHING_HZ, None);
+    let switching = bounded_number(r, t, key!(raw_t.switching_hz), None);
     // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
     // a duty below 1.
-    let duty = bounded_number(r, t, key!(raw_t.max_duty), &MAX_DUTY, Some(1.0));
+    let duty = bounded_number(r, t, key!(raw_t.max_duty), Some(1.0));
     let pfc = r.boolean(t, key!(raw_t.pfc_stage));
     Some(ConverterSpec {
         output_w: output?.value,

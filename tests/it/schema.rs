@@ -81,10 +81,18 @@ fn validate(schema: &Value, value: &Value, path: &str, problems: &mut Vec<String
     }
     if let Some(s) = value.as_str() {
         let n = s.chars().count() as u64;
-        if schema.get("minLength").and_then(Value::as_u64).is_some_and(|m| n < m) {
+        if schema
+            .get("minLength")
+            .and_then(Value::as_u64)
+            .is_some_and(|m| n < m)
+        {
             problems.push(format!("{path}: string too short"));
         }
-        if schema.get("maxLength").and_then(Value::as_u64).is_some_and(|m| n > m) {
+        if schema
+            .get("maxLength")
+            .and_then(Value::as_u64)
+            .is_some_and(|m| n > m)
+        {
             problems.push(format!("{path}: string too long"));
         }
     }
@@ -174,7 +182,14 @@ fn schema_is_json_and_a_draft_7_json_schema_of_a_table() {
     assert_eq!(s["$schema"], "http://json-schema.org/draft-07/schema#");
     assert_eq!(s["type"], "object");
     let props = s["properties"].as_object().expect("properties");
-    for table in ["design", "environment", "mains", "circuit", "barrier", "part"] {
+    for table in [
+        "design",
+        "environment",
+        "mains",
+        "circuit",
+        "barrier",
+        "part",
+    ] {
         assert!(props.contains_key(table), "{table} missing");
     }
     assert_eq!(s["properties"]["circuit"]["type"], "array");
@@ -215,7 +230,9 @@ fn every_key_the_reader_accepts_in_examples_and_fixtures_is_in_the_schema() {
             );
             let description = found.and_then(|f| f.get("description"));
             assert!(
-                description.and_then(Value::as_str).is_some_and(|d| !d.is_empty()),
+                description
+                    .and_then(Value::as_str)
+                    .is_some_and(|d| !d.is_empty()),
                 "{}: key {} has no description",
                 file.display(),
                 path.join(".")
@@ -315,7 +332,11 @@ fn allowed_values_match_the_words_the_reader_accepts() {
         ("2.5", false),
     ] {
         let text = example_with("pollution_degree", &format!("pollution_degree = {value}"));
-        assert_eq!(read(&text).is_ok(), accepted, "reader, pollution_degree = {value}");
+        assert_eq!(
+            read(&text).is_ok(),
+            accepted,
+            "reader, pollution_degree = {value}"
+        );
         let json: Value = serde_json::from_str(value).unwrap();
         assert_eq!(
             problems_of(pd, &json).is_empty(),
@@ -334,7 +355,11 @@ fn allowed_values_match_the_words_the_reader_accepts() {
     assert_eq!(mg["enum"], serde_json::json!(["I", "II", "IIIa", "IIIb"]));
     for (value, accepted) in [("\"IIIa\"", true), ("\"IIIb\"", true), ("\"3a\"", false)] {
         let text = example_with("material_group", &format!("material_group = {value}"));
-        assert_eq!(read(&text).is_ok(), accepted, "reader, material_group = {value}");
+        assert_eq!(
+            read(&text).is_ok(),
+            accepted,
+            "reader, material_group = {value}"
+        );
         assert_eq!(
             problems_of(&s, &toml_as_json(&text)).is_empty(),
             accepted,
@@ -345,9 +370,18 @@ fn allowed_values_match_the_words_the_reader_accepts() {
     // Protection classes, IEC 61140: I, II, III (as a word, not a number).
     let pc = at(&s, &["design", "protection_class"]).unwrap();
     assert_eq!(pc["enum"], serde_json::json!(["I", "II", "III"]));
-    for (value, accepted) in [("\"II\"", true), ("\"I\"", true), ("2", false), ("\"2\"", false)] {
+    for (value, accepted) in [
+        ("\"II\"", true),
+        ("\"I\"", true),
+        ("2", false),
+        ("\"2\"", false),
+    ] {
         let text = example_with("protection_class", &format!("protection_class = {value}"));
-        assert_eq!(read(&text).is_ok(), accepted, "reader, protection_class = {value}");
+        assert_eq!(
+            read(&text).is_ok(),
+            accepted,
+            "reader, protection_class = {value}"
+        );
         assert_eq!(
             problems_of(&s, &toml_as_json(&text)).is_empty(),
             accepted,
@@ -363,7 +397,13 @@ fn allowed_values_match_the_words_the_reader_accepts() {
         .iter()
         .filter_map(Value::as_str)
         .collect();
-    for w in ["functional", "basic", "supplementary", "reinforced", "double"] {
+    for w in [
+        "functional",
+        "basic",
+        "supplementary",
+        "reinforced",
+        "double",
+    ] {
         assert!(words.contains(&w), "grade {w} missing from {words:?}");
     }
 }
@@ -373,8 +413,16 @@ fn an_unknown_key_is_refused_by_the_reader_and_by_the_schema() {
     let s = schema();
     for (line_start, replacement, key) in [
         ("name", "name = \"x\"\ncolour = \"red\"", "design.colour"),
-        ("working_rms_v", "working_rms_v = 250\nvoltage = 250", "barrier[1].voltage"),
-        ("nominal_v", "nominal_v = 230\nnominal = 230", "mains.nominal"),
+        (
+            "working_rms_v",
+            "working_rms_v = 250\nvoltage = 250",
+            "barrier[1].voltage",
+        ),
+        (
+            "nominal_v",
+            "nominal_v = 230\nnominal = 230",
+            "mains.nominal",
+        ),
     ] {
         let text = example_with(line_start, replacement);
         let e = read(&text).expect_err("the reader refuses an unknown key");
@@ -447,7 +495,10 @@ fn every_key_with_a_unit_in_its_name_states_the_unit_in_its_description() {
                 .max_by_key(|(suffix, _)| suffix.len())
             {
                 let d = v["description"].as_str().unwrap_or("");
-                assert!(d.contains(word), "{here} ({suffix}): \"{d}\" does not say {word}");
+                assert!(
+                    d.contains(word),
+                    "{here} ({suffix}): \"{d}\" does not say {word}"
+                );
                 *checked += 1;
             }
             walk(v, &here, units, checked);
@@ -475,7 +526,9 @@ fn defaults_are_stated_in_the_descriptions() {
         ("emc.limit_class", "default \"B\""),
     ] {
         let parts: Vec<&str> = path.split('.').collect();
-        let d = at(&s, &parts).unwrap()["description"].as_str().unwrap_or("");
+        let d = at(&s, &parts).unwrap()["description"]
+            .as_str()
+            .unwrap_or("");
         assert!(d.contains(default), "{path}: \"{d}\" lacks {default}");
     }
 }
@@ -574,7 +627,9 @@ fn a_key_is_required_in_the_schema_exactly_where_the_reader_reports_it_missing()
             let required = table["required"]
                 .as_array()
                 .is_some_and(|r| r.iter().any(|k| k == key[0]));
-            let description = at(&s, &parts).unwrap()["description"].as_str().unwrap_or("");
+            let description = at(&s, &parts).unwrap()["description"]
+                .as_str()
+                .unwrap_or("");
             if missing {
                 // A key that is required only with another's value ("cold_ohm" for an
                 // NTC) cannot be required in the schema, but its description says so.
@@ -600,7 +655,13 @@ fn a_key_is_required_in_the_schema_exactly_where_the_reader_reports_it_missing()
     }
     assert!(tried >= 500, "only {tried} keys removed");
     // DESIGN.md's required core keys, among those the walk met.
-    for key in ["design", "design.name", "design.protection_class", "mains", "mains.nominal_v"] {
+    for key in [
+        "design",
+        "design.name",
+        "design.protection_class",
+        "mains",
+        "mains.nominal_v",
+    ] {
         assert!(required_seen.contains(key), "{key} not seen as required");
     }
 }
