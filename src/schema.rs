@@ -40,7 +40,28 @@ pub fn project_schema() -> serde_json::Value {
     let mut value = serde_json::Value::from(schema);
     drop_null(&mut value);
     mark_required(&mut value);
+    unwrap_lines(&mut value);
     value
+}
+
+/// A doc comment's line breaks are the source's, not the text's: an editor's tooltip reads
+/// better with each paragraph on one line.
+fn unwrap_lines(value: &mut serde_json::Value) {
+    use serde_json::Value;
+    match value {
+        Value::Object(map) => {
+            if let Some(Value::String(d)) = map.get_mut("description") {
+                *d = d
+                    .split("\n\n")
+                    .map(|p| p.split('\n').map(str::trim).collect::<Vec<_>>().join(" "))
+                    .collect::<Vec<_>>()
+                    .join("\n\n");
+            }
+            map.values_mut().for_each(unwrap_lines);
+        }
+        Value::Array(items) => items.iter_mut().for_each(unwrap_lines),
+        _ => {}
+    }
 }
 
 /// A key whose doc comment says "(required)" is listed in its table's `required`, so an

@@ -198,6 +198,11 @@ fn schema_is_json_and_a_draft_7_json_schema_of_a_table() {
     assert!(!s.to_string().contains("null"), "a null in the schema");
     // Every table is written inline: an editor follows no reference.
     assert!(!s.to_string().contains("$ref"));
+    // Descriptions are whole sentences, not the doc comments' source lines.
+    assert!(
+        !s.to_string().contains("\\n"),
+        "a line break in a description"
+    );
 }
 
 #[test]
