@@ -670,3 +670,13 @@ fn a_key_is_required_in_the_schema_exactly_where_the_reader_reports_it_missing()
         assert!(required_seen.contains(key), "{key} not seen as required");
     }
 }
+
+#[test]
+fn schema_is_listed_in_help_completions_and_the_man_page() {
+    let help = stdout(&run(&["--help"]));
+    assert!(help.contains("schema"), "{help}");
+    let bash = stdout(&run(&["completions", "bash"]));
+    assert!(bash.contains("schema"), "bash completions lack schema");
+    let man = stdout(&run(&["man"]));
+    assert!(man.contains("schema"), "the man page lacks schema");
+}
