@@ -276,6 +276,24 @@ fn mark_chart(text: &str) -> String {
 /// break or HTML can come from it. Line breaks become spaces; other control characters,
 /// bidirectional overrides and zero-width characters are shown as `<U+XXXX>`.
 pub fn md_escape(text: &str) -> String {
+    // Printable ASCII without a Markdown character, most values, is decided a byte at a
+    // time: one bit per ASCII code (the characters escaped below).
+    const MARKDOWN: u128 = {
+        let mut bits = 0u128;
+        let chars = b"\\`*_[]<>|&#";
+        let mut k = 0;
+        while k < chars.len() {
+            bits |= 1 << chars[k];
+            k += 1;
+        }
+        bits
+    };
+    if text
+        .bytes()
+        .all(|b| (0x20..0x7f).contains(&b) && (MARKDOWN >> b) & 1 == 0)
+    {
+        return text.to_string();
+    }
     let special = |c: char| {
         matches!(
             c,
@@ -636,6 +654,11 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         w: &mut W,
         fragment: &str,
     ) -> std::io::Result<()> {
+        // Printable ASCII needs no look at each character (serde_json has escaped the
+        // controls and quotes already).
+        if fragment.bytes().all(|b| (0x20..0x7f).contains(&b)) {
+            return w.write_all(fragment.as_bytes());
+        }
         let mut start = 0;
         for (i, c) in fragment.char_indices() {
             if crate::text::is_hazardous(c) {
