@@ -48,14 +48,14 @@ pub struct RawProject {
 }
 
 /// `[board]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawBoard {
     /// Gerber X2 files (copper layers, profile, drill and rout), relative to the project file
     /// (required).
     pub files: Key<Texts>,
     /// Board thickness in millimetres; default 1.6.
-    pub thickness_mm: Key<Num>,
+    pub thickness_mm: Key<Num<rule::ThicknessMm>>,
 }
 
 /// `[design]`.

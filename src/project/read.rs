@@ -98,7 +98,7 @@ fn read_board(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option<B
         );
         return None;
     }
-    let thickness = r.number(&t, key!(raw_t.thickness_mm), &THICKNESS_MM);
+    let thickness = r.ruled(&t, key!(raw_t.thickness_mm));
     if raw_t.thickness_mm.is_some() && thickness.is_none() {
         return None;
     }
