@@ -14,7 +14,7 @@ use crate::project::{
 };
 use crate::report::{Report, Templates, check_source, render_html, render_json, render_markdown};
 use crate::rules::RuleBook;
-use crate::spacing::{BarrierResult, Conditions, evaluate};
+use crate::spacing::{BarrierResult, Conditions};
 use crate::toml_read::NumberRule;
 
 /// Example projects that `gapwarden new --example NAME` writes.
@@ -818,6 +818,10 @@ pub struct SpacingQuery {
     pub altitude_between_rows: BetweenRows,
     pub clearance_mm: Option<f64>,
     pub creepage_mm: Option<f64>,
+    /// The standard whose tables and method apply (the IEC 60664-1 basics by default).
+    pub standard: crate::standards::Standard,
+    /// Under IEC 60601-1: the means of protection (replaces the grade).
+    pub means: Option<crate::standards::Means>,
 }
 
 /// The flags of `gapwarden spacing` that describe the barrier (`--rules` is the command
@@ -878,6 +882,12 @@ pub struct SpacingFlags {
     /// Creepage as laid out, mm (to get a verdict).
     #[arg(long, value_name = "MM")]
     pub creepage_mm: Option<f64>,
+    /// End-product standard whose tables and method apply (iec60664-1: the horizontal basics).
+    #[arg(long, value_enum, default_value = "iec60664-1")]
+    pub standard: crate::standards::Standard,
+    /// Under --standard iec60601-1: the means of protection (replaces --grade).
+    #[arg(long, value_enum)]
+    pub means: Option<crate::standards::Means>,
 }
 
 impl SpacingFlags {
@@ -914,6 +924,8 @@ impl SpacingFlags {
             altitude_between_rows: between_rows(self.interpolate_altitude),
             clearance_mm: self.clearance_mm,
             creepage_mm: self.creepage_mm,
+            standard: self.standard,
+            means: self.means,
         }
     }
 }
@@ -987,7 +999,11 @@ pub fn spacing_with_warnings(
     let barrier = Barrier {
         id: "spacing".to_string(),
         between: ["a".to_string(), "b".to_string()],
-        grade: q.grade,
+        grade: q
+            .means
+            .map(crate::standards::Means::grade)
+            .unwrap_or(q.grade),
+        means: q.means,
         working_rms_v: q.working_rms_v,
         working_peak_v: q.working_peak_v,
         transient_v: q.transient_v,
@@ -1019,7 +1035,7 @@ pub fn spacing_with_warnings(
         creepage_between_rows: q.creepage_between_rows,
         altitude_between_rows: q.altitude_between_rows,
     };
-    let result = evaluate(rules, &cond, &barrier).map_err(|errors| {
+    let result = crate::standards::evaluate(rules, &cond, q.standard, &barrier).map_err(|errors| {
         Problems(
             errors
                 .into_iter()
@@ -1027,6 +1043,9 @@ pub fn spacing_with_warnings(
                     let flag = match e.key.as_str() {
                         "mains.nominal_v" => "--nominal-v".to_string(),
                         "environment.altitude_m" => "--altitude-m".to_string(),
+                        "environment.pollution_degree" => "--pollution-degree".to_string(),
+                        "environment.overvoltage_category" => "--overvoltage-category".to_string(),
+                        "grade" if q.means.is_some() => "--means".to_string(),
                         k => format!("--{}", k.replace('_', "-")),
                     };
                     Diagnostic::new("command line", e.message).with_key(flag)

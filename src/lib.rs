@@ -17,6 +17,7 @@ pub mod project;
 pub mod report;
 pub mod rules;
 pub mod spacing;
+pub mod standards;
 pub mod text;
 pub mod toml_read;
 

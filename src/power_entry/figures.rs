@@ -105,7 +105,7 @@ struct Basis<'a> {
 pub(super) fn evaluate(
     project: &Project,
     rules: &RuleBook,
-    _barriers: &[BarrierResult],
+    barriers: &[BarrierResult],
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
     let Some(spec) = &project.input else {
@@ -181,7 +181,7 @@ pub(super) fn evaluate(
     sections.push(discharge_section);
     let (touch, touch_section) = touch(&mut b, &standard, &standard_title);
     sections.push(touch_section);
-    let (test_voltages, test_section) = test_voltages(&b);
+    let (test_voltages, test_section) = test_voltages(&b, barriers);
     sections.push(test_section);
 
     // The bulk capacitor's highest voltage: switch-on, hot restart and operation.
@@ -1940,13 +1940,53 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
     }
 }
 
-fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
+fn test_voltages(b: &Basis, results: &[BarrierResult]) -> (Vec<TestVoltage>, Section) {
     let table = &b.rules.test_voltages;
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();
-    for barrier in &b.project.barriers {
+    let mut standard_note = None;
+    for (i, barrier) in b.project.barriers.iter().enumerate() {
         let peak = barrier.peak_v();
+        // A named end-product standard sets the test voltage (crate::standards); the
+        // IEC 60950-1 table below serves the basics only.
+        if let Some(r) = results.get(i).filter(|r| r.standard != "iec60664-1") {
+            let required = r.test_v_state != "not-applicable";
+            let beyond = r.test_v_state == "not-carried";
+            let mut figure = Figure::new(
+                &format!("test_voltage.{}", barrier.id),
+                format!(
+                    "Electric strength test, {} ({})",
+                    barrier.id,
+                    r.means_of_protection.unwrap_or(barrier.grade.as_str())
+                ),
+                r.test_v_rms,
+                "V rms",
+            )
+            .formula("the end-product standard's tables (see the barrier's derivation)")
+            .done(
+                vec![input("V_work,pk", peak, "V", "the barrier's working peak")],
+                None,
+                r.derivation.electric_strength.clone(),
+            );
+            figure.not_computed_because = (!required || beyond).then(|| r.test_v_basis.clone());
+            figures.push(figure);
+            standard_note = Some(format!(
+                "Barriers are tested as {} requires (each barrier's electric strength derivation names the tables).",
+                r.standard_title
+            ));
+            out.push(TestVoltage {
+                barrier: barrier.id.clone(),
+                grade: barrier.grade,
+                working_peak_v: significant(peak),
+                required,
+                test_v_rms: r.test_v_rms,
+                row_up_to_peak_v: None,
+                beyond_table: beyond,
+                test_v_from: required.then(|| r.test_v_basis.clone()),
+            });
+            continue;
+        }
         let peak_from = if barrier.working_peak_v.is_some() {
             "working_peak_v".to_string()
         } else {
@@ -2049,12 +2089,15 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             test_v_from,
         });
     }
-    let notes = vec![format!(
-        "From {} (rule table {}; {}).",
-        table.source,
-        TestVoltages::ID,
-        table.provenance
-    )];
+    let notes = match standard_note {
+        Some(note) => vec![note],
+        None => vec![format!(
+            "From {} (rule table {}; {}).",
+            table.source,
+            TestVoltages::ID,
+            table.provenance
+        )],
+    };
     (
         out,
         Section {

@@ -28,6 +28,7 @@ const DESIGN_KEYS: &[&str] = &[
     "protection_class",
     "creepage_between_rows",
     "altitude_between_rows",
+    "standard",
 ];
 const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
 const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
@@ -156,12 +157,21 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
             BetweenRows::NextRow
         }
     };
+    let standard = r
+        .word(&t, "standard", &crate::standards::Standard::WORDS)
+        .and_then(|l| crate::standards::Standard::from_word(l.value));
     let altitude_between = r.word(&t, "altitude_between_rows", &["next-row", "interpolate"]);
     let altitude_between_rows = match altitude_between.map(|l| l.value) {
         Some("interpolate") => BetweenRows::Interpolate,
         Some(_) => BetweenRows::NextRow,
         None => BetweenRows::NextRow,
     };
+    if standard.is_none() {
+        assumptions.push(
+            "No end-product standard named ([design] standard): the IEC 60664-1 basics apply; the lab will judge against an end-product standard (iec62368-1, iec60601-1 or iec60335-1)."
+                .to_string(),
+        );
+    }
     if revision.is_none() {
         assumptions.push(
             "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
@@ -178,6 +188,7 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
         protection_class,
         creepage_between_rows,
         altitude_between_rows,
+        standard,
     })
 }
 
@@ -442,7 +453,7 @@ fn read_barriers(
         };
         let id = r.required_string(t, "id");
         let between = read_between(r, t, circuit_set, &circuit_ids);
-        let grade = r.required_word(t, "grade", &Grade::WORDS);
+        let grade = r.required_word(t, "grade", &crate::standards::GRADE_WORDS);
         let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
         let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
         let transient = r.number(t, "transient_v", &TRANSIENT_V);
@@ -557,7 +568,11 @@ fn read_barriers(
         if printed.is_none() {
             defaults.printed_board.push(id.value.clone());
         }
-        let grade = Grade::from_word(grade.value).unwrap_or(Grade::Reinforced);
+        let means = crate::standards::Means::from_word(grade.value);
+        let grade = match means {
+            Some(m) => m.grade(),
+            None => Grade::from_word(grade.value).unwrap_or(Grade::Reinforced),
+        };
         let printed_board = printed.is_some_and(|l| l.value);
         if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none())
         {
@@ -567,6 +582,7 @@ fn read_barriers(
             id: id.value,
             between,
             grade,
+            means,
             working_rms_v: rms.value,
             working_peak_v: peak.map(|l| l.value),
             transient_v: transient.map(|l| l.value),

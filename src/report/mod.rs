@@ -14,7 +14,7 @@ use crate::project::{
     BetweenRows, CircuitKind, OvervoltageCategory, ProtectionClass, read_project,
 };
 use crate::rules::{RuleBook, RuleInfo};
-use crate::spacing::{BarrierResult, Conditions, Verdict, evaluate};
+use crate::spacing::{BarrierResult, Conditions, Verdict};
 
 pub(crate) use render::number as value_number;
 pub use render::{
@@ -41,6 +41,13 @@ pub struct DesignInfo {
     pub name: String,
     pub revision: Option<String>,
     pub protection_class: ProtectionClass,
+    /// The standard the figures follow ("iec60664-1" when none is named).
+    pub standard: &'static str,
+    /// That standard with its edition, and what it covers.
+    pub standard_title: &'static str,
+    pub standard_scope: &'static str,
+    /// Whether the project file names the standard (`[design] standard`).
+    pub standard_named: bool,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -171,7 +178,7 @@ pub struct Report {
     /// Every check that ran, with how many items it judged and raised.
     pub checks: Vec<CheckOutcome>,
     pub rules: Vec<RuleInfo>,
-    pub cautions: Vec<&'static str>,
+    pub cautions: Vec<String>,
     /// Power entry; null when the project has no `[input]`.
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
@@ -427,10 +434,14 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         creepage_between_rows: project.design.creepage_between_rows,
         altitude_between_rows: project.design.altitude_between_rows,
     };
+    let standard = project
+        .design
+        .standard
+        .unwrap_or(crate::standards::Standard::Iec60664);
     let mut barriers = Vec::new();
     let mut problems = Vec::new();
     for barrier in &project.barriers {
-        match evaluate(rules, &cond, barrier) {
+        match crate::standards::evaluate(rules, &cond, standard, barrier) {
             Ok(result) => barriers.push(result),
             Err(errors) => {
                 for out in errors {
@@ -476,6 +487,10 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
             name: project.design.name.clone(),
             revision: project.design.revision.clone(),
             protection_class: project.design.protection_class,
+            standard: standard.as_str(),
+            standard_title: standard.title(),
+            standard_scope: standard.scope(),
+            standard_named: project.design.standard.is_some(),
         },
         project_file: file_name(&source.name),
         inputs_sha256: crate::sha256_hex(source.text.as_bytes()),
@@ -517,7 +532,9 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         findings: Vec::new(),
         checks: Vec::new(),
         rules: rules.info.clone(),
-        cautions: CAUTIONS.to_vec(),
+        cautions: std::iter::once(standard.caution(project.design.standard.is_some()))
+            .chain(CAUTIONS.iter().map(|c| c.to_string()))
+            .collect(),
         power_entry,
         emc,
     })

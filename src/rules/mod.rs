@@ -104,6 +104,8 @@ pub struct RuleBook {
     pub power_entry: crate::power_entry::PowerEntryRules,
     /// Tables owned by the EMC evaluation.
     pub emc: crate::emc::EmcRules,
+    /// The end-product standards' tables (`rules/<standard>/`).
+    pub standards: crate::standards::StandardRules,
     pub checks: Vec<CheckDef>,
     /// The checks, compiled once.
     pub compiled_checks: crate::checks::CompiledChecks,
@@ -271,6 +273,7 @@ impl RuleBook {
         let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
         let power_entry = crate::power_entry::PowerEntryRules::load(&mut typed);
         let emc = crate::emc::EmcRules::load(&mut typed);
+        let standards = crate::standards::StandardRules::load(&mut typed);
         let mut problems = typed.problems;
         let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
@@ -350,6 +353,7 @@ impl RuleBook {
             minimums: need(minimums)?,
             power_entry: need(power_entry)?,
             emc: need(emc)?,
+            standards: need(standards)?,
             checks,
             compiled_checks: need(compiled_checks)?,
         };

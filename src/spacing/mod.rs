@@ -8,6 +8,9 @@ mod creepage;
 
 use serde::Serialize;
 
+pub(crate) use clearance::grade_label;
+pub(crate) use creepage::material_group;
+
 use crate::project::{Barrier, BetweenRows, Grade, OvervoltageCategory};
 use crate::rules::RuleBook;
 
@@ -44,7 +47,7 @@ pub struct OutOfTable {
 }
 
 impl OutOfTable {
-    fn new(key: &str, message: impl Into<String>) -> Self {
+    pub(crate) fn new(key: &str, message: impl Into<String>) -> Self {
         OutOfTable {
             key: key.to_string(),
             message: message.into(),
@@ -113,6 +116,8 @@ pub struct FunctionalFigures {
 pub struct Derivation {
     pub clearance: Vec<Step>,
     pub creepage: Vec<Step>,
+    /// How the electric strength test voltage was found (`crate::standards`).
+    pub electric_strength: Vec<Step>,
 }
 
 /// Everything the report says about one barrier. The field names are the JSON contract.
@@ -165,6 +170,23 @@ pub struct BarrierResult {
     /// (reduced to a third of the required clearance where that is under 3 mm).
     pub narrowest_slot_mm: f64,
     pub bridged_by: Vec<String>,
+    /// The standard whose tables and method gave the figures: "iec60664-1" (the basics),
+    /// "iec62368-1", "iec60601-1" or "iec60335-1".
+    pub standard: &'static str,
+    /// That standard with the edition whose table numbers are cited.
+    pub standard_title: &'static str,
+    /// Under IEC 60601-1: the means of protection ("1-moop", "2-moop", "1-mopp", "2-mopp");
+    /// `grade` is then the insulation it counts as (one means basic, two reinforced).
+    pub means_of_protection: Option<&'static str>,
+    /// Electric strength test voltage as a.c. rms; null where no test applies (functional
+    /// insulation) or the standard's table is not carried, with the reason in `test_v_basis`.
+    pub test_v_rms: Option<f64>,
+    /// The same test as peak or d.c. volts.
+    pub test_v_dc: Option<f64>,
+    /// Where the test voltage comes from, or why there is none.
+    pub test_v_basis: String,
+    /// "computed", "not-applicable" (functional insulation) or "not-carried".
+    pub test_v_state: &'static str,
     pub derivation: Derivation,
 }
 
@@ -252,9 +274,18 @@ pub fn evaluate(
         slot_width_mm: barrier.slot_width_mm,
         narrowest_slot_mm,
         bridged_by: barrier.bridged_by.clone(),
+        // Filled in by `crate::standards::evaluate`, which every caller goes through.
+        standard: "iec60664-1",
+        standard_title: "IEC 60664-1",
+        means_of_protection: None,
+        test_v_rms: None,
+        test_v_dc: None,
+        test_v_basis: String::new(),
+        test_v_state: "not-carried",
         derivation: Derivation {
             clearance: clearance.steps,
             creepage: creepage.steps,
+            electric_strength: Vec::new(),
         },
     })
 }
@@ -262,7 +293,7 @@ pub fn evaluate(
 /// Declared minus required. Rounding to micrometres hides floating-point noise, but a
 /// shortfall smaller than that keeps its sign: a distance short of the requirement never
 /// shows a margin of zero.
-fn margin(declared: f64, required: f64) -> f64 {
+pub(crate) fn margin(declared: f64, required: f64) -> f64 {
     let exact = declared - required;
     let rounded = tidy(exact);
     if exact < 0.0 && rounded >= 0.0 {
@@ -275,7 +306,11 @@ fn margin(declared: f64, required: f64) -> f64 {
 /// The narrowest groove that counts toward creepage: X by pollution degree, reduced to a
 /// fraction of the associated clearance (the barrier's required clearance) where that is
 /// small.
-fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (f64, Step) {
+pub(crate) fn narrowest_groove(
+    rules: &RuleBook,
+    cond: &Conditions,
+    clearance_mm: f64,
+) -> (f64, Step) {
     let table = &rules.grooves;
     let pd = cond.pollution_degree.clamp(1, 3);
     let x = table.min_width_mm[(pd - 1) as usize];
@@ -387,14 +422,14 @@ fn functional_on_board(
 }
 
 /// Which figures a house minimum raised, and whether creepage was then raised to clearance.
-struct HouseApplied {
-    clearance: bool,
-    creepage: bool,
-    raised_to_clearance: bool,
+pub(crate) struct HouseApplied {
+    pub(crate) clearance: bool,
+    pub(crate) creepage: bool,
+    pub(crate) raised_to_clearance: bool,
 }
 
 /// Applies a team's own floors (shipped at zero) and keeps creepage at least the clearance.
-fn house_minimums(
+pub(crate) fn house_minimums(
     rules: &RuleBook,
     grade: Grade,
     mut clearance: Figure,
@@ -449,7 +484,7 @@ fn house_minimums(
 /// A shortfall fails; otherwise a distance not yet declared leaves the barrier incomplete.
 /// The declared distances are compared with the exact required figures, never with a
 /// rounded margin or the printed figure.
-fn verdict(
+pub(crate) fn verdict(
     clearance_mm: Option<f64>,
     required_clearance_mm: f64,
     creepage_mm: Option<f64>,
