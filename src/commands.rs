@@ -27,6 +27,10 @@ pub const EXAMPLES: &[(&str, &str)] = &[
         "class1-appliance",
         include_str!("../examples/class1-appliance.toml"),
     ),
+    (
+        "medical-supply",
+        include_str!("../examples/medical-supply.toml"),
+    ),
 ];
 
 /// The report's output format; the variants' names and docs are `--format`'s words and help.
@@ -733,12 +737,35 @@ fn governed_by_words(value: &str) -> String {
 pub fn describe_rules(rules: &RuleBook, id: Option<&str>) -> Result<String, Problems> {
     let mut out = String::new();
     let Some(id) = id else {
-        out.push_str("Rule files\n\n");
-        for r in &rules.info {
-            out.push_str(&format!(
-                "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
-                r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
-            ));
+        out.push_str("Rule files, by standard\n");
+        // The standards' own folders first, then the basics and what every standard shares
+        // (a house file sits with the shared ones unless it is in a standard's folder).
+        let groups = crate::standards::Standard::WORDS
+            .iter()
+            .filter(|w| **w != "iec60664-1")
+            .map(|w| {
+                let title = crate::standards::Standard::from_word(w)
+                    .map(crate::standards::Standard::title)
+                    .unwrap_or("");
+                (*w, format!("{title} [{w}]"))
+            })
+            .chain(std::iter::once((
+                "shared",
+                "IEC 60664-1 basics and the tables every standard shares (parts, power entry, EMC)"
+                    .to_string(),
+            )));
+        for (word, heading) in groups {
+            out.push_str(&format!("\n{heading}\n\n"));
+            for r in rules
+                .info
+                .iter()
+                .filter(|r| crate::standards::StandardRules::standard_of(&r.file) == word)
+            {
+                out.push_str(&format!(
+                    "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
+                    r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
+                ));
+            }
         }
         out.push_str("\nChecks (id, severity, origin, defined at)\n\n");
         for c in &rules.checks {
@@ -818,10 +845,6 @@ pub struct SpacingQuery {
     pub altitude_between_rows: BetweenRows,
     pub clearance_mm: Option<f64>,
     pub creepage_mm: Option<f64>,
-    /// The standard whose tables and method apply (the IEC 60664-1 basics by default).
-    pub standard: crate::standards::Standard,
-    /// Under IEC 60601-1: the means of protection (replaces the grade).
-    pub means: Option<crate::standards::Means>,
 }
 
 /// The flags of `gapwarden spacing` that describe the barrier (`--rules` is the command
@@ -924,8 +947,6 @@ impl SpacingFlags {
             altitude_between_rows: between_rows(self.interpolate_altitude),
             clearance_mm: self.clearance_mm,
             creepage_mm: self.creepage_mm,
-            standard: self.standard,
-            means: self.means,
         }
     }
 }
@@ -951,6 +972,17 @@ pub fn spacing(rules: &RuleBook, q: &SpacingQuery) -> Result<BarrierResult, Prob
 pub fn spacing_with_warnings(
     rules: &RuleBook,
     q: &SpacingQuery,
+) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
+    spacing_under(rules, q, crate::standards::Standard::Iec60664, None)
+}
+
+/// As [`spacing_with_warnings`], under an end-product standard (`--standard`), with a means
+/// of protection in place of the grade under IEC 60601-1 (`--means`).
+pub fn spacing_under(
+    rules: &RuleBook,
+    q: &SpacingQuery,
+    standard: crate::standards::Standard,
+    means: Option<crate::standards::Means>,
 ) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
     use crate::project::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
     let mut problems = Vec::new();
@@ -999,11 +1031,8 @@ pub fn spacing_with_warnings(
     let barrier = Barrier {
         id: "spacing".to_string(),
         between: ["a".to_string(), "b".to_string()],
-        grade: q
-            .means
-            .map(crate::standards::Means::grade)
-            .unwrap_or(q.grade),
-        means: q.means,
+        grade: means.map(crate::standards::Means::grade).unwrap_or(q.grade),
+        means,
         working_rms_v: q.working_rms_v,
         working_peak_v: q.working_peak_v,
         transient_v: q.transient_v,
@@ -1035,7 +1064,7 @@ pub fn spacing_with_warnings(
         creepage_between_rows: q.creepage_between_rows,
         altitude_between_rows: q.altitude_between_rows,
     };
-    let result = crate::standards::evaluate(rules, &cond, q.standard, &barrier).map_err(|errors| {
+    let result = crate::standards::evaluate(rules, &cond, standard, &barrier).map_err(|errors| {
         Problems(
             errors
                 .into_iter()
@@ -1045,7 +1074,7 @@ pub fn spacing_with_warnings(
                         "environment.altitude_m" => "--altitude-m".to_string(),
                         "environment.pollution_degree" => "--pollution-degree".to_string(),
                         "environment.overvoltage_category" => "--overvoltage-category".to_string(),
-                        "grade" if q.means.is_some() => "--means".to_string(),
+                        "grade" if means.is_some() => "--means".to_string(),
                         k => format!("--{}", k.replace('_', "-")),
                     };
                     Diagnostic::new("command line", e.message).with_key(flag)

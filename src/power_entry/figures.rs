@@ -112,7 +112,23 @@ pub(super) fn evaluate(
         return Ok(None);
     };
     let pe = &rules.power_entry;
-    let (standard, standard_title) = end_product_standard(spec, &pe.touch, source)?;
+    // `[design] standard` names the standard for the touch-current limits too, unless
+    // `input.end_product_standard` says otherwise or the touch table does not carry it.
+    let design_standard = project
+        .design
+        .standard
+        .map(crate::standards::Standard::as_str)
+        .filter(|s| spec.end_product_standard.is_none() && pe.touch.standard(s).is_some());
+    let (standard, standard_title) = match design_standard {
+        Some(s) => (
+            s.to_string(),
+            pe.touch
+                .standard(s)
+                .map(|t| t.title.clone())
+                .unwrap_or_else(|| s.to_string()),
+        ),
+        None => end_product_standard(spec, &pe.touch, source)?,
+    };
     let mut assumptions = Vec::new();
     let mains = mains_range(project, spec, &pe.mains, &mut assumptions);
     let mut b = Basis {
@@ -125,7 +141,12 @@ pub(super) fn evaluate(
         assumptions,
         missing: Vec::new(),
     };
-    if spec.end_product_standard.is_none() {
+    if design_standard.is_some() {
+        b.assumptions.push(format!(
+            "End-product standard {standard_title} for the touch-current limits, as [design] standard names it (rule table {}).",
+            TouchRules::ID
+        ));
+    } else if spec.end_product_standard.is_none() {
         b.assumptions.push(format!(
             "End-product standard {standard_title} for the touch-current limits (input.end_product_standard not given; rule table {}).",
             TouchRules::ID
