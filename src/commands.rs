@@ -503,7 +503,7 @@ pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
 pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     let mut out = String::new();
     let (barrier_id, figure) = match item.rsplit_once('.') {
-        Some((b, f @ ("clearance" | "creepage"))) => (b, Some(f)),
+        Some((b, f @ ("clearance" | "creepage" | "electric_strength"))) => (b, Some(f)),
         _ => (item, None),
     };
     if let Some(b) = report.barriers.iter().find(|b| b.id == barrier_id) {
@@ -682,6 +682,20 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
         };
         out.push_str(&format!("  set by: {}\n", governed_by_words(governed_by)));
         if what == "clearance"
+            && b.standard == "iec62368-1"
+            && let (Some(t), Some(s), Some(v)) = (
+                b.transient_clearance_mm,
+                b.steady_state_clearance_mm,
+                b.steady_state_peak_v,
+            )
+        {
+            out.push_str(&format!(
+                "  procedure 1 (IEC 62368-1 Table 10 at {} V peak) {} mm; procedure 2 (Table 14 by the withstand voltage) {} mm; the larger governs\n",
+                show(v),
+                show(s),
+                show(t)
+            ));
+        } else if what == "clearance"
             && let (Some(t), Some(s), Some(v)) = (
                 b.transient_clearance_mm,
                 b.steady_state_clearance_mm,
@@ -714,6 +728,28 @@ fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
             out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
         }
     }
+    if figure.is_none_or(|f| f == "electric_strength") {
+        let shown = |v: Option<f64>, unit: &str| {
+            v.map(|v| format!("{} {unit}", show(v)))
+                .unwrap_or_else(|| "none".to_string())
+        };
+        out.push_str(&format!(
+            "{}.electric_strength: {} a.c., {} peak or d.c. ({}; {})\n",
+            b.id,
+            shown(b.test_v_rms, "V rms"),
+            shown(b.test_v_dc, "V"),
+            b.standard_title,
+            b.test_v_basis
+        ));
+        for (i, s) in b.derivation.electric_strength.iter().enumerate() {
+            let rule = s
+                .rule
+                .as_deref()
+                .map(|r| format!(" [{r}]"))
+                .unwrap_or_default();
+            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
+        }
+    }
 }
 
 /// What a `*_governed_by` value means, for `explain`.
@@ -728,6 +764,10 @@ fn governed_by_words(value: &str) -> String {
         "creepage-table" => "the creepage table (IEC 60664-1 Table F.5)",
         "clearance" => "the required clearance (creepage is never less)",
         "house-minimum" => "a house minimum",
+        "procedure-1" => "IEC 62368-1 procedure 1 (Table 10 by the peak working voltage)",
+        "procedure-2" => "IEC 62368-1 procedure 2 (Table 14 by the required withstand voltage)",
+        "mopp-table" => "the IEC 60601-1 MOPP table (by working voltage)",
+        "moop-table" => "the IEC 60601-1 MOOP row carried",
         other => other,
     };
     format!("{words} [{value}]")

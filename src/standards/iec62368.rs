@@ -81,7 +81,7 @@ fn clearance(
     cond: &Conditions,
     barrier: &Barrier,
     reinforced: bool,
-) -> Result<(Figure, f64, f64, f64, f64, f64, &'static str), OutOfTable> {
+) -> Result<(Figure, f64, f64, f64, f64, f64, f64, &'static str), OutOfTable> {
     let mut steps = Vec::new();
     let pd = cond.pollution_degree.clamp(1, 3);
     // Procedure 1: Table 10 by the peak working voltage.
@@ -184,6 +184,7 @@ fn clearance(
     } else {
         at
     };
+    let table_v = p2_reading.up_to;
     steps.push(p2_reading.step);
     let p2 = p2_reading.value;
     let (mut mm, governed_by) = if p1 > p2 {
@@ -227,6 +228,7 @@ fn clearance(
             steps,
         },
         withstand_v,
+        table_v,
         p1,
         p2,
         peak,
@@ -292,11 +294,13 @@ pub(super) fn dimension(
 ) -> Result<Dimensioned, Vec<OutOfTable>> {
     frequency_in_range(t, barrier).map_err(|e| vec![e])?;
     let reinforced = barrier.grade == Grade::Reinforced;
-    let ((clearance, withstand_v, p1, p2, peak, factor, governed_by), (creepage, column, group)) =
-        both(
-            clearance(t, cond, barrier, reinforced),
-            creepage(t, rules, cond, barrier, reinforced),
-        )?;
+    let (
+        (clearance, withstand_v, table_v, p1, p2, peak, factor, governed_by),
+        (creepage, column, group),
+    ) = both(
+        clearance(t, cond, barrier, reinforced),
+        creepage(t, rules, cond, barrier, reinforced),
+    )?;
     let (mut clearance, mut creepage) = (clearance, creepage);
     let mut creepage_governed_by = "creepage-table";
     let mut double_parts = None;
@@ -324,7 +328,7 @@ pub(super) fn dimension(
         clearance_governed_by: governed_by,
         creepage_governed_by,
         rated_impulse_v: Some(withstand_v),
-        clearance_impulse_v: Some(withstand_v),
+        clearance_impulse_v: Some(table_v),
         altitude_factor: factor,
         creepage_column: column.to_string(),
         material_group: Some(group.as_str()),

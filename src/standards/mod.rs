@@ -208,15 +208,15 @@ pub fn two_mopp_capacitor(
 /// The grade words a barrier may take: the insulation grades, and the means of protection
 /// (accepted only under IEC 60601-1).
 pub const GRADE_WORDS: [&str; 9] = [
+    "1-moop",
+    "2-moop",
+    "1-mopp",
+    "2-mopp",
     "functional",
     "basic",
     "supplementary",
     "reinforced",
     "double",
-    "1-moop",
-    "2-moop",
-    "1-mopp",
-    "2-mopp",
 ];
 
 /// How far a row of a standard's table is known to be right.

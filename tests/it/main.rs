@@ -18,4 +18,5 @@ mod power_entry;
 mod properties;
 mod size_limits;
 mod spacing_rules;
+mod standards;
 mod verdicts;
