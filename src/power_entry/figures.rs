@@ -198,7 +198,7 @@ pub(super) fn evaluate(
     let exact_rms = max_of(points.iter().map(|p| p.exact_input_rms_a));
     let (fuse, fuse_section) = fuse(&mut b, &inrush, exact_rms);
     sections.push(fuse_section);
-    let (discharge, discharge_section) = discharge(&mut b);
+    let (discharge, discharge_section) = discharge(&mut b, &standard);
     sections.push(discharge_section);
     let (touch, touch_section) = touch(&mut b, &standard, &standard_title);
     sections.push(touch_section);
@@ -1465,8 +1465,26 @@ fn fuse(
     )
 }
 
-fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
+fn discharge(b: &mut Basis, standard: &str) -> (DischargeReport, Section) {
     let rules = &b.rules.power_entry.discharge;
+    // A house limit holds under every standard; otherwise the end-product standard's own.
+    let residual_limit: Option<(f64, String)> = rules
+        .residual_limit_v
+        .as_ref()
+        .map(|l| (l.value, l.source.clone()))
+        .or_else(|| {
+            rules
+                .residual_limits
+                .iter()
+                .find(|l| {
+                    l.standard == standard
+                        && l.connections.iter().any(|c| {
+                            Some(c.as_str()) == b.spec.connection.as_ref().map(|x| x.as_str())
+                                || (b.spec.connection.is_none() && c == "plug")
+                        })
+                })
+                .map(|l| (l.limit_v, l.source.clone()))
+        });
     let rule = Some(DischargeRules::ID);
     let spec = b.spec;
     let connection = spec.connection.unwrap_or_else(|| {
@@ -1534,7 +1552,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         max_time_constant_s: limit.map(|l| l.max_time_constant_s),
         residual_after_s: t_res,
         residual_v: sig(residual),
-        residual_limit_v: rules.residual_limit_v.as_ref().map(|l| l.value),
+        residual_limit_v: residual_limit.as_ref().map(|l| l.0),
         exact_residual_v: residual,
     };
     let r_c_inputs = || {
@@ -1665,15 +1683,20 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         .rests_on(keys)
         .done(
             [vec![peak_input(b)], r_c_inputs()].concat(),
-            rules
-                .residual_limit_v
+            residual_limit
                 .as_ref()
-                .map(|l| format!("{} V ({})", show(l.value), l.source)),
+                .map(|l| format!("{} V ({})", show(l.0), l.1)),
             vec![Step::new(
                 rule,
                 format!(
-                    "{}; no limit on this voltage is shipped, a house rule may add one.{}",
+                    "{}; {}.{}",
                     rules.residual_after_s.source,
+                    match &residual_limit {
+                        Some((v, source)) => format!("limit {} V ({source})", show(*v)),
+                        None => format!(
+                            "no limit on this voltage is shipped for {standard}, a house rule may add one"
+                        ),
+                    },
                     if spec.bleeder_ohm.is_none() {
                         " Without a bleeder nothing is credited: the crest remains."
                     } else {

@@ -807,3 +807,29 @@ fn reinforced_never_needs_less_than_basic_under_any_standard() {
         }
     }
 }
+
+#[test]
+fn iec62368_judges_the_voltage_2_s_after_disconnection_against_es1() {
+    // IEC 62368-1 clause 5.5.2.2: the voltage 2 s after disconnection (confirmed in a CB
+    // report) within ES1, 60 V d.c. (one source). The example: 1 Mohm across 0.1 uF + 0.47 uF,
+    // tau = 0.57 s; at the 264 V crest, 264 x sqrt(2) x e^(-2 / 0.57) = 11.2 V: within 60 V.
+    let o = run(&["check", "examples/class2-adapter.toml", "--format", "json"]);
+    let report: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("JSON");
+    let d = &report["power_entry"]["discharge"];
+    assert_eq!(d["residual_limit_v"], 60.0);
+    let expected = 264.0 * 2f64.sqrt() * (-2.0_f64 / 0.57).exp();
+    assert!((d["residual_v"].as_f64().expect("residual") - expected).abs() < 1e-3);
+    // A 10 Mohm bleeder: tau = 5.7 s, 373.4 x e^(-2 / 5.7) = 263 V after 2 s: above ES1.
+    let text = std::fs::read_to_string(root().join("examples/class2-adapter.toml"))
+        .expect("the example")
+        .replacen("bleeder_ohm = 1.0e6", "bleeder_ohm = 1.0e7", 1);
+    let (o, report) = check_text("slow-bleeder.toml", &text);
+    assert_exit(&o, 1);
+    assert!(
+        blocking_ids(&report)
+            .iter()
+            .any(|b| b.starts_with("power_entry.x_residual_high")),
+        "{:?}",
+        blocking_ids(&report)
+    );
+}
