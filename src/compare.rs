@@ -118,6 +118,13 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
         e(&old.readiness.state),
         e(&new.readiness.state)
     ));
+    // A change of standard changes figures with no change of layout: say so before them.
+    if old.design.standard != new.design.standard {
+        out.push_str(&format!(
+            "**The standard changed** from {} to {}: the required figures and test voltages below follow the new standard's tables and method, so a figure may change with no change of layout.\n\n",
+            old.design.standard_title, new.design.standard_title
+        ));
+    }
     // House rules apply to both revisions alike; say so first, with each file's hash.
     if !new.house.rules.is_empty() {
         let files: Vec<String> = new
@@ -179,13 +186,19 @@ pub fn compare(old_text: &str, old: &Report, new_text: &str, new: &Report) -> St
                         a.creepage_margin_mm,
                         b.creepage_margin_mm,
                     ),
+                    ("electric strength test, V rms", a.test_v_rms, b.test_v_rms),
                 ] {
                     if before != after {
+                        // A test voltage that is absent is none, not undeclared.
+                        let shown = |x: Option<f64>| match x {
+                            None if what.starts_with("electric") => "none".to_string(),
+                            x => mm(x),
+                        };
                         rows.push_str(&format!(
                             "| {} | {what} | {} | {} |\n",
                             e(id),
-                            mm(before),
-                            mm(after)
+                            shown(before),
+                            shown(after)
                         ));
                     }
                 }

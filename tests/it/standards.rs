@@ -833,3 +833,30 @@ fn iec62368_judges_the_voltage_2_s_after_disconnection_against_es1() {
         blocking_ids(&report)
     );
 }
+
+#[test]
+fn compare_names_a_change_of_standard_as_the_cause_of_changed_figures() {
+    let old = std::fs::read_to_string(root().join("examples/class2-adapter.toml"))
+        .expect("the example")
+        .replacen("standard = \"iec62368-1\"", "standard = \"iec60664-1\"", 1);
+    let dir = std::env::temp_dir().join(format!("gapwarden-compare-std-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    let path = dir.join("old.toml");
+    std::fs::write(&path, old).expect("written");
+    let o = run(&[
+        "compare",
+        path.to_str().expect("UTF-8 path"),
+        "examples/class2-adapter.toml",
+    ]);
+    let text = stdout(&o);
+    assert!(text.contains("The standard changed"), "{text}");
+    assert!(text.contains("IEC 62368-1:2018"), "{text}");
+    // The reinforced creepage rises from the basics' 3 mm (printed wiring, raised to the
+    // clearance) to IEC 62368-1's 5 mm (2 x 2.5 mm, [TI1]).
+    assert!(
+        text.lines().any(|l| l.contains("pri-sec")
+            && l.contains("required creepage")
+            && l.ends_with("| 3 | 5 |")),
+        "{text}"
+    );
+}
