@@ -126,7 +126,9 @@ pub struct BarrierResult {
     pub id: String,
     pub between: [String; 2],
     pub grade: Grade,
-    /// "iec60664-1" (insulation coordination) or "ipc2221b" (functional spacing on a board).
+    /// "iec60664-1" (insulation coordination), "ipc2221b" (functional spacing on a board), or
+    /// the end-product standard whose method set the figures ("iec62368-1", "iec60601-1",
+    /// "iec60335-1").
     pub method: &'static str,
     pub working_rms_v: f64,
     pub working_peak_v: Option<f64>,
@@ -148,7 +150,8 @@ pub struct BarrierResult {
     pub creepage_margin_mm: Option<f64>,
     pub verdict: Verdict,
     /// What sets the required clearance: "transient" (Table F.2), "steady-state"
-    /// (Table F.8), "pollution-degree-minimum", "ipc2221b" or "house-minimum".
+    /// (Table F.8), "pollution-degree-minimum", "ipc2221b" or "house-minimum"; under IEC
+    /// 62368-1 "procedure-1" or "procedure-2", under IEC 60601-1 "mopp-table" or "moop-table".
     pub clearance_governed_by: &'static str,
     /// What sets the required creepage: "creepage-table" (Table F.5), "clearance" (raised
     /// to the required clearance), "ipc2221b" or "house-minimum".

@@ -207,7 +207,7 @@ pub(super) fn dimension(
     }
     let double_parts =
         (barrier.grade == Grade::Double).then(|| double_up(&mut clearance, &mut creepage));
-    let label = crate::spacing::grade_label(barrier.grade);
+    let label = super::figure_label(barrier.grade);
     clearance.steps.push(Step::new(
         None,
         format!("Required clearance ({label}): {} mm.", show(clearance.mm)),

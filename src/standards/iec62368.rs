@@ -312,7 +312,7 @@ pub(super) fn dimension(
     } else if at_least_clearance(&mut creepage, clearance.mm) {
         creepage_governed_by = "clearance";
     }
-    let label = super::super::spacing::grade_label(barrier.grade);
+    let label = super::figure_label(barrier.grade);
     clearance.steps.push(Step::new(
         None,
         format!("Required clearance ({label}): {} mm.", show(clearance.mm)),

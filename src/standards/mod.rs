@@ -419,7 +419,7 @@ impl StandardTable {
             )
         } else {
             format!(
-                "{} lies between rows; the next higher row up to {} (never interpolated)",
+                "{} falls in the row up to {} (the next higher row; never interpolated)",
                 show(x),
                 show(row.up_to)
             )
@@ -773,6 +773,14 @@ fn at_least_clearance(creepage: &mut Figure, clearance_mm: f64) -> bool {
         true
     } else {
         false
+    }
+}
+
+/// How the last step of a figure names its grade (after double insulation is summed).
+fn figure_label(grade: Grade) -> &'static str {
+    match grade {
+        Grade::Double => "double insulation, basic plus supplementary",
+        g => crate::spacing::grade_label(g),
     }
 }
 
