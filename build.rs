@@ -53,12 +53,25 @@ fn rules(root: &Path) -> String {
             .iter()
             .map(|b| format!("{b:02x}"))
             .collect();
-        let lines: Vec<String> = text
-            .lines()
-            .enumerate()
-            .filter(|(_, l)| l.trim_start().starts_with("[[check]]"))
-            .map(|(i, _)| (i + 1).to_string())
-            .collect();
+        // The line of each [[check]] entry, where the parser located it.
+        let doc = toml::de::DeTable::parse(&text)
+            .unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
+        let lines: Vec<String> = doc
+            .get_ref()
+            .iter()
+            .find(|(k, _)| k.get_ref().as_ref() == "check")
+            .and_then(|(_, v)| match v.get_ref() {
+                toml::de::DeValue::Array(items) => Some(
+                    items
+                        .iter()
+                        .map(|item| {
+                            (text[..item.span().start].matches('\n').count() + 1).to_string()
+                        })
+                        .collect(),
+                ),
+                _ => None,
+            })
+            .unwrap_or_default();
         let field = |key: &str| {
             value
                 .get(key)

@@ -9,13 +9,14 @@ use serde::Serialize;
 use crate::diag::{Diagnostic, Problems};
 use crate::rules::{CheckDef, Cond, Over, RuleBook};
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, clap::ValueEnum)]
 pub enum Severity {
     Blocking,
     Warning,
     Note,
 }
+
+crate::domain_words!(Severity);
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Finding {

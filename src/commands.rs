@@ -8,6 +8,7 @@ use std::path::{Path, PathBuf};
 use crate::ExitStatus;
 use crate::checks::Severity;
 use crate::diag::{Diagnostic, Problems, Source, suggest};
+use crate::input_limits::NumberRule;
 use crate::project::{
     Barrier, BetweenRows, BoardCoating, BoardConductor, BoardSpacing, Field, Grade, Material,
     MaterialGroup, OvervoltageCategory,
@@ -15,7 +16,6 @@ use crate::project::{
 use crate::report::{Report, Templates, check_source, render_html, render_json, render_markdown};
 use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Conditions};
-use crate::toml_read::NumberRule;
 
 /// Example projects that `gapwarden new --example NAME` writes.
 pub const EXAMPLES: &[(&str, &str)] = &[
@@ -637,11 +637,7 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
 }
 
 fn severity_word(s: Severity) -> &'static str {
-    match s {
-        Severity::Blocking => "blocking",
-        Severity::Warning => "warning",
-        Severity::Note => "note",
-    }
+    s.as_str()
 }
 
 fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {

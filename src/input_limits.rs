@@ -3,7 +3,93 @@
 //! quantity is defined once here and named after what it is, so two readers of the same
 //! quantity cannot drift apart; a key takes the rule of its quantity.
 
-use crate::toml_read::NumberRule;
+/// What a number may be: its hard limits (an error outside) and its plausible range
+/// (a warning outside), with the words used in messages.
+#[derive(Debug, Clone, Copy)]
+pub struct NumberRule {
+    /// Lowest allowed value and whether it is itself allowed.
+    pub min: f64,
+    pub min_inclusive: bool,
+    /// Highest allowed value (inclusive).
+    pub max: f64,
+    /// Below this (and above zero) the value is accepted with a warning that it looks
+    /// implausible: a value in farads where nanofarads were meant, say.
+    pub plausible_min: f64,
+    /// Above this the value is accepted with a warning that it looks implausible.
+    pub plausible_max: f64,
+    pub integer: bool,
+    /// The expected form, as a reader would say it ("a voltage in volts, 0 to 100000").
+    pub expected: &'static str,
+}
+
+impl NumberRule {
+    /// Checks a number; `Err` holds the reason, `Ok(Some)` a warning. Numbers in the
+    /// messages are printed exactly (scientific notation at the extremes: 1e300, 5e-324),
+    /// never rounded and never as hundreds of digits.
+    pub fn judge(&self, value: f64) -> Result<Option<String>, String> {
+        use crate::text::exact_number as n;
+        if !value.is_finite() {
+            return Err(format!(
+                "{value} is not a finite number; expected {}",
+                self.expected
+            ));
+        }
+        if self.integer && value.fract() != 0.0 {
+            return Err(format!(
+                "{} is not a whole number; expected {}",
+                n(value),
+                self.expected
+            ));
+        }
+        let below = if self.min_inclusive {
+            value < self.min
+        } else {
+            value <= self.min
+        };
+        if below || value > self.max {
+            return Err(format!(
+                "{} is out of range; expected {}",
+                n(value),
+                self.expected
+            ));
+        }
+        if value > 0.0 && value < self.plausible_min {
+            return Ok(Some(format!(
+                "{} is unusually small (below {}); check the unit",
+                n(value),
+                n(self.plausible_min)
+            )));
+        }
+        if value > 0.0 && value < self.absurdly_small_below() {
+            return Ok(Some(format!(
+                "{} is absurdly small (below {}, a billionth of the usual largest value); check the unit",
+                n(value),
+                n(self.absurdly_small_below())
+            )));
+        }
+        if value > self.plausible_max {
+            return Ok(Some(format!(
+                "{} is unusually large (above {}); check the unit",
+                n(value),
+                n(self.plausible_max)
+            )));
+        }
+        Ok(None)
+    }
+
+    /// A positive value below this is implausible even where the rule sets no
+    /// `plausible_min`: nine orders of magnitude below the top of the plausible range, and
+    /// every subnormal number (5e-324 Hz prints as 0 and means nothing). Only for
+    /// quantities whose zero is a true zero (`min` at or above 0); a level in dBuV or a
+    /// temperature in degrees Celsius may sit just above 0 by right.
+    pub fn absurdly_small_below(&self) -> f64 {
+        if self.min < 0.0 || !self.plausible_max.is_finite() || self.plausible_max >= f64::MAX {
+            return 0.0;
+        }
+        // Divided rather than multiplied by 1e-9: 1000 / 1e9 is exactly the double 1e-6.
+        (self.plausible_max / 1e9).max(f64::MIN_POSITIVE)
+    }
+}
 
 /// A quantity above zero with no plausible minimum.
 const fn above_zero(max: f64, plausible_max: f64, expected: &'static str) -> NumberRule {

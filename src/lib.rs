@@ -14,12 +14,12 @@ pub mod memory_guard;
 pub mod parts;
 pub mod power_entry;
 pub mod project;
+pub mod raw;
 pub mod report;
 pub mod rules;
 pub mod spacing;
 pub mod standards;
 pub mod text;
-pub mod toml_read;
 
 pub use exit_status::ExitStatus;
 

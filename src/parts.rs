@@ -2,6 +2,7 @@
 //! beside what the barrier needs, looked up from the rule tables. The checks in
 //! `rules/checks/part.toml` compare them.
 
+use crate::rules::Table as _;
 use serde::Serialize;
 
 use crate::project::{Barrier, Grade, Part, PartKind, Project};

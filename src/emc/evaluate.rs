@@ -16,8 +16,8 @@ use super::{
 };
 use crate::power_entry::{Verdict, rests_on_suspicious};
 use crate::project::ProtectionClass;
+use crate::raw::Span;
 use crate::spacing::{Step, round_up, show, tidy};
-use crate::toml_read::Span;
 
 /// Second-order filter slope, dB per decade.
 const SECOND_ORDER_DB: f64 = 40.0;

@@ -12,23 +12,24 @@ pub mod noise;
 mod read;
 pub mod rules;
 
+use crate::rules::Table as _;
 use serde::Serialize;
 
 use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
 use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
+use crate::raw::{Reader, Span, TableAt};
 use crate::rules::RuleBook;
 use crate::spacing::{Step, show};
-use crate::toml_read::{Reader, Span, TableRef};
 
 pub use evaluate::{EmcInputs, InputProblem, TouchLimit, compute};
 pub use noise::{BulkCapacitor, CommonModePath, ConverterFigures, Network};
+pub use read::{RawEmc, RawFilter, RawPrescan};
 pub use rules::{Detector, EmcRules, LimitClass};
 
 /// The detector a prescan point was read with.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum PrescanDetector {
     QuasiPeak,
     Average,
@@ -36,55 +37,18 @@ pub enum PrescanDetector {
     Peak,
 }
 
-impl PrescanDetector {
-    pub const WORDS: [&'static str; 3] = ["quasi-peak", "average", "peak"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "quasi-peak" => Some(Self::QuasiPeak),
-            "average" => Some(Self::Average),
-            "peak" => Some(Self::Peak),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::QuasiPeak => "quasi-peak",
-            Self::Average => "average",
-            Self::Peak => "peak",
-        }
-    }
-}
-
 /// How the Y capacitors sit: one from each mains line to earth (common-mode capacitance
 /// twice the per-line value), or a single one from the rectified primary to earth or to the
 /// secondary (common-mode capacitance equal to it).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum YArrangement {
     EachLine,
     Single,
 }
 
+crate::domain_words!(PrescanDetector, YArrangement);
+
 impl YArrangement {
-    pub const WORDS: [&'static str; 2] = ["each-line", "single"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "each-line" => Some(Self::EachLine),
-            "single" => Some(Self::Single),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::EachLine => "each-line",
-            Self::Single => "single",
-        }
-    }
-
     /// Common-mode capacitance as a multiple of the per-line Y capacitance.
     pub fn common_mode_factor(self) -> f64 {
         match self {
@@ -321,8 +285,13 @@ pub struct EmcReport {
 }
 
 /// Reads `[emc]`; a table present is read in full (nothing is left unevaluated).
-pub fn read(r: &mut Reader, root: &TableRef, _not_evaluated: &mut Vec<String>) -> Option<EmcSpec> {
-    read::read_emc(r, root)
+pub fn read(
+    r: &mut Reader,
+    root: &TableAt,
+    raw_root: &crate::project::RawProject,
+    _not_evaluated: &mut Vec<String>,
+) -> Option<EmcSpec> {
+    read::read_emc(r, root, raw_root)
 }
 
 /// The EMC figures; `None` when the project has no `[emc]`.

@@ -8,58 +8,95 @@ use crate::input_limits::{
     CAPACITANCE_NF, CAPACITANCE_PF, CAPACITANCE_UF, INDUCTANCE_MH, INDUCTANCE_UH, LEVEL_DBUV,
     MARGIN_DB, PRESCAN_FREQUENCY_HZ, RESISTANCE_OHM, RISE_NS, SWING_V,
 };
-use crate::toml_read::{Reader, TableRef};
+use serde::Deserialize;
 
-const EMC_KEYS: &[&str] = &[
-    "limit_class",
-    "margin_db",
-    "prescan",
-    "filter",
-    "parasitic_capacitance_pf",
-    "switch_node_swing_v",
-    "switch_node_rise_time_ns",
-];
-const PRESCAN_KEYS: &[&str] = &["frequency_hz", "level_dbuv", "detector"];
-const FILTER_KEYS: &[&str] = &[
-    "dm_inductance_uh",
-    "dm_inductor_resistance_ohm",
-    "x_capacitance_uf",
-    "damping_resistance_ohm",
-    "damping_capacitance_uf",
-    "cm_inductance_mh",
-    "y_capacitance_nf",
-    "y_arrangement",
-];
+use crate::key;
+use crate::project::{Key, RawProject, TableKey, TablesKey};
+use crate::raw::{Num, Reader, TableAt, Word};
+
+/// `[emc]`: conducted emissions on the mains port and the input filter.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawEmc {
+    /// Conducted-emission limits on the mains port: "A" or "B".
+    pub limit_class: Key<Word<LimitClass>>,
+    /// Margin below the limit in decibels.
+    pub margin_db: Key<Num>,
+    /// Levels measured without the filter.
+    pub prescan: TablesKey<RawPrescan>,
+    /// The input filter as built.
+    pub filter: TableKey<RawFilter>,
+    /// Parasitic capacitance from the switch node to earth in picofarads.
+    pub parasitic_capacitance_pf: Key<Num>,
+    /// Voltage swing of the switch node in volts.
+    pub switch_node_swing_v: Key<Num>,
+    /// Rise time of the switch node in nanoseconds.
+    pub switch_node_rise_time_ns: Key<Num>,
+}
+
+/// One `[[emc.prescan]]` point.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawPrescan {
+    /// Frequency in hertz (required).
+    pub frequency_hz: Key<Num>,
+    /// Measured level in dBµV (required).
+    pub level_dbuv: Key<Num>,
+    /// The detector it was read with (required).
+    pub detector: Key<Word<PrescanDetector>>,
+}
+
+/// `[emc.filter]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawFilter {
+    /// Differential-mode inductance in microhenries.
+    pub dm_inductance_uh: Key<Num>,
+    /// Resistance of the differential-mode inductor in ohms.
+    pub dm_inductor_resistance_ohm: Key<Num>,
+    /// X capacitance of the filter in microfarads.
+    pub x_capacitance_uf: Key<Num>,
+    /// Damping branch resistance in ohms (with `damping_capacitance_uf`).
+    pub damping_resistance_ohm: Key<Num>,
+    /// Damping branch capacitance in microfarads (with `damping_resistance_ohm`).
+    pub damping_capacitance_uf: Key<Num>,
+    /// Common-mode inductance in millihenries.
+    pub cm_inductance_mh: Key<Num>,
+    /// Y capacitance in nanofarads.
+    pub y_capacitance_nf: Key<Num>,
+    /// How the Y capacitors sit.
+    pub y_arrangement: Key<Word<YArrangement>>,
+}
 
 /// Reads `[emc]`; `None` when absent or unusable (the problem is then reported).
-pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
-    let t = r.table(root, "emc", EMC_KEYS)?;
+pub fn read_emc(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option<EmcSpec> {
+    let (t, raw_t) = r.table(root, key!(raw_root.emc))?;
     let problems_before = r.problems.len();
     let limit_class = r
-        .word(&t, "limit_class", &LimitClass::WORDS)
-        .and_then(|l| LimitClass::from_word(l.value));
-    let margin_db = r.number(&t, "margin_db", &MARGIN_DB).map(|l| l.value);
+        .word::<LimitClass>(&t, key!(raw_t.limit_class))
+        .map(|l| l.value);
+    let margin_db = r
+        .number(&t, key!(raw_t.margin_db), &MARGIN_DB)
+        .map(|l| l.value);
     let parasitic_capacitance_pf = r
-        .number(&t, "parasitic_capacitance_pf", &CAPACITANCE_PF)
+        .number(&t, key!(raw_t.parasitic_capacitance_pf), &CAPACITANCE_PF)
         .map(|l| l.value);
     let switch_node_swing_v = r
-        .number(&t, "switch_node_swing_v", &SWING_V)
+        .number(&t, key!(raw_t.switch_node_swing_v), &SWING_V)
         .map(|l| l.value);
     let switch_node_rise_time_ns = r
-        .number(&t, "switch_node_rise_time_ns", &RISE_NS)
+        .number(&t, key!(raw_t.switch_node_rise_time_ns), &RISE_NS)
         .map(|l| l.value);
 
     let mut prescan = Vec::new();
-    for p in r.table_array(&t, "prescan", PRESCAN_KEYS) {
-        let frequency = r.required_number(&p, "frequency_hz", &PRESCAN_FREQUENCY_HZ);
-        let level = r.required_number(&p, "level_dbuv", &LEVEL_DBUV);
-        let detector = r.required_word(&p, "detector", &PrescanDetector::WORDS);
+    for (p, raw_p) in r.table_array(&t, key!(raw_t.prescan)) {
+        let frequency = r.required_number(&p, key!(raw_p.frequency_hz), &PRESCAN_FREQUENCY_HZ);
+        let level = r.required_number(&p, key!(raw_p.level_dbuv), &LEVEL_DBUV);
+        let detector = r.required_word::<PrescanDetector>(&p, key!(raw_p.detector));
         let (Some(frequency), Some(level), Some(detector)) = (frequency, level, detector) else {
             continue;
         };
-        let Some(detector) = PrescanDetector::from_word(detector.value) else {
-            continue;
-        };
+        let detector = detector.value;
         prescan.push(PrescanPoint {
             frequency_hz: frequency.value,
             level_dbuv: level.value,
@@ -69,8 +106,8 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
         });
     }
 
-    let filter = match r.table(&t, "filter", FILTER_KEYS) {
-        Some(f) => read_filter(r, &f),
+    let filter = match r.table(&t, key!(raw_t.filter)) {
+        Some((f, raw_f)) => read_filter(r, &f, raw_f),
         None => FilterSpec::default(),
     };
 
@@ -88,43 +125,45 @@ pub fn read_emc(r: &mut Reader, root: &TableRef) -> Option<EmcSpec> {
     })
 }
 
-fn read_filter(r: &mut Reader, f: &TableRef) -> FilterSpec {
+fn read_filter(r: &mut Reader, f: &TableAt, raw_f: &RawFilter) -> FilterSpec {
     let dm_inductance_uh = r
-        .number(f, "dm_inductance_uh", &INDUCTANCE_UH)
+        .number(f, key!(raw_f.dm_inductance_uh), &INDUCTANCE_UH)
         .map(|l| l.value);
     let dm_inductor_resistance_ohm = r
-        .number(f, "dm_inductor_resistance_ohm", &RESISTANCE_OHM)
+        .number(f, key!(raw_f.dm_inductor_resistance_ohm), &RESISTANCE_OHM)
         .map(|l| l.value);
     let x_capacitance_uf = r
-        .number(f, "x_capacitance_uf", &CAPACITANCE_UF)
+        .number(f, key!(raw_f.x_capacitance_uf), &CAPACITANCE_UF)
         .map(|l| l.value);
-    let damping_resistance = r.number(f, "damping_resistance_ohm", &RESISTANCE_OHM);
-    let damping_capacitance = r.number(f, "damping_capacitance_uf", &CAPACITANCE_UF);
+    let damping_resistance = r.number(f, key!(raw_f.damping_resistance_ohm), &RESISTANCE_OHM);
+    let damping_capacitance = r.number(f, key!(raw_f.damping_capacitance_uf), &CAPACITANCE_UF);
     let cm_inductance_mh = r
-        .number(f, "cm_inductance_mh", &INDUCTANCE_MH)
+        .number(f, key!(raw_f.cm_inductance_mh), &INDUCTANCE_MH)
         .map(|l| l.value);
     let y_capacitance_nf = r
-        .number(f, "y_capacitance_nf", &CAPACITANCE_NF)
+        .number(f, key!(raw_f.y_capacitance_nf), &CAPACITANCE_NF)
         .map(|l| l.value);
     let y_arrangement = r
-        .word(f, "y_arrangement", &YArrangement::WORDS)
-        .and_then(|l| YArrangement::from_word(l.value));
+        .word::<YArrangement>(f, key!(raw_f.y_arrangement))
+        .map(|l| l.value);
 
     // The damping branch is a resistor and a capacitor in series: both or neither.
-    for (present, absent, other) in [
+    for (present, absent, absent_given, other) in [
         (
             &damping_resistance,
             "damping_capacitance_uf",
+            raw_f.damping_capacitance_uf.is_some(),
             "damping_resistance_ohm",
         ),
         (
             &damping_capacitance,
             "damping_resistance_ohm",
+            raw_f.damping_resistance_ohm.is_some(),
             "damping_capacitance_uf",
         ),
     ] {
         if let Some(p) = present
-            && !r.has(f, absent)
+            && !absent_given
         {
             r.error_with_help(
                 &p.span,

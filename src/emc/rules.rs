@@ -4,50 +4,25 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::rules::{Table, Typed};
+use crate::rules::Table;
 
 /// Limit class of the conducted-emission limits.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum LimitClass {
+    #[value(name = "A")]
     A,
+    #[value(name = "B")]
     B,
 }
 
-impl LimitClass {
-    pub const WORDS: [&'static str; 2] = ["A", "B"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        match word {
-            "A" => Some(Self::A),
-            "B" => Some(Self::B),
-            _ => None,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::A => "A",
-            Self::B => "B",
-        }
-    }
-}
-
 /// Detector of a limit line (a prescan point may also be read with a peak detector).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Detector {
     QuasiPeak,
     Average,
 }
 
-impl Detector {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::QuasiPeak => "quasi-peak",
-            Self::Average => "average",
-        }
-    }
-}
+crate::domain_words!(LimitClass, Detector);
 
 /// One straight piece of a limit line on a log-frequency axis.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
@@ -94,8 +69,6 @@ pub struct LimitTable {
 }
 
 impl LimitTable {
-    pub const ID: &'static str = "cispr32.mains-conducted-limits";
-
     pub fn line(&self, class: LimitClass, detector: Detector) -> Option<&LimitLine> {
         self.line
             .iter()
@@ -114,6 +87,8 @@ impl LimitTable {
 }
 
 impl Table for LimitTable {
+    const ID: &'static str = "cispr32.mains-conducted-limits";
+
     fn check(&self) -> Result<(), String> {
         if self.at_transition != "lower" {
             return Err(format!(
@@ -223,11 +198,9 @@ pub struct FilterModel {
     pub default_switch_node_rise_time_ns: Parameter,
 }
 
-impl FilterModel {
-    pub const ID: &'static str = "emc.filter-model";
-}
-
 impl Table for FilterModel {
+    const ID: &'static str = "emc.filter-model";
+
     fn check(&self) -> Result<(), String> {
         let positive = [
             ("line_impedance_ohm", &self.line_impedance_ohm),
@@ -270,22 +243,12 @@ impl Table for FilterModel {
     }
 }
 
-/// The rule tables the EMC evaluation reads. The touch-current limits and the mains
-/// defaults are power entry's tables (`power-entry.touch-current`,
-/// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
-#[derive(Debug, Clone)]
-pub struct EmcRules {
-    pub limits: LimitTable,
-    pub model: FilterModel,
-}
-
-impl EmcRules {
-    pub fn load(tables: &mut Typed) -> Option<Self> {
-        let limits = tables.get::<LimitTable>(LimitTable::ID);
-        let model = tables.get::<FilterModel>(FilterModel::ID);
-        Some(EmcRules {
-            limits: limits?,
-            model: model?,
-        })
+crate::table_set! {
+    /// The rule tables the EMC evaluation reads. The touch-current limits and the mains
+    /// defaults are power entry's tables (`power-entry.touch-current`,
+    /// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
+    pub struct EmcRules {
+        pub limits: LimitTable,
+        pub model: FilterModel,
     }
 }

@@ -2,6 +2,7 @@
 //! tables to figures, each with its formula, inputs and the rule rows it used. Nothing here
 //! judges: the checks in `rules/checks/power_entry.toml` compare the figures.
 
+use crate::rules::Table as _;
 use std::f64::consts::{PI, SQRT_2};
 
 use super::rectifier::{self, Rectifier};

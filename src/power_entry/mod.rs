@@ -13,18 +13,18 @@ use serde::Serialize;
 
 use crate::diag::{Problems, Source};
 use crate::project::Project;
-use crate::rules::{RuleBook, Typed};
+use crate::raw::{Located, Reader, TableAt};
+use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
-use crate::toml_read::{Located, Reader, TableRef};
 
 pub(crate) use figures::rests_on_suspicious;
+pub use read::{RawConverter, RawFuse, RawInput, RawLimiter};
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
 
 /// How the equipment connects to the mains (`input.connection`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Connection {
     /// Pluggable equipment type A (a household plug).
     Plug,
@@ -34,49 +34,20 @@ pub enum Connection {
     Permanent,
 }
 
-impl Connection {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Connection::Plug => "plug",
-            Connection::IndustrialPlug => "industrial-plug",
-            Connection::Permanent => "permanent",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum LimiterKind {
     Ntc,
     Resistor,
     None,
 }
 
-impl LimiterKind {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            LimiterKind::Ntc => "ntc",
-            LimiterKind::Resistor => "resistor",
-            LimiterKind::None => "none",
-        }
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum FuseSpeed {
     Fast,
     TimeLag,
 }
 
-impl FuseSpeed {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            FuseSpeed::Fast => "fast",
-            FuseSpeed::TimeLag => "time-lag",
-        }
-    }
-}
+crate::domain_words!(Connection, LimiterKind, FuseSpeed);
 
 /// The checked `[input.limiter]` table. For a resistor, `hot_ohm` is `cold_ohm` unless
 /// given; for `none`, both are absent.
@@ -148,28 +119,14 @@ pub struct ConverterSpec {
     pub pfc_stage: bool,
 }
 
-/// The rule tables power entry reads. The electric strength test voltages come from the
-/// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
-#[derive(Debug, Clone)]
-pub struct PowerEntryRules {
-    pub fuse: FuseRules,
-    pub discharge: DischargeRules,
-    pub touch: TouchRules,
-    pub mains: MainsDefaults,
-}
-
-impl PowerEntryRules {
-    pub fn load(tables: &mut Typed) -> Option<Self> {
-        let fuse = tables.get::<FuseRules>(FuseRules::ID);
-        let discharge = tables.get::<DischargeRules>(DischargeRules::ID);
-        let touch = tables.get::<TouchRules>(TouchRules::ID);
-        let mains = tables.get::<MainsDefaults>(MainsDefaults::ID);
-        Some(PowerEntryRules {
-            fuse: fuse?,
-            discharge: discharge?,
-            touch: touch?,
-            mains: mains?,
-        })
+crate::table_set! {
+    /// The rule tables power entry reads. The electric strength test voltages come from the
+    /// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
+    pub struct PowerEntryRules {
+        pub fuse: FuseRules,
+        pub discharge: DischargeRules,
+        pub touch: TouchRules,
+        pub mains: MainsDefaults,
     }
 }
 
@@ -512,10 +469,11 @@ pub struct PowerEntryReport {
 /// tables are evaluated, so nothing is added to `not_evaluated`.
 pub fn read(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &crate::project::RawProject,
     _not_evaluated: &mut Vec<String>,
 ) -> (Option<InputSpec>, Option<ConverterSpec>) {
-    read::read_tables(r, root)
+    read::read_tables(r, root, raw_root)
 }
 
 /// The power-entry figures; `None` when the project has no `[input]`.

@@ -1,50 +1,106 @@
 //! Reads `[input]` (with `[input.limiter]` and `[input.fuse]`) and `[converter]` key by key
-//! through the project reader, so every problem is reported at once with its line.
+//! from their raw form, so every problem is reported at once with its line.
 
-use super::tables::{CONNECTIONS, FUSE_SPEEDS};
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
 use crate::input_limits::{
     BLEEDER_OHM, BREAKING_A, BULK_UF, CURRENT_A, DROP_V, EFFICIENCY, ENERGY_J, FUSE_A, I2T_A2S,
     MAINS_FREQUENCY_HZ, MAX_DUTY, MIN_BULK_V, OUTPUT_W, RATED_V, RESISTANCE_OHM, SERIES_OHM,
     SWITCHING_HZ, X_UF,
 };
-use crate::toml_read::{Located, NumberRule, Reader, TableRef};
+use serde::Deserialize;
 
-const INPUT_KEYS: &[&str] = &[
-    "bulk_capacitance_uf",
-    "series_resistance_ohm",
-    "bridge_surge_a",
-    "bridge_drop_v",
-    "x_capacitance_uf",
-    "bleeder_ohm",
-    "bleeder_fault_tolerant",
-    "connection",
-    "prospective_fault_a",
-    "end_product_standard",
-    "hand_held",
-    "min_frequency_hz",
-    "max_frequency_hz",
-    "bulk_rated_v",
-    "highest_rated_v",
-    "limiter",
-    "fuse",
-];
-const LIMITER_KEYS: &[&str] = &["kind", "cold_ohm", "hot_ohm", "energy_rating_j"];
-const FUSE_KEYS: &[&str] = &[
-    "rated_a",
-    "melting_i2t_a2s",
-    "breaking_a",
-    "rated_v",
-    "speed",
-];
-const CONVERTER_KEYS: &[&str] = &[
-    "output_w",
-    "efficiency",
-    "min_bulk_v",
-    "switching_hz",
-    "max_duty",
-    "pfc_stage",
-];
+use crate::input_limits::NumberRule;
+use crate::key;
+use crate::project::{Key, RawProject, TableKey};
+use crate::raw::{Flag, Located, Num, Reader, TableAt, Text, Word};
+
+/// `[input]`: the power-entry stage.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawInput {
+    /// Bulk capacitance after the bridge in microfarads (required).
+    pub bulk_capacitance_uf: Key<Num>,
+    /// Charging path without the limiter (line, bridge, capacitor ESR) in ohms (required).
+    pub series_resistance_ohm: Key<Num>,
+    /// The bridge rectifier's non-repetitive surge current rating in amperes.
+    pub bridge_surge_a: Key<Num>,
+    /// Total forward drop of the two conducting bridge diodes in volts.
+    pub bridge_drop_v: Key<Num>,
+    /// Total X capacitance across the line in microfarads.
+    pub x_capacitance_uf: Key<Num>,
+    /// Discharge resistance across the X capacitance in ohms; absent = none.
+    pub bleeder_ohm: Key<Num>,
+    /// The bleeder survives one open resistor (two paths, or a fail-safe part).
+    pub bleeder_fault_tolerant: Key<Flag>,
+    /// How the equipment connects to the mains.
+    pub connection: Key<Word<Connection>>,
+    /// Prospective fault current of the supply in amperes.
+    pub prospective_fault_a: Key<Num>,
+    /// The end-product standard whose touch-current limits apply.
+    pub end_product_standard: Key<Text>,
+    /// The equipment is hand-held.
+    pub hand_held: Key<Flag>,
+    /// Lowest mains frequency in hertz.
+    pub min_frequency_hz: Key<Num>,
+    /// Highest mains frequency in hertz.
+    pub max_frequency_hz: Key<Num>,
+    /// Rated voltage of the bulk capacitor in volts.
+    pub bulk_rated_v: Key<Num>,
+    /// Highest rated supply voltage on the marking in volts.
+    pub highest_rated_v: Key<Num>,
+    /// The inrush limiter.
+    pub limiter: TableKey<RawLimiter>,
+    /// The input fuse.
+    pub fuse: TableKey<RawFuse>,
+}
+
+/// `[input.limiter]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawLimiter {
+    /// "ntc", "resistor" or "none" (required).
+    pub kind: Key<Word<LimiterKind>>,
+    /// Resistance at switch-on in ohms.
+    pub cold_ohm: Key<Num>,
+    /// Resistance in operation in ohms.
+    pub hot_ohm: Key<Num>,
+    /// Energy rating in joules.
+    pub energy_rating_j: Key<Num>,
+}
+
+/// `[input.fuse]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawFuse {
+    /// Rated current in amperes.
+    pub rated_a: Key<Num>,
+    /// Melting I²t in A²s.
+    pub melting_i2t_a2s: Key<Num>,
+    /// Breaking capacity in amperes.
+    pub breaking_a: Key<Num>,
+    /// Rated voltage in volts.
+    pub rated_v: Key<Num>,
+    /// "fast" or "time-lag".
+    pub speed: Key<Word<FuseSpeed>>,
+}
+
+/// `[converter]`: the converter behind the bulk capacitor.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawConverter {
+    /// Output power in watts (required).
+    pub output_w: Key<Num>,
+    /// Efficiency, above 0 and at most 1 (required).
+    pub efficiency: Key<Num>,
+    /// Lowest bulk voltage at which it still regulates, in volts (required).
+    pub min_bulk_v: Key<Num>,
+    /// Switching frequency in hertz (required).
+    pub switching_hz: Key<Num>,
+    /// Largest duty cycle, below 1 (required).
+    pub max_duty: Key<Num>,
+    /// It has an active power-factor-correction stage.
+    pub pfc_stage: Key<Flag>,
+}
 
 fn value(l: Option<Located<f64>>) -> Option<f64> {
     l.map(|l| l.value)
@@ -54,38 +110,41 @@ fn value(l: Option<Located<f64>>) -> Option<f64> {
 /// problems are then in `r`).
 pub(super) fn read_tables(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &RawProject,
 ) -> (Option<InputSpec>, Option<ConverterSpec>) {
     let input = r
-        .table(root, "input", INPUT_KEYS)
-        .and_then(|t| read_input(r, &t));
+        .table(root, key!(raw_root.input))
+        .and_then(|(t, raw_t)| read_input(r, &t, raw_t));
     let converter = r
-        .table(root, "converter", CONVERTER_KEYS)
-        .and_then(|t| read_converter(r, &t));
+        .table(root, key!(raw_root.converter))
+        .and_then(|(t, raw_t)| read_converter(r, &t, raw_t));
     (input, converter)
 }
 
-fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
+fn read_input(r: &mut Reader, t: &TableAt, raw_t: &RawInput) -> Option<InputSpec> {
     let before = r.problems.len();
-    let bulk = r.required_number(t, "bulk_capacitance_uf", &BULK_UF);
-    let series = r.required_number(t, "series_resistance_ohm", &SERIES_OHM);
-    let surge = r.number(t, "bridge_surge_a", &CURRENT_A);
-    let drop = r.number(t, "bridge_drop_v", &DROP_V);
-    let x = r.number(t, "x_capacitance_uf", &X_UF);
-    let bleeder = r.number(t, "bleeder_ohm", &BLEEDER_OHM);
-    let tolerant = r.boolean(t, "bleeder_fault_tolerant");
-    let connection = r.word(t, "connection", &CONNECTIONS);
-    let prospective = r.number(t, "prospective_fault_a", &BREAKING_A);
-    let standard = r.string(t, "end_product_standard");
-    let hand_held = r.boolean(t, "hand_held");
-    let f_min = r.number(t, "min_frequency_hz", &MAINS_FREQUENCY_HZ);
-    let f_max = r.number(t, "max_frequency_hz", &MAINS_FREQUENCY_HZ);
-    let bulk_rated = r.number(t, "bulk_rated_v", &RATED_V);
-    let highest_rated = r.number(t, "highest_rated_v", &RATED_V);
+    let bulk = r.required_number(t, key!(raw_t.bulk_capacitance_uf), &BULK_UF);
+    let series = r.required_number(t, key!(raw_t.series_resistance_ohm), &SERIES_OHM);
+    let surge = r.number(t, key!(raw_t.bridge_surge_a), &CURRENT_A);
+    let drop = r.number(t, key!(raw_t.bridge_drop_v), &DROP_V);
+    let x = r.number(t, key!(raw_t.x_capacitance_uf), &X_UF);
+    let bleeder = r.number(t, key!(raw_t.bleeder_ohm), &BLEEDER_OHM);
+    let tolerant = r.boolean(t, key!(raw_t.bleeder_fault_tolerant));
+    let connection = r.word::<Connection>(t, key!(raw_t.connection));
+    let prospective = r.number(t, key!(raw_t.prospective_fault_a), &BREAKING_A);
+    let standard = r.string(t, key!(raw_t.end_product_standard));
+    let hand_held = r.boolean(t, key!(raw_t.hand_held));
+    let f_min = r.number(t, key!(raw_t.min_frequency_hz), &MAINS_FREQUENCY_HZ);
+    let f_max = r.number(t, key!(raw_t.max_frequency_hz), &MAINS_FREQUENCY_HZ);
+    let bulk_rated = r.number(t, key!(raw_t.bulk_rated_v), &RATED_V);
+    let highest_rated = r.number(t, key!(raw_t.highest_rated_v), &RATED_V);
     let limiter = r
-        .table(t, "limiter", LIMITER_KEYS)
-        .and_then(|l| read_limiter(r, &l));
-    let fuse = r.table(t, "fuse", FUSE_KEYS).and_then(|f| read_fuse(r, &f));
+        .table(t, key!(raw_t.limiter))
+        .and_then(|(l, raw_l)| read_limiter(r, &l, raw_l));
+    let fuse = r
+        .table(t, key!(raw_t.fuse))
+        .and_then(|(f, raw_f)| read_fuse(r, &f, raw_f));
 
     if let (Some(lo), Some(hi)) = (&f_min, &f_max)
         && lo.value > hi.value
@@ -122,11 +181,7 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
         x_capacitance_uf: value(x),
         bleeder_ohm: value(bleeder),
         bleeder_fault_tolerant: tolerant.map(|l| l.value),
-        connection: connection.map(|l| match l.value {
-            "industrial-plug" => Connection::IndustrialPlug,
-            "permanent" => Connection::Permanent,
-            _ => Connection::Plug,
-        }),
+        connection: connection.map(|l| l.value),
         prospective_fault_a: value(prospective),
         end_product_standard: standard,
         hand_held: hand_held.map(|l| l.value),
@@ -139,18 +194,13 @@ fn read_input(r: &mut Reader, t: &TableRef) -> Option<InputSpec> {
     })
 }
 
-fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
+fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<LimiterSpec> {
     let before = r.problems.len();
-    let kind = r.required_word(t, "kind", &["ntc", "resistor", "none"]);
-    let cold = r.number(t, "cold_ohm", &RESISTANCE_OHM);
-    let hot = r.number(t, "hot_ohm", &RESISTANCE_OHM);
-    let energy = r.number(t, "energy_rating_j", &ENERGY_J);
-    let kind = match kind.map(|l| l.value) {
-        Some("ntc") => LimiterKind::Ntc,
-        Some("resistor") => LimiterKind::Resistor,
-        Some(_) => LimiterKind::None,
-        None => return None,
-    };
+    let kind = r.required_word::<LimiterKind>(t, key!(raw_t.kind));
+    let cold = r.number(t, key!(raw_t.cold_ohm), &RESISTANCE_OHM);
+    let hot = r.number(t, key!(raw_t.hot_ohm), &RESISTANCE_OHM);
+    let energy = r.number(t, key!(raw_t.energy_rating_j), &ENERGY_J);
+    let kind = kind?.value;
     match kind {
         LimiterKind::None => {
             for (key, present) in [
@@ -169,14 +219,14 @@ fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
             }
         }
         LimiterKind::Ntc | LimiterKind::Resistor => {
-            if !r.has(t, "cold_ohm") {
+            if raw_t.cold_ohm.is_none() {
                 r.missing(
                     t,
                     "cold_ohm",
                     "the limiter's resistance at switch-on in ohms (it sets the inrush peak)",
                 );
             }
-            if kind == LimiterKind::Ntc && !r.has(t, "hot_ohm") {
+            if kind == LimiterKind::Ntc && raw_t.hot_ohm.is_none() {
                 r.missing(
                     t,
                     "hot_ohm",
@@ -215,13 +265,13 @@ fn read_limiter(r: &mut Reader, t: &TableRef) -> Option<LimiterSpec> {
     })
 }
 
-fn read_fuse(r: &mut Reader, t: &TableRef) -> Option<FuseSpec> {
+fn read_fuse(r: &mut Reader, t: &TableAt, raw_t: &RawFuse) -> Option<FuseSpec> {
     let before = r.problems.len();
-    let rated = r.number(t, "rated_a", &FUSE_A);
-    let i2t = r.number(t, "melting_i2t_a2s", &I2T_A2S);
-    let breaking = r.number(t, "breaking_a", &BREAKING_A);
-    let rated_v = r.number(t, "rated_v", &RATED_V);
-    let speed = r.word(t, "speed", &FUSE_SPEEDS);
+    let rated = r.number(t, key!(raw_t.rated_a), &FUSE_A);
+    let i2t = r.number(t, key!(raw_t.melting_i2t_a2s), &I2T_A2S);
+    let breaking = r.number(t, key!(raw_t.breaking_a), &BREAKING_A);
+    let rated_v = r.number(t, key!(raw_t.rated_v), &RATED_V);
+    let speed = r.word::<FuseSpeed>(t, key!(raw_t.speed));
     if r.problems.len() > before {
         return None;
     }
@@ -230,15 +280,12 @@ fn read_fuse(r: &mut Reader, t: &TableRef) -> Option<FuseSpec> {
         melting_i2t_a2s: value(i2t),
         breaking_a: value(breaking),
         rated_v: value(rated_v),
-        speed: speed.map(|l| match l.value {
-            "fast" => FuseSpeed::Fast,
-            _ => FuseSpeed::TimeLag,
-        }),
+        speed: speed.map(|l| l.value),
     })
 }
 
 /// The value as written in the file (for messages: `1e-300`, not its long decimal form).
-fn written(r: &Reader, span: &crate::toml_read::Span) -> String {
+fn written(r: &Reader, span: &crate::raw::Span) -> String {
     r.source
         .text
         .get(span.clone())
@@ -251,11 +298,12 @@ fn written(r: &Reader, span: &crate::toml_read::Span) -> String {
 /// `rule.min` or at/above `below`, so that the message shows what the user typed.
 fn bounded_number(
     r: &mut Reader,
-    t: &TableRef,
-    key: &str,
+    t: &TableAt,
+    field: (&str, &Key<Num>),
     rule: &NumberRule,
     below: Option<f64>,
 ) -> Option<Located<f64>> {
+    let key = field.0;
     let before = r.problems.len();
     let wide = NumberRule {
         min: f64::MIN,
@@ -266,7 +314,7 @@ fn bounded_number(
         ..*rule
     };
     let mut warnings = std::mem::take(&mut r.warnings);
-    let probe = r.required_number(t, key, &wide);
+    let probe = r.required_number(t, field, &wide);
     std::mem::swap(&mut r.warnings, &mut warnings);
     if r.problems.len() > before {
         // Not a number at all (or missing): the wide reading said so already.
@@ -290,18 +338,18 @@ fn bounded_number(
         return None;
     }
     // In range: read it again through the rule for its warnings.
-    r.required_number(t, key, rule)
+    r.required_number(t, field, rule)
 }
 
-fn read_converter(r: &mut Reader, t: &TableRef) -> Option<ConverterSpec> {
-    let output = r.required_number(t, "output_w", &OUTPUT_W);
-    let efficiency = r.required_number(t, "efficiency", &EFFICIENCY);
-    let min_bulk = r.required_number(t, "min_bulk_v", &MIN_BULK_V);
-    let switching = bounded_number(r, t, "switching_hz", &SWITCHING_HZ, None);
+fn read_converter(r: &mut Reader, t: &TableAt, raw_t: &RawConverter) -> Option<ConverterSpec> {
+    let output = r.required_number(t, key!(raw_t.output_w), &OUTPUT_W);
+    let efficiency = r.required_number(t, key!(raw_t.efficiency), &EFFICIENCY);
+    let min_bulk = r.required_number(t, key!(raw_t.min_bulk_v), &MIN_BULK_V);
+    let switching = bounded_number(r, t, key!(raw_t.switching_hz), &SWITCHING_HZ, None);
     // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
     // a duty below 1.
-    let duty = bounded_number(r, t, "max_duty", &MAX_DUTY, Some(1.0));
-    let pfc = r.boolean(t, "pfc_stage");
+    let duty = bounded_number(r, t, key!(raw_t.max_duty), &MAX_DUTY, Some(1.0));
+    let pfc = r.boolean(t, key!(raw_t.pfc_stage));
     Some(ConverterSpec {
         output_w: output?.value,
         efficiency: efficiency?.value,

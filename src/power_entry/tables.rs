@@ -51,17 +51,14 @@ pub struct FuseRules {
 }
 
 impl FuseRules {
-    pub const ID: &'static str = "power-entry.fuse";
-
     pub fn pulse_factor(&self, speed: &str) -> Option<&PulseFactor> {
         self.pulse_factors.iter().find(|p| p.speed == speed)
     }
 }
 
-/// Fuse speeds the project file accepts (and the pulse-factor table may name).
-pub const FUSE_SPEEDS: [&str; 2] = ["fast", "time-lag"];
-
 impl Table for FuseRules {
+    const ID: &'static str = "power-entry.fuse";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.derating, "derating")?;
         if self.derating.value > 1.0 {
@@ -75,7 +72,7 @@ impl Table for FuseRules {
             "default_prospective_fault_a",
         )?;
         for (i, p) in self.pulse_factors.iter().enumerate() {
-            if !FUSE_SPEEDS.contains(&p.speed.as_str()) {
+            if crate::diag::word::<super::FuseSpeed>(&p.speed).is_none() {
                 return Err(format!(
                     "pulse_factors[{}]: speed \"{}\" is not \"fast\" or \"time-lag\"",
                     i + 1,
@@ -157,11 +154,12 @@ pub struct NotApplicable {
 }
 
 /// How the equipment is connected to the mains (`input.connection`).
-pub const CONNECTIONS: [&str; 3] = ["plug", "industrial-plug", "permanent"];
+/// The connections a limit may be given for: those of the project file.
+fn connections() -> Vec<String> {
+    crate::diag::words::<super::Connection>()
+}
 
 impl DischargeRules {
-    pub const ID: &'static str = "power-entry.x-discharge";
-
     pub fn limit(&self, connection: &str) -> Option<&DischargeLimit> {
         self.limits.iter().find(|l| l.connection == connection)
     }
@@ -174,6 +172,8 @@ impl DischargeRules {
 }
 
 impl Table for DischargeRules {
+    const ID: &'static str = "power-entry.x-discharge";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.threshold_uf, "threshold_uf")?;
         positive(&self.residual_after_s, "residual_after_s")?;
@@ -191,12 +191,12 @@ impl Table for DischargeRules {
             ));
         }
         for (i, x) in self.not_applicable.iter().enumerate() {
-            if !CONNECTIONS.contains(&x.connection.as_str()) {
+            if !connections().contains(&x.connection) {
                 return Err(format!(
                     "not_applicable[{}]: connection \"{}\" is not one of {}",
                     i + 1,
                     x.connection,
-                    CONNECTIONS.join(", ")
+                    connections().join(", ")
                 ));
             }
             if self.limit(&x.connection).is_some() {
@@ -208,12 +208,12 @@ impl Table for DischargeRules {
             }
         }
         for (i, l) in self.limits.iter().enumerate() {
-            if !CONNECTIONS.contains(&l.connection.as_str()) {
+            if !connections().contains(&l.connection) {
                 return Err(format!(
                     "limits[{}]: connection \"{}\" is not one of {}",
                     i + 1,
                     l.connection,
-                    CONNECTIONS.join(", ")
+                    connections().join(", ")
                 ));
             }
             if !(l.max_time_constant_s.is_finite() && l.max_time_constant_s > 0.0) {
@@ -275,8 +275,6 @@ pub struct TouchRules {
 pub const TOUCH_PARTS: [&str; 3] = ["not-earthed", "earthed-hand-held", "earthed"];
 
 impl TouchRules {
-    pub const ID: &'static str = "power-entry.touch-current";
-
     pub fn standard(&self, id: &str) -> Option<&StandardEntry> {
         self.standards.iter().find(|s| s.id == id)
     }
@@ -289,6 +287,8 @@ impl TouchRules {
 }
 
 impl Table for TouchRules {
+    const ID: &'static str = "power-entry.touch-current";
+
     fn check(&self) -> Result<(), String> {
         if self.standards.is_empty() {
             return Err("standards: at least one end-product standard is needed".to_string());
@@ -359,11 +359,9 @@ pub struct MainsDefaults {
     pub high_frequency_hz: Sourced,
 }
 
-impl MainsDefaults {
-    pub const ID: &'static str = "power-entry.mains-defaults";
-}
-
 impl Table for MainsDefaults {
+    const ID: &'static str = "power-entry.mains-defaults";
+
     fn check(&self) -> Result<(), String> {
         positive(&self.low_frequency_hz, "low_frequency_hz")?;
         positive(&self.high_frequency_hz, "high_frequency_hz")?;

@@ -1,6 +1,7 @@
 //! The project file: the checked description of one design. `read` turns TOML text into a
 //! [`Project`] or into every problem found, located by line and key.
 
+mod raw;
 mod read;
 
 use std::collections::BTreeMap;
@@ -8,66 +9,37 @@ use std::collections::BTreeMap;
 use serde::Serialize;
 
 use crate::diag::Diagnostic;
-use crate::toml_read::Span;
+use crate::raw::Span;
 
 // Re-exported for the `spacing` command, which judges its flags by the same limits.
 pub use crate::input_limits::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
+pub use raw::*;
 pub use read::read_project;
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum ProtectionClass {
-    #[serde(rename = "I")]
+    #[value(name = "I")]
     I,
-    #[serde(rename = "II")]
+    #[value(name = "II")]
     II,
-    #[serde(rename = "III")]
+    #[value(name = "III")]
     III,
 }
 
 /// Overvoltage category of the supply the equipment is connected to.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, clap::ValueEnum)]
 pub enum OvervoltageCategory {
-    #[serde(rename = "I")]
+    #[value(name = "I")]
     I,
-    #[serde(rename = "II")]
+    #[value(name = "II")]
     II,
-    #[serde(rename = "III")]
+    #[value(name = "III")]
     III,
-    #[serde(rename = "IV")]
+    #[value(name = "IV")]
     IV,
 }
 
-impl OvervoltageCategory {
-    pub const WORDS: [&'static str; 4] = ["I", "II", "III", "IV"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        Some(match word {
-            "I" => Self::I,
-            "II" => Self::II,
-            "III" => Self::III,
-            "IV" => Self::IV,
-            _ => return None,
-        })
-    }
-
-    pub fn as_str(self) -> &'static str {
-        Self::WORDS[self as usize]
-    }
-}
-
-/// The command line's words are `WORDS`, the same as the project file's.
-impl clap::ValueEnum for OvervoltageCategory {
-    fn value_variants<'a>() -> &'a [Self] {
-        &[Self::I, Self::II, Self::III, Self::IV]
-    }
-
-    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
-        Some(clap::builder::PossibleValue::new(self.as_str()))
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum CircuitKind {
     Mains,
     Hazardous,
@@ -75,8 +47,7 @@ pub enum CircuitKind {
 }
 
 /// Insulation grade of a barrier, weakest first.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, clap::ValueEnum)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, clap::ValueEnum)]
 pub enum Grade {
     Functional,
     Basic,
@@ -85,66 +56,16 @@ pub enum Grade {
     Double,
 }
 
-impl Grade {
-    pub const WORDS: [&'static str; 5] = [
-        "functional",
-        "basic",
-        "supplementary",
-        "reinforced",
-        "double",
-    ];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        Some(match word {
-            "functional" => Self::Functional,
-            "basic" => Self::Basic,
-            "supplementary" => Self::Supplementary,
-            "reinforced" => Self::Reinforced,
-            "double" => Self::Double,
-            _ => return None,
-        })
-    }
-
-    pub fn as_str(self) -> &'static str {
-        Self::WORDS[self as usize]
-    }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, clap::ValueEnum)]
 pub enum MaterialGroup {
+    #[value(name = "I")]
     I,
+    #[value(name = "II")]
     II,
+    #[value(name = "IIIa")]
     IIIa,
+    #[value(name = "IIIb")]
     IIIb,
-}
-
-impl MaterialGroup {
-    pub const WORDS: [&'static str; 4] = ["I", "II", "IIIa", "IIIb"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        Some(match word {
-            "I" => Self::I,
-            "II" => Self::II,
-            "IIIa" => Self::IIIa,
-            "IIIb" => Self::IIIb,
-            _ => return None,
-        })
-    }
-
-    pub fn as_str(self) -> &'static str {
-        Self::WORDS[self as usize]
-    }
-}
-
-/// The command line's words are `WORDS`, the same as the project file's.
-impl clap::ValueEnum for MaterialGroup {
-    fn value_variants<'a>() -> &'a [Self] {
-        &[Self::I, Self::II, Self::IIIa, Self::IIIb]
-    }
-
-    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
-        Some(clap::builder::PossibleValue::new(self.as_str()))
-    }
 }
 
 /// How the insulating material of a barrier is known.
@@ -157,16 +78,14 @@ pub enum Material {
 }
 
 /// Electric field between the conductors (IEC 60664-1 Case A or Case B).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Field {
     Inhomogeneous,
     Homogeneous,
 }
 
 /// How a table is read between two of its rows (the creepage table, the altitude table).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum BetweenRows {
     /// The next higher row (conservative; the default).
     NextRow,
@@ -175,24 +94,21 @@ pub enum BetweenRows {
 }
 
 /// Where a functional spacing on a printed board sits (selects the IPC-2221B column).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum BoardConductor {
     OuterLayer,
     InnerLayer,
     ComponentLead,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, clap::ValueEnum)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum BoardCoating {
     None,
     Polymer,
     Conformal,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum PartKind {
     YCapacitor,
     XCapacitor,
@@ -203,6 +119,64 @@ pub enum PartKind {
     Relay,
     Other,
 }
+
+/// Safety subclass of a suppression capacitor (IEC 60384-14).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum CapacitorSubclass {
+    #[value(name = "X1")]
+    X1,
+    #[value(name = "X2")]
+    X2,
+    #[value(name = "Y1")]
+    Y1,
+    #[value(name = "Y2")]
+    Y2,
+    #[value(name = "Y4")]
+    Y4,
+}
+
+/// How a transformer's windings are kept apart.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum InsulationSystem {
+    TripleInsulatedWire,
+    Tape,
+    MarginTape,
+}
+
+/// Thermal class letter of an insulation system (IEC 60085).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ThermalClassLetter {
+    #[value(name = "A")]
+    A,
+    #[value(name = "E")]
+    E,
+    #[value(name = "B")]
+    B,
+    #[value(name = "F")]
+    F,
+    #[value(name = "H")]
+    H,
+    #[value(name = "N")]
+    N,
+    #[value(name = "R")]
+    R,
+}
+
+crate::domain_words!(
+    ProtectionClass,
+    OvervoltageCategory,
+    CircuitKind,
+    Grade,
+    MaterialGroup,
+    Field,
+    BetweenRows,
+    BoardConductor,
+    BoardCoating,
+    PartKind,
+    CapacitorSubclass,
+    InsulationSystem,
+    ThermalClassLetter,
+);
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct Design {

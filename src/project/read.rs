@@ -2,6 +2,7 @@
 
 use std::collections::{BTreeMap, BTreeSet};
 
+use super::raw::*;
 use super::*;
 use crate::diag::{Problems, Source, one_of, suggest};
 use crate::input_limits::{
@@ -9,102 +10,51 @@ use crate::input_limits::{
     POLLUTION_DEGREE, SLOT_MM, TAPE_LAYERS, TEMPERATURE_C, TEST_V_RMS, THICKNESS_MM, TRANSIENT_V,
     VOLTAGE_V, WORKING_FREQUENCY_HZ,
 };
-use crate::toml_read::{Reader, TableRef, parse_document};
-
-const TOP_KEYS: &[&str] = &[
-    "design",
-    "environment",
-    "mains",
-    "circuit",
-    "barrier",
-    "part",
-    "input",
-    "converter",
-    "emc",
-];
-const DESIGN_KEYS: &[&str] = &[
-    "name",
-    "revision",
-    "protection_class",
-    "creepage_between_rows",
-    "altitude_between_rows",
-    "standard",
-];
-const ENVIRONMENT_KEYS: &[&str] = &["pollution_degree", "overvoltage_category", "altitude_m"];
-const MAINS_KEYS: &[&str] = &["nominal_v", "max_v", "min_v", "frequency_hz"];
-const CIRCUIT_KEYS: &[&str] = &["id", "kind", "accessible", "earthed", "description"];
-const BARRIER_KEYS: &[&str] = &[
-    "id",
-    "between",
-    "grade",
-    "working_rms_v",
-    "working_peak_v",
-    "transient_v",
-    "working_frequency_hz",
-    "material_group",
-    "cti",
-    "printed_board",
-    "field",
-    "board_conductor",
-    "board_coating",
-    "clearance_mm",
-    "creepage_mm",
-    "slot_width_mm",
-    "bridged_by",
-    "description",
-];
-const PART_KEYS: &[&str] = &[
-    "ref",
-    "kind",
-    "description",
-    "subclass",
-    "capacitance_nf",
-    "rated_ac_v",
-    "count_in_series",
-    "isolation_test_v_rms",
-    "external_clearance_mm",
-    "external_creepage_mm",
-    "distance_through_insulation_mm",
-    "thin_layer_rated",
-    "insulation_system",
-    "tape_layers",
-    "margin_mm",
-    "thermal_class",
-    "hot_spot_c",
-];
-
-const PART_KIND_WORDS: &[&str] = &[
-    "y-capacitor",
-    "x-capacitor",
-    "optocoupler",
-    "digital-isolator",
-    "transformer",
-    "resistor",
-    "relay",
-    "other",
-];
+use crate::key;
+use crate::raw::{Reader, Span, TableAt, read_document};
 
 /// Reads a project from its text. `source.name` is used in messages as given.
 pub fn read_project(source: &Source) -> Result<Project, Problems> {
-    let doc = parse_document(source)?;
+    let doc = read_document::<RawProject>(source)?;
+    validate(source, &doc)
+}
+
+/// The one validate pass: every problem of the raw project, or the checked project.
+fn validate(source: &Source, doc: &crate::raw::Section<RawProject>) -> Result<Project, Problems> {
     let mut r = Reader::new(source);
-    let root = r.root(&doc, TOP_KEYS);
+    let (root, raw_root) = TableAt::root(doc);
+    if let crate::raw::Section::Table(table) = doc {
+        r.unknown_keys(&root, table);
+    }
+    let Some(raw_root) = raw_root else {
+        return Err(Problems(vec![crate::diag::Diagnostic::new(
+            &source.name,
+            "the project could not be read",
+        )]));
+    };
     let mut assumptions = Vec::new();
 
-    let design = read_design(&mut r, &root, &mut assumptions);
+    let design = read_design(&mut r, &root, raw_root, &mut assumptions);
     let mut key_spans = BTreeMap::new();
-    let environment = read_environment(&mut r, &root, &mut assumptions, &mut key_spans);
-    let mains = read_mains(&mut r, &root, &mut key_spans);
-    let (circuits, circuit_ids) = read_circuits(&mut r, &root);
-    let (parts, part_refs) = read_parts(&mut r, &root);
-    let barriers = read_barriers(&mut r, &root, &circuit_ids, &part_refs, &mut assumptions);
-    if circuits.is_empty() && !r.has(&root, "circuit") {
+    let environment = read_environment(&mut r, &root, raw_root, &mut assumptions, &mut key_spans);
+    let mains = read_mains(&mut r, &root, raw_root, &mut key_spans);
+    let (circuits, circuit_ids) = read_circuits(&mut r, &root, raw_root);
+    let (parts, part_refs) = read_parts(&mut r, &root, raw_root);
+    let barriers = read_barriers(
+        &mut r,
+        &root,
+        raw_root,
+        &circuit_ids,
+        &part_refs,
+        &mut assumptions,
+    );
+    if circuits.is_empty() && raw_root.circuit.is_none() {
         r.missing(&root, "circuit", "at least one [[circuit]] table");
     }
 
     let mut not_evaluated = Vec::new();
-    let (input, converter) = crate::power_entry::read(&mut r, &root, &mut not_evaluated);
-    let emc = crate::emc::read(&mut r, &root, &mut not_evaluated);
+    let (input, converter) = crate::power_entry::read(&mut r, &root, raw_root, &mut not_evaluated);
+    let emc = crate::emc::read(&mut r, &root, raw_root, &mut not_evaluated);
 
     r.finish()?;
     // Every field below was checked above; a missing one has already been reported.
@@ -131,9 +81,14 @@ pub fn read_project(source: &Source) -> Result<Project, Problems> {
     })
 }
 
-fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -> Option<Design> {
-    let Some(t) = r.table(root, "design", DESIGN_KEYS) else {
-        if !r.has(root, "design") {
+fn read_design(
+    r: &mut Reader,
+    root: &TableAt,
+    raw_root: &RawProject,
+    assumptions: &mut Vec<String>,
+) -> Option<Design> {
+    let Some((t, raw_t)) = r.table(root, key!(raw_root.design)) else {
+        if raw_root.design.is_none() {
             r.missing(
                 root,
                 "design",
@@ -142,13 +97,12 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
         }
         return None;
     };
-    let name = r.required_string(&t, "name");
-    let revision = r.string(&t, "revision").map(|l| l.value);
-    let class = r.required_word(&t, "protection_class", &["I", "II", "III"]);
-    let between = r.word(&t, "creepage_between_rows", &["next-row", "interpolate"]);
+    let name = r.required_string(&t, key!(raw_t.name));
+    let revision = r.string(&t, key!(raw_t.revision)).map(|l| l.value);
+    let class = r.required_word::<ProtectionClass>(&t, key!(raw_t.protection_class));
+    let between = r.word::<BetweenRows>(&t, key!(raw_t.creepage_between_rows));
     let creepage_between_rows = match between.map(|l| l.value) {
-        Some("interpolate") => BetweenRows::Interpolate,
-        Some(_) => BetweenRows::NextRow,
+        Some(rows) => rows,
         None => {
             assumptions.push(
                 "Creepage between two table rows: the next higher row (creepage_between_rows not set in [design])."
@@ -157,15 +111,12 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
             BetweenRows::NextRow
         }
     };
+    let altitude_between_rows = r
+        .word::<BetweenRows>(&t, key!(raw_t.altitude_between_rows))
+        .map_or(BetweenRows::NextRow, |l| l.value);
     let standard = r
-        .word(&t, "standard", &crate::standards::Standard::WORDS)
-        .and_then(|l| crate::standards::Standard::from_word(l.value));
-    let altitude_between = r.word(&t, "altitude_between_rows", &["next-row", "interpolate"]);
-    let altitude_between_rows = match altitude_between.map(|l| l.value) {
-        Some("interpolate") => BetweenRows::Interpolate,
-        Some(_) => BetweenRows::NextRow,
-        None => BetweenRows::NextRow,
-    };
+        .word::<crate::standards::Standard>(&t, key!(raw_t.standard))
+        .map(|l| l.value);
     if standard.is_none() {
         assumptions.push(
             "No end-product standard named ([design] standard): the IEC 60664-1 basics apply; the lab will judge against an end-product standard (iec62368-1, iec60601-1 or iec60335-1)."
@@ -177,11 +128,7 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
             "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
         );
     }
-    let protection_class = match class?.value {
-        "I" => ProtectionClass::I,
-        "II" => ProtectionClass::II,
-        _ => ProtectionClass::III,
-    };
+    let protection_class = class?.value;
     Some(Design {
         name: name?.value,
         revision,
@@ -194,68 +141,71 @@ fn read_design(r: &mut Reader, root: &TableRef, assumptions: &mut Vec<String>) -
 
 fn read_environment(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &RawProject,
     assumptions: &mut Vec<String>,
     key_spans: &mut BTreeMap<String, Span>,
 ) -> Option<Environment> {
-    let t = r.table(root, "environment", ENVIRONMENT_KEYS);
-    if t.is_none() && r.has(root, "environment") {
+    let found = r.table(root, key!(raw_root.environment));
+    if found.is_none() && raw_root.environment.is_some() {
         return None;
     }
-    let pd = t
-        .as_ref()
-        .and_then(|t| r.number(t, "pollution_degree", &POLLUTION_DEGREE));
-    let ovc = t
-        .as_ref()
-        .and_then(|t| r.word(t, "overvoltage_category", &OvervoltageCategory::WORDS));
-    let altitude = t
-        .as_ref()
-        .and_then(|t| r.number(t, "altitude_m", &ALTITUDE_M));
+    // An absent [environment] reads as an empty one: every default applies.
+    let empty = RawEnvironment::default();
+    let (t, raw_t) = found.unwrap_or_else(|| {
+        let at = TableAt {
+            path: "environment".to_string(),
+            span: root.span.clone(),
+        };
+        (at, &empty)
+    });
+    let t = &t;
+    let pd = r.number(t, key!(raw_t.pollution_degree), &POLLUTION_DEGREE);
+    let ovc = r.word::<OvervoltageCategory>(t, key!(raw_t.overvoltage_category));
+    let altitude = r.number(t, key!(raw_t.altitude_m), &ALTITUDE_M);
     if let Some(a) = &altitude {
         key_spans.insert("environment.altitude_m".to_string(), a.span.clone());
     }
-    let stated = |key: &str| t.as_ref().is_some_and(|t| r.has(t, key));
-    if !stated("pollution_degree") {
+    if raw_t.pollution_degree.is_none() {
         assumptions.push("Pollution degree 2 (not stated in [environment]).".to_string());
     }
-    if !stated("overvoltage_category") {
+    if raw_t.overvoltage_category.is_none() {
         assumptions.push("Overvoltage category II (not stated in [environment]).".to_string());
     }
-    if !stated("altitude_m") {
+    if raw_t.altitude_m.is_none() {
         assumptions
             .push("Altitude up to 2000 m (altitude_m not stated in [environment]).".to_string());
     }
     // A stated but invalid value has been reported; fall back only for absent ones.
-    if (stated("pollution_degree") && pd.is_none())
-        || (stated("overvoltage_category") && ovc.is_none())
-        || (stated("altitude_m") && altitude.is_none())
+    if (raw_t.pollution_degree.is_some() && pd.is_none())
+        || (raw_t.overvoltage_category.is_some() && ovc.is_none())
+        || (raw_t.altitude_m.is_some() && altitude.is_none())
     {
         return None;
     }
     Some(Environment {
         pollution_degree: pd.map(|l| l.value as u8).unwrap_or(2),
-        overvoltage_category: ovc
-            .and_then(|l| OvervoltageCategory::from_word(l.value))
-            .unwrap_or(OvervoltageCategory::II),
+        overvoltage_category: ovc.map_or(OvervoltageCategory::II, |l| l.value),
         altitude_m: altitude.map(|l| l.value).unwrap_or(2000.0),
     })
 }
 
 fn read_mains(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &RawProject,
     key_spans: &mut BTreeMap<String, Span>,
 ) -> Option<Mains> {
-    let Some(t) = r.table(root, "mains", MAINS_KEYS) else {
-        if !r.has(root, "mains") {
+    let Some((t, raw_t)) = r.table(root, key!(raw_root.mains)) else {
+        if raw_root.mains.is_none() {
             r.missing(root, "mains", "a [mains] table with nominal_v");
         }
         return None;
     };
-    let nominal = r.required_number(&t, "nominal_v", &VOLTAGE_V);
-    let max_v = r.number(&t, "max_v", &VOLTAGE_V);
-    let min_v = r.number(&t, "min_v", &VOLTAGE_V);
-    let frequency = r.number(&t, "frequency_hz", &MAINS_FREQUENCY_HZ);
+    let nominal = r.required_number(&t, key!(raw_t.nominal_v), &VOLTAGE_V);
+    let max_v = r.number(&t, key!(raw_t.max_v), &VOLTAGE_V);
+    let min_v = r.number(&t, key!(raw_t.min_v), &VOLTAGE_V);
+    let frequency = r.number(&t, key!(raw_t.frequency_hz), &MAINS_FREQUENCY_HZ);
     let nominal = nominal?;
     key_spans.insert("mains.nominal_v".to_string(), nominal.span.clone());
     if let Some(max) = &max_v
@@ -294,16 +244,20 @@ fn read_mains(
 
 /// The circuits that could be read, and every id declared (for references, so that a
 /// circuit with a problem of its own does not also make every reference to it an error).
-fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<String>) {
-    let tables = r.table_array(root, "circuit", CIRCUIT_KEYS);
+fn read_circuits(
+    r: &mut Reader,
+    root: &TableAt,
+    raw_root: &RawProject,
+) -> (Vec<Circuit>, BTreeSet<String>) {
+    let tables = r.table_array(root, key!(raw_root.circuit));
     let mut seen = BTreeSet::new();
     let mut circuits = Vec::new();
-    for t in &tables {
-        let id = r.required_string(t, "id");
-        let kind = r.required_word(t, "kind", &["mains", "hazardous", "safe"]);
-        let accessible = r.boolean(t, "accessible");
-        let earthed = r.boolean(t, "earthed");
-        let description = r.string(t, "description").map(|l| l.value);
+    for (t, raw_t) in &tables {
+        let id = r.required_string(t, key!(raw_t.id));
+        let kind = r.required_word::<CircuitKind>(t, key!(raw_t.kind));
+        let accessible = r.boolean(t, key!(raw_t.accessible));
+        let earthed = r.boolean(t, key!(raw_t.earthed));
+        let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
         if let Some(id) = &id
             && !seen.insert(id.value.clone())
         {
@@ -314,8 +268,8 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
             );
             continue;
         }
-        if r.has(t, "accessible") && accessible.is_none()
-            || r.has(t, "earthed") && earthed.is_none()
+        if raw_t.accessible.is_some() && accessible.is_none()
+            || raw_t.earthed.is_some() && earthed.is_none()
         {
             continue;
         }
@@ -324,11 +278,7 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
         };
         circuits.push(Circuit {
             id: id.value,
-            kind: match kind.value {
-                "mains" => CircuitKind::Mains,
-                "hazardous" => CircuitKind::Hazardous,
-                _ => CircuitKind::Safe,
-            },
+            kind: kind.value,
             accessible: accessible.is_some_and(|l| l.value),
             earthed: earthed.is_some_and(|l| l.value),
             description,
@@ -339,53 +289,61 @@ fn read_circuits(r: &mut Reader, root: &TableRef) -> (Vec<Circuit>, BTreeSet<Str
 }
 
 /// The parts that could be read, and every ref declared.
-fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) {
-    let tables = r.table_array(root, "part", PART_KEYS);
+fn read_parts(
+    r: &mut Reader,
+    root: &TableAt,
+    raw_root: &RawProject,
+) -> (Vec<Part>, BTreeSet<String>) {
+    let tables = r.table_array(root, key!(raw_root.part));
     let mut seen = BTreeSet::new();
     let mut parts = Vec::new();
-    for t in &tables {
-        let reference = r.required_string(t, "ref");
-        let kind = r.required_word(t, "kind", PART_KIND_WORDS);
-        let description = r.string(t, "description").map(|l| l.value);
+    for (t, raw_t) in &tables {
+        let reference = r.required_string(t, ("ref", &raw_t.reference));
+        let kind = r.required_word::<PartKind>(t, key!(raw_t.kind));
+        let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
         let ratings = PartRatings {
             subclass: r
-                .word(t, "subclass", &["X1", "X2", "Y1", "Y2", "Y4"])
+                .word::<CapacitorSubclass>(t, key!(raw_t.subclass))
                 .map(|l| l.value.to_string()),
             capacitance_nf: r
-                .number(t, "capacitance_nf", &CAPACITANCE_NF)
+                .number(t, key!(raw_t.capacitance_nf), &CAPACITANCE_NF)
                 .map(|l| l.value),
-            rated_ac_v: r.number(t, "rated_ac_v", &VOLTAGE_V).map(|l| l.value),
+            rated_ac_v: r
+                .number(t, key!(raw_t.rated_ac_v), &VOLTAGE_V)
+                .map(|l| l.value),
             count_in_series: r
-                .number(t, "count_in_series", &COUNT_IN_SERIES)
+                .number(t, key!(raw_t.count_in_series), &COUNT_IN_SERIES)
                 .map_or(1, |l| l.value as u32),
             isolation_test_v_rms: r
-                .number(t, "isolation_test_v_rms", &TEST_V_RMS)
+                .number(t, key!(raw_t.isolation_test_v_rms), &TEST_V_RMS)
                 .map(|l| l.value),
             external_clearance_mm: r
-                .number(t, "external_clearance_mm", &DISTANCE_MM)
+                .number(t, key!(raw_t.external_clearance_mm), &DISTANCE_MM)
                 .map(|l| l.value),
             external_creepage_mm: r
-                .number(t, "external_creepage_mm", &DISTANCE_MM)
+                .number(t, key!(raw_t.external_creepage_mm), &DISTANCE_MM)
                 .map(|l| l.value),
             distance_through_insulation_mm: r
-                .number(t, "distance_through_insulation_mm", &THICKNESS_MM)
+                .number(t, key!(raw_t.distance_through_insulation_mm), &THICKNESS_MM)
                 .map(|l| l.value),
-            thin_layer_rated: r.boolean(t, "thin_layer_rated").is_some_and(|l| l.value),
+            thin_layer_rated: r
+                .boolean(t, key!(raw_t.thin_layer_rated))
+                .is_some_and(|l| l.value),
             insulation_system: r
-                .word(
-                    t,
-                    "insulation_system",
-                    &["triple-insulated-wire", "tape", "margin-tape"],
-                )
+                .word::<InsulationSystem>(t, key!(raw_t.insulation_system))
                 .map(|l| l.value.to_string()),
             tape_layers: r
-                .number(t, "tape_layers", &TAPE_LAYERS)
+                .number(t, key!(raw_t.tape_layers), &TAPE_LAYERS)
                 .map(|l| l.value as u32),
-            margin_mm: r.number(t, "margin_mm", &DISTANCE_MM).map(|l| l.value),
+            margin_mm: r
+                .number(t, key!(raw_t.margin_mm), &DISTANCE_MM)
+                .map(|l| l.value),
             thermal_class: r
-                .word(t, "thermal_class", &["A", "E", "B", "F", "H", "N", "R"])
+                .word::<ThermalClassLetter>(t, key!(raw_t.thermal_class))
                 .map(|l| l.value.to_string()),
-            hot_spot_c: r.number(t, "hot_spot_c", &TEMPERATURE_C).map(|l| l.value),
+            hot_spot_c: r
+                .number(t, key!(raw_t.hot_spot_c), &TEMPERATURE_C)
+                .map(|l| l.value),
         };
         if let Some(reference) = &reference
             && !seen.insert(reference.value.clone())
@@ -400,16 +358,7 @@ fn read_parts(r: &mut Reader, root: &TableRef) -> (Vec<Part>, BTreeSet<String>) 
         let (Some(reference), Some(kind)) = (reference, kind) else {
             continue;
         };
-        let kind = match kind.value {
-            "y-capacitor" => PartKind::YCapacitor,
-            "x-capacitor" => PartKind::XCapacitor,
-            "optocoupler" => PartKind::Optocoupler,
-            "digital-isolator" => PartKind::DigitalIsolator,
-            "transformer" => PartKind::Transformer,
-            "resistor" => PartKind::Resistor,
-            "relay" => PartKind::Relay,
-            _ => PartKind::Other,
-        };
+        let kind = kind.value;
         parts.push(Part {
             reference: reference.value,
             kind,
@@ -432,12 +381,13 @@ struct BarrierDefaults {
 
 fn read_barriers(
     r: &mut Reader,
-    root: &TableRef,
+    root: &TableAt,
+    raw_root: &RawProject,
     circuit_ids: &BTreeSet<String>,
     part_refs: &BTreeSet<String>,
     assumptions: &mut Vec<String>,
 ) -> Vec<Barrier> {
-    let tables = r.table_array(root, "barrier", BARRIER_KEYS);
+    let tables = r.table_array(root, key!(raw_root.barrier));
     let circuit_set = circuit_ids;
     let part_set = part_refs;
     let circuit_ids: Vec<&str> = circuit_ids.iter().map(String::as_str).collect();
@@ -445,34 +395,30 @@ fn read_barriers(
     let mut seen = BTreeSet::new();
     let mut barriers = Vec::new();
     let mut defaults = BarrierDefaults::default();
-    for t in &tables {
+    for (t, raw_t) in &tables {
         let problems_before = r.problems.len();
         let mut key_spans = BTreeMap::new();
         let mut keep = |key: &'static str, span: &Span| {
             key_spans.insert(key, span.clone());
         };
-        let id = r.required_string(t, "id");
-        let between = read_between(r, t, circuit_set, &circuit_ids);
-        let grade = r.required_word(t, "grade", &crate::standards::GRADE_WORDS);
-        let rms = r.required_number(t, "working_rms_v", &VOLTAGE_V);
-        let peak = r.number(t, "working_peak_v", &VOLTAGE_V);
-        let transient = r.number(t, "transient_v", &TRANSIENT_V);
-        let frequency = r.number(t, "working_frequency_hz", &WORKING_FREQUENCY_HZ);
-        let group = r.word(t, "material_group", &MaterialGroup::WORDS);
-        let cti = r.number(t, "cti", &CTI);
-        let printed = r.boolean(t, "printed_board");
-        let field = r.word(t, "field", &["inhomogeneous", "homogeneous"]);
-        let conductor = r.word(
-            t,
-            "board_conductor",
-            &["outer-layer", "inner-layer", "component-lead"],
-        );
-        let coating = r.word(t, "board_coating", &["none", "polymer", "conformal"]);
-        let clearance = r.number(t, "clearance_mm", &DISTANCE_MM);
-        let creepage = r.number(t, "creepage_mm", &DISTANCE_MM);
-        let slot = r.number(t, "slot_width_mm", &SLOT_MM);
-        let bridged = r.string_list(t, "bridged_by");
-        let description = r.string(t, "description").map(|l| l.value);
+        let id = r.required_string(t, key!(raw_t.id));
+        let between = read_between(r, t, raw_t, circuit_set, &circuit_ids);
+        let grade = r.required_word::<crate::standards::GradeWord>(t, key!(raw_t.grade));
+        let rms = r.required_number(t, key!(raw_t.working_rms_v), &VOLTAGE_V);
+        let peak = r.number(t, key!(raw_t.working_peak_v), &VOLTAGE_V);
+        let transient = r.number(t, key!(raw_t.transient_v), &TRANSIENT_V);
+        let frequency = r.number(t, key!(raw_t.working_frequency_hz), &WORKING_FREQUENCY_HZ);
+        let group = r.word::<MaterialGroup>(t, key!(raw_t.material_group));
+        let cti = r.number(t, key!(raw_t.cti), &CTI);
+        let printed = r.boolean(t, key!(raw_t.printed_board));
+        let field = r.word::<Field>(t, key!(raw_t.field));
+        let conductor = r.word::<BoardConductor>(t, key!(raw_t.board_conductor));
+        let coating = r.word::<BoardCoating>(t, key!(raw_t.board_coating));
+        let clearance = r.number(t, key!(raw_t.clearance_mm), &DISTANCE_MM);
+        let creepage = r.number(t, key!(raw_t.creepage_mm), &DISTANCE_MM);
+        let slot = r.number(t, key!(raw_t.slot_width_mm), &SLOT_MM);
+        let bridged = r.string_list(t, key!(raw_t.bridged_by));
+        let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
 
         if let (Some(group), Some(cti)) = (&group, &cti) {
             r.error_with_help(
@@ -553,9 +499,7 @@ fn read_barriers(
             }
         }
         let material = match (group, cti) {
-            (Some(g), _) => {
-                Material::Group(MaterialGroup::from_word(g.value).unwrap_or(MaterialGroup::IIIb))
-            }
+            (Some(g), _) => Material::Group(g.value),
             (None, Some(c)) => Material::Cti(c.value),
             (None, None) => {
                 defaults.material.push(id.value.clone());
@@ -568,11 +512,7 @@ fn read_barriers(
         if printed.is_none() {
             defaults.printed_board.push(id.value.clone());
         }
-        let means = crate::standards::Means::from_word(grade.value);
-        let grade = match means {
-            Some(m) => m.grade(),
-            None => Grade::from_word(grade.value).unwrap_or(Grade::Reinforced),
-        };
+        let (grade, means) = grade.value.split();
         let printed_board = printed.is_some_and(|l| l.value);
         if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none())
         {
@@ -589,21 +529,11 @@ fn read_barriers(
             working_frequency_hz: frequency.map(|l| l.value),
             material,
             printed_board,
-            field: match field.map(|l| l.value) {
-                Some("homogeneous") => Field::Homogeneous,
-                _ => Field::Inhomogeneous,
-            },
+            // Absent keys take the defaults the assumptions above name.
+            field: field.map_or(Field::Inhomogeneous, |l| l.value),
             board: BoardSpacing {
-                conductor: match conductor.map(|l| l.value) {
-                    Some("inner-layer") => BoardConductor::InnerLayer,
-                    Some("component-lead") => BoardConductor::ComponentLead,
-                    _ => BoardConductor::OuterLayer,
-                },
-                coating: match coating.map(|l| l.value) {
-                    Some("polymer") => BoardCoating::Polymer,
-                    Some("conformal") => BoardCoating::Conformal,
-                    _ => BoardCoating::None,
-                },
+                conductor: conductor.map_or(BoardConductor::OuterLayer, |l| l.value),
+                coating: coating.map_or(BoardCoating::None, |l| l.value),
             },
             clearance_mm: clearance.map(|l| l.value),
             creepage_mm: creepage.map(|l| l.value),
@@ -644,11 +574,12 @@ fn read_barriers(
 
 fn read_between(
     r: &mut Reader,
-    t: &TableRef,
+    t: &TableAt,
+    raw_t: &RawBarrier,
     circuit_set: &BTreeSet<String>,
     circuit_ids: &[&str],
 ) -> Option<[String; 2]> {
-    if !r.has(t, "between") {
+    if raw_t.between.is_none() {
         r.missing(
             t,
             "between",
@@ -656,7 +587,7 @@ fn read_between(
         );
         return None;
     }
-    let list = r.string_list(t, "between")?;
+    let list = r.string_list(t, key!(raw_t.between))?;
     let path = format!("{}.between", t.path);
     if list.value.len() != 2 {
         r.error(

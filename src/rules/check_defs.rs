@@ -4,6 +4,7 @@
 
 use std::collections::BTreeMap;
 use std::fmt;
+use std::ops::Range;
 
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
@@ -188,39 +189,21 @@ pub struct Retired {
     pub reason: String,
 }
 
-/// The line and column where `key` is given inside the `[[check]]` entry that starts at
-/// `line` (1-based), and where `needle` (a quoted field name) stands after it, if given.
-fn locate_key(text: &str, line: usize, key: &str, needle: Option<&str>) -> Option<(usize, usize)> {
-    // `name =` at the start of a line: the key it gives, if any.
-    fn key_of(l: &str) -> Option<&str> {
-        let t = l.trim_start();
-        let name_len = t
-            .find(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
-            .unwrap_or(t.len());
-        (name_len > 0 && t[name_len..].trim_start().starts_with('=')).then(|| &t[..name_len])
+/// Where `key` is given in the check at `index` (from 0) of a check file, as the parser
+/// located it, and where `needle` (a quoted field name) stands inside that value, if given;
+/// `None` where the entry does not give the key.
+fn locate_key(text: &str, index: usize, key: &str, needle: Option<&str>) -> Option<Range<usize>> {
+    let entry = crate::diag::span_of_path(text, &format!("check[{}]", index + 1))?;
+    let value = crate::diag::span_of_path(text, &format!("check[{}].{key}", index + 1))?;
+    if value == entry {
+        return None;
     }
-    let mut found: Option<(usize, usize)> = None;
-    for (i, l) in text.lines().enumerate().skip(line) {
-        if l.trim_start().starts_with('[') {
-            break;
-        }
-        match (found, key_of(l)) {
-            (None, Some(k)) if k == key => {
-                let eq = l.find('=').unwrap_or(0);
-                let after = &l[eq + 1..];
-                found = Some((i + 1, eq + 2 + after.len() - after.trim_start().len()));
-            }
-            (None, _) => continue,
-            (Some(_), Some(_)) => break,
-            (Some(_), None) => {}
-        }
-        if let Some(needle) = needle
-            && let Some(col) = l.find(&format!("\"{needle}\""))
-        {
-            return Some((i + 1, col + 1));
-        }
-    }
-    found
+    let inside = needle.and_then(|needle| {
+        let quoted = format!("\"{needle}\"");
+        let at = text.get(value.clone())?.find(&quoted)?;
+        Some(value.start + at..value.start + at + quoted.len())
+    });
+    Some(inside.unwrap_or(value))
 }
 
 /// Reads a condition (`applies` or `condition`): a quoted expression or a predicate table.
@@ -277,21 +260,31 @@ pub fn load_checks(
         };
         // Expressions of shipped checks are tested with the project; house ones are read here.
         let validate = shipped.is_none();
-        for (raw, line) in &entries {
+        for (entry_index, (raw, line)) in entries.iter().enumerate() {
             let line = *line;
             // Located at the entry's [[check]] line, with the key's own line and column in
             // the message (tools that jump to the first position land on the entry).
+            // Located at the key's value (or at the `[[check]]` line when the entry does not
+            // give the key), naming the entry's own line too.
             let at_field = |message: String, key: &str, needle: Option<&str>| {
-                let message = match locate_key(&source.text, line, key, needle) {
-                    Some((l, c)) => format!("{message} (`{key}` at line {l}, column {c})"),
-                    None => message,
+                let entry_at = format!("{}:{line}:1", source.name);
+                let d = match locate_key(&source.text, entry_index, key, needle) {
+                    Some(span) => {
+                        let (l, c) = source.index.locate(&source.text, span.start);
+                        source
+                            .diag(
+                                &span,
+                                format!("{message} (`{key}` at line {l}, column {c})"),
+                            )
+                            .with_note(format!("in the [[check]] entry at {entry_at}"))
+                    }
+                    None => Diagnostic {
+                        line: Some(line),
+                        column: Some(1),
+                        ..Diagnostic::new(&source.name, message)
+                    },
                 };
-                Diagnostic {
-                    line: Some(line),
-                    column: Some(1),
-                    ..Diagnostic::new(&source.name, message)
-                }
-                .with_key(format!("check \"{}\".{key}", raw.id))
+                d.with_key(format!("check \"{}\".{key}", raw.id))
             };
             let at = |message: String, key: &str| at_field(message, key, None);
             let before = problems.len();
@@ -395,16 +388,13 @@ pub fn load_checks(
                 .clone()
                 .or_else(|| base.as_ref().and_then(|b| b.subject.clone()));
             let severity = match (&raw.severity, &base) {
-                (Some(word), _) => match word.as_str() {
-                    "blocking" => Some(Severity::Blocking),
-                    "warning" => Some(Severity::Warning),
-                    "note" => Some(Severity::Note),
-                    other => {
+                (Some(word), _) => match crate::diag::word::<Severity>(word) {
+                    Some(severity) => Some(severity),
+                    None => {
+                        let words = crate::diag::words::<Severity>();
+                        let words: Vec<&str> = words.iter().map(String::as_str).collect();
                         problems.push(at(
-                            format!(
-                                "\"{other}\" is not a severity; expected {}",
-                                one_of(&["blocking", "warning", "note"])
-                            ),
+                            format!("\"{word}\" is not a severity; expected {}", one_of(&words)),
                             "severity",
                         ));
                         None

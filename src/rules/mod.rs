@@ -82,33 +82,86 @@ struct Header {
     check: Option<serde::de::IgnoredAny>,
 }
 
+/// A set of rule tables loaded together: one table (`Table`, found by its id) or a struct
+/// of them declared with `table_set!`.
+pub trait TableSet: Sized {
+    /// Every table of the set, parsed and checked; `None` once any has a problem (each
+    /// problem is recorded in `typed`, and the other tables are still read).
+    fn load(typed: &mut Typed) -> Option<Self>;
+}
+
+impl<T: Table> TableSet for T {
+    fn load(typed: &mut Typed) -> Option<Self> {
+        typed.get::<T>()
+    }
+}
+
+/// Declares a struct of rule tables (or of other sets) that loads itself: every field is
+/// read by its type's `Table::ID`, and all are read before any failure is reported. A new
+/// table is its file, its struct and one line in the set of the area that reads it.
+#[macro_export]
+macro_rules! table_set {
+    ($(#[$meta:meta])* pub struct $name:ident {
+        $($(#[$field_meta:meta])* pub $field:ident: $ty:ty,)*
+    }) => {
+        $(#[$meta])*
+        #[derive(Debug, Clone)]
+        pub struct $name {
+            $($(#[$field_meta])* pub $field: $ty,)*
+        }
+
+        impl $crate::rules::TableSet for $name {
+            fn load(typed: &mut $crate::rules::Typed) -> Option<Self> {
+                $(let $field = <$ty as $crate::rules::TableSet>::load(typed);)*
+                Some($name { $($field: $field?,)* })
+            }
+        }
+    };
+}
+
+table_set! {
+    /// The tables of the insulation engine, and those power entry and EMC own.
+    pub struct Tables {
+        pub impulse: ImpulseTable,
+        pub clearance: ClearanceTable,
+        pub steady_state: SteadyStateClearanceTable,
+        pub creepage: CreepageTable,
+        pub reinforced: ReinforcedRule,
+        pub altitude: AltitudeTable,
+        pub grooves: GrooveTable,
+        pub material_groups: MaterialGroupTable,
+        pub board: BoardSpacingTable,
+        pub capacitors: CapacitorSubclasses,
+        pub test_voltages: TestVoltages,
+        pub thermal: ThermalClasses,
+        pub solid: SolidInsulation,
+        pub minimums: MinimumDistances,
+        /// Tables owned by the power-entry evaluation.
+        pub power_entry: crate::power_entry::PowerEntryRules,
+        /// Tables owned by the EMC evaluation.
+        pub emc: crate::emc::EmcRules,
+        /// The end-product standards' tables (`rules/<standard>/`).
+        pub standards: crate::standards::StandardRules,
+    }
+}
+
 /// All loaded tables, typed, and the checklist.
 #[derive(Debug, Clone)]
 pub struct RuleBook {
     pub info: Vec<RuleInfo>,
-    pub impulse: ImpulseTable,
-    pub clearance: ClearanceTable,
-    pub steady_state: SteadyStateClearanceTable,
-    pub creepage: CreepageTable,
-    pub reinforced: ReinforcedRule,
-    pub altitude: AltitudeTable,
-    pub grooves: GrooveTable,
-    pub material_groups: MaterialGroupTable,
-    pub board: BoardSpacingTable,
-    pub capacitors: CapacitorSubclasses,
-    pub test_voltages: TestVoltages,
-    pub thermal: ThermalClasses,
-    pub solid: SolidInsulation,
-    pub minimums: MinimumDistances,
-    /// Tables owned by the power-entry evaluation.
-    pub power_entry: crate::power_entry::PowerEntryRules,
-    /// Tables owned by the EMC evaluation.
-    pub emc: crate::emc::EmcRules,
-    /// The end-product standards' tables (`rules/<standard>/`).
-    pub standards: crate::standards::StandardRules,
+    /// The tables; `book.impulse` reads through to them.
+    pub tables: Tables,
     pub checks: Vec<CheckDef>,
     /// The checks, compiled once.
     pub compiled_checks: crate::checks::CompiledChecks,
+}
+
+impl std::ops::Deref for RuleBook {
+    type Target = Tables;
+
+    fn deref(&self) -> &Tables {
+        &self.tables
+    }
 }
 
 /// A rule file on its way in: its text, where it came from, and whether it holds checks.
@@ -257,23 +310,7 @@ impl RuleBook {
             files: &files,
             problems: Vec::new(),
         };
-        let impulse = typed.get::<ImpulseTable>(ImpulseTable::ID);
-        let clearance = typed.get::<ClearanceTable>(ClearanceTable::ID);
-        let steady_state = typed.get::<SteadyStateClearanceTable>(SteadyStateClearanceTable::ID);
-        let creepage = typed.get::<CreepageTable>(CreepageTable::ID);
-        let reinforced = typed.get::<ReinforcedRule>(ReinforcedRule::ID);
-        let altitude = typed.get::<AltitudeTable>(AltitudeTable::ID);
-        let grooves = typed.get::<GrooveTable>(GrooveTable::ID);
-        let material_groups = typed.get::<MaterialGroupTable>(MaterialGroupTable::ID);
-        let board = typed.get::<BoardSpacingTable>(BoardSpacingTable::ID);
-        let capacitors = typed.get::<CapacitorSubclasses>(CapacitorSubclasses::ID);
-        let test_voltages = typed.get::<TestVoltages>(TestVoltages::ID);
-        let thermal = typed.get::<ThermalClasses>(ThermalClasses::ID);
-        let solid = typed.get::<SolidInsulation>(SolidInsulation::ID);
-        let minimums = typed.get::<MinimumDistances>(MinimumDistances::ID);
-        let power_entry = crate::power_entry::PowerEntryRules::load(&mut typed);
-        let emc = crate::emc::EmcRules::load(&mut typed);
-        let standards = crate::standards::StandardRules::load(&mut typed);
+        let tables = Tables::load(&mut typed);
         let mut problems = typed.problems;
         let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
@@ -326,36 +363,18 @@ impl RuleBook {
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
-        // Every table that failed has left a problem above; the rest are all present.
-        fn need<T>(table: Option<T>) -> Result<T, Problems> {
-            table.ok_or_else(|| {
-                Problems(vec![Diagnostic::new(
-                    "rules",
-                    "a rule table could not be loaded",
-                )])
-            })
-        }
+        // Every table that failed has left a problem above.
+        let (Some(tables), Some(compiled_checks)) = (tables, compiled_checks) else {
+            return Err(Problems(vec![Diagnostic::new(
+                "rules",
+                "a rule table could not be loaded",
+            )]));
+        };
         let book = RuleBook {
             info,
-            impulse: need(impulse)?,
-            clearance: need(clearance)?,
-            steady_state: need(steady_state)?,
-            creepage: need(creepage)?,
-            reinforced: need(reinforced)?,
-            altitude: need(altitude)?,
-            grooves: need(grooves)?,
-            material_groups: need(material_groups)?,
-            board: need(board)?,
-            capacitors: need(capacitors)?,
-            test_voltages: need(test_voltages)?,
-            thermal: need(thermal)?,
-            solid: need(solid)?,
-            minimums: need(minimums)?,
-            power_entry: need(power_entry)?,
-            emc: need(emc)?,
-            standards: need(standards)?,
+            tables,
             checks,
-            compiled_checks: need(compiled_checks)?,
+            compiled_checks,
         };
         book.try_house_checks()?;
         Ok(book)
@@ -410,8 +429,18 @@ pub struct Typed<'a> {
 }
 
 impl Typed<'_> {
-    /// The table with this id, parsed and checked; `None` (with a problem) otherwise.
-    pub fn get<T: Table>(&mut self, id: &str) -> Option<T> {
+    /// The table with `T::ID`, parsed and checked; `None` (with a problem) otherwise.
+    pub fn get<T: Table>(&mut self) -> Option<T> {
+        self.get_by_id(T::ID, T::check)
+    }
+
+    /// A table read into one type under several ids (the end-product standards' generic
+    /// table), parsed and checked by `check`; `None` (with a problem) otherwise.
+    pub fn get_by_id<T: for<'de> Deserialize<'de>>(
+        &mut self,
+        id: &str,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) -> Option<T> {
         let Some(loaded) = self.files.get(id) else {
             self.problems.push(Diagnostic::new(
                 "rules",
@@ -426,10 +455,10 @@ impl Typed<'_> {
             None => toml::from_str::<T>(&source.text).map_err(|e| toml_problem(source, &e, "")),
         };
         match parsed {
-            Ok(table) => match table.check() {
+            Ok(table) => match check(&table) {
                 Ok(()) => Some(table),
                 Err(message) => {
-                    self.problems.push(locate_check_problem(source, &message));
+                    self.problems.push(table_problem(source, &message));
                     None
                 }
             },
@@ -441,8 +470,8 @@ impl Typed<'_> {
     }
 }
 
-/// A rule file that serde could not read, located, with the key it stands at and the
-/// expected form in words ("a number", not "f64").
+/// A rule file that serde could not read, located by the parser, with the dotted key the
+/// parser was in and the expected form in words ("a number", not "f64").
 pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> Diagnostic {
     let message = e
         .message()
@@ -451,118 +480,26 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         .replace("expected u32", "expected a whole number")
         .replace("expected usize", "expected a whole number");
     let mut d = match e.span() {
-        Some(span) => {
-            let d = source.diag(&span, message);
-            match key_before(&source.text, span.start) {
-                Some(key) => d.with_key(key),
-                None => d,
-            }
-        }
+        Some(span) => source.diag(&span, message),
         None => Diagnostic::new(&source.name, message),
     };
+    if let Some(key) = crate::diag::toml_error_key(e) {
+        d = d.with_key(key);
+    }
     if !help.is_empty() {
         d = d.with_help(help);
     }
     d
 }
 
-/// The key whose value starts at `offset` (`key = value` on the same line), if any.
-fn key_before(text: &str, offset: usize) -> Option<String> {
-    let head = text.get(..offset)?;
-    let line = head.rsplit('\n').next()?;
-    let before_value = line.trim_end().strip_suffix('=')?;
-    let key: String = before_value
-        .trim_end()
-        .chars()
-        .rev()
-        .take_while(|c| c.is_alphanumeric() || *c == '_' || *c == '-')
-        .collect::<Vec<_>>()
-        .into_iter()
-        .rev()
-        .collect();
-    (!key.is_empty()).then_some(key)
-}
-
-/// Locates a table's `check()` message in its file: the line holding the figure the
-/// message quotes (and the key it names first, where that is a key of the file), with
-/// the key the figure stands at. `check()` works on parsed values, which carry no position.
-fn locate_check_problem(source: &Source, message: &str) -> Diagnostic {
-    let token_char = |c: char| c.is_alphanumeric() || matches!(c, '.' | '-' | '_' | '+');
-    let words: Vec<&str> = message
-        .split(|c: char| !token_char(c) && c != '"')
-        .filter(|w| !w.is_empty())
-        .collect();
-    // The figure quoted: the first number, nan/inf, or quoted word.
-    let needle = words.iter().find_map(|w| {
-        let w = w.trim_matches('"');
-        let lower = w.to_ascii_lowercase();
-        let numeric = w.parse::<f64>().is_ok() && !w.is_empty();
-        (numeric
-            || lower == "nan"
-            || lower == "inf"
-            || w.len() > 2 && message.contains(&format!("\"{w}\"")))
-        .then(|| w.to_string())
-    });
-    let lead = message
-        .split(':')
-        .next()
-        .unwrap_or("")
-        .split_whitespace()
-        .next()
-        .unwrap_or("");
-    let has_token = |line: &str, token: &str| {
-        line.split(|c: char| !token_char(c))
-            .any(|t| t.eq_ignore_ascii_case(token))
-    };
-    let plain = || Diagnostic::new(&source.name, message.to_string());
-    let Some(needle) = needle else { return plain() };
-    let lead_is_key = !lead.is_empty()
-        && source
-            .text
-            .lines()
-            .any(|l| l.contains(&format!("{lead} =")) || l.contains(&format!("{lead}=")));
-    let found = source.text.lines().enumerate().find(|(_, l)| {
-        let code = l.split('#').next().unwrap_or("");
-        has_token(code, &needle) && (!lead_is_key || has_token(code, lead))
-    });
-    let Some((index, line)) = found else {
-        return plain();
-    };
-    let code = line.split('#').next().unwrap_or("");
-    let first_key = code
-        .split('=')
-        .next()
-        .and_then(|k| {
-            k.trim()
-                .trim_start_matches(['{', '[', ' '])
-                .split_whitespace()
-                .last()
-        })
-        .unwrap_or("");
-    // The needle as a whole token ("inf" is not the one inside "reinforced").
-    let at = code
-        .match_indices(needle.as_str())
-        .map(|(i, _)| i)
-        .find(|&i| {
-            let before = code[..i].chars().next_back().is_none_or(|c| !token_char(c));
-            let after = code[i + needle.len()..]
-                .chars()
-                .next()
-                .is_none_or(|c| !token_char(c));
-            before && after
-        })
-        .unwrap_or(0);
-    let near_key = key_before(code, at.min(code.len())).unwrap_or_default();
-    let key = match (first_key, near_key.as_str()) {
-        (f, n) if !n.is_empty() && n != f => format!("{f}.{n}"),
-        (f, _) => f.to_string(),
-    };
-    Diagnostic {
-        line: Some(index + 1),
-        column: Some(at + 1),
-        ..plain()
+/// A table's `check()` problem (`path: message`), located at the value the path names
+/// through the parser's spans (or at the nearest enclosing value the path reaches).
+fn table_problem(source: &Source, problem: &str) -> Diagnostic {
+    let (path, message) = problem.split_once(": ").unwrap_or(("", problem));
+    match crate::diag::span_of_path(&source.text, path) {
+        Some(span) => source.diag(&span, message).with_key(path),
+        None => Diagnostic::new(&source.name, problem),
     }
-    .with_key(key)
 }
 
 /// The files a house rule folder contributes: every `*.toml` entry that is not a folder, in

@@ -3,38 +3,74 @@
 
 use serde::Deserialize;
 
-/// A rule table as read from TOML.
+/// A rule table as read from TOML: the permanent id of its file, and what makes it usable.
+/// A new table is this struct plus its file; the loader finds it by `ID`
+/// (`RuleBook::load`, or an area's own table list such as `PowerEntryRules`).
 pub trait Table: for<'de> Deserialize<'de> {
-    /// Rejects a table the engine could not read safely.
+    /// The `id` its rule file carries.
+    const ID: &'static str;
+
+    /// Rejects a table the engine could not read safely. The message starts with the
+    /// dotted path of the value at fault, counted from 1 (`rows[5].up_to_v: ...`); the
+    /// loader turns the path into the line, column and key through the parser's spans.
     fn check(&self) -> Result<(), String>;
 }
 
-fn ascending(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
+/// `list[n].key` (n from 1), or `list[n]` for a list of plain numbers.
+fn item(list: &str, index: usize, key: &str) -> String {
+    if key.is_empty() {
+        format!("{list}[{}]", index + 1)
+    } else {
+        format!("{list}[{}].{key}", index + 1)
+    }
+}
+
+/// Values of `list[n].key` that must rise from row to row.
+fn ascending(values: impl Iterator<Item = f64>, list: &str, key: &str) -> Result<(), String> {
     let mut last = f64::NEG_INFINITY;
-    for v in values {
+    for (i, v) in values.enumerate() {
         if !v.is_finite() || v < 0.0 {
-            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
+            return Err(format!(
+                "{}: {v} is not a finite figure of 0 or more",
+                item(list, i, key)
+            ));
         }
         if v <= last {
             return Err(format!(
-                "{what}: rows must be in strictly ascending order ({v} follows {last})"
+                "{}: rows must be in strictly ascending order ({v} follows {last})",
+                item(list, i, key)
             ));
         }
         last = v;
     }
     if last == f64::NEG_INFINITY {
-        return Err(format!("{what}: the table has no rows"));
+        return Err(format!("{list}: the table has no rows"));
     }
     Ok(())
 }
 
-fn non_negative(values: impl Iterator<Item = f64>, what: &str) -> Result<(), String> {
-    for v in values {
+/// Figures (each with its path) that must be finite and 0 or more.
+fn non_negative(values: impl Iterator<Item = (String, f64)>, what: &str) -> Result<(), String> {
+    for (path, v) in values {
         if !v.is_finite() || v < 0.0 {
-            return Err(format!("{what}: {v} is not a finite figure of 0 or more"));
+            return Err(format!(
+                "{path}: {v} is not a finite figure of 0 or more ({what})"
+            ));
         }
     }
     Ok(())
+}
+
+/// `(list[n].key, value)` for every row.
+fn column<'r, R: 'r>(
+    rows: &'r [R],
+    list: &'r str,
+    key: &'r str,
+    value: impl Fn(&R) -> Option<f64> + 'r,
+) -> impl Iterator<Item = (String, f64)> + 'r {
+    rows.iter()
+        .enumerate()
+        .filter_map(move |(i, r)| value(r).map(|v| (item(list, i, key), v)))
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -68,18 +104,16 @@ pub struct ImpulseTable {
     pub rows: Vec<ImpulseRow>,
 }
 
-impl ImpulseTable {
-    pub const ID: &'static str = "iec60664-1.impulse";
-}
-
 impl Table for ImpulseTable {
+    const ID: &'static str = "iec60664-1.impulse";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.rows.iter().map(|r| r.up_to_v), "up_to_v")?;
-        for i in 0..4 {
-            ascending(
-                self.rows.iter().map(|r| r.by_category(i)),
-                "rated impulse voltages",
-            )?;
+        ascending(self.rows.iter().map(|r| r.up_to_v), "rows", "up_to_v")?;
+        for (i, key) in ["ovc_i", "ovc_ii", "ovc_iii", "ovc_iv"]
+            .into_iter()
+            .enumerate()
+        {
+            ascending(self.rows.iter().map(|r| r.by_category(i)), "rows", key)?;
         }
         Ok(())
     }
@@ -116,22 +150,28 @@ pub struct ClearanceTable {
     pub rows: Vec<ClearanceRow>,
 }
 
-impl ClearanceTable {
-    pub const ID: &'static str = "iec60664-1.clearance";
-}
-
 impl Table for ClearanceTable {
+    const ID: &'static str = "iec60664-1.clearance";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.rows.iter().map(|r| r.impulse_kv), "impulse_kv")?;
+        ascending(self.rows.iter().map(|r| r.impulse_kv), "rows", "impulse_kv")?;
         non_negative(
-            self.rows
-                .iter()
-                .flat_map(|r| [r.case_a_mm, r.case_b_mm])
-                .chain(self.rows.iter().filter_map(|r| r.case_a_pd2_mm)),
+            column(&self.rows, "rows", "case_a_mm", |r| Some(r.case_a_mm))
+                .chain(column(&self.rows, "rows", "case_b_mm", |r| {
+                    Some(r.case_b_mm)
+                }))
+                .chain(column(&self.rows, "rows", "case_a_pd2_mm", |r| {
+                    r.case_a_pd2_mm
+                })),
             "clearances",
         )?;
         non_negative(
-            self.pollution_degree_minimum_mm.iter().copied(),
+            column(
+                &self.pollution_degree_minimum_mm,
+                "pollution_degree_minimum_mm",
+                "",
+                |v| Some(*v),
+            ),
             "pollution_degree_minimum_mm",
         )
     }
@@ -168,35 +208,38 @@ pub struct SteadyStateClearanceTable {
     pub rows: Vec<SteadyStateRow>,
 }
 
-impl SteadyStateClearanceTable {
-    pub const ID: &'static str = "iec60664-1.steady-state-clearance";
-}
-
 impl Table for SteadyStateClearanceTable {
+    const ID: &'static str = "iec60664-1.steady-state-clearance";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.rows.iter().map(|r| r.peak_kv), "peak_kv")?;
+        ascending(self.rows.iter().map(|r| r.peak_kv), "rows", "peak_kv")?;
         non_negative(
-            self.rows
-                .iter()
-                .flat_map(|r| [r.case_a_mm.unwrap_or(0.0), r.case_b_mm])
-                .chain(self.pollution_degree_minimum_mm.iter().copied()),
+            column(&self.rows, "rows", "case_a_mm", |r| r.case_a_mm)
+                .chain(column(&self.rows, "rows", "case_b_mm", |r| {
+                    Some(r.case_b_mm)
+                }))
+                .chain(column(
+                    &self.pollution_degree_minimum_mm,
+                    "pollution_degree_minimum_mm",
+                    "",
+                    |v| Some(*v),
+                )),
             "clearances",
         )?;
         // Case A must be a run of rows from the first: a gap would be read as "beyond the
         // table" in the middle of it.
-        if let Some(gap) = self
-            .rows
-            .windows(2)
-            .find(|w| w[0].case_a_mm.is_none() && w[1].case_a_mm.is_some())
+        if let Some(i) = (1..self.rows.len())
+            .find(|&i| self.rows[i - 1].case_a_mm.is_none() && self.rows[i].case_a_mm.is_some())
         {
             return Err(format!(
-                "peak_kv {}: case_a_mm follows a row without one; Case A must run from the first row without gaps",
-                gap[1].peak_kv
+                "{}: the row for peak_kv {} gives case_a_mm after a row without one; Case A must run from the first row without gaps",
+                item("rows", i, "case_a_mm"),
+                self.rows[i].peak_kv
             ));
         }
         if !(self.reinforced_peak_factor.is_finite() && self.reinforced_peak_factor >= 1.0) {
             return Err(format!(
-                "reinforced_peak_factor {}: it must be finite and at least 1",
+                "reinforced_peak_factor: {} must be finite and at least 1",
                 self.reinforced_peak_factor
             ));
         }
@@ -228,7 +271,6 @@ pub struct CreepageTable {
 }
 
 impl CreepageTable {
-    pub const ID: &'static str = "iec60664-1.creepage";
     /// The column names the engine selects from, in the order the file must give them.
     pub const COLUMNS: [&'static str; 9] = [
         "printed_pd1",
@@ -244,24 +286,31 @@ impl CreepageTable {
 }
 
 impl Table for CreepageTable {
+    const ID: &'static str = "iec60664-1.creepage";
+
     fn check(&self) -> Result<(), String> {
         if self.columns != Self::COLUMNS {
-            return Err(format!("columns must be {:?}", Self::COLUMNS));
+            return Err(format!("columns: must be {:?}", Self::COLUMNS));
         }
-        ascending(self.rows.iter().map(|r| r.working_rms_v), "working_rms_v")?;
-        for row in &self.rows {
+        ascending(
+            self.rows.iter().map(|r| r.working_rms_v),
+            "rows",
+            "working_rms_v",
+        )?;
+        for (i, row) in self.rows.iter().enumerate() {
+            let mm = item("rows", i, "mm");
             if row.mm.len() != Self::COLUMNS.len() {
                 return Err(format!(
-                    "row {} V has {} values; expected {}",
+                    "{mm}: row {} V has {} values; expected {}",
                     row.working_rms_v,
                     row.mm.len(),
                     Self::COLUMNS.len()
                 ));
             }
-            non_negative(row.mm.iter().copied(), "creepage distances")?;
+            non_negative(column(&row.mm, &mm, "", |v| Some(*v)), "creepage distances")?;
         }
         if !(self.interpolation_round_up_mm > 0.0 && self.interpolation_round_up_mm.is_finite()) {
-            return Err("interpolation_round_up_mm must be above 0".to_string());
+            return Err("interpolation_round_up_mm: must be above 0".to_string());
         }
         Ok(())
     }
@@ -282,21 +331,28 @@ pub struct ReinforcedRule {
     pub creepage_factor: f64,
 }
 
-impl ReinforcedRule {
-    pub const ID: &'static str = "iec60664-1.reinforced";
-}
-
 impl Table for ReinforcedRule {
+    const ID: &'static str = "iec60664-1.reinforced";
+
     fn check(&self) -> Result<(), String> {
         ascending(
             self.preferred_impulse_v.iter().copied(),
             "preferred_impulse_v",
+            "",
         )?;
         let usable = |f: f64| f.is_finite() && f >= 1.0;
-        if !usable(self.non_preferred_impulse_factor) || !usable(self.creepage_factor) {
-            return Err(
-                "the factors for reinforced insulation must be finite and at least 1".to_string(),
-            );
+        for (key, factor) in [
+            (
+                "non_preferred_impulse_factor",
+                self.non_preferred_impulse_factor,
+            ),
+            ("creepage_factor", self.creepage_factor),
+        ] {
+            if !usable(factor) {
+                return Err(format!(
+                    "{key}: {factor}: the factors for reinforced insulation must be finite and at least 1"
+                ));
+            }
         }
         Ok(())
     }
@@ -325,19 +381,19 @@ pub struct AltitudeTable {
     pub rows: Vec<AltitudeRow>,
 }
 
-impl AltitudeTable {
-    pub const ID: &'static str = "iec60664-1.altitude";
-}
-
 impl Table for AltitudeTable {
+    const ID: &'static str = "iec60664-1.altitude";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.rows.iter().map(|r| r.altitude_m), "altitude_m")?;
+        ascending(self.rows.iter().map(|r| r.altitude_m), "rows", "altitude_m")?;
         let mut last = 0.0;
-        for r in &self.rows {
+        for (i, r) in self.rows.iter().enumerate() {
             if !(r.factor >= 1.0 && r.factor >= last && r.factor.is_finite()) {
                 return Err(format!(
-                    "factor {} at {} m: factors must be at least 1 and never fall",
-                    r.factor, r.altitude_m
+                    "{}: factor {} at {} m: factors must be at least 1 and never fall",
+                    item("rows", i, "factor"),
+                    r.factor,
+                    r.altitude_m
                 ));
             }
             last = r.factor;
@@ -366,24 +422,31 @@ pub struct GrooveTable {
     pub reduced_divisor: Option<f64>,
 }
 
-impl GrooveTable {
-    pub const ID: &'static str = "iec60664-1.grooves";
-}
-
 impl Table for GrooveTable {
+    const ID: &'static str = "iec60664-1.grooves";
+
     fn check(&self) -> Result<(), String> {
-        non_negative(self.min_width_mm.iter().copied(), "min_width_mm")?;
         non_negative(
-            self.reduce_below_clearance_mm.into_iter(),
+            column(&self.min_width_mm, "min_width_mm", "", |v| Some(*v)),
+            "min_width_mm",
+        )?;
+        non_negative(
+            self.reduce_below_clearance_mm
+                .map(|v| ("reduce_below_clearance_mm".to_string(), v))
+                .into_iter(),
             "reduce_below_clearance_mm",
         )?;
         match (self.reduce_below_clearance_mm, self.reduced_divisor) {
-            (Some(_), None) | (None, Some(_)) => Err(
-                "reduce_below_clearance_mm and reduced_divisor go together: give both or neither"
+            (Some(_), None) => Err(
+                "reduce_below_clearance_mm: it goes with reduced_divisor: give both or neither"
+                    .to_string(),
+            ),
+            (None, Some(_)) => Err(
+                "reduced_divisor: it goes with reduce_below_clearance_mm: give both or neither"
                     .to_string(),
             ),
             (_, Some(d)) if !(d.is_finite() && d >= 1.0) => Err(format!(
-                "reduced_divisor {d}: it must be finite and at least 1"
+                "reduced_divisor: {d} must be finite and at least 1"
             )),
             _ => Ok(()),
         }
@@ -411,21 +474,32 @@ pub struct MaterialGroupTable {
     pub groups: Vec<MaterialGroupEntry>,
 }
 
-impl MaterialGroupTable {
-    pub const ID: &'static str = "iec60664-1.material-groups";
-}
-
 impl Table for MaterialGroupTable {
+    const ID: &'static str = "iec60664-1.material-groups";
+
     fn check(&self) -> Result<(), String> {
-        ascending(
-            self.groups.iter().rev().map(|g| g.min_cti),
-            "min_cti (listed from the highest down)",
-        )?;
-        for g in &self.groups {
-            if crate::project::MaterialGroup::from_word(&g.group).is_none() {
+        // Listed from the highest CTI down: each figure below the one before.
+        let mut last = f64::INFINITY;
+        for (i, g) in self.groups.iter().enumerate() {
+            let v = g.min_cti;
+            if !v.is_finite() || v < 0.0 || v >= last {
                 return Err(format!(
-                    "group \"{}\" is not one of I, II, IIIa, IIIb",
-                    g.group
+                    "{}: {v} must be a finite figure of 0 or more, below the one before (listed from the highest down)",
+                    item("groups", i, "min_cti")
+                ));
+            }
+            last = v;
+        }
+        if self.groups.is_empty() {
+            return Err("groups: the table has no rows".to_string());
+        }
+        for (i, g) in self.groups.iter().enumerate() {
+            if crate::diag::word::<crate::project::MaterialGroup>(&g.group).is_none() {
+                return Err(format!(
+                    "{}: \"{}\" is not one of {}",
+                    item("groups", i, "group"),
+                    g.group,
+                    crate::diag::words::<crate::project::MaterialGroup>().join(", ")
                 ));
             }
         }
@@ -456,30 +530,39 @@ pub struct BoardSpacingTable {
 }
 
 impl BoardSpacingTable {
-    pub const ID: &'static str = "ipc2221b.conductor-spacing";
     pub const COLUMNS: [&'static str; 7] = ["B1", "B2", "B3", "B4", "A5", "A6", "A7"];
 }
 
 impl Table for BoardSpacingTable {
+    const ID: &'static str = "ipc2221b.conductor-spacing";
+
     fn check(&self) -> Result<(), String> {
         if self.columns != Self::COLUMNS {
-            return Err(format!("columns must be {:?}", Self::COLUMNS));
+            return Err(format!("columns: must be {:?}", Self::COLUMNS));
         }
-        ascending(self.rows.iter().map(|r| r.up_to_peak_v), "up_to_peak_v")?;
-        for row in self
+        ascending(
+            self.rows.iter().map(|r| r.up_to_peak_v),
+            "rows",
+            "up_to_peak_v",
+        )?;
+        for (path, row) in self
             .rows
             .iter()
-            .map(|r| &r.mm)
-            .chain([&self.above_last_row_mm_per_v])
+            .enumerate()
+            .map(|(i, r)| (item("rows", i, "mm"), &r.mm))
+            .chain([(
+                "above_last_row_mm_per_v".to_string(),
+                &self.above_last_row_mm_per_v,
+            )])
         {
             if row.len() != Self::COLUMNS.len() {
                 return Err(format!(
-                    "a row has {} values; expected {}",
+                    "{path}: a row has {} values; expected {}",
                     row.len(),
                     Self::COLUMNS.len()
                 ));
             }
-            non_negative(row.iter().copied(), "spacings")?;
+            non_negative(column(row, &path, "", |v| Some(*v)), "spacings")?;
         }
         Ok(())
     }
@@ -508,13 +591,14 @@ impl ByGrade {
         }
     }
 
-    fn all(&self) -> [f64; 5] {
+    /// Every figure with its path under `key` (`clearance_mm.basic`).
+    fn all(&self, key: &str) -> [(String, f64); 5] {
         [
-            self.functional,
-            self.basic,
-            self.supplementary,
-            self.reinforced,
-            self.double,
+            (format!("{key}.functional"), self.functional),
+            (format!("{key}.basic"), self.basic),
+            (format!("{key}.supplementary"), self.supplementary),
+            (format!("{key}.reinforced"), self.reinforced),
+            (format!("{key}.double"), self.double),
         ]
     }
 }
@@ -532,17 +616,15 @@ pub struct MinimumDistances {
     pub creepage_mm: ByGrade,
 }
 
-impl MinimumDistances {
-    pub const ID: &'static str = "limits.minimum-distances";
-}
-
 impl Table for MinimumDistances {
+    const ID: &'static str = "limits.minimum-distances";
+
     fn check(&self) -> Result<(), String> {
         non_negative(
             self.clearance_mm
-                .all()
+                .all("clearance_mm")
                 .into_iter()
-                .chain(self.creepage_mm.all()),
+                .chain(self.creepage_mm.all("creepage_mm")),
             "minimum distances",
         )
     }
@@ -570,35 +652,37 @@ pub struct CapacitorSubclasses {
     pub series_count_for_reinforced: u32,
 }
 
-impl CapacitorSubclasses {
-    pub const ID: &'static str = "iec60384-14.subclasses";
-}
-
 impl Table for CapacitorSubclasses {
+    const ID: &'static str = "iec60384-14.subclasses";
+
     fn check(&self) -> Result<(), String> {
-        for s in &self.subclasses {
-            if let Some(v) = s.max_rated_ac_v {
-                non_negative(std::iter::once(v), "max_rated_ac_v")?;
-            }
-        }
+        non_negative(
+            column(&self.subclasses, "subclasses", "max_rated_ac_v", |s| {
+                s.max_rated_ac_v
+            }),
+            "max_rated_ac_v",
+        )?;
         if self.series_count_for_reinforced < 2 {
             return Err(format!(
-                "series_count_for_reinforced = {}: it must be at least 2 (capacitors in series standing for one across reinforced insulation)",
+                "series_count_for_reinforced: {} is too few: it must be at least 2 (capacitors in series standing for one across reinforced insulation)",
                 self.series_count_for_reinforced
             ));
         }
-        for s in &self.subclasses {
-            for g in &s.bridges {
-                if crate::project::Grade::from_word(g).is_none() {
+        for (i, s) in self.subclasses.iter().enumerate() {
+            for (j, g) in s.bridges.iter().enumerate() {
+                if crate::diag::word::<crate::project::Grade>(g).is_none() {
                     return Err(format!(
-                        "subclass {}: \"{g}\" is not an insulation grade",
+                        "{}: subclass {}: \"{g}\" is not an insulation grade",
+                        item(&item("subclasses", i, "bridges"), j, ""),
                         s.subclass
                     ));
                 }
             }
         }
         non_negative(
-            self.subclasses.iter().map(|s| s.impulse_test_v),
+            column(&self.subclasses, "subclasses", "impulse_test_v", |s| {
+                Some(s.impulse_test_v)
+            }),
             "impulse_test_v",
         )
     }
@@ -627,17 +711,22 @@ pub struct TestVoltages {
     pub above_last_row: Option<String>,
 }
 
-impl TestVoltages {
-    pub const ID: &'static str = "iec60950-1.test-voltages";
-}
-
 impl Table for TestVoltages {
+    const ID: &'static str = "iec60950-1.test-voltages";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.rows.iter().map(|r| r.up_to_peak_v), "up_to_peak_v")?;
+        ascending(
+            self.rows.iter().map(|r| r.up_to_peak_v),
+            "rows",
+            "up_to_peak_v",
+        )?;
         non_negative(
-            self.rows
-                .iter()
-                .flat_map(|r| [r.basic_v_rms, r.reinforced_v_rms]),
+            column(&self.rows, "rows", "basic_v_rms", |r| Some(r.basic_v_rms)).chain(column(
+                &self.rows,
+                "rows",
+                "reinforced_v_rms",
+                |r| Some(r.reinforced_v_rms),
+            )),
             "test voltages",
         )
     }
@@ -662,13 +751,11 @@ pub struct ThermalClasses {
     pub classes: Vec<ThermalClass>,
 }
 
-impl ThermalClasses {
-    pub const ID: &'static str = "iec60085.thermal-classes";
-}
-
 impl Table for ThermalClasses {
+    const ID: &'static str = "iec60085.thermal-classes";
+
     fn check(&self) -> Result<(), String> {
-        ascending(self.classes.iter().map(|c| c.max_c), "max_c")
+        ascending(self.classes.iter().map(|c| c.max_c), "classes", "max_c")
     }
 }
 
@@ -686,15 +773,16 @@ pub struct SolidInsulation {
     pub margins_cover_creepage: bool,
 }
 
-impl SolidInsulation {
-    pub const ID: &'static str = "iec60950-1.solid-insulation";
-}
-
 impl Table for SolidInsulation {
+    const ID: &'static str = "iec60950-1.solid-insulation";
+
     fn check(&self) -> Result<(), String> {
         non_negative(
-            std::iter::once(self.min_distance_through_insulation_mm)
-                .chain(self.min_tape_layers.all()),
+            std::iter::once((
+                "min_distance_through_insulation_mm".to_string(),
+                self.min_distance_through_insulation_mm,
+            ))
+            .chain(self.min_tape_layers.all("min_tape_layers")),
             "solid insulation figures",
         )
     }

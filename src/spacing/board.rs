@@ -3,6 +3,7 @@
 
 use super::{Conditions, Figure, OutOfTable, Step, show, tidy};
 use crate::project::{Barrier, BoardCoating, BoardConductor};
+use crate::rules::Table as _;
 use crate::rules::{BoardSpacingTable, EPS, RuleBook};
 
 pub struct BoardFigure {

@@ -5,6 +5,7 @@
 
 use super::{Conditions, Figure, OutOfTable, Step, round_up, show, tidy};
 use crate::project::{Barrier, BetweenRows, Field, Grade};
+use crate::rules::Table as _;
 use crate::rules::{
     AltitudeTable, ClearanceTable, EPS, ImpulseTable, ReinforcedRule, RuleBook,
     SteadyStateClearanceTable,

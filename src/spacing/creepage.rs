@@ -5,6 +5,7 @@
 use super::clearance::grade_label;
 use super::{Conditions, Figure, OutOfTable, Step, round_up, show, tidy};
 use crate::project::{Barrier, BetweenRows, Grade, Material, MaterialGroup};
+use crate::rules::Table as _;
 use crate::rules::{CreepageTable, EPS, MaterialGroupTable, ReinforcedRule, RuleBook};
 
 pub struct Creepage {
@@ -38,7 +39,7 @@ pub fn material_group(
                 .iter()
                 .filter(|g| cti >= g.min_cti - EPS)
                 .max_by(|a, b| a.min_cti.total_cmp(&b.min_cti))
-                .and_then(|g| MaterialGroup::from_word(&g.group).map(|m| (m, g.min_cti)));
+                .and_then(|g| crate::diag::word::<MaterialGroup>(&g.group).map(|m| (m, g.min_cti)));
             match found {
                 Some((group, min)) => Ok((
                     group,

@@ -6,6 +6,7 @@ mod board;
 mod clearance;
 mod creepage;
 
+use crate::rules::Table as _;
 use serde::Serialize;
 
 pub(crate) use clearance::grade_label;

@@ -5,7 +5,7 @@
 
 use super::ElectricStrength;
 use crate::project::{Barrier, Grade};
-use crate::rules::{EPS, RuleBook, TestVoltages};
+use crate::rules::{EPS, RuleBook, Table, TestVoltages};
 use crate::spacing::{Step, show};
 
 pub(super) fn electric_strength(rules: &RuleBook, barrier: &Barrier) -> ElectricStrength {

@@ -14,44 +14,31 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 
 use crate::project::{Barrier, Grade};
-use crate::rules::{EPS, Table, Typed};
+use crate::rules::{EPS, Typed};
 use crate::spacing::{BarrierResult, Conditions, Figure, OutOfTable, Step, show, tidy};
 
 /// The standard a design is judged against (`[design] standard`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Standard {
-    /// The horizontal basics (IEC 60664-1); the default.
-    #[serde(rename = "iec60664-1")]
-    Iec60664,
-    #[serde(rename = "iec62368-1")]
+    #[value(name = "iec62368-1")]
     Iec62368,
-    #[serde(rename = "iec60601-1")]
+    #[value(name = "iec60601-1")]
     Iec60601,
-    #[serde(rename = "iec60335-1")]
+    #[value(name = "iec60335-1")]
     Iec60335,
+    /// The horizontal basics (IEC 60664-1); the default.
+    #[value(name = "iec60664-1")]
+    Iec60664,
 }
+
+crate::domain_words!(Standard, Means, GradeWord);
 
 impl Standard {
     /// The words of `[design] standard` and `spacing --standard`, in the order listed.
     pub const WORDS: [&'static str; 4] = ["iec62368-1", "iec60601-1", "iec60335-1", "iec60664-1"];
 
     pub fn from_word(word: &str) -> Option<Self> {
-        Some(match word {
-            "iec60664-1" => Self::Iec60664,
-            "iec62368-1" => Self::Iec62368,
-            "iec60601-1" => Self::Iec60601,
-            "iec60335-1" => Self::Iec60335,
-            _ => return None,
-        })
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Self::Iec60664 => "iec60664-1",
-            Self::Iec62368 => "iec62368-1",
-            Self::Iec60601 => "iec60601-1",
-            Self::Iec60335 => "iec60335-1",
-        }
+        crate::diag::word::<Standard>(word)
     }
 
     /// The standard and the edition whose table numbers the rule files cite.
@@ -97,53 +84,21 @@ impl Standard {
     }
 }
 
-/// `spacing --standard` takes the project file's words.
-impl clap::ValueEnum for Standard {
-    fn value_variants<'a>() -> &'a [Self] {
-        &[
-            Self::Iec62368,
-            Self::Iec60601,
-            Self::Iec60335,
-            Self::Iec60664,
-        ]
-    }
-
-    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
-        Some(clap::builder::PossibleValue::new(self.as_str()))
-    }
-}
-
 /// A means of protection under IEC 60601-1: for operators (MOOP) or patients (MOPP),
 /// counted once or twice.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Means {
-    #[serde(rename = "1-moop")]
+    #[value(name = "1-moop")]
     OneMoop,
-    #[serde(rename = "2-moop")]
+    #[value(name = "2-moop")]
     TwoMoop,
-    #[serde(rename = "1-mopp")]
+    #[value(name = "1-mopp")]
     OneMopp,
-    #[serde(rename = "2-mopp")]
+    #[value(name = "2-mopp")]
     TwoMopp,
 }
 
 impl Means {
-    pub const WORDS: [&'static str; 4] = ["1-moop", "2-moop", "1-mopp", "2-mopp"];
-
-    pub fn from_word(word: &str) -> Option<Self> {
-        Some(match word {
-            "1-moop" => Self::OneMoop,
-            "2-moop" => Self::TwoMoop,
-            "1-mopp" => Self::OneMopp,
-            "2-mopp" => Self::TwoMopp,
-            _ => return None,
-        })
-    }
-
-    pub fn as_str(self) -> &'static str {
-        Self::WORDS[self as usize]
-    }
-
     /// The insulation grade the isolation paths and part checks count it as: one means is
     /// one level of protection (basic), two are double or reinforced.
     pub fn grade(self) -> Grade {
@@ -163,17 +118,6 @@ impl Means {
 
     pub fn for_patient(self) -> bool {
         matches!(self, Self::OneMopp | Self::TwoMopp)
-    }
-}
-
-/// `spacing --means` takes the project file's words.
-impl clap::ValueEnum for Means {
-    fn value_variants<'a>() -> &'a [Self] {
-        &[Self::OneMoop, Self::TwoMoop, Self::OneMopp, Self::TwoMopp]
-    }
-
-    fn to_possible_value(&self) -> Option<clap::builder::PossibleValue> {
-        Some(clap::builder::PossibleValue::new(self.as_str()))
     }
 }
 
@@ -205,19 +149,42 @@ pub fn two_mopp_capacitor(
     Some(accepted)
 }
 
-/// The grade words a barrier may take: the insulation grades, and the means of protection
-/// (accepted only under IEC 60601-1).
-pub const GRADE_WORDS: [&str; 9] = [
-    "1-moop",
-    "2-moop",
-    "1-mopp",
-    "2-mopp",
-    "functional",
-    "basic",
-    "supplementary",
-    "reinforced",
-    "double",
-];
+/// The words a barrier's `grade` may take: the means of protection (accepted only under
+/// IEC 60601-1), then the insulation grades.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum GradeWord {
+    #[value(name = "1-moop")]
+    OneMoop,
+    #[value(name = "2-moop")]
+    TwoMoop,
+    #[value(name = "1-mopp")]
+    OneMopp,
+    #[value(name = "2-mopp")]
+    TwoMopp,
+    Functional,
+    Basic,
+    Supplementary,
+    Reinforced,
+    Double,
+}
+
+impl GradeWord {
+    /// The insulation grade, and the means of protection where the word names one.
+    pub fn split(self) -> (Grade, Option<Means>) {
+        let means = |m: Means| (m.grade(), Some(m));
+        match self {
+            Self::OneMoop => means(Means::OneMoop),
+            Self::TwoMoop => means(Means::TwoMoop),
+            Self::OneMopp => means(Means::OneMopp),
+            Self::TwoMopp => means(Means::TwoMopp),
+            Self::Functional => (Grade::Functional, None),
+            Self::Basic => (Grade::Basic, None),
+            Self::Supplementary => (Grade::Supplementary, None),
+            Self::Reinforced => (Grade::Reinforced, None),
+            Self::Double => (Grade::Double, None),
+        }
+    }
+}
 
 /// How far a row of a standard's table is known to be right.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
@@ -272,8 +239,9 @@ pub struct StandardTable {
     pub rows: Vec<StandardRow>,
 }
 
-impl Table for StandardTable {
-    fn check(&self) -> Result<(), String> {
+impl StandardTable {
+    /// Rejects a table the engine could not read safely (the loader locates the path).
+    pub fn check(&self) -> Result<(), String> {
         if Standard::from_word(&self.standard).is_none() {
             return Err(format!(
                 "standard: \"{}\" is not one of {}",
@@ -282,30 +250,33 @@ impl Table for StandardTable {
             ));
         }
         let mut last = f64::NEG_INFINITY;
-        for row in &self.rows {
+        for (i, row) in self.rows.iter().enumerate() {
+            let n = i + 1;
             if !row.up_to.is_finite() || row.up_to < 0.0 {
                 return Err(format!(
-                    "up_to: {} is not a finite figure of 0 or more",
+                    "rows[{n}].up_to: {} is not a finite figure of 0 or more",
                     row.up_to
                 ));
             }
             if row.up_to <= last {
                 return Err(format!(
-                    "up_to: rows must be in strictly ascending order ({} follows {last})",
+                    "rows[{n}].up_to: rows must be in strictly ascending order ({} follows {last})",
                     row.up_to
                 ));
             }
             last = row.up_to;
             if row.values.len() != self.columns.len() {
                 return Err(format!(
-                    "values: the row up to {} has {} values for {} columns",
+                    "rows[{n}].values: the row up to {} has {} values for {} columns",
                     row.up_to,
                     row.values.len(),
                     self.columns.len()
                 ));
             }
             if let Some(v) = row.values.iter().find(|v| !v.is_finite() || **v < 0.0) {
-                return Err(format!("values: {v} is not a finite figure of 0 or more"));
+                return Err(format!(
+                    "rows[{n}].values: {v} is not a finite figure of 0 or more"
+                ));
             }
         }
         if self.rows.is_empty() {
@@ -444,6 +415,14 @@ impl StandardTable {
     }
 }
 
+/// Every table of the end-product standards (one generic form under many ids), loaded
+/// together as one set of the rule book.
+impl crate::rules::TableSet for StandardRules {
+    fn load(typed: &mut Typed) -> Option<Self> {
+        Self::load_all(typed)
+    }
+}
+
 /// Every table of the end-product standards, by id.
 #[derive(Debug, Clone)]
 pub struct StandardRules {
@@ -470,11 +449,11 @@ impl StandardRules {
         iec60335::TEST_VOLTAGES,
     ];
 
-    pub fn load(typed: &mut Typed) -> Option<StandardRules> {
+    fn load_all(typed: &mut Typed) -> Option<StandardRules> {
         let mut tables = BTreeMap::new();
         let mut complete = true;
         for id in Self::IDS {
-            match typed.get::<StandardTable>(id) {
+            match typed.get_by_id::<StandardTable>(id, StandardTable::check) {
                 Some(t) => {
                     tables.insert(id.to_string(), t);
                 }

@@ -14,6 +14,7 @@ mod files;
 mod fuzz;
 mod invariants;
 mod isolation_parts;
+mod positions;
 mod power_entry;
 mod properties;
 mod size_limits;
