@@ -75,13 +75,26 @@ fn frequency_in_range(t: &StandardRules, barrier: &Barrier) -> Result<(), OutOfT
     }
 }
 
+/// The clearance and the figures behind it.
+struct Clearance {
+    figure: Figure,
+    withstand_v: f64,
+    /// The withstand voltage of the Table 14 row read (one row up for reinforced).
+    table_v: f64,
+    procedure_1_mm: f64,
+    procedure_2_mm: f64,
+    peak_v: f64,
+    altitude_factor: f64,
+    governed_by: &'static str,
+}
+
 /// Procedure 1 and procedure 2, the larger, then the altitude factor.
 fn clearance(
     t: &StandardRules,
     cond: &Conditions,
     barrier: &Barrier,
     reinforced: bool,
-) -> Result<(Figure, f64, f64, f64, f64, f64, f64, &'static str), OutOfTable> {
+) -> Result<Clearance, OutOfTable> {
     let mut steps = Vec::new();
     let pd = cond.pollution_degree.clamp(1, 3);
     // Procedure 1: Table 10 by the peak working voltage.
@@ -222,19 +235,19 @@ fn clearance(
         ));
         mm = corrected;
     }
-    Ok((
-        Figure {
+    Ok(Clearance {
+        figure: Figure {
             mm: tidy(mm),
             steps,
         },
         withstand_v,
         table_v,
-        p1,
-        p2,
-        peak,
-        factor,
+        procedure_1_mm: p1,
+        procedure_2_mm: p2,
+        peak_v: peak,
+        altitude_factor: factor,
         governed_by,
-    ))
+    })
 }
 
 fn creepage(
@@ -295,7 +308,16 @@ pub(super) fn dimension(
     frequency_in_range(t, barrier).map_err(|e| vec![e])?;
     let reinforced = barrier.grade == Grade::Reinforced;
     let (
-        (clearance, withstand_v, table_v, p1, p2, peak, factor, governed_by),
+        Clearance {
+            figure: clearance,
+            withstand_v,
+            table_v,
+            procedure_1_mm: p1,
+            procedure_2_mm: p2,
+            peak_v: peak,
+            altitude_factor: factor,
+            governed_by,
+        },
         (creepage, column, group),
     ) = both(
         clearance(t, cond, barrier, reinforced),
