@@ -8,7 +8,7 @@ use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use crate::ExitStatus;
-use crate::commands::{Format, check_file, render, write_atomically};
+use crate::commands::{Format, check_file, write_atomically};
 use crate::diag::{Diagnostic, Problems};
 use crate::report::{Report, Templates};
 use crate::rules::RuleBook;
@@ -268,7 +268,22 @@ pub fn check_many(
                     let i = next.fetch_add(1, Ordering::Relaxed);
                     let Some(found) = designs.get(i) else { break };
                     let result = check_file(&found.path, rules).and_then(|report| {
-                        render(&report, format, templates).map(|text| (report, text))
+                        // With --out-dir a Markdown report gets its EMC chart beside it
+                        // (`write_reports` writes it), named after the report.
+                        let chart = (format == Format::Markdown
+                            && report
+                                .emc
+                                .as_ref()
+                                .and_then(crate::emc::chart_svg)
+                                .is_some())
+                        .then(|| chart_file_name(&found.relative));
+                        crate::commands::render_with_chart(
+                            &report,
+                            format,
+                            templates,
+                            chart.as_deref(),
+                        )
+                        .map(|text| (report, text))
                     });
                     if let Ok(mut slot) = slots[i].lock() {
                         *slot = Some(Outcome {
@@ -303,6 +318,12 @@ pub fn check_many(
             })
         })
         .collect()
+}
+
+/// The name of a design's EMC chart file beside its Markdown report, percent-encoded for
+/// the report's link.
+fn chart_file_name(relative: &Path) -> String {
+    crate::commands::chart_link(&relative.with_extension("emc-chart.svg"))
 }
 
 /// Runs longer than this many designs show a progress line on a terminal.
@@ -381,7 +402,18 @@ pub fn write_reports_protecting(
             continue;
         }
         match write_atomically(&target, text, &inputs) {
-            Ok(()) => written.push(target),
+            Ok(()) => {
+                // The EMC chart of a Markdown report, beside it (the report links it).
+                if format == Format::Markdown
+                    && let Ok((report, _)) = &outcome.result
+                    && let Some(svg) = report.emc.as_ref().and_then(crate::emc::chart_svg)
+                    && let Err(p) =
+                        write_atomically(&target.with_extension("emc-chart.svg"), &svg, &inputs)
+                {
+                    problems.extend(p.0);
+                }
+                written.push(target)
+            }
             Err(p) => problems.extend(p.0),
         }
     }

@@ -13,7 +13,10 @@ use crate::project::{
     Barrier, BetweenRows, BoardCoating, BoardConductor, BoardSpacing, Field, Grade, Material,
     MaterialGroup, OvervoltageCategory,
 };
-use crate::report::{Report, Templates, check_source, render_html, render_json, render_markdown};
+use crate::report::{
+    MarkdownOptions, Report, Templates, check_source, render_html, render_json, render_markdown,
+    render_markdown_with,
+};
 use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Conditions};
 
@@ -96,13 +99,23 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
     if single {
         let project = &projects[0];
         let report = check_file(project, &rules)?;
-        let text = render(&report, req.format, &templates)?;
+        // A Markdown report written to a file gets the EMC chart as an SVG file beside it.
+        let chart = match (req.format, req.output) {
+            (Format::Markdown, Some(out)) => chart_beside(out, &report),
+            _ => None,
+        };
+        let chart_name = chart.as_ref().map(|(path, _)| chart_link(path));
+        let text = render_with_chart(&report, req.format, &templates, chart_name.as_deref())?;
         match req.output {
             Some(out) => {
                 let protected: Vec<&Path> = std::iter::once(project.as_path())
                     .chain(house_inputs.iter().map(PathBuf::as_path))
                     .collect();
-                write_atomically(out, &text, &protected)?
+                // The report first: where it cannot be written, no chart is left behind.
+                write_atomically(out, &text, &protected)?;
+                if let Some((path, svg)) = &chart {
+                    write_atomically(path, svg, &protected)?;
+                }
             }
             None => print(&text),
         }
@@ -153,7 +166,60 @@ pub fn check_file(path: &Path, rules: &RuleBook) -> Result<Report, Problems> {
 }
 
 pub fn render(report: &Report, format: Format, templates: &Templates) -> Result<String, Problems> {
+    render_with_chart(report, format, templates, None)
+}
+
+/// The file an EMC chart goes to beside a Markdown report written to `out` (named after
+/// it: `report.md` -> `report.emc-chart.svg`), with the SVG; `None` when the report has no
+/// chart or `out` is not an ordinary file path (a device, a pipe, standard output).
+pub fn chart_beside(out: &Path, report: &Report) -> Option<(PathBuf, String)> {
+    if out.starts_with("/dev") || out.starts_with("/proc") {
+        return None;
+    }
+    if let Ok(meta) = std::fs::metadata(out)
+        && !meta.is_file()
+    {
+        return None;
+    }
+    let svg = report.emc.as_ref().and_then(crate::emc::chart_svg)?;
+    let stem = out.file_stem()?.to_str()?;
+    Some((out.with_file_name(format!("{stem}.emc-chart.svg")), svg))
+}
+
+/// The link to a chart file from the report beside it: its name, percent-encoded where a
+/// Markdown link destination would not take a character as it is.
+pub fn chart_link(path: &Path) -> String {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let mut out = String::new();
+    for b in name.bytes() {
+        if b.is_ascii_alphanumeric() || matches!(b, b'.' | b'-' | b'_') {
+            out.push(b as char);
+        } else {
+            out.push_str(&format!("%{b:02X}"));
+        }
+    }
+    out
+}
+
+/// As `render`, with a Markdown report linking the EMC chart's SVG file where one is
+/// written beside it (`chart_file`, relative to the report).
+pub fn render_with_chart(
+    report: &Report,
+    format: Format,
+    templates: &Templates,
+    chart_file: Option<&str>,
+) -> Result<String, Problems> {
     match format {
+        Format::Markdown if chart_file.is_some() => render_markdown_with(
+            report,
+            templates,
+            &MarkdownOptions {
+                chart_file: chart_file.map(str::to_string),
+            },
+        ),
         Format::Markdown => render_markdown(report, templates),
         Format::Html => render_html(report, templates),
         Format::Json => Ok(render_json(&crate::report::with_templates(

@@ -86,6 +86,11 @@ pub enum Digits {
     /// decimals between. For the power-entry figures, which span microfarads to kiloamperes
     /// squared seconds. Not finite: `NaN`, `inf`.
     SixSignificant,
+    /// Four significant digits, no trailing zeros, never in scientific notation between
+    /// 1e-6 and 1e15: the figures of the Markdown and HTML report, where a reader wants
+    /// 35.56 A, not 35.5574 A. A value that is not zero never prints as 0. Not finite:
+    /// "not computed".
+    FourSignificant,
 }
 
 /// `x` as text in the given mode. Whatever the mode, zero prints as "0" (never "-0") and a
@@ -94,7 +99,7 @@ pub fn number(x: f64, digits: Digits) -> String {
     if !x.is_finite() {
         return match digits {
             // A figure that could not be computed is never printed as inf or NaN.
-            Digits::FourDecimals => "not computed".to_string(),
+            Digits::FourDecimals | Digits::FourSignificant => "not computed".to_string(),
             Digits::Exact | Digits::SixSignificant => format!("{x}"),
         };
     }
@@ -102,6 +107,25 @@ pub fn number(x: f64, digits: Digits) -> String {
     let x = match digits {
         Digits::Exact => x,
         Digits::FourDecimals => four_decimals(x),
+        Digits::FourSignificant => {
+            let x = significant(x, 4);
+            if x == 0.0 {
+                return "0".to_string();
+            }
+            if x.abs() < 1e-6 || x.abs() >= 1e15 {
+                return format!("{x:e}");
+            }
+            // Printed from the rounded decimal digits, so 0.1 + 0.2 reads 0.3 and a
+            // rounded 12350 does not come back as 12349.999999999998.
+            let decimals = (3 - x.abs().log10().floor() as i32).max(0) as usize;
+            let s = format!("{x:.decimals$}");
+            let s = if s.contains('.') {
+                s.trim_end_matches('0').trim_end_matches('.').to_string()
+            } else {
+                s
+            };
+            return if s == "-0" { "0".to_string() } else { s };
+        }
         Digits::SixSignificant => {
             let x = six_significant(x);
             if x != 0.0 && x.abs() < 1e-3 {
@@ -142,13 +166,131 @@ pub fn show(x: f64) -> String {
 
 /// Rounds to six significant digits, for text only (the report model keeps figures exact).
 fn six_significant(x: f64) -> f64 {
+    significant(x, 6)
+}
+
+/// Rounds to `digits` significant digits, for text only.
+fn significant(x: f64, digits: i32) -> f64 {
     if !x.is_finite() || x == 0.0 {
         return x;
     }
     let magnitude = x.abs().log10().floor() as i32;
-    let scale = 10f64.powi(5 - magnitude);
+    let scale = 10f64.powi(digits - 1 - magnitude);
     let rounded = (x * scale).round() / scale;
-    if rounded.is_finite() { rounded } else { x }
+    if rounded.is_finite() && scale.is_finite() && scale != 0.0 {
+        rounded
+    } else {
+        x
+    }
+}
+
+/// A figure as the Markdown and HTML report print it: `number(x, Digits::FourSignificant)`.
+pub fn figure(x: f64) -> String {
+    number(x, Digits::FourSignificant)
+}
+
+/// Units after which a whole number in prose is a quantity (and so rounded by
+/// [`round_figures`]); a whole number followed by anything else (a standard's number,
+/// "IEC 60664-1", a year, an id) is left alone.
+const UNITS: &[&str] = &[
+    "V", "kV", "mV", "A", "mA", "µA", "uA", "W", "mW", "kW", "J", "mJ", "s", "ms", "µs", "us",
+    "ns", "Hz", "kHz", "MHz", "Ω", "ohm", "kΩ", "MΩ", "F", "µF", "uF", "nF", "pF", "H", "mH", "µH",
+    "uH", "dB", "dBµV", "dBuV", "mm", "m", "°C", "K", "A²s", "A2s", "%",
+];
+
+/// The text with every figure of more than four significant digits rounded to four, for
+/// the Markdown and HTML report: derivations and messages are written once with the
+/// figures as the JSON keeps them (35.5574 A), and a reader of the checklist gets 35.56 A.
+/// A number is a figure when it stands on its own (not inside a word, an id such as
+/// `CY1`, a dotted version or a hash) and either has a decimal point or is followed by a
+/// unit (`17201 Hz`); standards' numbers (`IEC 60664-1`, `CISPR 32:2015`) stay as they are.
+pub fn round_figures(text: &str) -> Cow<'_, str> {
+    let bytes = text.as_bytes();
+    if !bytes.iter().any(u8::is_ascii_digit) {
+        return Cow::Borrowed(text);
+    }
+    let mut out = String::new();
+    let mut copied = 0;
+    let mut i = 0;
+    while i < bytes.len() {
+        if !bytes[i].is_ascii_digit() {
+            i += 1;
+            continue;
+        }
+        let start = i;
+        while i < bytes.len() && bytes[i].is_ascii_digit() {
+            i += 1;
+        }
+        let mut has_point = false;
+        if i + 1 < bytes.len() && bytes[i] == b'.' && bytes[i + 1].is_ascii_digit() {
+            has_point = true;
+            i += 1;
+            while i < bytes.len() && bytes[i].is_ascii_digit() {
+                i += 1;
+            }
+        }
+        let end = i;
+        let before = text[..start].chars().next_back();
+        let after = text[end..].chars().next();
+        // Part of a word, an id, a dotted path or a version: not a figure.
+        let glued = |c: Option<char>| {
+            c.is_some_and(|c| c.is_alphanumeric() || matches!(c, '_' | '.' | '-' | ':' | '/' | '#'))
+        };
+        let glued_before = match before {
+            // A minus sign after a space or an opening bracket is the figure's sign.
+            Some('-') => {
+                let b2 = text[..start - 1].chars().next_back();
+                !(b2.is_none() || b2.is_some_and(|c| c.is_whitespace() || matches!(c, '(' | '=')))
+            }
+            c => glued(c),
+        };
+        let glued_after = match after {
+            // A full stop or comma ending a sentence is not part of the number.
+            Some('.') | Some(',') | Some(':') => text[end + 1..]
+                .chars()
+                .next()
+                .is_some_and(|c| c.is_alphanumeric()),
+            Some('-') => text[end + 1..]
+                .chars()
+                .next()
+                .is_some_and(|c| c.is_alphanumeric()),
+            c => c.is_some_and(|c| c.is_alphanumeric() || matches!(c, '_' | '/' | '#')),
+        };
+        if glued_before || glued_after {
+            continue;
+        }
+        let token = &text[start..end];
+        let digits: String = token.chars().filter(char::is_ascii_digit).collect();
+        let significant_digits = if has_point {
+            digits.trim_start_matches('0').len()
+        } else {
+            digits.trim_start_matches('0').trim_end_matches('0').len()
+        };
+        if significant_digits <= 4 {
+            continue;
+        }
+        if !has_point {
+            let rest = text[end..].strip_prefix(' ').unwrap_or("");
+            let unit = rest
+                .split(|c: char| c.is_whitespace() || matches!(c, ',' | ';' | ')' | '(' | '.'))
+                .next()
+                .unwrap_or("");
+            if !UNITS.contains(&unit) {
+                continue;
+            }
+        }
+        let Ok(value) = token.parse::<f64>() else {
+            continue;
+        };
+        out.push_str(&text[copied..start]);
+        out.push_str(&figure(value));
+        copied = end;
+    }
+    if copied == 0 {
+        return Cow::Borrowed(text);
+    }
+    out.push_str(&text[copied..]);
+    Cow::Owned(out)
 }
 
 /// `value` as `shown` would print it, unless that would print it the same as one of
@@ -201,6 +343,44 @@ mod tests {
         }
         assert_eq!(number(f64::NAN, Digits::FourDecimals), "not computed");
         assert_eq!(number(f64::INFINITY, Digits::Exact), "inf");
+    }
+
+    #[test]
+    fn four_significant_digits_for_the_report() {
+        // Worked by hand: 35.5574 -> 35.56; 1049.124 -> 1049; 0.0829 keeps its three.
+        assert_eq!(figure(35.5574), "35.56");
+        assert_eq!(figure(1049.124), "1049");
+        assert_eq!(figure(0.0829), "0.0829");
+        assert_eq!(figure(17201.0), "17200");
+        assert_eq!(figure(-0.99), "-0.99");
+        assert_eq!(figure(0.1 + 0.2), "0.3");
+        assert_eq!(figure(1.0e6), "1000000");
+        assert_eq!(figure(-4.0e-5), "-0.00004");
+        assert_eq!(figure(-0.0), "0");
+        assert_eq!(figure(f64::NAN), "not computed");
+        assert_eq!(figure(2.0e-9), "2e-9");
+    }
+
+    #[test]
+    fn figures_in_prose_are_rounded_and_names_are_not() {
+        assert_eq!(
+            round_figures("V_pk = 373.3524 V; 17201 Hz; 195000 Hz; 0.5 Ω"),
+            "V_pk = 373.4 V; 17200 Hz; 195000 Hz; 0.5 Ω"
+        );
+        assert_eq!(
+            round_figures("IEC 60664-1:2020, EN 55032) CISPR 32:2015 IPC-2221B rule iec60950-1.x"),
+            "IEC 60664-1:2020, EN 55032) CISPR 32:2015 IPC-2221B rule iec60950-1.x"
+        );
+        assert_eq!(round_figures("ends at 42.1792."), "ends at 42.18.");
+        assert_eq!(round_figures("margin -0.123456 mm"), "margin -0.1235 mm");
+        assert_eq!(
+            round_figures("version 0.1.0, id C12345.678"),
+            "version 0.1.0, id C12345.678"
+        );
+        assert_eq!(
+            round_figures("hash 29f6dc8be3212 and 12345 parts"),
+            "hash 29f6dc8be3212 and 12345 parts"
+        );
     }
 
     #[test]

@@ -6,21 +6,96 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::EmcReport;
+use crate::power_entry::Verdict;
 use crate::spacing::show;
 
-const WIDTH: u32 = 820;
-const HEIGHT: u32 = 460;
-/// Lowest level the chart shows, dBuV: anything filtered further is off the chart.
-const FLOOR_DBUV: f64 = -40.0;
+// Sized to print on A4 without scaling (about 700 CSS pixels between the margins), so the
+// labels keep their size on paper. plotters writes an SVG font size of about 0.81 times
+// the size it is given: 15 gives 12.1 px, the smallest text in the chart.
+const WIDTH: u32 = 700;
+const PLOT_HEIGHT: u32 = 400;
+/// Height of the legend band under the plot, in pixels.
+const LEGEND_HEIGHT: u32 = 124;
+const HEIGHT: u32 = PLOT_HEIGHT + LEGEND_HEIGHT;
+/// How far below the lowest limit less its margin the chart reaches, dB: points further
+/// below pass by far and are drawn on the lower edge, so the limits keep the height.
+const BELOW_LIMITS_DB: f64 = 60.0;
+const LABEL_PX: u32 = 15;
 
-// A palette of our own: ink-blue limits, rust for the raw noise, green for the filtered.
+// A palette of our own: ink-blue limits, rust for the raw noise, green for the filtered
+// noise that passes, red for the filtered noise above the limit less the margin.
 const QUASI_PEAK: RGBColor = RGBColor(31, 58, 104);
 const AVERAGE: RGBColor = RGBColor(92, 124, 176);
 const BEFORE: RGBColor = RGBColor(150, 90, 40);
 const AFTER: RGBColor = RGBColor(38, 120, 72);
-/// Width of the legend column on the right, in pixels.
-const LEGEND_WIDTH: u32 = 190;
+const FAILING: RGBColor = RGBColor(200, 30, 30);
+const NOT_JUDGED: RGBColor = RGBColor(120, 120, 120);
 const GRID: RGBColor = RGBColor(226, 229, 233);
+
+/// The marker shapes: the noise's mode, whatever the filter did to it.
+#[derive(Clone, Copy, PartialEq)]
+enum Shape {
+    /// Differential mode: a circle.
+    Differential,
+    /// Common mode: a square.
+    Common,
+    /// Measured (mode not known): a diamond.
+    Measured,
+}
+
+fn shape_of(mode: &str) -> Shape {
+    match mode {
+        "differential" => Shape::Differential,
+        "common" => Shape::Common,
+        _ => Shape::Measured,
+    }
+}
+
+/// One marker at a pixel position: hollow (before the filter) or filled (after), of the
+/// mode's shape; a failing point is larger and crossed out as well as red.
+fn marker<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    at: (i32, i32),
+    shape: Shape,
+    style: ShapeStyle,
+    size: i32,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    match shape {
+        Shape::Differential => {
+            area.draw(&(EmptyElement::at(at) + Circle::new((0, 0), size, style)))?
+        }
+        Shape::Common => area.draw(
+            &(EmptyElement::at(at) + Rectangle::new([(-size, -size), (size, size)], style)),
+        )?,
+        Shape::Measured => {
+            let s = size + 1;
+            let corners = vec![(0, -s), (s, 0), (0, s), (-s, 0), (0, -s)];
+            if style.filled {
+                area.draw(&(EmptyElement::at(at) + Polygon::new(corners, style)))?
+            } else {
+                // A polygon is always filled: the hollow diamond is its outline.
+                area.draw(&(EmptyElement::at(at) + PathElement::new(corners, style)))?
+            }
+        }
+    }
+    Ok(())
+}
+
+fn failing_marker<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    at: (i32, i32),
+    shape: Shape,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    marker(area, at, shape, FAILING.filled(), 6)?;
+    area.draw(&(EmptyElement::at(at) + Cross::new((0, 0), 9, FAILING.stroke_width(2))))?;
+    Ok(())
+}
 
 /// A frequency tick label in kHz or MHz.
 fn tick_label(hz: &f64) -> String {
@@ -37,33 +112,56 @@ pub fn svg(report: &EmcReport) -> Option<String> {
     if !(low_hz.is_finite() && high_hz.is_finite() && 0.0 < low_hz && low_hz < high_hz) {
         return None;
     }
-    let mut levels: Vec<f64> = report
+    let margin = if report.margin_db.is_finite() {
+        report.margin_db.max(0.0)
+    } else {
+        0.0
+    };
+    let limits: Vec<f64> = report
         .limit_lines
         .iter()
         .flat_map(|l| l.vertices.iter().map(|v| v[1]))
+        .filter(|v| v.is_finite())
         .collect();
+    let lowest_limit = limits.iter().copied().fold(f64::INFINITY, f64::min);
+    let floor = if lowest_limit.is_finite() {
+        lowest_limit - margin - BELOW_LIMITS_DB
+    } else {
+        f64::NEG_INFINITY
+    };
+    let mut levels = limits.clone();
+    levels.extend(limits.iter().map(|v| v - margin));
     for p in &report.points {
         levels.push(p.level_dbuv);
         levels.push(p.after_filter_dbuv);
     }
     levels.retain(|v| v.is_finite());
-    let min = levels.iter().copied().fold(f64::INFINITY, f64::min);
+    let min = levels
+        .iter()
+        .copied()
+        .fold(f64::INFINITY, f64::min)
+        .max(floor);
     let max = levels.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if !(min.is_finite() && max.is_finite()) {
         return None;
     }
-    let y_low = (((min - 5.0) / 10.0).floor() * 10.0).max(FLOOR_DBUV);
+    // The range fits the data: 5 dB of room, rounded out to 10 dB.
+    let y_low = ((min - 5.0) / 10.0).floor() * 10.0;
     let y_high = ((max + 5.0) / 10.0).ceil() * 10.0;
     if y_high <= y_low {
         return None;
     }
     let mut out = String::new();
-    draw(report, &mut out, (low_hz, high_hz), (y_low, y_high)).ok()?;
+    draw(report, &mut out, (low_hz, high_hz), (y_low, y_high), margin).ok()?;
     Some(out)
 }
 
+fn in_band(hz: f64, x: (f64, f64)) -> bool {
+    hz.is_finite() && x.0 <= hz && hz <= x.1
+}
+
 fn in_view(hz: f64, dbuv: f64, x: (f64, f64), y: (f64, f64)) -> bool {
-    hz.is_finite() && dbuv.is_finite() && x.0 <= hz && hz <= x.1 && y.0 <= dbuv && dbuv <= y.1
+    in_band(hz, x) && dbuv.is_finite() && y.0 <= dbuv && dbuv <= y.1
 }
 
 fn draw(
@@ -71,38 +169,39 @@ fn draw(
     out: &mut String,
     x: (f64, f64),
     y: (f64, f64),
+    margin: f64,
 ) -> Result<(), Box<dyn std::error::Error>> {
     let root = SVGBackend::with_string(out, (WIDTH, HEIGHT)).into_drawing_area();
     root.fill(&WHITE)?;
-    // The legend has a column of its own, so it never covers a point.
-    let (plot_area, legend_area) = root.split_horizontally(WIDTH - LEGEND_WIDTH);
+    // The legend has a band of its own under the plot, so it never covers a point.
+    let (plot_area, legend_area) = root.split_vertically(PLOT_HEIGHT);
     let title = format!(
         "Conducted emission on the mains port, class {} limits",
         report.limit_class.as_str()
     );
     let mut chart = ChartBuilder::on(&plot_area)
-        .caption(title, ("sans-serif", 17))
-        .margin(14)
+        .caption(title, ("sans-serif", 18))
+        .margin(12)
         .x_label_area_size(46)
         .y_label_area_size(58)
         .build_cartesian_2d((x.0..x.1).log_scale(), y.0..y.1)?;
     chart
         .configure_mesh()
-        .light_line_style(GRID)
-        .bold_line_style(GRID.mix(0.0))
+        .light_line_style(WHITE.mix(0.0))
+        .bold_line_style(GRID)
         .disable_x_mesh()
         .x_labels(0)
         .x_desc("Frequency, Hz (log scale)")
         .y_desc("Level, dBµV")
         .x_label_formatter(&|_| String::new())
         .y_label_formatter(&|v: &f64| show(*v))
-        .label_style(("sans-serif", 12))
-        .axis_desc_style(("sans-serif", 13))
+        .label_style(("sans-serif", LABEL_PX))
+        .axis_desc_style(("sans-serif", 16))
         .draw()?;
 
     // Our own log grid: a line at 1 to 9 of each decade, labels at 1, 2 and 5 and the
     // band's ends.
-    let tick_font = ("sans-serif", 12)
+    let tick_font = ("sans-serif", LABEL_PX)
         .into_font()
         .color(&BLACK)
         .pos(Pos::new(HPos::Center, VPos::Top));
@@ -120,108 +219,190 @@ fn draw(
         for m in [1.0, 2.0, 5.0] {
             let f = decade * m;
             // Leave out a label that would crowd an end of the band.
-            if f > x.0 * 1.5 && f < x.1 / 1.2 {
+            if f > x.0 * 1.5 && f < x.1 / 1.6 {
                 labelled.push(f);
             }
         }
     }
     for f in labelled {
         let (px, py) = chart.backend_coord(&(f, y.0));
-        plot_area.draw(&Text::new(tick_label(&f), (px, py + 8), tick_font.clone()))?;
+        // The band's top end is labelled leftwards, so it stays inside the picture.
+        let font = if f == x.1 {
+            tick_font.clone().pos(Pos::new(HPos::Right, VPos::Top))
+        } else {
+            tick_font.clone()
+        };
+        plot_area.draw(&Text::new(tick_label(&f), (px, py + 8), font))?;
     }
 
     for line in &report.limit_lines {
+        let colour = if line.detector == "quasi-peak" {
+            QUASI_PEAK
+        } else {
+            AVERAGE
+        };
         let vertices: Vec<(f64, f64)> = line
             .vertices
             .iter()
             .filter(|v| in_view(v[0], v[1], x, y))
             .map(|v| (v[0], v[1]))
             .collect();
-        let colour = if line.detector == "quasi-peak" {
-            QUASI_PEAK
-        } else {
-            AVERAGE
-        };
         let style = colour.stroke_width(2);
         if line.detector == "quasi-peak" {
             chart.draw_series(LineSeries::new(vertices, style))?;
         } else {
             chart.draw_series(DashedLineSeries::new(vertices, 7, 4, style))?;
         }
+        // The line the points are judged against: the limit less the margin.
+        if margin > 0.0 {
+            let shifted: Vec<(f64, f64)> = line
+                .vertices
+                .iter()
+                .map(|v| (v[0], v[1] - margin))
+                .filter(|v| in_view(v.0, v.1, x, y))
+                .collect();
+            chart.draw_series(DashedLineSeries::new(shifted, 2, 3, colour.stroke_width(1)))?;
+        }
     }
 
-    let before: Vec<(f64, f64)> = report
+    // Points below the chart's floor pass by far: drawn on the lower edge.
+    let place = |hz: f64, dbuv: f64| -> Option<(i32, i32)> {
+        if !in_band(hz, x) || !dbuv.is_finite() {
+            return None;
+        }
+        Some(chart.backend_coord(&(hz, dbuv.clamp(y.0, y.1))))
+    };
+    for p in &report.points {
+        if let Some(at) = place(p.frequency_hz, p.level_dbuv) {
+            marker(&plot_area, at, shape_of(p.mode), BEFORE.stroke_width(2), 4)?;
+        }
+    }
+    // Failing points last, so nothing covers them.
+    for failing in [false, true] {
+        for p in report
+            .points
+            .iter()
+            .filter(|p| (p.verdict == Verdict::Fail) == failing)
+        {
+            let Some(at) = place(p.frequency_hz, p.after_filter_dbuv) else {
+                continue;
+            };
+            let shape = shape_of(p.mode);
+            match p.verdict {
+                Verdict::Fail => failing_marker(&plot_area, at, shape)?,
+                Verdict::Pass => marker(&plot_area, at, shape, AFTER.filled(), 4)?,
+                _ => marker(&plot_area, at, shape, NOT_JUDGED.filled(), 4)?,
+            }
+        }
+    }
+    let clamped = report
         .points
         .iter()
-        .map(|p| (p.frequency_hz, p.level_dbuv))
-        .filter(|(f, l)| in_view(*f, *l, x, y))
-        .collect();
-    let after: Vec<(f64, f64)> = report
-        .points
-        .iter()
-        .map(|p| (p.frequency_hz, p.after_filter_dbuv))
-        .filter(|(f, l)| in_view(*f, *l, x, y))
-        .collect();
-    if !before.is_empty() {
-        chart.draw_series(
-            before
-                .iter()
-                .map(|&(f, l)| Circle::new((f, l), 4, BEFORE.stroke_width(2))),
-        )?;
-    }
-    if !after.is_empty() {
-        chart.draw_series(
-            after
-                .iter()
-                .map(|&(f, l)| TriangleMarker::new((f, l), 5, AFTER.filled())),
-        )?;
-    }
-    legend(&legend_area)?;
+        .any(|p| p.level_dbuv < y.0 || p.after_filter_dbuv < y.0);
+    legend(&legend_area, report, margin, clamped)?;
     root.present()?;
     Ok(())
 }
 
-/// The legend, in its own column: a sample of each series and what it is.
+/// The legend, in its own band: a sample of each line and marker and what it is.
 fn legend<DB: DrawingBackend>(
     area: &DrawingArea<DB, plotters::coord::Shift>,
+    report: &EmcReport,
+    margin: f64,
+    clamped: bool,
 ) -> Result<(), Box<dyn std::error::Error>>
 where
     DB::ErrorType: 'static,
 {
-    let font = ("sans-serif", 12).into_font().color(&BLACK);
-    let top = 60;
-    let row = 24;
-    let entries = [
-        "quasi-peak limit",
-        "average limit",
-        "noise without the filter",
-        "noise after the filter",
-    ];
-    for (i, text) in entries.iter().enumerate() {
-        let y = top + row * i as i32;
-        match i {
-            0 => area.draw(&PathElement::new(
-                vec![(8, y), (32, y)],
-                QUASI_PEAK.stroke_width(2),
-            ))?,
-            1 => {
-                area.draw(&PathElement::new(
-                    vec![(8, y), (15, y)],
-                    AVERAGE.stroke_width(2),
-                ))?;
-                area.draw(&PathElement::new(
-                    vec![(19, y), (26, y)],
-                    AVERAGE.stroke_width(2),
-                ))?;
-                area.draw(&PathElement::new(
-                    vec![(30, y), (32, y)],
-                    AVERAGE.stroke_width(2),
-                ))?;
-            }
-            2 => area.draw(&Circle::new((20, y), 4, BEFORE.stroke_width(2)))?,
-            _ => area.draw(&TriangleMarker::new((20, y), 5, AFTER.filled()))?,
+    let font = ("sans-serif", LABEL_PX).into_font().color(&BLACK);
+    let text = |s: &str, at: (i32, i32)| Text::new(s.to_string(), (at.0, at.1 - 8), font.clone());
+    let columns = [14, 250, 480];
+    let rows = [16, 45, 74, 103];
+    // Row 1: the lines.
+    let (c, r) = (columns[0], rows[0]);
+    area.draw(&PathElement::new(
+        vec![(c, r), (c + 24, r)],
+        QUASI_PEAK.stroke_width(2),
+    ))?;
+    area.draw(&text("quasi-peak limit", (c + 32, r)))?;
+    let c = columns[1];
+    for (a, b) in [(0, 7), (11, 18), (22, 24)] {
+        area.draw(&PathElement::new(
+            vec![(c + a, r), (c + b, r)],
+            AVERAGE.stroke_width(2),
+        ))?;
+    }
+    area.draw(&text("average limit", (c + 32, r)))?;
+    let c = columns[2];
+    if margin > 0.0 {
+        for a in (0..24).step_by(5) {
+            area.draw(&PathElement::new(
+                vec![(c + a, r), (c + a + 2, r)],
+                AVERAGE.stroke_width(1),
+            ))?;
         }
-        area.draw(&Text::new(*text, (40, y - 7), font.clone()))?;
+        area.draw(&text(
+            &format!("each limit less {} dB margin", show(margin)),
+            (c + 32, r),
+        ))?;
+    }
+    // Row 2: shapes by mode, as the noise before the filter shows them.
+    let mut modes: Vec<Shape> = Vec::new();
+    for p in &report.points {
+        let s = shape_of(p.mode);
+        if !modes.contains(&s) {
+            modes.push(s);
+        }
+    }
+    if modes.is_empty() {
+        modes.push(Shape::Measured);
+    }
+    area.draw(&text(
+        "noise without the filter (hollow):",
+        (columns[0], rows[1]),
+    ))?;
+    for (i, s) in modes.iter().enumerate() {
+        let c = columns[1] + 150 * i as i32;
+        marker(area, (c + 10, rows[1]), *s, BEFORE.stroke_width(2), 4)?;
+        let word = match s {
+            Shape::Differential => "differential mode",
+            Shape::Common => "common mode",
+            Shape::Measured => "measured (mode not known)",
+        };
+        area.draw(&text(word, (c + 24, rows[1])))?;
+    }
+    // Rows 3 and 4: after the filter, by verdict.
+    area.draw(&text(
+        "noise after the filter (filled):",
+        (columns[0], rows[2]),
+    ))?;
+    let shape = modes[0];
+    marker(area, (columns[1] + 10, rows[2]), shape, AFTER.filled(), 4)?;
+    area.draw(&text(
+        "within the limit less the margin",
+        (columns[1] + 24, rows[2]),
+    ))?;
+    failing_marker(area, (columns[1] + 10, rows[3]), shape)?;
+    area.draw(&text("above it: fails", (columns[1] + 24, rows[3])))?;
+    if report
+        .points
+        .iter()
+        .any(|p| !matches!(p.verdict, Verdict::Pass | Verdict::Fail))
+    {
+        marker(
+            area,
+            (columns[2] + 10, rows[3]),
+            shape,
+            NOT_JUDGED.filled(),
+            4,
+        )?;
+        area.draw(&text("not judged", (columns[2] + 24, rows[3])))?;
+    }
+    if clamped {
+        area.draw(&text(
+            "on the lower edge: lower still",
+            (columns[0], rows[3]),
+        ))?;
     }
     Ok(())
 }

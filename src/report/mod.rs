@@ -1,7 +1,9 @@
 //! The report model: everything a reviewer reads, built once and then rendered as
 //! Markdown, HTML or JSON, so the three cannot disagree.
 
+mod html;
 mod render;
+pub mod view;
 
 use serde::Serialize;
 
@@ -18,14 +20,15 @@ use crate::spacing::{BarrierResult, Conditions, Verdict};
 
 pub(crate) use render::number as value_number;
 pub use render::{
-    Templates, house_template_files, md_escape, render_html, render_json, render_markdown, to_json,
-    with_templates,
+    Templates, house_template_files, md_escape, render_html, render_json, render_markdown,
+    render_markdown_with, to_json, with_templates,
 };
+pub use view::MarkdownOptions;
 
 /// Cautions printed in every report.
 pub const CAUTIONS: &[&str] = &[
     "This checklist is advisory. Defer to the applicable end-product standard, local electrical codes and licensed or accredited review; it does not certify anything.",
-    "The rule tables were copied out by hand, partly from memory of the published standards, and may carry copying errors. Each table below says how it was checked: compare every figure with a licensed copy of the standard before relying on it.",
+    "The rule tables were copied out by hand, partly from memory of the published standards, and may carry copying errors. The list of rule tables in this report says how each was checked: compare every figure with a licensed copy of the standard before relying on it.",
     "Figures cover only what the project file declares. A barrier, circuit or part that is not described is not evaluated, and the absence of a finding is not evidence that a design is safe.",
     "No table is extrapolated: an input beyond a table's range is refused rather than estimated.",
 ];
@@ -183,6 +186,48 @@ pub struct Report {
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
     pub emc: Option<crate::emc::EmcReport>,
+    /// Parallel to `findings`: what the check that raised each one ran over and the
+    /// verdicts its condition reads, so the report can link the finding to its figure.
+    /// Not part of the JSON.
+    #[serde(skip)]
+    pub finding_context: Vec<FindingContext>,
+}
+
+/// What a finding's check ran over and the verdict names its condition reads.
+#[derive(Debug, Clone, Default)]
+pub struct FindingContext {
+    pub over: String,
+    pub verdicts: Vec<String>,
+}
+
+/// The context of each finding, from the check that raised it.
+fn finding_context(findings: &[Finding], rules: &RuleBook) -> Vec<FindingContext> {
+    findings
+        .iter()
+        .map(|f| {
+            let Some(check) = rules.checks.iter().find(|c| c.id == f.id) else {
+                return FindingContext::default();
+            };
+            let mut fields = Vec::new();
+            for cond in [Some(&check.condition), check.applies.as_ref()]
+                .into_iter()
+                .flatten()
+            {
+                if let crate::rules::Cond::Predicate(p) = cond {
+                    p.fields(&mut fields);
+                }
+            }
+            let verdicts = fields
+                .iter()
+                .filter(|(field, _)| field.parts.len() == 2 && field.parts[0] == "verdicts")
+                .map(|(field, _)| field.parts[1].clone())
+                .collect();
+            FindingContext {
+                over: check.over.word.clone(),
+                verdicts,
+            }
+        })
+        .collect()
 }
 
 impl Report {
@@ -416,6 +461,7 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
     // The checks see the report as the JSON shows it, before any finding.
     let context = minijinja::Value::from(minijinja::value::Serde(&report));
     let (findings, checks) = run_checks(rules, &context)?;
+    report.finding_context = finding_context(&findings, rules);
     report.findings = findings;
     report.checks = checks;
     report.summary = summarise(&report);
@@ -537,6 +583,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
             .collect(),
         power_entry,
         emc,
+        finding_context: Vec::new(),
     })
 }
 

@@ -8,11 +8,11 @@ use std::sync::OnceLock;
 
 use minijinja::value::{Value, ValueKind};
 use minijinja::{Environment, Error, ErrorKind, State};
-use pulldown_cmark::{Event, Options, Parser, html};
 
 use super::Report;
+use super::view::{self, MarkdownOptions, Page};
 use crate::diag::{Diagnostic, Problems};
-use crate::spacing::show;
+use crate::text::{figure, round_figures};
 
 /// Every shipped template (`templates/*.j2`), embedded at build time by `build.rs`.
 pub use shipped::SHIPPED_TEMPLATES;
@@ -195,7 +195,7 @@ fn preamble(report: &Report) -> String {
             holds.join(", ")
         ));
         for reason in &r.reasons {
-            out.push_str(&format!("- {}\n", e(reason)));
+            out.push_str(&format!("- {}\n", e(&round_figures(reason))));
         }
     }
     let h = &report.house;
@@ -318,8 +318,12 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             ValueKind::String if value.is_safe() => {
                 out.write_str(value.as_str().unwrap_or_default())?
             }
-            ValueKind::String => out.write_str(&md_escape(value.as_str().unwrap_or_default()))?,
-            ValueKind::Number => out.write_str(&number(value))?,
+            // Figures inside prose (derivations, messages) are rounded as the report's own
+            // figures are; ids and names go through the `id` filter, which leaves them be.
+            ValueKind::String => out.write_str(&md_escape(&round_figures(
+                value.as_str().unwrap_or_default(),
+            )))?,
+            ValueKind::Number => out.write_str(&report_number(value))?,
             ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,
             _ => out.write_str(&md_escape(&value.to_string()))?,
         }
@@ -327,12 +331,69 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     });
     env.add_filter("signed", |value: Value| -> String {
         match f64::try_from(value) {
-            Ok(x) if x > 0.0 => format!("+{}", show(x)),
-            // A shortfall too small to print is still a shortfall: never "0".
-            Ok(x) if x < 0.0 && show(x) == "0" => "-<0.0001".to_string(),
-            Ok(x) => show(x),
+            // A margin smaller than a tenth of a micrometre is shown as such, with its
+            // sign: a shortfall too small to print is still a shortfall, never "0".
+            Ok(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
+            Ok(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
+            Ok(x) if x > 0.0 => format!("+{}", figure(x)),
+            Ok(x) => figure(x),
             Err(_) => "not declared".to_string(),
         }
+    });
+    // A name or id from the project file: escaped, never rounded (an id is not a figure).
+    env.add_filter("id", |value: Value| -> Value {
+        let text = match value.as_str() {
+            Some(s) => s.to_string(),
+            None if value.is_none() || value.is_undefined() => "not declared".to_string(),
+            None => value.to_string(),
+        };
+        Value::from_safe_string(md_escape(&text))
+    });
+    // A verdict word with its symbol (word and symbol, never colour alone).
+    env.add_filter("verdict", |value: Value| -> String {
+        match value.as_str() {
+            Some(word) => view::verdict_label(word),
+            None => "–".to_string(),
+        }
+    });
+    // The symbol of a verdict alone, for cells that print the word themselves.
+    env.add_filter("symbol", |value: Value| -> String {
+        let word = value.as_str().unwrap_or_default();
+        let label = view::verdict_label(word);
+        match label.split_once(' ') {
+            Some((symbol, rest)) if rest == word => symbol.to_string(),
+            _ => String::new(),
+        }
+    });
+    // A number as the report prints it, as a string to join with others.
+    env.add_filter("num", |value: Value| -> String { report_number(&value) });
+    // An anchor on the HTML page (nothing in Markdown): `<a id="..."></a>`, its id made of
+    // letters, digits, `-`, `_` and `.` only.
+    env.add_function("anchor", |state: &State, name: String| -> Value {
+        if is_html(state) {
+            Value::from_safe_string(format!("<a id=\"{}\"></a>", view::anchor_id(&name)))
+        } else {
+            Value::from_safe_string(String::new())
+        }
+    });
+    // A place in the report: a live link on the HTML page, its title in words in Markdown.
+    env.add_function("link", |state: &State, place: Value| -> Value {
+        let title = place
+            .get_attr("title")
+            .ok()
+            .and_then(|t| t.as_str().map(str::to_string))
+            .unwrap_or_default();
+        let anchor = place
+            .get_attr("anchor")
+            .ok()
+            .and_then(|t| t.as_str().map(view::anchor_id))
+            .unwrap_or_default();
+        let title = md_escape(&round_figures(&title));
+        Value::from_safe_string(if is_html(state) {
+            format!("[{title}](#{anchor})")
+        } else {
+            title
+        })
     });
     for (name, text, origin) in &templates.files {
         env.add_template_owned(name.clone(), text.clone())
@@ -341,11 +402,31 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     Ok(env)
 }
 
+/// Whether the template renders the HTML page (the `view.html` flag of its context).
+fn is_html(state: &State) -> bool {
+    state
+        .lookup("view")
+        .and_then(|v| v.get_attr("html").ok())
+        .is_some_and(|v| v.is_true())
+}
+
+/// A number as the Markdown and HTML report print it: a whole number (a count) as it is,
+/// a figure to four significant digits.
+fn report_number(value: &Value) -> String {
+    if value.is_integer() {
+        return value.to_string();
+    }
+    match f64::try_from(value.clone()) {
+        Ok(x) => figure(x),
+        Err(_) => value.to_string(),
+    }
+}
+
 /// A template value as the report prints it: numbers through the one formatter, anything
 /// else as itself (the `num` filter of checks' messages prints the same way).
 pub(crate) fn number(value: &Value) -> String {
     match f64::try_from(value.clone()) {
-        Ok(x) => show(x),
+        Ok(x) => crate::text::show(x),
         Err(_) => value.to_string(),
     }
 }
@@ -408,6 +489,32 @@ impl std::io::Write for BoundedOutput {
 
 /// The report as a Markdown checklist.
 pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String, Problems> {
+    render_page(
+        report,
+        templates,
+        Page::Markdown,
+        &MarkdownOptions::default(),
+    )
+}
+
+/// The report as a Markdown checklist, with the EMC chart linked where `options` says it
+/// was written beside the report.
+pub fn render_markdown_with(
+    report: &Report,
+    templates: &Templates,
+    options: &MarkdownOptions,
+) -> Result<String, Problems> {
+    render_page(report, templates, Page::Markdown, options)
+}
+
+/// The Markdown for one page: plain Markdown, or the Markdown the HTML page is made from
+/// (with anchors and live links).
+fn render_page(
+    report: &Report,
+    templates: &Templates,
+    page: Page,
+    options: &MarkdownOptions,
+) -> Result<String, Problems> {
     let env = templates.env().as_ref().map_err(Clone::clone)?;
     let origin = |e: &Error| {
         let name = innermost(e).name().unwrap_or(TEMPLATE_NAME);
@@ -422,7 +529,11 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
         .get_template(TEMPLATE_NAME)
         .map_err(|e| template_problem(&origin(&e), &e))?;
     let report = with_templates(report, templates);
-    let context = Value::from(minijinja::value::Serde(&*report));
+    let view = view::build(&report, page, options);
+    let context = minijinja::context! {
+        view => Value::from(minijinja::value::Serde(&view)),
+        ..Value::from(minijinja::value::Serde(&*report))
+    };
     let text = if templates.any_house() {
         // A house template is bounded in what it writes and in the memory it takes.
         let house: Vec<&str> = templates
@@ -470,32 +581,19 @@ pub fn render_markdown(report: &Report, templates: &Templates) -> Result<String,
 }
 
 /// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which
-/// the shipped template never writes) is shown as text, never passed through as markup.
+/// the shipped template writes only as anchors of a fixed form) is shown as text, never
+/// passed through as markup.
 pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Problems> {
-    let markdown = render_markdown(report, templates)?;
-    let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
+    let markdown = render_page(report, templates, Page::Html, &MarkdownOptions::default())?;
+    let report = with_templates(report, templates);
+    let view = view::build(&report, Page::Html, &MarkdownOptions::default());
     // Taken at the first marker; any later one is dropped, so the chart appears once.
-    let mut chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
-    let events = Parser::new_ext(&markdown, options).map(|event| match event {
-        // The EMC template marks where the chart goes; the SVG is gapwarden's own. Only
-        // raw HTML (which no escaped project string can produce) is looked at.
-        Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
-            match chart.take() {
-                Some(svg) => Event::Html(svg.into()),
-                None => Event::Text("".into()),
-            }
-        }
-        Event::Html(text) | Event::InlineHtml(text) => Event::Text(text),
-        other => other,
-    });
-    let mut body = String::new();
-    html::push_html(&mut body, events);
-    let title = html_escape(&crate::text::visible(&format!(
-        "Pre-review checklist: {}",
-        report.design.name
-    )));
-    Ok(format!(
-        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{title}</title>\n<style>\n{STYLE}</style>\n</head>\n<body>\n{body}</body>\n</html>\n"
+    let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
+    Ok(super::html::page(
+        &markdown,
+        &format!("Pre-review checklist: {}", report.design.name),
+        &view.running_header,
+        chart,
     ))
 }
 
@@ -587,19 +685,3 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         self.0.end_object_value(w)
     }
 }
-
-fn html_escape(text: &str) -> String {
-    text.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
-const STYLE: &str = "body { font-family: system-ui, sans-serif; max-width: 72rem; margin: 2rem auto; padding: 0 1rem; line-height: 1.45; color: #1d2327; }
-table { border-collapse: collapse; margin: 1rem 0; font-size: 0.92rem; }
-th, td { border: 1px solid #b8c2cc; padding: 0.25rem 0.5rem; text-align: left; vertical-align: top; }
-th { background: #e9eef2; }
-code { font-size: 0.85rem; word-break: break-all; }
-blockquote { border-left: 4px solid #b3541e; margin: 1rem 0; padding: 0.25rem 1rem; background: #fbf3ee; }
-li { margin: 0.2rem 0; }
-";

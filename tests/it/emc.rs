@@ -980,12 +980,19 @@ fn the_chart_is_well_formed_svg_with_the_limit_lines_and_the_points() {
     // The quasi-peak limit is one polyline through its vertices; the average limit is
     // dashed (several short segments).
     assert!(svg.contains("<polyline"), "limit lines");
-    // Before the filter: one hollow circle per point; after: one filled triangle per point
-    // (plus one of each in the legend).
-    let circles = svg.matches("<circle").count();
-    let triangles = svg.matches("<polygon").count();
-    assert_eq!(circles, emc.points.len() + 1, "circles");
-    assert_eq!(triangles, emc.points.len() + 1, "triangles");
+    // Prescan points do not say their mode: diamonds. Before the filter: one hollow diamond
+    // (an outline in the rust colour #965A28) per point; after: one filled diamond per
+    // point; plus the legend's samples (one hollow; passing, failing and, as no filter is
+    // declared here, not judged, each filled).
+    assert!(
+        emc.points
+            .iter()
+            .all(|p| p.verdict.as_str() == "not-judged")
+    );
+    let hollow = svg.matches("stroke=\"#965A28\"").count();
+    let filled = svg.matches("<polygon").count();
+    assert_eq!(hollow, emc.points.len() + 1, "hollow diamonds");
+    assert_eq!(filled, emc.points.len() + 3, "filled diamonds");
     // Labelled axes with units, and the legend.
     for text in [
         "Frequency, Hz (log scale)",

@@ -17,6 +17,7 @@ mod isolation_parts;
 mod positions;
 mod power_entry;
 mod properties;
+mod report_layout;
 mod size_limits;
 mod spacing_rules;
 mod standards;

@@ -1293,10 +1293,12 @@ fn markdown_shows_every_figure_with_formula_and_inputs() {
         .find(|l| l.starts_with("| Inrush peak current at switch-on"))
         .expect("inrush row");
     for part in [
-        "35.5574 A",
+        // sqrt(2) x 264 V / (10 + 0.5) ohm = 35.5574 A, printed to four significant
+        // digits like every figure of the Markdown report (the JSON keeps it whole).
+        "35.56 A",
         "I\\_pk = V\\_pk / (R\\_cold + R\\_s)",
-        // sqrt(2) x 264 V = 373.35238 V, printed to four decimals like every figure.
-        "V\\_pk = 373.3524 V",
+        // sqrt(2) x 264 V = 373.35238 V, to four significant digits.
+        "V\\_pk = 373.4 V",
         "R\\_cold = 10 Ω",
         "R\\_s = 0.5 Ω",
     ] {
