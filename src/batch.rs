@@ -348,17 +348,39 @@ pub fn write_reports_protecting(
     format: Format,
     also_protected: &[PathBuf],
 ) -> Result<Vec<PathBuf>, Problems> {
+    let (written, problems) = write_reports_noting(outcomes, out_dir, format, also_protected);
+    if problems.is_empty() {
+        Ok(written)
+    } else {
+        Err(Problems(problems))
+    }
+}
+
+/// The report's file name inside the output folder (the design's relative path with the
+/// format's extension).
+pub fn report_name(o: &Outcome, format: Format) -> PathBuf {
     let extension = match format {
         Format::Markdown => "md",
         Format::Html => "html",
         Format::Json => "json",
     };
+    o.found.relative.with_extension(extension)
+}
+
+/// `write_reports_protecting`, returning what was written and what was refused side by
+/// side, so the summary can say which reports exist.
+pub fn write_reports_noting(
+    outcomes: &[Outcome],
+    out_dir: &Path,
+    format: Format,
+    also_protected: &[PathBuf],
+) -> (Vec<PathBuf>, Vec<Diagnostic>) {
     let inputs: Vec<&Path> = outcomes
         .iter()
         .map(|o| o.found.path.as_path())
         .chain(also_protected.iter().map(PathBuf::as_path))
         .collect();
-    let target_of = |o: &Outcome| out_dir.join(o.found.relative.with_extension(extension));
+    let target_of = |o: &Outcome| out_dir.join(report_name(o, format));
     let mut by_target: HashMap<String, Vec<&Path>> = HashMap::new();
     for o in outcomes.iter().filter(|o| o.result.is_ok()) {
         by_target
@@ -417,8 +439,123 @@ pub fn write_reports_protecting(
             Err(p) => problems.extend(p.0),
         }
     }
+    (written, problems)
+}
+
+/// The summary files written beside the reports: `gapwarden-summary.md` and
+/// `gapwarden-summary.json`. The name is one no design's report is likely to take; one
+/// that does is refused rather than overwritten (see `write_summary_files`).
+pub const SUMMARY_STEM: &str = "gapwarden-summary";
+
+/// The summary as JSON: one entry a design (its counts, readiness, exit status and the
+/// report written for it, or null), and the run's exit status.
+pub fn summary_json(
+    outcomes: &[Outcome],
+    allow_incomplete: bool,
+    reports: &[Option<PathBuf>],
+) -> String {
+    let designs: Vec<serde_json::Value> = outcomes
+        .iter()
+        .enumerate()
+        .map(|(i, o)| {
+            let report = reports
+                .get(i)
+                .cloned()
+                .flatten()
+                .map(|p| serde_json::Value::String(p.display().to_string()))
+                .unwrap_or(serde_json::Value::Null);
+            let file = o.found.relative.display().to_string();
+            let status = o.exit_status_allowing(allow_incomplete).code();
+            match &o.result {
+                Ok((r, _)) => serde_json::json!({
+                    "file": file,
+                    "design": r.design.name,
+                    "revision": r.design.revision,
+                    "ready": r.readiness.ready,
+                    "readiness": r.readiness.state,
+                    "barriers": r.summary.barriers,
+                    "pass": r.summary.pass,
+                    "fail": r.summary.fail,
+                    "incomplete": r.summary.incomplete,
+                    "check_input": r.summary.check_input,
+                    "blocking": r.summary.blocking,
+                    "warning": r.summary.warning,
+                    "note": r.summary.note,
+                    "inputs_sha256": r.inputs_sha256,
+                    "exit_status": status,
+                    "report": report,
+                    "problems": serde_json::Value::Null,
+                }),
+                Err(p) => serde_json::json!({
+                    "file": file,
+                    "design": serde_json::Value::Null,
+                    "revision": serde_json::Value::Null,
+                    "ready": false,
+                    "readiness": "unusable input",
+                    "exit_status": status,
+                    "report": serde_json::Value::Null,
+                    "problems": p.0.iter().map(|d| d.to_string()).collect::<Vec<_>>(),
+                }),
+            }
+        })
+        .collect();
+    let worst = outcomes
+        .iter()
+        .map(|o| o.exit_status_allowing(allow_incomplete))
+        .max()
+        .unwrap_or(ExitStatus::Ready);
+    crate::report::to_json(&serde_json::json!({
+        "designs_checked": outcomes.len(),
+        "exit_status": worst.code(),
+        "designs": designs,
+    }))
+}
+
+/// Writes `gapwarden-summary.md` and `.json` into `out_dir`, by the same rules as the
+/// reports (never over an input, atomically). `written` are the reports that were
+/// written, so each design's entry names its report or says there is none.
+pub fn write_summary_files(
+    outcomes: &[Outcome],
+    out_dir: &Path,
+    format: Format,
+    allow_incomplete: bool,
+    written: &[PathBuf],
+    protected: &[PathBuf],
+) -> Result<Vec<PathBuf>, Problems> {
+    let reports: Vec<Option<PathBuf>> = outcomes
+        .iter()
+        .map(|o| {
+            let name = report_name(o, format);
+            written.contains(&out_dir.join(&name)).then_some(name)
+        })
+        .collect();
+    let markdown = format!(
+        "# Summary of {} design{}\n\n{}",
+        outcomes.len(),
+        if outcomes.len() == 1 { "" } else { "s" },
+        summary_with(outcomes, allow_incomplete)
+    );
+    let json = summary_json(outcomes, allow_incomplete, &reports);
+    let mut inputs: Vec<&Path> = outcomes.iter().map(|o| o.found.path.as_path()).collect();
+    inputs.extend(protected.iter().map(PathBuf::as_path));
+    let mut problems = Vec::new();
+    let mut done = Vec::new();
+    for (extension, text) in [("md", &markdown), ("json", &json)] {
+        let target = out_dir.join(format!("{SUMMARY_STEM}.{extension}"));
+        if written.contains(&target) {
+            problems.push(Diagnostic::new(
+                &target.display().to_string(),
+                "is a design's report; the summary was not written there (rename the design)",
+            ));
+            continue;
+        }
+        match write_atomically(&target, text, &inputs) {
+            Ok(()) => done.push(target),
+            Err(p) => problems.extend(p.0),
+        }
+    }
     if problems.is_empty() {
-        Ok(written)
+        Ok(done)
     } else {
         Err(Problems(problems))
     }

@@ -76,14 +76,22 @@ pub struct CheckRequest<'a> {
     pub jobs: Option<usize>,
     /// `--allow-incomplete`: incomplete barriers do not make the run not ready.
     pub allow_incomplete: bool,
+    /// One design on a terminal without `--format`: print the short summary instead of
+    /// the report (`Some(colour)`); the report still goes to `-o` when given.
+    pub terminal_summary: Option<bool>,
 }
 
 /// Runs `check`. One file: its report goes to `print` (or to `-o`). Several files or a
 /// folder: one report each into `--out-dir`, the summary table to `print`, and each
 /// design's problems to standard error as they come. The status is the worst over all
 /// designs; problems that stop the whole run (rules, templates, `-o` with several
-/// designs) are the `Err`.
-pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStatus, Problems> {
+/// designs) are the `Err`. `print_styled` prints the terminal summary, which is already
+/// safe for a terminal and may carry colour codes that `print` would show as text.
+pub fn check(
+    req: &CheckRequest,
+    print: &mut dyn FnMut(&str),
+    print_styled: &mut dyn FnMut(&str),
+) -> Result<ExitStatus, Problems> {
     // Every file the run reads besides the designs: no report may replace one.
     let mut house_inputs: Vec<PathBuf> = Vec::new();
     if let Some(dir) = req.rules_dir {
@@ -106,6 +114,8 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
         };
         let chart_name = chart.as_ref().map(|(path, _)| chart_link(path));
         let text = render_with_chart(&report, req.format, &templates, chart_name.as_deref())?;
+        use crate::terminal::{ReportPlace, terminal_summary};
+        let shown_project = project.display().to_string();
         match req.output {
             Some(out) => {
                 let protected: Vec<&Path> = std::iter::once(project.as_path())
@@ -116,8 +126,25 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
                 if let Some((path, svg)) = &chart {
                     write_atomically(path, svg, &protected)?;
                 }
+                if let Some(colour) = req.terminal_summary {
+                    let shown = out.display().to_string();
+                    print_styled(&terminal_summary(
+                        &report,
+                        ReportPlace::Written(&shown),
+                        colour,
+                    ));
+                }
             }
-            None => print(&text),
+            None => match req.terminal_summary {
+                Some(colour) => print_styled(&terminal_summary(
+                    &report,
+                    ReportPlace::NotWritten {
+                        project: &shown_project,
+                    },
+                    colour,
+                )),
+                None => print(&text),
+            },
         }
         return Ok(report.exit_status(req.allow_incomplete));
     }
@@ -147,14 +174,49 @@ pub fn check(req: &CheckRequest, print: &mut dyn FnMut(&str)) -> Result<ExitStat
         .map(|o| o.exit_status_allowing(req.allow_incomplete))
         .max()
         .unwrap_or(ExitStatus::Ready);
-    if let Some(dir) = req.out_dir
-        && let Err(problems) =
-            crate::batch::write_reports_protecting(&outcomes, dir, req.format, &house_inputs)
-    {
-        eprintln!("{problems}");
-        worst = ExitStatus::Unusable;
+    let mut closing = String::new();
+    if let Some(dir) = req.out_dir {
+        let (written, problems) =
+            crate::batch::write_reports_noting(&outcomes, dir, req.format, &house_inputs);
+        if !problems.is_empty() {
+            eprintln!("{}", Problems(problems));
+            worst = ExitStatus::Unusable;
+        }
+        match crate::batch::write_summary_files(
+            &outcomes,
+            dir,
+            req.format,
+            req.allow_incomplete,
+            &written,
+            &house_inputs,
+        ) {
+            Ok(files) => {
+                // File names only: the same designs give the same output whatever the
+                // folder (as the reports themselves carry no machine paths).
+                let names: Vec<String> = files
+                    .iter()
+                    .filter_map(|f| f.file_name())
+                    .map(|n| n.to_string_lossy().to_string())
+                    .collect();
+                closing = format!(
+                    "{} report{} written into the output folder, with the summary beside them: {}.\n",
+                    written.len(),
+                    if written.len() == 1 { "" } else { "s" },
+                    names.join(" and ")
+                );
+            }
+            Err(problems) => {
+                eprintln!("{problems}");
+                worst = ExitStatus::Unusable;
+            }
+        }
+    } else {
+        closing = "No reports were written: give --out-dir DIR for one report each and a \
+                   summary file.\n"
+            .to_string();
     }
     print(&crate::batch::summary_with(&outcomes, req.allow_incomplete));
+    print(&closing);
     Ok(worst)
 }
 
@@ -527,10 +589,20 @@ fn resolved(path: &Path) -> PathBuf {
     }
 }
 
-/// Writes a commented example project to `path`; never overwrites anything.
-pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
+/// The blank template `gapwarden new` writes without `--example`; `{file}` stands for the
+/// path written.
+pub const BLANK_TEMPLATE: &str = include_str!("../templates/new-project.toml");
+
+/// The text `gapwarden new` writes to `path`: the blank template, or the example named.
+/// Either way the header comment names the file written (never the example's own path),
+/// on one line whatever characters the path holds.
+pub fn new_project_text(path: &Path, example: Option<&str>) -> Result<String, Problems> {
     let shown = path.display().to_string();
-    let Some((_, text)) = EXAMPLES.iter().find(|(name, _)| *name == example) else {
+    let file = crate::text::visible_line(&shown);
+    let Some(example) = example else {
+        return Ok(BLANK_TEMPLATE.replace("{file}", &file));
+    };
+    let Some((name, text)) = EXAMPLES.iter().find(|(name, _)| *name == example) else {
         let names: Vec<&str> = EXAMPLES.iter().map(|(n, _)| *n).collect();
         let mut d = Diagnostic::new(
             "--example",
@@ -544,6 +616,16 @@ pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
         }
         return Err(d.into());
     };
+    Ok(format!(
+        "# {file}: written by `gapwarden new --example {name}`. Check it with:  gapwarden check {file}\n{}",
+        text.replace(&format!("examples/{name}.toml"), &file)
+    ))
+}
+
+/// Writes a blank template, or the example named, to `path`; never overwrites anything.
+pub fn new_project(path: &Path, example: Option<&str>) -> Result<(), Problems> {
+    let shown = path.display().to_string();
+    let text = new_project_text(path, example)?;
     let mut file = OpenOptions::new()
         .write(true)
         .create_new(true)
@@ -567,6 +649,15 @@ pub fn new_project(path: &Path, example: &str) -> Result<(), Problems> {
 
 /// The derivation of one figure or finding, as plain text.
 pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
+    explain_with_rules(report, None, item)
+}
+
+/// As [`explain`]; with `rules`, a finding also shows its check's rationale and source.
+pub fn explain_with_rules(
+    report: &Report,
+    rules: Option<&RuleBook>,
+    item: &str,
+) -> Result<String, Problems> {
     let mut out = String::new();
     let (barrier_id, figure) = match item.rsplit_once('.') {
         Some((b, f @ ("clearance" | "creepage" | "electric_strength"))) => (b, Some(f)),
@@ -588,8 +679,13 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
+    if report.bridges.iter().any(|b| b.part == item) {
+        explain_part(&mut out, report, item);
+        return Ok(out);
+    }
     let matching: Vec<_> = report.findings.iter().filter(|f| f.id == item).collect();
     if !matching.is_empty() {
+        explain_check(&mut out, report, rules, item);
         for f in matching {
             let subject = f
                 .subject
@@ -646,46 +742,66 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         }
         return Ok(out);
     }
-    if item == "assumptions" {
-        for a in &report.assumptions {
-            out.push_str(&format!("- {a}\n"));
+    if item == "isolation"
+        && let Some(iso) = &report.isolation
+    {
+        out.push_str(&format!(
+            "isolation: protection class {}, {} hazardous and {} accessible circuit(s)\n",
+            format!("{:?}", iso.protection_class),
+            iso.hazardous_count,
+            iso.accessible_count
+        ));
+        for p in &iso.pairs {
+            out.push_str(&format!(
+                "  {} -> {}: provides {} (level {}), needs {} (level {}){}\n",
+                p.hazardous,
+                p.accessible,
+                p.provides,
+                p.provides_level,
+                p.needs,
+                p.needs_level,
+                p.earth
+                    .as_deref()
+                    .map(|e| format!("; earth relied on: {e}"))
+                    .unwrap_or_default()
+            ));
         }
-        if report.assumptions.is_empty() {
+        out.push_str(&iso.diagram);
+        if !iso.diagram.ends_with('\n') {
+            out.push('\n');
+        }
+        return Ok(out);
+    }
+    if item == "assumptions" {
+        let groups = all_assumptions(report);
+        for (area, list) in &groups {
+            out.push_str(&format!("{area}:\n"));
+            for a in list {
+                out.push_str(&format!("- {a}\n"));
+            }
+        }
+        if groups.is_empty() {
             out.push_str("No defaults were applied.\n");
         }
         return Ok(out);
     }
     let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
+    if report.isolation.is_some() {
+        known.push("isolation".to_string());
+    }
     for b in &report.barriers {
         known.push(b.id.clone());
         known.push(format!("{}.clearance", b.id));
         known.push(format!("{}.creepage", b.id));
     }
-    if report.power_entry.is_some() {
-        known.extend(
-            [
-                "power_entry",
-                "power_entry.inrush",
-                "power_entry.fuse",
-                "power_entry.discharge",
-                "power_entry.touch",
-            ]
-            .map(String::from),
-        );
+    known.extend(report.bridges.iter().map(|b| b.part.clone()));
+    if let Some(p) = &report.power_entry {
+        known.extend(crate::power_entry::explain_items(p));
     }
     if report.emc.is_some() {
-        known.extend(
-            [
-                "emc",
-                "emc.corner",
-                "emc.limit",
-                "emc.attenuation",
-                "emc.filter",
-                "emc.middlebrook",
-                "emc.points",
-            ]
-            .map(String::from),
-        );
+        use crate::emc::explain::{FIGURES, ITEMS};
+        known.extend(ITEMS.iter().map(|(name, _)| name.to_string()));
+        known.extend(FIGURES.iter().map(|(field, _)| format!("emc.{field}")));
     }
     known.extend(report.findings.iter().map(|f| f.id.clone()));
     known.sort();
@@ -700,6 +816,108 @@ pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
         d = d.with_help(format!("did you mean \"{best}\"?"));
     }
     Err(d.into())
+}
+
+/// Every assumption the report shows, by where it shows it: the project's defaults, the
+/// power entry's and the EMC evaluation's. Empty groups are left out.
+pub fn all_assumptions(report: &Report) -> Vec<(&'static str, Vec<String>)> {
+    let mut groups = vec![("project", report.assumptions.clone())];
+    if let Some(p) = &report.power_entry {
+        groups.push(("power entry", p.assumptions.clone()));
+    }
+    if let Some(e) = &report.emc {
+        groups.push(("EMC", e.assumptions.clone()));
+    }
+    groups.retain(|(_, list)| !list.is_empty());
+    groups
+}
+
+/// The check behind a finding id: its title, rationale and source (from the rule book
+/// when given, else the title and source the report lists for it).
+fn explain_check(out: &mut String, report: &Report, rules: Option<&RuleBook>, id: &str) {
+    if let Some(c) = rules.and_then(|r| r.checks.iter().find(|c| c.id == id)) {
+        out.push_str(&format!(
+            "check {}: {}\n  rationale: {}\n  source: {}\n  defined in {} ({}:{})\n",
+            c.id, c.title, c.rationale, c.source, c.origin, c.file, c.line
+        ));
+    } else if let Some(c) = report.checks.iter().find(|c| c.id == id) {
+        out.push_str(&format!(
+            "check {}: {}\n  source: {}\n",
+            c.id, c.title, c.source
+        ));
+    }
+}
+
+/// A part that bridges barriers: its ratings against each barrier it bridges, the steps
+/// that judged them, and the findings about it.
+fn explain_part(out: &mut String, report: &Report, part: &str) {
+    for b in report.bridges.iter().filter(|b| b.part == part) {
+        out.push_str(&format!(
+            "{} ({}) across {} ({} insulation, {} V rms, {} V peak{})\n",
+            b.part,
+            serde_json::to_value(b.kind)
+                .ok()
+                .and_then(|v| v.as_str().map(str::to_string))
+                .unwrap_or_default(),
+            b.barrier,
+            b.grade.as_str(),
+            crate::spacing::show(b.working_rms_v),
+            crate::spacing::show(b.working_peak_v),
+            if b.to_accessible {
+                ", to an accessible circuit"
+            } else {
+                ""
+            }
+        ));
+        // Every rating and requirement the report holds for the part, by its JSON name, so
+        // a field added to the report is explained without code here.
+        if let Ok(serde_json::Value::Object(fields)) = serde_json::to_value(b) {
+            for (name, value) in &fields {
+                // A minimum is shown beside the rating it is held against, where the part
+                // declares one (a capacitor has no tape layers to count).
+                let absent = |rating: &str| fields.get(rating).is_none_or(|v| v.is_null());
+                let rating_absent = name.strip_prefix("min_").is_some_and(absent)
+                    || (name.starts_with("subclass_") && absent("subclass"));
+                if matches!(
+                    name.as_str(),
+                    "barrier" | "part" | "kind" | "grade" | "derivation"
+                ) || value.is_null()
+                    || rating_absent
+                {
+                    continue;
+                }
+                let shown = match value {
+                    serde_json::Value::Number(n) => n
+                        .as_f64()
+                        .map(crate::spacing::show)
+                        .unwrap_or_else(|| n.to_string()),
+                    serde_json::Value::String(s) => s.clone(),
+                    other => other.to_string(),
+                };
+                out.push_str(&format!("  {name} = {shown}\n"));
+            }
+        }
+        for (i, s) in b.derivation.iter().enumerate() {
+            let rule = s
+                .rule
+                .as_deref()
+                .map(|r| format!(" [{r}]"))
+                .unwrap_or_default();
+            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
+        }
+    }
+    for f in report
+        .findings
+        .iter()
+        .filter(|f| f.subject.as_deref() == Some(part))
+    {
+        out.push_str(&format!(
+            "finding {} ({}): {}\n",
+            f.id,
+            severity_word(f.severity),
+            f.message
+        ));
+    }
 }
 
 fn severity_word(s: Severity) -> &'static str {
@@ -1051,6 +1269,132 @@ impl SpacingFlags {
             creepage_mm: self.creepage_mm,
         }
     }
+}
+
+/// `gapwarden spacing --format`: a table for a person, or JSON for a script.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum SpacingFormat {
+    /// A readable table of the required and declared distances
+    Table,
+    /// One report barrier's fields as JSON
+    Json,
+}
+
+/// The spacing look-up as `format` asks. The JSON is one report barrier's fields, except
+/// that `between` is null: a look-up from flags has no circuits, and a made-up pair of
+/// names would read as if it had.
+pub fn render_spacing(result: &BarrierResult, format: SpacingFormat) -> String {
+    match format {
+        SpacingFormat::Json => {
+            let mut value = serde_json::to_value(result).unwrap_or(serde_json::Value::Null);
+            if let Some(entry) = value.as_object_mut() {
+                entry.insert("between".to_string(), serde_json::Value::Null);
+            }
+            crate::report::to_json(&value)
+        }
+        SpacingFormat::Table => spacing_table(result),
+    }
+}
+
+/// The look-up as a small plain-text table, with what set each figure and its steps.
+fn spacing_table(b: &BarrierResult) -> String {
+    use crate::spacing::show;
+    let v = |x: Option<f64>, unit: &str| {
+        x.map(|x| format!("{} {unit}", show(x)))
+            .unwrap_or_else(|| "-".to_string())
+    };
+    let mut out = format!(
+        "{} insulation, {} V rms{}, pollution degree {}, material group {}, altitude factor {}\n",
+        b.grade.as_str(),
+        show(b.working_rms_v),
+        b.working_peak_v
+            .map(|p| format!(" ({} V peak)", show(p)))
+            .unwrap_or_default(),
+        b.pollution_degree,
+        b.material_group.unwrap_or("from the CTI"),
+        show(b.altitude_factor)
+    );
+    if let (Some(rated), Some(read_at)) = (b.rated_impulse_v, b.clearance_impulse_v) {
+        out.push_str(&format!(
+            "rated impulse {} V; clearance read at {} V; creepage column {}\n",
+            show(rated),
+            show(read_at),
+            b.creepage_column
+        ));
+    }
+    let margin = |m: Option<f64>| {
+        m.map(|m| {
+            if m >= 0.0 {
+                format!("+{} mm", show(m))
+            } else {
+                format!("{} mm", show(m))
+            }
+        })
+        .unwrap_or_else(|| "-".to_string())
+    };
+    let rows = [
+        [
+            "".to_string(),
+            "required".to_string(),
+            "laid out".to_string(),
+            "margin".to_string(),
+            "set by".to_string(),
+        ],
+        [
+            "clearance".to_string(),
+            v(Some(b.required_clearance_mm), "mm"),
+            v(b.clearance_mm, "mm"),
+            margin(b.clearance_margin_mm),
+            b.clearance_governed_by.to_string(),
+        ],
+        [
+            "creepage".to_string(),
+            v(Some(b.required_creepage_mm), "mm"),
+            v(b.creepage_mm, "mm"),
+            margin(b.creepage_margin_mm),
+            b.creepage_governed_by.to_string(),
+        ],
+    ];
+    let widths: Vec<usize> = (0..5)
+        .map(|c| rows.iter().map(|r| r[c].chars().count()).max().unwrap_or(0))
+        .collect();
+    out.push('\n');
+    for r in &rows {
+        let line: Vec<String> = r
+            .iter()
+            .zip(&widths)
+            .map(|(cell, w)| format!("{cell:<w$}"))
+            .collect();
+        out.push_str(line.join("  ").trim_end());
+        out.push('\n');
+    }
+    let verdict_words = match b.verdict {
+        crate::spacing::Verdict::Pass => "PASS: both distances meet the requirement",
+        crate::spacing::Verdict::Fail => "FAIL: a distance falls short",
+        crate::spacing::Verdict::Incomplete => {
+            "INCOMPLETE: give --clearance-mm and --creepage-mm for a verdict"
+        }
+        crate::spacing::Verdict::CheckInput => {
+            "CHECK-INPUT: it would pass only on an implausible value (see the warnings)"
+        }
+    };
+    out.push_str(&format!("\nverdict: {verdict_words}\n"));
+    for (what, steps) in [
+        ("clearance", &b.derivation.clearance),
+        ("creepage", &b.derivation.creepage),
+    ] {
+        out.push_str(&format!("\n{what}:\n"));
+        for (i, s) in steps.iter().enumerate() {
+            let rule = s
+                .rule
+                .as_deref()
+                .map(|r| format!(" [{r}]"))
+                .unwrap_or_default();
+            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
+        }
+    }
+    out.push_str("\n(--format json prints these fields as JSON)\n");
+    out
 }
 
 /// The exit status of `gapwarden spacing`: not ready when the declared distances fall

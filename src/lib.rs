@@ -8,6 +8,7 @@ pub mod compare;
 pub mod diag;
 pub mod emc;
 mod exit_status;
+pub mod hints;
 pub mod input_limits;
 pub mod isolation;
 pub mod memory_guard;
@@ -19,6 +20,7 @@ pub mod report;
 pub mod rules;
 pub mod spacing;
 pub mod standards;
+pub mod terminal;
 pub mod text;
 
 pub use exit_status::ExitStatus;

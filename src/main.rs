@@ -6,12 +6,13 @@ use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory, Parser, Subcommand};
 
 use gapwarden::ExitStatus;
-use gapwarden::commands::{self, CheckRequest, Format, SpacingFlags};
+use gapwarden::commands::{self, CheckRequest, Format, SpacingFlags, SpacingFormat};
 use gapwarden::diag::Problems;
 use gapwarden::rules::RuleBook;
+use gapwarden::terminal::ColorChoice;
 
 /// Pre-review checklist for the insulation of a mains-connected power supply.
 ///
@@ -43,9 +44,17 @@ enum Command {
         /// Project files (TOML) or folders of them.
         #[arg(required = true, value_name = "PROJECT")]
         projects: Vec<PathBuf>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = Format::Markdown)]
-        format: Format,
+        /// Output format (default: Markdown).
+        ///
+        /// Without --format, on a terminal, a short summary is printed instead of the full
+        /// report (verdict, blocking items, warnings, where the report is); piped, or with
+        /// --format, the full report.
+        #[arg(long, value_enum)]
+        format: Option<Format>,
+        /// Colour in the terminal summary: auto (on a terminal, unless NO_COLOR is set),
+        /// always or never.
+        #[arg(long, value_enum, default_value_t = ColorChoice::Auto, value_name = "WHEN")]
+        color: ColorChoice,
         /// Write the report to this file instead of printing it.
         ///
         /// A regular file or a new path is written atomically (a temporary file beside it,
@@ -92,21 +101,34 @@ enum Command {
         /// Incomplete barriers in the new revision do not make the exit status 1.
         #[arg(long)]
         allow_incomplete: bool,
+        /// Output format of the comparison.
+        #[arg(long, value_enum, default_value_t = Format::Markdown)]
+        format: Format,
+        /// Write the comparison to this file instead of printing it (same rules as
+        /// `check -o`; neither project file can be overwritten).
+        #[arg(short = 'o', long = "output", value_name = "FILE")]
+        output: Option<PathBuf>,
     },
     /// Write a commented starting project file. Never overwrites an existing file.
+    ///
+    /// Without --example: a blank template with every section, the required keys marked
+    /// and no distances, so that `check` says "not ready" until the layout is described.
     New {
         /// Where to write the new project file.
         path: PathBuf,
-        /// Which example to start from: class2-adapter or class1-appliance.
-        #[arg(long, default_value = "class2-adapter", value_name = "NAME")]
-        example: String,
+        /// Start from a shipped example instead: class2-adapter or class1-appliance.
+        #[arg(long, value_name = "NAME")]
+        example: Option<String>,
     },
     /// Print how one figure or finding was derived.
     ///
-    /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a finding id
-    /// such as barrier.clearance_short, "assumptions", "readiness", a power-entry item (power_entry,
-    /// power_entry.fuse, power_entry.inrush_peak_a, ...) or an EMC item (emc, emc.corner,
-    /// emc.middlebrook, ...).
+    /// ITEM is a barrier id (both figures), BARRIER.clearance, BARRIER.creepage, a part
+    /// reference (its ratings against every barrier it bridges), a finding id such as
+    /// barrier.clearance_short (with its check's rationale and source), "assumptions"
+    /// (every default the report applied), "readiness", "isolation", a power-entry item or figure
+    /// (power_entry, power_entry.fuse, power_entry.inrush_peak_a, ...) or an EMC item or
+    /// figure (emc, emc.corner, emc.dm_corner_hz, emc.middlebrook, ...). An unknown ITEM
+    /// lists them all.
     Explain {
         /// The project file (TOML).
         project: PathBuf,
@@ -122,15 +144,30 @@ enum Command {
         #[command(flatten)]
         rules: HouseRules,
     },
-    /// Required clearance and creepage of one barrier, from flags (JSON, like one entry of
-    /// a report's barriers). Exit 1 when declared distances fall short, or would pass on
-    /// an implausible value (verdict "check-input").
+    /// Required clearance and creepage of one barrier, from flags: a table, or with
+    /// --format json one entry of a report's barriers. Exit 1 when declared distances fall
+    /// short, or would pass on an implausible value (verdict "check-input").
     Spacing {
         #[command(flatten)]
         flags: SpacingFlags,
+        /// Output format: a readable table, or JSON (the fields of one report barrier).
+        #[arg(long, value_enum, default_value_t = SpacingFormat::Table)]
+        format: SpacingFormat,
         #[command(flatten)]
         rules: HouseRules,
     },
+    /// Print a shell completion script for gapwarden.
+    ///
+    /// For bash: `gapwarden completions bash > ~/.local/share/bash-completion/completions/gapwarden`.
+    Completions {
+        /// The shell to write completions for.
+        #[arg(value_enum)]
+        shell: clap_complete::Shell,
+    },
+    /// Print gapwarden's manual page (roff), generated from the same definitions as --help.
+    ///
+    /// For example: `gapwarden man > gapwarden.1 && man ./gapwarden.1`.
+    Man,
 }
 
 /// `--rules`, declared once for every command that reads rule tables.
@@ -193,42 +230,65 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
         Command::Check {
             projects,
             format,
+            color,
             output,
             rules,
             templates,
             out_dir,
             jobs,
             allow_incomplete,
-        } => commands::check(
-            &CheckRequest {
-                projects: &projects,
-                format,
-                output: output.as_deref(),
-                rules_dir: rules.rules.as_deref(),
-                templates_dir: templates.templates.as_deref(),
-                out_dir: out_dir.as_deref(),
-                jobs: jobs.map(usize::from),
-                allow_incomplete,
-            },
-            &mut print,
-        ),
+        } => {
+            use std::io::IsTerminal;
+            // The summary replaces the report only where a person reads it and asked for
+            // no particular format; scripts (a pipe, a file, --format) get the report.
+            let terminal = std::io::stdout().is_terminal();
+            let summary = (format.is_none() && terminal).then(|| {
+                color.enabled(
+                    terminal,
+                    std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty()),
+                )
+            });
+            commands::check(
+                &CheckRequest {
+                    projects: &projects,
+                    format: format.unwrap_or(Format::Markdown),
+                    output: output.as_deref(),
+                    rules_dir: rules.rules.as_deref(),
+                    templates_dir: templates.templates.as_deref(),
+                    out_dir: out_dir.as_deref(),
+                    jobs: jobs.map(usize::from),
+                    allow_incomplete,
+                    terminal_summary: summary,
+                },
+                &mut print,
+                &mut print_styled,
+            )
+        }
         Command::Compare {
             old,
             new,
             rules,
             allow_incomplete,
+            format,
+            output,
         } => {
             let comparison = gapwarden::compare::compare_files(&old, &new, &rules.load()?)?;
-            print(&comparison.markdown);
+            let text = comparison.render(format);
+            match output {
+                Some(out) => commands::write_atomically(&out, &text, &[&old, &new])?,
+                None => print(&text),
+            }
             Ok(comparison.exit_status(allow_incomplete))
         }
         Command::New { path, example } => {
-            commands::new_project(&path, &example)?;
+            commands::new_project(&path, example.as_deref())?;
             let shown = path.display().to_string();
-            let shown = gapwarden::text::visible(&shown);
-            eprintln!(
-                "wrote {shown} (from the {example} example); edit it, then run: gapwarden check {shown}"
-            );
+            let shown = gapwarden::text::visible_line(&shown);
+            let from = match &example {
+                Some(name) => format!("from the {} example", gapwarden::text::visible_line(name)),
+                None => "a blank template: fill in the keys marked (required)".to_string(),
+            };
+            eprintln!("wrote {shown} ({from}); edit it, then run: gapwarden check {shown}");
             Ok(ExitStatus::Ready)
         }
         Command::Explain {
@@ -236,15 +296,20 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             item,
             rules,
         } => {
-            let report = commands::check_file(&project, &rules.load()?)?;
-            print(&commands::explain(&report, &item)?);
+            let rules = rules.load()?;
+            let report = commands::check_file(&project, &rules)?;
+            print(&commands::explain_with_rules(&report, Some(&rules), &item)?);
             Ok(ExitStatus::Ready)
         }
         Command::Rules { id, rules } => {
             print(&commands::describe_rules(&rules.load()?, id.as_deref())?);
             Ok(ExitStatus::Ready)
         }
-        Command::Spacing { flags, rules } => {
+        Command::Spacing {
+            flags,
+            format,
+            rules,
+        } => {
             let (result, warnings) = commands::spacing_under(
                 &rules.load()?,
                 &flags.query(),
@@ -256,10 +321,34 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             for w in &warnings {
                 eprintln!("warning: {w} (input.suspicious_value)");
             }
-            print(&gapwarden::report::to_json(&result));
+            print(&commands::render_spacing(&result, format));
             Ok(commands::spacing_exit_status(&result))
         }
+        Command::Completions { shell } => {
+            let mut script = Vec::new();
+            clap_complete::generate(shell, &mut Cli::command(), "gapwarden", &mut script);
+            print(&String::from_utf8_lossy(&script));
+            Ok(ExitStatus::Ready)
+        }
+        Command::Man => {
+            let mut page = Vec::new();
+            clap_mangen::Man::new(Cli::command())
+                .render(&mut page)
+                .map_err(|e| {
+                    gapwarden::diag::Diagnostic::new("man", format!("cannot render: {e}"))
+                })?;
+            print(&String::from_utf8_lossy(&page));
+            Ok(ExitStatus::Ready)
+        }
     }
+}
+
+/// Prints text that is already safe for a terminal (every project string in it made
+/// visible) and may carry colour: the terminal summary.
+fn print_styled(text: &str) {
+    let mut out = std::io::stdout().lock();
+    let _ = out.write_all(text.as_bytes());
+    let _ = out.flush();
 }
 
 /// Prints to stdout; a closed pipe (`| head`) is not an error worth a panic. A control or

@@ -770,25 +770,31 @@ impl<'s> Reader<'s> {
         let words = crate::diag::words::<E>();
         let words: Vec<&str> = words.iter().map(String::as_str).collect();
         let Loose::String(s) = &value.get_ref().0 else {
-            self.error(
-                &span,
-                path,
-                format!(
-                    "expected one of {}, found {}",
-                    one_of(&words),
-                    value.get_ref().0.type_str()
-                ),
+            let message = format!(
+                "expected one of {}, found {}",
+                one_of(&words),
+                value.get_ref().0.type_str()
             );
+            // `protection_class = 2`: the numeral's Roman word, in quotes.
+            let written = match &value.get_ref().0 {
+                Loose::Integer(Some(i)) => Some(i.to_string()),
+                Loose::Float(f) => Some(f.to_string()),
+                _ => None,
+            };
+            match written.and_then(|w| crate::hints::word_help(&w, &words, false)) {
+                Some(help) => self.error_with_help(&span, path, message, help),
+                None => self.error(&span, path, message),
+            }
             return None;
         };
         if let Some(word) = crate::diag::word::<E>(s) {
             return Some(Located { value: word, span });
         }
         let message = format!("\"{s}\" is not known; expected {}", one_of(&words));
-        match suggest(s, &words) {
-            Some(best) => {
-                self.error_with_help(&span, path, message, format!("did you mean \"{best}\"?"))
-            }
+        // A numeral or the wrong letter case ("3a" for "IIIa") first, then the nearest
+        // spelling.
+        match crate::hints::word_help(s, &words, true) {
+            Some(help) => self.error_with_help(&span, path, message, help),
             None => self.error(&span, path, message),
         }
         None

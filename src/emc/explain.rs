@@ -36,6 +36,35 @@ pub const ITEMS: &[(&str, &str)] = &[
     ("emc.assumptions", "the defaults the EMC evaluation applied"),
 ];
 
+/// Each EMC figure of the JSON report (`emc.FIELD`) with the item whose derivation shows
+/// it, so `explain PROJECT emc.dm_corner_hz` works for every figure the report prints.
+pub const FIGURES: &[(&str, &str)] = &[
+    ("margin_db", "emc.limit"),
+    ("governing_frequency_hz", "emc.attenuation"),
+    ("limit_dbuv", "emc.limit"),
+    ("required_attenuation_db", "emc.attenuation"),
+    ("max_required_attenuation_db", "emc.attenuation"),
+    ("max_required_attenuation_hz", "emc.attenuation"),
+    ("dm_corner_hz", "emc.dm_corner"),
+    ("dm_governing_frequency_hz", "emc.dm_corner"),
+    ("dm_corner_fourth_order_hz", "emc.dm_corner"),
+    ("dm_inductance_for_corner_uh", "emc.dm_corner"),
+    ("cm_corner_hz", "emc.cm_corner"),
+    ("cm_governing_frequency_hz", "emc.cm_corner"),
+    ("cm_corner_fourth_order_hz", "emc.cm_corner"),
+    ("cm_inductance_for_corner_mh", "emc.cm_corner"),
+    ("max_y_capacitance_nf", "emc.y_capacitance"),
+    ("touch_current_limit_ma", "emc.y_capacitance"),
+    ("max_mains_v", "emc.y_capacitance"),
+    ("max_mains_frequency_hz", "emc.y_capacitance"),
+    ("y_capacitance_nf", "emc.y_capacitance"),
+    ("y_capacitance_used_nf", "emc.cm_corner"),
+    ("cm_capacitance_used_nf", "emc.cm_corner"),
+    ("single_stage_practical_db", "emc.attenuation"),
+    ("two_stage_practical_db", "emc.attenuation"),
+    ("harmonics_evaluated", "emc.points"),
+];
+
 fn hz(x: Option<f64>) -> String {
     x.map(frequency_words)
         .unwrap_or_else(|| "not computed".to_string())
@@ -123,8 +152,42 @@ fn points(out: &mut String, r: &EmcReport) {
     }
 }
 
-/// Text for an EMC item, or `None` when `item` is not one.
+/// Text for an EMC item or figure, or `None` when `item` is neither.
 pub fn explain(r: &EmcReport, item: &str) -> Option<String> {
+    if let Some((field, shown_by)) = item
+        .strip_prefix("emc.")
+        .and_then(|f| FIGURES.iter().find(|(name, _)| *name == f))
+    {
+        let value = serde_json::to_value(r)
+            .ok()
+            .and_then(|v| v.get(*field).cloned())
+            .unwrap_or(serde_json::Value::Null);
+        // The unit is the field name's suffix, as everywhere in the JSON report.
+        let unit = [
+            ("_dbuv", " dBuV"),
+            ("_db", " dB"),
+            ("_hz", " Hz"),
+            ("_nf", " nF"),
+            ("_uh", " uH"),
+            ("_mh", " mH"),
+            ("_ma", " mA"),
+            ("_v", " V"),
+        ]
+        .iter()
+        .find(|(suffix, _)| field.ends_with(suffix))
+        .map_or("", |(_, unit)| *unit);
+        let value = match value.as_f64() {
+            Some(x) => format!("{}{unit}", show(x)),
+            None => "not computed".to_string(),
+        };
+        let mut out = format!("emc.{field} = {value} (derivation: {shown_by})\n");
+        out.push_str(&explain_item(r, shown_by)?);
+        return Some(out);
+    }
+    explain_item(r, item)
+}
+
+fn explain_item(r: &EmcReport, item: &str) -> Option<String> {
     let d = &r.derivation;
     let mut out = String::new();
     match item {

@@ -5,7 +5,7 @@
 
 mod chart;
 mod evaluate;
-mod explain;
+pub mod explain;
 pub mod filter;
 pub mod limits;
 pub mod noise;

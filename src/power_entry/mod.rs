@@ -507,13 +507,69 @@ pub fn explain(report: &PowerEntryReport, item: &str) -> Option<String> {
         explain_section(&mut out, s);
         return Some(out);
     }
-    let figure = report
+    if let Some(figure) = report
         .sections
         .iter()
         .flat_map(|s| &s.figures)
-        .find(|f| f.id == item)?;
-    explain_figure(&mut out, figure);
+        .find(|f| f.id == item)
+    {
+        explain_figure(&mut out, figure);
+        return Some(out);
+    }
+    // A field of the JSON report (`power_entry.input_rms_a`) that the sections hold per
+    // operating point (`power_entry.low_line.input_rms_a`, ...), or as a whole section.
+    let field = item.strip_prefix("power_entry.")?;
+    let suffix = format!(".{field}");
+    let figures: Vec<&Derived> = report
+        .sections
+        .iter()
+        .flat_map(|s| &s.figures)
+        .filter(|f| f.id.ends_with(&suffix))
+        .collect();
+    if !figures.is_empty() {
+        for f in figures {
+            explain_figure(&mut out, f);
+        }
+        return Some(out);
+    }
+    let section = FIELD_SECTIONS
+        .iter()
+        .find(|(name, _)| *name == field)
+        .and_then(|(_, id)| report.sections.iter().find(|s| s.id == *id))?;
+    explain_section(&mut out, section);
     Some(out)
+}
+
+/// Fields of the JSON report whose derivation is a whole section rather than one figure.
+pub const FIELD_SECTIONS: &[(&str, &str)] = &[
+    ("touch_current_ma", "power_entry.touch"),
+    ("min_bulk_v", "power_entry.operating_point"),
+    ("bulk_rated_v", "power_entry.inrush"),
+];
+
+/// Every id `explain` takes for the power entry: the whole, each section, each figure,
+/// and the JSON report's fields that map to them.
+pub fn explain_items(report: &PowerEntryReport) -> Vec<String> {
+    let mut items = vec!["power_entry".to_string()];
+    for s in &report.sections {
+        items.push(s.id.clone());
+        items.extend(s.figures.iter().map(|f| f.id.clone()));
+    }
+    let figure_ids: Vec<String> = items.clone();
+    if let Ok(serde_json::Value::Object(fields)) = serde_json::to_value(report) {
+        for (name, value) in fields {
+            let item = format!("power_entry.{name}");
+            let suffix = format!(".{name}");
+            let derivable = figure_ids
+                .iter()
+                .any(|id| *id == item || id.ends_with(&suffix))
+                || FIELD_SECTIONS.iter().any(|(f, _)| *f == name);
+            if value.is_number() && derivable && !items.contains(&item) {
+                items.push(item);
+            }
+        }
+    }
+    items
 }
 
 fn explain_section(out: &mut String, s: &Section) {

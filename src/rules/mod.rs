@@ -479,6 +479,23 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         .replace("expected f64", "expected a number")
         .replace("expected u32", "expected a whole number")
         .replace("expected usize", "expected a whole number");
+    // An unknown key: serde points at the whole table; point at the key itself, name it,
+    // and suggest the key probably meant.
+    if let Some((field, meant)) = crate::hints::unknown_field(&message)
+        && let Some(span) = e.span()
+        && let Some(at) = crate::hints::key_span(&source.text, span.start, &field)
+    {
+        let key = crate::diag::toml_error_key(e)
+            .map(|table| format!("{table}.{field}"))
+            .unwrap_or(field);
+        let mut d = source.diag(&at, message.clone()).with_key(key);
+        if let Some(meant) = meant {
+            d = d.with_help(format!("did you mean `{meant}`?"));
+        } else if !help.is_empty() {
+            d = d.with_help(help);
+        }
+        return d;
+    }
     let mut d = match e.span() {
         Some(span) => source.diag(&span, message),
         None => Diagnostic::new(&source.name, message),

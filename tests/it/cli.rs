@@ -1041,8 +1041,10 @@ fn several_problems_are_all_reported_at_once() {
 #[test]
 fn new_writes_a_starting_project_that_checks_cleanly() {
     let scratch = Scratch::new("new");
+    // Without --example, `new` writes a blank template (tests/it/commands.rs); the examples
+    // come with --example, under a header line that names the file written.
     for (name, example, source) in [
-        ("adapter.toml", None, CLASS2),
+        ("adapter.toml", Some("class2-adapter"), CLASS2),
         ("appliance.toml", Some("class1-appliance"), CLASS1),
     ] {
         let p = scratch.path(name);
@@ -1052,7 +1054,13 @@ fn new_writes_a_starting_project_that_checks_cleanly() {
         }
         let o = run(&args);
         assert_exit(&o, 0);
-        let written = std::fs::read(&p).expect("new wrote the file");
+        let written = std::fs::read_to_string(&p).expect("new wrote the file");
+        let (header, body) = written.split_once('\n').expect("a header line");
+        assert!(
+            header.starts_with('#') && header.contains(path_str(&p)),
+            "{header}"
+        );
+        let written = body.replace(path_str(&p), source).into_bytes();
         assert_eq!(
             written,
             std::fs::read(root().join(source)).unwrap(),
@@ -1205,6 +1213,8 @@ fn output_file_holds_the_same_bytes_as_stdout() {
 
 const SPACING_250V_REINFORCED: &[&str] = &[
     "spacing",
+    "--format",
+    "json",
     "--working-rms-v",
     "250",
     "--grade",

@@ -9,6 +9,7 @@ mod check_fields;
 mod check_predicates;
 mod check_values;
 mod cli;
+mod commands;
 mod emc;
 mod files;
 mod fuzz;

@@ -694,7 +694,15 @@ speed = "time-lag""#,
 // ---------------------------------------------------------------------------------------
 
 fn spacing_json(args: &[&str]) -> (i32, serde_json::Value) {
-    let mut all = vec!["spacing", "--working-rms-v", "250", "--material-group", "I"];
+    let mut all = vec![
+        "spacing",
+        "--format",
+        "json",
+        "--working-rms-v",
+        "250",
+        "--material-group",
+        "I",
+    ];
     all.extend_from_slice(args);
     let out = common::run(&all);
     let json = serde_json::from_str(&common::stdout(&out))

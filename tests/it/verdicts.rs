@@ -137,6 +137,8 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
     // The same engine as check: 6000 mm would pass any requirement, but is not a pass.
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--clearance-mm",
@@ -148,6 +150,8 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
     assert_eq!(json(&o)["verdict"], "check-input");
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--clearance-mm",
@@ -167,6 +171,8 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
 fn spacing_reinforced_with(extra: &[&str]) -> Output {
     let mut args = vec![
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--grade",
@@ -211,6 +217,8 @@ fn spacing_command_with_a_plausible_transient_is_not_check_input() {
     // 20 kV is beyond the preferred series: implausible, never a pass.
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--transient-v",
@@ -240,6 +248,8 @@ fn spacing_command_warns_of_an_implausible_value_even_without_a_verdict() {
     // implausible value left no trace at all: the figure looked as good as any other.
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--working-peak-v",
@@ -1006,6 +1016,8 @@ fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
     // memory of the published table): 1000.00001 V is refused, and said as itself.
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--nominal-v",
@@ -1024,6 +1036,8 @@ fn a_steady_state_peak_just_above_case_a_is_not_printed_as_its_last_row() {
     // memory of clause 5.1.6): 31250.00001 V x 1.6 = 50000.000016 V, just above.
     let o = run(&[
         "spacing",
+        "--format",
+        "json",
         "--working-rms-v",
         "250",
         "--working-peak-v",
@@ -1113,6 +1127,13 @@ fn negative_zero_prints_as_zero_in_json() {
             .is_some_and(|x| x.is_sign_positive())
     );
     // The spacing command writes JSON the same way.
-    let o = run(&["spacing", "--working-rms-v", "250", "--clearance-mm=-0.0"]);
+    let o = run(&[
+        "spacing",
+        "--format",
+        "json",
+        "--working-rms-v",
+        "250",
+        "--clearance-mm=-0.0",
+    ]);
     assert!(!stdout(&o).contains("-0.0"), "{}", stdout(&o));
 }
