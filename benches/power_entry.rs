@@ -6,8 +6,12 @@
 //! (10 ohm, 1000 uF, many half-cycles to settle) and a very large capacitor (1 F).
 //! `evaluate_adapter`: the whole power-entry evaluation of tests/fixtures/pe-adapter.toml
 //! (two operating points, inrush, fuse, discharge, touch current, test voltages).
+//! `inrush_switch_on`: the L-R-C switch-on of the shipped Class II example at a hot restart
+//! (373 V crest, 470 uH, 3.2 ohm, 47 uF), solved in closed form (`switch_on`, what the
+//! report uses) and stepped (`simulate`, RK4 with step halvings).
 
 use gapwarden::diag::Source;
+use gapwarden::power_entry::inrush::{LrcCircuit, simulate, switch_on};
 use gapwarden::power_entry::rectifier::{Rectifier, steady_state};
 use gapwarden::project::read_project;
 use gapwarden::rules::RuleBook;
@@ -87,4 +91,22 @@ fn evaluate_adapter(bencher: divan::Bencher) {
             &source,
         )
     });
+}
+
+#[divan::bench(args = ["closed-form", "stepped"])]
+fn inrush_switch_on(bencher: divan::Bencher, method: &str) {
+    let circuit = LrcCircuit {
+        peak_v: std::f64::consts::SQRT_2 * 264.0,
+        frequency_hz: 50.0,
+        inductance_h: 470e-6,
+        resistance_ohm: 3.2,
+        capacitance_f: 47e-6,
+        start_v: 0.0,
+    };
+    let solve = if method == "stepped" {
+        simulate
+    } else {
+        switch_on
+    };
+    bencher.bench_local(|| solve(divan::black_box(&circuit)));
 }

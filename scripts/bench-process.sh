@@ -1,14 +1,18 @@
 #!/usr/bin/env bash
 # Whole-process timing: `gapwarden check` on an example against a baseline process that
 # only reads and parses the same TOML file (examples/parse_baseline.rs). Prints the mean
-# wall time of each over RUNS runs and their ratio. Usage:
-#   scripts/bench-process.sh [PROJECT.toml] [RUNS]
+# wall time of each over RUNS runs and their ratio, and the same for CPU time (user +
+# system, from GNU time at /usr/bin/time where present), which a busy machine inflates less
+# than wall time. For a figure that does not depend on the load at all, count instructions
+# with scripts/bench-instructions.sh. Usage:
+#   [GAPWARDEN_BIN=other/gapwarden] scripts/bench-process.sh [PROJECT.toml] [RUNS]
 set -euo pipefail
 cd "$(dirname "$0")/.."
 project=${1:-examples/class2-adapter.toml}
 runs=${2:-200}
 cargo build --release --locked --quiet --bin gapwarden --example parse_baseline
-tool=target/release/gapwarden
+# GAPWARDEN_BIN=path measures another build of the tool (for a before/after comparison).
+tool=${GAPWARDEN_BIN:-target/release/gapwarden}
 base=target/release/examples/parse_baseline
 
 time_runs() {
@@ -30,3 +34,20 @@ awk -v t="$tool_ns" -v b="$base_ns" -v n="$runs" -v p="$project" 'BEGIN {
   printf "parse-only baseline: %.2f ms per run\n", b / 1e6
   printf "ratio: %.2f\n", t / b
 }'
+
+# CPU time of the same loops (seconds of user + system over all runs).
+cpu_runs() {
+  /usr/bin/time -f "%U %S" -o "$cpu_file" bash -c 'for _ in $(seq "$1"); do "${@:2}" > /dev/null || true; done' _ "$runs" "$@"
+  awk '{ printf "%.0f", ($1 + $2) * 1e9 / '"$runs"' }' "$cpu_file"
+}
+if [ -x /usr/bin/time ]; then
+  cpu_file=$(mktemp)
+  trap 'rm -f "$cpu_file"' EXIT
+  tool_cpu=$(cpu_runs "$tool" check "$project")
+  base_cpu=$(cpu_runs "$base" "$project")
+  awk -v t="$tool_cpu" -v b="$base_cpu" 'BEGIN {
+    printf "gapwarden check CPU: %.2f ms per run\n", t / 1e6
+    printf "parse-only baseline CPU: %.2f ms per run\n", b / 1e6
+    printf "CPU ratio: %.2f\n", t / b
+  }'
+fi

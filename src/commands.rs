@@ -647,7 +647,9 @@ pub fn new_project(path: &Path, example: Option<&str>) -> Result<(), Problems> {
     })
 }
 
-/// The derivation of one figure or finding, as plain text.
+/// The derivation of one figure or finding, as plain text. Every area answers for its own
+/// items (`Area::explain`); a finding is found by its id; `readiness` and `assumptions`
+/// are the report's own.
 pub fn explain(report: &Report, item: &str) -> Result<String, Problems> {
     explain_with_rules(report, None, item)
 }
@@ -659,26 +661,6 @@ pub fn explain_with_rules(
     item: &str,
 ) -> Result<String, Problems> {
     let mut out = String::new();
-    let (barrier_id, figure) = match item.rsplit_once('.') {
-        Some((b, f @ ("clearance" | "creepage" | "electric_strength"))) => (b, Some(f)),
-        _ => (item, None),
-    };
-    if let Some(b) = report.barriers.iter().find(|b| b.id == barrier_id) {
-        explain_barrier(&mut out, b, figure);
-        for f in report
-            .findings
-            .iter()
-            .filter(|f| f.subject.as_deref() == Some(b.id.as_str()))
-        {
-            out.push_str(&format!(
-                "finding {} ({}): {}\n",
-                f.id,
-                severity_word(f.severity),
-                f.message
-            ));
-        }
-        return Ok(out);
-    }
     if report.bridges.iter().any(|b| b.part == item) {
         explain_part(&mut out, report, item);
         return Ok(out);
@@ -710,24 +692,10 @@ pub fn explain_with_rules(
                 } else {
                     None
                 };
-                explain_barrier(&mut out, b, figure);
+                crate::insulation::explain_barrier(&mut out, b, figure);
             }
         }
         return Ok(out);
-    }
-    if let Some(text) = report
-        .power_entry
-        .as_ref()
-        .and_then(|p| crate::power_entry::explain(p, item))
-    {
-        return Ok(text);
-    }
-    if let Some(text) = report
-        .emc
-        .as_ref()
-        .and_then(|e| crate::emc::explain(e, item))
-    {
-        return Ok(text);
     }
     if item == "readiness" {
         let r = &report.readiness;
@@ -785,27 +753,15 @@ pub fn explain_with_rules(
         }
         return Ok(out);
     }
-    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
-    if report.isolation.is_some() {
-        known.push("isolation".to_string());
+    // The areas explain their own figures and sections; the items above (parts with their
+    // ratings, findings with their checks, readiness, assumptions) are the commands' own.
+    if let Some(text) = crate::area::AREAS
+        .iter()
+        .find_map(|area| area.explain(report, item))
+    {
+        return Ok(text);
     }
-    for b in &report.barriers {
-        known.push(b.id.clone());
-        known.push(format!("{}.clearance", b.id));
-        known.push(format!("{}.creepage", b.id));
-    }
-    known.extend(report.bridges.iter().map(|b| b.part.clone()));
-    if let Some(p) = &report.power_entry {
-        known.extend(crate::power_entry::explain_items(p));
-    }
-    if report.emc.is_some() {
-        use crate::emc::explain::{FIGURES, ITEMS};
-        known.extend(ITEMS.iter().map(|(name, _)| name.to_string()));
-        known.extend(FIGURES.iter().map(|(field, _)| format!("emc.{field}")));
-    }
-    known.extend(report.findings.iter().map(|f| f.id.clone()));
-    known.sort();
-    known.dedup();
+    let known = explain_items(report);
     let refs: Vec<&str> = known.iter().map(String::as_str).collect();
     let mut d = Diagnostic::new(
         "explain",
@@ -920,137 +876,30 @@ fn explain_part(out: &mut String, report: &Report, part: &str) {
     }
 }
 
+/// Every item `explain` takes for this report, sorted: the report's own (`assumptions`,
+/// `readiness`), every area's, and every finding id.
+pub fn explain_items(report: &Report) -> Vec<String> {
+    let mut known: Vec<String> = vec!["assumptions".to_string(), "readiness".to_string()];
+    known.extend(crate::area::explain_items(report).into_iter().map(|i| i.id));
+    // Items the commands explain themselves: each bridging part by its reference, every
+    // power-entry figure and every EMC figure by its JSON name.
+    known.extend(report.bridges.iter().map(|b| b.part.clone()));
+    if let Some(p) = &report.power_entry {
+        known.extend(crate::power_entry::explain_items(p));
+    }
+    if report.emc.is_some() {
+        use crate::emc::explain::{FIGURES, ITEMS};
+        known.extend(ITEMS.iter().map(|(name, _)| name.to_string()));
+        known.extend(FIGURES.iter().map(|(field, _)| format!("emc.{field}")));
+    }
+    known.extend(report.findings.iter().map(|f| f.id.clone()));
+    known.sort();
+    known.dedup();
+    known
+}
+
 fn severity_word(s: Severity) -> &'static str {
     s.as_str()
-}
-
-fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>) {
-    use crate::spacing::show;
-    let declared = |d: Option<f64>| {
-        d.map(|d| format!("{} mm", show(d)))
-            .unwrap_or_else(|| "not declared".to_string())
-    };
-    for (what, required, laid_out, steps) in [
-        (
-            "clearance",
-            b.required_clearance_mm,
-            b.clearance_mm,
-            &b.derivation.clearance,
-        ),
-        (
-            "creepage",
-            b.required_creepage_mm,
-            b.creepage_mm,
-            &b.derivation.creepage,
-        ),
-    ] {
-        if figure.is_some_and(|f| f != what) {
-            continue;
-        }
-        out.push_str(&format!(
-            "{}.{what}: required {} mm, laid out {} ({} insulation, verdict {})\n",
-            b.id,
-            show(required),
-            declared(laid_out),
-            b.grade.as_str(),
-            b.verdict.as_str()
-        ));
-        let governed_by = if what == "clearance" {
-            b.clearance_governed_by
-        } else {
-            b.creepage_governed_by
-        };
-        out.push_str(&format!("  set by: {}\n", governed_by_words(governed_by)));
-        if what == "clearance"
-            && b.standard == "iec62368-1"
-            && let (Some(t), Some(s), Some(v)) = (
-                b.transient_clearance_mm,
-                b.steady_state_clearance_mm,
-                b.steady_state_peak_v,
-            )
-        {
-            out.push_str(&format!(
-                "  procedure 1 (IEC 62368-1 Table 10 at {} V peak) {} mm; procedure 2 (Table 14 by the withstand voltage) {} mm; the larger governs\n",
-                show(v),
-                show(s),
-                show(t)
-            ));
-        } else if what == "clearance"
-            && let (Some(t), Some(s), Some(v)) = (
-                b.transient_clearance_mm,
-                b.steady_state_clearance_mm,
-                b.steady_state_peak_v,
-            )
-        {
-            out.push_str(&format!(
-                "  transient requirement (Table F.2) {} mm; steady-state requirement (Table F.8, read at {} V) {} mm; the larger governs\n",
-                show(t),
-                show(v),
-                show(s)
-            ));
-        }
-        if what == "creepage"
-            && let Some(f) = &b.functional_figures
-        {
-            out.push_str(&format!(
-                "  functional insulation: creepage table {} mm, IPC-2221B column {} {} mm; the larger governs; a shortfall is a warning (the end-product standard may accept a passed fault test instead)\n",
-                show(f.creepage_table_mm),
-                f.ipc2221b_column,
-                show(f.ipc2221b_spacing_mm)
-            ));
-        }
-        for (i, s) in steps.iter().enumerate() {
-            let rule = s
-                .rule
-                .as_deref()
-                .map(|r| format!(" [{r}]"))
-                .unwrap_or_default();
-            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
-        }
-    }
-    if figure.is_none_or(|f| f == "electric_strength") {
-        let shown = |v: Option<f64>, unit: &str| {
-            v.map(|v| format!("{} {unit}", show(v)))
-                .unwrap_or_else(|| "none".to_string())
-        };
-        out.push_str(&format!(
-            "{}.electric_strength: {} a.c., {} peak or d.c. ({}; {})\n",
-            b.id,
-            shown(b.test_v_rms, "V rms"),
-            shown(b.test_v_dc, "V"),
-            b.standard_title,
-            b.test_v_basis
-        ));
-        for (i, s) in b.derivation.electric_strength.iter().enumerate() {
-            let rule = s
-                .rule
-                .as_deref()
-                .map(|r| format!(" [{r}]"))
-                .unwrap_or_default();
-            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
-        }
-    }
-}
-
-/// What a `*_governed_by` value means, for `explain`.
-fn governed_by_words(value: &str) -> String {
-    let words = match value {
-        "transient" => "the transient requirement (IEC 60664-1 Table F.2 at the impulse voltage)",
-        "steady-state" => {
-            "the steady-state requirement (IEC 60664-1 Table F.8 at the working peak voltage)"
-        }
-        "pollution-degree-minimum" => "the pollution-degree minimum",
-        "ipc2221b" => "IPC-2221B conductor spacing (functional insulation on a board)",
-        "creepage-table" => "the creepage table (IEC 60664-1 Table F.5)",
-        "clearance" => "the required clearance (creepage is never less)",
-        "house-minimum" => "a house minimum",
-        "procedure-1" => "IEC 62368-1 procedure 1 (Table 10 by the peak working voltage)",
-        "procedure-2" => "IEC 62368-1 procedure 2 (Table 14 by the required withstand voltage)",
-        "mopp-table" => "the IEC 60601-1 MOPP table (by working voltage)",
-        "moop-table" => "the IEC 60601-1 MOOP row carried",
-        other => other,
-    };
-    format!("{words} [{value}]")
 }
 
 /// A list of the loaded tables, or the full text of one.
@@ -1377,6 +1226,7 @@ fn spacing_table(b: &BarrierResult) -> String {
         crate::spacing::Verdict::CheckInput => {
             "CHECK-INPUT: it would pass only on an implausible value (see the warnings)"
         }
+        crate::spacing::Verdict::NotJudged => "NOT JUDGED: nothing to compare",
     };
     out.push_str(&format!("\nverdict: {verdict_words}\n"));
     for (what, steps) in [
@@ -1403,7 +1253,7 @@ pub fn spacing_exit_status(result: &BarrierResult) -> ExitStatus {
     use crate::spacing::Verdict;
     match result.verdict {
         Verdict::Fail | Verdict::CheckInput => ExitStatus::NotReady,
-        Verdict::Pass | Verdict::Incomplete => ExitStatus::Ready,
+        Verdict::Pass | Verdict::Incomplete | Verdict::NotJudged => ExitStatus::Ready,
     }
 }
 

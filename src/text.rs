@@ -11,6 +11,12 @@ use std::borrow::Cow;
 /// joiners; the byte-order mark; invisible operators; tag characters). Each of these can
 /// clear a terminal, set its title, or make an id read as another one.
 pub fn is_hazardous(c: char) -> bool {
+    // Printable ASCII, newline and tab, the bulk of every report, in two comparisons: this
+    // runs for every character written.
+    let code = c as u32;
+    if code < 0x7f {
+        return code < 0x20 && c != '\n' && c != '\t';
+    }
     matches!(c,
         '\u{0}'..='\u{8}'
         | '\u{b}'..='\u{1f}'
@@ -38,7 +44,12 @@ fn marker(c: char) -> String {
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
 pub fn visible(text: &str) -> Cow<'_, str> {
-    if !text.chars().any(is_hazardous) {
+    // Printable ASCII with newlines and tabs, most text, is decided a byte at a time.
+    if text
+        .bytes()
+        .all(|b| (0x20..0x7f).contains(&b) || b == b'\n' || b == b'\t')
+        || !text.chars().any(is_hazardous)
+    {
         return Cow::Borrowed(text);
     }
     let mut out = String::with_capacity(text.len() + 16);

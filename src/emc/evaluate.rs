@@ -14,7 +14,7 @@ use super::{
     Damping, DeclaredFilter, EmcDerivation, EmcReport, EmcSpec, LimitLineOut, Middlebrook,
     NoisePoint, PrescanDetector, YArrangement,
 };
-use crate::power_entry::{Verdict, rests_on_suspicious};
+use crate::derivation::{Suspicious, Verdict};
 use crate::project::ProtectionClass;
 use crate::raw::Span;
 use crate::spacing::{Step, round_up, show, tidy};
@@ -69,8 +69,8 @@ pub struct EmcInputs {
     pub pfc_stage: bool,
     /// The lowest mains voltage (rms), the PFC stage's input.
     pub min_mains_v: f64,
-    /// Keys of inputs flagged implausible: a figure resting on one is never `pass`.
-    pub suspicious_keys: Vec<String>,
+    /// Inputs flagged implausible: a figure resting on one is never `pass`.
+    pub suspicious: Suspicious,
 }
 
 /// An input the evaluation cannot use, with where it was written when known.
@@ -176,15 +176,311 @@ fn governing(candidates: &[Candidate], indices: &[usize], slope: f64) -> Option<
 
 /// Computes the EMC figures. Every frequency outside the limits' band is reported, not
 /// only the first.
+/// The limit class, margin and measuring network the evaluation works with (defaults
+/// listed as assumptions).
+struct Settings {
+    class: LimitClass,
+    margin_db: f64,
+    network: Network,
+}
+
+/// The noise to beat: every point (measured or estimated) with its limit, and which
+/// points each filter mode must meet.
+struct Noise {
+    source: &'static str,
+    candidates: Vec<Candidate>,
+    dm_indices: Vec<usize>,
+    cm_indices: Vec<usize>,
+    harmonics_evaluated: usize,
+    gaps: Vec<String>,
+}
+
+/// The points that govern the corners, and the corners (second order, rounded down).
+struct Corners<'a> {
+    all: Vec<usize>,
+    overall: Option<(usize, f64)>,
+    dm2: Option<(usize, f64)>,
+    dm4: Option<(usize, f64)>,
+    cm2: Option<(usize, f64)>,
+    cm4: Option<(usize, f64)>,
+    max_required: Option<&'a Candidate>,
+    dm_corner_hz: Option<f64>,
+    cm_corner_hz: Option<f64>,
+}
+
+/// The touch-current cap on the Y capacitance and the Y capacitance declared or used.
+struct YCapacitance {
+    max_y_capacitance_nf: Option<f64>,
+    arrangement: YArrangement,
+    /// Per line, exact.
+    y_exact_nf: Option<f64>,
+    y_capacitance_from: Option<String>,
+    /// The common-mode capacitance the declaration stands for, exact.
+    declared_cm_nf: Option<f64>,
+    y_capacitance_nf: Option<f64>,
+    y_used_nf: Option<f64>,
+    y_capped: bool,
+}
+
+/// The inductances that put the corners where they must be.
+struct Inductances {
+    x_capacitance_uf: Option<f64>,
+    dm_inductance_for_corner_uh: Option<f64>,
+    cm_capacitance_used_nf: Option<f64>,
+    cm_inductance_for_corner_mh: Option<f64>,
+}
+
+/// What "after the filter" means: the declared stages judged by their insertion loss, or
+/// a required corner by its asymptote.
+struct AfterFilter<'a> {
+    line: NetworkLine,
+    dm_stage: Option<TwoPort>,
+    cm_stage: Option<TwoPort>,
+    dm_source: f64,
+    cm_source: f64,
+    dm_after: Option<(f64, &'static str)>,
+    cm_after: Option<(f64, &'static str)>,
+    text: String,
+    margin_db: f64,
+    estimate_keys: Vec<String>,
+    suspicious: &'a Suspicious,
+}
+
+impl AfterFilter<'_> {
+    // Differential mode sees two lines in series; common mode both lines in parallel.
+    fn dm_il(&self, hz: f64) -> Option<f64> {
+        self.dm_stage.map(|st| {
+            let z = self.line.impedance(hz);
+            insertion_loss_db(&st, self.dm_source, z.plus(z), hz)
+        })
+    }
+
+    fn cm_il(&self, hz: f64) -> Option<f64> {
+        self.cm_stage.map(|st| {
+            let z = self.line.impedance(hz);
+            insertion_loss_db(&st, self.cm_source, z.over(Complex::new(2.0, 0.0)), hz)
+        })
+    }
+
+    fn attenuation_at(corner: Option<(f64, &str)>, hz: f64) -> f64 {
+        corner.map_or(0.0, |(c, _)| {
+            asymptotic_attenuation_db(c, hz, SECOND_ORDER_DB)
+        })
+    }
+
+    /// A point after the filter: the filter's attenuation there, the level after it, and
+    /// the verdict (made on the unrounded figures, settled against implausible inputs).
+    fn judge(&self, c: &Candidate) -> (f64, f64, Verdict) {
+        let (dm_stage, cm_stage, margin_db) = (self.dm_stage, self.cm_stage, self.margin_db);
+        let dm = self
+            .dm_il(c.frequency_hz)
+            .unwrap_or_else(|| Self::attenuation_at(self.dm_after, c.frequency_hz));
+        let cm = self
+            .cm_il(c.frequency_hz)
+            .unwrap_or_else(|| Self::attenuation_at(self.cm_after, c.frequency_hz));
+        let (filter_db, judged_by_declared) = match c.mode {
+            "differential" => (dm, dm_stage.is_some()),
+            "common" => (cm, cm_stage.is_some()),
+            _ => (dm.min(cm), dm_stage.is_some() && cm_stage.is_some()),
+        };
+        let after = c.level_dbuv - filter_db;
+        let verdict = if c.required_db <= 0.0 {
+            Verdict::Pass
+        } else if judged_by_declared {
+            Verdict::of(Some(after > c.limit_dbuv - margin_db))
+        } else {
+            Verdict::NotJudged
+        };
+        let keys: Vec<String> = match c.key_prefix.as_deref() {
+            Some(k) => vec![
+                k.to_string(),
+                "emc.filter".to_string(),
+                "emc.margin_db".to_string(),
+            ],
+            None => self.estimate_keys.clone(),
+        };
+        (filter_db, after, self.suspicious.settle(verdict, &keys))
+    }
+}
+
+/// Middlebrook's criterion, where it applies, and why not where it does not.
+struct MiddlebrookPhase {
+    middlebrook: Option<Middlebrook>,
+    middlebrook_applies: bool,
+    middlebrook_not_applied: Option<String>,
+}
+
+/// Computes the EMC figures, phase by phase: the settings, the noise to beat, the corners
+/// it needs, the touch-current cap on the Y capacitance, the inductances for the corners,
+/// the declared filter, the points after the filter, Middlebrook's criterion, the limit
+/// lines, and the verdicts. Every frequency outside the limits' band is reported, not only
+/// the first.
 pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<InputProblem>> {
-    let spec = &inputs.spec;
     let model = &rules.model;
+    let band = rules.limits.band_hz();
     let mut assumptions: Vec<String> = Vec::new();
     let mut d = EmcDerivation::default();
-    let limits_id = rules.limits.id.as_str();
-    let model_id = model.id.as_str();
-    let band = rules.limits.band_hz();
 
+    let settings = settings(inputs, rules, &mut assumptions);
+    let (class, margin_db) = (settings.class, settings.margin_db);
+    let noise = noise_to_beat(
+        inputs,
+        rules,
+        &settings,
+        &mut assumptions,
+        &mut d.noise.steps,
+    )?;
+    let corners = corners(&noise, margin_db, &mut d);
+    let y = y_capacitance(inputs, &mut assumptions, &mut d.y_capacitance.steps);
+    let inductances = inductances(inputs, &corners, &y, &mut d);
+    let f = &inputs.spec.filter;
+    let declared = declared_filter(f, y.declared_cm_nf, &mut d.filter.steps);
+    let after = after_filter(
+        inputs,
+        rules,
+        &corners,
+        declared.as_ref(),
+        y.declared_cm_nf,
+        margin_db,
+        &mut d.filter.steps,
+    );
+    let points = report_points(&noise, &corners, &after);
+    let MiddlebrookPhase {
+        middlebrook,
+        middlebrook_applies,
+        middlebrook_not_applied,
+    } = middlebrook_phase(inputs, rules, &inductances, &mut d.middlebrook.steps);
+    let limit_lines = limit_lines(rules, class, &mut d.limit.steps);
+    let verdicts = verdicts(inputs, &noise, &corners, &y, middlebrook.as_ref(), &after);
+
+    let Noise {
+        source: noise_source,
+        candidates,
+        harmonics_evaluated,
+        gaps: noise_gaps,
+        ..
+    } = &noise;
+    let (candidates, noise_source, harmonics_evaluated, noise_gaps) = (
+        candidates,
+        *noise_source,
+        *harmonics_evaluated,
+        noise_gaps.clone(),
+    );
+    let Corners {
+        overall,
+        dm2,
+        dm4,
+        cm2,
+        cm4,
+        max_required,
+        dm_corner_hz,
+        cm_corner_hz,
+        ..
+    } = corners;
+    let YCapacitance {
+        max_y_capacitance_nf,
+        arrangement,
+        y_capacitance_from,
+        y_capacitance_nf,
+        y_used_nf,
+        ..
+    } = y;
+    let Inductances {
+        dm_inductance_for_corner_uh,
+        cm_capacitance_used_nf,
+        cm_inductance_for_corner_mh,
+        ..
+    } = inductances;
+    let (max_mains_v, max_mains_frequency_hz) = (inputs.max_mains_v, inputs.max_mains_frequency_hz);
+    let after_filter = after.text;
+    let governing_point = overall.and_then(|(i, _)| candidates.get(i));
+    // Each topic's derivation carries its figure and verdict, as every area's do.
+    for (topic, value, unit, verdict) in [
+        (
+            &mut d.limit,
+            governing_point.map(|c| c.limit_dbuv),
+            "dBuV",
+            None,
+        ),
+        (
+            &mut d.attenuation,
+            governing_point.map(|c| c.required_db),
+            "dB",
+            None,
+        ),
+        (&mut d.dm_corner, dm_corner_hz, "Hz", Some("dm_corner_hz")),
+        (&mut d.cm_corner, cm_corner_hz, "Hz", Some("cm_corner_hz")),
+        (
+            &mut d.y_capacitance,
+            max_y_capacitance_nf,
+            "nF",
+            Some("y_capacitance_nf"),
+        ),
+        (&mut d.middlebrook, None, "", Some("middlebrook")),
+    ] {
+        topic.value = value;
+        topic.unit = unit.into();
+        topic.verdict = verdict.and_then(|v| verdicts.get(v).copied());
+    }
+    Ok(EmcReport {
+        limit_class: class,
+        margin_db,
+        band_hz: [band.0, band.1],
+        noise_source,
+        governing_frequency_hz: governing_point.map(|c| tidy(c.frequency_hz)),
+        governing_mode: governing_point.map(|c| c.mode),
+        governing_detector: governing_point.map(|c| c.compared_with.as_str()),
+        limit_dbuv: governing_point.map(|c| round_to(c.limit_dbuv, 0.01)),
+        required_attenuation_db: governing_point.map(|c| round_up(c.required_db, 0.01)),
+        max_required_attenuation_db: max_required.map(|c| round_up(c.required_db, 0.01)),
+        max_required_attenuation_hz: max_required.map(|c| tidy(c.frequency_hz)),
+        dm_corner_hz,
+        dm_governing_frequency_hz: dm2
+            .and_then(|(i, _)| candidates.get(i))
+            .map(|c| tidy(c.frequency_hz)),
+        dm_corner_fourth_order_hz: dm4.map(|(_, f)| corner_down(f)),
+        dm_inductance_for_corner_uh,
+        cm_corner_hz,
+        cm_governing_frequency_hz: cm2
+            .and_then(|(i, _)| candidates.get(i))
+            .map(|c| tidy(c.frequency_hz)),
+        cm_corner_fourth_order_hz: cm4.map(|(_, f)| corner_down(f)),
+        cm_inductance_for_corner_mh,
+        max_y_capacitance_nf,
+        touch_current_standard: inputs.touch_standard.clone(),
+        touch_current_part: inputs.touch_part.clone(),
+        touch_current_limit_ma: inputs.touch_limit.as_ref().map(|t| t.limit_ma),
+        max_mains_v: tidy(max_mains_v),
+        max_mains_frequency_hz: tidy(max_mains_frequency_hz),
+        y_capacitance_judged_by_power_entry: f.y_capacitance_nf.is_none()
+            && inputs.y_parts_judged_by_power_entry,
+        y_capacitance_nf,
+        y_capacitance_from,
+        y_arrangement: arrangement,
+        y_capacitance_used_nf: y_used_nf.map(tidy),
+        cm_capacitance_used_nf: cm_capacitance_used_nf.map(tidy),
+        single_stage_practical_db: model.single_stage_practical_db.value,
+        two_stage_practical_db: model.two_stage_practical_db.value,
+        filter: declared,
+        converter_figures_available: inputs.converter.is_some(),
+        noise_gaps,
+        middlebrook,
+        middlebrook_applies,
+        middlebrook_not_applied,
+        verdicts,
+        after_filter,
+        points,
+        harmonics_evaluated,
+        limit_lines,
+        assumptions,
+        derivation: d,
+    })
+}
+
+/// The limit class and margin (or their defaults) and the measuring network.
+fn settings(inputs: &EmcInputs, rules: &EmcRules, assumptions: &mut Vec<String>) -> Settings {
+    let spec = &inputs.spec;
+    let model = &rules.model;
     let class = spec.limit_class.unwrap_or_else(|| {
         assumptions.push(
             "Limit class B, the stricter (limit_class not stated in the emc table).".to_string(),
@@ -203,200 +499,57 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         line_impedance_ohm: model.line_impedance_ohm.value,
         common_mode_impedance_ohm: model.common_mode_impedance_ohm.value,
     };
-
-    let max_mains_v = inputs.max_mains_v;
-    let max_mains_frequency_hz = inputs.max_mains_frequency_hz;
     assumptions.extend(inputs.assumptions.iter().cloned());
-    let mut noise_gaps: Vec<String> = Vec::new();
+    Settings {
+        class,
+        margin_db,
+        network,
+    }
+}
 
-    // --- The noise to beat -------------------------------------------------------------
+/// The noise to beat: the prescan points, or the estimate from the converter's figures,
+/// or nothing; each point with the limit it is compared with and the attenuation it needs.
+fn noise_to_beat(
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    settings: &Settings,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+) -> Result<Noise, Vec<InputProblem>> {
+    let mut noise = Noise {
+        source: "none",
+        candidates: Vec::new(),
+        dm_indices: Vec::new(),
+        cm_indices: Vec::new(),
+        harmonics_evaluated: 0,
+        gaps: Vec::new(),
+    };
     let mut problems = Vec::new();
-    let mut candidates: Vec<Candidate> = Vec::new();
-    let mut dm_indices = Vec::new();
-    let mut cm_indices = Vec::new();
-    let mut harmonics_evaluated = 0usize;
-    let noise_source: &'static str;
-    if !spec.prescan.is_empty() {
-        noise_source = "prescan";
-        d.noise.push(Step::new(
-            None,
-            format!(
-                "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
-                spec.prescan.len()
-            ),
-        ));
-        for p in &spec.prescan {
-            let detectors: &[Detector] = match p.detector {
-                // A switching harmonic is a continuous wave: the average detector reads
-                // about what quasi-peak reads, so a quasi-peak reading meets both limits.
-                PrescanDetector::QuasiPeak => &[Detector::QuasiPeak, Detector::Average],
-                PrescanDetector::Average => &[Detector::Average],
-                PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
-            };
-            match binding_limit(rules, class, detectors, p.frequency_hz) {
-                Ok((det, limit, limit_step)) => {
-                    let i = candidates.len();
-                    candidates.push(Candidate {
-                        frequency_hz: p.frequency_hz,
-                        mode: "measured",
-                        harmonic: None,
-                        detector: p.detector.as_str(),
-                        compared_with: det,
-                        level_dbuv: p.level_dbuv,
-                        limit_dbuv: limit,
-                        limit_step,
-                        required_db: p.level_dbuv - limit + margin_db,
-                        key_prefix: Some(p.key.trim_end_matches(".frequency_hz").to_string()),
-                    });
-                    dm_indices.push(i);
-                    cm_indices.push(i);
-                }
-                Err(e) => problems.push(InputProblem {
-                    key: p.key.clone(),
-                    span: Some(p.span.clone()),
-                    message: e.message,
-                }),
-            }
-        }
-        if spec
-            .prescan
-            .iter()
-            .any(|p| p.detector == PrescanDetector::QuasiPeak)
-        {
-            assumptions.push(
-                "Quasi-peak readings are held against the average limit too (the lower governs): a switching harmonic is a continuous wave, for which the average detector reads about what quasi-peak reads (common practice of pre-compliance work, no published source)."
-                    .to_string(),
-            );
-        }
-        if spec
-            .prescan
-            .iter()
-            .any(|p| p.detector == PrescanDetector::Peak)
-        {
-            assumptions.push(
-                "Peak readings are held against the lower of the quasi-peak and average limits (a peak reading is never below either; conservative)."
-                    .to_string(),
-            );
-        }
-        assumptions.push(
-            "Prescan points do not say whether their noise is differential or common mode: both corners are sized for the full measured level."
-                .to_string(),
+    if !inputs.spec.prescan.is_empty() {
+        noise.source = "prescan";
+        prescan_points(
+            inputs,
+            rules,
+            settings,
+            assumptions,
+            steps,
+            &mut noise,
+            &mut problems,
         );
     } else if let Some(c) = &inputs.converter {
-        noise_source = "estimate";
-        let parasitic_pf = spec.parasitic_capacitance_pf.unwrap_or_else(|| {
-            assumptions.push(format!(
-                "Parasitic capacitance from the switch node to earth {} pF (parasitic_capacitance_pf not stated; {}).",
-                show(model.default_parasitic_capacitance_pf.value),
-                model.default_parasitic_capacitance_pf.provenance
-            ));
-            model.default_parasitic_capacitance_pf.value
-        });
-        let swing_v = spec.switch_node_swing_v.unwrap_or_else(|| {
-            let v = model.default_switch_node_swing_factor.value
-                * std::f64::consts::SQRT_2
-                * max_mains_v;
-            assumptions.push(format!(
-                "Switch-node swing {} V = {} x sqrt(2) x {} V (switch_node_swing_v not stated; {}).",
-                show(v),
-                show(model.default_switch_node_swing_factor.value),
-                show(max_mains_v),
-                model.default_switch_node_swing_factor.provenance
-            ));
-            v
-        });
-        let rise_ns = spec.switch_node_rise_time_ns.unwrap_or_else(|| {
-            assumptions.push(format!(
-                "Switch-node rise time {} ns for the common-mode estimate (switch_node_rise_time_ns not stated; {}; {}).",
-                show(model.default_switch_node_rise_time_ns.value),
-                model.default_switch_node_rise_time_ns.source,
-                model.default_switch_node_rise_time_ns.provenance
-            ));
-            model.default_switch_node_rise_time_ns.value
-        });
-        assumptions.push(
-            "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
-                .to_string(),
-        );
-        let dm = match &inputs.bulk {
-            Some(bulk) => noise::differential_mode(c, bulk, &network, band),
-            None => {
-                noise_gaps.push(
-                    "differential-mode noise not estimated: no input table with the bulk capacitor (bulk_capacitance_uf)"
-                        .to_string(),
-                );
-                Ok(Vec::new())
-            }
-        };
-        let cm = noise::common_mode(
+        noise.source = "estimate";
+        estimated_points(
             c,
-            &CommonModePath {
-                switch_node_swing_v: swing_v,
-                parasitic_capacitance_pf: parasitic_pf,
-                rise_time_s: rise_ns * 1e-9,
-            },
-            &network,
-            band,
+            inputs,
+            rules,
+            settings,
+            assumptions,
+            steps,
+            &mut noise,
+            &mut problems,
         );
-        match (dm, cm) {
-            (Ok(dm), Ok(cm)) => {
-                harmonics_evaluated = dm.len() + cm.len();
-                noise_steps(
-                    &mut d.noise,
-                    c,
-                    inputs.bulk.as_ref(),
-                    swing_v,
-                    parasitic_pf,
-                    rise_ns,
-                    model_id,
-                    &network,
-                    &dm,
-                    &cm,
-                );
-                for (mode, list, indices) in [
-                    ("differential", &dm, &mut dm_indices),
-                    ("common", &cm, &mut cm_indices),
-                ] {
-                    for h in list {
-                        match binding_limit(
-                            rules,
-                            class,
-                            &[Detector::QuasiPeak, Detector::Average],
-                            h.frequency_hz,
-                        ) {
-                            Ok((det, limit, limit_step)) => {
-                                indices.push(candidates.len());
-                                candidates.push(Candidate {
-                                    frequency_hz: h.frequency_hz,
-                                    mode,
-                                    harmonic: Some(h.number),
-                                    detector: "estimate",
-                                    compared_with: det,
-                                    level_dbuv: h.level_dbuv,
-                                    limit_dbuv: limit,
-                                    limit_step,
-                                    required_db: h.level_dbuv - limit + margin_db,
-                                    key_prefix: None,
-                                });
-                            }
-                            Err(e) => problems.push(InputProblem {
-                                key: "converter.switching_hz".to_string(),
-                                span: None,
-                                message: e.message,
-                            }),
-                        }
-                    }
-                }
-            }
-            (Err(e), _) | (_, Err(e)) => problems.push(InputProblem {
-                key: "emc".to_string(),
-                span: None,
-                message: format!("the noise estimate cannot be made: {e}"),
-            }),
-        }
     } else {
-        noise_source = "none";
-        d.noise.push(Step::new(
+        steps.push(Step::new(
             None,
             "No prescan points and no converter figures: the noise to beat is not known, so no attenuation or corner is computed.",
         ));
@@ -404,14 +557,241 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     if !problems.is_empty() {
         return Err(problems);
     }
+    Ok(noise)
+}
 
-    // --- Required attenuation and corners ------------------------------------------------
+/// The prescan points, each held against both filter modes (their mode is not known).
+fn prescan_points(
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    settings: &Settings,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+    noise: &mut Noise,
+    problems: &mut Vec<InputProblem>,
+) {
+    let spec = &inputs.spec;
+    let (class, margin_db) = (settings.class, settings.margin_db);
+    let Noise {
+        candidates,
+        dm_indices,
+        cm_indices,
+        ..
+    } = noise;
+    steps.push(Step::new(
+        None,
+        format!(
+            "{} prescan point(s) measured without the filter; their mode (differential or common) is not known, so each is held against both filter modes.",
+            spec.prescan.len()
+        ),
+    ));
+    for p in &spec.prescan {
+        let detectors: &[Detector] = match p.detector {
+            // A switching harmonic is a continuous wave: the average detector reads
+            // about what quasi-peak reads, so a quasi-peak reading meets both limits.
+            PrescanDetector::QuasiPeak => &[Detector::QuasiPeak, Detector::Average],
+            PrescanDetector::Average => &[Detector::Average],
+            PrescanDetector::Peak => &[Detector::QuasiPeak, Detector::Average],
+        };
+        match binding_limit(rules, class, detectors, p.frequency_hz) {
+            Ok((det, limit, limit_step)) => {
+                let i = candidates.len();
+                candidates.push(Candidate {
+                    frequency_hz: p.frequency_hz,
+                    mode: "measured",
+                    harmonic: None,
+                    detector: p.detector.as_str(),
+                    compared_with: det,
+                    level_dbuv: p.level_dbuv,
+                    limit_dbuv: limit,
+                    limit_step,
+                    required_db: p.level_dbuv - limit + margin_db,
+                    key_prefix: Some(p.key.trim_end_matches(".frequency_hz").to_string()),
+                });
+                dm_indices.push(i);
+                cm_indices.push(i);
+            }
+            Err(e) => problems.push(InputProblem {
+                key: p.key.clone(),
+                span: Some(p.span.clone()),
+                message: e.message,
+            }),
+        }
+    }
+    if spec
+        .prescan
+        .iter()
+        .any(|p| p.detector == PrescanDetector::QuasiPeak)
+    {
+        assumptions.push(
+            "Quasi-peak readings are held against the average limit too (the lower governs): a switching harmonic is a continuous wave, for which the average detector reads about what quasi-peak reads (common practice of pre-compliance work, no published source)."
+                .to_string(),
+        );
+    }
+    if spec
+        .prescan
+        .iter()
+        .any(|p| p.detector == PrescanDetector::Peak)
+    {
+        assumptions.push(
+            "Peak readings are held against the lower of the quasi-peak and average limits (a peak reading is never below either; conservative)."
+                .to_string(),
+        );
+    }
+    assumptions.push(
+        "Prescan points do not say whether their noise is differential or common mode: both corners are sized for the full measured level."
+            .to_string(),
+    );
+}
+
+/// The switching harmonics estimated from the converter's figures: differential mode
+/// through the bulk capacitor, common mode through the parasitic capacitance to earth.
+#[allow(clippy::too_many_arguments)]
+fn estimated_points(
+    c: &ConverterFigures,
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    settings: &Settings,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+    noise: &mut Noise,
+    problems: &mut Vec<InputProblem>,
+) {
+    let spec = &inputs.spec;
+    let model = &rules.model;
+    let model_id = model.id.as_str();
+    let band = rules.limits.band_hz();
+    let (class, margin_db, network) = (settings.class, settings.margin_db, settings.network);
+    let max_mains_v = inputs.max_mains_v;
+    let Noise {
+        candidates,
+        dm_indices,
+        cm_indices,
+        harmonics_evaluated,
+        gaps: noise_gaps,
+        ..
+    } = noise;
+    let parasitic_pf = spec.parasitic_capacitance_pf.unwrap_or_else(|| {
+        assumptions.push(format!(
+            "Parasitic capacitance from the switch node to earth {} pF (parasitic_capacitance_pf not stated; {}).",
+            show(model.default_parasitic_capacitance_pf.value),
+            model.default_parasitic_capacitance_pf.provenance
+        ));
+        model.default_parasitic_capacitance_pf.value
+    });
+    let swing_v = spec.switch_node_swing_v.unwrap_or_else(|| {
+        let v =
+            model.default_switch_node_swing_factor.value * std::f64::consts::SQRT_2 * max_mains_v;
+        assumptions.push(format!(
+            "Switch-node swing {} V = {} x sqrt(2) x {} V (switch_node_swing_v not stated; {}).",
+            show(v),
+            show(model.default_switch_node_swing_factor.value),
+            show(max_mains_v),
+            model.default_switch_node_swing_factor.provenance
+        ));
+        v
+    });
+    let rise_ns = spec.switch_node_rise_time_ns.unwrap_or_else(|| {
+        assumptions.push(format!(
+            "Switch-node rise time {} ns for the common-mode estimate (switch_node_rise_time_ns not stated; {}; {}).",
+            show(model.default_switch_node_rise_time_ns.value),
+            model.default_switch_node_rise_time_ns.source,
+            model.default_switch_node_rise_time_ns.provenance
+        ));
+        model.default_switch_node_rise_time_ns.value
+    });
+    assumptions.push(
+        "Estimated harmonics are taken as continuous sines: quasi-peak and average readings equal their rms value, so each is held against the lower (average) limit."
+            .to_string(),
+    );
+    let dm = match &inputs.bulk {
+        Some(bulk) => noise::differential_mode(c, bulk, &network, band),
+        None => {
+            noise_gaps.push(
+                "differential-mode noise not estimated: no input table with the bulk capacitor (bulk_capacitance_uf)"
+                    .to_string(),
+            );
+            Ok(Vec::new())
+        }
+    };
+    let cm = noise::common_mode(
+        c,
+        &CommonModePath {
+            switch_node_swing_v: swing_v,
+            parasitic_capacitance_pf: parasitic_pf,
+            rise_time_s: rise_ns * 1e-9,
+        },
+        &network,
+        band,
+    );
+    match (dm, cm) {
+        (Ok(dm), Ok(cm)) => {
+            *harmonics_evaluated = dm.len() + cm.len();
+            noise_steps(
+                steps,
+                c,
+                inputs.bulk.as_ref(),
+                swing_v,
+                parasitic_pf,
+                rise_ns,
+                model_id,
+                &network,
+                &dm,
+                &cm,
+            );
+            for (mode, list, indices) in [
+                ("differential", &dm, &mut *dm_indices),
+                ("common", &cm, &mut *cm_indices),
+            ] {
+                for h in list {
+                    match binding_limit(
+                        rules,
+                        class,
+                        &[Detector::QuasiPeak, Detector::Average],
+                        h.frequency_hz,
+                    ) {
+                        Ok((det, limit, limit_step)) => {
+                            indices.push(candidates.len());
+                            candidates.push(Candidate {
+                                frequency_hz: h.frequency_hz,
+                                mode,
+                                harmonic: Some(h.number),
+                                detector: "estimate",
+                                compared_with: det,
+                                level_dbuv: h.level_dbuv,
+                                limit_dbuv: limit,
+                                limit_step,
+                                required_db: h.level_dbuv - limit + margin_db,
+                                key_prefix: None,
+                            });
+                        }
+                        Err(e) => problems.push(InputProblem {
+                            key: "converter.switching_hz".to_string(),
+                            span: None,
+                            message: e.message,
+                        }),
+                    }
+                }
+            }
+        }
+        (Err(e), _) | (_, Err(e)) => problems.push(InputProblem {
+            key: "emc".to_string(),
+            span: None,
+            message: format!("the noise estimate cannot be made: {e}"),
+        }),
+    }
+}
+
+/// The required attenuation and the corners that meet every point, by mode and order.
+fn corners<'a>(noise: &'a Noise, margin_db: f64, d: &mut EmcDerivation) -> Corners<'a> {
+    let (candidates, dm_indices, cm_indices) =
+        (&noise.candidates, &noise.dm_indices, &noise.cm_indices);
     let all: Vec<usize> = (0..candidates.len()).collect();
-    let overall = governing(&candidates, &all, SECOND_ORDER_DB);
-    let dm2 = governing(&candidates, &dm_indices, SECOND_ORDER_DB);
-    let dm4 = governing(&candidates, &dm_indices, FOURTH_ORDER_DB);
-    let cm2 = governing(&candidates, &cm_indices, SECOND_ORDER_DB);
-    let cm4 = governing(&candidates, &cm_indices, FOURTH_ORDER_DB);
+    let overall = governing(candidates, &all, SECOND_ORDER_DB);
+    let dm2 = governing(candidates, dm_indices, SECOND_ORDER_DB);
+    let dm4 = governing(candidates, dm_indices, FOURTH_ORDER_DB);
+    let cm2 = governing(candidates, cm_indices, SECOND_ORDER_DB);
+    let cm4 = governing(candidates, cm_indices, FOURTH_ORDER_DB);
     let max_required = candidates
         .iter()
         .max_by(|a, b| a.required_db.total_cmp(&b.required_db));
@@ -454,26 +834,46 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         ));
     }
     corner_steps(
-        &mut d.dm_corner,
+        &mut d.dm_corner.steps,
         "Differential-mode",
-        &candidates,
+        candidates,
         dm_indices.len(),
         dm2,
         dm4,
     );
     corner_steps(
-        &mut d.cm_corner,
+        &mut d.cm_corner.steps,
         "Common-mode",
-        &candidates,
+        candidates,
         cm_indices.len(),
         cm2,
         cm4,
     );
     let dm_corner_hz = dm2.map(|(_, f)| corner_down(f));
     let cm_corner_hz = cm2.map(|(_, f)| corner_down(f));
+    Corners {
+        all,
+        overall,
+        dm2,
+        dm4,
+        cm2,
+        cm4,
+        max_required,
+        dm_corner_hz,
+        cm_corner_hz,
+    }
+}
 
-    // --- Touch current caps the Y capacitance --------------------------------------------
-    d.y_capacitance.push(Step::new(
+/// The touch-current limit caps the Y capacitance; the Y capacitance declared (in the
+/// filter table or as parts) and the one the common-mode corner is sized with.
+fn y_capacitance(
+    inputs: &EmcInputs,
+    assumptions: &mut Vec<String>,
+    steps: &mut Vec<Step>,
+) -> YCapacitance {
+    let spec = &inputs.spec;
+    let (max_mains_v, max_mains_frequency_hz) = (inputs.max_mains_v, inputs.max_mains_frequency_hz);
+    steps.push(Step::new(
         None,
         if inputs.mains_from_power_entry {
             format!(
@@ -495,7 +895,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             let max_y_f =
                 limit_a / (2.0 * std::f64::consts::PI * max_mains_frequency_hz * max_mains_v);
             let max_y = round_down(max_y_f * 1e9, 0.001);
-            d.y_capacitance.push(Step::new(
+            steps.push(Step::new(
                 Some(&t.rule),
                 format!(
                     "Touch-current limit {} mA for a {} part under {} ({}).",
@@ -505,7 +905,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                     t.source
                 ),
             ));
-            d.y_capacitance.push(Step::new(
+            steps.push(Step::new(
                 None,
                 format!(
                     "Largest Y capacitance from one line: C = I / (2 pi f V) = {} mA / (2 pi x {} Hz x {} V) = {} nF (rounded down), at the highest mains voltage and frequency.",
@@ -518,7 +918,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             (max_y_f.is_finite() && max_y_f > 0.0).then_some(max_y)
         }
         None => {
-            d.y_capacitance.push(Step::new(
+            steps.push(Step::new(
                 None,
                 format!(
                     "The touch-current rules give no limit for a {} part under {}: the Y capacitance is not capped.",
@@ -585,7 +985,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             Some(max) => format!("within the cap of {} nF", show(max)),
             None => "not capped".to_string(),
         };
-        d.y_capacitance.push(Step::new(
+        steps.push(Step::new(
             None,
             format!(
                 "Declared Y capacitance per line {} nF, from {}: {verdict}.",
@@ -600,8 +1000,30 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         (None, max) => max,
     };
     let y_capped = matches!((y_exact_nf, max_y_capacitance_nf), (Some(y), Some(max)) if y > max);
+    YCapacitance {
+        max_y_capacitance_nf,
+        arrangement,
+        y_exact_nf,
+        y_capacitance_from,
+        declared_cm_nf,
+        y_capacitance_nf,
+        y_used_nf,
+        y_capped,
+    }
+}
 
-    // --- Inductances for the corners -------------------------------------------------------
+/// The differential-mode inductance and the common-mode choke for the corners.
+fn inductances(
+    inputs: &EmcInputs,
+    corners: &Corners,
+    y: &YCapacitance,
+    d: &mut EmcDerivation,
+) -> Inductances {
+    let spec = &inputs.spec;
+    let (dm_corner_hz, cm_corner_hz) = (corners.dm_corner_hz, corners.cm_corner_hz);
+    let (y_capped, declared_cm_nf, y_used_nf, arrangement) =
+        (y.y_capped, y.declared_cm_nf, y.y_used_nf, y.arrangement);
+    let (y_capacitance_nf, max_y_capacitance_nf) = (y.y_capacitance_nf, y.max_y_capacitance_nf);
     let f = &spec.filter;
     let (x_capacitance_uf, x_from) = match (f.x_capacitance_uf, inputs.input_x_capacitance_uf) {
         (Some(c), _) => (Some(c), "the emc filter table"),
@@ -701,55 +1123,55 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         }
         _ => None,
     };
+    Inductances {
+        x_capacitance_uf,
+        dm_inductance_for_corner_uh,
+        cm_capacitance_used_nf,
+        cm_inductance_for_corner_mh,
+    }
+}
 
-    // --- The declared filter ---------------------------------------------------------------
-    let declared = declared_filter(f, declared_cm_nf, &mut d.filter);
-
-    // --- After the filter ------------------------------------------------------------------
-    // A declared stage is judged by its transfer function (insertion loss between a stated
-    // source impedance and the measuring network, damping and resonance included); a stage
-    // only required (no parts declared) by its 40 dB/decade asymptote.
+/// What the points see after the filter. A declared stage is judged by its transfer
+/// function (insertion loss between a stated source impedance and the measuring network,
+/// damping and resonance included); a stage only required (no parts declared) by its
+/// 40 dB/decade asymptote.
+fn after_filter<'a>(
+    inputs: &'a EmcInputs,
+    rules: &EmcRules,
+    corners: &Corners,
+    declared: Option<&DeclaredFilter>,
+    declared_cm_nf: Option<f64>,
+    margin_db: f64,
+    steps: &mut Vec<Step>,
+) -> AfterFilter<'a> {
+    let model = &rules.model;
+    let model_id = model.id.as_str();
+    let f = &inputs.spec.filter;
+    let (dm_corner_hz, cm_corner_hz) = (corners.dm_corner_hz, corners.cm_corner_hz);
     let line = NetworkLine {
         resistance_ohm: model.line_impedance_ohm.value,
         inductance_h: model.network_inductance_uh.value * 1e-6,
     };
     let dm_stage = match (f.dm_inductance_uh, f.x_capacitance_uf) {
-        (Some(l), Some(c)) if declared.as_ref().is_some_and(|x| x.dm_corner_hz.is_some()) => {
-            Some(TwoPort {
-                series_inductance_h: l * 1e-6,
-                series_resistance_ohm: f.dm_inductor_resistance_ohm.unwrap_or(0.0),
-                shunt_capacitance_f: c * 1e-6,
-                damping: f.damping.map(|(rd, cd)| (rd, cd * 1e-6)),
-            })
-        }
+        (Some(l), Some(c)) if declared.is_some_and(|x| x.dm_corner_hz.is_some()) => Some(TwoPort {
+            series_inductance_h: l * 1e-6,
+            series_resistance_ohm: f.dm_inductor_resistance_ohm.unwrap_or(0.0),
+            shunt_capacitance_f: c * 1e-6,
+            damping: f.damping.map(|(rd, cd)| (rd, cd * 1e-6)),
+        }),
         _ => None,
     };
     let cm_stage = match (f.cm_inductance_mh, declared_cm_nf) {
-        (Some(l), Some(c)) if declared.as_ref().is_some_and(|x| x.cm_corner_hz.is_some()) => {
-            Some(TwoPort {
-                series_inductance_h: l * 1e-3,
-                series_resistance_ohm: 0.0,
-                shunt_capacitance_f: c * 1e-9,
-                damping: None,
-            })
-        }
+        (Some(l), Some(c)) if declared.is_some_and(|x| x.cm_corner_hz.is_some()) => Some(TwoPort {
+            series_inductance_h: l * 1e-3,
+            series_resistance_ohm: 0.0,
+            shunt_capacitance_f: c * 1e-9,
+            damping: None,
+        }),
         _ => None,
     };
     let dm_source = model.dm_source_impedance_ohm.value;
     let cm_source = model.cm_source_impedance_ohm.value;
-    // Differential mode sees two lines in series; common mode both lines in parallel.
-    let dm_il = |hz: f64| {
-        dm_stage.map(|st| {
-            let z = line.impedance(hz);
-            insertion_loss_db(&st, dm_source, z.plus(z), hz)
-        })
-    };
-    let cm_il = |hz: f64| {
-        cm_stage.map(|st| {
-            let z = line.impedance(hz);
-            insertion_loss_db(&st, cm_source, z.over(Complex::new(2.0, 0.0)), hz)
-        })
-    };
     let dm_after = dm_stage
         .is_none()
         .then(|| dm_corner_hz.map(|c| (c, "required")))
@@ -798,7 +1220,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         show(model.network_inductance_uh.value),
         model.network_inductance_uh.source
     );
-    d.filter.push(Step::new(
+    steps.push(Step::new(
         Some(model_id),
         format!(
             "Insertion loss of a declared stage: IL = 20 log10 |V_without / V_with|, V_without = V_s Z_n / (Z_s + Z_n), V_with = V_s Z_p / (Z_s + Z_p) x Z_n / (Z_L + Z_n), Z_p = Z_shunt || (Z_L + Z_n); Z_shunt the X (or Y) capacitance with the damping branch, Z_L the inductance with its resistance, Z_s the source impedance ({} ohm differential, {} ohm common mode; {}), Z_n the measuring network (50 ohm || 50 uH per line). Near the resonance it can be negative: the stage amplifies.",
@@ -807,30 +1229,54 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             model.dm_source_impedance_ohm.provenance
         ),
     ));
-    let attenuation_at = |corner: Option<(f64, &str)>, hz: f64| {
-        corner.map_or(0.0, |(c, _)| {
-            asymptotic_attenuation_db(c, hz, SECOND_ORDER_DB)
-        })
-    };
-    let suspicious: Vec<&str> = inputs.suspicious_keys.iter().map(String::as_str).collect();
-    let estimate_keys: Vec<String> = [
-        "converter",
-        "input.bulk_capacitance_uf",
-        "input.series_resistance_ohm",
-        "emc.parasitic_capacitance_pf",
-        "emc.switch_node_",
-        "emc.filter",
-        "emc.margin_db",
-        "mains",
-    ]
-    .iter()
-    .map(|k| k.to_string())
-    .collect();
+    AfterFilter {
+        line,
+        dm_stage,
+        cm_stage,
+        dm_source,
+        cm_source,
+        dm_after,
+        cm_after,
+        text: after_filter,
+        margin_db,
+        estimate_keys: [
+            "converter",
+            "input.bulk_capacitance_uf",
+            "input.series_resistance_ohm",
+            "emc.parasitic_capacitance_pf",
+            "emc.switch_node_",
+            "emc.filter",
+            "emc.margin_db",
+            "mains",
+        ]
+        .iter()
+        .map(|k| k.to_string())
+        .collect(),
+        suspicious: &inputs.suspicious,
+    }
+}
 
-    // --- Points for the report (every prescan point; a thinned set of harmonics) ----------
+/// The points for the report: every prescan point; of an estimate, the first harmonics,
+/// then one every `SHOWN_STEP` in frequency, and every point that governs a figure.
+fn report_points(noise: &Noise, corners: &Corners, after: &AfterFilter) -> Vec<NoisePoint> {
+    let (noise_source, candidates) = (noise.source, &noise.candidates);
+    let (dm_indices, cm_indices) = (&noise.dm_indices, &noise.cm_indices);
+    let Corners {
+        all,
+        overall,
+        dm2,
+        dm4,
+        cm2,
+        cm4,
+        max_required,
+        ..
+    } = corners;
+    let (overall, dm2, dm4, cm2, cm4, max_required) =
+        (*overall, *dm2, *dm4, *cm2, *cm4, *max_required);
+    let judge = |c: &Candidate| after.judge(c);
     let keep: Vec<usize> = if noise_source == "estimate" {
         let mut keep = Vec::new();
-        for indices in [&dm_indices, &cm_indices] {
+        for indices in [dm_indices, cm_indices] {
             let mut last_shown: Option<f64> = None;
             for (k, &i) in indices.iter().enumerate() {
                 let Some(c) = candidates.get(i) else { continue };
@@ -849,37 +1295,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
     } else {
         all.clone()
     };
-    let judge = |c: &Candidate| {
-        let dm = dm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(dm_after, c.frequency_hz));
-        let cm = cm_il(c.frequency_hz).unwrap_or_else(|| attenuation_at(cm_after, c.frequency_hz));
-        let (filter_db, judged_by_declared) = match c.mode {
-            "differential" => (dm, dm_stage.is_some()),
-            "common" => (cm, cm_stage.is_some()),
-            _ => (dm.min(cm), dm_stage.is_some() && cm_stage.is_some()),
-        };
-        let after = c.level_dbuv - filter_db;
-        let mut verdict = if c.required_db <= 0.0 {
-            Verdict::Pass
-        } else if judged_by_declared {
-            Verdict::of(Some(after > c.limit_dbuv - margin_db))
-        } else {
-            Verdict::NotJudged
-        };
-        let keys: Vec<String> = match c.key_prefix.as_deref() {
-            Some(k) => vec![
-                k.to_string(),
-                "emc.filter".to_string(),
-                "emc.margin_db".to_string(),
-            ],
-            None => estimate_keys.clone(),
-        };
-        if verdict == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
-            verdict = Verdict::CheckInput;
-        }
-        (filter_db, after, verdict)
-    };
-    let points: Vec<NoisePoint> = keep
-        .iter()
+    keep.iter()
         .filter_map(|&i| candidates.get(i))
         .map(|c| {
             let (filter_db, after, verdict) = judge(c);
@@ -897,13 +1313,26 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                 verdict,
             }
         })
-        .collect();
+        .collect()
+}
 
-    // --- Middlebrook -----------------------------------------------------------------------
-    // Middlebrook's criterion holds where the filter sees the converter's negative input
-    // resistance: behind a PFC stage (a small capacitance after the bridge). Behind a
-    // bridge and a bulk capacitor it does not: the bridge conducts only near the crests,
-    // and then the filter sees the bulk capacitor's low impedance, not -V^2/P.
+/// Middlebrook's criterion holds where the filter sees the converter's negative input
+/// resistance: behind a PFC stage (a small capacitance after the bridge). Behind a bridge
+/// and a bulk capacitor it does not: the bridge conducts only near the crests, and then
+/// the filter sees the bulk capacitor's low impedance, not -V^2/P.
+fn middlebrook_phase(
+    inputs: &EmcInputs,
+    rules: &EmcRules,
+    inductances: &Inductances,
+    steps: &mut Vec<Step>,
+) -> MiddlebrookPhase {
+    let model = &rules.model;
+    let model_id = model.id.as_str();
+    let f = &inputs.spec.filter;
+    let (x_capacitance_uf, dm_inductance_for_corner_uh) = (
+        inductances.x_capacitance_uf,
+        inductances.dm_inductance_for_corner_uh,
+    );
     let middlebrook_applies = inputs.converter.is_some() && inputs.pfc_stage;
     let middlebrook_not_applied = (inputs.converter.is_some() && !inputs.pfc_stage).then(|| {
         let bulk = inputs
@@ -927,27 +1356,27 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
                 x_capacitance_uf,
                 dm_inductance_for_corner_uh,
                 model.middlebrook_margin_db.value,
-                &mut d.middlebrook,
+                steps,
             )
         })
     } else {
         None
     };
     if let Some(why) = &middlebrook_not_applied {
-        d.middlebrook.push(Step::new(None, why.clone()));
+        steps.push(Step::new(None, why.clone()));
     } else if inputs.converter.is_none() {
-        d.middlebrook.push(Step::new(
+        steps.push(Step::new(
             None,
             "Not judged: the project has no converter table, so the converter's power, efficiency and lowest bulk voltage are not known.",
         ));
     } else if middlebrook.is_none() {
-        d.middlebrook.push(Step::new(
+        steps.push(Step::new(
             None,
             "Not judged: no differential-mode stage is declared (dm_inductance_uh and x_capacitance_uf), and none is proposed (no X capacitance, or no corner needed).",
         ));
     }
     if middlebrook.is_some() {
-        d.middlebrook.insert(
+        steps.insert(
             0,
             Step::new(
                 Some(model_id),
@@ -958,9 +1387,17 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             ),
         );
     }
+    MiddlebrookPhase {
+        middlebrook,
+        middlebrook_applies,
+        middlebrook_not_applied,
+    }
+}
 
-    // --- Limit lines for the chart ---------------------------------------------------------
-    let limit_lines = [Detector::QuasiPeak, Detector::Average]
+/// The limit lines as polylines for the chart, and the limits' source.
+fn limit_lines(rules: &EmcRules, class: LimitClass, steps: &mut Vec<Step>) -> Vec<LimitLineOut> {
+    let limits_id = rules.limits.id.as_str();
+    let limit_lines: Vec<LimitLineOut> = [Detector::QuasiPeak, Detector::Average]
         .iter()
         .filter_map(|&det| {
             rules.limits.line(class, det).map(|line| {
@@ -977,7 +1414,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             })
         })
         .collect();
-    d.limit.push(Step::new(
+    steps.push(Step::new(
         Some(limits_id),
         format!(
             "Class {} limits: quasi-peak and average lines from {}; between a segment's ends the limit runs linearly in log f.",
@@ -985,18 +1422,27 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             rules.limits.source
         ),
     ));
+    limit_lines
+}
 
-    let governing_point = overall.and_then(|(i, _)| candidates.get(i));
-    // --- Verdicts on the unrounded figures ------------------------------------------------
+/// The verdicts on the unrounded figures, each settled against implausible inputs.
+fn verdicts(
+    inputs: &EmcInputs,
+    noise: &Noise,
+    corners: &Corners,
+    y: &YCapacitance,
+    middlebrook: Option<&Middlebrook>,
+    after: &AfterFilter,
+) -> std::collections::BTreeMap<String, Verdict> {
+    let suspicious = &inputs.suspicious;
+    let f = &inputs.spec.filter;
+    let candidates = &noise.candidates;
+    let (dm2, cm2) = (corners.dm2, corners.cm2);
+    let (y_exact_nf, declared_cm_nf) = (y.y_exact_nf, y.declared_cm_nf);
+    let (max_mains_v, max_mains_frequency_hz) = (inputs.max_mains_v, inputs.max_mains_frequency_hz);
     let mut verdicts = std::collections::BTreeMap::new();
     let mut put = |name: &str, v: Verdict, keys: &[&str]| {
-        let keys: Vec<String> = keys.iter().map(|k| k.to_string()).collect();
-        let v = if v == Verdict::Pass && rests_on_suspicious(&keys, &suspicious) {
-            Verdict::CheckInput
-        } else {
-            v
-        };
-        verdicts.insert(name.to_string(), v);
+        verdicts.insert(name.to_string(), suspicious.settle(v, keys));
     };
     if let Some(y) = y_exact_nf {
         let cap = inputs.touch_limit.as_ref().map(|t| {
@@ -1045,7 +1491,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
             &["emc", "converter", "part"],
         );
     }
-    if let Some(m) = &middlebrook {
+    if let Some(m) = middlebrook {
         put(
             "middlebrook",
             Verdict::of(Some(!m.satisfied)),
@@ -1053,7 +1499,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         );
     }
     if !candidates.is_empty() {
-        let all: Vec<Verdict> = candidates.iter().map(|c| judge(c).2).collect();
+        let all: Vec<Verdict> = candidates.iter().map(|c| after.judge(c).2).collect();
         let worst = if all.contains(&Verdict::Fail) {
             Verdict::Fail
         } else if all.contains(&Verdict::NotJudged) {
@@ -1065,60 +1511,7 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
         };
         verdicts.insert("points".to_string(), worst);
     }
-
-    Ok(EmcReport {
-        limit_class: class,
-        margin_db,
-        band_hz: [band.0, band.1],
-        noise_source,
-        governing_frequency_hz: governing_point.map(|c| tidy(c.frequency_hz)),
-        governing_mode: governing_point.map(|c| c.mode),
-        governing_detector: governing_point.map(|c| c.compared_with.as_str()),
-        limit_dbuv: governing_point.map(|c| round_to(c.limit_dbuv, 0.01)),
-        required_attenuation_db: governing_point.map(|c| round_up(c.required_db, 0.01)),
-        max_required_attenuation_db: max_required.map(|c| round_up(c.required_db, 0.01)),
-        max_required_attenuation_hz: max_required.map(|c| tidy(c.frequency_hz)),
-        dm_corner_hz,
-        dm_governing_frequency_hz: dm2
-            .and_then(|(i, _)| candidates.get(i))
-            .map(|c| tidy(c.frequency_hz)),
-        dm_corner_fourth_order_hz: dm4.map(|(_, f)| corner_down(f)),
-        dm_inductance_for_corner_uh,
-        cm_corner_hz,
-        cm_governing_frequency_hz: cm2
-            .and_then(|(i, _)| candidates.get(i))
-            .map(|c| tidy(c.frequency_hz)),
-        cm_corner_fourth_order_hz: cm4.map(|(_, f)| corner_down(f)),
-        cm_inductance_for_corner_mh,
-        max_y_capacitance_nf,
-        touch_current_standard: inputs.touch_standard.clone(),
-        touch_current_part: inputs.touch_part.clone(),
-        touch_current_limit_ma: inputs.touch_limit.as_ref().map(|t| t.limit_ma),
-        max_mains_v: tidy(max_mains_v),
-        max_mains_frequency_hz: tidy(max_mains_frequency_hz),
-        y_capacitance_judged_by_power_entry: f.y_capacitance_nf.is_none()
-            && inputs.y_parts_judged_by_power_entry,
-        y_capacitance_nf,
-        y_capacitance_from,
-        y_arrangement: arrangement,
-        y_capacitance_used_nf: y_used_nf.map(tidy),
-        cm_capacitance_used_nf: cm_capacitance_used_nf.map(tidy),
-        single_stage_practical_db: model.single_stage_practical_db.value,
-        two_stage_practical_db: model.two_stage_practical_db.value,
-        filter: declared,
-        converter_figures_available: inputs.converter.is_some(),
-        noise_gaps,
-        middlebrook,
-        middlebrook_applies,
-        middlebrook_not_applied,
-        verdicts,
-        after_filter,
-        points,
-        harmonics_evaluated,
-        limit_lines,
-        assumptions,
-        derivation: d,
-    })
+    verdicts
 }
 
 fn corner_steps(

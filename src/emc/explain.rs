@@ -2,7 +2,8 @@
 
 use super::EmcReport;
 use super::limits::frequency_words;
-use crate::spacing::{Step, show};
+use crate::derivation::Derivation;
+use crate::spacing::show;
 
 /// The items `explain` knows, with what each shows.
 pub const ITEMS: &[(&str, &str)] = &[
@@ -75,7 +76,9 @@ fn num(x: Option<f64>, unit: &str) -> String {
         .unwrap_or_else(|| "not computed".to_string())
 }
 
-fn steps(out: &mut String, title: &str, steps: &[Step]) {
+/// A topic's steps under its title, numbered, each with the rule table it read.
+fn steps(out: &mut String, d: &Derivation) {
+    let (title, steps) = (&d.title, &d.steps);
     out.push_str(&format!("{title}:\n"));
     if steps.is_empty() {
         out.push_str("  (nothing to derive)\n");
@@ -193,41 +196,39 @@ fn explain_item(r: &EmcReport, item: &str) -> Option<String> {
     match item {
         "emc" => {
             headline(&mut out, r);
-            steps(&mut out, "noise", &d.noise);
-            steps(&mut out, "limit", &d.limit);
-            steps(&mut out, "attenuation", &d.attenuation);
-            steps(&mut out, "differential-mode corner", &d.dm_corner);
-            steps(&mut out, "common-mode corner", &d.cm_corner);
-            steps(&mut out, "Y capacitance", &d.y_capacitance);
-            steps(&mut out, "declared filter", &d.filter);
-            steps(&mut out, "Middlebrook's criterion", &d.middlebrook);
+            steps(&mut out, &d.noise);
+            steps(&mut out, &d.limit);
+            steps(&mut out, &d.attenuation);
+            steps(&mut out, &d.dm_corner);
+            steps(&mut out, &d.cm_corner);
+            steps(&mut out, &d.y_capacitance);
+            steps(&mut out, &d.filter);
+            steps(&mut out, &d.middlebrook);
             out.push_str("other items: ");
             let names: Vec<&str> = ITEMS.iter().map(|(n, _)| *n).collect();
             out.push_str(&names.join(", "));
             out.push('\n');
         }
-        "emc.noise" => steps(&mut out, "noise", &d.noise),
-        "emc.limit" => steps(&mut out, "limit", &d.limit),
+        "emc.noise" => steps(&mut out, &d.noise),
+        "emc.limit" => steps(&mut out, &d.limit),
         "emc.attenuation" => {
-            steps(&mut out, "limit", &d.limit);
-            steps(&mut out, "attenuation", &d.attenuation);
+            steps(&mut out, &d.limit);
+            steps(&mut out, &d.attenuation);
         }
         "emc.corner" => {
             headline(&mut out, r);
-            steps(&mut out, "attenuation", &d.attenuation);
-            steps(&mut out, "differential-mode corner", &d.dm_corner);
-            steps(&mut out, "common-mode corner", &d.cm_corner);
+            steps(&mut out, &d.attenuation);
+            steps(&mut out, &d.dm_corner);
+            steps(&mut out, &d.cm_corner);
         }
-        "emc.dm_corner" => steps(&mut out, "differential-mode corner", &d.dm_corner),
+        "emc.dm_corner" => steps(&mut out, &d.dm_corner),
         "emc.cm_corner" => {
-            steps(&mut out, "common-mode corner", &d.cm_corner);
-            steps(&mut out, "Y capacitance", &d.y_capacitance);
+            steps(&mut out, &d.cm_corner);
+            steps(&mut out, &d.y_capacitance);
         }
-        "emc.y_capacitance" => steps(&mut out, "Y capacitance", &d.y_capacitance),
-        "emc.filter" => steps(&mut out, "declared filter", &d.filter),
-        "emc.middlebrook" | "emc.damping" => {
-            steps(&mut out, "Middlebrook's criterion", &d.middlebrook)
-        }
+        "emc.y_capacitance" => steps(&mut out, &d.y_capacitance),
+        "emc.filter" => steps(&mut out, &d.filter),
+        "emc.middlebrook" | "emc.damping" => steps(&mut out, &d.middlebrook),
         "emc.points" => points(&mut out, r),
         "emc.assumptions" => {
             if r.assumptions.is_empty() {

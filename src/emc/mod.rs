@@ -15,13 +15,16 @@ pub mod rules;
 use crate::rules::Table as _;
 use serde::Serialize;
 
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::derivation::{Derivation, Suspicious, steps_only};
 use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
 use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
 use crate::raw::{Reader, Span, TableAt};
-use crate::rules::RuleBook;
-use crate::spacing::{Step, show};
+use crate::report::Report;
+use crate::rules::{RuleBook, Typed};
+use crate::spacing::show;
 
 pub use evaluate::{EmcInputs, InputProblem, TouchLimit, compute};
 pub use noise::{BulkCapacitor, CommonModePath, ConverterFigures, Network};
@@ -121,7 +124,7 @@ pub struct NoisePoint {
     /// After the declared filter, at or below the limit less the margin: `pass`; above:
     /// `fail`; no declared stage for this mode: `not-judged`; a point needing no
     /// attenuation passes; `check-input` where it rests on an implausible input.
-    pub verdict: crate::power_entry::Verdict,
+    pub verdict: crate::derivation::Verdict,
 }
 
 /// The filter as declared, with its own corners.
@@ -187,17 +190,57 @@ pub struct LimitLineOut {
     pub vertices: Vec<[f64; 2]>,
 }
 
-/// The steps behind each EMC figure.
-#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+/// The derivation of each EMC topic; the JSON shows each as its list of steps, as it
+/// always has. Each id is an `explain` item.
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct EmcDerivation {
-    pub noise: Vec<Step>,
-    pub limit: Vec<Step>,
-    pub attenuation: Vec<Step>,
-    pub dm_corner: Vec<Step>,
-    pub cm_corner: Vec<Step>,
-    pub y_capacitance: Vec<Step>,
-    pub filter: Vec<Step>,
-    pub middlebrook: Vec<Step>,
+    #[serde(serialize_with = "steps_only")]
+    pub noise: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub limit: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub attenuation: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub dm_corner: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub cm_corner: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub y_capacitance: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub filter: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub middlebrook: Derivation,
+}
+
+impl Default for EmcDerivation {
+    fn default() -> Self {
+        EmcDerivation {
+            noise: Derivation::new("emc.noise", "noise"),
+            limit: Derivation::new("emc.limit", "limit"),
+            attenuation: Derivation::new("emc.attenuation", "attenuation"),
+            dm_corner: Derivation::new("emc.dm_corner", "differential-mode corner"),
+            cm_corner: Derivation::new("emc.cm_corner", "common-mode corner"),
+            y_capacitance: Derivation::new("emc.y_capacitance", "Y capacitance"),
+            filter: Derivation::new("emc.filter", "declared filter"),
+            middlebrook: Derivation::new("emc.middlebrook", "Middlebrook's criterion"),
+        }
+    }
+}
+
+impl EmcDerivation {
+    /// Every topic, in the order the report shows them.
+    pub fn all(&self) -> [&Derivation; 8] {
+        [
+            &self.noise,
+            &self.limit,
+            &self.attenuation,
+            &self.dm_corner,
+            &self.cm_corner,
+            &self.y_capacitance,
+            &self.filter,
+            &self.middlebrook,
+        ]
+    }
 }
 
 /// The `emc` section of the report (JSON core fields in DESIGN.md, and more).
@@ -273,7 +316,7 @@ pub struct EmcReport {
     /// The verdict of each judged EMC figure, made on unrounded figures: `y_capacitance_nf`
     /// (against the touch-current cap), `dm_corner_hz` and `cm_corner_hz` (declared against
     /// required), `middlebrook`, `points` (the worst point after the declared filter).
-    pub verdicts: std::collections::BTreeMap<String, crate::power_entry::Verdict>,
+    pub verdicts: std::collections::BTreeMap<String, crate::derivation::Verdict>,
     /// What "after the filter" means in the points.
     pub after_filter: String,
     pub points: Vec<NoisePoint>,
@@ -292,6 +335,47 @@ pub fn read(
     _not_evaluated: &mut Vec<String>,
 ) -> Option<EmcSpec> {
     read::read_emc(r, root, raw_root)
+}
+
+/// The EMC area: `[emc]`.
+pub struct Emc;
+
+impl Area for Emc {
+    fn name(&self) -> &'static str {
+        "emc"
+    }
+
+    fn described(&self, project: &Project) -> bool {
+        project.emc.is_some()
+    }
+
+    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
+        into.emc = crate::rules::TableSet::load(tables);
+    }
+
+    fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
+        run.sections.emc = evaluate(
+            run.project,
+            run.rules,
+            run.sections.power_entry.as_ref(),
+            run.source,
+        )?;
+        Ok(())
+    }
+
+    fn explain_items(&self, report: &Report) -> Vec<ExplainItem> {
+        match &report.emc {
+            Some(_) => explain::ITEMS
+                .iter()
+                .map(|(id, shows)| ExplainItem::new(*id, *shows))
+                .collect(),
+            None => Vec::new(),
+        }
+    }
+
+    fn explain(&self, report: &Report, item: &str) -> Option<String> {
+        explain::explain(report.emc.as_ref()?, item)
+    }
 }
 
 /// The EMC figures; `None` when the project has no `[emc]`.
@@ -473,11 +557,7 @@ fn gather(
                 .min_v
                 .unwrap_or(project.mains.nominal_v * (1.0 - mains_defaults.tolerance.value)),
         },
-        suspicious_keys: project
-            .warnings
-            .iter()
-            .filter_map(|w| w.key.clone())
-            .collect(),
+        suspicious: Suspicious::of(&project.warnings),
     }
 }
 

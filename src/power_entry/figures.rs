@@ -34,7 +34,7 @@ struct Figure {
     unit: &'static str,
     formula: String,
     verdict: Option<Verdict>,
-    rests_on: Vec<String>,
+    rests_on: Vec<std::borrow::Cow<'static, str>>,
 }
 
 impl Figure {
@@ -57,8 +57,8 @@ impl Figure {
         self
     }
 
-    fn rests_on(mut self, keys: &[&str]) -> Self {
-        self.rests_on = keys.iter().map(|k| k.to_string()).collect();
+    fn rests_on(mut self, keys: &[&'static str]) -> Self {
+        self.rests_on = keys.iter().map(|k| (*k).into()).collect();
         self
     }
 
@@ -77,9 +77,9 @@ impl Figure {
         }
         Derived {
             id: self.id,
-            title: self.title,
+            title: self.title.into(),
             value: sig(self.value),
-            unit: self.unit.to_string(),
+            unit: self.unit.into(),
             formula: self.formula,
             inputs,
             judged_against,
@@ -259,16 +259,10 @@ pub(super) fn evaluate(
         }
     }
     // A figure that rests on an implausible input is never `pass`.
-    let suspicious: Vec<&str> = project
-        .warnings
-        .iter()
-        .filter_map(|w| w.key.as_deref())
-        .collect();
+    let suspicious = crate::derivation::Suspicious::of(&project.warnings);
     let mut verdicts = std::collections::BTreeMap::new();
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
-        if f.verdict == Some(Verdict::Pass) && rests_on_suspicious(&f.rests_on, &suspicious) {
-            f.verdict = Some(Verdict::CheckInput);
-        }
+        suspicious.settle_derivation(f);
         if let Some(v) = f.verdict {
             verdicts.insert(f.id.trim_start_matches("power_entry.").to_string(), v);
         }
@@ -314,20 +308,6 @@ pub(super) fn evaluate(
         assumptions: b.assumptions,
         sections,
     }))
-}
-
-/// Whether a warning key falls under one of the prefixes a figure rests on: `input` covers
-/// `input.fuse.rated_a`, `part` covers `part[2].capacitance_nf`.
-pub(crate) fn rests_on_suspicious(prefixes: &[String], suspicious: &[&str]) -> bool {
-    suspicious.iter().any(|key| {
-        prefixes.iter().any(|p| {
-            key.starts_with(p.as_str())
-                && (p.ends_with('_')
-                    || p.ends_with('.')
-                    || key.len() == p.len()
-                    || matches!(key.as_bytes().get(p.len()), Some(b'.') | Some(b'[')))
-        })
-    })
 }
 
 fn max_of(values: impl Iterator<Item = Option<f64>>) -> Option<f64> {
@@ -497,11 +477,12 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
     let resistive_i2t = v_pk * v_pk * c_f / (2.0 * r_cold);
     let resistive_hot_peak = v_pk / r_hot;
     let resistive_hot_i2t = v_pk * v_pk * c_f / (2.0 * r_hot);
-    // Through the filter's inductance: an L-R-C switch-on, simulated (from 0 V both cold
-    // and at a hot restart: the bulk capacitor may have discharged fully; conservative).
+    // Through the filter's inductance: an L-R-C switch-on, solved in closed form (from 0 V
+    // both cold and at a hot restart: the bulk capacitor may have discharged fully;
+    // conservative).
     let lrc = |r: f64| {
         l_uh.and_then(|l| {
-            super::inrush::simulate(&super::inrush::LrcCircuit {
+            super::inrush::switch_on(&super::inrush::LrcCircuit {
                 peak_v: v_pk,
                 frequency_hz: b.mains.max_frequency_hz,
                 inductance_h: l * 1e-6,
@@ -512,7 +493,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         })
     };
     let cold_lrc = lrc(r_cold);
-    // A resistor limiter (or none) has the same path hot and cold: one simulation serves both.
+    // A resistor limiter (or none) has the same path hot and cold: one solution serves both.
     let hot_lrc = if r_hot == r_cold {
         cold_lrc
     } else {
@@ -614,7 +595,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         r_cold_words.clone()
     };
     let theory = if lrc_used {
-        "circuit theory: through the filter's inductance the switch-on is an L-R-C circuit, L di/dt = V_pk |cos ωt| - v - R i, C dv/dt = i while the bridge conducts (the bridge stops the current reversing; no load yet); simulated (fourth-order Runge-Kutta, step halved until the peak, the I²t and the capacitor's peak agree within 1e-5), from 0 V"
+        "circuit theory: through the filter's inductance the switch-on is an L-R-C circuit, L di/dt = V_pk |cos ωt| - v - R i, C dv/dt = i while the bridge conducts (the bridge stops the current reversing; no load yet); solved exactly: between the source's zeros and the instants where the bridge stops the current, the series R-L-C response to a sinusoid from its state there (textbook series RLC step/sinusoid response: the sinusoidal steady state plus the damped homogeneous part), with the current's peak and end located on it, from 0 V"
     } else {
         "circuit theory: charging C from V_pk through a constant R, i(t) = (V_pk / R) e^(-t / RC)"
     };
@@ -650,10 +631,12 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
                 show(significant(v_pk / z0.unwrap_or(f64::NAN))),
                 show(significant(resistive)),
                 show(significant(x.bulk_peak_v)),
-                if x.converged {
+                if x.closed_form {
                     ""
+                } else if x.converged {
+                    " (simulated: fourth-order Runge-Kutta, step halved until the figures agree within 1e-5, where the closed form does not apply)"
                 } else {
-                    " (the step halvings did not agree within 1e-5: an estimate)"
+                    " (simulated where the closed form does not apply; the step halvings did not agree within 1e-5: an estimate)"
                 }
             ),
         ),
@@ -694,7 +677,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             "A",
         )
         .formula(if lrc_used {
-            format!("I_pk = max of i(t), L-R-C through {r_cold_words} (simulated)")
+            format!("I_pk = max of i(t), L-R-C through {r_cold_words} (solved)")
         } else {
             format!("I_pk = V_pk / {r_cold_words}")
         })
@@ -711,7 +694,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         ),
         Figure::new("inrush_i2t_a2s", "Inrush pulse I²t", Some(i2t), "A²s")
             .formula(if lrc_used {
-                "I²t = integral of i(t)² of the simulated L-R-C pulse".to_string()
+                "I²t = integral of i(t)² of the L-R-C pulse".to_string()
             } else {
                 format!("I²t = V_pk² × C / (2 {r_cold_words})")
             })
@@ -773,7 +756,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
             "A",
         )
         .formula(if lrc_used {
-            format!("I_pk,hot = max of i(t), L-R-C through {r_hot_words} (simulated)")
+            format!("I_pk,hot = max of i(t), L-R-C through {r_hot_words} (solved)")
         } else {
             format!("I_pk,hot = V_pk / {r_hot_words}")
         })
@@ -792,7 +775,7 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         ),
         Figure::new("hot_restart_i2t_a2s", "Pulse I²t at a hot restart", Some(hot_i2t), "A²s")
             .formula(if lrc_used {
-                "I²t_hot = integral of i(t)² of the simulated L-R-C pulse".to_string()
+                "I²t_hot = integral of i(t)² of the L-R-C pulse".to_string()
             } else {
                 format!("I²t_hot = V_pk² × C / (2 {r_hot_words})")
             })
@@ -1079,8 +1062,14 @@ fn point_figures(
         vec![Step::new(
             None,
             format!(
-                "Steady state after {} half-cycles ({}).",
+                "Steady state after {} half-cycles of {} steps{} ({}).",
                 s.half_cycles,
+                s.steps_per_half_cycle,
+                if s.steps_per_half_cycle > rectifier::STEPS_PER_HALF_CYCLE {
+                    ", starting from the steady state at the coarser step"
+                } else {
+                    ""
+                },
                 if !s.sustained {
                     "not sustained: the load collapses the bulk voltage"
                 } else if s.converged {
@@ -1986,7 +1975,7 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
 }
 
 fn test_voltages(b: &Basis, results: &[BarrierResult]) -> (Vec<TestVoltage>, Section) {
-    let table = &b.rules.test_voltages;
+    let table = &b.rules.insulation.test_voltages;
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();

@@ -7,14 +7,20 @@
 //! resistance R in series, ideal bridge, bulk capacitor C from `v0`, no load (the
 //! converter has not started, which also maximises the capacitor's peak):
 //! `L di/dt = u - v - R i`, `C dv/dt = i` while the bridge conducts (`i > 0`, or `i = 0`
-//! and `u > v`); otherwise `i = 0` and `v` holds. Classic fourth-order Runge-Kutta on a
-//! fixed step, halved until the peak current, the capacitor's peak and the I²t agree
-//! within 1e-5 between two steps. While the bridge blocks, the run jumps (closed form,
-//! `acos`) to a few grid points before the source rises above the capacitor again, so the
-//! figures are those of testing every grid point at a fraction of the cost. Every loop
-//! is bounded.
+//! and `u > v`); otherwise `i = 0` and `v` holds.
+//!
+//! [`switch_on`], which the report uses, solves it exactly: piece by piece, each piece a
+//! linear series R-L-C driven by a sinusoid (`super::series_rlc`). [`simulate`] steps it:
+//! classic fourth-order Runge-Kutta on a fixed step, halved until the peak current, the
+//! capacitor's peak and the I²t agree within 1e-5 between two steps; while the bridge
+//! blocks, the run jumps (closed form, `acos`) to a few grid points before the source
+//! rises above the capacitor again, so the figures are those of testing every grid point
+//! at a fraction of the cost. It answers where the closed form does not apply (a source
+//! at the circuit's own resonance with almost no resistance). Every loop is bounded.
 
 use serde::Serialize;
+
+use super::series_rlc::{Piece, State};
 
 /// Agreement between two step sizes at which the result is accepted (relative).
 pub const STEP_TOLERANCE: f64 = 1e-5;
@@ -54,6 +60,9 @@ pub struct LrcInrush {
     /// The run reached its bound of steps before the pulse had ended.
     #[serde(skip)]
     pub truncated: bool,
+    /// Solved in closed form ([`switch_on`]) rather than stepped ([`simulate`]); `step_s`
+    /// is then the longest interval between two samples of the exact solution.
+    pub closed_form: bool,
 }
 
 impl LrcCircuit {
@@ -124,6 +133,194 @@ pub fn simulate(c: &LrcCircuit) -> Option<LrcInrush> {
     Some(previous)
 }
 
+/// The switch-on solved exactly: between the instants where the rectified source changes
+/// sign (the zeros of `cos`) and where the bridge stops the current, the circuit is a
+/// linear series R-L-C driven by `+-V_pk cos(omega t)`, whose response is known in closed
+/// form ([`super::series_rlc::Piece`], textbook series RLC step/sinusoid response). The
+/// current's peak, its end and the capacitor's highest voltage are located on that exact
+/// solution (sampled finely enough that no extremum or zero can hide between two samples,
+/// then bisected to rounding), and the I²t integrated by three-point Gauss-Legendre
+/// between the samples: no step size to converge. Where the closed form does not apply
+/// (a source at the circuit's own resonance with almost no resistance) or its bounds are
+/// reached, the stepping simulation [`simulate`] answers instead. `None` when the circuit
+/// cannot be used.
+pub fn switch_on(c: &LrcCircuit) -> Option<LrcInrush> {
+    if !c.usable() {
+        return None;
+    }
+    exact(c).or_else(|| simulate(c))
+}
+
+/// Samples per unit of the fastest time constant in a piece (1 / rate): at this density a
+/// sum of the circuit's few exponentials and sinusoids cannot turn twice between two
+/// samples, and three-point Gauss-Legendre integrates i² to about 1e-11 of a step's share.
+const SAMPLES_PER_TIME_CONSTANT: f64 = 12.0;
+/// The most pieces (source half-waves, conduction pulses, reopenings) of one switch-on.
+const MAX_PIECES: usize = 64;
+/// The most samples of the exact solution in one switch-on.
+const MAX_SAMPLES: usize = 200_000;
+/// Bisections to place an event (beyond about 60 the interval no longer shrinks).
+const BISECTIONS: usize = 80;
+/// Halvings of the first sample after the bridge reopens, to see the current start.
+const FIRST_SAMPLE_HALVINGS: usize = 40;
+
+/// How one piece ended.
+enum PieceEnd {
+    /// The current fell to zero at `at`; the bridge blocks with the capacitor at `v`.
+    Stopped { at: f64, v: f64 },
+    /// The piece reached its end (a zero of the source or the end of the window) still
+    /// conducting.
+    Reached { i: f64, v: f64 },
+}
+
+fn exact(c: &LrcCircuit) -> Option<LrcInrush> {
+    let omega = 2.0 * std::f64::consts::PI * c.frequency_hz;
+    let duration = HALF_CYCLES * 0.5 / c.frequency_hz;
+    let mut out = LrcInrush {
+        peak_a: 0.0,
+        i2t_a2s: 0.0,
+        bulk_peak_v: c.start_v,
+        peak_at_s: 0.0,
+        step_s: 0.0,
+        converged: true,
+        truncated: false,
+        closed_form: true,
+    };
+    let (mut t, mut i, mut v) = (0.0f64, 0.0f64, c.start_v);
+    // Switch-on at the crest: the bridge conducts at once unless the capacitor already
+    // holds the crest.
+    let mut conducting = c.peak_v > v;
+    let mut samples = 0usize;
+    for _ in 0..MAX_PIECES {
+        if !conducting {
+            // No load: the capacitor holds. At or above the crest nothing flows again.
+            if v >= c.peak_v {
+                return Some(out);
+            }
+            t = reopening(t, v / c.peak_v, omega);
+            i = 0.0;
+            conducting = true;
+        }
+        if t >= duration {
+            return Some(out);
+        }
+        let kink = next_source_zero(t, omega);
+        let end = kink.min(duration);
+        let sign = if (omega * 0.5 * (t + end)).cos() >= 0.0 {
+            1.0
+        } else {
+            -1.0
+        };
+        let piece = Piece::new(
+            sign * c.peak_v,
+            omega,
+            c.inductance_h,
+            c.resistance_ohm,
+            c.capacitance_f,
+            t,
+            i,
+            v,
+        )?;
+        match scan(&piece, t, end, i, &mut out, &mut samples)? {
+            PieceEnd::Stopped { at, v: held } => {
+                t = at;
+                i = 0.0;
+                v = held;
+                conducting = false;
+            }
+            PieceEnd::Reached { i: i_end, v: v_end } => {
+                t = end;
+                i = i_end;
+                v = v_end;
+            }
+        }
+    }
+    // Too many pieces for a switch-on: leave it to the stepping simulation.
+    None
+}
+
+/// Follows one piece from `t0` to `end`, recording the current's peak, the I²t and the
+/// capacitor's highest voltage in `out`.
+fn scan(
+    piece: &Piece,
+    t0: f64,
+    end: f64,
+    i0: f64,
+    out: &mut LrcInrush,
+    samples: &mut usize,
+) -> Option<PieceEnd> {
+    let n = SAMPLES_PER_TIME_CONSTANT;
+    let fastest = piece.fastest_rate();
+    let persistent = piece.persistent_rate();
+    let settled = piece.settled_after();
+    let mut ta = t0;
+    let mut a = piece.at(t0);
+    let mut slope_a = piece.slope_v(&a);
+    // Restarted from a blocked bridge: the first sample must see the current start.
+    let mut fresh = i0 <= 0.0;
+    loop {
+        let tau = ta - t0;
+        // Finely at first (the fast decay), coarser as it dies out, never coarser than the
+        // rates that last (the ringing or slow decay, then the source alone).
+        let lasting = if tau < settled {
+            persistent
+        } else {
+            piece.omega()
+        };
+        let mut h = (tau.max(1.0 / fastest) / n).min(1.0 / (n * lasting));
+        let (mut tb, mut b) = step_to(piece, ta, h, end, samples)?;
+        if fresh {
+            let mut halvings = 0;
+            while b.i <= 0.0 && halvings < FIRST_SAMPLE_HALVINGS {
+                h *= 0.5;
+                (tb, b) = step_to(piece, ta, h, end, samples)?;
+                halvings += 1;
+            }
+            if b.i <= 0.0 {
+                // No current to speak of: the bridge stays blocked past this instant.
+                return Some(PieceEnd::Stopped { at: tb, v: a.v });
+            }
+            fresh = false;
+        }
+        out.step_s = out.step_s.max(tb - ta);
+        let slope_b = piece.slope_v(&b);
+        // A dip between two samples that reaches zero stops the current there too.
+        let mut stop_before = None;
+        if b.i > 0.0 && slope_a < 0.0 && slope_b > 0.0 {
+            let t_min = bisect(ta, tb, |t| piece.slope_v(&piece.at(t)) < 0.0);
+            if piece.at(t_min).i <= 0.0 {
+                stop_before = Some(t_min);
+            }
+        }
+        if b.i <= 0.0 || stop_before.is_some() {
+            let hi = stop_before.unwrap_or(tb);
+            let tz = bisect(ta, hi, |t| piece.at(t).i > 0.0);
+            if slope_a > 0.0 {
+                record_peak(piece, ta, tz, out);
+            }
+            out.i2t_a2s += i_squared(piece, ta, tz);
+            let z = piece.at(tz);
+            out.bulk_peak_v = out.bulk_peak_v.max(z.v);
+            return Some(PieceEnd::Stopped { at: tz, v: z.v });
+        }
+        if slope_a > 0.0 && slope_b <= 0.0 {
+            record_peak(piece, ta, tb, out);
+        }
+        if b.i > out.peak_a {
+            out.peak_a = b.i;
+            out.peak_at_s = tb;
+        }
+        out.i2t_a2s += i_squared(piece, ta, tb);
+        out.bulk_peak_v = out.bulk_peak_v.max(b.v);
+        if tb >= end {
+            return Some(PieceEnd::Reached { i: b.i, v: b.v });
+        }
+        ta = tb;
+        a = b;
+        slope_a = slope_b;
+    }
+}
+
 fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
     let omega = 2.0 * std::f64::consts::PI * c.frequency_hz;
     let (l, r, cap) = (c.inductance_h, c.resistance_ohm, c.capacitance_f);
@@ -146,6 +343,7 @@ fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
         step_s: h,
         converged: false,
         truncated: false,
+        closed_form: false,
     };
     let mut n = 0usize;
     while n < steps {
@@ -196,6 +394,82 @@ fn run(c: &LrcCircuit, h: f64, duration: f64) -> Option<LrcInrush> {
     }
     out.truncated = truncated;
     Some(out)
+}
+
+/// The sample `h` after `ta` (not past `end`), counted against [`MAX_SAMPLES`]; `None`
+/// when the bound is reached or the solution is not finite.
+fn step_to(piece: &Piece, ta: f64, h: f64, end: f64, samples: &mut usize) -> Option<(f64, State)> {
+    *samples += 1;
+    if *samples > MAX_SAMPLES {
+        return None;
+    }
+    let tb = (ta + h).min(end);
+    let b = piece.at(tb);
+    (b.i.is_finite() && b.v.is_finite() && tb > ta).then_some((tb, b))
+}
+
+/// The instant in `[lo, hi]` where `holds` turns false (it holds at `lo`, not at `hi`), to
+/// rounding.
+fn bisect(mut lo: f64, mut hi: f64, holds: impl Fn(f64) -> bool) -> f64 {
+    for _ in 0..BISECTIONS {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if holds(mid) {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    hi
+}
+
+/// The current's maximum between `lo` (rising) and `hi` (falling), kept if the highest yet.
+fn record_peak(piece: &Piece, lo: f64, hi: f64, out: &mut LrcInrush) {
+    let t = bisect(lo, hi, |t| piece.slope_v(&piece.at(t)) > 0.0);
+    let i = piece.at(t).i;
+    if i > out.peak_a {
+        out.peak_a = i;
+        out.peak_at_s = t;
+    }
+}
+
+/// The integral of i² over `[a, b]`: three-point Gauss-Legendre (exact for polynomials up
+/// to the fifth degree; the samples are close enough for that to hold to rounding).
+fn i_squared(piece: &Piece, a: f64, b: f64) -> f64 {
+    let (mid, half) = (0.5 * (a + b), 0.5 * (b - a));
+    let offset = half * (0.6f64).sqrt();
+    let i2 = |t: f64| {
+        let i = piece.at(t).i;
+        i * i
+    };
+    half * (5.0 * i2(mid - offset) + 8.0 * i2(mid) + 5.0 * i2(mid + offset)) / 9.0
+}
+
+/// The first zero of `cos(omega t)` after `t`: where the rectified source changes sign.
+fn next_source_zero(t: f64, omega: f64) -> f64 {
+    use std::f64::consts::{FRAC_PI_2, PI};
+    let k = ((omega * t - FRAC_PI_2) / PI).floor() + 1.0;
+    let zero = (FRAC_PI_2 + k * PI) / omega;
+    if zero > t {
+        zero
+    } else {
+        (FRAC_PI_2 + (k + 1.0) * PI) / omega
+    }
+}
+
+/// The instant, at or after `t`, at which the rectified source `|cos(omega t)|` rises
+/// above `ratio` (the blocked capacitor's share of the crest) again.
+fn reopening(t: f64, ratio: f64, omega: f64) -> f64 {
+    use std::f64::consts::PI;
+    let window = ratio.clamp(0.0, 1.0).acos();
+    let phase = (omega * t).rem_euclid(PI);
+    if phase < PI - window {
+        t + (PI - window - phase) / omega
+    } else {
+        t
+    }
 }
 
 /// The grid step at which to resume testing after step `n` found the bridge blocked with

@@ -7,18 +7,21 @@ mod figures;
 pub mod inrush;
 mod read;
 pub mod rectifier;
+pub mod series_rlc;
 pub mod tables;
 
 use serde::Serialize;
 
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
 use crate::diag::{Problems, Source};
 use crate::project::Project;
 use crate::raw::{Located, Reader, TableAt};
-use crate::rules::RuleBook;
+use crate::report::Report;
+use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
 
-pub(crate) use figures::rests_on_suspicious;
+pub use crate::derivation::{Derivation as Derived, Input, Verdict};
 pub use read::{RawConverter, RawFuse, RawInput, RawLimiter};
 pub use rectifier::{Rectifier, SteadyState};
 pub use tables::{DischargeRules, FuseRules, MainsDefaults, TouchRules};
@@ -121,80 +124,13 @@ pub struct ConverterSpec {
 
 crate::table_set! {
     /// The rule tables power entry reads. The electric strength test voltages come from the
-    /// shared table `iec60950-1.test-voltages` (`RuleBook::test_voltages`).
+    /// insulation area's table `iec60950-1.test-voltages` (`rules.insulation.test_voltages`).
     pub struct PowerEntryRules {
         pub fuse: FuseRules,
         pub discharge: DischargeRules,
         pub touch: TouchRules,
         pub mains: MainsDefaults,
     }
-}
-
-/// The verdict on a figure judged against a limit or a rating (as barriers have one).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
-pub enum Verdict {
-    Pass,
-    Fail,
-    /// Judged against nothing: the rating or limit is not declared, or the figure could
-    /// not be computed.
-    NotJudged,
-    /// The comparison passes, but the figure rests on an input flagged implausible
-    /// (`input.suspicious_value`): check that input first. Never `pass`.
-    CheckInput,
-}
-
-impl Verdict {
-    /// `Fail` when `fails` is true, `Pass` when false, `NotJudged` without a comparison.
-    pub fn of(fails: Option<bool>) -> Self {
-        match fails {
-            Some(true) => Verdict::Fail,
-            Some(false) => Verdict::Pass,
-            None => Verdict::NotJudged,
-        }
-    }
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Verdict::Pass => "pass",
-            Verdict::Fail => "fail",
-            Verdict::NotJudged => "not-judged",
-            Verdict::CheckInput => "check-input",
-        }
-    }
-}
-
-/// One input of a figure: its symbol, value, unit and where it came from.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Input {
-    pub symbol: String,
-    pub value: f64,
-    pub unit: String,
-    pub from: String,
-}
-
-/// A figure with everything needed to re-derive it by hand.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Derived {
-    /// Stable id, e.g. `power_entry.inrush_peak_a`; `gapwarden explain` takes it.
-    pub id: String,
-    pub title: String,
-    /// Null when it cannot be computed (the steps say why).
-    pub value: Option<f64>,
-    pub unit: String,
-    pub formula: String,
-    pub inputs: Vec<Input>,
-    /// What the figure is judged against, in words (the check compares).
-    pub judged_against: Option<String>,
-    /// The verdict of that comparison, made on the unrounded figures; null when the
-    /// figure is not judged against anything.
-    pub verdict: Option<Verdict>,
-    /// Project keys (prefixes) the figure rests on; an implausible one among them turns a
-    /// `pass` into `check-input`.
-    pub rests_on: Vec<String>,
-    pub steps: Vec<Step>,
-    /// Where `value` is null: why, in words (for instance, which standard provides it).
-    pub not_computed_because: Option<String>,
 }
 
 /// A topic of the power-entry section, as the report shows it.
@@ -484,6 +420,50 @@ pub fn evaluate(
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
     figures::evaluate(project, rules, barriers, source)
+}
+
+/// The power-entry area: `[input]` and `[converter]`.
+pub struct PowerEntry;
+
+impl Area for PowerEntry {
+    fn name(&self) -> &'static str {
+        "power_entry"
+    }
+
+    fn described(&self, project: &Project) -> bool {
+        project.input.is_some()
+    }
+
+    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
+        into.power_entry = crate::rules::TableSet::load(tables);
+    }
+
+    fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
+        run.sections.power_entry =
+            evaluate(run.project, run.rules, &run.sections.barriers, run.source)?;
+        Ok(())
+    }
+
+    fn explain_items(&self, report: &Report) -> Vec<ExplainItem> {
+        let Some(pe) = &report.power_entry else {
+            return Vec::new();
+        };
+        let mut items = vec![ExplainItem::new(
+            "power_entry",
+            "every power-entry figure and the defaults applied",
+        )];
+        for s in &pe.sections {
+            items.push(ExplainItem::new(&s.id, &s.title));
+            for f in &s.figures {
+                items.push(ExplainItem::new(&f.id, f.title.as_ref()));
+            }
+        }
+        items
+    }
+
+    fn explain(&self, report: &Report, item: &str) -> Option<String> {
+        explain(report.power_entry.as_ref()?, item)
+    }
 }
 
 /// Text for `gapwarden explain` about a power-entry item, if `item` names one:

@@ -43,6 +43,10 @@ pub const STEADY_STATE_TOLERANCE: f64 = 1e-7;
 /// collapsed the bulk voltage (no steady state exists).
 const COLLAPSE_FRACTION: f64 = 0.01;
 
+/// Probes from a coarser step's steady state (the guess and Newton steps from it) before
+/// the search starts from the top.
+const WARM_PROBES: usize = 3;
+
 /// Bisection steps used to place the start of conduction inside one step (for the valley).
 const ONSET_BISECTIONS: usize = 50;
 
@@ -67,6 +71,8 @@ pub struct SteadyState {
     pub sustained: bool,
     /// The half-cycle map reached its fixed point within the tolerance.
     pub converged: bool,
+    /// Half-cycles simulated at the final step size (from [`steady_state`], they start from
+    /// the steady state found at the coarser step).
     pub half_cycles: usize,
     pub steps_per_half_cycle: usize,
     pub source_peak_v: f64,
@@ -138,9 +144,12 @@ impl Rectifier {
 /// RMS current, repetitive peak and valley move by less than that fraction between the
 /// last two steps (at most [`MAX_STEPS_PER_HALF_CYCLE`]; `step_converged` says whether it
 /// got there).
+///
+/// Each finer step starts its search for the steady state from the coarser one's (one or
+/// two half-cycles usually settle it) and reuses the coarser grid's source samples.
 pub fn steady_state(r: &Rectifier) -> SteadyState {
     let mut steps = STEPS_PER_HALF_CYCLE;
-    let mut previous = steady_state_with(r, steps, None);
+    let (mut previous, mut warm) = solve(r, steps, None, None);
     let moved = |a: f64, b: f64| (a - b).abs() > ENERGY_TOLERANCE * a.abs().max(b.abs());
     loop {
         if !previous.sustained {
@@ -153,7 +162,8 @@ pub fn steady_state(r: &Rectifier) -> SteadyState {
             };
         }
         steps *= 2;
-        let next = steady_state_with(r, steps, None);
+        let (next, next_warm) = solve(r, steps, None, warm.as_ref());
+        warm = next_warm;
         if !next.sustained {
             return next;
         }
@@ -175,6 +185,24 @@ pub fn steady_state_with(
     steps: usize,
     waveform: Option<&mut Waveform>,
 ) -> SteadyState {
+    solve(r, steps, waveform, None).0
+}
+
+/// What a solved step size hands to the next, finer one: its grid and steady-state start.
+struct Warm {
+    sim: HalfCycle,
+    start_v: f64,
+}
+
+/// [`steady_state_with`], optionally warm-started from a coarser solution of the same
+/// rectifier (`steps` twice its steps); also returns what the next finer step can start
+/// from.
+fn solve(
+    r: &Rectifier,
+    steps: usize,
+    waveform: Option<&mut Waveform>,
+    warm: Option<&Warm>,
+) -> (SteadyState, Option<Warm>) {
     let steps = steps.clamp(16, 1_000_000);
     let peak = r.source_peak_v();
     let unsustained = |half_cycles| SteadyState {
@@ -196,28 +224,40 @@ pub fn steady_state_with(
     };
     let top = peak - r.diode_drop_v;
     if !r.usable() || top <= 0.0 {
-        return unsustained(0);
+        return (unsustained(0), None);
     }
-    let sim = HalfCycle::new(r, steps);
-    let (start, half_cycles, converged) = match sim.fixed_point(top) {
-        Ok(found) => found,
-        Err(n) => return unsustained(n),
+    let sim = match warm {
+        Some(w) if w.sim.source.len() * 2 == steps => HalfCycle::refined(&w.sim, r),
+        _ => HalfCycle::new(r, steps),
     };
-    let mut tally = Tally::default();
+    let guess = warm.map(|w| w.start_v);
+    let (start, mut half_cycles, converged, probed) = match sim.fixed_point(top, guess) {
+        Ok(found) => found,
+        Err(n) => return (unsustained(n), None),
+    };
     let mut recorder = waveform;
-    if let Some(w) = recorder.as_deref_mut() {
-        *w = Waveform {
-            step_s: sim.h,
-            ..Waveform::default()
-        };
-    }
-    if sim.run(start, Some(&mut tally), recorder).is_err()
-        || tally.v_min.is_nan()
-        || tally.v_min <= sim.floor
-    {
+    // The half-cycle from the accepted start has been run already (as the probe that
+    // settled); run it again only for a start no probe ran from, or to record it.
+    let tally = match probed {
+        Some(t) if recorder.is_none() => Some(t),
+        _ => {
+            let mut tally = Tally::default();
+            if let Some(w) = recorder.as_deref_mut() {
+                *w = Waveform {
+                    step_s: sim.h,
+                    ..Waveform::default()
+                };
+            }
+            half_cycles += 1;
+            sim.run(start, Some(&mut tally), recorder)
+                .is_ok()
+                .then_some(tally)
+        }
+    };
+    let Some(tally) = tally.filter(|t| !t.v_min.is_nan() && t.v_min > sim.floor) else {
         // A valley at the collapse floor is a collapsed bulk, not an operating point.
-        return unsustained(half_cycles + 1);
-    }
+        return (unsustained(half_cycles), None);
+    };
     let n = steps as f64;
     let input_rms_a = (tally.sum_i2 / n).sqrt();
     let input_power_w = tally.sum_ui / n;
@@ -229,10 +269,10 @@ pub fn steady_state_with(
     } else {
         0.0
     };
-    SteadyState {
+    let state = SteadyState {
         sustained: true,
         converged,
-        half_cycles: half_cycles + 1,
+        half_cycles,
         steps_per_half_cycle: steps,
         source_peak_v: peak,
         input_rms_a,
@@ -249,7 +289,14 @@ pub fn steady_state_with(
         conduction_ms: tally.conducting_steps as f64 * sim.h * 1e3,
         energy_balance_error,
         step_converged: true,
-    }
+    };
+    (
+        state,
+        Some(Warm {
+            sim,
+            start_v: start,
+        }),
+    )
 }
 
 /// One half-cycle on a fixed grid, with the source precomputed.
@@ -267,14 +314,32 @@ struct HalfCycle {
 }
 
 impl HalfCycle {
+    /// The grid of `coarse` (the same rectifier) with twice the steps: every other sample
+    /// is the coarse one (the same instant to the last bit: `h` halves exactly).
+    fn refined(coarse: &HalfCycle, r: &Rectifier) -> Self {
+        let steps = coarse.source.len() * 2;
+        let half_period = 0.5 / r.frequency_hz;
+        let h = half_period / steps as f64;
+        let (omega, peak) = (coarse.omega, coarse.peak);
+        let between = rectified_sine(peak, omega, h, 1, 2, coarse.source.len());
+        let mut source = Vec::with_capacity(steps);
+        for (&new, &old) in between.iter().zip(&coarse.source) {
+            source.push(new);
+            source.push(old);
+        }
+        HalfCycle {
+            h,
+            source,
+            ..*coarse
+        }
+    }
+
     fn new(r: &Rectifier, steps: usize) -> Self {
         let half_period = 0.5 / r.frequency_hz;
         let h = half_period / steps as f64;
         let omega = 2.0 * std::f64::consts::PI * r.frequency_hz;
         let peak = r.source_peak_v();
-        let source = (1..=steps)
-            .map(|n| peak * (omega * n as f64 * h).sin().abs())
-            .collect();
+        let source = rectified_sine(peak, omega, h, 1, 1, steps);
         HalfCycle {
             h,
             omega,
@@ -323,9 +388,42 @@ impl HalfCycle {
         let mut dv_prev = 1.0;
         let mut dv = 1.0;
         let mut conducting = false;
-        for (n, &source) in self.source.iter().enumerate() {
+        let steps = self.source.len();
+        let mut n = 0;
+        while n < steps {
+            let source = self.source[n];
             let u = source - self.drop;
             let v_off = self.discharged(v, h)?;
+            if u <= v_off && wave.is_none() {
+                // A blocked stretch, most of a half-cycle: the same arithmetic as the general
+                // step below without its bookkeeping. Nothing flows, so the sums and the
+                // peak stay; the load alone discharges, so v only falls and of the tally
+                // only the valley can move, to the stretch's last voltage.
+                let mut v_off = v_off;
+                loop {
+                    if !(v_off.is_finite() && v_off > self.floor) {
+                        return Err(Collapse);
+                    }
+                    let dv_next = v / v_off * dv;
+                    v_prev = v;
+                    v = v_off;
+                    dv_prev = dv;
+                    dv = dv_next;
+                    n += 1;
+                    if n == steps {
+                        break;
+                    }
+                    v_off = self.discharged(v, h)?;
+                    if self.source[n] - self.drop > v_off {
+                        break;
+                    }
+                }
+                conducting = false;
+                if let Some(t) = tally.as_deref_mut() {
+                    t.v_min = t.v_min.min(v);
+                }
+                continue;
+            }
             let (v_next, i, dv_next) = if u > v_off {
                 // Implicit step: a v_{n+1} = A + k ((u - v)/R - P/v), a quadratic in v.
                 let (a, b, beta) = if conducting {
@@ -377,6 +475,7 @@ impl HalfCycle {
             v = v_next;
             dv_prev = dv;
             dv = dv_next;
+            n += 1;
         }
         Ok((v, dv))
     }
@@ -406,17 +505,27 @@ impl HalfCycle {
     }
 
     /// `g(v) = map(v) - v` and its slope at one start voltage, or `None` on collapse.
+    /// The half-cycle's tally comes with it: if this start is accepted, its run need not
+    /// be repeated.
     fn probe(&self, v: f64) -> Option<Probe> {
-        let (end, slope) = self.run(v, None, None).ok()?;
+        let mut tally = Tally::default();
+        let (end, slope) = self.run(v, Some(&mut tally), None).ok()?;
         Some(Probe {
             v,
             g: end - v,
             s: slope - 1.0,
+            tally,
         })
     }
 
     /// The start voltage that repeats after one half-cycle: `(voltage, half-cycles run,
-    /// converged)`, or `Err(half-cycles run)` when no start sustains the load.
+    /// converged, the tally of the half-cycle from that start where a probe ran it)`, or
+    /// `Err(half-cycles run)` when no start sustains the load.
+    ///
+    /// A `guess` (the steady state at a coarser step) is tried first, with up to
+    /// [`WARM_PROBES`] Newton steps from it; a probe there is accepted on the same terms as
+    /// any other (settled, with `g` falling through the root), otherwise the search below
+    /// runs as if there had been no guess.
     ///
     /// With a constant-power load `g(v) = map(v) - v` has two roots: the stable steady
     /// state (where `g` falls through zero) and, below it, an unstable one (where it
@@ -434,7 +543,7 @@ impl HalfCycle {
     /// remembered and trusted later only if a proven bound covers them. A collapse from a
     /// start proven above the stable root means there is none. A root is accepted only
     /// where `g` falls through it (`g' < 0`), and a bracket only with a proven lower end.
-    fn fixed_point(&self, top: f64) -> Result<(f64, usize, bool), usize> {
+    fn fixed_point(&self, top: f64, guess: Option<f64>) -> Result<FixedPoint, usize> {
         /// How far below the predicted root a probe aims (fraction of the Newton step).
         const OVERSHOOT: f64 = 0.1;
         let tolerance = STEADY_STATE_TOLERANCE * self.peak;
@@ -443,12 +552,24 @@ impl HalfCycle {
             |p: &Probe| falling(p) && p.g.abs() <= tolerance && (p.g / p.s).abs() <= tolerance;
         let newton = |p: &Probe| falling(p).then(|| p.v - p.g / p.s);
 
-        let mut runs = 1;
+        let mut runs = 0;
+        let mut next = guess.filter(|&g| g.is_finite() && g > self.floor && g <= top);
+        for _ in 0..WARM_PROBES {
+            let Some(x) = next else { break };
+            runs += 1;
+            let Some(p) = self.probe(x) else { break };
+            if settled(&p) {
+                return Ok((p.v, runs, true, Some(p.tally)));
+            }
+            next = newton(&p).filter(|&n| n.is_finite() && n > self.floor && n <= top);
+        }
+
+        runs += 1;
         let Some(first) = self.probe(top) else {
             return Err(runs);
         };
         if first.g >= 0.0 || settled(&first) {
-            return Ok((top, runs, true));
+            return Ok((top, runs, true, Some(first.tally)));
         }
         // Lowest evaluated start proven above the stable root (g < 0).
         let mut hi = first;
@@ -483,7 +604,7 @@ impl HalfCycle {
             }
             let x = if let Some(l) = lo {
                 if upper - l.v <= tolerance {
-                    return Ok((0.5 * (l.v + upper), runs, true));
+                    return Ok((0.5 * (l.v + upper), runs, true, None));
                 }
                 // `upper` itself is proven: a stiff path makes the map nearly flat, and then
                 // the steady state lies at `map(hi)`.
@@ -521,7 +642,7 @@ impl HalfCycle {
                 continue;
             };
             if settled(&p) {
-                return Ok((p.v, runs, true));
+                return Ok((p.v, runs, true, Some(p.tally)));
             }
             if p.g > 0.0 {
                 lo = Some(lo.map_or(p, |l| if p.v > l.v { p } else { l }));
@@ -541,11 +662,39 @@ impl HalfCycle {
         }
         match lo {
             // Both sides are known: the steady state exists, not yet found to tolerance.
-            Some(l) => Ok((0.5 * (l.v + hi.v + hi.g), runs, false)),
+            Some(l) => Ok((0.5 * (l.v + hi.v + hi.g), runs, false, None)),
             // No start was ever shown to gain charge over a half-cycle.
             None => Err(runs),
         }
     }
+}
+
+/// Samples between two exact sines in [`rectified_sine`].
+const SINE_ANCHOR: usize = 16;
+
+/// `peak |sin(omega t)|` at `t = (first + k stride) h` for `k` in `0..count`: an exact sine
+/// every [`SINE_ANCHOR`] samples and a rotation by `omega stride h` in between (each adds
+/// about one rounding unit, so at most about 16 of them: 4e-15 of the peak).
+fn rectified_sine(
+    peak: f64,
+    omega: f64,
+    h: f64,
+    first: usize,
+    stride: usize,
+    count: usize,
+) -> Vec<f64> {
+    let (sin_step, cos_step) = (omega * stride as f64 * h).sin_cos();
+    let mut out = Vec::with_capacity(count);
+    let (mut sin, mut cos) = (0.0f64, 1.0f64);
+    for k in 0..count {
+        (sin, cos) = if k % SINE_ANCHOR == 0 {
+            (omega * (first + k * stride) as f64 * h).sin_cos()
+        } else {
+            (sin * cos_step + cos * sin_step, cos * cos_step - sin * sin_step)
+        };
+        out.push(peak * sin.abs());
+    }
+    out
 }
 
 /// One evaluation of the half-cycle map: start `v`, `g = map(v) - v` and `s = g'(v)`.
@@ -554,4 +703,9 @@ struct Probe {
     v: f64,
     g: f64,
     s: f64,
+    tally: Tally,
 }
+
+/// What [`HalfCycle::fixed_point`] found: start voltage, half-cycles run, converged, and
+/// the tally of the half-cycle from that start where a probe ran it.
+type FixedPoint = (f64, usize, bool, Option<Tally>);

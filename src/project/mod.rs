@@ -212,6 +212,17 @@ pub struct Circuit {
     pub accessible: bool,
     pub earthed: bool,
     pub description: Option<String>,
+    /// Net names of this circuit as the board's fabrication files carry them (`.N`).
+    pub nets: Vec<crate::raw::Located<String>>,
+    pub span: Span,
+}
+
+/// `[board]`: fabrication files to measure distances from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BoardSpec {
+    /// As written, relative to the project file.
+    pub files: Vec<crate::raw::Located<String>>,
+    pub thickness_mm: f64,
     pub span: Span,
 }
 
@@ -321,6 +332,8 @@ pub struct Project {
     pub converter: Option<crate::power_entry::ConverterSpec>,
     /// `[emc]`; `None` when absent.
     pub emc: Option<crate::emc::EmcSpec>,
+    /// `[board]`; `None` when absent (distances are then only as declared).
+    pub board: Option<BoardSpec>,
     /// Tables present in the file that this version reads but does not evaluate.
     pub not_evaluated: Vec<String>,
     /// Where the project-wide keys were written (`mains.nominal_v`, ...), for later messages.

@@ -42,6 +42,19 @@ pub struct RawProject {
     pub converter: TableKey<crate::power_entry::RawConverter>,
     /// Conducted emissions on the mains port and the input filter.
     pub emc: TableKey<crate::emc::RawEmc>,
+    /// The board's fabrication files, to measure clearance and creepage from.
+    pub board: TableKey<RawBoard>,
+}
+
+/// `[board]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawBoard {
+    /// Gerber X2 files (copper layers, profile, drill and rout), relative to the project file
+    /// (required).
+    pub files: Key<Texts>,
+    /// Board thickness in millimetres; default 1.6.
+    pub thickness_mm: Key<Num>,
 }
 
 /// `[design]`.
@@ -101,6 +114,8 @@ pub struct RawCircuit {
     /// Whether it is bonded to protective earth.
     pub earthed: Key<Flag>,
     pub description: Key<Text>,
+    /// Net names of this circuit as the board's files carry them (`.N`).
+    pub nets: Key<Texts>,
 }
 
 /// One `[[barrier]]`.

@@ -55,6 +55,7 @@ fn validate(source: &Source, doc: &crate::raw::Section<RawProject>) -> Result<Pr
     let mut not_evaluated = Vec::new();
     let (input, converter) = crate::power_entry::read(&mut r, &root, raw_root, &mut not_evaluated);
     let emc = crate::emc::read(&mut r, &root, raw_root, &mut not_evaluated);
+    let board = read_board(&mut r, &root, raw_root);
 
     r.finish()?;
     // Every field below was checked above; a missing one has already been reported.
@@ -76,8 +77,40 @@ fn validate(source: &Source, doc: &crate::raw::Section<RawProject>) -> Result<Pr
         input,
         converter,
         emc,
+        board,
         not_evaluated,
         key_spans,
+    })
+}
+
+/// `[board]`: the fabrication files to measure from, and the board's thickness.
+fn read_board(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option<BoardSpec> {
+    let (t, raw_t) = r.table(root, key!(raw_root.board))?;
+    if raw_t.files.is_none() {
+        r.missing(
+            &t,
+            "files",
+            "the Gerber X2 files, e.g. [\"fab/top.gbr\", \"fab/outline.gbr\"]",
+        );
+        return None;
+    }
+    let files = r.string_list(&t, key!(raw_t.files))?;
+    if files.value.is_empty() {
+        r.error(
+            &files.span,
+            "board.files",
+            "lists no file; name the Gerber X2 files of the board",
+        );
+        return None;
+    }
+    let thickness = r.number(&t, key!(raw_t.thickness_mm), &THICKNESS_MM);
+    if raw_t.thickness_mm.is_some() && thickness.is_none() {
+        return None;
+    }
+    Some(BoardSpec {
+        files: files.value,
+        thickness_mm: thickness.map_or(crate::board::DEFAULT_THICKNESS_MM, |l| l.value),
+        span: t.span.clone(),
     })
 }
 
@@ -258,6 +291,10 @@ fn read_circuits(
         let accessible = r.boolean(t, key!(raw_t.accessible));
         let earthed = r.boolean(t, key!(raw_t.earthed));
         let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
+        let nets = r
+            .string_list(t, key!(raw_t.nets))
+            .map(|l| l.value)
+            .unwrap_or_default();
         if let Some(id) = &id
             && !seen.insert(id.value.clone())
         {
@@ -282,6 +319,7 @@ fn read_circuits(
             accessible: accessible.is_some_and(|l| l.value),
             earthed: earthed.is_some_and(|l| l.value),
             description,
+            nets,
             span: t.span.clone(),
         });
     }

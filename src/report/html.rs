@@ -6,7 +6,7 @@
 
 use pulldown_cmark::{Event, Options, Parser, Tag, TagEnd, html};
 
-use super::render::CHART_COMMENT;
+use super::render::{BOARD_COMMENT, CHART_COMMENT};
 use super::view::heading_slug;
 
 /// An anchor the templates place on the HTML page (`anchor()`): exactly this form, with an
@@ -48,9 +48,14 @@ fn escape(text: &str) -> String {
 const SHORT_TABLE_ROWS: usize = 16;
 
 /// The page's body from the Markdown, and its table of contents (second-level headings).
-fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>) {
+fn body(
+    markdown: &str,
+    chart: Option<String>,
+    drawings: Vec<Option<String>>,
+) -> (String, Vec<(String, String)>) {
     let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
     let mut chart = chart;
+    let mut drawings = drawings.into_iter();
     let mut events: Vec<Event> = Vec::new();
     let mut used: Vec<String> = Vec::new();
     let mut toc = Vec::new();
@@ -122,6 +127,12 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
     for event in events {
         match event {
             // The EMC template marks where the chart goes; the SVG is gapwarden's own.
+            // The board template marks each measured barrier's drawing; gapwarden's own SVG.
+            Event::Html(text) | Event::InlineHtml(text) if text.trim() == BOARD_COMMENT => {
+                if let Some(Some(svg)) = drawings.next() {
+                    out_events.push(Event::Html(format!("<figure class=\"board\">{svg}</figure>").into()));
+                }
+            }
             Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
                 if let Some(svg) = chart.take() {
                     out_events.push(Event::Html(
@@ -232,8 +243,14 @@ fn body(markdown: &str, chart: Option<String>) -> (String, Vec<(String, String)>
 }
 
 /// The whole page.
-pub fn page(markdown: &str, title: &str, running_header: &str, chart: Option<String>) -> String {
-    let (body, toc) = body(markdown, chart);
+pub fn page(
+    markdown: &str,
+    title: &str,
+    running_header: &str,
+    chart: Option<String>,
+    drawings: Vec<Option<String>>,
+) -> String {
+    let (body, toc) = body(markdown, chart, drawings);
     let mut nav = String::from(
         "<nav class=\"toc\" aria-label=\"Contents\"><strong>Contents</strong>\n<ol>\n",
     );

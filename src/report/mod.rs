@@ -10,13 +10,13 @@ use serde::Serialize;
 use crate::ExitStatus;
 use crate::checks::{CheckOutcome, Finding, Severity, run_checks};
 use crate::diag::{Problems, Source};
-use crate::isolation::{IsolationReport, analyse};
-use crate::parts::{BridgeResult, bridges};
+use crate::isolation::IsolationReport;
+use crate::parts::BridgeResult;
 use crate::project::{
     BetweenRows, CircuitKind, OvervoltageCategory, ProtectionClass, read_project,
 };
 use crate::rules::{RuleBook, RuleInfo};
-use crate::spacing::{BarrierResult, Conditions, Verdict};
+use crate::spacing::{BarrierResult, Verdict};
 
 pub(crate) use render::number as value_number;
 pub use render::{
@@ -186,6 +186,8 @@ pub struct Report {
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
     pub emc: Option<crate::emc::EmcReport>,
+    /// Distances measured from the board's fabrication files; null without `[board]`.
+    pub board: Option<crate::board::BoardReport>,
     /// Parallel to `findings`: what the check that raised each one ran over and the
     /// verdicts its condition reads, so the report can link the finding to its figure.
     /// Not part of the JSON.
@@ -246,35 +248,6 @@ impl Report {
             || r.no_barrier
             || (r.incomplete && !allow_incomplete);
         ExitStatus::ready_unless(not_ready)
-    }
-}
-
-/// The dotted input keys (as the reader names them) that every barrier's figures rest on.
-const SHARED_BARRIER_INPUTS: &[&str] = &["environment.", "mains.nominal_v", "board."];
-
-/// A barrier that would pass on an implausible input says "check-input" instead: a figure
-/// resting on a value that looks like a unit slip is never a pass.
-fn mark_check_input(barriers: &mut [BarrierResult], warnings: &[crate::diag::Diagnostic]) {
-    let mut shared = false;
-    let mut own = std::collections::BTreeSet::new();
-    for key in warnings.iter().filter_map(|w| w.key.as_deref()) {
-        shared |= SHARED_BARRIER_INPUTS.iter().any(|p| key.starts_with(p));
-        // The reader names the n-th [[barrier]] table `barrier[n]`, from 1, in file order,
-        // which is the order of `barriers`.
-        if let Some(n) = key
-            .strip_prefix("barrier[")
-            .and_then(|rest| rest.split_once(']'))
-            .and_then(|(n, _)| n.parse::<usize>().ok())
-        {
-            own.insert(n);
-        }
-    }
-    // One pass over the barriers, however many warnings: a large design with an implausible
-    // value on every barrier stays linear.
-    for (i, b) in barriers.iter_mut().enumerate() {
-        if (shared || own.contains(&(i + 1))) && b.verdict == Verdict::Pass {
-            b.verdict = Verdict::CheckInput;
-        }
     }
 }
 
@@ -472,55 +445,12 @@ pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problem
 /// Reads a project and computes every figure, without running the checklist.
 pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     let project = read_project(source)?;
-    let cond = Conditions {
-        pollution_degree: project.environment.pollution_degree,
-        overvoltage_category: project.environment.overvoltage_category,
-        altitude_m: project.environment.altitude_m,
-        nominal_v: project.mains.nominal_v,
-        creepage_between_rows: project.design.creepage_between_rows,
-        altitude_between_rows: project.design.altitude_between_rows,
-    };
+    let cond = crate::insulation::conditions(&project);
+    let sections = crate::area::evaluate_all(&project, rules, source)?;
     let standard = project
         .design
         .standard
         .unwrap_or(crate::standards::Standard::Iec60664);
-    let mut barriers = Vec::new();
-    let mut problems = Vec::new();
-    for barrier in &project.barriers {
-        match crate::standards::evaluate(rules, &cond, standard, barrier) {
-            Ok(result) => barriers.push(result),
-            Err(errors) => {
-                for out in errors {
-                    let (key, span) = if out.key.contains('.') {
-                        (out.key.clone(), project.key_spans.get(&out.key).cloned())
-                    } else {
-                        (
-                            format!("barrier \"{}\".{}", barrier.id, out.key),
-                            Some(barrier.span_of(&out.key)),
-                        )
-                    };
-                    let d = match span {
-                        Some(span) => source.diag(&span, out.message),
-                        None => crate::diag::Diagnostic::new(&source.name, out.message),
-                    };
-                    let d = d.with_key(key);
-                    // A project-wide input out of range is reported once, not per barrier.
-                    if !problems.contains(&d) {
-                        problems.push(d);
-                    }
-                }
-            }
-        }
-    }
-    if !problems.is_empty() {
-        problems.sort_by_key(|d| (d.line, d.column));
-        return Err(Problems(problems));
-    }
-    mark_check_input(&mut barriers, &project.warnings);
-    let bridges = bridges(rules, &project, &barriers);
-    let isolation = analyse(&project);
-    let power_entry = crate::power_entry::evaluate(&project, rules, &barriers, source)?;
-    let emc = crate::emc::evaluate(&project, rules, power_entry.as_ref(), source)?;
 
     Ok(Report {
         readiness: Readiness::default(),
@@ -561,9 +491,9 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
                 description: c.description.clone(),
             })
             .collect(),
-        barriers,
-        bridges,
-        isolation: Some(isolation),
+        barriers: sections.barriers,
+        bridges: sections.bridges,
+        isolation: sections.isolation,
         input_warnings: project
             .warnings
             .iter()
@@ -581,8 +511,9 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         cautions: std::iter::once(standard.caution(project.design.standard.is_some()))
             .chain(CAUTIONS.iter().map(|c| c.to_string()))
             .collect(),
-        power_entry,
-        emc,
+        power_entry: sections.power_entry,
+        emc: sections.emc,
+        board: sections.board,
         finding_context: Vec::new(),
     })
 }
@@ -596,7 +527,8 @@ fn summarise(report: &Report) -> Summary {
         match b.verdict {
             Verdict::Pass => summary.pass += 1,
             Verdict::Fail => summary.fail += 1,
-            Verdict::Incomplete => summary.incomplete += 1,
+            // A barrier is never "not judged"; were one, it would not be complete.
+            Verdict::Incomplete | Verdict::NotJudged => summary.incomplete += 1,
             Verdict::CheckInput => summary.check_input += 1,
         }
     }
@@ -634,6 +566,11 @@ mod tests {
 
     fn warning(key: &str) -> crate::diag::Diagnostic {
         crate::diag::Diagnostic::new("p.toml", "looks implausible").with_key(key)
+    }
+
+    /// The barriers' check-input marking (`insulation::mark_check_input`), from warnings.
+    fn mark_check_input(barriers: &mut [BarrierResult], warnings: &[crate::diag::Diagnostic]) {
+        crate::insulation::mark_check_input(barriers, &crate::derivation::Suspicious::of(warnings));
     }
 
     #[test]

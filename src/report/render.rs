@@ -28,6 +28,10 @@ pub const CHART_MARKER: &str = "gapwarden-emc-chart";
 /// from the project cannot produce it, because every `<` in one is escaped on its way into
 /// the Markdown; only the comment (an HTML event, not text) is replaced by the chart.
 pub const CHART_COMMENT: &str = "<!-- gapwarden-emc-chart -->";
+/// A template line holding only this text marks where the next barrier's board drawing goes
+/// in the HTML report (the board template writes one per measured barrier, in order).
+pub const BOARD_MARKER: &str = "gapwarden-board-drawing";
+pub const BOARD_COMMENT: &str = "<!-- gapwarden-board-drawing -->";
 
 /// The template rendered first; it includes the others by name.
 const TEMPLATE_NAME: &str = "report.md.j2";
@@ -257,14 +261,16 @@ fn insert_preamble(text: &str, preamble: &str) -> String {
 /// The template source with each line that holds only the chart marker turned into the
 /// chart comment (template text, never a value the template prints).
 fn mark_chart(text: &str) -> String {
-    if !text.contains(CHART_MARKER) {
+    if !text.contains(CHART_MARKER) && !text.contains(BOARD_MARKER) {
         return text.to_string();
     }
     text.split_inclusive('\n')
         .map(|line| {
+            let end = &line[line.trim_end().len()..];
             if line.trim() == CHART_MARKER {
-                let end = &line[line.trim_end().len()..];
                 format!("{CHART_COMMENT}{end}")
+            } else if line.trim() == BOARD_MARKER {
+                format!("{BOARD_COMMENT}{end}")
             } else {
                 line.to_string()
             }
@@ -276,6 +282,24 @@ fn mark_chart(text: &str) -> String {
 /// break or HTML can come from it. Line breaks become spaces; other control characters,
 /// bidirectional overrides and zero-width characters are shown as `<U+XXXX>`.
 pub fn md_escape(text: &str) -> String {
+    // Printable ASCII without a Markdown character, most values, is decided a byte at a
+    // time: one bit per ASCII code (the characters escaped below).
+    const MARKDOWN: u128 = {
+        let mut bits = 0u128;
+        let chars = b"\\`*_[]<>|&#";
+        let mut k = 0;
+        while k < chars.len() {
+            bits |= 1 << chars[k];
+            k += 1;
+        }
+        bits
+    };
+    if text
+        .bytes()
+        .all(|b| (0x20..0x7f).contains(&b) && (MARKDOWN >> b) & 1 == 0)
+    {
+        return text.to_string();
+    }
     let special = |c: char| {
         matches!(
             c,
@@ -589,11 +613,19 @@ pub fn render_html(report: &Report, templates: &Templates) -> Result<String, Pro
     let view = view::build(&report, Page::Html, &MarkdownOptions::default());
     // Taken at the first marker; any later one is dropped, so the chart appears once.
     let chart = report.emc.as_ref().and_then(crate::emc::chart_svg);
+    // The board drawings, in the order the board template marks them (measured barriers).
+    let drawings: Vec<Option<String>> = report
+        .barriers
+        .iter()
+        .filter_map(|b| b.board.as_ref())
+        .map(|m| m.drawing_svg.clone())
+        .collect();
     Ok(super::html::page(
         &markdown,
         &format!("Pre-review checklist: {}", report.design.name),
         &view.running_header,
         chart,
+        drawings,
     ))
 }
 
@@ -636,6 +668,11 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         w: &mut W,
         fragment: &str,
     ) -> std::io::Result<()> {
+        // Printable ASCII needs no look at each character (serde_json has escaped the
+        // controls and quotes already).
+        if fragment.bytes().all(|b| (0x20..0x7f).contains(&b)) {
+            return w.write_all(fragment.as_bytes());
+        }
         let mut start = 0;
         for (i, c) in fragment.char_indices() {
             if crate::text::is_hazardous(c) {

@@ -5,7 +5,7 @@
 
 mod check_defs;
 pub mod predicate;
-mod tables;
+pub mod table;
 
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -13,8 +13,9 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use crate::diag::{Diagnostic, Problems, Source};
+pub use crate::insulation::tables::*;
 pub use check_defs::{CheckDef, Cond, Over, Retired};
-pub use tables::*;
+pub use table::{Table, TableSet};
 
 /// Tolerance for reading an input against a table row: a value within `EPS` of a row's
 /// bound counts as on it. Inputs are written with a handful of decimals in volts,
@@ -82,74 +83,25 @@ struct Header {
     check: Option<serde::de::IgnoredAny>,
 }
 
-/// A set of rule tables loaded together: one table (`Table`, found by its id) or a struct
-/// of them declared with `table_set!`.
-pub trait TableSet: Sized {
-    /// Every table of the set, parsed and checked; `None` once any has a problem (each
-    /// problem is recorded in `typed`, and the other tables are still read).
-    fn load(typed: &mut Typed) -> Option<Self>;
-}
-
-impl<T: Table> TableSet for T {
-    fn load(typed: &mut Typed) -> Option<Self> {
-        typed.get::<T>()
-    }
-}
-
-/// Declares a struct of rule tables (or of other sets) that loads itself: every field is
-/// read by its type's `Table::ID`, and all are read before any failure is reported. A new
-/// table is its file, its struct and one line in the set of the area that reads it.
-#[macro_export]
-macro_rules! table_set {
-    ($(#[$meta:meta])* pub struct $name:ident {
-        $($(#[$field_meta:meta])* pub $field:ident: $ty:ty,)*
-    }) => {
-        $(#[$meta])*
-        #[derive(Debug, Clone)]
-        pub struct $name {
-            $($(#[$field_meta])* pub $field: $ty,)*
-        }
-
-        impl $crate::rules::TableSet for $name {
-            fn load(typed: &mut $crate::rules::Typed) -> Option<Self> {
-                $(let $field = <$ty as $crate::rules::TableSet>::load(typed);)*
-                Some($name { $($field: $field?,)* })
-            }
-        }
-    };
-}
-
-table_set! {
-    /// The tables of the insulation engine, and those power entry and EMC own.
-    pub struct Tables {
-        pub impulse: ImpulseTable,
-        pub clearance: ClearanceTable,
-        pub steady_state: SteadyStateClearanceTable,
-        pub creepage: CreepageTable,
-        pub reinforced: ReinforcedRule,
-        pub altitude: AltitudeTable,
-        pub grooves: GrooveTable,
-        pub material_groups: MaterialGroupTable,
-        pub board: BoardSpacingTable,
-        pub capacitors: CapacitorSubclasses,
-        pub test_voltages: TestVoltages,
-        pub thermal: ThermalClasses,
-        pub solid: SolidInsulation,
-        pub minimums: MinimumDistances,
-        /// Tables owned by the power-entry evaluation.
-        pub power_entry: crate::power_entry::PowerEntryRules,
-        /// Tables owned by the EMC evaluation.
-        pub emc: crate::emc::EmcRules,
-        /// The end-product standards' tables (`rules/<standard>/`).
-        pub standards: crate::standards::StandardRules,
-    }
+/// Every area's rule tables: each area's own `table_set!`, loaded by the area
+/// (`area::Area::load_rules`), in `area::AREAS`.
+#[derive(Debug, Clone)]
+pub struct Tables {
+    /// Tables owned by the insulation area (spacing, isolation, bridging parts).
+    pub insulation: crate::insulation::InsulationRules,
+    /// Tables owned by the power-entry evaluation.
+    pub power_entry: crate::power_entry::PowerEntryRules,
+    /// Tables owned by the EMC evaluation.
+    pub emc: crate::emc::EmcRules,
+    /// The end-product standards' tables (`rules/<standard>/`), read by the insulation area.
+    pub standards: crate::standards::StandardRules,
 }
 
 /// All loaded tables, typed, and the checklist.
 #[derive(Debug, Clone)]
 pub struct RuleBook {
     pub info: Vec<RuleInfo>,
-    /// The tables; `book.impulse` reads through to them.
+    /// The tables by area; `book.insulation` reads through to them.
     pub tables: Tables,
     pub checks: Vec<CheckDef>,
     /// The checks, compiled once.
@@ -310,7 +262,12 @@ impl RuleBook {
             files: &files,
             problems: Vec::new(),
         };
-        let tables = Tables::load(&mut typed);
+        // Each area loads its own tables; every problem is collected.
+        let mut areas = crate::area::LoadedRules::default();
+        for area in crate::area::AREAS {
+            area.load_rules(&mut typed, &mut areas);
+        }
+        let tables = areas.complete();
         let mut problems = typed.problems;
         let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
@@ -422,7 +379,7 @@ impl RuleBook {
 }
 
 /// Typed access to the loaded rule files, collecting every problem; domain modules load
-/// their own tables through it (`PowerEntryRules::load`, `EmcRules::load`).
+/// their own tables through it (`table_set!`'s `load`, called by `Area::load_rules`).
 pub struct Typed<'a> {
     files: &'a BTreeMap<String, Loaded>,
     problems: Vec<Diagnostic>,

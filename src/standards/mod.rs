@@ -638,7 +638,9 @@ pub fn evaluate(
                 &mut result.derivation.clearance,
                 &mut result.derivation.creepage,
             ] {
-                steps.insert(0, Step::new(None, format!("{}: {note}", standard.title())));
+                steps
+                    .steps
+                    .insert(0, Step::new(None, format!("{}: {note}", standard.title())));
             }
             None
         }
@@ -723,8 +725,10 @@ fn apply(
         barrier.creepage_mm,
         creepage.mm,
     );
-    r.derivation.clearance = clearance.steps;
-    r.derivation.creepage = creepage.steps;
+    r.derivation.clearance =
+        crate::spacing::figure_derivation(barrier, "clearance", clearance, barrier.clearance_mm);
+    r.derivation.creepage =
+        crate::spacing::figure_derivation(barrier, "creepage", creepage, barrier.creepage_mm);
 }
 
 /// Collects two lookups that may both fail, so that every refusal is reported at once.

@@ -211,7 +211,7 @@ fn working_peak_above_the_impulse_governs_the_clearance() {
         working_peak_v: Some(3000.0),
         ..query()
     });
-    // IEC 60664-1:2020 Table F.8, Case A, 3.0 kV -> 2.4 mm (confirmed, REFERENCES [N20]),
+    // IEC 60664-1:2020 Table F.8, Case A, 3.0 kV -> 2.4 mm (confirmed, [N20]),
     // above the 0.5 mm of the 1.5 kV transient (Table F.2, confirmed)
     assert_mm(r.required_clearance_mm, 2.4);
     let lower = run(&SpacingQuery {
@@ -503,13 +503,13 @@ fn reinforced_clearance_at_the_top_of_the_preferred_series_is_160_percent_read_a
         ..query()
     });
     // IEC 60664-1 reinforced insulation: 12 kV is the top of the preferred series; 160 % of it,
-    // 19.2 kV, read at the next row (REFERENCES "Reinforced and double insulation", from memory of clause 5.1.6)
+    // 19.2 kV, read at the next row (rules/SOURCES.md "Reinforced and double insulation", from memory of clause 5.1.6)
     assert_close(
         r.clearance_impulse_v
             .expect("an impulse for a reinforced barrier"),
         19200.0,
     );
-    // IEC 60664-1:2020 Table F.2, next row 20 kV, Case A -> 25 mm (confirmed, REFERENCES [N20])
+    // IEC 60664-1:2020 Table F.2, next row 20 kV, Case A -> 25 mm (confirmed, [N20])
     assert_mm(r.required_clearance_mm, 25.0);
 }
 
@@ -544,7 +544,7 @@ fn reinforced_working_peak_is_read_at_160_percent() {
         ..query()
     });
     // Peak 2500 V x 160 % (from memory of IEC 60664-1 clause 5.1.6) = 4000 V;
-    // IEC 60664-1:2020 Table F.8, Case A, 4.0 kV -> 3.8 mm (confirmed, REFERENCES [N20])
+    // IEC 60664-1:2020 Table F.8, Case A, 4.0 kV -> 3.8 mm (confirmed, [N20])
     assert_close(r.steady_state_peak_v.expect("a steady-state peak"), 4000.0);
     assert_mm(r.required_clearance_mm, 3.8);
     assert_eq!(r.clearance_governed_by, "steady-state");

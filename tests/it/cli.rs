@@ -487,7 +487,7 @@ fn json_report_carries_the_contract_fields_for_both_examples() {
 fn json_class2_pri_sec_reinforced_needs_3_mm_clearance() {
     // IEC 60664-1 Table F.1: a 230 V system (row "up to 300 V"), OVC II -> 2500 V rated
     // impulse; reinforced insulation takes the next preferred value, 4000 V; Table F.2,
-    // Case A (inhomogeneous field), 4 kV -> 3.0 mm. Source: /work/shared/REFERENCES.md
+    // Case A (inhomogeneous field), 4 kV -> 3.0 mm. Source: rules/SOURCES.md
     // (Table F.1 300 V row partly confirmed; Table F.2 Case A 4 kV confirmed).
     // The example names IEC 62368-1; these are the IEC 60664-1 basics, so the standard line
     // is taken out (tests/it/standards.rs pins the IEC 62368-1 figures of the same barrier).

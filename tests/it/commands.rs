@@ -3,7 +3,7 @@
 //! `spacing`'s table and JSON, `compare --format` and `-o`, `explain` of parts, figures,
 //! checks and assumptions, the batch summary files, and the hints for common mistakes.
 //!
-//! Distances quoted below come from REFERENCES.md: a 230 V system in overvoltage category
+//! Distances quoted below come from rules/SOURCES.md: a 230 V system in overvoltage category
 //! II has a rated impulse of 2500 V (IEC 60664-1:2020 Table F.1); reinforced insulation
 //! reads one step up, 4000 V (clause 5.1.6); Table F.2 Case A at 4 kV gives 3.0 mm.
 
@@ -322,7 +322,7 @@ fn new_writes_a_blank_template_that_is_honestly_not_ready() {
     assert!(barriers.iter().all(|b| b["verdict"] == "incomplete"));
     // The template's barrier: reinforced, 250 V rms on a 230 V OVC II system -> 3.0 mm
     // (module docs); material group IIIb assumed, PD2, general column 250 V: 2.5 mm
-    // (IEC 60664-1 Table F.5, REFERENCES.md [TI1]) x 2 for reinforced = 5.0 mm.
+    // (IEC 60664-1 Table F.5, [TI1]) x 2 for reinforced = 5.0 mm.
     assert_eq!(barriers[0]["required_clearance_mm"].as_f64(), Some(3.0));
     assert_eq!(barriers[0]["required_creepage_mm"].as_f64(), Some(5.0));
     // Nothing blocks: early layout work may go on with --allow-incomplete.
@@ -401,7 +401,7 @@ fn spacing_prints_a_readable_table_by_default() {
         "{text}"
     );
     // Creepage: PD2, printed wiring, group I-IIIa at 250 V 1.0 mm x 2 = 2.0 mm for
-    // reinforced (REFERENCES.md), raised to the 3.0 mm clearance; 9 mm declared: +6 mm.
+    // reinforced (rules/SOURCES.md), raised to the 3.0 mm clearance; 9 mm declared: +6 mm.
     assert!(
         row("creepage").starts_with("creepage 3 mm 9 mm +6 mm clearance"),
         "{text}"

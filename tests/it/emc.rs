@@ -5,7 +5,7 @@
 //! capacitance, the chart, and the end-to-end behaviour of the binary.
 //!
 //! Expected values come from outside the project: the published limit definitions (as
-//! summarised in /work/shared/REFERENCES.md, "confirmed"), textbook formulas computed here,
+//! summarised in rules/SOURCES.md, "confirmed"), textbook formulas computed here,
 //! and numerical integration done here. None is read from rules/. Fixtures in
 //! tests/fixtures/emc-*.toml are invented design scenarios, not real products.
 
@@ -90,7 +90,7 @@ fn line_of(name: &str, prefix: &str) -> usize {
 
 /// Class B limit inside the sloped segment, from the published definition: the limit
 /// falls linearly with log f from `at_150k` at 150 kHz to `at_500k` at 500 kHz
-/// (CISPR 32 / CISPR 22 AC mains port; REFERENCES.md, confirmed).
+/// (CISPR 32 / CISPR 22 AC mains port; rules/SOURCES.md, confirmed).
 fn sloped_limit(at_150k: f64, at_500k: f64, frequency_hz: f64) -> f64 {
     at_150k - (at_150k - at_500k) * (frequency_hz / 150e3).log10() / (500e3_f64 / 150e3).log10()
 }
@@ -113,7 +113,7 @@ fn dbuv(peak_v: f64) -> f64 {
 
 #[test]
 fn class_b_limit_at_195_khz_is_63_82_quasi_peak_and_53_82_average() {
-    // Worked check in REFERENCES.md, computed from the published definition (CISPR 32 /
+    // Worked check in rules/SOURCES.md, computed from the published definition (CISPR 32 /
     // EN 55032 class B, AC mains port, confirmed): 66 - 10 log10(0.195/0.15)/log10(0.5/0.15).
     let qp_by_hand = sloped_limit(66.0, 56.0, 195e3);
     let av_by_hand = sloped_limit(56.0, 46.0, 195e3);
@@ -142,7 +142,7 @@ fn class_b_limit_at_195_khz_is_63_82_quasi_peak_and_53_82_average() {
 
 #[test]
 fn limit_lines_hold_their_published_values_at_the_segment_edges() {
-    // CISPR 32 / CISPR 22 AC mains port (REFERENCES.md, confirmed): class B QP 66-56
+    // CISPR 32 / CISPR 22 AC mains port (rules/SOURCES.md, confirmed): class B QP 66-56
     // (0.15-0.5 MHz, log-linear), 56 (0.5-5 MHz), 60 (5-30 MHz); AV 56-46, 46, 50.
     // Class A QP 79 (0.15-0.5 MHz), 73 (0.5-30 MHz); AV 66, 60.
     // At a transition frequency the lower limit applies (from memory of the note under
@@ -246,9 +246,9 @@ fn required_attenuation_and_corners_of_one_prescan_point_match_a_hand_calculatio
     assert_exit(&o, 0);
     let emc = &report["emc"];
     // 110 dBuV quasi-peak at 195 kHz, class B, margin 6 dB. A quasi-peak reading is held
-    // to the average limit too (a switching harmonic is a continuous wave; REFERENCES.md,
+    // to the average limit too (a switching harmonic is a continuous wave; rules/SOURCES.md,
     // common practice of pre-compliance work), and the average line is the lower: class B
-    // AV 56 falling to 46 dBuV over 0.15-0.5 MHz, linear in log f (REFERENCES.md worked
+    // AV 56 falling to 46 dBuV over 0.15-0.5 MHz, linear in log f (rules/SOURCES.md worked
     // check: 53.82 dBuV at 195 kHz); attenuation = level - limit + margin.
     let limit = sloped_limit(56.0, 46.0, 195e3);
     let attenuation = 110.0 - limit + 6.0;
@@ -306,9 +306,9 @@ fn the_governing_point_is_the_one_that_forces_the_lowest_corner() {
     assert_exit(&o, 0);
     let emc = &report["emc"];
     // The fixture's four points, with their limits from the published definition
-    // (REFERENCES.md, class B): a peak reading is held against the lower of the two
+    // (rules/SOURCES.md, class B): a peak reading is held against the lower of the two
     // limits (a peak is never below quasi-peak or average), and so is a quasi-peak reading
-    // (a switching harmonic is a continuous wave; REFERENCES.md, common practice): the
+    // (a switching harmonic is a continuous wave; rules/SOURCES.md, common practice): the
     // average line, AV 56 falling to 46 dBuV over 0.15-0.5 MHz.
     let points = [
         (195e3, 96.0, sloped_limit(56.0, 46.0, 195e3)), // quasi-peak, against average
@@ -372,7 +372,7 @@ fn the_governing_point_is_the_one_that_forces_the_lowest_corner() {
 
 #[test]
 fn lc_corner_and_the_inductance_for_a_corner_follow_f0_equals_1_over_2_pi_sqrt_lc() {
-    // f0 = 1 / (2 pi sqrt(L C)) (circuit theory; REFERENCES.md input filter formulas).
+    // f0 = 1 / (2 pi sqrt(L C)) (circuit theory; rules/SOURCES.md input filter formulas).
     for (l, c) in [(1e-3_f64, 0.47e-6_f64), (100e-6, 1e-6), (27e-3, 2.2e-9)] {
         let by_hand = 1.0 / (2.0 * PI * (l * c).sqrt());
         close(lc_corner_hz(l, c), by_hand, by_hand * 1e-12, "lc corner");
@@ -397,7 +397,7 @@ fn lc_corner_and_the_inductance_for_a_corner_follow_f0_equals_1_over_2_pi_sqrt_l
     );
     // Its corner is above the one the 120 dBuV quasi-peak point needs, held to the class A
     // average line (AV 66 dBuV at 200 kHz, from the published lines; a quasi-peak reading
-    // meets the average limit too, REFERENCES.md; margin 3 dB): a warning, with the
+    // meets the average limit too, rules/SOURCES.md; margin 3 dB): a warning, with the
     // inductance that would do.
     let a = 120.0 - 66.0 + 3.0;
     let needed = 200e3 / 10f64.powf(a / 40.0);
@@ -469,7 +469,7 @@ fn the_inductance_for_the_corner_uses_the_declared_x_capacitance() {
 fn the_y_capacitance_is_capped_by_the_touch_current_at_the_highest_voltage_and_frequency() {
     let (o, report) = check_json("emc-y-above-limit.toml");
     // IEC 60950-1:2005 Table 5A: 0.25 mA for parts not protectively earthed (a Class II
-    // product); REFERENCES.md, confirmed in substance. I = 2 pi f C V, so at 264 V, 60 Hz:
+    // product); rules/SOURCES.md, confirmed in substance. I = 2 pi f C V, so at 264 V, 60 Hz:
     let c_max_nf = 0.25e-3 / (2.0 * PI * 60.0 * 264.0) * 1e9;
     close(c_max_nf, 2.512, 0.001, "hand calculation");
     let emc = &report["emc"];
@@ -1043,7 +1043,7 @@ fn the_html_report_carries_the_chart_and_the_markdown_carries_the_table() {
     assert_eq!(rows.len(), 4, "{section}");
     assert!(rows[0].starts_with("| 195 |"), "{}", rows[0]);
     assert!(section.contains("fc = f / 10^(A / 40)"));
-    // The 195 kHz quasi-peak reading is held to the average limit too (REFERENCES.md):
+    // The 195 kHz quasi-peak reading is held to the average limit too (rules/SOURCES.md):
     // class B AV 53.82 dBuV there.
     assert!(section.contains("53.82 dBµV"));
 }
@@ -1210,7 +1210,7 @@ fn explain_prints_the_corner_and_its_formula() {
     let o = run(&["explain", &fixture("emc-single-point.toml"), "emc.corner"]);
     assert_exit(&o, 0);
     let text = stdout(&o);
-    // Quasi-peak held to the average line (REFERENCES.md): AV 56 falling to 46 dBuV.
+    // Quasi-peak held to the average line (rules/SOURCES.md): AV 56 falling to 46 dBuV.
     let a = 110.0 - sloped_limit(56.0, 46.0, 195e3) + 6.0;
     let corner = 195e3 / 10f64.powf(a / 40.0);
     assert!(text.contains("fc = f / 10^(A / 40)"), "{text}");
@@ -1287,7 +1287,7 @@ fn regression_y_capacitance_each_line_from_the_parts_is_not_counted_twice() {
         0.5,
         "declared cm corner",
     );
-    // The prescan point 80 dBuV average at 1 MHz, class B AV 46 dBuV (REFERENCES.md),
+    // The prescan point 80 dBuV average at 1 MHz, class B AV 46 dBuV (rules/SOURCES.md),
     // margin 6: A = 40 dB, corner f / 10^(A/40) = 100 kHz; the choke for it with 9.4 nF:
     // L = 1 / ((2 pi 100 kHz)^2 9.4 nF) = 0.2695 mH (twice what 18.8 nF would have asked).
     close(num(&emc["cm_corner_hz"]), 100e3, 1.0, "required corner");
@@ -1302,9 +1302,9 @@ fn regression_y_capacitance_each_line_from_the_parts_is_not_counted_twice() {
 
 #[test]
 fn regression_a_quasi_peak_only_reading_is_held_to_the_average_limit_too() {
-    // 55 dBuV quasi-peak at 1 MHz, class B: QP limit 56, AV limit 46 dBuV (REFERENCES.md,
+    // 55 dBuV quasi-peak at 1 MHz, class B: QP limit 56, AV limit 46 dBuV (rules/SOURCES.md,
     // confirmed). A switching harmonic is a continuous wave, for which the average detector
-    // reads about what quasi-peak reads (REFERENCES.md, common practice of pre-compliance
+    // reads about what quasi-peak reads (rules/SOURCES.md, common practice of pre-compliance
     // work): held to 46 dBuV with the 6 dB margin, it needs 55 - 46 + 6 = 15 dB, not 5.
     let (_, r) = emc_variant(
         "emc-single-point.toml",
@@ -1610,7 +1610,7 @@ fn regression_emc_verdicts_compare_exact_corners_not_the_printed_ones() {
     // the unrounded corners. Declared 1 mH with 0.1 uF: f0 = 15915.494 Hz (circuit theory).
     // A point that needs a corner between 15915.0 and 15915.494 Hz must fail, although
     // both print as 15915 Hz: a quasi-peak level L at 200 kHz held to the class A average
-    // 66 dBuV (REFERENCES.md), margin 3 dB; corner = 200 kHz / 10^((L - 66 + 3) / 40);
+    // 66 dBuV (rules/SOURCES.md), margin 3 dB; corner = 200 kHz / 10^((L - 66 + 3) / 40);
     // solve for 15915.2 Hz.
     let f0 = 1.0 / (2.0 * PI * (1e-3_f64 * 0.1e-6).sqrt());
     let target = 15915.2;
@@ -1636,7 +1636,7 @@ fn declared_corner_just_above_the_required_corner_is_flagged_not_rounded_onto_it
     // 0.2 Hz above the one the noise allows printed as equal and raised nothing.
     //
     // One average reading at 1 MHz, class B: limit 46 dBuV (CISPR 32, 0.5-5 MHz AV,
-    // REFERENCES.md); margin 6 dB. The level is chosen so that the required attenuation A
+    // rules/SOURCES.md); margin 6 dB. The level is chosen so that the required attenuation A
     // puts the highest second-order corner at f / 10^(A/40) = 70000.1 Hz (40 dB per decade,
     // circuit theory). The declared stage: C = 1 uF and L = 1 / ((2 pi f0)^2 C) for
     // f0 = 70000.3 Hz: 0.2 Hz above it, so 1 MHz is attenuated 40 log10(1e6 / 70000.3) dB,

@@ -1565,7 +1565,7 @@ fn regression_touch_current_with_pe_open_counts_only_the_line_side_y_capacitor()
 #[test]
 fn regression_x_discharge_counts_the_damping_capacitor_across_the_line() {
     // The shipped Class II example: 0.1 uF X plus the 0.47 uF of the R-C damping network,
-    // both across the line (circuit theory; REFERENCES.md power entry): 0.57 uF, above the
+    // both across the line (circuit theory; rules/SOURCES.md power entry): 0.57 uF, above the
     // 0.1 uF of IEC 60950-1 clause 2.1.1.7 (confirmed through a quotation), so a discharge
     // means is required. tau = 1 MOhm x 0.57 uF = 0.57 s (<= 1 s for pluggable type A);
     // 2 s after disconnection at the crest of 264 V: 373.35 V x e^(-2 / 0.57) = 11.18 V.
@@ -2124,4 +2124,153 @@ fn the_lrc_inrush_jump_over_the_blocked_bridge_matches_stepping_through_it() {
             x.peak_at_s
         );
     }
+}
+
+/// The circuits the closed-form switch-on is checked on: (what, R ohm, L H, C F, start V,
+/// mains Hz). Underdamped (the shipped example hot and cold), lossless, close to critical
+/// damping on both sides, strongly overdamped, a capacitor already charged, 60 Hz.
+const SWITCH_ON_CASES: [(&str, f64, f64, f64, f64, f64); 10] = [
+    ("example hot restart, zeta 0.506", 3.2, 470e-6, 47e-6, 0.0, 50.0),
+    ("example cold, zeta 1.66", 12.7, 470e-6, 47e-6, 0.0, 50.0),
+    ("no inductor resistance, zeta 0.158", 1.0, 470e-6, 47e-6, 0.0, 50.0),
+    ("lossless, zeta 0", 0.0, 470e-6, 47e-6, 0.0, 50.0),
+    ("just under critical, zeta 0.999", 6.318, 470e-6, 47e-6, 0.0, 50.0),
+    ("just over critical, zeta 1.001", 6.331, 470e-6, 47e-6, 0.0, 50.0),
+    ("overdamped, zeta 7.9", 50.0, 470e-6, 47e-6, 0.0, 50.0),
+    ("charged to 98 % of the crest", 10.0, 470e-6, 47e-6, 0.98 * 325.0, 50.0),
+    ("half charged, 60 Hz", 2.0, 1e-3, 100e-6, 160.0, 60.0),
+    ("small inductance, large capacitor", 0.8, 20e-6, 470e-6, 0.0, 50.0),
+];
+
+#[test]
+fn the_closed_form_switch_on_matches_a_fine_step_integration() {
+    use gapwarden::power_entry::inrush::{LrcCircuit, switch_on};
+    // Between the source's zeros and the instants where the bridge stops the current, the
+    // switch-on is a series R-L-C driven by a sinusoid from a known state: the tool writes
+    // its response in closed form (textbook series RLC step/sinusoid response: sinusoidal
+    // steady state plus the damped homogeneous part). The reference here is the test's own
+    // fourth-order Runge-Kutta (`rk4_every_step`, the bridge tested at every step) with a
+    // step of 1/4000 of the circuit's fastest time constant; at that step RK4's own error
+    // is far below the tolerance, which covers only its grid (the peak's instant is known
+    // to one step).
+    let v_pk = 325.0;
+    for (what, r, l, c, v0, f) in SWITCH_ON_CASES {
+        let x = switch_on(&LrcCircuit {
+            peak_v: v_pk,
+            frequency_hz: f,
+            inductance_h: l,
+            resistance_ohm: r,
+            capacitance_f: c,
+            start_v: v0,
+        })
+        .expect("usable");
+        assert!(x.converged && x.closed_form, "{what}");
+        let omega0 = 1.0 / (l * c).sqrt();
+        let fastest = [omega0, r / l, 1.0 / (r * c), 2.0 * PI * f]
+            .into_iter()
+            .filter(|x| x.is_finite())
+            .fold(0.0f64, f64::max);
+        let h = 1.0 / fastest / 4000.0;
+        let [peak, i2t, vmax, at] = rk4_every_step(v_pk, f, l, r, c, v0, h);
+        assert!(close(x.peak_a, peak, 1e-6), "{what}: peak {} vs {peak}", x.peak_a);
+        assert!(close(x.i2t_a2s, i2t, 1e-6), "{what}: I²t {} vs {i2t}", x.i2t_a2s);
+        assert!(
+            close(x.bulk_peak_v, vmax, 1e-6),
+            "{what}: bulk {} vs {vmax}",
+            x.bulk_peak_v
+        );
+        assert!(
+            (x.peak_at_s - at).abs() <= 2.0 * h,
+            "{what}: peak at {} vs {at}",
+            x.peak_at_s
+        );
+    }
+}
+
+#[test]
+fn the_closed_form_switch_on_meets_the_textbook_step_response() {
+    use gapwarden::power_entry::inrush::{LrcCircuit, switch_on};
+    // At 0.01 Hz the source stays at its crest for the whole ringing: a step of V. The
+    // textbook series RLC step response from rest: alpha = R / 2L, w0 = 1 / sqrt(LC),
+    // wd = sqrt(w0² - alpha²); i(t) = V / (wd L) e^(-alpha t) sin(wd t), peak at
+    // t = atan(wd / alpha) / wd; the capacitor peaks at V (1 + e^(-alpha pi / wd)) when
+    // the current returns to zero (the bridge then holds it); I²t of the first half-wave
+    // of the ringing, integral of i² from 0 to pi / wd, worked out:
+    // (V / wd L)² [1 - e^(-2 alpha pi / wd)] wd² / (4 alpha (alpha² + wd²)).
+    let (v, l, r, c) = (325.0, 470e-6, 1.0, 47e-6);
+    let x = switch_on(&LrcCircuit {
+        peak_v: v,
+        frequency_hz: 0.01,
+        inductance_h: l,
+        resistance_ohm: r,
+        capacitance_f: c,
+        start_v: 0.0,
+    })
+    .expect("usable");
+    let alpha = r / (2.0 * l);
+    let w0 = 1.0 / (l * c).sqrt();
+    let wd = (w0 * w0 - alpha * alpha).sqrt();
+    let tp = (wd / alpha).atan() / wd;
+    let i_pk = v / (wd * l) * (-alpha * tp).exp() * (wd * tp).sin();
+    let v_top = v * (1.0 + (-alpha * PI / wd).exp());
+    let a = v / (wd * l);
+    let i2t = a * a * (1.0 - (-2.0 * alpha * PI / wd).exp()) * wd * wd
+        / (4.0 * alpha * (alpha * alpha + wd * wd));
+    assert!(x.converged && x.closed_form);
+    // The source falls by 1 - cos(2 pi 0.01 Hz x 1 ms) ~ 2e-9 during the pulse: far below
+    // these tolerances.
+    assert!(close(x.peak_a, i_pk, 1e-7), "{} vs {i_pk}", x.peak_a);
+    assert!(close(x.bulk_peak_v, v_top, 1e-7), "{} vs {v_top}", x.bulk_peak_v);
+    assert!(close(x.peak_at_s, tp, 1e-7), "{} vs {tp}", x.peak_at_s);
+    assert!(close(x.i2t_a2s, i2t, 1e-7), "{} vs {i2t}", x.i2t_a2s);
+}
+
+#[test]
+fn the_closed_form_switch_on_never_panics_and_steps_where_it_does_not_apply() {
+    use gapwarden::power_entry::inrush::{LrcCircuit, switch_on};
+    let base = LrcCircuit {
+        peak_v: 325.0,
+        frequency_hz: 50.0,
+        inductance_h: 470e-6,
+        resistance_ohm: 1.0,
+        capacitance_f: 47e-6,
+        start_v: 0.0,
+    };
+    // Unusable or extreme figures: no panic; a result has finite, non-negative figures and
+    // a capacitor below twice the crest (a lossless L-C charged from rest by a source that
+    // never exceeds the crest overshoots to at most twice it: circuit theory).
+    for value in [f64::NAN, 0.0, -1.0, f64::INFINITY, 1e-12, 1e-6, 1e3, 1e6] {
+        for field in 0..6 {
+            let mut c = base;
+            match field {
+                0 => c.peak_v = value,
+                1 => c.frequency_hz = value,
+                2 => c.inductance_h = value,
+                3 => c.resistance_ohm = value,
+                4 => c.capacitance_f = value,
+                _ => c.start_v = value,
+            }
+            if let Some(x) = switch_on(&c) {
+                assert!(
+                    [x.peak_a, x.i2t_a2s, x.bulk_peak_v, x.peak_at_s]
+                        .iter()
+                        .all(|v| v.is_finite() && *v >= 0.0),
+                    "{c:?}: {x:?}"
+                );
+                assert!(x.bulk_peak_v <= 2.0 * c.peak_v.max(c.start_v) * (1.0 + 1e-9), "{c:?}: {x:?}");
+            }
+        }
+    }
+    // No resistance and the circuit's own resonance at the mains frequency (L = 1 / (w² C)):
+    // the sinusoidal steady state is unbounded, so the closed form does not apply and the
+    // stepping simulation answers; the lossless step response bounds it (twice the crest).
+    let w = 2.0 * PI * 50.0;
+    let resonant = LrcCircuit {
+        inductance_h: 1.0 / (w * w * 47e-6),
+        resistance_ohm: 0.0,
+        ..base
+    };
+    let x = switch_on(&resonant).expect("usable");
+    assert!(!x.closed_form);
+    assert!(x.bulk_peak_v > 325.0 && x.bulk_peak_v <= 650.0 * (1.0 + 1e-6), "{x:?}");
 }

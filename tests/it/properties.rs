@@ -247,7 +247,7 @@ proptest! {
     }
 
     /// Across the whole steady-state table (IEC 60664-1:2020 Table F.8 runs to 50 kV in
-    /// Case A and 100 kV in Case B, REFERENCES [N20]); peaks up to 31 kV stay inside Case A
+    /// Case A and 100 kV in Case B, [N20]); peaks up to 31 kV stay inside Case A
     /// even at 160 % for reinforced insulation.
     #[test]
     fn higher_working_peak_never_needs_less_clearance_across_the_steady_state_table(q in iec_query(), a in 10.0..=31000.0f64, b in 10.0..=31000.0f64) {

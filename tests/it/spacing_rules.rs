@@ -2,7 +2,7 @@
 //! clearance table, the altitude table read between rows, reinforced insulation above the
 //! preferred series, functional insulation, narrow grooves, the Table F.2 open point, exact
 //! verdicts and electric strength tests above the shipped table. Every expected figure comes
-//! from the shared reference notes (REFERENCES.md) or is worked out here, never from `rules/`.
+//! from the reference notes (rules/SOURCES.md) or is worked out here, never from `rules/`.
 
 use crate::common;
 use common::{query, shipped_rules as rules, spacing_of as run, spacing_refusal as refusal};
@@ -93,7 +93,7 @@ fn steady_state_peak_reads_the_steady_state_table_not_the_transient_table() {
         working_peak_v: Some(3000.0),
         ..query()
     });
-    // IEC 60664-1:2020 Table F.8, Case A, 3.0 kV -> 2.4 mm (confirmed, REFERENCES [N20]);
+    // IEC 60664-1:2020 Table F.8, Case A, 3.0 kV -> 2.4 mm (confirmed, [N20]);
     // Table F.2 at 3.0 kV would give 2.0 mm (the defect)
     assert_mm(at3.required_clearance_mm, 2.4);
     assert_eq!(at3.clearance_governed_by, "steady-state");
@@ -117,7 +117,7 @@ fn steady_state_peak_reads_the_steady_state_table_not_the_transient_table() {
 
 #[test]
 fn steady_state_table_case_a_check_values() {
-    // IEC 60664-1:2020 Table F.8, Case A (confirmed, REFERENCES [N20]); PD1, no minimum
+    // IEC 60664-1:2020 Table F.8, Case A (confirmed, [N20]); PD1, no minimum
     for (kv, mm) in [
         (0.8, 0.13),
         (1.0, 0.26),
@@ -147,7 +147,7 @@ fn steady_state_table_case_a_check_values() {
 
 #[test]
 fn steady_state_table_case_b_check_values() {
-    // IEC 60664-1:2020 Table F.8, Case B (confirmed, REFERENCES [N20]); PD1, no minimum
+    // IEC 60664-1:2020 Table F.8, Case B (confirmed, [N20]); PD1, no minimum
     for (kv, mm) in [
         (1.0, 0.15),
         (3.0, 0.8),
@@ -184,7 +184,7 @@ fn steady_state_peak_beyond_case_a_is_refused_never_extrapolated() {
         transient_v: Some(330.0),
         ..query()
     });
-    // IEC 60664-1:2020 Table F.8: Case A ends at 50 kV (REFERENCES [N20])
+    // IEC 60664-1:2020 Table F.8: Case A ends at 50 kV ([N20])
     assert!(
         message.contains("50") && message.contains("Case A"),
         "the refusal should name the end of Case A: {message}"
@@ -217,7 +217,7 @@ fn pollution_degree_minimums_apply_to_the_steady_state_figure() {
         pollution_degree: 2,
         ..query()
     });
-    // Table F.8, 0.4 kV -> 0.02 mm (confirmed [N20]) raised to the PD2 minimum 0.2 mm (REFERENCES: minimums apply, from memory)
+    // Table F.8, 0.4 kV -> 0.02 mm (confirmed [N20]) raised to the PD2 minimum 0.2 mm (rules/SOURCES.md: minimums apply, from memory)
     assert_mm(pd2.required_clearance_mm, 0.2);
     assert_eq!(pd2.clearance_governed_by, "pollution-degree-minimum");
     let pd3 = run(&SpacingQuery {
@@ -259,7 +259,7 @@ fn altitude_between_rows_takes_the_next_higher_row_by_default() {
         altitude_m: 3500.0,
         ..query()
     });
-    // REFERENCES: between rows makers apply the next higher row; 4000 m -> 1.29 (confirmed [TI2], [SE])
+    // rules/SOURCES.md: between rows makers apply the next higher row; 4000 m -> 1.29 (confirmed [TI2], [SE])
     assert_mm(r.altitude_factor, 1.29);
     // Table F.2, 2.5 kV, Case A 1.5 mm (confirmed) x 1.29 = 1.935 mm, rounded up to 0.01 mm -> 1.94 mm
     assert_mm(r.required_clearance_mm, 1.94);
@@ -298,7 +298,7 @@ fn altitude_3500_m_is_interpolated_only_when_the_project_switches_it_on() {
 
 #[test]
 fn altitude_factors_at_every_row() {
-    // IEC 60664-1:2020 Table F.10 / 2007 Table A.2 per REFERENCES: 3000 m 1.14 (indirect [SE]),
+    // IEC 60664-1:2020 Table F.10 / 2007 Table A.2 per rules/SOURCES.md: 3000 m 1.14 (indirect [SE]),
     // 4000 m 1.29 (confirmed [TI2], [SE]), 5000 m 1.48 (confirmed [TI1], [GM], [SE]),
     // 6000 m 1.70, 7000 m 1.95, 8000 m 2.25, 9000 m 2.62, 10000 m 3.02 (from memory)
     for (m, factor) in [
@@ -371,7 +371,7 @@ fn reinforced_above_12_kv_is_160_percent_read_at_the_next_row_not_the_15_kv_row(
     });
     // IEC 60664-1 Table F.1, up to 1000 V, OVC IV -> 12000 V (confirmed [N20])
     assert_eq!(r.rated_impulse_v, Some(12000.0));
-    // 160 % of 12 kV = 19.2 kV (REFERENCES "Reinforced and double insulation", from memory of clause 5.1.6)
+    // 160 % of 12 kV = 19.2 kV (rules/SOURCES.md "Reinforced and double insulation", from memory of clause 5.1.6)
     assert_mm(r.clearance_impulse_v.expect("an impulse"), 19200.0);
     // IEC 60664-1:2020 Table F.2, next row 20 kV, Case A -> 25 mm (confirmed [N20]); never the 15 kV row's 18 mm
     assert_mm(r.required_clearance_mm, 25.0);
@@ -639,7 +639,7 @@ rated_v = 250
 speed = "time-lag""#,
         "",
     );
-    // IEC 60950-1 Table 5B carried up to 354 V peak only (REFERENCES); 520 V is above it
+    // IEC 60950-1 Table 5B carried up to 354 V peak only (rules/SOURCES.md); 520 V is above it
     let bridge = &report.bridges[0];
     assert_eq!(bridge.required_test_v_rms, None);
     let from = bridge

@@ -165,7 +165,7 @@ fn spacing_command_with_an_implausible_distance_says_check_input() {
 
 /// `spacing` with the flags of a passing reinforced barrier at 250 V (IEC 60664-1:2020
 /// Table F.1, 230 V OVC II: 2500 V; one step up 4000 V; Table F.2 Case A 3.0 mm; creepage
-/// 250 V PD2 printed wiring 1.0 mm x 2 = 2.0 mm, raised to the clearance: REFERENCES.md),
+/// 250 V PD2 printed wiring 1.0 mm x 2 = 2.0 mm, raised to the clearance: rules/SOURCES.md),
 /// laid out at 4 / 4 mm, plus `extra`, which must give the material (group I to IIIa: the
 /// printed-wiring column; IIIb would read the general column, 2.5 mm x 2 = 5.0 mm).
 fn spacing_reinforced_with(extra: &[&str]) -> Output {
@@ -190,7 +190,7 @@ fn spacing_reinforced_with(extra: &[&str]) -> Output {
 #[test]
 fn spacing_command_with_an_implausible_cti_says_check_input_not_pass() {
     // Regression: --cti was only checked for being a number, so a CTI of 6000 (no material
-    // has one; IEC 60112 tests up to 600 V: material group I is CTI >= 600, REFERENCES.md)
+    // has one; IEC 60112 tests up to 600 V: material group I is CTI >= 600, rules/SOURCES.md)
     // gave "pass" where the same cti in a project file is input.suspicious_value.
     let o = spacing_reinforced_with(&["--cti", "6000"]);
     assert_exit(&o, 1);
@@ -207,7 +207,7 @@ fn spacing_command_with_an_implausible_cti_says_check_input_not_pass() {
 #[test]
 fn spacing_command_with_a_plausible_transient_is_not_check_input() {
     // Regression: --transient-v was judged as a working voltage (implausible above 1000 V),
-    // so every real impulse voltage (2500 V is Table F.1's 230 V OVC II value, REFERENCES.md)
+    // so every real impulse voltage (2500 V is Table F.1's 230 V OVC II value, rules/SOURCES.md)
     // turned a pass into "check-input" and exit 1. As a project file's transient_v it is
     // plausible up to 12 kV (the top of the preferred impulse series).
     let o = spacing_reinforced_with(&["--material-group", "IIIa", "--transient-v", "2500"]);
@@ -282,7 +282,7 @@ fn exit_status_is_0_only_when_ready_for_review() {
 
     // Blocking: a 1 mm clearance across reinforced insulation on 230 V mains is short
     // (IEC 60664-1 Table F.2: 2500 V impulse, one step up for reinforced -> 4000 V,
-    // 3.0 mm in Case A; from memory of the published table, REFERENCES.md).
+    // 3.0 mm in Case A; from memory of the published table, rules/SOURCES.md).
     let blocking = s.write(
         "blocking.toml",
         &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 1.0"),
@@ -668,7 +668,7 @@ fn a_house_file_replacing_a_shipped_file_of_checks_counts_the_checks_it_removes(
     );
     let folder = Path::new(&house).parent().unwrap().display().to_string();
     // 1 mm across reinforced insulation on 230 V mains: 3.0 mm is required (Table F.1
-    // 2500 V, one step up 4000 V, Table F.2 Case A 3.0 mm; REFERENCES.md).
+    // 2500 V, one step up 4000 V, Table F.2 Case A 3.0 mm; rules/SOURCES.md).
     let short = s.write(
         "short.toml",
         &example_with(CLASS2, "clearance_mm = 6.2", "clearance_mm = 1.0"),
@@ -995,7 +995,7 @@ fn toml_string(s: &str) -> String {
 
 #[test]
 fn a_prescan_just_below_the_band_is_not_called_150_khz() {
-    // CISPR 32 Table A.10/A.11 (class B conducted limits) begin at 150 kHz (REFERENCES.md;
+    // CISPR 32 Table A.10/A.11 (class B conducted limits) begin at 150 kHz (rules/SOURCES.md;
     // from memory of the published tables): 149,999.999 Hz is outside, and the message must
     // not round it onto the edge.
     let s = Scratch::new("band-edge");
@@ -1012,7 +1012,7 @@ fn a_prescan_just_below_the_band_is_not_called_150_khz() {
 
 #[test]
 fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
-    // IEC 60664-1:2020 Table F.1 covers supply systems up to 1000 V (REFERENCES.md, from
+    // IEC 60664-1:2020 Table F.1 covers supply systems up to 1000 V (rules/SOURCES.md, from
     // memory of the published table): 1000.00001 V is refused, and said as itself.
     let o = run(&[
         "spacing",
@@ -1032,7 +1032,7 @@ fn a_nominal_voltage_just_above_the_table_is_not_printed_as_its_last_row() {
 fn a_steady_state_peak_just_above_case_a_is_not_printed_as_its_last_row() {
     // Regression: the Table F.8 refusal printed the peak rounded, "a steady-state peak of
     // 50 kV is above the last row ... (0.04 to 50 kV)". IEC 60664-1:2020 Table F.8 Case A
-    // ends at 50 kV (REFERENCES.md, [N20]); reinforced reads it at 160 % of the peak (from
+    // ends at 50 kV (rules/SOURCES.md, [N20]); reinforced reads it at 160 % of the peak (from
     // memory of clause 5.1.6): 31250.00001 V x 1.6 = 50000.000016 V, just above.
     let o = run(&[
         "spacing",

@@ -146,7 +146,7 @@ pub fn functional_spacing(
             show(B3_ABOVE_M)
         ),
     ));
-    let (mm, step) = table_spacing(&rules.board, peak, column)?;
+    let (mm, step) = table_spacing(&rules.insulation.board, peak, column)?;
     steps.push(step);
     steps.push(Step::new(
         None,

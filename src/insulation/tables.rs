@@ -1,77 +1,10 @@
-//! Typed forms of the rule tables, with the checks that make a table usable: rows in
-//! ascending order, no negative figures, every row as wide as the column list.
+//! Typed forms of the insulation area's rule tables, with the checks that make a table
+//! usable: rows in ascending order, no negative figures, every row as wide as the column
+//! list.
 
 use serde::Deserialize;
 
-/// A rule table as read from TOML: the permanent id of its file, and what makes it usable.
-/// A new table is this struct plus its file; the loader finds it by `ID`
-/// (`RuleBook::load`, or an area's own table list such as `PowerEntryRules`).
-pub trait Table: for<'de> Deserialize<'de> {
-    /// The `id` its rule file carries.
-    const ID: &'static str;
-
-    /// Rejects a table the engine could not read safely. The message starts with the
-    /// dotted path of the value at fault, counted from 1 (`rows[5].up_to_v: ...`); the
-    /// loader turns the path into the line, column and key through the parser's spans.
-    fn check(&self) -> Result<(), String>;
-}
-
-/// `list[n].key` (n from 1), or `list[n]` for a list of plain numbers.
-fn item(list: &str, index: usize, key: &str) -> String {
-    if key.is_empty() {
-        format!("{list}[{}]", index + 1)
-    } else {
-        format!("{list}[{}].{key}", index + 1)
-    }
-}
-
-/// Values of `list[n].key` that must rise from row to row.
-fn ascending(values: impl Iterator<Item = f64>, list: &str, key: &str) -> Result<(), String> {
-    let mut last = f64::NEG_INFINITY;
-    for (i, v) in values.enumerate() {
-        if !v.is_finite() || v < 0.0 {
-            return Err(format!(
-                "{}: {v} is not a finite figure of 0 or more",
-                item(list, i, key)
-            ));
-        }
-        if v <= last {
-            return Err(format!(
-                "{}: rows must be in strictly ascending order ({v} follows {last})",
-                item(list, i, key)
-            ));
-        }
-        last = v;
-    }
-    if last == f64::NEG_INFINITY {
-        return Err(format!("{list}: the table has no rows"));
-    }
-    Ok(())
-}
-
-/// Figures (each with its path) that must be finite and 0 or more.
-fn non_negative(values: impl Iterator<Item = (String, f64)>, what: &str) -> Result<(), String> {
-    for (path, v) in values {
-        if !v.is_finite() || v < 0.0 {
-            return Err(format!(
-                "{path}: {v} is not a finite figure of 0 or more ({what})"
-            ));
-        }
-    }
-    Ok(())
-}
-
-/// `(list[n].key, value)` for every row.
-fn column<'r, R: 'r>(
-    rows: &'r [R],
-    list: &'r str,
-    key: &'r str,
-    value: impl Fn(&R) -> Option<f64> + 'r,
-) -> impl Iterator<Item = (String, f64)> + 'r {
-    rows.iter()
-        .enumerate()
-        .filter_map(move |(i, r)| value(r).map(|v| (item(list, i, key), v)))
-}
+use crate::rules::table::{Table, ascending, column, item, non_negative};
 
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]

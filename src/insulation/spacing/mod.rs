@@ -15,22 +15,8 @@ pub(crate) use creepage::material_group;
 use crate::project::{Barrier, BetweenRows, Grade, OvervoltageCategory};
 use crate::rules::RuleBook;
 
-/// One step of a derivation: what was done, and the rule table it came from.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Step {
-    pub rule: Option<String>,
-    pub text: String,
-}
-
-impl Step {
-    /// A step citing the rule table it read (`Some(id)`), or a plain one (`None`).
-    pub fn new(rule: Option<&str>, text: impl Into<String>) -> Step {
-        Step {
-            rule: rule.map(str::to_string),
-            text: text.into(),
-        }
-    }
-}
+use crate::derivation::{Derivation, steps_only};
+pub use crate::derivation::{Step, Verdict};
 
 /// A required distance and how it was found.
 #[derive(Debug, Clone, PartialEq)]
@@ -68,30 +54,6 @@ pub struct Conditions {
     pub altitude_between_rows: BetweenRows,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Verdict {
-    Pass,
-    Fail,
-    Incomplete,
-    /// The distances would pass, but an input they rest on looks implausible (an
-    /// `input.suspicious_value`): the input must be checked before the barrier can pass.
-    #[serde(rename = "check-input")]
-    CheckInput,
-}
-
-impl Verdict {
-    /// The word the JSON and the reports use.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Verdict::Pass => "pass",
-            Verdict::Fail => "fail",
-            Verdict::Incomplete => "incomplete",
-            Verdict::CheckInput => "check-input",
-        }
-    }
-}
-
 /// For double insulation: the basic and supplementary parts, each dimensioned on its own.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DoubleParts {
@@ -113,13 +75,21 @@ pub struct FunctionalFigures {
     pub ipc2221b_column: String,
 }
 
+/// The barrier's two figures, each a [`Derivation`]; the JSON shows each as its list of
+/// steps, as it always has.
 #[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Derivation {
-    pub clearance: Vec<Step>,
-    pub creepage: Vec<Step>,
+pub struct BarrierDerivation {
+    #[serde(serialize_with = "steps_only")]
+    pub clearance: Derivation,
+    #[serde(serialize_with = "steps_only")]
+    pub creepage: Derivation,
     /// How the electric strength test voltage was found (`crate::standards`).
     pub electric_strength: Vec<Step>,
 }
+
+/// The input keys every barrier's figures rest on (as the reader names them); a barrier's
+/// own table adds `barrier[n]` (see `insulation`).
+pub const SHARED_BARRIER_INPUTS: &[&str] = &["environment.", "mains.nominal_v", "board."];
 
 /// Everything the report says about one barrier. The field names are the JSON contract.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -191,7 +161,22 @@ pub struct BarrierResult {
     pub test_v_basis: String,
     /// "computed", "not-applicable" (functional insulation) or "not-carried".
     pub test_v_state: &'static str,
-    pub derivation: Derivation,
+    /// Clearance measured on the board's fabrication files (`[board]`); null where not
+    /// measured (no `[board]`, a circuit without `nets`, or no copper of one circuit on an
+    /// outer layer).
+    pub measured_clearance_mm: Option<f64>,
+    /// Creepage measured on the board's fabrication files; null where not measured.
+    pub measured_creepage_mm: Option<f64>,
+    /// The distances the verdict rests on: the smaller of the declared and the measured
+    /// one (either where only one is known).
+    pub judged_clearance_mm: Option<f64>,
+    pub judged_creepage_mm: Option<f64>,
+    /// "clearance" and/or "creepage" where the declared and the measured figure differ by
+    /// more than 5 % (or 0.1 mm, whichever is larger).
+    pub measured_differs: Vec<&'static str>,
+    /// The measurement's witness: paths with their layers and points, inner layers.
+    pub board: Option<crate::board::BarrierMeasurement>,
+    pub derivation: BarrierDerivation,
 }
 
 /// Rounds away floating-point noise for output (micrometre resolution).
@@ -286,12 +271,46 @@ pub fn evaluate(
         test_v_dc: None,
         test_v_basis: String::new(),
         test_v_state: "not-carried",
-        derivation: Derivation {
-            clearance: clearance.steps,
-            creepage: creepage.steps,
+        measured_clearance_mm: None,
+        measured_creepage_mm: None,
+        judged_clearance_mm: barrier.clearance_mm,
+        judged_creepage_mm: barrier.creepage_mm,
+        measured_differs: Vec::new(),
+        board: None,
+        derivation: BarrierDerivation {
+            clearance: figure_derivation(barrier, "clearance", clearance, barrier.clearance_mm),
+            creepage: figure_derivation(barrier, "creepage", creepage, barrier.creepage_mm),
             electric_strength: Vec::new(),
         },
     })
+}
+
+/// A required distance as a derivation: `<barrier>.clearance` or `<barrier>.creepage`,
+/// judged against the declared distance (incomplete where none is declared). Its words are
+/// fixed text, so a design of many barriers allocates only the id and the steps.
+pub(crate) fn figure_derivation(
+    barrier: &Barrier,
+    what: &str,
+    figure: Figure,
+    declared_mm: Option<f64>,
+) -> Derivation {
+    Derivation {
+        id: format!("{}.{what}", barrier.id),
+        title: if what == "clearance" {
+            "Required clearance".into()
+        } else {
+            "Required creepage".into()
+        },
+        value: Some(figure.mm),
+        unit: "mm".into(),
+        verdict: Some(match declared_mm {
+            Some(d) => Verdict::of(Some(d < figure.mm)),
+            None => Verdict::Incomplete,
+        }),
+        rests_on: SHARED_BARRIER_INPUTS.iter().map(|k| (*k).into()).collect(),
+        steps: figure.steps,
+        ..Derivation::default()
+    }
 }
 
 /// Declared minus required. Rounding to micrometres hides floating-point noise, but a
@@ -310,12 +329,8 @@ pub(crate) fn margin(declared: f64, required: f64) -> f64 {
 /// The narrowest groove that counts toward creepage: X by pollution degree, reduced to a
 /// fraction of the associated clearance (the barrier's required clearance) where that is
 /// small.
-pub(crate) fn narrowest_groove(
-    rules: &RuleBook,
-    cond: &Conditions,
-    clearance_mm: f64,
-) -> (f64, Step) {
-    let table = &rules.grooves;
+pub(crate) fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (f64, Step) {
+    let table = &rules.insulation.grooves;
     let pd = cond.pollution_degree.clamp(1, 3);
     let x = table.min_width_mm[(pd - 1) as usize];
     let head = format!(
@@ -439,7 +454,7 @@ pub(crate) fn house_minimums(
     mut clearance: Figure,
     mut creepage: Figure,
 ) -> (Figure, Figure, HouseApplied) {
-    let table = &rules.minimums;
+    let table = &rules.insulation.minimums;
     let mut applied = [false, false];
     for (i, (figure, floor, what)) in [
         (&mut clearance, table.clearance_mm.get(grade), "clearance"),

@@ -52,7 +52,9 @@ pub struct BridgeResult {
     pub thermal_class: Option<String>,
     pub thermal_class_max_c: Option<f64>,
     pub hot_spot_c: Option<f64>,
-    pub derivation: Vec<Step>,
+    /// Explained as the part's reference; the JSON shows its steps, as it always has.
+    #[serde(serialize_with = "crate::derivation::steps_only")]
+    pub derivation: crate::derivation::Derivation,
 }
 
 /// Every part listed in a barrier's `bridged_by`, set beside that barrier.
@@ -99,7 +101,7 @@ fn bridge(
     let mut derivation = Vec::new();
     let working_peak_v = barrier.peak_v();
     let (subclass_bridges, mut subclass_allowed, mut series_accepted) = capacitor_fit(
-        &rules.capacitors,
+        &rules.insulation.capacitors,
         r.subclass.as_deref(),
         r.count_in_series,
         barrier.grade,
@@ -125,7 +127,7 @@ fn bridge(
             )
         }
         PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
-            &rules.test_voltages,
+            &rules.insulation.test_voltages,
             barrier.grade,
             working_peak_v,
             &mut derivation,
@@ -135,7 +137,7 @@ fn bridge(
     let thermal_class_max_c = r
         .thermal_class
         .as_deref()
-        .and_then(|c| thermal_limit(&rules.thermal, c, &mut derivation));
+        .and_then(|c| thermal_limit(&rules.insulation.thermal, c, &mut derivation));
     BridgeResult {
         barrier: barrier.id.clone(),
         part: part.reference.clone(),
@@ -161,15 +163,29 @@ fn bridge(
         external_creepage_mm: r.external_creepage_mm,
         distance_through_insulation_mm: r.distance_through_insulation_mm,
         thin_layer_rated: r.thin_layer_rated,
-        min_distance_through_insulation_mm: rules.solid.min_distance_through_insulation_mm,
+        min_distance_through_insulation_mm: rules
+            .insulation
+            .solid
+            .min_distance_through_insulation_mm,
         insulation_system: r.insulation_system.clone(),
         tape_layers: r.tape_layers,
-        min_tape_layers: rules.solid.min_tape_layers.get(barrier.grade).round() as u32,
+        min_tape_layers: rules
+            .insulation
+            .solid
+            .min_tape_layers
+            .get(barrier.grade)
+            .round() as u32,
         margin_mm: r.margin_mm,
         thermal_class: r.thermal_class.clone(),
         thermal_class_max_c,
         hot_spot_c: r.hot_spot_c,
-        derivation,
+        derivation: crate::derivation::Derivation {
+            steps: derivation,
+            ..crate::derivation::Derivation::new(
+                part.reference.clone(),
+                format!("{} across {}", part.reference, barrier.id),
+            )
+        },
     }
 }
 

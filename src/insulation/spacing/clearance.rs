@@ -439,14 +439,14 @@ pub fn required(
             v
         }
         None => {
-            let (v, step) = rated_impulse(&rules.impulse, cond)?;
+            let (v, step) = rated_impulse(&rules.insulation.impulse, cond)?;
             steps.push(step);
             v
         }
     };
     let reinforced = grade == Grade::Reinforced;
     let clearance_impulse_v = if reinforced {
-        let (v, step) = step_up(&rules.reinforced, rated_impulse_v);
+        let (v, step) = step_up(&rules.insulation.reinforced, rated_impulse_v);
         steps.push(step);
         v
     } else {
@@ -459,7 +459,7 @@ pub fn required(
     };
     let pd = cond.pollution_degree;
     let transient = table_clearance(
-        &rules.clearance,
+        &rules.insulation.clearance,
         clearance_impulse_v,
         barrier.field,
         pd,
@@ -468,7 +468,7 @@ pub fn required(
     );
 
     // The steady-state (or recurring) peak: as declared, or the peak of a sinusoid.
-    let steady_table = &rules.steady_state;
+    let steady_table = &rules.insulation.steady_state;
     let peak = match barrier.working_peak_v {
         Some(p) => {
             steps.push(Step::new(
@@ -534,7 +534,7 @@ pub fn required(
     }
 
     let index = (pd.clamp(1, 3) - 1) as usize;
-    let minimum = rules.clearance.pollution_degree_minimum_mm[index]
+    let minimum = rules.insulation.clearance.pollution_degree_minimum_mm[index]
         .max(steady_table.pollution_degree_minimum_mm[index]);
     if mm < minimum {
         steps.push(Step::new(
@@ -542,7 +542,7 @@ pub fn required(
             format!(
                 "Raised to the pollution degree {pd} minimum of {} mm ({}; the same minimum applies to {}, from memory).",
                 show(minimum),
-                rules.clearance.source,
+                rules.insulation.clearance.source,
                 steady_table.source
             ),
         ));
@@ -550,8 +550,11 @@ pub fn required(
         governed_by = "pollution-degree-minimum";
     }
 
-    let (factor, step) =
-        altitude_factor(&rules.altitude, cond.altitude_m, cond.altitude_between_rows)?;
+    let (factor, step) = altitude_factor(
+        &rules.insulation.altitude,
+        cond.altitude_m,
+        cond.altitude_between_rows,
+    )?;
     steps.push(step);
     if factor > 1.0 {
         let corrected = round_up(mm * factor, 0.01);

@@ -1,0 +1,142 @@
+//! The areas of evaluation (insulation, power entry, EMC, and whatever comes next) and the
+//! one trait each implements. The rule book, the report's assembly and `explain` go over
+//! [`AREAS`] instead of keeping their own lists of tables, sections and items.
+//!
+//! To add an area: a module that owns its checked input types, a `table_set!` set of
+//! its tables, its calculations returning [`crate::derivation::Derivation`]s, and an
+//! `impl Area`; then a field for its rules in `RuleBook`, one for its section in
+//! [`Sections`] (and the report), and an entry in [`AREAS`]. Its checks are TOML in
+//! `rules/checks/`, with finding ids grouped by area (DESIGN.md: `barrier.*`, `isolation.*`
+//! and `part.*` for insulation, `power_entry.*`, `emc.*`).
+
+use crate::derivation::Suspicious;
+use crate::diag::{Problems, Source};
+use crate::emc::EmcReport;
+use crate::insulation::isolation::IsolationReport;
+use crate::insulation::parts::BridgeResult;
+use crate::insulation::spacing::BarrierResult;
+use crate::power_entry::PowerEntryReport;
+use crate::project::Project;
+use crate::report::Report;
+use crate::rules::{RuleBook, Typed};
+
+/// An item `gapwarden explain` takes, with what it shows.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
+pub struct ExplainItem {
+    pub id: String,
+    pub shows: String,
+}
+
+impl ExplainItem {
+    pub fn new(id: impl Into<String>, shows: impl Into<String>) -> Self {
+        ExplainItem {
+            id: id.into(),
+            shows: shows.into(),
+        }
+    }
+}
+
+/// Each area's rule tables, as the rule book is being loaded (each area fills its own).
+#[derive(Default)]
+pub struct LoadedRules {
+    pub insulation: Option<crate::insulation::InsulationRules>,
+    pub power_entry: Option<crate::power_entry::PowerEntryRules>,
+    pub emc: Option<crate::emc::EmcRules>,
+    /// Loaded by the insulation area, which dimensions barriers by them.
+    pub standards: Option<crate::standards::StandardRules>,
+}
+
+impl LoadedRules {
+    /// Every area's tables, or `None` when any area's failed (its problems are recorded).
+    pub fn complete(self) -> Option<crate::rules::Tables> {
+        Some(crate::rules::Tables {
+            insulation: self.insulation?,
+            power_entry: self.power_entry?,
+            emc: self.emc?,
+            standards: self.standards?,
+        })
+    }
+}
+
+/// What the areas contribute to the report: each area writes its own section.
+#[derive(Debug, Clone, Default)]
+pub struct Sections {
+    pub barriers: Vec<BarrierResult>,
+    pub bridges: Vec<BridgeResult>,
+    pub isolation: Option<IsolationReport>,
+    /// Null when the project has no `[input]`.
+    pub power_entry: Option<PowerEntryReport>,
+    /// Null when the project has no `[emc]`.
+    pub emc: Option<EmcReport>,
+    /// Distances measured from the board's fabrication files; null without `[board]`.
+    pub board: Option<crate::board::BoardReport>,
+}
+
+/// One evaluation run: the checked project, the rules, and the sections written so far
+/// (an area may read the sections of the areas before it in [`AREAS`]).
+pub struct Evaluation<'a> {
+    pub project: &'a Project,
+    pub rules: &'a RuleBook,
+    pub source: &'a Source,
+    /// The inputs flagged implausible: a verdict resting on one is never `pass`.
+    pub suspicious: Suspicious,
+    pub sections: Sections,
+}
+
+/// An area of evaluation. The project file is read and validated as a whole (every
+/// problem in one pass) before any area runs; an area then takes its part of the checked
+/// project, and an area whose tables are absent writes no section (its JSON section is
+/// null and its `*.not_evaluated` note appears).
+pub trait Area: Sync {
+    /// `insulation`, `power_entry`, `emc`. Power entry's and EMC's explain items start
+    /// with it; insulation's are the barrier ids, `isolation`, `bridges` and part refs.
+    fn name(&self) -> &'static str;
+
+    /// Whether the project describes this area (its part of the project is present).
+    fn described(&self, project: &Project) -> bool;
+
+    /// Loads and checks the area's rule tables (`table_set!`'s `load`) into `into`;
+    /// every problem goes to `tables`.
+    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules);
+
+    /// Computes the area's figures, each with its derivation and settled verdict, and
+    /// writes its section into `run.sections`. Inputs outside a table are problems.
+    fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems>;
+
+    /// The items `explain` takes for this area in this report.
+    fn explain_items(&self, report: &Report) -> Vec<ExplainItem>;
+
+    /// Text for `explain ITEM`, if the item is this area's.
+    fn explain(&self, report: &Report, item: &str) -> Option<String>;
+}
+
+/// Every area, in evaluation order: power entry reads the barriers, EMC power entry.
+pub static AREAS: &[&dyn Area] = &[
+    &crate::insulation::Insulation,
+    &crate::power_entry::PowerEntry,
+    &crate::emc::Emc,
+];
+
+/// Runs every area over a checked project.
+pub fn evaluate_all(
+    project: &Project,
+    rules: &RuleBook,
+    source: &Source,
+) -> Result<Sections, Problems> {
+    let mut run = Evaluation {
+        project,
+        rules,
+        source,
+        suspicious: Suspicious::of(&project.warnings),
+        sections: Sections::default(),
+    };
+    for area in AREAS.iter().filter(|a| a.described(project)) {
+        area.evaluate(&mut run)?;
+    }
+    Ok(run.sections)
+}
+
+/// Every explain item of every area for this report.
+pub fn explain_items(report: &Report) -> Vec<ExplainItem> {
+    AREAS.iter().flat_map(|a| a.explain_items(report)).collect()
+}
