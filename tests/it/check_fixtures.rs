@@ -66,6 +66,11 @@ struct Case {
 const CLASS2: &str = "examples/class2-adapter.toml";
 const CLASS1: &str = "examples/class1-appliance.toml";
 const REINFORCED_8MM: &str = "tests/fixtures/iso-class2-reinforced.toml";
+const MEDICAL: &str = "examples/medical-supply.toml";
+
+/// The examples name an end-product standard (`[design] standard`); the cases whose values
+/// come from IEC 60664-1 or IEC 60950-1 Table 5B dimension by the IEC 60664-1 basics.
+const IEC60664: Edit = Set("design.standard", "\"iec60664-1\"");
 
 /// Check ids no change to the shipped inputs raises, with the reason. Each still has a
 /// "not raised" fixture in `checks_that_cannot_be_raised_are_not_raised_on_their_fixtures`.
@@ -209,9 +214,24 @@ const CASES: &[Case] = &[
         also: &[],
     },
     Case {
+        id: "barrier.test_voltage_not_carried",
+        base: MEDICAL,
+        common: &[],
+        // The tool carries the IEC 60601-1 test voltages up to the 354 V peak row only (README,
+        // "End-product standards"; IEC 60601-1 and [SLP] in rules/SOURCES.md); above it the
+        // test voltage is refused, not guessed.
+        raise: &[Set("barrier[pri-sec].working_peak_v", "360")],
+        clear: &[Set("barrier[pri-sec].working_peak_v", "354")],
+        // The same missing row leaves the optocoupler's test and the barrier's hi-pot open.
+        also: &[
+            "part.test_voltage_out_of_table",
+            "power_entry.test_voltage_beyond_table",
+        ],
+    },
+    Case {
         id: "barrier.high_frequency",
         base: CLASS2,
-        common: &[],
+        common: &[IEC60664],
         // IEC 60664-1 covers up to 30 kHz (scope); a 65 kHz switching waveform is above it.
         raise: &[Set("barrier[pri-sec].working_frequency_hz", "65000")],
         clear: &[Set("barrier[pri-sec].working_frequency_hz", "30000")],
@@ -415,7 +435,7 @@ const CASES: &[Case] = &[
         base: CLASS2,
         // At 350 V peak (184-354 V) reinforced insulation is tested at 3000 V rms (IEC
         // 60950-1 Table 5B, confirmed: "3,000 Vrms ... 240 Vrms (340 Vpk)").
-        common: &[Set("barrier[pri-sec].working_peak_v", "350")],
+        common: &[IEC60664, Set("barrier[pri-sec].working_peak_v", "350")],
         raise: &[Set("part[U3].isolation_test_v_rms", "2900")],
         clear: &[Set("part[U3].isolation_test_v_rms", "3000")],
         also: &[],
@@ -431,7 +451,7 @@ const CASES: &[Case] = &[
     Case {
         id: "part.test_voltage_out_of_table",
         base: CLASS2,
-        common: &[],
+        common: &[IEC60664],
         // IEC 60950-1 Table 5B is carried up to 354 V peak; pri-sec works at 520 V peak.
         raise: &[],
         clear: &[Set("barrier[pri-sec].working_peak_v", "350")],
@@ -450,7 +470,7 @@ const CASES: &[Case] = &[
     Case {
         id: "part.package_creepage_short",
         base: CLASS2,
-        common: &[],
+        common: &[IEC60664],
         // The barrier needs 3.0 mm creepage (above).
         raise: &[Set("part[U3].external_creepage_mm", "2.9")],
         clear: &[Set("part[U3].external_creepage_mm", "3.0")],
@@ -506,6 +526,7 @@ const CASES: &[Case] = &[
         // The path runs over both margins: 2 x 1.4 = 2.8 mm < 3.0 mm required creepage,
         // 2 x 1.5 = 3.0 mm meets it (common practice, no published source).
         common: &[
+            IEC60664,
             Set("part[T1].insulation_system", "\"margin-tape\""),
             Set("part[T1].tape_layers", "3"),
         ],
@@ -741,7 +762,9 @@ const CASES: &[Case] = &[
         // through a quotation).
         raise: &[Remove("input.bleeder_ohm")],
         clear: &[],
-        also: &[],
+        // Without a bleeder the capacitor keeps its charge: the residual voltage is then
+        // over the limit of the named end-product standard (input.end_product_standard).
+        also: &["power_entry.x_residual_high"],
     },
     Case {
         id: "power_entry.x_discharge_slow",
@@ -805,7 +828,7 @@ const CASES: &[Case] = &[
     Case {
         id: "power_entry.electric_strength_tests",
         base: CLASS2,
-        common: &[],
+        common: &[IEC60664],
         // input-output (no declared peak: sqrt(2) x 250 = 354 V) is in Table 5B; at 400 V
         // peak both reinforced barriers are above its last row (354 V).
         raise: &[],
@@ -815,7 +838,7 @@ const CASES: &[Case] = &[
     Case {
         id: "power_entry.test_voltage_beyond_table",
         base: CLASS2,
-        common: &[],
+        common: &[IEC60664],
         raise: &[],
         clear: &[Set("barrier[pri-sec].working_peak_v", "350")],
         also: &["part.test_voltage_out_of_table"],

@@ -1,6 +1,6 @@
 //! End-product standards (`[design] standard`, `spacing --standard`): check values for
 //! IEC 62368-1, IEC 60601-1 and IEC 60335-1, each taken from the project's reference notes
-//! (shared REFERENCES.md, "End-product standards") and naming its source and how sure it is,
+//! (rules/SOURCES.md: IEC 62368-1, IEC 60601-1, IEC 60335-1 and [SLP]) and naming its source and how sure it is,
 //! never read from `rules/`; the refusals; and the physical invariants per standard.
 
 use crate::common;

@@ -329,7 +329,11 @@ pub(crate) fn margin(declared: f64, required: f64) -> f64 {
 /// The narrowest groove that counts toward creepage: X by pollution degree, reduced to a
 /// fraction of the associated clearance (the barrier's required clearance) where that is
 /// small.
-pub(crate) fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (f64, Step) {
+pub(crate) fn narrowest_groove(
+    rules: &RuleBook,
+    cond: &Conditions,
+    clearance_mm: f64,
+) -> (f64, Step) {
     let table = &rules.insulation.grooves;
     let pd = cond.pollution_degree.clamp(1, 3);
     let x = table.min_width_mm[(pd - 1) as usize];
