@@ -42,6 +42,8 @@ pub struct LoadedRules {
     pub insulation: Option<crate::insulation::InsulationRules>,
     pub power_entry: Option<crate::power_entry::PowerEntryRules>,
     pub emc: Option<crate::emc::EmcRules>,
+    /// Loaded by the insulation area, which dimensions barriers by them.
+    pub standards: Option<crate::standards::StandardRules>,
 }
 
 impl LoadedRules {
@@ -51,6 +53,7 @@ impl LoadedRules {
             insulation: self.insulation?,
             power_entry: self.power_entry?,
             emc: self.emc?,
+            standards: self.standards?,
         })
     }
 }

@@ -18,7 +18,7 @@ use crate::report::{
     render_markdown_with,
 };
 use crate::rules::RuleBook;
-use crate::spacing::{BarrierResult, Conditions, evaluate};
+use crate::spacing::{BarrierResult, Conditions};
 
 /// Example projects that `gapwarden new --example NAME` writes.
 pub const EXAMPLES: &[(&str, &str)] = &[
@@ -29,6 +29,10 @@ pub const EXAMPLES: &[(&str, &str)] = &[
     (
         "class1-appliance",
         include_str!("../examples/class1-appliance.toml"),
+    ),
+    (
+        "medical-supply",
+        include_str!("../examples/medical-supply.toml"),
     ),
 ];
 
@@ -895,12 +899,35 @@ fn severity_word(s: Severity) -> &'static str {
 pub fn describe_rules(rules: &RuleBook, id: Option<&str>) -> Result<String, Problems> {
     let mut out = String::new();
     let Some(id) = id else {
-        out.push_str("Rule files\n\n");
-        for r in &rules.info {
-            out.push_str(&format!(
-                "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
-                r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
-            ));
+        out.push_str("Rule files, by standard\n");
+        // The standards' own folders first, then the basics and what every standard shares
+        // (a house file sits with the shared ones unless it is in a standard's folder).
+        let groups = crate::standards::Standard::WORDS
+            .iter()
+            .filter(|w| **w != "iec60664-1")
+            .map(|w| {
+                let title = crate::standards::Standard::from_word(w)
+                    .map(crate::standards::Standard::title)
+                    .unwrap_or("");
+                (*w, format!("{title} [{w}]"))
+            })
+            .chain(std::iter::once((
+                "shared",
+                "IEC 60664-1 basics and the tables every standard shares (parts, power entry, EMC)"
+                    .to_string(),
+            )));
+        for (word, heading) in groups {
+            out.push_str(&format!("\n{heading}\n\n"));
+            for r in rules
+                .info
+                .iter()
+                .filter(|r| crate::standards::StandardRules::standard_of(&r.file) == word)
+            {
+                out.push_str(&format!(
+                    "{}\n  {}\n  source: {}\n  provenance: {}\n  {} ({}), sha256 {}\n",
+                    r.id, r.title, r.source, r.provenance, r.origin, r.file, r.sha256
+                ));
+            }
         }
         out.push_str("\nChecks (id, severity, origin, defined at)\n\n");
         for c in &rules.checks {
@@ -1040,6 +1067,12 @@ pub struct SpacingFlags {
     /// Creepage as laid out, mm (to get a verdict).
     #[arg(long, value_name = "MM")]
     pub creepage_mm: Option<f64>,
+    /// End-product standard whose tables and method apply (iec60664-1: the horizontal basics).
+    #[arg(long, value_enum, default_value = "iec60664-1")]
+    pub standard: crate::standards::Standard,
+    /// Under --standard iec60601-1: the means of protection (replaces --grade).
+    #[arg(long, value_enum)]
+    pub means: Option<crate::standards::Means>,
 }
 
 impl SpacingFlags {
@@ -1222,6 +1255,17 @@ pub fn spacing_with_warnings(
     rules: &RuleBook,
     q: &SpacingQuery,
 ) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
+    spacing_under(rules, q, crate::standards::Standard::Iec60664, None)
+}
+
+/// As [`spacing_with_warnings`], under an end-product standard (`--standard`), with a means
+/// of protection in place of the grade under IEC 60601-1 (`--means`).
+pub fn spacing_under(
+    rules: &RuleBook,
+    q: &SpacingQuery,
+    standard: crate::standards::Standard,
+    means: Option<crate::standards::Means>,
+) -> Result<(BarrierResult, Vec<Diagnostic>), Problems> {
     use crate::project::{ALTITUDE_M, CTI, DISTANCE_MM, TRANSIENT_V, VOLTAGE_V};
     let mut problems = Vec::new();
     let mut warnings = Vec::new();
@@ -1269,7 +1313,8 @@ pub fn spacing_with_warnings(
     let barrier = Barrier {
         id: "spacing".to_string(),
         between: ["a".to_string(), "b".to_string()],
-        grade: q.grade,
+        grade: means.map(crate::standards::Means::grade).unwrap_or(q.grade),
+        means,
         working_rms_v: q.working_rms_v,
         working_peak_v: q.working_peak_v,
         transient_v: q.transient_v,
@@ -1301,7 +1346,7 @@ pub fn spacing_with_warnings(
         creepage_between_rows: q.creepage_between_rows,
         altitude_between_rows: q.altitude_between_rows,
     };
-    let result = evaluate(rules, &cond, &barrier).map_err(|errors| {
+    let result = crate::standards::evaluate(rules, &cond, standard, &barrier).map_err(|errors| {
         Problems(
             errors
                 .into_iter()
@@ -1309,6 +1354,9 @@ pub fn spacing_with_warnings(
                     let flag = match e.key.as_str() {
                         "mains.nominal_v" => "--nominal-v".to_string(),
                         "environment.altitude_m" => "--altitude-m".to_string(),
+                        "environment.pollution_degree" => "--pollution-degree".to_string(),
+                        "environment.overvoltage_category" => "--overvoltage-category".to_string(),
+                        "grade" if means.is_some() => "--means".to_string(),
                         k => format!("--{}", k.replace('_', "-")),
                     };
                     Diagnostic::new("command line", e.message).with_key(flag)

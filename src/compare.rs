@@ -139,6 +139,9 @@ pub struct ComparisonModel {
     pub new: RevisionInfo,
     /// House rule files in force (both revisions are evaluated with the same rules).
     pub house_rules: Vec<crate::report::HouseFile>,
+    /// Where the two revisions name different standards: the sentence saying that the
+    /// figures follow the new one (a figure may change with no change of layout).
+    pub standard_change: Option<String>,
     pub figures: Vec<FigureChange>,
     pub findings: Vec<FindingChange>,
     pub isolation: Vec<IsolationChange>,
@@ -220,6 +223,12 @@ pub fn comparison_model(
         old: revision_info(old),
         new: revision_info(new),
         house_rules: new.house.rules.clone(),
+        standard_change: (old.design.standard != new.design.standard).then(|| {
+            format!(
+                "The standard changed from {} to {}: the required figures and test voltages below follow the new standard's tables and method, so a figure may change with no change of layout.",
+                old.design.standard_title, new.design.standard_title
+            )
+        }),
         figures: figure_changes(old, new),
         findings: finding_changes(old, new),
         isolation: isolation_changes(old, new),
@@ -287,6 +296,7 @@ fn figure_changes(old: &Report, new: &Report) -> Vec<FigureChange> {
                         a.creepage_margin_mm,
                         b.creepage_margin_mm,
                     ),
+                    ("electric strength test, V rms", a.test_v_rms, b.test_v_rms),
                 ] {
                     if before != after {
                         rows.push(figure(id, what, mm(before), mm(after), (before, after)));
@@ -585,6 +595,9 @@ pub fn model_markdown(m: &ComparisonModel) -> String {
         e(&m.old.readiness),
         e(&m.new.readiness)
     ));
+    if let Some(change) = &m.standard_change {
+        out.push_str(&format!("**{}**\n\n", e(change)));
+    }
     // House rules apply to both revisions alike; say so first, with each file's hash.
     if !m.house_rules.is_empty() {
         let files: Vec<String> = m

@@ -21,6 +21,7 @@ pub mod raw;
 pub mod report;
 pub mod rules;
 pub mod schema;
+pub mod standards;
 pub mod terminal;
 pub mod text;
 

@@ -317,8 +317,12 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             format,
             rules,
         } => {
-            let (result, warnings) =
-                commands::spacing_with_warnings(&rules.load()?, &flags.query())?;
+            let (result, warnings) = commands::spacing_under(
+                &rules.load()?,
+                &flags.query(),
+                flags.standard,
+                flags.means,
+            )?;
             // The JSON on stdout stays one barrier's entry; what looks implausible goes to
             // stderr, as `input.suspicious_value` would in a report.
             for w in &warnings {

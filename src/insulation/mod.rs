@@ -69,15 +69,22 @@ impl Area for Insulation {
 
     fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
         into.insulation = crate::rules::TableSet::load(tables);
+        // The end-product standards' tables (`rules/<standard>/`) dimension barriers too.
+        into.standards = crate::rules::TableSet::load(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
         let (project, rules, source) = (run.project, run.rules, run.source);
         let cond = conditions(project);
+        // The named end-product standard, or the IEC 60664-1 basics (`crate::standards`).
+        let standard = project
+            .design
+            .standard
+            .unwrap_or(crate::standards::Standard::Iec60664);
         let mut barriers = Vec::with_capacity(project.barriers.len());
         let mut problems: Vec<Diagnostic> = Vec::new();
         for barrier in &project.barriers {
-            match spacing::evaluate(rules, &cond, barrier) {
+            match crate::standards::evaluate(rules, &cond, standard, barrier) {
                 Ok(result) => barriers.push(result),
                 Err(errors) => {
                     for out in errors {
@@ -153,7 +160,7 @@ impl Area for Insulation {
     fn explain(&self, report: &Report, item: &str) -> Option<String> {
         let mut out = String::new();
         let (barrier_id, figure) = match item.rsplit_once('.') {
-            Some((b, f @ ("clearance" | "creepage"))) => (b, Some(f)),
+            Some((b, f @ ("clearance" | "creepage" | "electric_strength"))) => (b, Some(f)),
             _ => (item, None),
         };
         if let Some(b) = report.barriers.iter().find(|b| b.id == barrier_id) {
@@ -248,6 +255,20 @@ pub fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>
         };
         out.push_str(&format!("  set by: {}\n", governed_by_words(governed_by)));
         if what == "clearance"
+            && b.standard == "iec62368-1"
+            && let (Some(t), Some(s), Some(v)) = (
+                b.transient_clearance_mm,
+                b.steady_state_clearance_mm,
+                b.steady_state_peak_v,
+            )
+        {
+            out.push_str(&format!(
+                "  procedure 1 (IEC 62368-1 Table 10 at {} V peak) {} mm; procedure 2 (Table 14 by the withstand voltage) {} mm; the larger governs\n",
+                show(v),
+                show(s),
+                show(t)
+            ));
+        } else if what == "clearance"
             && let (Some(t), Some(s), Some(v)) = (
                 b.transient_clearance_mm,
                 b.steady_state_clearance_mm,
@@ -272,6 +293,21 @@ pub fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>
             ));
         }
         numbered_steps(out, &derivation.steps);
+    }
+    if figure.is_none_or(|f| f == "electric_strength") {
+        let shown = |v: Option<f64>, unit: &str| {
+            v.map(|v| format!("{} {unit}", show(v)))
+                .unwrap_or_else(|| "none".to_string())
+        };
+        out.push_str(&format!(
+            "{}.electric_strength: {} a.c., {} peak or d.c. ({}; {})\n",
+            b.id,
+            shown(b.test_v_rms, "V rms"),
+            shown(b.test_v_dc, "V"),
+            b.standard_title,
+            b.test_v_basis
+        ));
+        numbered_steps(out, &b.derivation.electric_strength);
     }
 }
 
@@ -299,6 +335,10 @@ fn governed_by_words(value: &str) -> String {
         "creepage-table" => "the creepage table (IEC 60664-1 Table F.5)",
         "clearance" => "the required clearance (creepage is never less)",
         "house-minimum" => "a house minimum",
+        "procedure-1" => "IEC 62368-1 procedure 1 (Table 10 by the peak working voltage)",
+        "procedure-2" => "IEC 62368-1 procedure 2 (Table 14 by the required withstand voltage)",
+        "mopp-table" => "the IEC 60601-1 MOPP table (by working voltage)",
+        "moop-table" => "the IEC 60601-1 MOOP row carried",
         other => other,
     };
     format!("{words} [{value}]")

@@ -15,6 +15,8 @@ pub struct BridgeResult {
     pub part: String,
     pub kind: PartKind,
     pub grade: Grade,
+    /// Under IEC 60601-1: the barrier's means of protection ("2-mopp", ...).
+    pub means_of_protection: Option<&'static str>,
     pub working_rms_v: f64,
     /// Declared working peak, or the rms value times sqrt(2).
     pub working_peak_v: f64,
@@ -98,14 +100,32 @@ fn bridge(
     let r = &part.ratings;
     let mut derivation = Vec::new();
     let working_peak_v = barrier.peak_v();
-    let (subclass_bridges, subclass_allowed, series_accepted) = capacitor_fit(
+    let (subclass_bridges, mut subclass_allowed, mut series_accepted) = capacitor_fit(
         &rules.insulation.capacitors,
         r.subclass.as_deref(),
         r.count_in_series,
         barrier.grade,
         &mut derivation,
     );
+    if let Some(ok) = crate::standards::two_mopp_capacitor(
+        barrier.means,
+        part.kind,
+        r.subclass.as_deref(),
+        r.count_in_series,
+        &mut derivation,
+    ) {
+        subclass_allowed = ok;
+        series_accepted = false;
+    }
     let (required_test_v_rms, required_test_v_from) = match part.kind {
+        // A named end-product standard sets the barrier's test voltage (crate::standards).
+        PartKind::Optocoupler | PartKind::DigitalIsolator if result.standard != "iec60664-1" => {
+            derivation.extend(result.derivation.electric_strength.iter().cloned());
+            (
+                result.test_v_rms,
+                (result.test_v_state != "not-applicable").then(|| result.test_v_basis.clone()),
+            )
+        }
         PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
             &rules.insulation.test_voltages,
             barrier.grade,
@@ -123,6 +143,7 @@ fn bridge(
         part: part.reference.clone(),
         kind: part.kind,
         grade: barrier.grade,
+        means_of_protection: barrier.means.map(crate::standards::Means::as_str),
         working_rms_v: barrier.working_rms_v,
         working_peak_v,
         to_accessible,

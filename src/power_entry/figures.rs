@@ -106,14 +106,30 @@ struct Basis<'a> {
 pub(super) fn evaluate(
     project: &Project,
     rules: &RuleBook,
-    _barriers: &[BarrierResult],
+    barriers: &[BarrierResult],
     source: &Source,
 ) -> Result<Option<PowerEntryReport>, Problems> {
     let Some(spec) = &project.input else {
         return Ok(None);
     };
     let pe = &rules.power_entry;
-    let (standard, standard_title) = end_product_standard(spec, &pe.touch, source)?;
+    // `[design] standard` names the standard for the touch-current limits too, unless
+    // `input.end_product_standard` says otherwise or the touch table does not carry it.
+    let design_standard = project
+        .design
+        .standard
+        .map(crate::standards::Standard::as_str)
+        .filter(|s| spec.end_product_standard.is_none() && pe.touch.standard(s).is_some());
+    let (standard, standard_title) = match design_standard {
+        Some(s) => (
+            s.to_string(),
+            pe.touch
+                .standard(s)
+                .map(|t| t.title.clone())
+                .unwrap_or_else(|| s.to_string()),
+        ),
+        None => end_product_standard(spec, &pe.touch, source)?,
+    };
     let mut assumptions = Vec::new();
     let mains = mains_range(project, spec, &pe.mains, &mut assumptions);
     let mut b = Basis {
@@ -126,7 +142,12 @@ pub(super) fn evaluate(
         assumptions,
         missing: Vec::new(),
     };
-    if spec.end_product_standard.is_none() {
+    if design_standard.is_some() {
+        b.assumptions.push(format!(
+            "End-product standard {standard_title} for the touch-current limits, as [design] standard names it (rule table {}).",
+            TouchRules::ID
+        ));
+    } else if spec.end_product_standard.is_none() {
         b.assumptions.push(format!(
             "End-product standard {standard_title} for the touch-current limits (input.end_product_standard not given; rule table {}).",
             TouchRules::ID
@@ -178,11 +199,11 @@ pub(super) fn evaluate(
     let exact_rms = max_of(points.iter().map(|p| p.exact_input_rms_a));
     let (fuse, fuse_section) = fuse(&mut b, &inrush, exact_rms);
     sections.push(fuse_section);
-    let (discharge, discharge_section) = discharge(&mut b);
+    let (discharge, discharge_section) = discharge(&mut b, &standard);
     sections.push(discharge_section);
     let (touch, touch_section) = touch(&mut b, &standard, &standard_title);
     sections.push(touch_section);
-    let (test_voltages, test_section) = test_voltages(&b);
+    let (test_voltages, test_section) = test_voltages(&b, barriers);
     sections.push(test_section);
 
     // The bulk capacitor's highest voltage: switch-on, hot restart and operation.
@@ -1434,8 +1455,26 @@ fn fuse(
     )
 }
 
-fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
+fn discharge(b: &mut Basis, standard: &str) -> (DischargeReport, Section) {
     let rules = &b.rules.power_entry.discharge;
+    // A house limit holds under every standard; otherwise the end-product standard's own.
+    let residual_limit: Option<(f64, String)> = rules
+        .residual_limit_v
+        .as_ref()
+        .map(|l| (l.value, l.source.clone()))
+        .or_else(|| {
+            rules
+                .residual_limits
+                .iter()
+                .find(|l| {
+                    l.standard == standard
+                        && l.connections.iter().any(|c| {
+                            Some(c.as_str()) == b.spec.connection.as_ref().map(|x| x.as_str())
+                                || (b.spec.connection.is_none() && c == "plug")
+                        })
+                })
+                .map(|l| (l.limit_v, l.source.clone()))
+        });
     let rule = Some(DischargeRules::ID);
     let spec = b.spec;
     let connection = spec.connection.unwrap_or_else(|| {
@@ -1503,7 +1542,7 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         max_time_constant_s: limit.map(|l| l.max_time_constant_s),
         residual_after_s: t_res,
         residual_v: sig(residual),
-        residual_limit_v: rules.residual_limit_v.as_ref().map(|l| l.value),
+        residual_limit_v: residual_limit.as_ref().map(|l| l.0),
         exact_residual_v: residual,
     };
     let r_c_inputs = || {
@@ -1634,15 +1673,20 @@ fn discharge(b: &mut Basis) -> (DischargeReport, Section) {
         .rests_on(keys)
         .done(
             [vec![peak_input(b)], r_c_inputs()].concat(),
-            rules
-                .residual_limit_v
+            residual_limit
                 .as_ref()
-                .map(|l| format!("{} V ({})", show(l.value), l.source)),
+                .map(|l| format!("{} V ({})", show(l.0), l.1)),
             vec![Step::new(
                 rule,
                 format!(
-                    "{}; no limit on this voltage is shipped, a house rule may add one.{}",
+                    "{}; {}.{}",
                     rules.residual_after_s.source,
+                    match &residual_limit {
+                        Some((v, source)) => format!("limit {} V ({source})", show(*v)),
+                        None => format!(
+                            "no limit on this voltage is shipped for {standard}, a house rule may add one"
+                        ),
+                    },
                     if spec.bleeder_ohm.is_none() {
                         " Without a bleeder nothing is credited: the crest remains."
                     } else {
@@ -1930,13 +1974,53 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
     }
 }
 
-fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
+fn test_voltages(b: &Basis, results: &[BarrierResult]) -> (Vec<TestVoltage>, Section) {
     let table = &b.rules.insulation.test_voltages;
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();
-    for barrier in &b.project.barriers {
+    let mut standard_note = None;
+    for (i, barrier) in b.project.barriers.iter().enumerate() {
         let peak = barrier.peak_v();
+        // A named end-product standard sets the test voltage (crate::standards); the
+        // IEC 60950-1 table below serves the basics only.
+        if let Some(r) = results.get(i).filter(|r| r.standard != "iec60664-1") {
+            let required = r.test_v_state != "not-applicable";
+            let beyond = r.test_v_state == "not-carried";
+            let mut figure = Figure::new(
+                &format!("test_voltage.{}", barrier.id),
+                format!(
+                    "Electric strength test, {} ({})",
+                    barrier.id,
+                    r.means_of_protection.unwrap_or(barrier.grade.as_str())
+                ),
+                r.test_v_rms,
+                "V rms",
+            )
+            .formula("the end-product standard's tables (see the barrier's derivation)")
+            .done(
+                vec![input("V_work,pk", peak, "V", "the barrier's working peak")],
+                None,
+                r.derivation.electric_strength.clone(),
+            );
+            figure.not_computed_because = (!required || beyond).then(|| r.test_v_basis.clone());
+            figures.push(figure);
+            standard_note = Some(format!(
+                "Barriers are tested as {} requires (each barrier's electric strength derivation names the tables).",
+                r.standard_title
+            ));
+            out.push(TestVoltage {
+                barrier: barrier.id.clone(),
+                grade: barrier.grade,
+                working_peak_v: significant(peak),
+                required,
+                test_v_rms: r.test_v_rms,
+                row_up_to_peak_v: None,
+                beyond_table: beyond,
+                test_v_from: required.then(|| r.test_v_basis.clone()),
+            });
+            continue;
+        }
         let peak_from = if barrier.working_peak_v.is_some() {
             "working_peak_v".to_string()
         } else {
@@ -2039,12 +2123,15 @@ fn test_voltages(b: &Basis) -> (Vec<TestVoltage>, Section) {
             test_v_from,
         });
     }
-    let notes = vec![format!(
-        "From {} (rule table {}; {}).",
-        table.source,
-        TestVoltages::ID,
-        table.provenance
-    )];
+    let notes = match standard_note {
+        Some(note) => vec![note],
+        None => vec![format!(
+            "From {} (rule table {}; {}).",
+            table.source,
+            TestVoltages::ID,
+            table.provenance
+        )],
+    };
     (
         out,
         Section {

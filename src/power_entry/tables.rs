@@ -121,12 +121,27 @@ pub struct DischargeRules {
     #[serde(default)]
     pub limits: Vec<DischargeLimit>,
     pub residual_after_s: Sourced,
-    /// Not shipped: a house rule may set a limit on the residual voltage.
+    /// Not shipped: a house rule may set a limit on the residual voltage (it then holds
+    /// under every standard).
     #[serde(default)]
     pub residual_limit_v: Option<Sourced>,
+    /// A residual-voltage limit by end-product standard (the touch-current table's ids).
+    #[serde(default)]
+    pub residual_limits: Vec<ResidualLimit>,
     /// Connections to which no discharge limit applies, with the reason.
     #[serde(default)]
     pub not_applicable: Vec<NotApplicable>,
+}
+
+/// The residual-voltage limit one end-product standard sets after disconnection.
+#[derive(Debug, Clone, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ResidualLimit {
+    pub standard: String,
+    pub limit_v: f64,
+    pub source: String,
+    /// The connections (`input.connection`) it applies to; the others are not carried.
+    pub connections: Vec<String>,
 }
 
 /// A connection the discharge limit does not apply to, and why.
@@ -164,6 +179,16 @@ impl Table for DischargeRules {
         positive(&self.residual_after_s, "residual_after_s")?;
         if let Some(limit) = &self.residual_limit_v {
             positive(limit, "residual_limit_v")?;
+        }
+        if let Some(l) = self
+            .residual_limits
+            .iter()
+            .find(|l| !l.limit_v.is_finite() || l.limit_v <= 0.0)
+        {
+            return Err(format!(
+                "residual_limits: {} is not a positive figure",
+                l.limit_v
+            ));
         }
         for (i, x) in self.not_applicable.iter().enumerate() {
             if !connections().contains(&x.connection) {

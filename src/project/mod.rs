@@ -186,6 +186,8 @@ pub struct Design {
     pub creepage_between_rows: BetweenRows,
     /// How the altitude correction factor is read between two rows of its table.
     pub altitude_between_rows: BetweenRows,
+    /// `[design] standard`; `None`: the IEC 60664-1 basics, and the report says so.
+    pub standard: Option<crate::standards::Standard>,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -236,6 +238,9 @@ pub struct Barrier {
     pub id: String,
     pub between: [String; 2],
     pub grade: Grade,
+    /// Under IEC 60601-1: the means of protection the grade names; `grade` is then the
+    /// insulation it counts as (one means basic, two reinforced).
+    pub means: Option<crate::standards::Means>,
     pub working_rms_v: f64,
     pub working_peak_v: Option<f64>,
     /// Declared transient overvoltage, overriding the rated impulse voltage from the mains.

@@ -7,7 +7,7 @@ use schemars::JsonSchema;
 use serde::Deserialize;
 
 use super::{
-    BetweenRows, BoardCoating, BoardConductor, CapacitorSubclass, CircuitKind, Field, Grade,
+    BetweenRows, BoardCoating, BoardConductor, CapacitorSubclass, CircuitKind, Field,
     InsulationSystem, MaterialGroup, OvervoltageCategory, PartKind, ProtectionClass,
     ThermalClassLetter,
 };
@@ -74,6 +74,8 @@ pub struct RawDesign {
     /// How the altitude correction table is read between two rows: "next-row" (default) or
     /// "interpolate" (linear).
     pub altitude_between_rows: Key<Word<BetweenRows>>,
+    /// The end-product standard the lab applies (default: the IEC 60664-1 basics).
+    pub standard: Key<Word<crate::standards::Standard>>,
 }
 
 /// `[environment]`.
@@ -130,8 +132,8 @@ pub struct RawBarrier {
     pub id: Key<Text>,
     /// The two circuit ids it separates (required).
     pub between: Key<Texts>,
-    /// Insulation grade (required).
-    pub grade: Key<Word<Grade>>,
+    /// Insulation grade, or under IEC 60601-1 a means of protection (required).
+    pub grade: Key<Word<crate::standards::GradeWord>>,
     /// Working voltage, rms, in volts (required).
     pub working_rms_v: Key<Num<rule::VoltageV>>,
     /// Steady-state or recurring peak working voltage in volts (default: the peak of a

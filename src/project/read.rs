@@ -142,6 +142,15 @@ fn read_design(
     let altitude_between_rows = r
         .word::<BetweenRows>(&t, key!(raw_t.altitude_between_rows))
         .map_or(BetweenRows::NextRow, |l| l.value);
+    let standard = r
+        .word::<crate::standards::Standard>(&t, key!(raw_t.standard))
+        .map(|l| l.value);
+    if standard.is_none() {
+        assumptions.push(
+            "No end-product standard named ([design] standard): the IEC 60664-1 basics apply; the lab will judge against an end-product standard (iec62368-1, iec60601-1 or iec60335-1)."
+                .to_string(),
+        );
+    }
     if revision.is_none() {
         assumptions.push(
             "No revision given in [design]; the report cannot be tied to a revision.".to_string(),
@@ -154,6 +163,7 @@ fn read_design(
         protection_class,
         creepage_between_rows,
         altitude_between_rows,
+        standard,
     })
 }
 
@@ -416,7 +426,7 @@ fn read_barriers(
         };
         let id = r.required_string(t, key!(raw_t.id));
         let between = read_between(r, t, raw_t, circuit_set, &circuit_ids);
-        let grade = r.required_word::<Grade>(t, key!(raw_t.grade));
+        let grade = r.required_word::<crate::standards::GradeWord>(t, key!(raw_t.grade));
         let rms = r.required_ruled(t, key!(raw_t.working_rms_v));
         let peak = r.ruled(t, key!(raw_t.working_peak_v));
         let transient = r.ruled(t, key!(raw_t.transient_v));
@@ -525,7 +535,7 @@ fn read_barriers(
         if printed.is_none() {
             defaults.printed_board.push(id.value.clone());
         }
-        let grade = grade.value;
+        let (grade, means) = grade.value.split();
         let printed_board = printed.is_some_and(|l| l.value);
         if grade == Grade::Functional && printed_board && (conductor.is_none() || coating.is_none())
         {
@@ -535,6 +545,7 @@ fn read_barriers(
             id: id.value,
             between,
             grade,
+            means,
             working_rms_v: rms.value,
             working_peak_v: peak.map(|l| l.value),
             transient_v: transient.map(|l| l.value),

@@ -44,6 +44,13 @@ pub struct DesignInfo {
     pub name: String,
     pub revision: Option<String>,
     pub protection_class: ProtectionClass,
+    /// The standard the figures follow ("iec60664-1" when none is named).
+    pub standard: &'static str,
+    /// That standard with its edition, and what it covers.
+    pub standard_title: &'static str,
+    pub standard_scope: &'static str,
+    /// Whether the project file names the standard (`[design] standard`).
+    pub standard_named: bool,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -174,7 +181,7 @@ pub struct Report {
     /// Every check that ran, with how many items it judged and raised.
     pub checks: Vec<CheckOutcome>,
     pub rules: Vec<RuleInfo>,
-    pub cautions: Vec<&'static str>,
+    pub cautions: Vec<String>,
     /// Power entry; null when the project has no `[input]`.
     pub power_entry: Option<crate::power_entry::PowerEntryReport>,
     /// The input EMC filter; null when the project has no `[emc]`.
@@ -440,6 +447,10 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     let project = read_project(source)?;
     let cond = crate::insulation::conditions(&project);
     let sections = crate::area::evaluate_all(&project, rules, source)?;
+    let standard = project
+        .design
+        .standard
+        .unwrap_or(crate::standards::Standard::Iec60664);
 
     Ok(Report {
         readiness: Readiness::default(),
@@ -452,6 +463,10 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
             name: project.design.name.clone(),
             revision: project.design.revision.clone(),
             protection_class: project.design.protection_class,
+            standard: standard.as_str(),
+            standard_title: standard.title(),
+            standard_scope: standard.scope(),
+            standard_named: project.design.standard.is_some(),
         },
         project_file: file_name(&source.name),
         inputs_sha256: crate::sha256_hex(source.text.as_bytes()),
@@ -493,7 +508,9 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
         findings: Vec::new(),
         checks: Vec::new(),
         rules: rules.info.clone(),
-        cautions: CAUTIONS.to_vec(),
+        cautions: std::iter::once(standard.caution(project.design.standard.is_some()))
+            .chain(CAUTIONS.iter().map(|c| c.to_string()))
+            .collect(),
         power_entry: sections.power_entry,
         emc: sections.emc,
         board: sections.board,

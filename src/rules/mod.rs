@@ -93,6 +93,8 @@ pub struct Tables {
     pub power_entry: crate::power_entry::PowerEntryRules,
     /// Tables owned by the EMC evaluation.
     pub emc: crate::emc::EmcRules,
+    /// The end-product standards' tables (`rules/<standard>/`), read by the insulation area.
+    pub standards: crate::standards::StandardRules,
 }
 
 /// All loaded tables, typed, and the checklist.
@@ -386,7 +388,16 @@ pub struct Typed<'a> {
 impl Typed<'_> {
     /// The table with `T::ID`, parsed and checked; `None` (with a problem) otherwise.
     pub fn get<T: Table>(&mut self) -> Option<T> {
-        let id = T::ID;
+        self.get_by_id(T::ID, T::check)
+    }
+
+    /// A table read into one type under several ids (the end-product standards' generic
+    /// table), parsed and checked by `check`; `None` (with a problem) otherwise.
+    pub fn get_by_id<T: for<'de> Deserialize<'de>>(
+        &mut self,
+        id: &str,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) -> Option<T> {
         let Some(loaded) = self.files.get(id) else {
             self.problems.push(Diagnostic::new(
                 "rules",
@@ -401,7 +412,7 @@ impl Typed<'_> {
             None => toml::from_str::<T>(&source.text).map_err(|e| toml_problem(source, &e, "")),
         };
         match parsed {
-            Ok(table) => match table.check() {
+            Ok(table) => match check(&table) {
                 Ok(()) => Some(table),
                 Err(message) => {
                     self.problems.push(table_problem(source, &message));

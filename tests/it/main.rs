@@ -27,4 +27,5 @@ mod schema;
 mod sources;
 mod size_limits;
 mod spacing_rules;
+mod standards;
 mod verdicts;

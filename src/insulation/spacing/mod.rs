@@ -9,6 +9,9 @@ mod creepage;
 use crate::rules::Table as _;
 use serde::Serialize;
 
+pub(crate) use clearance::grade_label;
+pub(crate) use creepage::material_group;
+
 use crate::project::{Barrier, BetweenRows, Grade, OvervoltageCategory};
 use crate::rules::RuleBook;
 
@@ -31,7 +34,7 @@ pub struct OutOfTable {
 }
 
 impl OutOfTable {
-    fn new(key: &str, message: impl Into<String>) -> Self {
+    pub(crate) fn new(key: &str, message: impl Into<String>) -> Self {
         OutOfTable {
             key: key.to_string(),
             message: message.into(),
@@ -80,6 +83,8 @@ pub struct BarrierDerivation {
     pub clearance: Derivation,
     #[serde(serialize_with = "steps_only")]
     pub creepage: Derivation,
+    /// How the electric strength test voltage was found (`crate::standards`).
+    pub electric_strength: Vec<Step>,
 }
 
 /// The input keys every barrier's figures rest on (as the reader names them); a barrier's
@@ -92,7 +97,9 @@ pub struct BarrierResult {
     pub id: String,
     pub between: [String; 2],
     pub grade: Grade,
-    /// "iec60664-1" (insulation coordination) or "ipc2221b" (functional spacing on a board).
+    /// "iec60664-1" (insulation coordination), "ipc2221b" (functional spacing on a board), or
+    /// the end-product standard whose method set the figures ("iec62368-1", "iec60601-1",
+    /// "iec60335-1").
     pub method: &'static str,
     pub working_rms_v: f64,
     pub working_peak_v: Option<f64>,
@@ -114,7 +121,8 @@ pub struct BarrierResult {
     pub creepage_margin_mm: Option<f64>,
     pub verdict: Verdict,
     /// What sets the required clearance: "transient" (Table F.2), "steady-state"
-    /// (Table F.8), "pollution-degree-minimum", "ipc2221b" or "house-minimum".
+    /// (Table F.8), "pollution-degree-minimum", "ipc2221b" or "house-minimum"; under IEC
+    /// 62368-1 "procedure-1" or "procedure-2", under IEC 60601-1 "mopp-table" or "moop-table".
     pub clearance_governed_by: &'static str,
     /// What sets the required creepage: "creepage-table" (Table F.5), "clearance" (raised
     /// to the required clearance), "ipc2221b" or "house-minimum".
@@ -136,6 +144,23 @@ pub struct BarrierResult {
     /// (reduced to a third of the required clearance where that is under 3 mm).
     pub narrowest_slot_mm: f64,
     pub bridged_by: Vec<String>,
+    /// The standard whose tables and method gave the figures: "iec60664-1" (the basics),
+    /// "iec62368-1", "iec60601-1" or "iec60335-1".
+    pub standard: &'static str,
+    /// That standard with the edition whose table numbers are cited.
+    pub standard_title: &'static str,
+    /// Under IEC 60601-1: the means of protection ("1-moop", "2-moop", "1-mopp", "2-mopp");
+    /// `grade` is then the insulation it counts as (one means basic, two reinforced).
+    pub means_of_protection: Option<&'static str>,
+    /// Electric strength test voltage as a.c. rms; null where no test applies (functional
+    /// insulation) or the standard's table is not carried, with the reason in `test_v_basis`.
+    pub test_v_rms: Option<f64>,
+    /// The same test as peak or d.c. volts.
+    pub test_v_dc: Option<f64>,
+    /// Where the test voltage comes from, or why there is none.
+    pub test_v_basis: String,
+    /// "computed", "not-applicable" (functional insulation) or "not-carried".
+    pub test_v_state: &'static str,
     /// Clearance measured on the board's fabrication files (`[board]`); null where not
     /// measured (no `[board]`, a circuit without `nets`, or no copper of one circuit on an
     /// outer layer).
@@ -238,6 +263,14 @@ pub fn evaluate(
         slot_width_mm: barrier.slot_width_mm,
         narrowest_slot_mm,
         bridged_by: barrier.bridged_by.clone(),
+        // Filled in by `crate::standards::evaluate`, which every caller goes through.
+        standard: "iec60664-1",
+        standard_title: "IEC 60664-1",
+        means_of_protection: None,
+        test_v_rms: None,
+        test_v_dc: None,
+        test_v_basis: String::new(),
+        test_v_state: "not-carried",
         measured_clearance_mm: None,
         measured_creepage_mm: None,
         judged_clearance_mm: barrier.clearance_mm,
@@ -247,6 +280,7 @@ pub fn evaluate(
         derivation: BarrierDerivation {
             clearance: figure_derivation(barrier, "clearance", clearance, barrier.clearance_mm),
             creepage: figure_derivation(barrier, "creepage", creepage, barrier.creepage_mm),
+            electric_strength: Vec::new(),
         },
     })
 }
@@ -254,7 +288,7 @@ pub fn evaluate(
 /// A required distance as a derivation: `<barrier>.clearance` or `<barrier>.creepage`,
 /// judged against the declared distance (incomplete where none is declared). Its words are
 /// fixed text, so a design of many barriers allocates only the id and the steps.
-fn figure_derivation(
+pub(crate) fn figure_derivation(
     barrier: &Barrier,
     what: &str,
     figure: Figure,
@@ -295,7 +329,11 @@ pub(crate) fn margin(declared: f64, required: f64) -> f64 {
 /// The narrowest groove that counts toward creepage: X by pollution degree, reduced to a
 /// fraction of the associated clearance (the barrier's required clearance) where that is
 /// small.
-fn narrowest_groove(rules: &RuleBook, cond: &Conditions, clearance_mm: f64) -> (f64, Step) {
+pub(crate) fn narrowest_groove(
+    rules: &RuleBook,
+    cond: &Conditions,
+    clearance_mm: f64,
+) -> (f64, Step) {
     let table = &rules.insulation.grooves;
     let pd = cond.pollution_degree.clamp(1, 3);
     let x = table.min_width_mm[(pd - 1) as usize];
@@ -407,14 +445,14 @@ fn functional_on_board(
 }
 
 /// Which figures a house minimum raised, and whether creepage was then raised to clearance.
-struct HouseApplied {
-    clearance: bool,
-    creepage: bool,
-    raised_to_clearance: bool,
+pub(crate) struct HouseApplied {
+    pub(crate) clearance: bool,
+    pub(crate) creepage: bool,
+    pub(crate) raised_to_clearance: bool,
 }
 
 /// Applies a team's own floors (shipped at zero) and keeps creepage at least the clearance.
-fn house_minimums(
+pub(crate) fn house_minimums(
     rules: &RuleBook,
     grade: Grade,
     mut clearance: Figure,
