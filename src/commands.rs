@@ -849,14 +849,7 @@ fn explain_part(out: &mut String, report: &Report, part: &str) {
                 out.push_str(&format!("  {name} = {shown}\n"));
             }
         }
-        for (i, s) in b.derivation.iter().enumerate() {
-            let rule = s
-                .rule
-                .as_deref()
-                .map(|r| format!(" [{r}]"))
-                .unwrap_or_default();
-            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
-        }
+        crate::insulation::numbered_steps(out, &b.derivation.steps);
     }
     for f in report
         .findings
@@ -1201,14 +1194,7 @@ fn spacing_table(b: &BarrierResult) -> String {
         ("creepage", &b.derivation.creepage),
     ] {
         out.push_str(&format!("\n{what}:\n"));
-        for (i, s) in steps.iter().enumerate() {
-            let rule = s
-                .rule
-                .as_deref()
-                .map(|r| format!(" [{r}]"))
-                .unwrap_or_default();
-            out.push_str(&format!("  {}. {}{rule}\n", i + 1, s.text));
-        }
+        crate::insulation::numbered_steps(&mut out, &steps.steps);
     }
     out.push_str("\n(--format json prints these fields as JSON)\n");
     out

@@ -323,8 +323,9 @@ static EMPTY: std::sync::OnceLock<toml::de::DeTable<'static>> = std::sync::OnceL
 
 /// Gives a domain enum its words once: the `clap::ValueEnum` derive names each variant
 /// (kebab-case of the variant, or `#[value(name = "IIIa")]`), and this macro makes serde,
-/// `Display` and `as_str` use the same words, so the project file, the rule files, the
-/// report and the command line cannot drift apart. A word that is not one of them is an
+/// `Display`, `as_str` and the project file's JSON Schema use the same words, so the
+/// project file, the rule files, the report, the schema and the command line cannot drift
+/// apart. A word that is not one of them is an
 /// error listing them all.
 #[macro_export]
 macro_rules! domain_words {
@@ -351,6 +352,22 @@ macro_rules! domain_words {
         impl serde::Serialize for $t {
             fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
                 s.serialize_str(self.as_str())
+            }
+        }
+
+        // The schema's allowed words are the reader's (`gapwarden schema`).
+        impl schemars::JsonSchema for $t {
+            fn inline_schema() -> bool {
+                true
+            }
+
+            fn schema_name() -> std::borrow::Cow<'static, str> {
+                stringify!($t).into()
+            }
+
+            fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+                let words = $crate::diag::words::<$t>();
+                schemars::json_schema!({ "type": "string", "enum": words })
             }
         }
 

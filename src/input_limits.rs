@@ -479,3 +479,72 @@ pub const LEVEL_DBUV: NumberRule = NumberRule {
     integer: false,
     expected: "a level in dBuV, -100 to 250",
 };
+
+/// Marker types that put a number's rule into its raw field's type
+/// (`pollution_degree: Key<Num<rule::PollutionDegree>>`): the reader judges the value by it
+/// (`Reader::ruled`) and the JSON Schema (`gapwarden schema`) states its limits, so the two
+/// cannot drift apart. A new number key names its rule here in one line.
+pub mod rule {
+    use super::*;
+    use crate::raw::{NumberKind, Ruled};
+
+    macro_rules! rule_types {
+        ($($name:ident => $rule:ident,)*) => {$(
+            #[doc = concat!("`", stringify!($rule), "`.")]
+            #[derive(Debug, Clone, Copy, PartialEq)]
+            pub struct $name;
+
+            impl NumberKind for $name {
+                const RULE: Option<NumberRule> = Some($rule);
+            }
+
+            impl Ruled for $name {
+                const THE_RULE: NumberRule = $rule;
+            }
+        )*};
+    }
+
+    rule_types! {
+    AltitudeM => ALTITUDE_M,
+    BleederOhm => BLEEDER_OHM,
+    BreakingA => BREAKING_A,
+    BulkUf => BULK_UF,
+    CapacitanceNf => CAPACITANCE_NF,
+    CapacitancePf => CAPACITANCE_PF,
+    CapacitanceUf => CAPACITANCE_UF,
+    CountInSeries => COUNT_IN_SERIES,
+    Cti => CTI,
+    CurrentA => CURRENT_A,
+    DistanceMm => DISTANCE_MM,
+    DropV => DROP_V,
+    Efficiency => EFFICIENCY,
+    EnergyJ => ENERGY_J,
+    FuseA => FUSE_A,
+    I2tA2s => I2T_A2S,
+    InductanceMh => INDUCTANCE_MH,
+    InductanceUh => INDUCTANCE_UH,
+    LevelDbuv => LEVEL_DBUV,
+    MainsFrequencyHz => MAINS_FREQUENCY_HZ,
+    MarginDb => MARGIN_DB,
+    MaxDuty => MAX_DUTY,
+    MinBulkV => MIN_BULK_V,
+    OutputW => OUTPUT_W,
+    PollutionDegree => POLLUTION_DEGREE,
+    PrescanFrequencyHz => PRESCAN_FREQUENCY_HZ,
+    RatedV => RATED_V,
+    ResistanceOhm => RESISTANCE_OHM,
+    RiseNs => RISE_NS,
+    SeriesOhm => SERIES_OHM,
+    SlotMm => SLOT_MM,
+    SwingV => SWING_V,
+    SwitchingHz => SWITCHING_HZ,
+    TapeLayers => TAPE_LAYERS,
+    TemperatureC => TEMPERATURE_C,
+    TestVRms => TEST_V_RMS,
+    ThicknessMm => THICKNESS_MM,
+    TransientV => TRANSIENT_V,
+    VoltageV => VOLTAGE_V,
+    WorkingFrequencyHz => WORKING_FREQUENCY_HZ,
+    XUf => X_UF,
+    }
+}

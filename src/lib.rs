@@ -20,6 +20,7 @@ pub mod project;
 pub mod raw;
 pub mod report;
 pub mod rules;
+pub mod schema;
 pub mod terminal;
 pub mod text;
 

@@ -168,6 +168,13 @@ enum Command {
     ///
     /// For example: `gapwarden man > gapwarden.1 && man ./gapwarden.1`.
     Man,
+    /// Print the JSON Schema of the project file, for editors that complete and check TOML.
+    ///
+    /// Every key with its type, unit, allowed words or limits, default and description,
+    /// generated from the types the reader itself uses. Save it beside your projects
+    /// (gapwarden schema > gapwarden.schema.json) and point the editor at it, e.g. with a
+    /// first line `#:schema ./gapwarden.schema.json` in the project file.
+    Schema,
 }
 
 /// `--rules`, declared once for every command that reads rule tables.
@@ -319,6 +326,10 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             }
             print(&commands::render_spacing(&result, format));
             Ok(commands::spacing_exit_status(&result))
+        }
+        Command::Schema => {
+            print(&gapwarden::schema::project_schema_json());
+            Ok(ExitStatus::Ready)
         }
         Command::Completions { shell } => {
             let mut script = Vec::new();

@@ -147,10 +147,6 @@ macro_rules! leaf {
 }
 
 leaf!(
-    /// A number (integer or float); its unit is in the key's name.
-    Num
-);
-leaf!(
     /// A non-empty string of at most `MAX_STRING_CHARS` characters.
     Text
 );
@@ -162,6 +158,59 @@ leaf!(
     /// A list of non-empty strings.
     Texts
 );
+
+/// A number (integer or float); its unit is in the key's name. `R` names the
+/// `NumberRule` the reader judges it by (`Num<rule::PollutionDegree>`, read with
+/// `Reader::ruled`), so that the schema states the same limits; a plain `Num` is read with
+/// a rule given at the call (`Reader::number`) and the schema says only "a number".
+#[derive(Debug, Clone, PartialEq)]
+pub struct Num<R = AnyNumber>(pub Loose, PhantomData<R>);
+
+impl<'de, R> Deserialize<'de> for Num<R> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Loose::deserialize(d).map(|l| Num(l, PhantomData))
+    }
+}
+
+/// What a number key takes, as a type: `AnyNumber` (the rule is given where it is read)
+/// or a marker of `crate::input_limits::rule` that carries its `NumberRule`.
+pub trait NumberKind {
+    const RULE: Option<NumberRule>;
+}
+
+/// A marker that names its rule (see `crate::input_limits::rule`).
+pub trait Ruled: NumberKind {
+    const THE_RULE: NumberRule;
+}
+
+/// A number whose rule is given where it is read.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AnyNumber;
+
+impl NumberKind for AnyNumber {
+    const RULE: Option<NumberRule> = None;
+}
+
+/// A value with where it was written: `toml::Spanned`, in a type of our own so that the
+/// schema (`JsonSchema`) can describe the value itself.
+#[derive(Debug, Clone, PartialEq)]
+pub struct At<T>(pub Spanned<T>);
+
+impl<T> At<T> {
+    pub fn get_ref(&self) -> &T {
+        self.0.get_ref()
+    }
+
+    pub fn span(&self) -> Span {
+        self.0.span()
+    }
+}
+
+impl<'de, T: Deserialize<'de>> Deserialize<'de> for At<T> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Spanned::<T>::deserialize(d).map(At)
+    }
+}
 
 /// One of the words of the domain enum `E` (its `clap::ValueEnum` names).
 #[derive(Debug, Clone, PartialEq)]
@@ -533,7 +582,7 @@ impl<'s> Reader<'s> {
     pub fn table<'a, T>(
         &mut self,
         parent: &TableAt,
-        (key, value): (&str, &'a Option<Spanned<Section<T>>>),
+        (key, value): (&str, &'a Option<At<Section<T>>>),
     ) -> Option<(TableAt, &'a T)> {
         let value = value.as_ref()?;
         let path = join(&parent.path, key);
@@ -561,7 +610,7 @@ impl<'s> Reader<'s> {
     pub fn table_array<'a, T>(
         &mut self,
         parent: &TableAt,
-        (key, value): (&str, &'a Option<Spanned<Sections<T>>>),
+        (key, value): (&str, &'a Option<At<Sections<T>>>),
     ) -> Vec<(TableAt, &'a T)> {
         let Some(value) = value.as_ref() else {
             return Vec::new();
@@ -623,7 +672,7 @@ impl<'s> Reader<'s> {
     pub fn string(
         &mut self,
         table: &TableAt,
-        (key, value): (&str, &Option<Spanned<Text>>),
+        (key, value): (&str, &Option<At<Text>>),
     ) -> Option<Located<String>> {
         let value = value.as_ref()?;
         let path = join(&table.path, key);
@@ -660,7 +709,7 @@ impl<'s> Reader<'s> {
     pub fn required_string(
         &mut self,
         table: &TableAt,
-        field: (&str, &Option<Spanned<Text>>),
+        field: (&str, &Option<At<Text>>),
     ) -> Option<Located<String>> {
         if field.1.is_none() {
             self.missing(table, field.0, "a string");
@@ -672,7 +721,7 @@ impl<'s> Reader<'s> {
     pub fn boolean(
         &mut self,
         table: &TableAt,
-        (key, value): (&str, &Option<Spanned<Flag>>),
+        (key, value): (&str, &Option<At<Flag>>),
     ) -> Option<Located<bool>> {
         let value = value.as_ref()?;
         match &value.get_ref().0 {
@@ -695,7 +744,39 @@ impl<'s> Reader<'s> {
     pub fn number(
         &mut self,
         table: &TableAt,
-        (key, value): (&str, &Option<Spanned<Num>>),
+        field: (&str, &Option<At<Num>>),
+        rule: &NumberRule,
+    ) -> Option<Located<f64>> {
+        self.number_by(table, field, rule)
+    }
+
+    /// A number whose rule is in its raw type (`Num<rule::X>`), the one the schema states.
+    pub fn ruled<R: Ruled>(
+        &mut self,
+        table: &TableAt,
+        field: (&str, &Option<At<Num<R>>>),
+    ) -> Option<Located<f64>> {
+        self.number_by(table, field, &R::THE_RULE)
+    }
+
+    pub fn required_ruled<R: Ruled>(
+        &mut self,
+        table: &TableAt,
+        field: (&str, &Option<At<Num<R>>>),
+    ) -> Option<Located<f64>> {
+        if field.1.is_none() {
+            self.missing(table, field.0, R::THE_RULE.expected);
+            return None;
+        }
+        self.number_by(table, field, &R::THE_RULE)
+    }
+
+    /// A number judged by `rule`, whatever its raw type names: for a reader that first
+    /// probes a key's value with a widened copy of its own rule (`power_entry::read`).
+    pub fn number_by<R>(
+        &mut self,
+        table: &TableAt,
+        (key, value): (&str, &Option<At<Num<R>>>),
         rule: &NumberRule,
     ) -> Option<Located<f64>> {
         let value = value.as_ref()?;
@@ -747,7 +828,7 @@ impl<'s> Reader<'s> {
     pub fn required_number(
         &mut self,
         table: &TableAt,
-        field: (&str, &Option<Spanned<Num>>),
+        field: (&str, &Option<At<Num>>),
         rule: &NumberRule,
     ) -> Option<Located<f64>> {
         if field.1.is_none() {
@@ -762,7 +843,7 @@ impl<'s> Reader<'s> {
     pub fn word<E: clap::ValueEnum>(
         &mut self,
         table: &TableAt,
-        (key, value): (&str, &Option<Spanned<Word<E>>>),
+        (key, value): (&str, &Option<At<Word<E>>>),
     ) -> Option<Located<E>> {
         let value = value.as_ref()?;
         let path = join(&table.path, key);
@@ -803,7 +884,7 @@ impl<'s> Reader<'s> {
     pub fn required_word<E: clap::ValueEnum>(
         &mut self,
         table: &TableAt,
-        field: (&str, &Option<Spanned<Word<E>>>),
+        field: (&str, &Option<At<Word<E>>>),
     ) -> Option<Located<E>> {
         if field.1.is_none() {
             let words = crate::diag::words::<E>();
@@ -818,7 +899,7 @@ impl<'s> Reader<'s> {
     pub fn string_list(
         &mut self,
         table: &TableAt,
-        (key, value): (&str, &Option<Spanned<Texts>>),
+        (key, value): (&str, &Option<At<Texts>>),
     ) -> Option<Located<Vec<Located<String>>>> {
         let value = value.as_ref()?;
         let path = join(&table.path, key);

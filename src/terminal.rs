@@ -134,7 +134,7 @@ pub fn terminal_summary(report: &Report, place: ReportPlace, colour: bool) -> St
             out.push_str(&format!(
                 "  {mark} {}{subject}: {}\n",
                 visible_line(&f.id),
-                visible_line(&f.message)
+                crate::text::round_figures(&visible_line(&f.message))
             ));
         }
         if found.len() > MAX_LISTED {

@@ -4,10 +4,8 @@
 
 use super::rules::LimitClass;
 use super::{EmcSpec, FilterSpec, PrescanDetector, PrescanPoint, YArrangement};
-use crate::input_limits::{
-    CAPACITANCE_NF, CAPACITANCE_PF, CAPACITANCE_UF, INDUCTANCE_MH, INDUCTANCE_UH, LEVEL_DBUV,
-    MARGIN_DB, PRESCAN_FREQUENCY_HZ, RESISTANCE_OHM, RISE_NS, SWING_V,
-};
+use crate::input_limits::rule;
+use schemars::JsonSchema;
 use serde::Deserialize;
 
 use crate::key;
@@ -15,56 +13,59 @@ use crate::project::{Key, RawProject, TableKey, TablesKey};
 use crate::raw::{Num, Reader, TableAt, Word};
 
 /// `[emc]`: conducted emissions on the mains port and the input filter.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawEmc {
-    /// Conducted-emission limits on the mains port: "A" or "B".
+    /// Conducted-emission limits on the mains port: "A" or "B" (default "B", the
+    /// stricter).
     pub limit_class: Key<Word<LimitClass>>,
-    /// Margin below the limit in decibels.
-    pub margin_db: Key<Num>,
+    /// Margin below the limit in decibels (default: from the rule book, stated as an
+    /// assumption).
+    pub margin_db: Key<Num<rule::MarginDb>>,
     /// Levels measured without the filter.
     pub prescan: TablesKey<RawPrescan>,
     /// The input filter as built.
     pub filter: TableKey<RawFilter>,
     /// Parasitic capacitance from the switch node to earth in picofarads.
-    pub parasitic_capacitance_pf: Key<Num>,
+    pub parasitic_capacitance_pf: Key<Num<rule::CapacitancePf>>,
     /// Voltage swing of the switch node in volts.
-    pub switch_node_swing_v: Key<Num>,
+    pub switch_node_swing_v: Key<Num<rule::SwingV>>,
     /// Rise time of the switch node in nanoseconds.
-    pub switch_node_rise_time_ns: Key<Num>,
+    pub switch_node_rise_time_ns: Key<Num<rule::RiseNs>>,
 }
 
 /// One `[[emc.prescan]]` point.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawPrescan {
     /// Frequency in hertz (required).
-    pub frequency_hz: Key<Num>,
+    pub frequency_hz: Key<Num<rule::PrescanFrequencyHz>>,
     /// Measured level in dBµV (required).
-    pub level_dbuv: Key<Num>,
+    pub level_dbuv: Key<Num<rule::LevelDbuv>>,
     /// The detector it was read with (required).
     pub detector: Key<Word<PrescanDetector>>,
 }
 
 /// `[emc.filter]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawFilter {
     /// Differential-mode inductance in microhenries.
-    pub dm_inductance_uh: Key<Num>,
+    pub dm_inductance_uh: Key<Num<rule::InductanceUh>>,
     /// Resistance of the differential-mode inductor in ohms.
-    pub dm_inductor_resistance_ohm: Key<Num>,
+    pub dm_inductor_resistance_ohm: Key<Num<rule::ResistanceOhm>>,
     /// X capacitance of the filter in microfarads.
-    pub x_capacitance_uf: Key<Num>,
+    pub x_capacitance_uf: Key<Num<rule::CapacitanceUf>>,
     /// Damping branch resistance in ohms (with `damping_capacitance_uf`).
-    pub damping_resistance_ohm: Key<Num>,
+    pub damping_resistance_ohm: Key<Num<rule::ResistanceOhm>>,
     /// Damping branch capacitance in microfarads (with `damping_resistance_ohm`).
-    pub damping_capacitance_uf: Key<Num>,
+    pub damping_capacitance_uf: Key<Num<rule::CapacitanceUf>>,
     /// Common-mode inductance in millihenries.
-    pub cm_inductance_mh: Key<Num>,
+    pub cm_inductance_mh: Key<Num<rule::InductanceMh>>,
     /// Y capacitance in nanofarads.
-    pub y_capacitance_nf: Key<Num>,
-    /// How the Y capacitors sit.
+    pub y_capacitance_nf: Key<Num<rule::CapacitanceNf>>,
+    /// How the Y capacitors sit (default: "each-line" for protection class I, "single"
+    /// otherwise).
     pub y_arrangement: Key<Word<YArrangement>>,
 }
 
@@ -75,23 +76,21 @@ pub fn read_emc(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option
     let limit_class = r
         .word::<LimitClass>(&t, key!(raw_t.limit_class))
         .map(|l| l.value);
-    let margin_db = r
-        .number(&t, key!(raw_t.margin_db), &MARGIN_DB)
-        .map(|l| l.value);
+    let margin_db = r.ruled(&t, key!(raw_t.margin_db)).map(|l| l.value);
     let parasitic_capacitance_pf = r
-        .number(&t, key!(raw_t.parasitic_capacitance_pf), &CAPACITANCE_PF)
+        .ruled(&t, key!(raw_t.parasitic_capacitance_pf))
         .map(|l| l.value);
     let switch_node_swing_v = r
-        .number(&t, key!(raw_t.switch_node_swing_v), &SWING_V)
+        .ruled(&t, key!(raw_t.switch_node_swing_v))
         .map(|l| l.value);
     let switch_node_rise_time_ns = r
-        .number(&t, key!(raw_t.switch_node_rise_time_ns), &RISE_NS)
+        .ruled(&t, key!(raw_t.switch_node_rise_time_ns))
         .map(|l| l.value);
 
     let mut prescan = Vec::new();
     for (p, raw_p) in r.table_array(&t, key!(raw_t.prescan)) {
-        let frequency = r.required_number(&p, key!(raw_p.frequency_hz), &PRESCAN_FREQUENCY_HZ);
-        let level = r.required_number(&p, key!(raw_p.level_dbuv), &LEVEL_DBUV);
+        let frequency = r.required_ruled(&p, key!(raw_p.frequency_hz));
+        let level = r.required_ruled(&p, key!(raw_p.level_dbuv));
         let detector = r.required_word::<PrescanDetector>(&p, key!(raw_p.detector));
         let (Some(frequency), Some(level), Some(detector)) = (frequency, level, detector) else {
             continue;
@@ -126,23 +125,15 @@ pub fn read_emc(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option
 }
 
 fn read_filter(r: &mut Reader, f: &TableAt, raw_f: &RawFilter) -> FilterSpec {
-    let dm_inductance_uh = r
-        .number(f, key!(raw_f.dm_inductance_uh), &INDUCTANCE_UH)
-        .map(|l| l.value);
+    let dm_inductance_uh = r.ruled(f, key!(raw_f.dm_inductance_uh)).map(|l| l.value);
     let dm_inductor_resistance_ohm = r
-        .number(f, key!(raw_f.dm_inductor_resistance_ohm), &RESISTANCE_OHM)
+        .ruled(f, key!(raw_f.dm_inductor_resistance_ohm))
         .map(|l| l.value);
-    let x_capacitance_uf = r
-        .number(f, key!(raw_f.x_capacitance_uf), &CAPACITANCE_UF)
-        .map(|l| l.value);
-    let damping_resistance = r.number(f, key!(raw_f.damping_resistance_ohm), &RESISTANCE_OHM);
-    let damping_capacitance = r.number(f, key!(raw_f.damping_capacitance_uf), &CAPACITANCE_UF);
-    let cm_inductance_mh = r
-        .number(f, key!(raw_f.cm_inductance_mh), &INDUCTANCE_MH)
-        .map(|l| l.value);
-    let y_capacitance_nf = r
-        .number(f, key!(raw_f.y_capacitance_nf), &CAPACITANCE_NF)
-        .map(|l| l.value);
+    let x_capacitance_uf = r.ruled(f, key!(raw_f.x_capacitance_uf)).map(|l| l.value);
+    let damping_resistance = r.ruled(f, key!(raw_f.damping_resistance_ohm));
+    let damping_capacitance = r.ruled(f, key!(raw_f.damping_capacitance_uf));
+    let cm_inductance_mh = r.ruled(f, key!(raw_f.cm_inductance_mh)).map(|l| l.value);
+    let y_capacitance_nf = r.ruled(f, key!(raw_f.y_capacitance_nf)).map(|l| l.value);
     let y_arrangement = r
         .word::<YArrangement>(f, key!(raw_f.y_arrangement))
         .map(|l| l.value);

@@ -276,7 +276,7 @@ pub fn explain_barrier(out: &mut String, b: &BarrierResult, figure: Option<&str>
 }
 
 /// Steps numbered from 1, each with the rule table it read.
-fn numbered_steps(out: &mut String, steps: &[Step]) {
+pub fn numbered_steps(out: &mut String, steps: &[Step]) {
     for (i, s) in steps.iter().enumerate() {
         let rule = s
             .rule

@@ -2,52 +2,56 @@
 //! from their raw form, so every problem is reported at once with its line.
 
 use super::{Connection, ConverterSpec, FuseSpec, FuseSpeed, InputSpec, LimiterKind, LimiterSpec};
-use crate::input_limits::{
-    BLEEDER_OHM, BREAKING_A, BULK_UF, CURRENT_A, DROP_V, EFFICIENCY, ENERGY_J, FUSE_A, I2T_A2S,
-    MAINS_FREQUENCY_HZ, MAX_DUTY, MIN_BULK_V, OUTPUT_W, RATED_V, RESISTANCE_OHM, SERIES_OHM,
-    SWITCHING_HZ, X_UF,
-};
+use crate::input_limits::rule;
+use schemars::JsonSchema;
 use serde::Deserialize;
 
 use crate::input_limits::NumberRule;
 use crate::key;
 use crate::project::{Key, RawProject, TableKey};
-use crate::raw::{Flag, Located, Num, Reader, TableAt, Text, Word};
+use crate::raw::{Flag, Located, Num, Reader, Ruled, TableAt, Text, Word};
 
 /// `[input]`: the power-entry stage.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawInput {
     /// Bulk capacitance after the bridge in microfarads (required).
-    pub bulk_capacitance_uf: Key<Num>,
+    pub bulk_capacitance_uf: Key<Num<rule::BulkUf>>,
     /// Charging path without the limiter (line, bridge, capacitor ESR) in ohms (required).
-    pub series_resistance_ohm: Key<Num>,
+    pub series_resistance_ohm: Key<Num<rule::SeriesOhm>>,
     /// The bridge rectifier's non-repetitive surge current rating in amperes.
-    pub bridge_surge_a: Key<Num>,
-    /// Total forward drop of the two conducting bridge diodes in volts.
-    pub bridge_drop_v: Key<Num>,
+    pub bridge_surge_a: Key<Num<rule::CurrentA>>,
+    /// Total forward drop of the two conducting bridge diodes in volts (default 0: ideal
+    /// diodes).
+    pub bridge_drop_v: Key<Num<rule::DropV>>,
     /// Total X capacitance across the line in microfarads.
-    pub x_capacitance_uf: Key<Num>,
+    pub x_capacitance_uf: Key<Num<rule::XUf>>,
     /// Discharge resistance across the X capacitance in ohms; absent = none.
-    pub bleeder_ohm: Key<Num>,
-    /// The bleeder survives one open resistor (two paths, or a fail-safe part).
+    pub bleeder_ohm: Key<Num<rule::BleederOhm>>,
+    /// The bleeder survives one open resistor (two paths, or a fail-safe part) (default
+    /// false).
     pub bleeder_fault_tolerant: Key<Flag>,
-    /// How the equipment connects to the mains.
+    /// How the equipment connects to the mains (default "plug": pluggable type A, the
+    /// strictest discharge limit).
     pub connection: Key<Word<Connection>>,
-    /// Prospective fault current of the supply in amperes.
-    pub prospective_fault_a: Key<Num>,
-    /// The end-product standard whose touch-current limits apply.
+    /// Prospective fault current of the supply in amperes (default: from the rule book,
+    /// stated as an assumption).
+    pub prospective_fault_a: Key<Num<rule::BreakingA>>,
+    /// The end-product standard whose touch-current limits apply, by the id of a rule
+    /// table's entry such as "iec62368-1" or "iec60950-1" (default: the rule book's,
+    /// stated as an assumption).
     pub end_product_standard: Key<Text>,
-    /// The equipment is hand-held.
+    /// The equipment is hand-held (default false).
     pub hand_held: Key<Flag>,
-    /// Lowest mains frequency in hertz.
-    pub min_frequency_hz: Key<Num>,
-    /// Highest mains frequency in hertz.
-    pub max_frequency_hz: Key<Num>,
+    /// Lowest mains frequency in hertz (default: mains.frequency_hz).
+    pub min_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
+    /// Highest mains frequency in hertz (default: mains.frequency_hz).
+    pub max_frequency_hz: Key<Num<rule::MainsFrequencyHz>>,
     /// Rated voltage of the bulk capacitor in volts.
-    pub bulk_rated_v: Key<Num>,
-    /// Highest rated supply voltage on the marking in volts.
-    pub highest_rated_v: Key<Num>,
+    pub bulk_rated_v: Key<Num<rule::RatedV>>,
+    /// Highest rated supply voltage on the marking in volts, against the fuse's rating
+    /// (default: mains.nominal_v).
+    pub highest_rated_v: Key<Num<rule::RatedV>>,
     /// The inrush limiter.
     pub limiter: TableKey<RawLimiter>,
     /// The input fuse.
@@ -55,50 +59,53 @@ pub struct RawInput {
 }
 
 /// `[input.limiter]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawLimiter {
     /// "ntc", "resistor" or "none" (required).
     pub kind: Key<Word<LimiterKind>>,
-    /// Resistance at switch-on in ohms.
-    pub cold_ohm: Key<Num>,
-    /// Resistance in operation in ohms.
-    pub hot_ohm: Key<Num>,
+    /// Resistance at switch-on in ohms; required for kind "ntc" or "resistor", refused for
+    /// "none".
+    pub cold_ohm: Key<Num<rule::ResistanceOhm>>,
+    /// Resistance in operation in ohms; required for kind "ntc" (a "resistor" keeps its
+    /// cold_ohm), refused for "none".
+    pub hot_ohm: Key<Num<rule::ResistanceOhm>>,
     /// Energy rating in joules.
-    pub energy_rating_j: Key<Num>,
+    pub energy_rating_j: Key<Num<rule::EnergyJ>>,
 }
 
 /// `[input.fuse]`.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawFuse {
     /// Rated current in amperes.
-    pub rated_a: Key<Num>,
+    pub rated_a: Key<Num<rule::FuseA>>,
     /// Melting I²t in A²s.
-    pub melting_i2t_a2s: Key<Num>,
+    pub melting_i2t_a2s: Key<Num<rule::I2tA2s>>,
     /// Breaking capacity in amperes.
-    pub breaking_a: Key<Num>,
+    pub breaking_a: Key<Num<rule::BreakingA>>,
     /// Rated voltage in volts.
-    pub rated_v: Key<Num>,
+    pub rated_v: Key<Num<rule::RatedV>>,
     /// "fast" or "time-lag".
     pub speed: Key<Word<FuseSpeed>>,
 }
 
 /// `[converter]`: the converter behind the bulk capacitor.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawConverter {
     /// Output power in watts (required).
-    pub output_w: Key<Num>,
+    pub output_w: Key<Num<rule::OutputW>>,
     /// Efficiency, above 0 and at most 1 (required).
-    pub efficiency: Key<Num>,
+    pub efficiency: Key<Num<rule::Efficiency>>,
     /// Lowest bulk voltage at which it still regulates, in volts (required).
-    pub min_bulk_v: Key<Num>,
+    pub min_bulk_v: Key<Num<rule::MinBulkV>>,
     /// Switching frequency in hertz (required).
-    pub switching_hz: Key<Num>,
+    pub switching_hz: Key<Num<rule::SwitchingHz>>,
     /// Largest duty cycle, below 1 (required).
-    pub max_duty: Key<Num>,
-    /// It has an active power-factor-correction stage.
+    pub max_duty: Key<Num<rule::MaxDuty>>,
+    /// It has an active power-factor-correction stage: Middlebrook's criterion applies
+    /// (default false).
     pub pfc_stage: Key<Flag>,
 }
 
@@ -124,21 +131,21 @@ pub(super) fn read_tables(
 
 fn read_input(r: &mut Reader, t: &TableAt, raw_t: &RawInput) -> Option<InputSpec> {
     let before = r.problems.len();
-    let bulk = r.required_number(t, key!(raw_t.bulk_capacitance_uf), &BULK_UF);
-    let series = r.required_number(t, key!(raw_t.series_resistance_ohm), &SERIES_OHM);
-    let surge = r.number(t, key!(raw_t.bridge_surge_a), &CURRENT_A);
-    let drop = r.number(t, key!(raw_t.bridge_drop_v), &DROP_V);
-    let x = r.number(t, key!(raw_t.x_capacitance_uf), &X_UF);
-    let bleeder = r.number(t, key!(raw_t.bleeder_ohm), &BLEEDER_OHM);
+    let bulk = r.required_ruled(t, key!(raw_t.bulk_capacitance_uf));
+    let series = r.required_ruled(t, key!(raw_t.series_resistance_ohm));
+    let surge = r.ruled(t, key!(raw_t.bridge_surge_a));
+    let drop = r.ruled(t, key!(raw_t.bridge_drop_v));
+    let x = r.ruled(t, key!(raw_t.x_capacitance_uf));
+    let bleeder = r.ruled(t, key!(raw_t.bleeder_ohm));
     let tolerant = r.boolean(t, key!(raw_t.bleeder_fault_tolerant));
     let connection = r.word::<Connection>(t, key!(raw_t.connection));
-    let prospective = r.number(t, key!(raw_t.prospective_fault_a), &BREAKING_A);
+    let prospective = r.ruled(t, key!(raw_t.prospective_fault_a));
     let standard = r.string(t, key!(raw_t.end_product_standard));
     let hand_held = r.boolean(t, key!(raw_t.hand_held));
-    let f_min = r.number(t, key!(raw_t.min_frequency_hz), &MAINS_FREQUENCY_HZ);
-    let f_max = r.number(t, key!(raw_t.max_frequency_hz), &MAINS_FREQUENCY_HZ);
-    let bulk_rated = r.number(t, key!(raw_t.bulk_rated_v), &RATED_V);
-    let highest_rated = r.number(t, key!(raw_t.highest_rated_v), &RATED_V);
+    let f_min = r.ruled(t, key!(raw_t.min_frequency_hz));
+    let f_max = r.ruled(t, key!(raw_t.max_frequency_hz));
+    let bulk_rated = r.ruled(t, key!(raw_t.bulk_rated_v));
+    let highest_rated = r.ruled(t, key!(raw_t.highest_rated_v));
     let limiter = r
         .table(t, key!(raw_t.limiter))
         .and_then(|(l, raw_l)| read_limiter(r, &l, raw_l));
@@ -197,9 +204,9 @@ fn read_input(r: &mut Reader, t: &TableAt, raw_t: &RawInput) -> Option<InputSpec
 fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<LimiterSpec> {
     let before = r.problems.len();
     let kind = r.required_word::<LimiterKind>(t, key!(raw_t.kind));
-    let cold = r.number(t, key!(raw_t.cold_ohm), &RESISTANCE_OHM);
-    let hot = r.number(t, key!(raw_t.hot_ohm), &RESISTANCE_OHM);
-    let energy = r.number(t, key!(raw_t.energy_rating_j), &ENERGY_J);
+    let cold = r.ruled(t, key!(raw_t.cold_ohm));
+    let hot = r.ruled(t, key!(raw_t.hot_ohm));
+    let energy = r.ruled(t, key!(raw_t.energy_rating_j));
     let kind = kind?.value;
     match kind {
         LimiterKind::None => {
@@ -267,10 +274,10 @@ fn read_limiter(r: &mut Reader, t: &TableAt, raw_t: &RawLimiter) -> Option<Limit
 
 fn read_fuse(r: &mut Reader, t: &TableAt, raw_t: &RawFuse) -> Option<FuseSpec> {
     let before = r.problems.len();
-    let rated = r.number(t, key!(raw_t.rated_a), &FUSE_A);
-    let i2t = r.number(t, key!(raw_t.melting_i2t_a2s), &I2T_A2S);
-    let breaking = r.number(t, key!(raw_t.breaking_a), &BREAKING_A);
-    let rated_v = r.number(t, key!(raw_t.rated_v), &RATED_V);
+    let rated = r.ruled(t, key!(raw_t.rated_a));
+    let i2t = r.ruled(t, key!(raw_t.melting_i2t_a2s));
+    let breaking = r.ruled(t, key!(raw_t.breaking_a));
+    let rated_v = r.ruled(t, key!(raw_t.rated_v));
     let speed = r.word::<FuseSpeed>(t, key!(raw_t.speed));
     if r.problems.len() > before {
         return None;
@@ -294,16 +301,21 @@ fn written(r: &Reader, span: &crate::raw::Span) -> String {
         .unwrap_or_default()
 }
 
-/// Reads a number, first refusing (at its line, with the value as written) one below
-/// `rule.min` or at/above `below`, so that the message shows what the user typed.
-fn bounded_number(
+/// Reads a required number by its raw type's rule, first refusing (at its line, with the
+/// value as written) one below `rule.min` or at/above `below`, so that the message shows
+/// what the user typed.
+fn bounded_number<R: Ruled>(
     r: &mut Reader,
     t: &TableAt,
-    field: (&str, &Key<Num>),
-    rule: &NumberRule,
+    field: (&str, &Key<Num<R>>),
     below: Option<f64>,
 ) -> Option<Located<f64>> {
+    let rule = &R::THE_RULE;
     let key = field.0;
+    if field.1.is_none() {
+        r.missing(t, key, rule.expected);
+        return None;
+    }
     let before = r.problems.len();
     let wide = NumberRule {
         min: f64::MIN,
@@ -314,7 +326,7 @@ fn bounded_number(
         ..*rule
     };
     let mut warnings = std::mem::take(&mut r.warnings);
-    let probe = r.required_number(t, field, &wide);
+    let probe = r.number_by(t, field, &wide);
     std::mem::swap(&mut r.warnings, &mut warnings);
     if r.problems.len() > before {
         // Not a number at all (or missing): the wide reading said so already.
@@ -338,17 +350,17 @@ fn bounded_number(
         return None;
     }
     // In range: read it again through the rule for its warnings.
-    r.required_number(t, field, rule)
+    r.number_by(t, field, rule)
 }
 
 fn read_converter(r: &mut Reader, t: &TableAt, raw_t: &RawConverter) -> Option<ConverterSpec> {
-    let output = r.required_number(t, key!(raw_t.output_w), &OUTPUT_W);
-    let efficiency = r.required_number(t, key!(raw_t.efficiency), &EFFICIENCY);
-    let min_bulk = r.required_number(t, key!(raw_t.min_bulk_v), &MIN_BULK_V);
-    let switching = bounded_number(r, t, key!(raw_t.switching_hz), &SWITCHING_HZ, None);
+    let output = r.required_ruled(t, key!(raw_t.output_w));
+    let efficiency = r.required_ruled(t, key!(raw_t.efficiency));
+    let min_bulk = r.required_ruled(t, key!(raw_t.min_bulk_v));
+    let switching = bounded_number(r, t, key!(raw_t.switching_hz), None);
     // A duty of 1 is no pulse train (the input current is DC): the noise estimate needs
     // a duty below 1.
-    let duty = bounded_number(r, t, key!(raw_t.max_duty), &MAX_DUTY, Some(1.0));
+    let duty = bounded_number(r, t, key!(raw_t.max_duty), Some(1.0));
     let pfc = r.boolean(t, key!(raw_t.pfc_stage));
     Some(ConverterSpec {
         output_w: output?.value,

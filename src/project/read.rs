@@ -5,11 +5,6 @@ use std::collections::{BTreeMap, BTreeSet};
 use super::raw::*;
 use super::*;
 use crate::diag::{Problems, Source, one_of, suggest};
-use crate::input_limits::{
-    ALTITUDE_M, CAPACITANCE_NF, COUNT_IN_SERIES, CTI, DISTANCE_MM, MAINS_FREQUENCY_HZ,
-    POLLUTION_DEGREE, SLOT_MM, TAPE_LAYERS, TEMPERATURE_C, TEST_V_RMS, THICKNESS_MM, TRANSIENT_V,
-    VOLTAGE_V, WORKING_FREQUENCY_HZ,
-};
 use crate::key;
 use crate::raw::{Reader, Span, TableAt, read_document};
 
@@ -103,7 +98,7 @@ fn read_board(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option<B
         );
         return None;
     }
-    let thickness = r.number(&t, key!(raw_t.thickness_mm), &THICKNESS_MM);
+    let thickness = r.ruled(&t, key!(raw_t.thickness_mm));
     if raw_t.thickness_mm.is_some() && thickness.is_none() {
         return None;
     }
@@ -183,9 +178,9 @@ fn read_environment(
         (at, &empty)
     });
     let t = &t;
-    let pd = r.number(t, key!(raw_t.pollution_degree), &POLLUTION_DEGREE);
+    let pd = r.ruled(t, key!(raw_t.pollution_degree));
     let ovc = r.word::<OvervoltageCategory>(t, key!(raw_t.overvoltage_category));
-    let altitude = r.number(t, key!(raw_t.altitude_m), &ALTITUDE_M);
+    let altitude = r.ruled(t, key!(raw_t.altitude_m));
     if let Some(a) = &altitude {
         key_spans.insert("environment.altitude_m".to_string(), a.span.clone());
     }
@@ -225,10 +220,10 @@ fn read_mains(
         }
         return None;
     };
-    let nominal = r.required_number(&t, key!(raw_t.nominal_v), &VOLTAGE_V);
-    let max_v = r.number(&t, key!(raw_t.max_v), &VOLTAGE_V);
-    let min_v = r.number(&t, key!(raw_t.min_v), &VOLTAGE_V);
-    let frequency = r.number(&t, key!(raw_t.frequency_hz), &MAINS_FREQUENCY_HZ);
+    let nominal = r.required_ruled(&t, key!(raw_t.nominal_v));
+    let max_v = r.ruled(&t, key!(raw_t.max_v));
+    let min_v = r.ruled(&t, key!(raw_t.min_v));
+    let frequency = r.ruled(&t, key!(raw_t.frequency_hz));
     let nominal = nominal?;
     key_spans.insert("mains.nominal_v".to_string(), nominal.span.clone());
     if let Some(max) = &max_v
@@ -333,26 +328,22 @@ fn read_parts(
             subclass: r
                 .word::<CapacitorSubclass>(t, key!(raw_t.subclass))
                 .map(|l| l.value.to_string()),
-            capacitance_nf: r
-                .number(t, key!(raw_t.capacitance_nf), &CAPACITANCE_NF)
-                .map(|l| l.value),
-            rated_ac_v: r
-                .number(t, key!(raw_t.rated_ac_v), &VOLTAGE_V)
-                .map(|l| l.value),
+            capacitance_nf: r.ruled(t, key!(raw_t.capacitance_nf)).map(|l| l.value),
+            rated_ac_v: r.ruled(t, key!(raw_t.rated_ac_v)).map(|l| l.value),
             count_in_series: r
-                .number(t, key!(raw_t.count_in_series), &COUNT_IN_SERIES)
+                .ruled(t, key!(raw_t.count_in_series))
                 .map_or(1, |l| l.value as u32),
             isolation_test_v_rms: r
-                .number(t, key!(raw_t.isolation_test_v_rms), &TEST_V_RMS)
+                .ruled(t, key!(raw_t.isolation_test_v_rms))
                 .map(|l| l.value),
             external_clearance_mm: r
-                .number(t, key!(raw_t.external_clearance_mm), &DISTANCE_MM)
+                .ruled(t, key!(raw_t.external_clearance_mm))
                 .map(|l| l.value),
             external_creepage_mm: r
-                .number(t, key!(raw_t.external_creepage_mm), &DISTANCE_MM)
+                .ruled(t, key!(raw_t.external_creepage_mm))
                 .map(|l| l.value),
             distance_through_insulation_mm: r
-                .number(t, key!(raw_t.distance_through_insulation_mm), &THICKNESS_MM)
+                .ruled(t, key!(raw_t.distance_through_insulation_mm))
                 .map(|l| l.value),
             thin_layer_rated: r
                 .boolean(t, key!(raw_t.thin_layer_rated))
@@ -360,18 +351,12 @@ fn read_parts(
             insulation_system: r
                 .word::<InsulationSystem>(t, key!(raw_t.insulation_system))
                 .map(|l| l.value.to_string()),
-            tape_layers: r
-                .number(t, key!(raw_t.tape_layers), &TAPE_LAYERS)
-                .map(|l| l.value as u32),
-            margin_mm: r
-                .number(t, key!(raw_t.margin_mm), &DISTANCE_MM)
-                .map(|l| l.value),
+            tape_layers: r.ruled(t, key!(raw_t.tape_layers)).map(|l| l.value as u32),
+            margin_mm: r.ruled(t, key!(raw_t.margin_mm)).map(|l| l.value),
             thermal_class: r
                 .word::<ThermalClassLetter>(t, key!(raw_t.thermal_class))
                 .map(|l| l.value.to_string()),
-            hot_spot_c: r
-                .number(t, key!(raw_t.hot_spot_c), &TEMPERATURE_C)
-                .map(|l| l.value),
+            hot_spot_c: r.ruled(t, key!(raw_t.hot_spot_c)).map(|l| l.value),
         };
         if let Some(reference) = &reference
             && !seen.insert(reference.value.clone())
@@ -432,19 +417,19 @@ fn read_barriers(
         let id = r.required_string(t, key!(raw_t.id));
         let between = read_between(r, t, raw_t, circuit_set, &circuit_ids);
         let grade = r.required_word::<Grade>(t, key!(raw_t.grade));
-        let rms = r.required_number(t, key!(raw_t.working_rms_v), &VOLTAGE_V);
-        let peak = r.number(t, key!(raw_t.working_peak_v), &VOLTAGE_V);
-        let transient = r.number(t, key!(raw_t.transient_v), &TRANSIENT_V);
-        let frequency = r.number(t, key!(raw_t.working_frequency_hz), &WORKING_FREQUENCY_HZ);
+        let rms = r.required_ruled(t, key!(raw_t.working_rms_v));
+        let peak = r.ruled(t, key!(raw_t.working_peak_v));
+        let transient = r.ruled(t, key!(raw_t.transient_v));
+        let frequency = r.ruled(t, key!(raw_t.working_frequency_hz));
         let group = r.word::<MaterialGroup>(t, key!(raw_t.material_group));
-        let cti = r.number(t, key!(raw_t.cti), &CTI);
+        let cti = r.ruled(t, key!(raw_t.cti));
         let printed = r.boolean(t, key!(raw_t.printed_board));
         let field = r.word::<Field>(t, key!(raw_t.field));
         let conductor = r.word::<BoardConductor>(t, key!(raw_t.board_conductor));
         let coating = r.word::<BoardCoating>(t, key!(raw_t.board_coating));
-        let clearance = r.number(t, key!(raw_t.clearance_mm), &DISTANCE_MM);
-        let creepage = r.number(t, key!(raw_t.creepage_mm), &DISTANCE_MM);
-        let slot = r.number(t, key!(raw_t.slot_width_mm), &SLOT_MM);
+        let clearance = r.ruled(t, key!(raw_t.clearance_mm));
+        let creepage = r.ruled(t, key!(raw_t.creepage_mm));
+        let slot = r.ruled(t, key!(raw_t.slot_width_mm));
         let bridged = r.string_list(t, key!(raw_t.bridged_by));
         let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
 

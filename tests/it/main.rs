@@ -23,6 +23,7 @@ mod positions;
 mod power_entry;
 mod properties;
 mod report_layout;
+mod schema;
 mod sources;
 mod size_limits;
 mod spacing_rules;
