@@ -384,10 +384,14 @@ impl<'b> Index<'b> {
             + 1.0;
         let mut reach = FIRST_REACH_MM;
         loop {
-            match self.search(layers, obstacles, is_a, is_b, reach) {
+            match self.search(layers, obstacles, is_a, is_b, reach, f64::INFINITY) {
                 Some(found) if found.distance_mm <= reach => return Some(found),
                 Some(found) => {
-                    return self.search(layers, obstacles, is_a, is_b, found.distance_mm);
+                    // The path found is a real one: no shorter path has a step longer than
+                    // it, and no step that cannot end below it needs looking at. The
+                    // micrometre covers the rounding of the figure.
+                    let bound = found.distance_mm + 1e-6;
+                    return self.search(layers, obstacles, is_a, is_b, bound, bound);
                 }
                 None if reach >= most => return None,
                 None => reach = (reach * 2.0).min(most),
@@ -407,6 +411,7 @@ impl<'b> Index<'b> {
         is_a: &[bool],
         is_b: &[bool],
         reach: f64,
+        bound: f64,
     ) -> Option<MeasuredPath> {
         let n = self.board.conductors.len();
         let with_rims = layers.contains(&0) || layers.contains(&1);
@@ -428,7 +433,9 @@ impl<'b> Index<'b> {
                 heap.push(Entry(0.0, i as u32));
             }
         }
-        let mut best = f64::INFINITY;
+        // Steps that cannot end within `bound` (the length of a path known to exist) are
+        // not taken; the search stops at the second circuit's first copper as before.
+        let mut best = bound;
         let mut target = None;
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
@@ -613,6 +620,20 @@ impl<'b> Index<'b> {
                     let v = rimx0 + 2 * k as usize + other as usize;
                     // Clearance: straight through the air of the hole (the chord: never
                     // longer than the true path). Creepage: along the wall, unfolded.
+                    let lim = r.min(dist[v] - d);
+                    if lim < 0.0 {
+                        return;
+                    }
+                    // Cheap and conservative rejection before the exact figure: the step is
+                    // at least its chord and the thickness, less two spacings.
+                    let chord2 = {
+                        let e = g::sub(p, q);
+                        g::dot(e, e)
+                    };
+                    let most = lim + 2.0 * RIM_SPACING_MM;
+                    if chord2 + thickness * thickness > most * most * (1.0 + 1e-9) + 1e-12 {
+                        return;
+                    }
                     let across = if obstacles.is_some() {
                         let s = (self.rim_at[k as usize] - at).abs();
                         s.min(length - s)
