@@ -252,7 +252,7 @@ id = "iec60664-1.impulse"
 overrides = true
 title = "Rated impulse voltage (house copy)"
 source = "IEC 60664-1:2020, Table F.1"
-provenance = "House copy for the tests; rows confirmed against a public transcription [N20]."
+provenance = "House copy for the tests; rows confirmed against a public reproduction [N20]."
 rows = [
   { up_to_v = 50, ovc_i = 330, ovc_ii = 500, ovc_iii = 800, ovc_iv = 1500, confirmed = true },
   { up_to_v = 100, ovc_i = 500, ovc_ii = 800, ovc_iii = 1500, ovc_iv = 2500, confirmed = true },
