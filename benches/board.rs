@@ -22,11 +22,16 @@ fn c(v: f64) -> String {
 /// a 2 mm milled slot each and three floating (N/C) pads each.
 fn generated_files() -> Vec<(String, String)> {
     let header = |f: &str| {
-        format!("%FSLAX46Y46*%\n%MOMM*%\n%TF.FileFunction,{f}*%\n%LPD*%\nG75*\n%ADD10C,0.5*%\n%ADD11C,0.25*%\n")
+        format!(
+            "%FSLAX46Y46*%\n%MOMM*%\n%TF.FileFunction,{f}*%\n%LPD*%\nG75*\n%ADD10C,0.5*%\n%ADD11C,0.25*%\n"
+        )
     };
     let mut files = Vec::new();
     let mut height = 0.0f64;
-    for (function, name) in [("Copper,L1,Top", "top.gbr"), ("Copper,L2,Bot", "bottom.gbr")] {
+    for (function, name) in [
+        ("Copper,L1,Top", "top.gbr"),
+        ("Copper,L2,Bot", "bottom.gbr"),
+    ] {
         let mut s = header(function);
         let mut n = 0;
         let mut j = 0;
@@ -50,7 +55,13 @@ fn generated_files() -> Vec<(String, String)> {
                 if (i + j) % 2 == 0 {
                     s.push_str(&format!("D10*\nX{}Y{}D03*\n", c(x), c(y)));
                 } else {
-                    s.push_str(&format!("D11*\nX{}Y{}D02*\nX{}Y{}D01*\n", c(x - 0.2), c(y), c(x + 0.2), c(y)));
+                    s.push_str(&format!(
+                        "D11*\nX{}Y{}D02*\nX{}Y{}D01*\n",
+                        c(x - 0.2),
+                        c(y),
+                        c(x + 0.2),
+                        c(y)
+                    ));
                 }
                 n += 1;
                 height = height.max(y + 1.0);
@@ -75,7 +86,13 @@ fn generated_files() -> Vec<(String, String)> {
     let mut npth = header("NonPlated,1,2,NPTH,Rout");
     npth.push_str("%ADD12C,2.0*%\nD12*\n");
     for x in [44.0, 104.0] {
-        npth.push_str(&format!("X{}Y{}D02*\nX{}Y{}D01*\n", c(x), c(10.0), c(x), c(height - 10.0)));
+        npth.push_str(&format!(
+            "X{}Y{}D02*\nX{}Y{}D01*\n",
+            c(x),
+            c(10.0),
+            c(x),
+            c(height - 10.0)
+        ));
     }
     npth.push_str("M02*\n");
     files.push(("npth.gbr".to_string(), npth));
@@ -118,7 +135,11 @@ fn measure_three_barriers_100k_objects(bencher: divan::Bencher) {
         let a = index.measure(&i, &p, 1.0);
         let b = index.measure(&p, &s, 1.0);
         let c = index.measure(&i, &s, 1.0);
-        (a.clearance.map(|m| m.distance_mm), b.creepage.map(|m| m.distance_mm), c.clearance.map(|m| m.distance_mm))
+        (
+            a.clearance.map(|m| m.distance_mm),
+            b.creepage.map(|m| m.distance_mm),
+            c.clearance.map(|m| m.distance_mm),
+        )
     });
 }
 

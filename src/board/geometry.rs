@@ -44,8 +44,14 @@ pub struct Seg {
 impl Seg {
     pub fn bbox(&self) -> Bbox {
         Bbox {
-            min: [self.a[0].min(self.b[0]) - self.r, self.a[1].min(self.b[1]) - self.r],
-            max: [self.a[0].max(self.b[0]) + self.r, self.a[1].max(self.b[1]) + self.r],
+            min: [
+                self.a[0].min(self.b[0]) - self.r,
+                self.a[1].min(self.b[1]) - self.r,
+            ],
+            max: [
+                self.a[0].max(self.b[0]) + self.r,
+                self.a[1].max(self.b[1]) + self.r,
+            ],
         }
     }
 }
@@ -88,8 +94,12 @@ impl Bbox {
     /// Distance between two boxes (0 when they overlap): a lower bound of the distance
     /// between anything inside them.
     pub fn gap(&self, o: &Bbox) -> f64 {
-        let dx = (o.min[0] - self.max[0]).max(self.min[0] - o.max[0]).max(0.0);
-        let dy = (o.min[1] - self.max[1]).max(self.min[1] - o.max[1]).max(0.0);
+        let dx = (o.min[0] - self.max[0])
+            .max(self.min[0] - o.max[0])
+            .max(0.0);
+        let dy = (o.min[1] - self.max[1])
+            .max(self.min[1] - o.max[1])
+            .max(0.0);
         dx.hypot(dy)
     }
     pub fn contains(&self, p: P) -> bool {
@@ -312,12 +322,17 @@ impl Grid {
             }
         }
         if all.is_empty() {
-            all = Bbox { min: [0.0, 0.0], max: [1.0, 1.0] };
+            all = Bbox {
+                min: [0.0, 0.0],
+                max: [1.0, 1.0],
+            };
         }
         let w = (all.max[0] - all.min[0]).max(1e-3);
         let h = (all.max[1] - all.min[1]).max(1e-3);
         let n = boxes.len().max(1) as f64;
-        let mut cell = hint_cell.unwrap_or_else(|| (w * h / n).sqrt() * 1.5).max(1e-3);
+        let mut cell = hint_cell
+            .unwrap_or_else(|| (w * h / n).sqrt() * 1.5)
+            .max(1e-3);
         // At most about four million cells, whatever the spread of the items.
         while (w / cell).ceil() * (h / cell).ceil() > 4.0e6 {
             cell *= 2.0;
@@ -361,11 +376,7 @@ impl Grid {
     fn range(&self, b: &Bbox) -> (usize, usize, usize, usize) {
         let f = |v: f64, o: f64, n: usize| -> usize {
             let i = ((v - o) / self.cell).floor();
-            if i < 0.0 {
-                0
-            } else {
-                (i as usize).min(n - 1)
-            }
+            if i < 0.0 { 0 } else { (i as usize).min(n - 1) }
         };
         (
             f(b.min[0], self.origin[0], self.nx),
@@ -427,8 +438,16 @@ mod tests {
     #[test]
     fn round_pads_gap_is_centre_distance_less_radii() {
         // Centres 5 mm apart, radii 1 and 0.5: gap 5 - 1.5 = 3.5 mm.
-        let s1 = Seg { a: [0.0, 0.0], b: [0.0, 0.0], r: 1.0 };
-        let s2 = Seg { a: [3.0, 4.0], b: [3.0, 4.0], r: 0.5 };
+        let s1 = Seg {
+            a: [0.0, 0.0],
+            b: [0.0, 0.0],
+            r: 1.0,
+        };
+        let s2 = Seg {
+            a: [3.0, 4.0],
+            b: [3.0, 4.0],
+            r: 0.5,
+        };
         let (d, p, q) = seg_distance(&s1, &s2);
         assert!((d - 3.5).abs() < 1e-12);
         assert!((dist(p, [0.6, 0.8])) < 1e-12);
@@ -461,14 +480,23 @@ mod tests {
         let boxes: Vec<Bbox> = (0..100)
             .map(|i| {
                 let x = i as f64;
-                Bbox { min: [x, 0.0], max: [x + 0.5, 0.5] }
+                Bbox {
+                    min: [x, 0.0],
+                    max: [x + 0.5, 0.5],
+                }
             })
             .collect();
         let g = Grid::build(&boxes, Some(1.0));
         let mut found = std::collections::BTreeSet::new();
-        g.query(&Bbox { min: [10.2, 0.0], max: [12.1, 0.1] }, |i| {
-            found.insert(i);
-        });
+        g.query(
+            &Bbox {
+                min: [10.2, 0.0],
+                max: [12.1, 0.1],
+            },
+            |i| {
+                found.insert(i);
+            },
+        );
         assert!(found.contains(&10) && found.contains(&11) && found.contains(&12));
         assert!(!found.contains(&50));
     }

@@ -49,9 +49,7 @@ pub enum Shape {
 impl Shape {
     pub fn bbox(&self) -> g::Bbox {
         match self {
-            Shape::Segs(segs) => segs
-                .iter()
-                .fold(g::Bbox::EMPTY, |b, s| b.union(&s.bbox())),
+            Shape::Segs(segs) => segs.iter().fold(g::Bbox::EMPTY, |b, s| b.union(&s.bbox())),
             Shape::Rings(rings) => g::Bbox::around(rings.iter().flatten().copied()),
         }
     }
@@ -60,7 +58,11 @@ impl Shape {
         match self {
             Shape::Segs(segs) => Shape::Segs(
                 segs.iter()
-                    .map(|s| Seg { a: g::add(s.a, d), b: g::add(s.b, d), r: s.r })
+                    .map(|s| Seg {
+                        a: g::add(s.a, d),
+                        b: g::add(s.b, d),
+                        r: s.r,
+                    })
                     .collect(),
             ),
             Shape::Rings(rings) => Shape::Rings(
@@ -242,7 +244,11 @@ pub fn read(name: &str, text: &str) -> Result<Image, Diagnostic> {
         ));
     }
     if st.region.is_some() {
-        return Err(err(name, text.lines().count().max(1), "a region (G36) is never closed by G37"));
+        return Err(err(
+            name,
+            text.lines().count().max(1),
+            "a region (G36) is never closed by G37",
+        ));
     }
     if st.step_repeat.is_some() {
         st.close_step_repeat();
@@ -331,10 +337,14 @@ impl State<'_> {
                 let dec = x
                     .and_then(|d| d[1..2].parse::<u32>().ok())
                     .filter(|d| *d <= 9)
-                    .ok_or_else(|| err(file, line, format!("coordinate format \"{cmd}\" is not valid")))?;
-                let int = x
-                    .and_then(|d| d[..1].parse::<u32>().ok())
-                    .unwrap_or(0);
+                    .ok_or_else(|| {
+                        err(
+                            file,
+                            line,
+                            format!("coordinate format \"{cmd}\" is not valid"),
+                        )
+                    })?;
+                let int = x.and_then(|d| d[..1].parse::<u32>().ok()).unwrap_or(0);
                 self.format = Some((int, dec));
                 self.seen_gerber = true;
             }
@@ -359,19 +369,30 @@ impl State<'_> {
                 ));
             }
             "AB" => {
-                return Err(err(file, line, "aperture blocks (%AB...%) are not interpreted by this version"));
+                return Err(err(
+                    file,
+                    line,
+                    "aperture blocks (%AB...%) are not interpreted by this version",
+                ));
             }
             "LP" => {
                 self.dark = match &cmd[2..] {
                     "D" => true,
                     "C" => false,
-                    other => return Err(err(file, line, format!("polarity \"{other}\" is not D or C"))),
+                    other => {
+                        return Err(err(
+                            file,
+                            line,
+                            format!("polarity \"{other}\" is not D or C"),
+                        ));
+                    }
                 };
             }
             "LM" | "LR" | "LS" => {
                 let v = &cmd[2..];
                 let identity = matches!((code, v), ("LM", "N") | ("LR", "0") | ("LS", "1"))
-                    || (code != "LM" && v.parse::<f64>().ok() == Some(if code == "LR" { 0.0 } else { 1.0 }));
+                    || (code != "LM"
+                        && v.parse::<f64>().ok() == Some(if code == "LR" { 0.0 } else { 1.0 }));
                 if !identity {
                     return Err(err(
                         file,
@@ -405,8 +426,19 @@ impl State<'_> {
                     }
                     let get = |k: char| vals.get(&k).copied().unwrap_or(0.0);
                     let (nx, ny) = (get('X'), get('Y'));
-                    if nx < 1.0 || ny < 1.0 || nx.fract() != 0.0 || ny.fract() != 0.0 || nx * ny > 1.0e6 {
-                        return Err(err(file, line, format!("step and repeat \"{cmd}\": the counts X and Y must be whole numbers from 1")));
+                    if nx < 1.0
+                        || ny < 1.0
+                        || nx.fract() != 0.0
+                        || ny.fract() != 0.0
+                        || nx * ny > 1.0e6
+                    {
+                        return Err(err(
+                            file,
+                            line,
+                            format!(
+                                "step and repeat \"{cmd}\": the counts X and Y must be whole numbers from 1"
+                            ),
+                        ));
                     }
                     if nx * ny > 1.0 {
                         self.step_repeat = Some((
@@ -464,7 +496,9 @@ impl State<'_> {
 
     fn aperture(&mut self, line: usize, body: &str) -> Result<(), Diagnostic> {
         let file = self.file;
-        let body = body.strip_prefix('D').ok_or_else(|| err(file, line, "aperture definition without D code"))?;
+        let body = body
+            .strip_prefix('D')
+            .ok_or_else(|| err(file, line, "aperture definition without D code"))?;
         let digits: String = body.chars().take_while(|c| c.is_ascii_digit()).collect();
         let code: u32 = digits
             .parse()
@@ -481,7 +515,11 @@ impl State<'_> {
         };
         let need = |n: usize| -> Result<(), Diagnostic> {
             if p.len() < n || p.iter().any(|v| *v < 0.0) {
-                Err(err(file, line, format!("aperture D{code} ({template}) has missing or negative sizes")))
+                Err(err(
+                    file,
+                    line,
+                    format!("aperture D{code} ({template}) has missing or negative sizes"),
+                ))
             } else {
                 Ok(())
             }
@@ -493,19 +531,33 @@ impl State<'_> {
             }
             "R" => {
                 need(2)?;
-                Aperture::Rect { w: self.mm(p[0]), h: self.mm(p[1]) }
+                Aperture::Rect {
+                    w: self.mm(p[0]),
+                    h: self.mm(p[1]),
+                }
             }
             "O" => {
                 need(2)?;
-                Aperture::Obround { w: self.mm(p[0]), h: self.mm(p[1]) }
+                Aperture::Obround {
+                    w: self.mm(p[0]),
+                    h: self.mm(p[1]),
+                }
             }
             "P" => {
                 need(2)?;
                 let n = p[1];
                 if !(3.0..=12.0).contains(&n) || n.fract() != 0.0 {
-                    return Err(err(file, line, format!("polygon aperture D{code}: {n} vertices; Gerber allows 3 to 12")));
+                    return Err(err(
+                        file,
+                        line,
+                        format!("polygon aperture D{code}: {n} vertices; Gerber allows 3 to 12"),
+                    ));
                 }
-                Aperture::Polygon { d: self.mm(p[0]), n: n as u32, rot_deg: p.get(2).copied().unwrap_or(0.0) }
+                Aperture::Polygon {
+                    d: self.mm(p[0]),
+                    n: n as u32,
+                    rot_deg: p.get(2).copied().unwrap_or(0.0),
+                }
             }
             other => {
                 return Err(err(
@@ -524,14 +576,26 @@ impl State<'_> {
 
     fn coord(&self, line: usize, s: &str) -> Result<f64, Diagnostic> {
         let Some((_, dec)) = self.format else {
-            return Err(err(self.file, line, "a coordinate comes before the format (%FS...*%)"));
+            return Err(err(
+                self.file,
+                line,
+                "a coordinate comes before the format (%FS...*%)",
+            ));
         };
         if self.inch.is_none() {
-            return Err(err(self.file, line, "a coordinate comes before the unit (%MOMM*% or %MOIN*%)"));
+            return Err(err(
+                self.file,
+                line,
+                "a coordinate comes before the unit (%MOMM*% or %MOIN*%)",
+            ));
         }
-        let v: i64 = s
-            .parse()
-            .map_err(|_| err(self.file, line, format!("coordinate \"{s}\" is not a whole number")))?;
+        let v: i64 = s.parse().map_err(|_| {
+            err(
+                self.file,
+                line,
+                format!("coordinate \"{s}\" is not a whole number"),
+            )
+        })?;
         Ok(self.mm(v as f64 / 10f64.powi(dec as i32)))
     }
 
@@ -564,7 +628,13 @@ impl State<'_> {
         }
         let (mut x, mut y, mut i, mut j, mut d) = (None, None, None, None, None);
         for (letter, num) in &words {
-            let bad = || err(file, line, format!("\"{letter}{num}\" in \"{cmd}\" is not valid"));
+            let bad = || {
+                err(
+                    file,
+                    line,
+                    format!("\"{letter}{num}\" in \"{cmd}\" is not valid"),
+                )
+            };
             match letter {
                 'G' => match num.parse::<u32>().map_err(|_| bad())? {
                     1 => self.interp = Interp::Linear,
@@ -589,8 +659,20 @@ impl State<'_> {
                     54 | 55 | 90 => {}
                     70 => self.inch = Some(true),
                     71 => self.inch = Some(false),
-                    91 => return Err(err(file, line, "incremental coordinates (G91) are not interpreted")),
-                    other => return Err(err(file, line, format!("G{other:02} is not interpreted by this version"))),
+                    91 => {
+                        return Err(err(
+                            file,
+                            line,
+                            "incremental coordinates (G91) are not interpreted",
+                        ));
+                    }
+                    other => {
+                        return Err(err(
+                            file,
+                            line,
+                            format!("G{other:02} is not interpreted by this version"),
+                        ));
+                    }
                 },
                 'X' => x = Some(self.coord(line, num)?),
                 'Y' => y = Some(self.coord(line, num)?),
@@ -609,7 +691,11 @@ impl State<'_> {
         match d {
             None if x.is_some() || y.is_some() => {
                 // Deprecated modal D01: a coordinate alone continues the last operation.
-                return Err(err(file, line, format!("\"{cmd}\": a coordinate without an operation code (D01, D02, D03)")));
+                return Err(err(
+                    file,
+                    line,
+                    format!("\"{cmd}\": a coordinate without an operation code (D01, D02, D03)"),
+                ));
             }
             None => {}
             Some(1) => self.draw(line, target, [i.unwrap_or(0.0), j.unwrap_or(0.0)])?,
@@ -625,11 +711,21 @@ impl State<'_> {
             }
             Some(code) if code >= 10 => {
                 if !self.apertures.contains_key(&code) {
-                    return Err(err(file, line, format!("aperture D{code} is selected but never defined")));
+                    return Err(err(
+                        file,
+                        line,
+                        format!("aperture D{code} is selected but never defined"),
+                    ));
                 }
                 self.current = Some(code);
             }
-            Some(code) => return Err(err(file, line, format!("D{code:02} is not an operation code"))),
+            Some(code) => {
+                return Err(err(
+                    file,
+                    line,
+                    format!("D{code:02} is not an operation code"),
+                ));
+            }
         }
         Ok(false)
     }
@@ -637,7 +733,13 @@ impl State<'_> {
     fn current_aperture(&self, line: usize) -> Result<Aperture, Diagnostic> {
         self.current
             .and_then(|c| self.apertures.get(&c).copied())
-            .ok_or_else(|| err(self.file, line, "a draw or flash comes before any aperture is selected"))
+            .ok_or_else(|| {
+                err(
+                    self.file,
+                    line,
+                    "a draw or flash comes before any aperture is selected",
+                )
+            })
     }
 
     fn push(&mut self, line: usize, shape: Shape, width_mm: Option<f64>, drawn: bool) {
@@ -658,7 +760,11 @@ impl State<'_> {
             Interp::Linear => vec![from, to],
             Interp::Cw | Interp::Ccw => {
                 if !self.multi_quadrant {
-                    return Err(err(self.file, line, "an arc before G75 (multi-quadrant mode) was set"));
+                    return Err(err(
+                        self.file,
+                        line,
+                        "an arc before G75 (multi-quadrant mode) was set",
+                    ));
                 }
                 let centre = g::add(from, ij);
                 let r0 = g::dist(from, centre);
@@ -668,7 +774,9 @@ impl State<'_> {
                     return Err(err(
                         self.file,
                         line,
-                        format!("arc: start radius {r0:.4} mm and end radius {r1:.4} mm differ; the centre offset (I, J) is wrong"),
+                        format!(
+                            "arc: start radius {r0:.4} mm and end radius {r1:.4} mm differ; the centre offset (I, J) is wrong"
+                        ),
                     ));
                 }
                 let a0 = (from[1] - centre[1]).atan2(from[0] - centre[0]);
@@ -681,7 +789,11 @@ impl State<'_> {
                 };
                 // Start and end at one point: a full circle (G75).
                 if g::dist(from, to) < 1e-9 {
-                    sweep = if self.interp == Interp::Ccw { tau } else { -tau };
+                    sweep = if self.interp == Interp::Ccw {
+                        tau
+                    } else {
+                        -tau
+                    };
                 }
                 let mut pts = g::arc_points(centre, r0.max(r1), a0, sweep);
                 if let Some(first) = pts.first_mut() {
@@ -709,7 +821,14 @@ impl State<'_> {
         let ap = self.current_aperture(line)?;
         match ap {
             Aperture::Circle { d } => {
-                let segs = points.windows(2).map(|w| Seg { a: w[0], b: w[1], r: d / 2.0 }).collect();
+                let segs = points
+                    .windows(2)
+                    .map(|w| Seg {
+                        a: w[0],
+                        b: w[1],
+                        r: d / 2.0,
+                    })
+                    .collect();
                 self.push(line, Shape::Segs(segs), Some(d), true);
             }
             Aperture::Rect { w, h } if self.interp == Interp::Linear => {
@@ -720,7 +839,12 @@ impl State<'_> {
                         pts.push([c[0] + sx * w / 2.0, c[1] + sy * h / 2.0]);
                     }
                 }
-                self.push(line, Shape::Rings(vec![convex_hull(pts)]), Some(w.min(h)), true);
+                self.push(
+                    line,
+                    Shape::Rings(vec![convex_hull(pts)]),
+                    Some(w.min(h)),
+                    true,
+                );
             }
             _ => {
                 return Err(err(
@@ -736,11 +860,22 @@ impl State<'_> {
 
     fn flash(&mut self, line: usize, at: P) -> Result<(), Diagnostic> {
         if self.region.is_some() {
-            return Err(err(self.file, line, "a flash (D03) inside a region (G36) is not valid Gerber"));
+            return Err(err(
+                self.file,
+                line,
+                "a flash (D03) inside a region (G36) is not valid Gerber",
+            ));
         }
         let ap = self.current_aperture(line)?;
         let (shape, width) = match ap {
-            Aperture::Circle { d } => (Shape::Segs(vec![Seg { a: at, b: at, r: d / 2.0 }]), d),
+            Aperture::Circle { d } => (
+                Shape::Segs(vec![Seg {
+                    a: at,
+                    b: at,
+                    r: d / 2.0,
+                }]),
+                d,
+            ),
             Aperture::Rect { w, h } => (
                 Shape::Rings(vec![vec![
                     [at[0] - w / 2.0, at[1] - h / 2.0],
@@ -752,9 +887,17 @@ impl State<'_> {
             ),
             Aperture::Obround { w, h } => {
                 let r = w.min(h) / 2.0;
-                let (dx, dy) = if w >= h { (w / 2.0 - r, 0.0) } else { (0.0, h / 2.0 - r) };
+                let (dx, dy) = if w >= h {
+                    (w / 2.0 - r, 0.0)
+                } else {
+                    (0.0, h / 2.0 - r)
+                };
                 (
-                    Shape::Segs(vec![Seg { a: [at[0] - dx, at[1] - dy], b: [at[0] + dx, at[1] + dy], r }]),
+                    Shape::Segs(vec![Seg {
+                        a: [at[0] - dx, at[1] - dy],
+                        b: [at[0] + dx, at[1] + dy],
+                        r,
+                    }]),
                     w.min(h),
                 )
             }
@@ -765,7 +908,10 @@ impl State<'_> {
                         [at[0] + d / 2.0 * a.cos(), at[1] + d / 2.0 * a.sin()]
                     })
                     .collect();
-                (Shape::Rings(vec![ring]), d * (std::f64::consts::PI / n as f64).cos())
+                (
+                    Shape::Rings(vec![ring]),
+                    d * (std::f64::consts::PI / n as f64).cos(),
+                )
             }
         };
         self.push(line, shape, Some(width), false);
@@ -814,7 +960,10 @@ impl State<'_> {
                 }
                 let d = [ix as f64 * dx, iy as f64 * dy];
                 for o in &block {
-                    self.objects.push(Object { shape: o.shape.translated(d), ..o.clone() });
+                    self.objects.push(Object {
+                        shape: o.shape.translated(d),
+                        ..o.clone()
+                    });
                 }
             }
         }
@@ -831,7 +980,10 @@ pub fn convex_hull(mut pts: Vec<P>) -> Vec<P> {
     let mut lower: Vec<P> = Vec::new();
     for &p in &pts {
         while lower.len() >= 2
-            && g::cross(g::sub(lower[lower.len() - 1], lower[lower.len() - 2]), g::sub(p, lower[lower.len() - 2])) <= 0.0
+            && g::cross(
+                g::sub(lower[lower.len() - 1], lower[lower.len() - 2]),
+                g::sub(p, lower[lower.len() - 2]),
+            ) <= 0.0
         {
             lower.pop();
         }
@@ -840,7 +992,10 @@ pub fn convex_hull(mut pts: Vec<P>) -> Vec<P> {
     let mut upper: Vec<P> = Vec::new();
     for &p in pts.iter().rev() {
         while upper.len() >= 2
-            && g::cross(g::sub(upper[upper.len() - 1], upper[upper.len() - 2]), g::sub(p, upper[upper.len() - 2])) <= 0.0
+            && g::cross(
+                g::sub(upper[upper.len() - 1], upper[upper.len() - 2]),
+                g::sub(p, upper[upper.len() - 2]),
+            ) <= 0.0
         {
             upper.pop();
         }

@@ -237,7 +237,9 @@ impl<'b> Index<'b> {
     fn find_inside(&mut self) {
         let board = self.board;
         for (i, c) in board.conductors.iter().enumerate() {
-            let Shape::Rings(rings) = &c.shape else { continue };
+            let Shape::Rings(rings) = &c.shape else {
+                continue;
+            };
             let bb = c.bbox();
             let mut found = Vec::new();
             for l in [self.obj_layers[i].0, self.obj_layers[i].1] {
@@ -376,7 +378,8 @@ impl<'b> Index<'b> {
             return None;
         }
         let all = self.layers.iter().fold(Bbox::EMPTY, |bb, (ids, _)| {
-            ids.iter().fold(bb, |bb, &s| bb.union(&self.seg_box[s as usize]))
+            ids.iter()
+                .fold(bb, |bb, &s| bb.union(&self.seg_box[s as usize]))
         });
         let all = all.union(&Bbox::around(self.board.outline.iter().copied()));
         let most = (all.max[0] - all.min[0]).hypot(all.max[1] - all.min[1])
@@ -459,17 +462,18 @@ impl<'b> Index<'b> {
             if r < 0.0 {
                 continue;
             }
-            let mut relax = |v: usize, w: f64, p: Pred, dist: &mut Vec<f64>, heap: &mut BinaryHeap<Entry>| {
-                let nd = d + w.max(0.0);
-                if nd < dist[v] {
-                    dist[v] = nd;
-                    pred[v] = Some(p);
-                    heap.push(Entry(nd, v as u32));
-                    if v < n && is_b[v] && nd < best {
-                        best = nd;
+            let mut relax =
+                |v: usize, w: f64, p: Pred, dist: &mut Vec<f64>, heap: &mut BinaryHeap<Entry>| {
+                    let nd = d + w.max(0.0);
+                    if nd < dist[v] {
+                        dist[v] = nd;
+                        pred[v] = Some(p);
+                        heap.push(Entry(nd, v as u32));
+                        if v < n && is_b[v] && nd < best {
+                            best = nd;
+                        }
                     }
-                }
-            };
+                };
             if ui < n {
                 let (l0, l1) = self.obj_layers[ui];
                 for l in [l0, l1] {
@@ -504,7 +508,19 @@ impl<'b> Index<'b> {
                                 if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, pv)) {
                                     continue;
                                 }
-                                relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: pv, to_layer: l }, &mut dist, &mut heap);
+                                relax(
+                                    v,
+                                    w,
+                                    Pred {
+                                        from: u,
+                                        from_pt: pu,
+                                        from_layer: l,
+                                        to_pt: pv,
+                                        to_layer: l,
+                                    },
+                                    &mut dist,
+                                    &mut heap,
+                                );
                             }
                         });
                         if l <= 1 && with_rims {
@@ -520,11 +536,25 @@ impl<'b> Index<'b> {
                                     if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
                                         continue;
                                     }
-                                    relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                    relax(
+                                        v,
+                                        w,
+                                        Pred {
+                                            from: u,
+                                            from_pt: pu,
+                                            from_layer: l,
+                                            to_pt: p,
+                                            to_layer: l,
+                                        },
+                                        &mut dist,
+                                        &mut heap,
+                                    );
                                 }
                             });
                         }
-                        if l <= 1 && let Some(o) = obstacles {
+                        if l <= 1
+                            && let Some(o) = obstacles
+                        {
                             o.corner_grid.query(&gbox.grown(r + tol), |k| {
                                 let p = o.corners[k as usize];
                                 let v = corner0 + 2 * k as usize + l as usize;
@@ -537,7 +567,19 @@ impl<'b> Index<'b> {
                                     if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
                                         continue;
                                     }
-                                    relax(v, w, Pred { from: u, from_pt: pu, from_layer: l, to_pt: p, to_layer: l }, &mut dist, &mut heap);
+                                    relax(
+                                        v,
+                                        w,
+                                        Pred {
+                                            from: u,
+                                            from_pt: pu,
+                                            from_layer: l,
+                                            to_pt: p,
+                                            to_layer: l,
+                                        },
+                                        &mut dist,
+                                        &mut heap,
+                                    );
                                 }
                             });
                         }
@@ -546,7 +588,19 @@ impl<'b> Index<'b> {
                         let at = self.segs[self.obj_segs(u).start].a;
                         for &v in inside {
                             if self.on_any(v, &[l as usize]) {
-                                relax(v as usize, 0.0, Pred { from: u, from_pt: at, from_layer: l, to_pt: at, to_layer: l }, &mut dist, &mut heap);
+                                relax(
+                                    v as usize,
+                                    0.0,
+                                    Pred {
+                                        from: u,
+                                        from_pt: at,
+                                        from_layer: l,
+                                        to_pt: at,
+                                        to_layer: l,
+                                    },
+                                    &mut dist,
+                                    &mut heap,
+                                );
                             }
                         }
                     }
@@ -562,7 +616,11 @@ impl<'b> Index<'b> {
                 (self.rim[k].0, ((ui - rimx0) % 2) as u8, None)
             } else {
                 let k = (ui - corner0) / 2;
-                (obstacles.map_or([0.0, 0.0], |o| o.corners[k]), ((ui - corner0) % 2) as u8, None)
+                (
+                    obstacles.map_or([0.0, 0.0], |o| o.corners[k]),
+                    ((ui - corner0) % 2) as u8,
+                    None,
+                )
             };
             if rim_of.is_none() && layers.contains(&(f as usize)) {
                 let (ids, grid) = &self.layers[f as usize];
@@ -578,7 +636,19 @@ impl<'b> Index<'b> {
                     if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(p, pv)) {
                         return;
                     }
-                    relax(v, w, Pred { from: u, from_pt: p, from_layer: f, to_pt: pv, to_layer: f }, &mut dist, &mut heap);
+                    relax(
+                        v,
+                        w,
+                        Pred {
+                            from: u,
+                            from_pt: p,
+                            from_layer: f,
+                            to_pt: pv,
+                            to_layer: f,
+                        },
+                        &mut dist,
+                        &mut heap,
+                    );
                 });
                 if let Some(o) = obstacles {
                     o.corner_grid.query(&pb.grown(r), |k| {
@@ -588,7 +658,19 @@ impl<'b> Index<'b> {
                         if v == ui || w > r || d + w >= dist[v] || !visible(p, q) {
                             return;
                         }
-                        relax(v, w, Pred { from: u, from_pt: p, from_layer: f, to_pt: q, to_layer: f }, &mut dist, &mut heap);
+                        relax(
+                            v,
+                            w,
+                            Pred {
+                                from: u,
+                                from_pt: p,
+                                from_layer: f,
+                                to_pt: q,
+                                to_layer: f,
+                            },
+                            &mut dist,
+                            &mut heap,
+                        );
                     });
                     if ui >= corner0 {
                         self.rim_grid.query(&pb.grown(r), |k| {
@@ -598,7 +680,19 @@ impl<'b> Index<'b> {
                             if w > r || d + w >= dist[v] || !visible(p, q) {
                                 return;
                             }
-                            relax(v, w, Pred { from: u, from_pt: p, from_layer: f, to_pt: q, to_layer: f }, &mut dist, &mut heap);
+                            relax(
+                                v,
+                                w,
+                                Pred {
+                                    from: u,
+                                    from_pt: p,
+                                    from_layer: f,
+                                    to_pt: q,
+                                    to_layer: f,
+                                },
+                                &mut dist,
+                                &mut heap,
+                            );
                         });
                     }
                 }
@@ -647,7 +741,19 @@ impl<'b> Index<'b> {
                     if w > r || d + w >= dist[v] {
                         return;
                     }
-                    relax(v, w, Pred { from: u, from_pt: p, from_layer: f, to_pt: q, to_layer: other }, &mut dist, &mut heap);
+                    relax(
+                        v,
+                        w,
+                        Pred {
+                            from: u,
+                            from_pt: p,
+                            from_layer: f,
+                            to_pt: q,
+                            to_layer: other,
+                        },
+                        &mut dist,
+                        &mut heap,
+                    );
                 });
             }
         }
@@ -693,7 +799,11 @@ impl<'b> Index<'b> {
 
     fn point(&self, p: P, layer: u8) -> PathPoint {
         PathPoint {
-            layer: self.layer_names.get(layer as usize).cloned().unwrap_or_default(),
+            layer: self
+                .layer_names
+                .get(layer as usize)
+                .cloned()
+                .unwrap_or_default(),
             x_mm: crate::spacing::tidy(p[0]),
             y_mm: crate::spacing::tidy(p[1]),
         }
@@ -769,7 +879,11 @@ impl Obstacles {
             }
             let n = ring.len();
             let near_edge = (0..n).any(|k| {
-                let s = Seg { a: ring[k], b: ring[(k + 1) % n], r: 0.0 };
+                let s = Seg {
+                    a: ring[k],
+                    b: ring[(k + 1) % n],
+                    r: 0.0,
+                };
                 g::point_seg_distance(m, &s).0 < ON_EDGE_MM
             });
             if !near_edge {

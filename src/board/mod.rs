@@ -179,7 +179,13 @@ pub fn build(
             }
             Role::Plated => {
                 let start = board.conductors.len();
-                add_with_polarity(&mut board.conductors, start, image.objects, Layer::Through, fi);
+                add_with_polarity(
+                    &mut board.conductors,
+                    start,
+                    image.objects,
+                    Layer::Through,
+                    fi,
+                );
             }
             Role::NonPlated => {
                 for o in image.objects.into_iter().filter(|o| o.dark) {
@@ -188,12 +194,18 @@ pub fn build(
             }
             Role::Profile => {
                 if outline_found {
-                    return Err(Diagnostic::new(&name, "a second profile file; give the board outline once"));
+                    return Err(Diagnostic::new(
+                        &name,
+                        "a second profile file; give the board outline once",
+                    ));
                 }
                 outline_found = true;
                 let mut loops = chain_loops(&name, &image.outline_segments)?;
                 if loops.is_empty() {
-                    return Err(Diagnostic::new(&name, "the profile file draws no closed outline"));
+                    return Err(Diagnostic::new(
+                        &name,
+                        "the profile file draws no closed outline",
+                    ));
                 }
                 loops.sort_by(|a, b| g::ring_area(b).abs().total_cmp(&g::ring_area(a).abs()));
                 let mut outer = loops.remove(0);
@@ -203,7 +215,12 @@ pub fn build(
                 board.outline = outer;
                 for ring in loops {
                     let width = convex_width(&ring);
-                    board.cutouts.push(CutOut { ring, width_mm: width, file: fi, line: 0 });
+                    board.cutouts.push(CutOut {
+                        ring,
+                        width_mm: width,
+                        file: fi,
+                        line: 0,
+                    });
                 }
             }
         }
@@ -247,7 +264,13 @@ fn add_with_polarity(
     use geo::BooleanOps;
     for o in objects {
         if o.dark {
-            out.push(Conductor { layer, net: o.net, shape: o.shape, file, line: o.line });
+            out.push(Conductor {
+                layer,
+                net: o.net,
+                shape: o.shape,
+                file,
+                line: o.line,
+            });
             continue;
         }
         let clear_box = o.shape.bbox();
@@ -259,11 +282,22 @@ fn add_with_polarity(
                 continue;
             }
             let rest = to_geo(&out[k].shape).difference(&clear);
-            let pieces: Vec<Shape> = rest.0.iter().map(from_geo).filter(|s| !s_is_empty(s)).collect();
+            let pieces: Vec<Shape> = rest
+                .0
+                .iter()
+                .map(from_geo)
+                .filter(|s| !s_is_empty(s))
+                .collect();
             let base = out.remove(k);
             let n = pieces.len();
             for (j, shape) in pieces.into_iter().enumerate() {
-                out.insert(k + j, Conductor { shape, ..base.clone() });
+                out.insert(
+                    k + j,
+                    Conductor {
+                        shape,
+                        ..base.clone()
+                    },
+                );
             }
             k += n;
         }
@@ -322,11 +356,22 @@ fn from_geo(p: &geo::Polygon<f64>) -> Shape {
     Shape::Rings(rings)
 }
 
-fn push_cutouts(out: &mut Vec<CutOut>, shape: &Shape, width: Option<f64>, file: usize, line: usize) {
+fn push_cutouts(
+    out: &mut Vec<CutOut>,
+    shape: &Shape,
+    width: Option<f64>,
+    file: usize,
+    line: usize,
+) {
     match shape {
         Shape::Segs(segs) => {
             for s in segs {
-                out.push(CutOut { ring: g::stadium_ring(s), width_mm: Some(2.0 * s.r), file, line });
+                out.push(CutOut {
+                    ring: g::stadium_ring(s),
+                    width_mm: Some(2.0 * s.r),
+                    file,
+                    line,
+                });
             }
         }
         Shape::Rings(rings) => {
@@ -336,7 +381,12 @@ fn push_cutouts(out: &mut Vec<CutOut>, shape: &Shape, width: Option<f64>, file: 
                 if g::ring_area(&ring) < 0.0 {
                     ring.reverse();
                 }
-                out.push(CutOut { ring, width_mm: w, file, line });
+                out.push(CutOut {
+                    ring,
+                    width_mm: w,
+                    file,
+                    line,
+                });
             }
         }
     }
@@ -416,7 +466,11 @@ fn chain_loops(file: &str, segs: &[(P, P, usize)]) -> Result<Vec<Vec<P>>, Diagno
                 });
             };
             used[j] = true;
-            cur = if key(segs[j].0) == key(cur) { segs[j].1 } else { segs[j].0 };
+            cur = if key(segs[j].0) == key(cur) {
+                segs[j].1
+            } else {
+                segs[j].0
+            };
         }
         if ring.len() >= 3 {
             loops.push(ring);
@@ -432,7 +486,13 @@ impl Conductor {
             Shape::Segs(s) => s.clone(),
             Shape::Rings(rings) => rings
                 .iter()
-                .flat_map(|r| (0..r.len()).map(move |i| Seg { a: r[i], b: r[(i + 1) % r.len()], r: 0.0 }))
+                .flat_map(|r| {
+                    (0..r.len()).map(move |i| Seg {
+                        a: r[i],
+                        b: r[(i + 1) % r.len()],
+                        r: 0.0,
+                    })
+                })
                 .collect(),
         }
     }
@@ -504,7 +564,12 @@ pub fn apply(
             if !board.nets.contains(&net.value) {
                 let mut near: Vec<(f64, &str)> = known
                     .iter()
-                    .map(|k| (strsim::jaro_winkler(&net.value.to_lowercase(), &k.to_lowercase()), *k))
+                    .map(|k| {
+                        (
+                            strsim::jaro_winkler(&net.value.to_lowercase(), &k.to_lowercase()),
+                            *k,
+                        )
+                    })
                     .filter(|(s, _)| *s >= 0.7)
                     .collect();
                 near.sort_by(|a, b| b.0.total_cmp(&a.0));
@@ -519,7 +584,11 @@ pub fn apply(
                     )
                     .with_key(key);
                 if !near.is_empty() {
-                    let list: Vec<String> = near.iter().take(3).map(|(_, n)| format!("\"{n}\"")).collect();
+                    let list: Vec<String> = near
+                        .iter()
+                        .take(3)
+                        .map(|(_, n)| format!("\"{n}\""))
+                        .collect();
                     d = d.with_help(format!("near matches in the files: {}", list.join(", ")));
                 }
                 problems.push(d);
@@ -569,7 +638,8 @@ pub fn apply(
         let mut m = index.measure(&a, &z, groove_width_mm);
         m.drawing_svg = svg::drawing(&board, &a, &z, &m);
         measured += 1;
-        let point = |p: &PathPoint| format!("({}, {}) mm on {}", show(p.x_mm), show(p.y_mm), p.layer);
+        let point =
+            |p: &PathPoint| format!("({}, {}) mm on {}", show(p.x_mm), show(p.y_mm), p.layer);
         let describe = |what: &str, path: &Option<measure::MeasuredPath>| -> String {
             match path {
                 None => format!(
@@ -583,12 +653,18 @@ pub fn apply(
                     p.path.first().map(point).unwrap_or_default(),
                     p.path.last().map(point).unwrap_or_default(),
                     if p.intervening_conductors > 0 {
-                        format!(", crossing {} conductor(s) of neither circuit at no cost", p.intervening_conductors)
+                        format!(
+                            ", crossing {} conductor(s) of neither circuit at no cost",
+                            p.intervening_conductors
+                        )
                     } else {
                         String::new()
                     },
                     if p.between_faces {
-                        format!(", passing between the faces with the board {} mm thick", show(board.thickness_mm))
+                        format!(
+                            ", passing between the faces with the board {} mm thick",
+                            show(board.thickness_mm)
+                        )
                     } else {
                         String::new()
                     },
@@ -596,7 +672,9 @@ pub fn apply(
                 ),
             }
         };
-        b.derivation.clearance.push(Step::new(None, describe("clearance", &m.clearance)));
+        b.derivation
+            .clearance
+            .push(Step::new(None, describe("clearance", &m.clearance)));
         let mut creep = describe("creepage", &m.creepage);
         creep.push_str(&format!(
             " Cut-outs at least X = {} mm wide (pollution degree {pd}, {}) are walked round ({} here), narrower ones crossed straight ({}).",
@@ -605,7 +683,9 @@ pub fn apply(
             m.cutouts_walked_round,
             m.cutouts_bridged
         ));
-        b.derivation.creepage.push(Step::new(Some(crate::rules::GrooveTable::ID), creep));
+        b.derivation
+            .creepage
+            .push(Step::new(Some(crate::rules::GrooveTable::ID), creep));
         for inner in &m.inner_layers {
             b.derivation.clearance.push(Step::new(
                 None,
@@ -626,9 +706,7 @@ pub fn apply(
         };
         b.judged_clearance_mm = smaller(b.clearance_mm, b.measured_clearance_mm);
         b.judged_creepage_mm = smaller(b.creepage_mm, b.measured_creepage_mm);
-        let differs = |d: Option<f64>, m: Option<f64>| {
-            matches!((d, m), (Some(d), Some(m)) if (d - m).abs() > (0.05 * d.min(m)).max(0.1))
-        };
+        let differs = |d: Option<f64>, m: Option<f64>| matches!((d, m), (Some(d), Some(m)) if (d - m).abs() > (0.05 * d.min(m)).max(0.1));
         if differs(b.clearance_mm, b.measured_clearance_mm) {
             b.measured_differs.push("clearance");
         }
@@ -643,8 +721,16 @@ pub fn apply(
             .judged_creepage_mm
             .map(|d| crate::insulation::spacing::margin(d, b.required_creepage_mm));
         for (figure, judged, required) in [
-            (&mut b.derivation.clearance, b.judged_clearance_mm, b.required_clearance_mm),
-            (&mut b.derivation.creepage, b.judged_creepage_mm, b.required_creepage_mm),
+            (
+                &mut b.derivation.clearance,
+                b.judged_clearance_mm,
+                b.required_clearance_mm,
+            ),
+            (
+                &mut b.derivation.creepage,
+                b.judged_creepage_mm,
+                b.required_creepage_mm,
+            ),
         ] {
             figure.verdict = Some(match judged {
                 Some(d) => crate::derivation::Verdict::of(Some(d < required)),

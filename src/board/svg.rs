@@ -17,7 +17,12 @@ fn f(x: f64) -> String {
 }
 
 /// The SVG of a barrier's neighbourhood, or `None` when nothing was measured.
-pub fn drawing(board: &Board, a: &[String], b: &[String], m: &BarrierMeasurement) -> Option<String> {
+pub fn drawing(
+    board: &Board,
+    a: &[String],
+    b: &[String],
+    m: &BarrierMeasurement,
+) -> Option<String> {
     let paths: Vec<&Vec<PathPoint>> = [&m.creepage, &m.clearance]
         .into_iter()
         .flatten()
@@ -26,7 +31,11 @@ pub fn drawing(board: &Board, a: &[String], b: &[String], m: &BarrierMeasurement
     if paths.is_empty() {
         return None;
     }
-    let mut view = Bbox::around(paths.iter().flat_map(|p| p.iter().map(|q| [q.x_mm, q.y_mm])));
+    let mut view = Bbox::around(
+        paths
+            .iter()
+            .flat_map(|p| p.iter().map(|q| [q.x_mm, q.y_mm])),
+    );
     let grow = ((view.max[0] - view.min[0]).max(view.max[1] - view.min[1]) * 0.25).max(3.0);
     view = view.grown(grow);
     let (w, h) = (view.max[0] - view.min[0], view.max[1] - view.min[1]);
@@ -45,7 +54,13 @@ pub fn drawing(board: &Board, a: &[String], b: &[String], m: &BarrierMeasurement
     let ring_path = |ring: &[[f64; 2]]| -> String {
         let mut d = String::new();
         for (i, p) in ring.iter().enumerate() {
-            let _ = write!(d, "{}{} {} ", if i == 0 { "M" } else { "L" }, f(p[0]), f(p[1]));
+            let _ = write!(
+                d,
+                "{}{} {} ",
+                if i == 0 { "M" } else { "L" },
+                f(p[0]),
+                f(p[1])
+            );
         }
         d.push('Z');
         d
@@ -95,24 +110,44 @@ pub fn drawing(board: &Board, a: &[String], b: &[String], m: &BarrierMeasurement
                             let _ = write!(
                                 s,
                                 "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{col}\" stroke-width=\"{}\" stroke-linecap=\"round\" stroke-opacity=\"0.35\"/>",
-                                f(sg.a[0]), f(sg.a[1]), f(sg.b[0]), f(sg.b[1]), f(2.0 * sg.r)
+                                f(sg.a[0]),
+                                f(sg.a[1]),
+                                f(sg.b[0]),
+                                f(sg.b[1]),
+                                f(2.0 * sg.r)
                             );
                         } else {
                             let _ = write!(
                                 s,
                                 "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{col}\" stroke-width=\"{}\" stroke-linecap=\"round\" stroke-opacity=\"{opacity}\"/>",
-                                f(sg.a[0]), f(sg.a[1]), f(sg.b[0]), f(sg.b[1]), f(2.0 * sg.r)
+                                f(sg.a[0]),
+                                f(sg.a[1]),
+                                f(sg.b[0]),
+                                f(sg.b[1]),
+                                f(2.0 * sg.r)
                             );
                         }
                     }
                 }
                 Shape::Rings(rings) => {
-                    let d: String = rings.iter().map(|r| ring_path(r)).collect::<Vec<_>>().join(" ");
+                    let d: String = rings
+                        .iter()
+                        .map(|r| ring_path(r))
+                        .collect::<Vec<_>>()
+                        .join(" ");
                     let _ = write!(
                         s,
                         "<path d=\"{d}\" fill=\"{fill}\" fill-opacity=\"{opacity}\" fill-rule=\"evenodd\" stroke=\"{col}\" stroke-width=\"{}\"{}/>",
                         f(stroke),
-                        if bottom { format!(" stroke-dasharray=\"{} {}\"", f(stroke * 4.0), f(stroke * 3.0)) } else { String::new() }
+                        if bottom {
+                            format!(
+                                " stroke-dasharray=\"{} {}\"",
+                                f(stroke * 4.0),
+                                f(stroke * 3.0)
+                            )
+                        } else {
+                            String::new()
+                        }
                     );
                 }
             }
@@ -121,20 +156,35 @@ pub fn drawing(board: &Board, a: &[String], b: &[String], m: &BarrierMeasurement
     // The paths: creepage solid, clearance dashed; a change of face marked by a ring.
     for (path, dashed) in [(&m.creepage, false), (&m.clearance, true)] {
         let Some(p) = path else { continue };
-        let pts: Vec<String> = p.path.iter().map(|q| format!("{},{}", f(q.x_mm), f(q.y_mm))).collect();
+        let pts: Vec<String> = p
+            .path
+            .iter()
+            .map(|q| format!("{},{}", f(q.x_mm), f(q.y_mm)))
+            .collect();
         let _ = write!(
             s,
             "<polyline points=\"{}\" fill=\"none\" stroke=\"#000\" stroke-width=\"{}\"{}/>",
             pts.join(" "),
             f(stroke * 3.0),
-            if dashed { format!(" stroke-dasharray=\"{} {}\"", f(stroke * 8.0), f(stroke * 5.0)) } else { String::new() }
+            if dashed {
+                format!(
+                    " stroke-dasharray=\"{} {}\"",
+                    f(stroke * 8.0),
+                    f(stroke * 5.0)
+                )
+            } else {
+                String::new()
+            }
         );
         for w in p.path.windows(2) {
             if w[0].layer != w[1].layer {
                 let _ = write!(
                     s,
                     "<circle cx=\"{}\" cy=\"{}\" r=\"{}\" fill=\"none\" stroke=\"#000\" stroke-width=\"{}\"/>",
-                    f(w[0].x_mm), f(w[0].y_mm), f(stroke * 8.0), f(stroke * 2.0)
+                    f(w[0].x_mm),
+                    f(w[0].y_mm),
+                    f(stroke * 8.0),
+                    f(stroke * 2.0)
                 );
             }
         }

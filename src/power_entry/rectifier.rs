@@ -690,7 +690,10 @@ fn rectified_sine(
         (sin, cos) = if k % SINE_ANCHOR == 0 {
             (omega * (first + k * stride) as f64 * h).sin_cos()
         } else {
-            (sin * cos_step + cos * sin_step, cos * cos_step - sin * sin_step)
+            (
+                sin * cos_step + cos * sin_step,
+                cos * cos_step - sin * sin_step,
+            )
         };
         out.push(peak * sin.abs());
     }

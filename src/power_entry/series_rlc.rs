@@ -196,6 +196,10 @@ impl Piece {
             Damping::Under { .. } => self.alpha,
             Damping::Over { slow, .. } => slow,
         };
-        if rate > 0.0 { 40.0 / rate } else { f64::INFINITY }
+        if rate > 0.0 {
+            40.0 / rate
+        } else {
+            f64::INFINITY
+        }
     }
 }

@@ -130,7 +130,9 @@ fn body(
             // The board template marks each measured barrier's drawing; gapwarden's own SVG.
             Event::Html(text) | Event::InlineHtml(text) if text.trim() == BOARD_COMMENT => {
                 if let Some(Some(svg)) = drawings.next() {
-                    out_events.push(Event::Html(format!("<figure class=\"board\">{svg}</figure>").into()));
+                    out_events.push(Event::Html(
+                        format!("<figure class=\"board\">{svg}</figure>").into(),
+                    ));
                 }
             }
             Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {

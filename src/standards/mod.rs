@@ -57,7 +57,7 @@ impl Standard {
             Self::Iec60664 => {
                 "insulation coordination for equipment within low-voltage supply systems (not an end-product standard)"
             }
-            Self::Iec62368 => "audio/video, information and communication technology equipment",
+            Self::Iec62368 => "information and communication technology and multimedia equipment",
             Self::Iec60601 => "medical electrical equipment",
             Self::Iec60335 => "household and similar electrical appliances",
         }

@@ -40,7 +40,11 @@ fn outline(x0: f64, y0: f64, x1: f64, y1: f64) -> String {
 
 /// A round pad of diameter `d` flashed at (x, y) on net `net`.
 fn pad(net: &str, x: f64, y: f64, d: f64, code: u32) -> String {
-    format!("%ADD{code}C,{d}*%\n%TO.N,{net}*%\nD{code}*\nX{}Y{}D03*\n%TD*%\n", c(x), c(y))
+    format!(
+        "%ADD{code}C,{d}*%\n%TO.N,{net}*%\nD{code}*\nX{}Y{}D03*\n%TD*%\n",
+        c(x),
+        c(y)
+    )
 }
 
 fn board_of(files: &[(&str, String)], thickness: f64) -> Board {
@@ -48,7 +52,11 @@ fn board_of(files: &[(&str, String)], thickness: f64) -> Board {
         .iter()
         .map(|(name, text)| {
             let image = gerber::read(name, text).expect("the test file reads");
-            (name.to_string(), gapwarden::sha256_hex(text.as_bytes()), image)
+            (
+                name.to_string(),
+                gapwarden::sha256_hex(text.as_bytes()),
+                image,
+            )
         })
         .collect();
     board::build(images, thickness).expect("the test board builds")
@@ -63,7 +71,10 @@ fn measure(b: &Board, x: f64) -> board::BarrierMeasurement {
 }
 
 fn clearance(m: &board::BarrierMeasurement) -> f64 {
-    m.clearance.as_ref().expect("clearance measured").distance_mm
+    m.clearance
+        .as_ref()
+        .expect("clearance measured")
+        .distance_mm
 }
 fn creepage(m: &board::BarrierMeasurement) -> f64 {
     m.creepage.as_ref().expect("creepage measured").distance_mm
@@ -88,8 +99,16 @@ fn two_round_pads_are_their_centre_distance_less_the_radii_apart() {
     // and along the surface (nothing between them).
     let b = board_of(&two_pads(5.0), 1.6);
     let m = measure(&b, 1.0);
-    assert!((clearance(&m) - (4.0 - GAP_LOSS)).abs() < 1e-9, "{}", clearance(&m));
-    assert!((creepage(&m) - (4.0 - GAP_LOSS)).abs() < 1e-9, "{}", creepage(&m));
+    assert!(
+        (clearance(&m) - (4.0 - GAP_LOSS)).abs() < 1e-9,
+        "{}",
+        clearance(&m)
+    );
+    assert!(
+        (creepage(&m) - (4.0 - GAP_LOSS)).abs() < 1e-9,
+        "{}",
+        creepage(&m)
+    );
     let path = &m.clearance.as_ref().unwrap().path;
     assert_eq!(path.first().unwrap().layer, "top");
     // The witness runs from A's edge (0.5, 0) to B's edge (4.5, 0).
@@ -128,13 +147,22 @@ fn a_slot_wider_than_the_groove_width_is_walked_round_its_end() {
     let cr = creepage(&m);
     // Chords of the cap lie inside it, so the measured path is at most the true one and
     // short of it by no more than the chords' sagitta and the gaps' loss.
-    assert!(cr <= round_the_end + 1e-9, "creepage {cr} > {round_the_end}");
-    assert!(cr >= round_the_end - 0.02, "creepage {cr} far below {round_the_end}");
+    assert!(
+        cr <= round_the_end + 1e-9,
+        "creepage {cr} > {round_the_end}"
+    );
+    assert!(
+        cr >= round_the_end - 0.02,
+        "creepage {cr} far below {round_the_end}"
+    );
     assert_eq!(m.cutouts_walked_round, 1);
     // Clearance through the air over the slot is unchanged: 10 - 1 = 9 mm.
     assert!((clearance(&m) - (9.0 - GAP_LOSS)).abs() < 1e-9);
     let path = &m.creepage.as_ref().unwrap().path;
-    assert!(path.iter().any(|p| p.y_mm > 2.5), "the path passes over the end cap: {path:?}");
+    assert!(
+        path.iter().any(|p| p.y_mm > 2.5),
+        "the path passes over the end cap: {path:?}"
+    );
 }
 
 #[test]
@@ -143,7 +171,11 @@ fn a_slot_narrower_than_the_groove_width_is_crossed_straight() {
     // clause 6.2, [HA]): the creepage path crosses it, counting its width: 10 - 1 = 9 mm.
     let b = slot_board(0.5);
     let m = measure(&b, 1.0);
-    assert!((creepage(&m) - (9.0 - GAP_LOSS)).abs() < 1e-9, "{}", creepage(&m));
+    assert!(
+        (creepage(&m) - (9.0 - GAP_LOSS)).abs() < 1e-9,
+        "{}",
+        creepage(&m)
+    );
     assert_eq!(m.cutouts_bridged, 1);
 }
 
@@ -160,8 +192,16 @@ fn a_floating_island_in_the_gap_shortens_both_distances_by_its_width() {
     );
     let b = board_of(&files, 1.6);
     let m = measure(&b, 1.0);
-    assert!((clearance(&m) - (7.0 - 2.0 * GAP_LOSS)).abs() < 1e-9, "{}", clearance(&m));
-    assert!((creepage(&m) - (7.0 - 2.0 * GAP_LOSS)).abs() < 1e-9, "{}", creepage(&m));
+    assert!(
+        (clearance(&m) - (7.0 - 2.0 * GAP_LOSS)).abs() < 1e-9,
+        "{}",
+        clearance(&m)
+    );
+    assert!(
+        (creepage(&m) - (7.0 - 2.0 * GAP_LOSS)).abs() < 1e-9,
+        "{}",
+        creepage(&m)
+    );
     assert_eq!(m.clearance.as_ref().unwrap().intervening_conductors, 1);
 }
 
@@ -171,8 +211,14 @@ fn pads_on_opposite_faces_near_the_edge_are_face_plus_thickness_plus_face_apart(
     // 1 mm across: A's edge is 10 - 8.5 = 1.5 mm from the board edge, B's 10 - 7.5 = 2.5 mm;
     // with a 1.6 mm board: 1.5 + 1.6 + 2.5 = 5.6 mm, through air and along the surface.
     let files = vec![
-        ("top.gbr", gbr("Copper,L1,Top", &pad("A", 8.0, 0.0, 1.0, 10))),
-        ("bot.gbr", gbr("Copper,L2,Bot", &pad("B", 7.0, 0.0, 1.0, 10))),
+        (
+            "top.gbr",
+            gbr("Copper,L1,Top", &pad("A", 8.0, 0.0, 1.0, 10)),
+        ),
+        (
+            "bot.gbr",
+            gbr("Copper,L2,Bot", &pad("B", 7.0, 0.0, 1.0, 10)),
+        ),
         ("outline.gbr", outline(-10.0, -10.0, 10.0, 10.0)),
     ];
     let b = board_of(&files, 1.6);
@@ -194,9 +240,10 @@ fn an_arc_draw_is_copper_along_the_arc() {
     // A track of 0.2 mm drawn counter-clockwise (G03) as a half circle of radius 3 centred
     // at (0,0), from (3,0) to (-3,0) through (0,3): its top is at y = 3.1. Pad B of 1 mm at
     // (0, 6): gap 6 - 0.5 - 3.1 = 2.4 mm (less the chords' sagitta at most).
-    let body = "%ADD10C,0.2*%\n%TO.N,A*%\nD10*\nX3000000Y0D02*\nG03X-3000000Y0I-3000000J0D01*\n%TD*%\n"
-        .to_string()
-        + &pad("B", 0.0, 6.0, 1.0, 11);
+    let body =
+        "%ADD10C,0.2*%\n%TO.N,A*%\nD10*\nX3000000Y0D02*\nG03X-3000000Y0I-3000000J0D01*\n%TD*%\n"
+            .to_string()
+            + &pad("B", 0.0, 6.0, 1.0, 11);
     let files = vec![
         ("top.gbr", gbr("Copper,L1,Top", &body)),
         ("outline.gbr", outline(-10.0, -10.0, 10.0, 10.0)),
@@ -210,9 +257,10 @@ fn an_arc_draw_is_copper_along_the_arc() {
 fn a_clockwise_full_circle_draw_is_a_ring() {
     // G02 from (3,0) back to (3,0) with centre (0,0): a full ring of radius 3 (0.2 mm
     // wide). Pad B of 1 mm at the centre: gap 3 - 0.1 - 0.5 = 2.4 mm.
-    let body = "%ADD10C,0.2*%\n%TO.N,A*%\nD10*\nX3000000Y0D02*\nG02X3000000Y0I-3000000J0D01*\n%TD*%\n"
-        .to_string()
-        + &pad("B", 0.0, 0.0, 1.0, 11);
+    let body =
+        "%ADD10C,0.2*%\n%TO.N,A*%\nD10*\nX3000000Y0D02*\nG02X3000000Y0I-3000000J0D01*\n%TD*%\n"
+            .to_string()
+            + &pad("B", 0.0, 0.0, 1.0, 11);
     let files = vec![
         ("top.gbr", gbr("Copper,L1,Top", &body)),
         ("outline.gbr", outline(-10.0, -10.0, 10.0, 10.0)),
@@ -275,7 +323,10 @@ fn an_inner_layer_is_a_distance_through_insulation_not_clearance() {
     let files = vec![
         (
             "in.gbr",
-            gbr("Copper,L2,Inr", &(pad("A", 0.0, 0.0, 1.0, 10) + &pad("B", 5.0, 0.0, 1.0, 11))),
+            gbr(
+                "Copper,L2,Inr",
+                &(pad("A", 0.0, 0.0, 1.0, 10) + &pad("B", 5.0, 0.0, 1.0, 11)),
+            ),
         ),
         ("outline.gbr", outline(-10.0, -10.0, 20.0, 10.0)),
     ];
@@ -326,11 +377,18 @@ fn an_aperture_macro_is_refused_naming_the_line() {
 fn copper_without_net_attributes_says_to_switch_them_on() {
     let dir = std::env::temp_dir().join(format!("gapwarden-board-nonet-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    std::fs::write(dir.join("top.gbr"), gbr("Copper,L1,Top", "%ADD10C,1*%\nD10*\nX0Y0D03*\n")).unwrap();
+    std::fs::write(
+        dir.join("top.gbr"),
+        gbr("Copper,L1,Top", "%ADD10C,1*%\nD10*\nX0Y0D03*\n"),
+    )
+    .unwrap();
     std::fs::write(dir.join("outline.gbr"), outline(-5.0, -5.0, 5.0, 5.0)).unwrap();
     let err = board::load(&dir, &nets(&["top.gbr", "outline.gbr"]), 1.6).expect_err("refused");
     let text = err.to_string();
-    assert!(text.contains("top.gbr") && text.contains("net attribute"), "{text}");
+    assert!(
+        text.contains("top.gbr") && text.contains("net attribute"),
+        "{text}"
+    );
     assert!(text.contains("switch net attributes on"), "{text}");
     std::fs::remove_dir_all(&dir).ok();
 }
@@ -340,7 +398,10 @@ fn a_missing_file_is_named() {
     let dir = std::env::temp_dir();
     let err = board::load(&dir, &nets(&["no-such-board-file.gbr"]), 1.6).expect_err("refused");
     let text = err.to_string();
-    assert!(text.contains("no-such-board-file.gbr") && text.contains("no such file"), "{text}");
+    assert!(
+        text.contains("no-such-board-file.gbr") && text.contains("no such file"),
+        "{text}"
+    );
 }
 
 // ---- invariants ----
@@ -379,13 +440,28 @@ proptest! {
 // ---- end to end: the example board and the project's keys ----
 
 fn example_json() -> serde_json::Value {
-    let out = crate::common::run(&["check", "examples/class2-adapter-board.toml", "--format", "json"]);
-    assert_eq!(out.status.code(), Some(0), "{}", crate::common::stderr(&out));
+    let out = crate::common::run(&[
+        "check",
+        "examples/class2-adapter-board.toml",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        crate::common::stderr(&out)
+    );
     serde_json::from_str(&crate::common::stdout(&out)).expect("JSON report")
 }
 
 fn barrier<'a>(r: &'a serde_json::Value, id: &str) -> &'a serde_json::Value {
-    r["barriers"].as_array().unwrap().iter().find(|b| b["id"] == id).expect("barrier")
+    r["barriers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|b| b["id"] == id)
+        .expect("barrier")
 }
 
 #[test]
@@ -430,14 +506,24 @@ fn the_markdown_report_shows_the_board_and_what_it_cannot_show() {
 }
 
 /// A project in a temporary folder using the example's board files (named absolutely).
-fn temp_project(tag: &str, circuits_nets: [&str; 2], extra_file: Option<(&str, String)>) -> std::path::PathBuf {
+fn temp_project(
+    tag: &str,
+    circuits_nets: [&str; 2],
+    extra_file: Option<(&str, String)>,
+) -> std::path::PathBuf {
     let dir = std::env::temp_dir().join(format!("gapwarden-board-{tag}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let root = crate::common::root().join("examples/board");
-    let mut files: Vec<String> = ["top.gbr", "bottom.gbr", "outline.gbr", "pth.gbr", "npth.gbr"]
-        .iter()
-        .map(|f| format!("\"{}\"", root.join(f).display()))
-        .collect();
+    let mut files: Vec<String> = [
+        "top.gbr",
+        "bottom.gbr",
+        "outline.gbr",
+        "pth.gbr",
+        "npth.gbr",
+    ]
+    .iter()
+    .map(|f| format!("\"{}\"", root.join(f).display()))
+    .collect();
     if let Some((name, text)) = extra_file {
         std::fs::write(dir.join(name), text).unwrap();
         files.push(format!("\"{name}\""));
@@ -488,32 +574,57 @@ fn a_net_not_in_the_files_is_an_error_with_near_matches() {
     let out = crate::common::run(&["check", p.to_str().unwrap()]);
     assert_eq!(out.status.code(), Some(2));
     let err = crate::common::stderr(&out);
-    assert!(err.contains("net \"GND_OUTT\" is not in the board files"), "{err}");
+    assert!(
+        err.contains("net \"GND_OUTT\" is not in the board files"),
+        "{err}"
+    );
     assert!(err.contains("\"GND_OUT\""), "near match named: {err}");
-    assert!(err.contains("project.toml:20:"), "the line of the net: {err}");
+    assert!(
+        err.contains("project.toml:20:"),
+        "the line of the net: {err}"
+    );
 }
 
 #[test]
 fn a_declared_distance_far_from_the_measured_one_is_a_warning_and_the_smaller_governs() {
     // Declared clearance 7.0 mm against the measured 6.058 mm (more than 5 % apart): the
     // measured one governs and the difference is a warning.
-    let p = temp_project("differs", ["\"HV+\", \"HV-\", \"SW\", \"FB\"", "\"SEC_A\", \"VOUT\", \"GND_OUT\", \"OPTO_A\""], None);
+    let p = temp_project(
+        "differs",
+        [
+            "\"HV+\", \"HV-\", \"SW\", \"FB\"",
+            "\"SEC_A\", \"VOUT\", \"GND_OUT\", \"OPTO_A\"",
+        ],
+        None,
+    );
     let out = crate::common::run(&["check", p.to_str().unwrap(), "--format", "json"]);
     let r: serde_json::Value = serde_json::from_str(&crate::common::stdout(&out)).unwrap();
     let b = barrier(&r, "pri-sec");
     assert_eq!(b["measured_differs"], serde_json::json!(["clearance"]));
     let judged = b["judged_clearance_mm"].as_f64().unwrap();
     assert!((judged - ((65.0f64).sqrt() - 2.0 - GAP_LOSS)).abs() < 1e-6);
-    let ids: Vec<&str> = r["findings"].as_array().unwrap().iter().map(|f| f["id"].as_str().unwrap()).collect();
+    let ids: Vec<&str> = r["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["id"].as_str().unwrap())
+        .collect();
     assert!(ids.contains(&"barrier.measured_differs"), "{ids:?}");
 }
 
 #[test]
 fn a_board_file_of_an_unknown_function_is_refused() {
     let legend = gbr("Legend,Top", "");
-    let p = temp_project("legend", ["\"HV+\"", "\"VOUT\""], Some(("silk.gbr", legend)));
+    let p = temp_project(
+        "legend",
+        ["\"HV+\"", "\"VOUT\""],
+        Some(("silk.gbr", legend)),
+    );
     let out = crate::common::run(&["check", p.to_str().unwrap()]);
     assert_eq!(out.status.code(), Some(2));
     let err = crate::common::stderr(&out);
-    assert!(err.contains("silk.gbr:4") && err.contains("Legend,Top"), "{err}");
+    assert!(
+        err.contains("silk.gbr:4") && err.contains("Legend,Top"),
+        "{err}"
+    );
 }

@@ -2130,16 +2130,58 @@ fn the_lrc_inrush_jump_over_the_blocked_bridge_matches_stepping_through_it() {
 /// mains Hz). Underdamped (the shipped example hot and cold), lossless, close to critical
 /// damping on both sides, strongly overdamped, a capacitor already charged, 60 Hz.
 const SWITCH_ON_CASES: [(&str, f64, f64, f64, f64, f64); 10] = [
-    ("example hot restart, zeta 0.506", 3.2, 470e-6, 47e-6, 0.0, 50.0),
+    (
+        "example hot restart, zeta 0.506",
+        3.2,
+        470e-6,
+        47e-6,
+        0.0,
+        50.0,
+    ),
     ("example cold, zeta 1.66", 12.7, 470e-6, 47e-6, 0.0, 50.0),
-    ("no inductor resistance, zeta 0.158", 1.0, 470e-6, 47e-6, 0.0, 50.0),
+    (
+        "no inductor resistance, zeta 0.158",
+        1.0,
+        470e-6,
+        47e-6,
+        0.0,
+        50.0,
+    ),
     ("lossless, zeta 0", 0.0, 470e-6, 47e-6, 0.0, 50.0),
-    ("just under critical, zeta 0.999", 6.318, 470e-6, 47e-6, 0.0, 50.0),
-    ("just over critical, zeta 1.001", 6.331, 470e-6, 47e-6, 0.0, 50.0),
+    (
+        "just under critical, zeta 0.999",
+        6.318,
+        470e-6,
+        47e-6,
+        0.0,
+        50.0,
+    ),
+    (
+        "just over critical, zeta 1.001",
+        6.331,
+        470e-6,
+        47e-6,
+        0.0,
+        50.0,
+    ),
     ("overdamped, zeta 7.9", 50.0, 470e-6, 47e-6, 0.0, 50.0),
-    ("charged to 98 % of the crest", 10.0, 470e-6, 47e-6, 0.98 * 325.0, 50.0),
+    (
+        "charged to 98 % of the crest",
+        10.0,
+        470e-6,
+        47e-6,
+        0.98 * 325.0,
+        50.0,
+    ),
     ("half charged, 60 Hz", 2.0, 1e-3, 100e-6, 160.0, 60.0),
-    ("small inductance, large capacitor", 0.8, 20e-6, 470e-6, 0.0, 50.0),
+    (
+        "small inductance, large capacitor",
+        0.8,
+        20e-6,
+        470e-6,
+        0.0,
+        50.0,
+    ),
 ];
 
 #[test]
@@ -2172,8 +2214,16 @@ fn the_closed_form_switch_on_matches_a_fine_step_integration() {
             .fold(0.0f64, f64::max);
         let h = 1.0 / fastest / 4000.0;
         let [peak, i2t, vmax, at] = rk4_every_step(v_pk, f, l, r, c, v0, h);
-        assert!(close(x.peak_a, peak, 1e-6), "{what}: peak {} vs {peak}", x.peak_a);
-        assert!(close(x.i2t_a2s, i2t, 1e-6), "{what}: I²t {} vs {i2t}", x.i2t_a2s);
+        assert!(
+            close(x.peak_a, peak, 1e-6),
+            "{what}: peak {} vs {peak}",
+            x.peak_a
+        );
+        assert!(
+            close(x.i2t_a2s, i2t, 1e-6),
+            "{what}: I²t {} vs {i2t}",
+            x.i2t_a2s
+        );
         assert!(
             close(x.bulk_peak_v, vmax, 1e-6),
             "{what}: bulk {} vs {vmax}",
@@ -2220,7 +2270,11 @@ fn the_closed_form_switch_on_meets_the_textbook_step_response() {
     // The source falls by 1 - cos(2 pi 0.01 Hz x 1 ms) ~ 2e-9 during the pulse: far below
     // these tolerances.
     assert!(close(x.peak_a, i_pk, 1e-7), "{} vs {i_pk}", x.peak_a);
-    assert!(close(x.bulk_peak_v, v_top, 1e-7), "{} vs {v_top}", x.bulk_peak_v);
+    assert!(
+        close(x.bulk_peak_v, v_top, 1e-7),
+        "{} vs {v_top}",
+        x.bulk_peak_v
+    );
     assert!(close(x.peak_at_s, tp, 1e-7), "{} vs {tp}", x.peak_at_s);
     assert!(close(x.i2t_a2s, i2t, 1e-7), "{} vs {i2t}", x.i2t_a2s);
 }
@@ -2257,7 +2311,10 @@ fn the_closed_form_switch_on_never_panics_and_steps_where_it_does_not_apply() {
                         .all(|v| v.is_finite() && *v >= 0.0),
                     "{c:?}: {x:?}"
                 );
-                assert!(x.bulk_peak_v <= 2.0 * c.peak_v.max(c.start_v) * (1.0 + 1e-9), "{c:?}: {x:?}");
+                assert!(
+                    x.bulk_peak_v <= 2.0 * c.peak_v.max(c.start_v) * (1.0 + 1e-9),
+                    "{c:?}: {x:?}"
+                );
             }
         }
     }
@@ -2272,5 +2329,8 @@ fn the_closed_form_switch_on_never_panics_and_steps_where_it_does_not_apply() {
     };
     let x = switch_on(&resonant).expect("usable");
     assert!(!x.closed_form);
-    assert!(x.bulk_peak_v > 325.0 && x.bulk_peak_v <= 650.0 * (1.0 + 1e-6), "{x:?}");
+    assert!(
+        x.bulk_peak_v > 325.0 && x.bulk_peak_v <= 650.0 * (1.0 + 1e-6),
+        "{x:?}"
+    );
 }
