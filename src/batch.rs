@@ -271,11 +271,7 @@ pub fn check_many(
                         // With --out-dir a Markdown report gets its EMC chart beside it
                         // (`write_reports` writes it), named after the report.
                         let chart = (format == Format::Markdown
-                            && report
-                                .emc
-                                .as_ref()
-                                .and_then(crate::emc::chart_svg)
-                                .is_some())
+                            && report.emc.as_ref().is_some_and(crate::emc::has_chart))
                         .then(|| chart_file_name(&found.relative));
                         crate::commands::render_with_chart(
                             &report,

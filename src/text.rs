@@ -44,16 +44,31 @@ fn marker(c: char) -> String {
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
 pub fn visible(text: &str) -> Cow<'_, str> {
-    // Printable ASCII with newlines and tabs, most text, is decided a byte at a time.
-    if text
-        .bytes()
-        .all(|b| (0x20..0x7f).contains(&b) || b == b'\n' || b == b'\t')
-        || !text.chars().any(is_hazardous)
-    {
-        return Cow::Borrowed(text);
-    }
+    // ASCII, most text, is decided a byte at a time; only characters outside it are decoded.
+    let bytes = text.as_bytes();
+    let mut i = 0;
+    let first = loop {
+        let Some(&b) = bytes.get(i) else {
+            return Cow::Borrowed(text);
+        };
+        if b < 0x80 {
+            if (b < 0x20 && b != b'\n' && b != b'\t') || b == 0x7f {
+                break i;
+            }
+            i += 1;
+            continue;
+        }
+        let Some(c) = text[i..].chars().next() else {
+            return Cow::Borrowed(text);
+        };
+        if is_hazardous(c) {
+            break i;
+        }
+        i += c.len_utf8();
+    };
     let mut out = String::with_capacity(text.len() + 16);
-    for c in text.chars() {
+    out.push_str(&text[..first]);
+    for c in text[first..].chars() {
         if is_hazardous(c) {
             out.push_str(&marker(c));
         } else {

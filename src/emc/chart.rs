@@ -1,36 +1,48 @@
 //! The EMC chart: the limit lines and the noise before and after the filter on a
-//! log-frequency axis, drawn with plotters' SVG backend. Every text in it is fixed here (no
-//! string from the project file), and the same report gives the same bytes.
+//! log-frequency axis, written as SVG by a small writer of our own (lines, polylines,
+//! markers and text; no plotting library). Every text in it is fixed here (no string from
+//! the project file), and the same report gives the same bytes.
 
-use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
+use std::fmt::Write;
 
 use super::EmcReport;
 use crate::power_entry::Verdict;
 use crate::spacing::show;
 
 // Sized to print on A4 without scaling (about 700 CSS pixels between the margins), so the
-// labels keep their size on paper. plotters writes an SVG font size of about 0.81 times
-// the size it is given: 15 gives 12.1 px, the smallest text in the chart.
+// labels keep their size on paper; the smallest text is 12.1 px.
 const WIDTH: u32 = 700;
 const PLOT_HEIGHT: u32 = 400;
 /// Height of the legend band under the plot, in pixels.
 const LEGEND_HEIGHT: u32 = 124;
 const HEIGHT: u32 = PLOT_HEIGHT + LEGEND_HEIGHT;
+/// The plotting box, in pixels: room on the left for the level labels and the axis title,
+/// above for the chart's title and below for the frequency labels and the axis title.
+const LEFT: f64 = 70.0;
+const RIGHT: f64 = 687.0;
+const TOP: f64 = 37.0;
+const BOTTOM: f64 = 341.0;
 /// How far below the lowest limit less its margin the chart reaches, dB: points further
 /// below pass by far and are drawn on the lower edge, so the limits keep the height.
 const BELOW_LIMITS_DB: f64 = 60.0;
-const LABEL_PX: u32 = 15;
+/// At most this many level labels; the step between them is 10, 20 or 50 dB (or more).
+const MAX_LEVEL_LABELS: f64 = 10.0;
+
+// Font sizes in px: labels, axis titles, the chart's title.
+const LABEL_PX: &str = "12.1";
+const AXIS_PX: &str = "12.9";
+const TITLE_PX: &str = "14.5";
 
 // A palette of our own: ink-blue limits, rust for the raw noise, green for the filtered
 // noise that passes, red for the filtered noise above the limit less the margin.
-const QUASI_PEAK: RGBColor = RGBColor(31, 58, 104);
-const AVERAGE: RGBColor = RGBColor(92, 124, 176);
-const BEFORE: RGBColor = RGBColor(150, 90, 40);
-const AFTER: RGBColor = RGBColor(38, 120, 72);
-const FAILING: RGBColor = RGBColor(200, 30, 30);
-const NOT_JUDGED: RGBColor = RGBColor(120, 120, 120);
-const GRID: RGBColor = RGBColor(226, 229, 233);
+const QUASI_PEAK: &str = "#1F3A68";
+const AVERAGE: &str = "#5C7CB0";
+const BEFORE: &str = "#965A28";
+const AFTER: &str = "#267848";
+const FAILING: &str = "#C81E1E";
+const NOT_JUDGED: &str = "#787878";
+const GRID: &str = "#E2E5E9";
+const INK: &str = "#000000";
 
 /// The marker shapes: the noise's mode, whatever the filter did to it.
 #[derive(Clone, Copy, PartialEq)]
@@ -51,63 +63,200 @@ fn shape_of(mode: &str) -> Shape {
     }
 }
 
-/// One marker at a pixel position: hollow (before the filter) or filled (after), of the
-/// mode's shape; a failing point is larger and crossed out as well as red.
-fn marker<DB: DrawingBackend>(
-    area: &DrawingArea<DB, plotters::coord::Shift>,
-    at: (i32, i32),
-    shape: Shape,
-    style: ShapeStyle,
-    size: i32,
-) -> Result<(), Box<dyn std::error::Error>>
-where
-    DB::ErrorType: 'static,
-{
-    match shape {
-        Shape::Differential => {
-            area.draw(&(EmptyElement::at(at) + Circle::new((0, 0), size, style)))?
+/// How a marker is painted: an outline (before the filter) or filled (after).
+#[derive(Clone, Copy)]
+enum Paint {
+    Outline(&'static str),
+    Fill(&'static str),
+}
+
+/// A coordinate in pixels, to a tenth of a pixel, without a trailing ".0".
+struct Px(f64);
+
+impl std::fmt::Display for Px {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let tenths = (self.0 * 10.0).round();
+        if tenths == 0.0 {
+            f.write_str("0")
+        } else if tenths % 10.0 == 0.0 {
+            write!(f, "{}", tenths / 10.0)
+        } else {
+            write!(f, "{:.1}", tenths / 10.0)
         }
-        Shape::Common => area.draw(
-            &(EmptyElement::at(at) + Rectangle::new([(-size, -size), (size, size)], style)),
-        )?,
-        Shape::Measured => {
-            let s = size + 1;
-            let corners = vec![(0, -s), (s, 0), (0, s), (-s, 0), (0, -s)];
-            if style.filled {
-                area.draw(&(EmptyElement::at(at) + Polygon::new(corners, style)))?
-            } else {
-                // A polygon is always filled: the hollow diamond is its outline.
-                area.draw(&(EmptyElement::at(at) + PathElement::new(corners, style)))?
+    }
+}
+
+/// The SVG being written. Writing to a `String` cannot fail, so the results of `write!`
+/// are dropped.
+struct Svg {
+    out: String,
+}
+
+impl Svg {
+    /// A polyline through `points`; `dashes` is a stroke-dasharray ("7 4") or empty.
+    fn polyline(&mut self, points: &[(f64, f64)], colour: &str, width: u32, dashes: &str) {
+        if points.len() < 2 {
+            return;
+        }
+        let _ = write!(
+            self.out,
+            "<polyline fill=\"none\" stroke=\"{colour}\" stroke-width=\"{width}\""
+        );
+        if !dashes.is_empty() {
+            let _ = write!(self.out, " stroke-dasharray=\"{dashes}\"");
+        }
+        self.out.push_str(" points=\"");
+        for (i, (x, y)) in points.iter().enumerate() {
+            if i > 0 {
+                self.out.push(' ');
+            }
+            let _ = write!(self.out, "{},{}", Px(*x), Px(*y));
+        }
+        self.out.push_str("\"/>\n");
+    }
+
+    fn line(&mut self, from: (f64, f64), to: (f64, f64), colour: &str, width: u32) {
+        let _ = writeln!(
+            self.out,
+            "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{colour}\" stroke-width=\"{width}\"/>",
+            Px(from.0),
+            Px(from.1),
+            Px(to.0),
+            Px(to.1)
+        );
+    }
+
+    /// Text at `at`; `anchor` is start, middle or end; `dy` places it against `at`
+    /// ("0.76em": `at` is its top; "0.5ex": its middle; "-0.5ex": a little above).
+    fn text(&mut self, s: &str, at: (f64, f64), anchor: &str, dy: &str, size: &str) {
+        let _ = write!(
+            self.out,
+            "<text x=\"{}\" y=\"{}\" dy=\"{dy}\" text-anchor=\"{anchor}\" font-size=\"{size}\" fill=\"{INK}\">",
+            Px(at.0),
+            Px(at.1)
+        );
+        for c in s.chars() {
+            match c {
+                '&' => self.out.push_str("&amp;"),
+                '<' => self.out.push_str("&lt;"),
+                '>' => self.out.push_str("&gt;"),
+                c => self.out.push(c),
+            }
+        }
+        self.out.push_str("</text>\n");
+    }
+
+    /// One marker centred on `at`, of the mode's shape, `size` pixels from its centre to
+    /// its side.
+    fn marker(&mut self, at: (f64, f64), shape: Shape, paint: Paint, size: f64) {
+        let (x, y) = at;
+        let style = match paint {
+            Paint::Outline(c) => format!("fill=\"none\" stroke=\"{c}\" stroke-width=\"2\""),
+            Paint::Fill(c) => format!("fill=\"{c}\""),
+        };
+        match shape {
+            Shape::Differential => {
+                let _ = writeln!(
+                    self.out,
+                    "<circle cx=\"{}\" cy=\"{}\" r=\"{}\" {style}/>",
+                    Px(x),
+                    Px(y),
+                    Px(size)
+                );
+            }
+            Shape::Common => {
+                let _ = writeln!(
+                    self.out,
+                    "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" {style}/>",
+                    Px(x - size),
+                    Px(y - size),
+                    Px(2.0 * size),
+                    Px(2.0 * size)
+                );
+            }
+            Shape::Measured => {
+                let s = size + 1.0;
+                let corners = format!(
+                    "{},{} {},{} {},{} {},{}",
+                    Px(x),
+                    Px(y - s),
+                    Px(x + s),
+                    Px(y),
+                    Px(x),
+                    Px(y + s),
+                    Px(x - s),
+                    Px(y)
+                );
+                match paint {
+                    Paint::Fill(_) => {
+                        let _ = writeln!(self.out, "<polygon points=\"{corners}\" {style}/>");
+                    }
+                    // The hollow diamond is an outline that returns to its first corner.
+                    Paint::Outline(_) => {
+                        let _ = writeln!(
+                            self.out,
+                            "<polyline points=\"{corners} {},{}\" {style}/>",
+                            Px(x),
+                            Px(y - s)
+                        );
+                    }
+                }
             }
         }
     }
-    Ok(())
-}
 
-fn failing_marker<DB: DrawingBackend>(
-    area: &DrawingArea<DB, plotters::coord::Shift>,
-    at: (i32, i32),
-    shape: Shape,
-) -> Result<(), Box<dyn std::error::Error>>
-where
-    DB::ErrorType: 'static,
-{
-    marker(area, at, shape, FAILING.filled(), 6)?;
-    area.draw(&(EmptyElement::at(at) + Cross::new((0, 0), 9, FAILING.stroke_width(2))))?;
-    Ok(())
-}
-
-/// A frequency tick label in kHz or MHz.
-fn tick_label(hz: &f64) -> String {
-    if *hz >= 1e6 {
-        format!("{} MHz", show(*hz / 1e6))
-    } else {
-        format!("{} kHz", show(*hz / 1e3))
+    /// A failing point: larger, red and crossed out.
+    fn failing_marker(&mut self, at: (f64, f64), shape: Shape) {
+        self.marker(at, shape, Paint::Fill(FAILING), 6.0);
+        let (x, y) = at;
+        self.line((x - 9.0, y + 9.0), (x + 9.0, y - 9.0), FAILING, 2);
+        self.line((x - 9.0, y - 9.0), (x + 9.0, y + 9.0), FAILING, 2);
     }
 }
 
-/// The chart as an SVG document, or `None` if there is nothing sound to draw.
-pub fn svg(report: &EmcReport) -> Option<String> {
+/// A frequency tick label in kHz or MHz.
+fn tick_label(hz: f64) -> String {
+    if hz >= 1e6 {
+        format!("{} MHz", show(hz / 1e6))
+    } else {
+        format!("{} kHz", show(hz / 1e3))
+    }
+}
+
+/// What the chart shows: the frequency band, the level range (dBµV) and the margin.
+struct Frame {
+    x: (f64, f64),
+    y: (f64, f64),
+    margin: f64,
+}
+
+impl Frame {
+    /// The horizontal pixel of a frequency (log scale).
+    fn px(&self, hz: f64) -> f64 {
+        LEFT + (hz / self.x.0).ln() / (self.x.1 / self.x.0).ln() * (RIGHT - LEFT)
+    }
+
+    /// The vertical pixel of a level.
+    fn py(&self, dbuv: f64) -> f64 {
+        BOTTOM - (dbuv - self.y.0) / (self.y.1 - self.y.0) * (BOTTOM - TOP)
+    }
+
+    fn at(&self, hz: f64, dbuv: f64) -> (f64, f64) {
+        (self.px(hz), self.py(dbuv))
+    }
+
+    fn in_band(&self, hz: f64) -> bool {
+        hz.is_finite() && self.x.0 <= hz && hz <= self.x.1
+    }
+
+    fn in_view(&self, hz: f64, dbuv: f64) -> bool {
+        self.in_band(hz) && dbuv.is_finite() && self.y.0 <= dbuv && dbuv <= self.y.1
+    }
+}
+
+/// The band, level range and margin of the chart, or `None` if there is nothing sound to
+/// draw.
+fn frame(report: &EmcReport) -> Option<Frame> {
     let [low_hz, high_hz] = report.band_hz;
     if !(low_hz.is_finite() && high_hz.is_finite() && 0.0 < low_hz && low_hz < high_hz) {
         return None;
@@ -148,133 +297,167 @@ pub fn svg(report: &EmcReport) -> Option<String> {
     // The range fits the data: 5 dB of room, rounded out to 10 dB.
     let y_low = ((min - 5.0) / 10.0).floor() * 10.0;
     let y_high = ((max + 5.0) / 10.0).ceil() * 10.0;
-    if y_high <= y_low {
+    if !(y_high > y_low && (y_high - y_low).is_finite()) {
         return None;
     }
-    let mut out = String::new();
-    draw(report, &mut out, (low_hz, high_hz), (y_low, y_high), margin).ok()?;
-    Some(out)
+    Some(Frame {
+        x: (low_hz, high_hz),
+        y: (y_low, y_high),
+        margin,
+    })
 }
 
-fn in_band(hz: f64, x: (f64, f64)) -> bool {
-    hz.is_finite() && x.0 <= hz && hz <= x.1
+/// Whether the report has a chart (`svg` gives one), decided without drawing it.
+pub fn drawable(report: &EmcReport) -> bool {
+    frame(report).is_some()
 }
 
-fn in_view(hz: f64, dbuv: f64, x: (f64, f64), y: (f64, f64)) -> bool {
-    in_band(hz, x) && dbuv.is_finite() && y.0 <= dbuv && dbuv <= y.1
+/// The chart as an SVG document, or `None` if there is nothing sound to draw.
+pub fn svg(report: &EmcReport) -> Option<String> {
+    let frame = frame(report)?;
+    let mut svg = Svg {
+        out: String::with_capacity(12 * 1024),
+    };
+    draw(report, &frame, &mut svg);
+    Some(svg.out)
 }
 
-fn draw(
-    report: &EmcReport,
-    out: &mut String,
-    x: (f64, f64),
-    y: (f64, f64),
-    margin: f64,
-) -> Result<(), Box<dyn std::error::Error>> {
-    let root = SVGBackend::with_string(out, (WIDTH, HEIGHT)).into_drawing_area();
-    root.fill(&WHITE)?;
-    // The legend has a band of its own under the plot, so it never covers a point.
-    let (plot_area, legend_area) = root.split_vertically(PLOT_HEIGHT);
+/// The levels labelled on the vertical axis: multiples of the smallest step of 10, 20 or
+/// 50 dB (times a power of ten) that gives at most `MAX_LEVEL_LABELS` of them.
+fn level_ticks(y: (f64, f64)) -> Vec<f64> {
+    let mut decade = 1.0;
+    loop {
+        for step in [10.0, 20.0, 50.0].map(|s| s * decade) {
+            let first = (y.0 / step).ceil();
+            let last = (y.1 / step).floor();
+            if last - first + 1.0 <= MAX_LEVEL_LABELS {
+                return (first as i64..=last as i64)
+                    .map(|k| k as f64 * step)
+                    .collect();
+            }
+        }
+        decade *= 10.0;
+    }
+}
+
+fn draw(report: &EmcReport, f: &Frame, svg: &mut Svg) {
+    let (x, y, margin) = (f.x, f.y, f.margin);
+    let _ = writeln!(
+        svg.out,
+        "<svg width=\"{WIDTH}\" height=\"{HEIGHT}\" viewBox=\"0 0 {WIDTH} {HEIGHT}\" xmlns=\"http://www.w3.org/2000/svg\" font-family=\"sans-serif\">"
+    );
+    let _ = writeln!(
+        svg.out,
+        "<rect x=\"0\" y=\"0\" width=\"{WIDTH}\" height=\"{HEIGHT}\" fill=\"#FFFFFF\"/>"
+    );
     let title = format!(
         "Conducted emission on the mains port, class {} limits",
         report.limit_class.as_str()
     );
-    let mut chart = ChartBuilder::on(&plot_area)
-        .caption(title, ("sans-serif", 18))
-        .margin(12)
-        .x_label_area_size(46)
-        .y_label_area_size(58)
-        .build_cartesian_2d((x.0..x.1).log_scale(), y.0..y.1)?;
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(GRID)
-        .disable_x_mesh()
-        .x_labels(0)
-        .x_desc("Frequency, Hz (log scale)")
-        .y_desc("Level, dBµV")
-        .x_label_formatter(&|_| String::new())
-        .y_label_formatter(&|v: &f64| show(*v))
-        .label_style(("sans-serif", LABEL_PX))
-        .axis_desc_style(("sans-serif", 16))
-        .draw()?;
+    svg.text(
+        &title,
+        (f64::from(WIDTH) / 2.0, 17.0),
+        "middle",
+        "0.76em",
+        TITLE_PX,
+    );
 
-    // Our own log grid: a line at 1 to 9 of each decade, labels at 1, 2 and 5 and the
-    // band's ends.
-    let tick_font = ("sans-serif", LABEL_PX)
-        .into_font()
-        .color(&BLACK)
-        .pos(Pos::new(HPos::Center, VPos::Top));
+    // The grid: a line at each labelled level, and at 1 to 9 of each decade of frequency.
+    let levels = level_ticks(y);
+    for &level in &levels {
+        let py = f.py(level);
+        svg.line((LEFT, py), (RIGHT, py), GRID, 1);
+    }
     for decade in [1e4, 1e5, 1e6, 1e7, 1e8] {
         for m in 1..=9 {
-            let f = decade * f64::from(m);
-            if f < x.0 || f > x.1 {
-                continue;
+            let hz = decade * f64::from(m);
+            if f.in_band(hz) {
+                let px = f.px(hz);
+                svg.line((px, BOTTOM), (px, TOP), GRID, 1);
             }
-            chart.draw_series(LineSeries::new([(f, y.0), (f, y.1)], GRID))?;
         }
     }
+
+    // The axes, their ticks, labels and titles (with units).
+    svg.polyline(&[(LEFT - 1.0, TOP), (LEFT - 1.0, BOTTOM)], INK, 1, "");
+    for &level in &levels {
+        let py = f.py(level);
+        svg.line((LEFT - 6.0, py), (LEFT - 1.0, py), INK, 1);
+        svg.text(&show(level), (LEFT - 10.0, py), "end", "0.5ex", LABEL_PX);
+    }
+    svg.polyline(&[(LEFT, BOTTOM + 1.0), (RIGHT, BOTTOM + 1.0)], INK, 1, "");
+    // Labels at 1, 2 and 5 of each decade and at the band's ends.
     let mut labelled: Vec<f64> = vec![x.0, x.1];
     for decade in [1e4, 1e5, 1e6, 1e7, 1e8] {
         for m in [1.0, 2.0, 5.0] {
-            let f = decade * m;
+            let hz = decade * m;
             // Leave out a label that would crowd an end of the band.
-            if f > x.0 * 1.5 && f < x.1 / 1.6 {
-                labelled.push(f);
+            if hz > x.0 * 1.5 && hz < x.1 / 1.6 {
+                labelled.push(hz);
             }
         }
     }
-    for f in labelled {
-        let (px, py) = chart.backend_coord(&(f, y.0));
+    for hz in labelled {
+        let px = f.px(hz);
+        svg.line((px, BOTTOM + 1.0), (px, BOTTOM + 6.0), INK, 1);
         // The band's top end is labelled leftwards, so it stays inside the picture.
-        let font = if f == x.1 {
-            tick_font.clone().pos(Pos::new(HPos::Right, VPos::Top))
-        } else {
-            tick_font.clone()
-        };
-        plot_area.draw(&Text::new(tick_label(&f), (px, py + 8), font))?;
+        let anchor = if hz == x.1 { "end" } else { "middle" };
+        svg.text(
+            &tick_label(hz),
+            (px, BOTTOM + 8.0),
+            anchor,
+            "0.76em",
+            LABEL_PX,
+        );
     }
+    let middle = ((LEFT + RIGHT) / 2.0, (TOP + BOTTOM) / 2.0);
+    let _ = writeln!(
+        svg.out,
+        "<text x=\"12\" y=\"{}\" dy=\"0.76em\" text-anchor=\"middle\" font-size=\"{AXIS_PX}\" fill=\"{INK}\" transform=\"rotate(270, 12, {})\">Level, dBµV</text>",
+        Px(middle.1),
+        Px(middle.1)
+    );
+    svg.text(
+        "Frequency, Hz (log scale)",
+        (middle.0, f64::from(PLOT_HEIGHT) - 12.0),
+        "middle",
+        "-0.5ex",
+        AXIS_PX,
+    );
 
     for line in &report.limit_lines {
-        let colour = if line.detector == "quasi-peak" {
-            QUASI_PEAK
-        } else {
-            AVERAGE
-        };
+        let quasi_peak = line.detector == "quasi-peak";
+        let colour = if quasi_peak { QUASI_PEAK } else { AVERAGE };
         let vertices: Vec<(f64, f64)> = line
             .vertices
             .iter()
-            .filter(|v| in_view(v[0], v[1], x, y))
-            .map(|v| (v[0], v[1]))
+            .filter(|v| f.in_view(v[0], v[1]))
+            .map(|v| f.at(v[0], v[1]))
             .collect();
-        let style = colour.stroke_width(2);
-        if line.detector == "quasi-peak" {
-            chart.draw_series(LineSeries::new(vertices, style))?;
-        } else {
-            chart.draw_series(DashedLineSeries::new(vertices, 7, 4, style))?;
-        }
+        svg.polyline(&vertices, colour, 2, if quasi_peak { "" } else { "7 4" });
         // The line the points are judged against: the limit less the margin.
         if margin > 0.0 {
             let shifted: Vec<(f64, f64)> = line
                 .vertices
                 .iter()
                 .map(|v| (v[0], v[1] - margin))
-                .filter(|v| in_view(v.0, v.1, x, y))
+                .filter(|v| f.in_view(v.0, v.1))
+                .map(|v| f.at(v.0, v.1))
                 .collect();
-            chart.draw_series(DashedLineSeries::new(shifted, 2, 3, colour.stroke_width(1)))?;
+            svg.polyline(&shifted, colour, 1, "2 3");
         }
     }
 
     // Points below the chart's floor pass by far: drawn on the lower edge.
-    let place = |hz: f64, dbuv: f64| -> Option<(i32, i32)> {
-        if !in_band(hz, x) || !dbuv.is_finite() {
+    let place = |hz: f64, dbuv: f64| -> Option<(f64, f64)> {
+        if !f.in_band(hz) || !dbuv.is_finite() {
             return None;
         }
-        Some(chart.backend_coord(&(hz, dbuv.clamp(y.0, y.1))))
+        Some(f.at(hz, dbuv.clamp(y.0, y.1)))
     };
     for p in &report.points {
         if let Some(at) = place(p.frequency_hz, p.level_dbuv) {
-            marker(&plot_area, at, shape_of(p.mode), BEFORE.stroke_width(2), 4)?;
+            svg.marker(at, shape_of(p.mode), Paint::Outline(BEFORE), 4.0);
         }
     }
     // Failing points last, so nothing covers them.
@@ -289,9 +472,9 @@ fn draw(
             };
             let shape = shape_of(p.mode);
             match p.verdict {
-                Verdict::Fail => failing_marker(&plot_area, at, shape)?,
-                Verdict::Pass => marker(&plot_area, at, shape, AFTER.filled(), 4)?,
-                _ => marker(&plot_area, at, shape, NOT_JUDGED.filled(), 4)?,
+                Verdict::Fail => svg.failing_marker(at, shape),
+                Verdict::Pass => svg.marker(at, shape, Paint::Fill(AFTER), 4.0),
+                _ => svg.marker(at, shape, Paint::Fill(NOT_JUDGED), 4.0),
             }
         }
     }
@@ -299,52 +482,35 @@ fn draw(
         .points
         .iter()
         .any(|p| p.level_dbuv < y.0 || p.after_filter_dbuv < y.0);
-    legend(&legend_area, report, margin, clamped)?;
-    root.present()?;
-    Ok(())
+    legend(svg, report, margin, clamped);
+    svg.out.push_str("</svg>\n");
 }
 
-/// The legend, in its own band: a sample of each line and marker and what it is.
-fn legend<DB: DrawingBackend>(
-    area: &DrawingArea<DB, plotters::coord::Shift>,
-    report: &EmcReport,
-    margin: f64,
-    clamped: bool,
-) -> Result<(), Box<dyn std::error::Error>>
-where
-    DB::ErrorType: 'static,
-{
-    let font = ("sans-serif", LABEL_PX).into_font().color(&BLACK);
-    let text = |s: &str, at: (i32, i32)| Text::new(s.to_string(), (at.0, at.1 - 8), font.clone());
-    let columns = [14, 250, 480];
-    let rows = [16, 45, 74, 103];
+/// The legend, in its own band under the plot (so it never covers a point): a sample of
+/// each line and marker and what it is.
+fn legend(svg: &mut Svg, report: &EmcReport, margin: f64, clamped: bool) {
+    let top = f64::from(PLOT_HEIGHT);
+    let columns = [14.0, 250.0, 480.0];
+    let rows = [16.0, 45.0, 74.0, 103.0].map(|r| top + r);
+    // Text beside a sample on row `r`: its top 8 px above the row's middle.
+    let text = |svg: &mut Svg, s: &str, at: (f64, f64)| {
+        svg.text(s, (at.0, at.1 - 8.0), "start", "0.76em", LABEL_PX)
+    };
     // Row 1: the lines.
     let (c, r) = (columns[0], rows[0]);
-    area.draw(&PathElement::new(
-        vec![(c, r), (c + 24, r)],
-        QUASI_PEAK.stroke_width(2),
-    ))?;
-    area.draw(&text("quasi-peak limit", (c + 32, r)))?;
+    svg.polyline(&[(c, r), (c + 24.0, r)], QUASI_PEAK, 2, "");
+    text(svg, "quasi-peak limit", (c + 32.0, r));
     let c = columns[1];
-    for (a, b) in [(0, 7), (11, 18), (22, 24)] {
-        area.draw(&PathElement::new(
-            vec![(c + a, r), (c + b, r)],
-            AVERAGE.stroke_width(2),
-        ))?;
-    }
-    area.draw(&text("average limit", (c + 32, r)))?;
+    svg.polyline(&[(c, r), (c + 24.0, r)], AVERAGE, 2, "7 4");
+    text(svg, "average limit", (c + 32.0, r));
     let c = columns[2];
     if margin > 0.0 {
-        for a in (0..24).step_by(5) {
-            area.draw(&PathElement::new(
-                vec![(c + a, r), (c + a + 2, r)],
-                AVERAGE.stroke_width(1),
-            ))?;
-        }
-        area.draw(&text(
+        svg.polyline(&[(c, r), (c + 22.0, r)], AVERAGE, 1, "2 3");
+        text(
+            svg,
             &format!("each limit less {} dB margin", show(margin)),
-            (c + 32, r),
-        ))?;
+            (c + 32.0, r),
+        );
     }
     // Row 2: shapes by mode, as the noise before the filter shows them.
     let mut modes: Vec<Shape> = Vec::new();
@@ -357,52 +523,50 @@ where
     if modes.is_empty() {
         modes.push(Shape::Measured);
     }
-    area.draw(&text(
+    text(
+        svg,
         "noise without the filter (hollow):",
         (columns[0], rows[1]),
-    ))?;
+    );
     for (i, s) in modes.iter().enumerate() {
-        let c = columns[1] + 150 * i as i32;
-        marker(area, (c + 10, rows[1]), *s, BEFORE.stroke_width(2), 4)?;
+        let c = columns[1] + 150.0 * i as f64;
+        svg.marker((c + 10.0, rows[1]), *s, Paint::Outline(BEFORE), 4.0);
         let word = match s {
             Shape::Differential => "differential mode",
             Shape::Common => "common mode",
             Shape::Measured => "measured (mode not known)",
         };
-        area.draw(&text(word, (c + 24, rows[1])))?;
+        text(svg, word, (c + 24.0, rows[1]));
     }
     // Rows 3 and 4: after the filter, by verdict.
-    area.draw(&text(
+    text(
+        svg,
         "noise after the filter (filled):",
         (columns[0], rows[2]),
-    ))?;
+    );
     let shape = modes[0];
-    marker(area, (columns[1] + 10, rows[2]), shape, AFTER.filled(), 4)?;
-    area.draw(&text(
+    svg.marker((columns[1] + 10.0, rows[2]), shape, Paint::Fill(AFTER), 4.0);
+    text(
+        svg,
         "within the limit less the margin",
-        (columns[1] + 24, rows[2]),
-    ))?;
-    failing_marker(area, (columns[1] + 10, rows[3]), shape)?;
-    area.draw(&text("above it: fails", (columns[1] + 24, rows[3])))?;
+        (columns[1] + 24.0, rows[2]),
+    );
+    svg.failing_marker((columns[1] + 10.0, rows[3]), shape);
+    text(svg, "above it: fails", (columns[1] + 24.0, rows[3]));
     if report
         .points
         .iter()
         .any(|p| !matches!(p.verdict, Verdict::Pass | Verdict::Fail))
     {
-        marker(
-            area,
-            (columns[2] + 10, rows[3]),
+        svg.marker(
+            (columns[2] + 10.0, rows[3]),
             shape,
-            NOT_JUDGED.filled(),
-            4,
-        )?;
-        area.draw(&text("not judged", (columns[2] + 24, rows[3])))?;
+            Paint::Fill(NOT_JUDGED),
+            4.0,
+        );
+        text(svg, "not judged", (columns[2] + 24.0, rows[3]));
     }
     if clamped {
-        area.draw(&text(
-            "on the lower edge: lower still",
-            (columns[0], rows[3]),
-        ))?;
+        text(svg, "on the lower edge: lower still", (columns[0], rows[3]));
     }
-    Ok(())
 }

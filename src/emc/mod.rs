@@ -566,6 +566,11 @@ pub fn chart_svg(report: &EmcReport) -> Option<String> {
     chart::svg(report)
 }
 
+/// Whether `chart_svg` gives a chart for the report, decided without drawing it.
+pub fn has_chart(report: &EmcReport) -> bool {
+    chart::drawable(report)
+}
+
 /// Text for `gapwarden explain` about an EMC item, if `item` names one.
 pub fn explain(report: &EmcReport, item: &str) -> Option<String> {
     explain::explain(report, item)

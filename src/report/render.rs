@@ -282,8 +282,9 @@ fn mark_chart(text: &str) -> String {
 /// break or HTML can come from it. Line breaks become spaces; other control characters,
 /// bidirectional overrides and zero-width characters are shown as `<U+XXXX>`.
 pub fn md_escape(text: &str) -> String {
-    // Printable ASCII without a Markdown character, most values, is decided a byte at a
-    // time: one bit per ASCII code (the characters escaped below).
+    // Printable ASCII without a Markdown character, most of every value, is decided a byte
+    // at a time (one bit per ASCII code: the characters escaped below), and copied in runs;
+    // only the characters that change, and those outside ASCII, are looked at one by one.
     const MARKDOWN: u128 = {
         let mut bits = 0u128;
         let chars = b"\\`*_[]<>|&#";
@@ -294,37 +295,86 @@ pub fn md_escape(text: &str) -> String {
         }
         bits
     };
-    if text
-        .bytes()
-        .all(|b| (0x20..0x7f).contains(&b) && (MARKDOWN >> b) & 1 == 0)
-    {
-        return text.to_string();
-    }
-    let special = |c: char| {
-        matches!(
-            c,
-            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#'
-        ) || c.is_control()
-            || crate::text::is_hazardous(c)
-    };
-    if !text.chars().any(special) {
-        return text.to_string();
-    }
-    let mut out = String::with_capacity(text.len() + 8);
-    for c in text.chars() {
-        match c {
-            '\r' | '\n' => out.push(' '),
+    let bytes = text.as_bytes();
+    let mut out = String::new();
+    let mut copied = 0;
+    let mut i = 0;
+    while i < bytes.len() {
+        let b = bytes[i];
+        if (0x20..0x7f).contains(&b) && (MARKDOWN >> b) & 1 == 0 {
+            i += 1;
+            continue;
+        }
+        let Some(c) = text[i..].chars().next() else {
+            break;
+        };
+        let next = i + c.len_utf8();
+        let mut marker = String::new();
+        let replacement: &str = match c {
+            '\r' | '\n' | '\t' => " ",
             '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#' => {
+                // The character itself, escaped.
+                out.push_str(&text[copied..i]);
                 out.push('\\');
                 out.push(c);
+                copied = next;
+                i = next;
+                continue;
             }
-            '\t' => out.push(' '),
             // Not escaped: `<U+` cannot open an HTML tag, so it reads as written.
             c if c.is_control() || crate::text::is_hazardous(c) => {
-                out.push_str(&crate::text::visible(&c.to_string()))
+                let mut buf = [0u8; 4];
+                marker.push_str(&crate::text::visible(c.encode_utf8(&mut buf)));
+                &marker
             }
-            c => out.push(c),
+            _ => {
+                i = next;
+                continue;
+            }
+        };
+        if out.capacity() == 0 {
+            out.reserve(text.len() + 8);
         }
+        out.push_str(&text[copied..i]);
+        out.push_str(replacement);
+        copied = next;
+        i = next;
+    }
+    if copied == 0 {
+        return text.to_string();
+    }
+    out.push_str(&text[copied..]);
+    out
+}
+
+/// The rendered page tidied: at most one blank line in a row (a run of three or more line
+/// breaks becomes two) and exactly one trailing newline, whatever the template's whitespace
+/// control left. One pass over the text.
+fn tidy_blank_lines(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 1);
+    let mut copied = 0;
+    let bytes = text.as_bytes();
+    let mut i = 0;
+    while i < bytes.len() {
+        if bytes[i] != b'\n' {
+            i += 1;
+            continue;
+        }
+        let run_start = i;
+        while i < bytes.len() && bytes[i] == b'\n' {
+            i += 1;
+        }
+        if i - run_start > 2 {
+            out.push_str(&text[copied..run_start + 2]);
+            copied = i;
+        }
+    }
+    out.push_str(&text[copied..]);
+    while out.ends_with("\n\n") {
+        out.pop();
+    }
+    if !out.ends_with('\n') {
+        out.push('\n');
     }
     out
 }
@@ -586,22 +636,16 @@ fn render_page(
             .render(context)
             .map_err(|e| template_problem(&origin(&e), &e))?
     };
-    let mut text = insert_preamble(&text, &preamble(&report));
-    // At most one blank line in a row and one trailing newline, whatever the template's
-    // whitespace control left.
-    while text.contains("\n\n\n") {
-        text = text.replace("\n\n\n", "\n\n");
-    }
-    while text.ends_with("\n\n") {
-        text.pop();
-    }
-    if !text.ends_with('\n') {
-        text.push('\n');
+    let mut text = tidy_blank_lines(&insert_preamble(&text, &preamble(&report)));
+    if text.contains('\r') {
+        text = text.replace("\r\n", "\n");
     }
     // Text a template writes itself (or marks safe, such as the structure diagram) has not
     // passed through md_escape: no control or bidi character reaches the reader from it.
-    let text = text.replace("\r\n", "\n");
-    Ok(crate::text::visible(&text).into_owned())
+    Ok(match crate::text::visible(&text) {
+        Cow::Borrowed(_) => text,
+        Cow::Owned(shown) => shown,
+    })
 }
 
 /// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which

@@ -244,10 +244,7 @@ fn css_string(text: &str) -> String {
 
 pub fn build(report: &Report, page: Page, options: &MarkdownOptions) -> View {
     let html = page == Page::Html;
-    let has_chart = report
-        .emc
-        .as_ref()
-        .is_some_and(|e| crate::emc::chart_svg(e).is_some());
+    let has_chart = report.emc.as_ref().is_some_and(crate::emc::has_chart);
     let pair_verdicts = report
         .isolation
         .as_ref()

@@ -978,7 +978,7 @@ fn the_chart_is_well_formed_svg_with_the_limit_lines_and_the_points() {
     let elements = well_formed_xml(&svg).unwrap_or_else(|e| panic!("not well-formed: {e}"));
     assert!(elements > 20);
     // The quasi-peak limit is one polyline through its vertices; the average limit is
-    // dashed (several short segments).
+    // dashed (one polyline with a dash pattern).
     assert!(svg.contains("<polyline"), "limit lines");
     // Prescan points do not say their mode: diamonds. Before the filter: one hollow diamond
     // (an outline in the rust colour #965A28) per point; after: one filled diamond per
@@ -1669,4 +1669,136 @@ fn declared_corner_just_above_the_required_corner_is_flagged_not_rounded_onto_it
     );
     assert!(num(&report["emc"]["dm_corner_hz"]) <= required_hz);
     finding(&report, "emc.dm_corner_above_required");
+}
+
+/// The numbers of a `points="x,y x,y ..."` attribute.
+fn points_of(element: &str) -> Vec<(f64, f64)> {
+    let start = element.find("points=\"").expect("points") + "points=\"".len();
+    let end = start + element[start..].find('"').expect("end of points");
+    element[start..end]
+        .split_whitespace()
+        .map(|xy| {
+            let (x, y) = xy.split_once(',').expect("x,y");
+            (x.parse().expect("x"), y.parse().expect("y"))
+        })
+        .collect()
+}
+
+/// The number in attribute `name` of `element`.
+fn attribute(element: &str, name: &str) -> f64 {
+    let key = format!(" {name}=\"");
+    let start = element.find(&key).expect("attribute") + key.len();
+    let end = start + element[start..].find('"').expect("end of attribute");
+    element[start..end].parse().expect("a number")
+}
+
+/// The `<text ...>` element whose content is `content`.
+fn text_element<'a>(svg: &'a str, content: &str) -> &'a str {
+    let closing = format!(">{content}</text>");
+    let end = svg
+        .find(&closing)
+        .unwrap_or_else(|| panic!("no text {content:?}"));
+    let start = svg[..end].rfind("<text").expect("text element");
+    &svg[start..end]
+}
+
+#[test]
+fn the_chart_puts_frequency_on_a_log_axis_and_level_on_a_linear_one() {
+    let emc = emc_report("emc-prescan.toml");
+    let svg = chart_svg(&emc).expect("a chart");
+    // The quasi-peak limit: one solid polyline (ink blue, 2 px) through its vertices.
+    let quasi_peak: Vec<&str> = svg
+        .lines()
+        .filter(|l| {
+            l.starts_with("<polyline") && l.contains("stroke=\"#1F3A68\" stroke-width=\"2\"")
+        })
+        .collect();
+    // The plot's line and the legend's sample.
+    assert_eq!(quasi_peak.len(), 2, "{quasi_peak:?}");
+    let drawn = points_of(quasi_peak[0]);
+    let line = emc
+        .limit_lines
+        .iter()
+        .find(|l| l.detector == "quasi-peak")
+        .expect("a quasi-peak limit");
+    assert_eq!(drawn.len(), line.vertices.len());
+    // Log scale: the distance from the band's start is proportional to log(f / f0)
+    // (the definition of a logarithmic axis), whatever the chart's pixel size.
+    let (f0, f1) = (
+        line.vertices[0][0],
+        line.vertices[line.vertices.len() - 1][0],
+    );
+    let (x0, x1) = (drawn[0].0, drawn[drawn.len() - 1].0);
+    for (v, p) in line.vertices.iter().zip(&drawn) {
+        let expected = (v[0] / f0).ln() / (f1 / f0).ln();
+        let got = (p.0 - x0) / (x1 - x0);
+        assert!(
+            (got - expected).abs() < 1e-3,
+            "{} Hz at {got}, not {expected}",
+            v[0]
+        );
+    }
+    // The 1 MHz label sits on the same scale.
+    let label = text_element(&svg, "1 MHz");
+    let got = (attribute(label, "x") - x0) / (x1 - x0);
+    let expected = (1e6 / f0).ln() / (f1 / f0).ln();
+    assert!(
+        (got - expected).abs() < 1e-3,
+        "1 MHz at {got}, not {expected}"
+    );
+    // Linear in dB: each vertex's height lies on the line through two level labels.
+    let (y40, y60) = (
+        attribute(text_element(&svg, "40"), "y"),
+        attribute(text_element(&svg, "60"), "y"),
+    );
+    for (v, p) in line.vertices.iter().zip(&drawn) {
+        let expected = y40 + (v[1] - 40.0) / 20.0 * (y60 - y40);
+        assert!(
+            (p.1 - expected).abs() < 0.11,
+            "{} dBuV drawn at {}, not {expected}",
+            v[1],
+            p.1
+        );
+    }
+    // The average limit and each limit less the margin are dashed lines, one each (not a
+    // polyline per dash): average 7 on 4 off, margin lines 2 on 3 off.
+    let average: Vec<&str> = svg
+        .lines()
+        .filter(|l| l.contains("stroke=\"#5C7CB0\" stroke-width=\"2\""))
+        .collect();
+    assert_eq!(average.len(), 2, "plot and legend: {average:?}");
+    assert!(
+        average
+            .iter()
+            .all(|l| l.contains("stroke-dasharray=\"7 4\""))
+    );
+    assert!(emc.margin_db > 0.0);
+    let margin_lines = svg.matches("stroke-dasharray=\"2 3\"").count();
+    assert_eq!(
+        margin_lines,
+        emc.limit_lines.len() + 1,
+        "one a limit, and the legend's"
+    );
+}
+
+#[test]
+fn whether_a_report_has_a_chart_is_known_without_drawing_it() {
+    for name in [
+        "emc-prescan.toml",
+        "emc-estimate.toml",
+        "emc-declared-filter.toml",
+        "emc-y-above-limit.toml",
+    ] {
+        let emc = emc_report(name);
+        assert_eq!(
+            gapwarden::emc::has_chart(&emc),
+            chart_svg(&emc).is_some(),
+            "{name}"
+        );
+    }
+    // A band that is not a band: no chart, and `has_chart` says so.
+    let mut emc = emc_report("emc-prescan.toml");
+    emc.band_hz = [30e6, 150e3];
+    assert!(!gapwarden::emc::has_chart(&emc));
+    assert_eq!(chart_svg(&emc), None);
 }

@@ -650,3 +650,102 @@ fn short_clearance_report_md_snapshot() {
     let md = markdown(SHORT);
     insta::assert_snapshot!("short_clearance_report_md", md);
 }
+
+/// Characters for the escaping tests, each with what the Markdown escaping (`md_escape`)
+/// and the terminal/page filter (`text::visible`) write for it, as their documentation
+/// says: Markdown syntax gets a backslash, line breaks and tabs become spaces in a value,
+/// control characters, bidirectional overrides and zero-width characters are shown as
+/// `<U+XXXX>`, anything else is kept.
+const ESCAPES: &[(char, &str, &str)] = &[
+    ('a', "a", "a"),
+    ('Z', "Z", "Z"),
+    ('7', "7", "7"),
+    (' ', " ", " "),
+    ('.', ".", "."),
+    ('-', "-", "-"),
+    ('\\', "\\\\", "\\"),
+    ('`', "\\`", "`"),
+    ('*', "\\*", "*"),
+    ('_', "\\_", "_"),
+    ('[', "\\[", "["),
+    (']', "\\]", "]"),
+    ('<', "\\<", "<"),
+    ('>', "\\>", ">"),
+    ('|', "\\|", "|"),
+    ('&', "\\&", "&"),
+    ('#', "\\#", "#"),
+    ('\n', " ", "\n"),
+    ('\r', " ", "<U+000D>"),
+    ('\t', " ", "\t"),
+    ('\u{1}', "<U+0001>", "<U+0001>"),
+    ('\u{1b}', "<U+001B>", "<U+001B>"),
+    ('\u{7f}', "<U+007F>", "<U+007F>"),
+    ('\u{85}', "<U+0085>", "<U+0085>"),
+    ('\u{200b}', "<U+200B>", "<U+200B>"),
+    ('\u{202e}', "<U+202E>", "<U+202E>"),
+    ('\u{2066}', "<U+2066>", "<U+2066>"),
+    ('\u{feff}', "<U+FEFF>", "<U+FEFF>"),
+    ('µ', "µ", "µ"),
+    ('–', "–", "–"),
+    ('✗', "✗", "✗"),
+    ('Ω', "Ω", "Ω"),
+    ('日', "日", "日"),
+    ('😀', "😀", "😀"),
+];
+
+mod escaping {
+    use super::ESCAPES;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 256, .. ProptestConfig::default() })]
+
+        #[test]
+        fn markdown_escaping_writes_each_character_by_the_rules(
+            picks in proptest::collection::vec(0..ESCAPES.len(), 0..48)
+        ) {
+            let text: String = picks.iter().map(|&i| ESCAPES[i].0).collect();
+            let expected: String = picks.iter().map(|&i| ESCAPES[i].1).collect();
+            prop_assert_eq!(gapwarden::report::md_escape(&text), expected);
+        }
+
+        #[test]
+        fn visible_text_shows_hazardous_characters_and_keeps_the_rest(
+            picks in proptest::collection::vec(0..ESCAPES.len(), 0..48)
+        ) {
+            let text: String = picks.iter().map(|&i| ESCAPES[i].0).collect();
+            let expected: String = picks.iter().map(|&i| ESCAPES[i].2).collect();
+            prop_assert_eq!(gapwarden::text::visible(&text).into_owned(), expected);
+        }
+    }
+}
+
+#[test]
+fn a_house_templates_blank_lines_and_carriage_returns_are_tidied() {
+    // Whatever whitespace a template leaves, the report has at most one blank line in a
+    // row, no carriage return and exactly one newline at the end.
+    let dir = std::env::temp_dir().join(format!("gapwarden-tidy-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    std::fs::write(
+        dir.join("report.md.j2"),
+        "# Checklist {{ design.name | id }}\r\n\n\n\n\nFirst\r\nsecond\n\n\n\n\n\nthird\n\n\n\n",
+    )
+    .expect("template written");
+    let o = run(&[
+        "check",
+        CLASS2,
+        "--templates",
+        dir.to_str().expect("UTF-8 path"),
+        "--format",
+        "md",
+    ]);
+    let _ = std::fs::remove_dir_all(&dir);
+    assert!(matches!(code(&o), 0 | 1), "{}", describe(&o));
+    let md = stdout(&o);
+    assert!(md.starts_with("# Checklist "), "{md}");
+    assert!(!md.contains("\n\n\n"), "{md:?}");
+    assert!(!md.contains('\r'), "{md:?}");
+    assert!(md.ends_with("third\n"), "{md:?}");
+    assert!(md.contains("\n\nFirst\nsecond\n\nthird\n"), "{md:?}");
+}
