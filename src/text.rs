@@ -44,7 +44,19 @@ fn marker(c: char) -> String {
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
 pub fn visible(text: &str) -> Cow<'_, str> {
-    // ASCII, most text, is decided a byte at a time; only characters outside it are decoded.
+    // ASCII, most text, is decided a byte at a time (printable, newline and tab are kept);
+    // only characters outside it are decoded.
+    const KEPT: [bool; 128] = {
+        let mut kept = [false; 128];
+        let mut b = 0x20;
+        while b < 0x7f {
+            kept[b] = true;
+            b += 1;
+        }
+        kept[b'\n' as usize] = true;
+        kept[b'\t' as usize] = true;
+        kept
+    };
     let bytes = text.as_bytes();
     let mut i = 0;
     let first = loop {
@@ -52,7 +64,7 @@ pub fn visible(text: &str) -> Cow<'_, str> {
             return Cow::Borrowed(text);
         };
         if b < 0x80 {
-            if (b < 0x20 && b != b'\n' && b != b'\t') || b == 0x7f {
+            if !KEPT[b as usize] {
                 break i;
             }
             i += 1;
@@ -134,6 +146,11 @@ pub fn number(x: f64, digits: Digits) -> String {
         Digits::Exact => x,
         Digits::FourDecimals => four_decimals(x),
         Digits::FourSignificant => {
+            // A whole number of at most four digits (most counts and many figures) is
+            // already what the rounding below would print.
+            if x.fract() == 0.0 && x.abs() < 1e4 {
+                return (x as i64).to_string();
+            }
             let x = significant(x, 4);
             if x == 0.0 {
                 return "0".to_string();
@@ -286,11 +303,17 @@ pub fn round_figures(text: &str) -> Cow<'_, str> {
             continue;
         }
         let token = &text[start..end];
-        let digits: String = token.chars().filter(char::is_ascii_digit).collect();
+        // The token's digits (the point left out) less leading zeros, and for a whole
+        // number less trailing zeros too; counted, not collected.
+        let digits = token.bytes().filter(u8::is_ascii_digit);
+        let total = digits.clone().count();
+        let leading = digits.clone().take_while(|&b| b == b'0').count();
         let significant_digits = if has_point {
-            digits.trim_start_matches('0').len()
+            total - leading
+        } else if leading == total {
+            0
         } else {
-            digits.trim_start_matches('0').trim_end_matches('0').len()
+            total - leading - token.bytes().rev().take_while(|&b| b == b'0').count()
         };
         if significant_digits <= 4 {
             continue;

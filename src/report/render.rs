@@ -282,26 +282,39 @@ fn mark_chart(text: &str) -> String {
 /// break or HTML can come from it. Line breaks become spaces; other control characters,
 /// bidirectional overrides and zero-width characters are shown as `<U+XXXX>`.
 pub fn md_escape(text: &str) -> String {
-    // Printable ASCII without a Markdown character, most of every value, is decided a byte
-    // at a time (one bit per ASCII code: the characters escaped below), and copied in runs;
-    // only the characters that change, and those outside ASCII, are looked at one by one.
-    const MARKDOWN: u128 = {
-        let mut bits = 0u128;
-        let chars = b"\\`*_[]<>|&#";
-        let mut k = 0;
-        while k < chars.len() {
-            bits |= 1 << chars[k];
-            k += 1;
-        }
-        bits
-    };
+    let mut out = String::with_capacity(text.len());
+    // Writing to a String cannot fail.
+    let _ = md_escape_to(text, &mut out);
+    out
+}
+
+/// Which ASCII bytes `md_escape` copies as they are: printable ASCII other than the
+/// Markdown characters it escapes. Everything else is looked at as a character.
+const MARKDOWN_PLAIN: [bool; 256] = {
+    let mut plain = [false; 256];
+    let mut b = 0x20;
+    while b < 0x7f {
+        plain[b] = true;
+        b += 1;
+    }
+    let special = b"\\`*_[]<>|&#";
+    let mut k = 0;
+    while k < special.len() {
+        plain[special[k] as usize] = false;
+        k += 1;
+    }
+    plain
+};
+
+/// As [`md_escape`], written to `out`: runs of plain characters (most of every value) are
+/// copied whole, and only the characters that change, and those outside ASCII, are looked
+/// at one by one.
+fn md_escape_to<W: std::fmt::Write + ?Sized>(text: &str, out: &mut W) -> std::fmt::Result {
     let bytes = text.as_bytes();
-    let mut out = String::new();
     let mut copied = 0;
     let mut i = 0;
     while i < bytes.len() {
-        let b = bytes[i];
-        if (0x20..0x7f).contains(&b) && (MARKDOWN >> b) & 1 == 0 {
+        if MARKDOWN_PLAIN[bytes[i] as usize] {
             i += 1;
             continue;
         }
@@ -309,42 +322,30 @@ pub fn md_escape(text: &str) -> String {
             break;
         };
         let next = i + c.len_utf8();
-        let mut marker = String::new();
-        let replacement: &str = match c {
-            '\r' | '\n' | '\t' => " ",
-            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#' => {
-                // The character itself, escaped.
-                out.push_str(&text[copied..i]);
-                out.push('\\');
-                out.push(c);
+        match c {
+            '\r' | '\n' | '\t' => {
+                out.write_str(&text[copied..i])?;
+                out.write_char(' ')?;
                 copied = next;
-                i = next;
-                continue;
+            }
+            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#' => {
+                out.write_str(&text[copied..i])?;
+                out.write_char('\\')?;
+                out.write_char(c)?;
+                copied = next;
             }
             // Not escaped: `<U+` cannot open an HTML tag, so it reads as written.
             c if c.is_control() || crate::text::is_hazardous(c) => {
+                out.write_str(&text[copied..i])?;
                 let mut buf = [0u8; 4];
-                marker.push_str(&crate::text::visible(c.encode_utf8(&mut buf)));
-                &marker
+                out.write_str(&crate::text::visible(c.encode_utf8(&mut buf)))?;
+                copied = next;
             }
-            _ => {
-                i = next;
-                continue;
-            }
-        };
-        if out.capacity() == 0 {
-            out.reserve(text.len() + 8);
+            _ => {}
         }
-        out.push_str(&text[copied..i]);
-        out.push_str(replacement);
-        copied = next;
         i = next;
     }
-    if copied == 0 {
-        return text.to_string();
-    }
-    out.push_str(&text[copied..]);
-    out
+    out.write_str(&text[copied..])
 }
 
 /// The rendered page tidied: at most one blank line in a row (a run of three or more line
@@ -394,9 +395,9 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             }
             // Figures inside prose (derivations, messages) are rounded as the report's own
             // figures are; ids and names go through the `id` filter, which leaves them be.
-            ValueKind::String => out.write_str(&md_escape(&round_figures(
-                value.as_str().unwrap_or_default(),
-            )))?,
+            ValueKind::String => {
+                md_escape_to(&round_figures(value.as_str().unwrap_or_default()), out)?
+            }
             ValueKind::Number => out.write_str(&report_number(value))?,
             ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,
             _ => out.write_str(&md_escape(&value.to_string()))?,
@@ -469,9 +470,27 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             title
         })
     });
-    for (name, text, origin) in &templates.files {
-        env.add_template_owned(name.clone(), text.clone())
-            .map_err(|e| template_problem(origin, &e))?;
+    if templates.any_house() {
+        // Parsed now, so that a broken house template stops the run before any design is
+        // read.
+        for (name, text, origin) in &templates.files {
+            env.add_template_owned(name.clone(), text.clone())
+                .map_err(|e| template_problem(origin, &e))?;
+        }
+    } else {
+        // The shipped templates (tested) are parsed when first rendered or included: a
+        // report without a board never parses the board's.
+        let files: Vec<(String, String)> = templates
+            .files
+            .iter()
+            .map(|(name, text, _)| (name.clone(), text.clone()))
+            .collect();
+        env.set_loader(move |name| {
+            Ok(files
+                .iter()
+                .find(|(n, _)| n == name)
+                .map(|(_, text)| text.clone()))
+        });
     }
     Ok(env)
 }
