@@ -248,10 +248,8 @@ const UNITS: &[&str] = &[
 /// `CY1`, a dotted version or a hash) and either has a decimal point or is followed by a
 /// unit (`17201 Hz`); standards' numbers (`IEC 60664-1`, `CISPR 32:2015`) stay as they are.
 pub fn round_figures(text: &str) -> Cow<'_, str> {
+    // One pass: nothing is allocated until a figure is rounded.
     let bytes = text.as_bytes();
-    if !bytes.iter().any(u8::is_ascii_digit) {
-        return Cow::Borrowed(text);
-    }
     let mut out = String::new();
     let mut copied = 0;
     let mut i = 0;
