@@ -1045,10 +1045,20 @@ impl State<'_> {
                 )
             }
             Aperture::Macro(shapes) => {
-                if self
+                let cut_out = self
                     .role
                     .as_ref()
-                    .is_some_and(|(r, _)| *r == Role::NonPlated)
+                    .is_some_and(|(r, _)| *r == Role::NonPlated);
+                // A cut-out is judged by its width, so overlapping primitives are merged into
+                // the one opening they make rather than measured piece by piece.
+                let merged;
+                let shapes: &[Shape] = if cut_out && shapes.len() > 1 {
+                    merged = macros::merged(&shapes);
+                    &merged
+                } else {
+                    &shapes
+                };
+                if cut_out
                     && shapes
                         .iter()
                         .any(|s| matches!(s, Shape::Rings(r) if r.len() > 1))

@@ -276,6 +276,57 @@ fn nested_blocks_are_flashed_with_their_offsets_added() {
     assert!((v - (4.0 - GAP_LOSS)).abs() < 1e-9, "{v}");
 }
 
+#[test]
+fn a_macro_slot_in_a_drill_file_is_one_cut_out_walked_round() {
+    // Non-plated rout file: a macro of two circles (1) of 2 mm at (5, -1) and (5, 1) and a
+    // 2 x 2 mm center line (21) at (5, 0): together one slot 2 mm wide from y = -2 to 2, with
+    // round ends. Pads A and B of 1 mm at (0, 0) and (10, 0). Groove width X = 1.0 mm
+    // (IEC 60664-1:2020 clause 6.2, pollution degree 2; confirmed, REFERENCES [HA]): the slot
+    // is wider, so creepage goes round an end cap, a disc of R = 1 centred at C = (5, 1).
+    // Each pad centre is D = sqrt(5^2 + 1^2) = sqrt(26) from C; the tangent T =
+    // sqrt(D^2 - R^2) = 5; the arc spans pi + 2 atan(1/5) - 2 acos(1/sqrt 26) = 0.789582 rad:
+    // 2 x 5 + 0.789582 - 2 x 0.5 = 9.789582 mm. Clearance on the face is not lengthened by
+    // the slot: 10 - 1 = 9 mm.
+    let npth = gbr(
+        "NonPlated,1,2,NPTH,Rout",
+        "%AMSLOT*1,1,2,0,-1*1,1,2,0,1*21,1,2,2,0,0,0*%\n%ADD20SLOT*%\nD20*\nX5000000Y0D03*\n",
+    );
+    let top = gbr(
+        "Copper,L1,Top",
+        &("%ADD10C,1*%\n%TO.N,A*%\nD10*\nX0Y0D03*\n%TD*%\n".to_string()
+            + &pad_b(10.0, 0.0, 1.0, 11)),
+    );
+    let files = [
+        ("top.gbr", top),
+        ("npth.gbr", npth),
+        ("outline.gbr", outline()),
+    ];
+    let images = files
+        .iter()
+        .map(|(name, text)| {
+            let image = gerber::read(name, text).expect("the test file reads");
+            (
+                name.to_string(),
+                gapwarden::sha256_hex(text.as_bytes()),
+                image,
+            )
+        })
+        .collect();
+    let b = board::build(images, 1.6).expect("the test board builds");
+    let m = Index::new(&b).measure(&["A".to_string()], &["B".to_string()], 1.0);
+    // The three primitives are merged into one opening, not three cut-outs.
+    assert_eq!(m.cutouts_walked_round, 1);
+    let arc = std::f64::consts::PI + 2.0 * 0.2f64.atan() - 2.0 * (1.0 / 26f64.sqrt()).acos();
+    let round_the_end = 2.0 * 5.0 + arc - 1.0;
+    let cr = m.creepage.as_ref().expect("creepage").distance_mm;
+    // Chords of the cap lie inside it: the path is at most the true one, short of it by no
+    // more than the chords' sagitta and the gaps' loss.
+    assert!(cr <= round_the_end + 1e-9, "{cr} > {round_the_end}");
+    assert!(cr >= round_the_end - 0.02, "{cr} far below {round_the_end}");
+    let cl = m.clearance.as_ref().expect("clearance").distance_mm;
+    assert!((cl - (9.0 - GAP_LOSS)).abs() < 1e-9, "{cl}");
+}
+
 // ---- refusals: each names the file and the line ----
 
 #[test]
@@ -389,4 +440,30 @@ fn other_macro_mistakes_name_their_line() {
         "%AMDOT*1,1,1,0,0*%\n%ADD20DOT*%\nD20*\nX0Y0D02*\nX1000000Y0D01*\n",
     ));
     assert_eq!(d.line, Some(11), "{d:?}");
+}
+
+// ---- no panic from a hostile macro ----
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig { cases: 256, .. proptest::prelude::ProptestConfig::default() })]
+
+    #[test]
+    fn any_macro_text_is_read_or_refused_never_a_panic(
+        body in "0 [a-z ]{0,9}|\\$[1-4]=[0-9$x/+().-]{1,9}|[0-9$x/+()., =*\n-]{0,60}",
+        code in proptest::sample::select(vec![1u32, 2, 20, 21, 22, 4, 5, 7]),
+        args in proptest::collection::vec("[0-9$x/+().-]{1,6}|0|1|3|4", 0..14),
+        params in "[0-9.X-]{0,20}",
+    ) {
+        // Free text, and a primitive of a real code with modifiers that often evaluate.
+        let text = gbr(
+            "Copper,L1,Top",
+            &format!(
+                "%AMFUZZ*{body}*{code},{}*%\n%ADD20FUZZ,{params}*%\n%TO.N,A*%\nD20*\nX0Y0D03*\n",
+                args.join(",")
+            ),
+        );
+        if let Err(d) = gerber::read("fuzz.gbr", &text) {
+            proptest::prop_assert!(d.line.is_some(), "{d:?}");
+        }
+    }
 }

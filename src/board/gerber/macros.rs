@@ -554,6 +554,28 @@ impl Macro {
     }
 }
 
+/// The union of shapes as polygons (circles as their inscribed chords).
+pub fn merged(shapes: &[Shape]) -> Vec<Shape> {
+    use geo::BooleanOps;
+    let mut acc = geo::MultiPolygon::<f64>::new(vec![]);
+    for s in shapes {
+        let parts: Vec<geo::MultiPolygon<f64>> = match s {
+            Shape::Segs(segs) => segs.iter().map(|s| poly(&g::stadium_ring(s))).collect(),
+            Shape::Rings(rings) => match rings.split_first() {
+                Some((outer, holes)) => vec![geo::MultiPolygon::new(vec![geo::Polygon::new(
+                    ls(outer),
+                    holes.iter().map(|h| ls(h)).collect(),
+                )])],
+                None => vec![],
+            },
+        };
+        for m in parts {
+            acc = if acc.0.is_empty() { m } else { acc.union(&m) };
+        }
+    }
+    acc.0.iter().map(|p| Shape::Rings(rings_of(p))).collect()
+}
+
 fn exposure(v: f64, name: &str) -> Result<bool, String> {
     match v {
         0.0 => Ok(false),
