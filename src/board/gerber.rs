@@ -106,28 +106,16 @@ pub struct Image {
     pub outline_segments: Vec<(P, P, usize)>,
 }
 
+/// A defined aperture. `Macro`: an aperture macro instantiated with its parameters, its
+/// shapes at the origin in mm. `Block`: an aperture block's objects at the origin, with their
+/// polarity relative to the flash (dark = the flash's own polarity).
 #[derive(Debug, Clone)]
 enum Aperture {
-    Circle {
-        d: f64,
-    },
-    Rect {
-        w: f64,
-        h: f64,
-    },
-    Obround {
-        w: f64,
-        h: f64,
-    },
-    Polygon {
-        d: f64,
-        n: u32,
-        rot_deg: f64,
-    },
-    /// An aperture macro instantiated with its parameters: its shapes at the origin, mm.
+    Circle { d: f64 },
+    Rect { w: f64, h: f64 },
+    Obround { w: f64, h: f64 },
+    Polygon { d: f64, n: u32, rot_deg: f64 },
     Macro(Rc<Vec<Shape>>),
-    /// An aperture block (`%AB`): its objects at the origin with their polarity relative to
-    /// the flash (dark = the flash's own polarity).
     Block(Rc<Vec<Object>>),
 }
 
@@ -1049,15 +1037,6 @@ impl State<'_> {
                     .role
                     .as_ref()
                     .is_some_and(|(r, _)| *r == Role::NonPlated);
-                // A cut-out is judged by its width, so overlapping primitives are merged into
-                // the one opening they make rather than measured piece by piece.
-                let merged;
-                let shapes: &[Shape] = if cut_out && shapes.len() > 1 {
-                    merged = macros::merged(&shapes);
-                    &merged
-                } else {
-                    &shapes
-                };
                 if cut_out
                     && shapes
                         .iter()

@@ -1,6 +1,7 @@
 //! Aperture macros (`%AM...*%`): their parsing, their arithmetic and the shapes their
 //! primitives draw, after the Gerber Layer Format Specification (Ucamco, revision 2023.08,
-//! section 4.5 "Aperture macro"; written from memory of it, verify against the published copy).
+//! the aperture macro command AM; written from memory of it, verify against the published
+//! copy).
 //!
 //! A macro is parsed once where it is defined (so a malformed expression is refused at its own
 //! line even if no aperture uses it) and instantiated once per `%AD` that names it, with the
@@ -550,8 +551,44 @@ impl Macro {
             Shape::Rings(r) => r.first().is_some_and(|r| r.len() >= 3),
             Shape::Segs(s) => !s.is_empty(),
         });
-        Ok(shapes)
+        Ok(merge_overlapping(shapes))
     }
+}
+
+/// One pad is one conductor: primitives whose boxes touch are merged into the shape they
+/// make together (once per aperture definition, not per flash); a primitive that touches no
+/// other stays as it is, so a lone circle keeps its exact outline.
+fn merge_overlapping(shapes: Vec<Shape>) -> Vec<Shape> {
+    let n = shapes.len();
+    if n < 2 {
+        return shapes;
+    }
+    let boxes: Vec<g::Bbox> = shapes.iter().map(Shape::bbox).collect();
+    let mut group: Vec<usize> = (0..n).collect();
+    fn root(group: &mut [usize], mut i: usize) -> usize {
+        while group[i] != i {
+            group[i] = group[group[i]];
+            i = group[i];
+        }
+        i
+    }
+    for i in 0..n {
+        for j in i + 1..n {
+            if boxes[i].gap(&boxes[j]) <= 0.0 {
+                let (a, b) = (root(&mut group, i), root(&mut group, j));
+                group[a] = b;
+            }
+        }
+    }
+    let mut members: BTreeMap<usize, Vec<Shape>> = BTreeMap::new();
+    for (i, s) in shapes.into_iter().enumerate() {
+        let r = root(&mut group, i);
+        members.entry(r).or_default().push(s);
+    }
+    members
+        .into_values()
+        .flat_map(|m| if m.len() == 1 { m } else { merged(&m) })
+        .collect()
 }
 
 /// The union of shapes as polygons (circles as their inscribed chords).
