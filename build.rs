@@ -2,7 +2,9 @@
 //! the binary, so a new file needs no list kept by hand. Each rule file is also converted
 //! to JSON, hashed (SHA-256 of its text) and, for check files, the line of each `[[check]]`
 //! noted: a run then reads the shipped rules without parsing TOML or hashing again. A file
-//! that is not valid TOML fails the build.
+//! that is not valid TOML fails the build. It also lists every type that implements the
+//! rule book's `Table` trait (`impl Table for X` in `src/`), so that a new rule table is its
+//! file and its struct, and a house table of any type is read and checked at load.
 
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -114,6 +116,53 @@ fn templates(root: &Path) -> String {
     code
 }
 
+/// `crate::a::b` for `src/a/b.rs` (or `src/a/b/mod.rs`).
+fn module_path(src: &Path, path: &Path) -> String {
+    let inside = inside(src, path);
+    let inside = inside.strip_suffix(".rs").unwrap_or(&inside);
+    let inside = inside.strip_suffix("/mod").unwrap_or(inside);
+    if inside == "lib" || inside == "main" {
+        return "crate".to_string();
+    }
+    format!("crate::{}", inside.replace('/', "::"))
+}
+
+/// Every `impl Table for X` (the trait named as `Table` or by a path ending in it) at the
+/// start of a line, as `TableType::of::<path::X>("path::X")` entries.
+fn table_types(src: &Path) -> String {
+    let mut found = Vec::new();
+    files(src, "rs", &mut found);
+    let mut code = String::from("&[\n");
+    for path in found {
+        let Ok(text) = std::fs::read_to_string(&path) else {
+            continue;
+        };
+        for line in text.lines() {
+            let Some(rest) = line.strip_prefix("impl ") else {
+                continue;
+            };
+            let Some((trait_path, after)) = rest.split_once(" for ") else {
+                continue;
+            };
+            if trait_path != "Table" && !trait_path.ends_with("::Table") {
+                continue;
+            }
+            let name: String = after
+                .chars()
+                .take_while(|c| c.is_alphanumeric() || *c == '_')
+                .collect();
+            if name.is_empty() {
+                continue;
+            }
+            let full = format!("{}::{name}", module_path(src, &path));
+            let shown = full.strip_prefix("crate::").unwrap_or(&full);
+            let _ = writeln!(code, "    TableType::of::<{full}>({shown:?}),");
+        }
+    }
+    code.push(']');
+    code
+}
+
 fn main() {
     let manifest =
         PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
@@ -124,6 +173,7 @@ fn main() {
             "shipped_templates.rs",
             templates(&manifest.join("templates")),
         ),
+        ("table_types.rs", table_types(&manifest.join("src"))),
     ] {
         if let Err(e) = std::fs::write(out.join(file), code) {
             panic!("cannot write the embedded file list {file}: {e}");
@@ -131,4 +181,5 @@ fn main() {
     }
     println!("cargo:rerun-if-changed=rules");
     println!("cargo:rerun-if-changed=templates");
+    println!("cargo:rerun-if-changed=src");
 }

@@ -9,37 +9,15 @@ pub mod parts;
 pub mod spacing;
 pub mod tables;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::area::{Area, Evaluation, ExplainItem};
 use crate::derivation::{Step, Suspicious};
 use crate::diag::{Diagnostic, Problems};
 use crate::project::Project;
 use crate::report::Report;
-use crate::rules::Typed;
+use crate::rules::Validation;
 use isolation::IsolationReport;
 use parts::BridgeResult;
 use spacing::{BarrierResult, Conditions, show};
-use tables::*;
-
-crate::table_set! {
-    /// The insulation area's rule tables. The electric strength test voltages are read by
-    /// power entry too (`rules.insulation.test_voltages`).
-    pub struct InsulationRules {
-        pub impulse: ImpulseTable,
-        pub clearance: ClearanceTable,
-        pub steady_state: SteadyStateClearanceTable,
-        pub creepage: CreepageTable,
-        pub reinforced: ReinforcedRule,
-        pub altitude: AltitudeTable,
-        pub grooves: GrooveTable,
-        pub material_groups: MaterialGroupTable,
-        pub board: BoardSpacingTable,
-        pub capacitors: CapacitorSubclasses,
-        pub test_voltages: TestVoltages,
-        pub thermal: ThermalClasses,
-        pub solid: SolidInsulation,
-        pub minimums: MinimumDistances,
-    }
-}
 
 /// The insulation area.
 pub struct Insulation;
@@ -67,10 +45,9 @@ impl Area for Insulation {
         true
     }
 
-    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.insulation = crate::rules::TableSet::load(tables);
+    fn load_rules(&self, tables: &mut Validation) {
         // The end-product standards' tables (`rules/<standard>/`) dimension barriers too.
-        into.standards = crate::rules::TableSet::load(tables);
+        crate::standards::StandardRules::require(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {

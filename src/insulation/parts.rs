@@ -101,7 +101,7 @@ fn bridge(
     let mut derivation = Vec::new();
     let working_peak_v = barrier.peak_v();
     let (subclass_bridges, mut subclass_allowed, mut series_accepted) = capacitor_fit(
-        &rules.insulation.capacitors,
+        rules.table::<crate::rules::CapacitorSubclasses>(),
         r.subclass.as_deref(),
         r.count_in_series,
         barrier.grade,
@@ -127,17 +127,20 @@ fn bridge(
             )
         }
         PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
-            &rules.insulation.test_voltages,
+            rules.table::<crate::rules::TestVoltages>(),
             barrier.grade,
             working_peak_v,
             &mut derivation,
         ),
         _ => (None, None),
     };
-    let thermal_class_max_c = r
-        .thermal_class
-        .as_deref()
-        .and_then(|c| thermal_limit(&rules.insulation.thermal, c, &mut derivation));
+    let thermal_class_max_c = r.thermal_class.as_deref().and_then(|c| {
+        thermal_limit(
+            rules.table::<crate::rules::ThermalClasses>(),
+            c,
+            &mut derivation,
+        )
+    });
     BridgeResult {
         barrier: barrier.id.clone(),
         part: part.reference.clone(),
@@ -164,14 +167,12 @@ fn bridge(
         distance_through_insulation_mm: r.distance_through_insulation_mm,
         thin_layer_rated: r.thin_layer_rated,
         min_distance_through_insulation_mm: rules
-            .insulation
-            .solid
+            .table::<crate::rules::SolidInsulation>()
             .min_distance_through_insulation_mm,
         insulation_system: r.insulation_system.clone(),
         tape_layers: r.tape_layers,
         min_tape_layers: rules
-            .insulation
-            .solid
+            .table::<crate::rules::SolidInsulation>()
             .min_tape_layers
             .get(barrier.grade)
             .round() as u32,

@@ -258,8 +258,10 @@ fn creepage(
     reinforced: bool,
 ) -> Result<(Figure, &'static str, crate::project::MaterialGroup), OutOfTable> {
     let mut steps = Vec::new();
-    let (group, step) =
-        crate::spacing::material_group(&rules.insulation.material_groups, barrier.material)?;
+    let (group, step) = crate::spacing::material_group(
+        rules.table::<crate::rules::MaterialGroupTable>(),
+        barrier.material,
+    )?;
     steps.push(step);
     let pd = cond.pollution_degree.clamp(1, 3);
     let column = general_column(pd, group);

@@ -9,12 +9,10 @@ mod iec60601;
 mod iec60664;
 mod iec62368;
 
-use std::collections::BTreeMap;
-
 use serde::{Deserialize, Serialize};
 
 use crate::project::{Barrier, Grade};
-use crate::rules::{EPS, Typed};
+use crate::rules::{EPS, Validation};
 use crate::spacing::{BarrierResult, Conditions, Figure, OutOfTable, Step, show, tidy};
 
 /// The standard a design is judged against (`[design] standard`).
@@ -415,21 +413,14 @@ impl StandardTable {
     }
 }
 
-/// Every table of the end-product standards (one generic form under many ids), loaded
-/// together as one set of the rule book.
-impl crate::rules::TableSet for StandardRules {
-    fn load(typed: &mut Typed) -> Option<Self> {
-        Self::load_all(typed)
-    }
+/// The end-product standards' tables (one generic form under many ids), read from the
+/// rule book's store on first use.
+#[derive(Debug, Clone, Copy)]
+pub struct StandardRules<'a> {
+    store: &'a crate::rules::TableStore,
 }
 
-/// Every table of the end-product standards, by id.
-#[derive(Debug, Clone)]
-pub struct StandardRules {
-    pub tables: BTreeMap<String, StandardTable>,
-}
-
-impl StandardRules {
+impl<'a> StandardRules<'a> {
     /// The ids the methods read; each must be loaded (a house file may replace one).
     pub const IDS: &'static [&'static str] = &[
         iec62368::TABLE_10,
@@ -449,24 +440,22 @@ impl StandardRules {
         iec60335::TEST_VOLTAGES,
     ];
 
-    fn load_all(typed: &mut Typed) -> Option<StandardRules> {
-        let mut tables = BTreeMap::new();
-        let mut complete = true;
-        for id in Self::IDS {
-            match typed.get_by_id::<StandardTable>(id, StandardTable::check) {
-                Some(t) => {
-                    tables.insert(id.to_string(), t);
-                }
-                None => complete = false,
-            }
-        }
-        complete.then_some(StandardRules { tables })
+    pub(crate) fn new(store: &'a crate::rules::TableStore) -> Self {
+        StandardRules { store }
     }
 
-    fn table(&self, id: &str) -> Result<&StandardTable, OutOfTable> {
-        self.tables.get(id).ok_or_else(|| {
-            OutOfTable::new("rules", format!("no rule table with id \"{id}\" is loaded"))
-        })
+    /// When the rule book is loaded: every id is there, and a house table is read and
+    /// checked now.
+    pub(crate) fn require(tables: &mut Validation) {
+        for id in Self::IDS {
+            tables.require::<StandardTable>(id, StandardTable::check);
+        }
+    }
+
+    fn table(&self, id: &str) -> Result<&'a StandardTable, OutOfTable> {
+        self.store
+            .by_id::<StandardTable>(id, StandardTable::check)
+            .map_err(|d| OutOfTable::new("rules", d.message))
     }
 
     /// The standard each rule file belongs to, for `gapwarden rules`: the standards' own
@@ -594,7 +583,7 @@ pub fn evaluate(
     standard: Standard,
     barrier: &Barrier,
 ) -> Result<BarrierResult, Vec<OutOfTable>> {
-    let std_rules = &rules.standards;
+    let std_rules = &rules.standards();
     if barrier.means.is_some() && standard != Standard::Iec60601 {
         return Err(vec![OutOfTable::new(
             "grade",
