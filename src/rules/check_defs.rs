@@ -173,12 +173,26 @@ pub struct CheckSource<'a> {
     pub source: &'a Source,
     pub file: &'a str,
     pub origin: &'a str,
-    pub shipped: Option<(&'static str, &'static [usize])>,
+    pub shipped: Option<&'static [super::shipped::ShippedCheck]>,
 }
 
-#[derive(Deserialize)]
-struct ShippedCheckFile {
-    check: Vec<RawCheck>,
+/// A shipped entry as a raw check; its conditions are the only JSON left to read.
+fn from_shipped(c: &super::shipped::ShippedCheck) -> Result<RawCheck, serde_json::Error> {
+    let text = |t: Option<&str>| t.map(str::to_string);
+    let json = |t: Option<&str>| t.map(serde_json::from_str).transpose();
+    Ok(RawCheck {
+        id: c.id.to_string(),
+        overrides: c.overrides,
+        title: text(c.title),
+        severity: text(c.severity),
+        over: text(c.over),
+        applies: json(c.applies)?,
+        condition: json(c.condition)?,
+        subject: text(c.subject),
+        message: text(c.message),
+        rationale: text(c.rationale),
+        source: text(c.source),
+    })
 }
 
 /// A retired check id and why it went; no check may take it again.
@@ -239,12 +253,12 @@ pub fn load_checks(
     {
         // Each check with the line its [[check]] header stands on.
         let entries: Vec<(RawCheck, usize)> = match shipped {
-            Some((json, lines)) => match serde_json::from_str::<ShippedCheckFile>(json) {
-                Ok(f) => f
-                    .check
-                    .into_iter()
-                    .zip(lines.iter().copied().chain(std::iter::repeat(0)))
-                    .collect(),
+            Some(shipped) => match shipped
+                .iter()
+                .map(|c| from_shipped(c).map(|raw| (raw, c.line)))
+                .collect::<Result<Vec<_>, _>>()
+            {
+                Ok(entries) => entries,
                 Err(e) => {
                     problems.push(Diagnostic::new(&source.name, e.to_string()));
                     continue;

@@ -37,17 +37,38 @@ pub(crate) mod shipped {
         /// Path inside `rules/`.
         pub name: &'static str,
         pub text: &'static str,
-        /// The same content as JSON, read much faster than TOML.
+        /// The same content as JSON, read much faster than TOML (empty for a check file,
+        /// whose entries are in `checks`).
         pub json: &'static str,
         /// SHA-256 of `text`.
         pub sha256: &'static str,
         /// The line of each `[[check]]` header, in order.
         pub check_lines: &'static [usize],
+        /// A check file's entries, read by build.rs (nothing to parse at run time).
+        pub checks: &'static [ShippedCheck],
         pub id: &'static str,
         pub title: &'static str,
         pub source: &'static str,
         pub provenance: &'static str,
         pub is_checks: bool,
+    }
+
+    /// One `[[check]]` entry of a shipped check file as build.rs read it: the text fields
+    /// as written, the conditions as JSON (a quoted expression or a predicate table).
+    pub struct ShippedCheck {
+        pub id: &'static str,
+        pub overrides: bool,
+        pub title: Option<&'static str>,
+        pub severity: Option<&'static str>,
+        pub over: Option<&'static str>,
+        pub applies: Option<&'static str>,
+        pub condition: Option<&'static str>,
+        pub subject: Option<&'static str>,
+        pub message: Option<&'static str>,
+        pub rationale: Option<&'static str>,
+        pub source: Option<&'static str>,
+        /// The line of its `[[check]]` header.
+        pub line: usize,
     }
 
     include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
@@ -285,7 +306,7 @@ impl RuleBook {
                 source: &l.source,
                 file: l.file.as_str(),
                 origin: l.origin,
-                shipped: l.shipped.map(|s| (s.json, s.check_lines)),
+                shipped: l.shipped.map(|s| s.checks),
             })
             .collect();
         // Retired check ids: the shipped list, plus any a house file retires itself.
