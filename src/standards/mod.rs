@@ -149,6 +149,55 @@ pub fn two_mopp_capacitor(
     Some(accepted)
 }
 
+/// Basic-rated capacitors in series across double or reinforced insulation (two Y2, say)
+/// under a named end-product standard. The published sources carried (rules/SOURCES.md,
+/// "Safety capacitors") say that two Y2 in series is community practice under IEC 60950-1,
+/// not universal, and that the end-product standard's electric strength test decides (under
+/// IEC 60601-1 two Y2 do not withstand the 4000 V a.c. test of 2 MOPP). What they give of a
+/// Y2 is its impulse test (5 kV, IEC 60384-14, confirmed against maker data sheets), which
+/// is not that electric strength test; no rule of IEC 62368-1, IEC 60335-1 or IEC 60601-1
+/// on capacitors in series is carried. So acceptance cannot be proven here: `true` (the
+/// lab's test decides, a warning) with a step naming the standard and the barrier's test
+/// voltage. `false` under the IEC 60664-1 basics (the IEC 60950-1 practice stands, with a
+/// note) or where the series rule did not accept the string (`series_accepted`).
+pub fn series_capacitors_test_decides(
+    barrier: &crate::spacing::BarrierResult,
+    series_accepted: bool,
+    subclass: Option<(&str, f64, &str)>,
+    count_in_series: u32,
+    steps: &mut Vec<Step>,
+) -> bool {
+    if !series_accepted || barrier.standard == Standard::Iec60664.as_str() {
+        return false;
+    }
+    let test = match (barrier.test_v_rms, barrier.test_v_dc) {
+        (Some(rms), Some(dc)) => format!(
+            "{} V rms a.c. or {} V peak or d.c. ({})",
+            show(rms),
+            show(dc),
+            barrier.test_v_basis
+        ),
+        _ => format!("not computed here ({})", barrier.test_v_basis),
+    };
+    let impulse = subclass
+        .map(|(name, v, source)| {
+            format!(
+                " A {name} is impulse-tested at {} V peak ({source}); an impulse test is not the electric strength test, and no a.c. or d.c. withstand figure of a {name} is carried.",
+                show(v)
+            )
+        })
+        .unwrap_or_default();
+    steps.push(Step::new(
+        None,
+        format!(
+            "{}: the common practice is not proof under this standard; {count_in_series} basic-rated capacitors in series across {} insulation are accepted only where the string withstands the barrier's electric strength test, {test}.{impulse} The sources carried do not prove it (two Y2 in series is community practice under IEC 60950-1, not universal: rules/SOURCES.md \"Safety capacitors\"), so the lab's electric strength test decides: a warning, not a pass.",
+            barrier.standard_title,
+            barrier.means_of_protection.unwrap_or(barrier.grade.as_str()),
+        ),
+    ));
+    true
+}
+
 /// The words a barrier's `grade` may take: the means of protection (accepted only under
 /// IEC 60601-1), then the insulation grades.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]

@@ -449,6 +449,146 @@ fn iec60601_two_y2_across_2_mopp_are_blocking_and_two_y1_accepted() {
     );
 }
 
+/// Two Y2 in series across reinforced or double insulation: the finding, the bridge entry
+/// and the readiness of a check on `text`.
+fn two_y2(name: &str, text: &str) -> (serde_json::Value, serde_json::Value, serde_json::Value) {
+    let (o, report) = check_text(name, text);
+    // Not blocking: a design that was ready before stays ready (a warning does not change
+    // readiness); the string was never proven wrong, only not proven right.
+    assert_exit(&o, 0);
+    assert!(
+        blocking_ids(&report).is_empty(),
+        "{:?}",
+        blocking_ids(&report)
+    );
+    let find = |id: &str| {
+        report["findings"]
+            .as_array()
+            .expect("findings")
+            .iter()
+            .find(|f| f["id"] == id && f["subject"] == "CY1")
+            .cloned()
+            .unwrap_or(serde_json::Value::Null)
+    };
+    let warning = find("part.y_series_test_decides");
+    assert_eq!(warning["severity"], "warning", "{:#}", report["findings"]);
+    // The IEC 60950-1 practice's note does not speak under a named end-product standard.
+    assert!(find("part.y_series_accepted").is_null());
+    let bridge = report["bridges"]
+        .as_array()
+        .expect("bridges")
+        .iter()
+        .find(|b| b["part"] == "CY1")
+        .cloned()
+        .expect("CY1 bridges a barrier");
+    assert_eq!(bridge["series_test_decides"], true);
+    assert_eq!(bridge["subclass_allowed"], true, "not blocking");
+    (warning, bridge, report)
+}
+
+#[track_caller]
+fn message_has(finding: &serde_json::Value, parts: &[&str]) {
+    let message = finding["message"].as_str().unwrap_or("");
+    for part in parts {
+        assert!(message.contains(part), "{part} missing from: {message}");
+    }
+}
+
+#[test]
+fn iec62368_two_y2_across_reinforced_are_left_to_the_electric_strength_test() {
+    // The Class II example (IEC 62368-1, 230 V mains, overvoltage category II) with two Y2 in
+    // series across its reinforced pri-sec barrier instead of one Y1.
+    let text = std::fs::read_to_string(root().join("examples/class2-adapter.toml"))
+        .expect("the example")
+        .replacen(
+            "subclass = \"Y1\"",
+            "subclass = \"Y2\"\ncount_in_series = 2",
+            1,
+        );
+    let (warning, bridge, _) = two_y2("y2-62368.toml", &text);
+    // The barrier's test: IEC 62368-1 Table 25, reinforced at a required withstand voltage
+    // of 2500 V (the 230 V, category II mains transient: the IEC 60664-1 Table F.1 series,
+    // confirmed [N20]) -> 4000 V peak (one source; a CB report tests reinforced barriers at
+    // 4000 V d.c.); Table 27, mains up to 250 V, reinforced 4000 V (one source): the highest
+    // is 4000 V peak or d.c.; as a.c. 4000 / sqrt(2) = 2828.4 V, rounded up to 2829 V rms.
+    let peak = 4000.0_f64;
+    let rms = (peak / 2f64.sqrt()).ceil();
+    assert_eq!(rms, 2829.0);
+    assert_eq!(bridge["barrier_test_v_dc"], peak);
+    assert_eq!(bridge["barrier_test_v_rms"], rms);
+    assert_eq!(bridge["standard"], "iec62368-1");
+    message_has(
+        &warning,
+        &[
+            "iec62368-1",
+            "4000 V peak",
+            "2829 V rms",
+            "electric strength test",
+            "lab",
+        ],
+    );
+    // The explanation of the part names the Y2 impulse test (5 kV, IEC 60384-14, confirmed
+    // against maker data sheets) as not being that test.
+    let steps = bridge["derivation"].to_string();
+    assert!(
+        steps.contains("5000 V peak") && steps.contains("not the electric strength test"),
+        "{steps}"
+    );
+
+    // The same string under the IEC 60664-1 basics keeps the IEC 60950-1 practice's note
+    // (two Y2 in series: community practice under IEC 60950-1, rules/SOURCES.md "Safety
+    // capacitors") and raises no warning.
+    let basics = text.replacen("standard = \"iec62368-1\"", "standard = \"iec60664-1\"", 1);
+    let (o, report) = check_text("y2-basics.toml", &basics);
+    assert_exit(&o, 0);
+    let ids: Vec<&str> = report["findings"]
+        .as_array()
+        .expect("findings")
+        .iter()
+        .filter_map(|f| f["id"].as_str())
+        .collect();
+    assert!(ids.contains(&"part.y_series_accepted"), "{ids:?}");
+    assert!(!ids.contains(&"part.y_series_test_decides"), "{ids:?}");
+}
+
+#[test]
+fn iec60335_two_y2_across_reinforced_are_left_to_the_electric_strength_test() {
+    // The two-Y2 fixture (reinforced, 250 V rms, 230 V mains) judged under IEC 60335-1.
+    let text = std::fs::read_to_string(
+        root().join("tests/fixtures/part-y2-series-across-reinforced.toml"),
+    )
+    .expect("the fixture")
+    .replacen(
+        "protection_class = \"II\"",
+        "protection_class = \"II\"\nstandard = \"iec60335-1\"",
+        1,
+    );
+    let (warning, bridge, _) = two_y2("y2-60335.toml", &text);
+    // IEC 60335-1 clause 16.3 Table 7, reinforced insulation, rated voltage above 150 V up
+    // to 250 V: 3000 V a.c. (from memory of IEC 60335-1; verify against a licensed copy);
+    // its peak 3000 x sqrt(2) = 4242.64 V.
+    assert_eq!(bridge["barrier_test_v_rms"], 3000.0);
+    let peak = bridge["barrier_test_v_dc"].as_f64().expect("a peak figure");
+    assert!((peak - 3000.0 * 2f64.sqrt()).abs() < 1e-3, "{peak}");
+    message_has(
+        &warning,
+        &["iec60335-1", "3000 V rms", "electric strength test", "lab"],
+    );
+}
+
+#[test]
+fn iec60601_two_y2_across_2_moop_are_left_to_the_electric_strength_test() {
+    // The medical example with its pri-sec barrier as 2 MOOP and two Y2 in series: the
+    // [SLP] rule (two Y1 across 2 MOPP) does not reach 2 MOOP, whose test is 3000 V a.c. at
+    // 250 V rms ([SLP], one source); whether two Y2 withstand it is the lab's test.
+    let text = medical()
+        .replacen("grade = \"2-mopp\"", "grade = \"2-moop\"", 1)
+        .replacen("subclass = \"Y1\"", "subclass = \"Y2\"", 1);
+    let (warning, bridge, _) = two_y2("y2-moop.toml", &text);
+    assert_eq!(bridge["barrier_test_v_rms"], 3000.0);
+    message_has(&warning, &["iec60601-1", "2-moop", "3000 V rms", "lab"]);
+}
+
 #[test]
 fn iec60601_touch_current_limits_follow_the_design_standard() {
     // IEC 60601-1 touch current 100 uA in normal condition (one source: makers' service
