@@ -132,6 +132,12 @@ impl Area for Insulation {
             for d in [&b.derivation.clearance, &b.derivation.creepage] {
                 items.push(ExplainItem::new(&d.id, d.title.to_lowercase()));
             }
+            // The test voltage the report shows beside the distances (`test_v_rms`,
+            // `test_v_dc`), or why there is none.
+            items.push(ExplainItem::new(
+                format!("{}.electric_strength", b.id),
+                format!("{}: electric strength test voltage", b.id),
+            ));
         }
         if report.isolation.is_some() {
             items.push(ExplainItem::new(

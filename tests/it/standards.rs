@@ -590,6 +590,52 @@ fn iec60601_two_y2_across_2_moop_are_left_to_the_electric_strength_test() {
 }
 
 #[test]
+fn explain_lists_and_shows_each_barriers_electric_strength_test() {
+    // An unknown item lists every item: each barrier's electric strength test among them.
+    let o = run(&["explain", "examples/class2-adapter.toml", "no-such-item"]);
+    assert_exit(&o, 2);
+    let err = stderr(&o);
+    for barrier in ["pri-sec", "input-output", "input-bulk"] {
+        assert!(
+            err.contains(&format!("{barrier}.electric_strength")),
+            "{barrier}.electric_strength missing from: {err}"
+        );
+    }
+    let o = run(&[
+        "explain",
+        "examples/class2-adapter.toml",
+        "pri-sec.electric_strength",
+    ]);
+    assert_exit(&o, 0);
+    let text = stdout(&o);
+    // IEC 62368-1, reinforced, 230 V mains, category II: Table 25 at the 2500 V withstand
+    // voltage -> 4000 V peak (one source), Table 27 mains up to 250 V -> 4000 V (one
+    // source); a.c. 4000 / sqrt(2) = 2828.4, rounded up to 2829 V rms.
+    let rms = (4000.0_f64 / 2f64.sqrt()).ceil();
+    assert!(
+        text.starts_with("pri-sec.electric_strength:")
+            && text.contains(&format!("{rms} V rms"))
+            && text.contains("4000 V peak or d.c.")
+            && text.contains("Table 26 not carried"),
+        "{text}"
+    );
+    // Only the test, not the distances.
+    assert!(!text.contains("pri-sec.clearance"), "{text}");
+    // Functional insulation: no test applies, and the item says why.
+    let o = run(&[
+        "explain",
+        "examples/class2-adapter.toml",
+        "input-bulk.electric_strength",
+    ]);
+    assert_exit(&o, 0);
+    assert!(
+        stdout(&o).contains("no electric strength test applies"),
+        "{}",
+        stdout(&o)
+    );
+}
+
+#[test]
 fn iec60601_touch_current_limits_follow_the_design_standard() {
     // IEC 60601-1 touch current 100 uA in normal condition (one source: makers' service
     // manuals), judged on the Class II example's accessible output.
