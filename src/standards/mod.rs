@@ -852,6 +852,154 @@ fn general_column(pollution_degree: u8, group: crate::project::MaterialGroup) ->
     }
 }
 
+/// The column of a mains-transient table (IEC 62368-1 Table 12, IEC 60335-1 Table 15) for
+/// the project's overvoltage category.
+fn overvoltage_column(category: crate::project::OvervoltageCategory) -> &'static str {
+    use crate::project::OvervoltageCategory as C;
+    match category {
+        C::I => "ovc_i",
+        C::II => "ovc_ii",
+        C::III => "ovc_iii",
+        C::IV => "ovc_iv",
+    }
+}
+
+/// `basic` times the table's `reinforced_factor` constant, with a step citing it.
+fn times_reinforced_factor(
+    table: &StandardTable,
+    basic: f64,
+    steps: &mut Vec<Step>,
+) -> Result<f64, OutOfTable> {
+    let (factor, why) = table.constant("reinforced_factor")?;
+    let mm = tidy(basic * factor);
+    steps.push(Step::new(
+        Some(&table.id),
+        format!(
+            "Reinforced insulation: {} × {} = {} mm ({why}).",
+            show(basic),
+            show(factor),
+            show(mm)
+        ),
+    ));
+    Ok(mm)
+}
+
+/// What a standard says about its creepage table where the project asks for something the
+/// table is not carried for.
+struct CreepageNotes {
+    /// On a printed board: the table's general columns are used.
+    printed_board: &'static str,
+    /// With `creepage_between_rows = "interpolate"`, where the standard's table is read at
+    /// the next higher row instead (None: said nowhere).
+    interpolate: Option<&'static str>,
+}
+
+/// Creepage from a standard's creepage table by working voltage (IEC 62368-1 Table 17,
+/// IEC 60335-1 Table 17): material group, the general column for the pollution degree,
+/// the basic figure, and reinforced by the table's factor.
+fn table_creepage(
+    t: &StandardRules,
+    table_id: &str,
+    notes: &CreepageNotes,
+    rules: &crate::rules::RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    reinforced: bool,
+) -> Result<(Figure, &'static str, crate::project::MaterialGroup), OutOfTable> {
+    let table = t.table(table_id)?;
+    let mut steps = Vec::new();
+    let (group, step) =
+        crate::spacing::material_group(&rules.insulation.material_groups, barrier.material)?;
+    steps.push(step);
+    let column = general_column(cond.pollution_degree.clamp(1, 3), group);
+    if barrier.printed_board {
+        steps.push(Step::new(None, notes.printed_board));
+    }
+    if let Some(note) = notes.interpolate
+        && cond.creepage_between_rows == crate::project::BetweenRows::Interpolate
+    {
+        steps.push(Step::new(None, note));
+    }
+    let basic = table.read(
+        barrier.working_rms_v,
+        column,
+        "working_rms_v",
+        "Basic creepage",
+    )?;
+    steps.push(basic.step);
+    let mm = if reinforced {
+        times_reinforced_factor(table, basic.value, &mut steps)?
+    } else {
+        basic.value
+    };
+    Ok((Figure { mm, steps }, column, group))
+}
+
+/// The method IEC 62368-1 and IEC 60335-1 share once their own clearance is found: the
+/// creepage from the standard's creepage table (`creepage`: the rules, the table's id and
+/// its notes), both refusals at once, then `finish`. Returns the figures with the fields
+/// the clearance method sets left empty (the caller fills them), and what the clearance
+/// method returned beside its figure.
+fn with_table_creepage<C>(
+    creepage: (&StandardRules, &str, &CreepageNotes),
+    rules: &crate::rules::RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    clearance: Result<(Figure, C), OutOfTable>,
+) -> Result<(Dimensioned, C), Vec<OutOfTable>> {
+    let (t, table_id, notes) = creepage;
+    let reinforced = barrier.grade == Grade::Reinforced;
+    let ((mut clearance, found), (mut creepage, column, group)) = both(
+        clearance,
+        table_creepage(t, table_id, notes, rules, cond, barrier, reinforced),
+    )?;
+    let (creepage_governed_by, double_parts) = finish(&mut clearance, &mut creepage, barrier.grade);
+    Ok((
+        Dimensioned {
+            clearance,
+            creepage,
+            method: "",
+            clearance_governed_by: "",
+            creepage_governed_by,
+            rated_impulse_v: None,
+            clearance_impulse_v: None,
+            altitude_factor: 1.0,
+            creepage_column: column.to_string(),
+            material_group: Some(group.as_str()),
+            double_parts,
+            transient_clearance_mm: None,
+            steady_state_clearance_mm: None,
+            steady_state_peak_v: None,
+        },
+        found,
+    ))
+}
+
+/// After a standard's tables: creepage never below the clearance, double insulation as
+/// basic plus supplementary, and each figure's last step. Returns what governs the creepage
+/// ("creepage-table" or "clearance") and the double insulation's parts.
+fn finish(
+    clearance: &mut Figure,
+    creepage: &mut Figure,
+    grade: Grade,
+) -> (&'static str, Option<crate::spacing::DoubleParts>) {
+    let creepage_governed_by = if at_least_clearance(creepage, clearance.mm) {
+        "clearance"
+    } else {
+        "creepage-table"
+    };
+    let double_parts = (grade == Grade::Double).then(|| double_up(clearance, creepage));
+    let label = figure_label(grade);
+    for (figure, what) in [(clearance, "clearance"), (creepage, "creepage")] {
+        let mm = figure.mm;
+        figure.steps.push(Step::new(
+            None,
+            format!("Required {what} ({label}): {} mm.", show(mm)),
+        ));
+    }
+    (creepage_governed_by, double_parts)
+}
+
 /// The altitude above which a standard whose tables hold to 2000 m carries no factor.
 fn refuse_above_2000_m(standard: Standard, cond: &Conditions) -> Result<(), OutOfTable> {
     if cond.altitude_m > 2000.0 + EPS {
