@@ -2,12 +2,16 @@
 //! one trait each implements. The rule book, the report's assembly and `explain` go over
 //! [`AREAS`] instead of keeping their own lists of tables, sections and items.
 //!
-//! To add an area: a module that owns its checked input types, a `table_set!` set of
-//! its tables, its calculations returning [`crate::derivation::Derivation`]s, and an
-//! `impl Area`; then a field for its rules in `RuleBook`, one for its section in
-//! [`Sections`] (and the report), and an entry in [`AREAS`]. Its checks are TOML in
+//! To add an area: a module that owns its raw and checked input types and their reader, a
+//! `table_set!` set of its tables, its calculations returning
+//! [`crate::derivation::Derivation`]s, and an `impl Area`; then a field for its table in
+//! `RawProject`, one for its checked input in [`AreaInputs`] and `Project`, one for its rules
+//! in `RuleBook`, one for its section in [`Sections`] (and the report), and an entry in
+//! [`AREAS`]. Its checks are TOML in
 //! `rules/checks/`, with finding ids grouped by area (DESIGN.md: `barrier.*`, `isolation.*`
 //! and `part.*` for insulation, `power_entry.*`, `emc.*`).
+
+use std::collections::BTreeMap;
 
 use crate::derivation::Suspicious;
 use crate::diag::{Problems, Source};
@@ -16,7 +20,9 @@ use crate::insulation::isolation::IsolationReport;
 use crate::insulation::parts::BridgeResult;
 use crate::insulation::spacing::BarrierResult;
 use crate::power_entry::PowerEntryReport;
-use crate::project::Project;
+use crate::project::RawProject;
+use crate::project::{Barrier, BoardSpec, Circuit, Design, Environment, Mains, Part, Project};
+use crate::raw::{Reader, Span, TableAt};
 use crate::report::Report;
 use crate::rules::{RuleBook, Typed};
 
@@ -32,6 +38,85 @@ impl ExplainItem {
         ExplainItem {
             id: id.into(),
             shows: shows.into(),
+        }
+    }
+}
+
+/// The project file as it is being validated: the one pass's [`Reader`] (every problem of
+/// every area goes there), the raw file, what the project-wide tables (`[design]`,
+/// `[environment]`, `[mains]`) left to say, and each area's checked input as it is read.
+pub struct ProjectPart<'a, 's> {
+    pub r: Reader<'s>,
+    /// The file's top level, for `r.table(&part.root, key!(part.raw.name))`.
+    pub root: TableAt,
+    pub raw: &'a RawProject,
+    /// Every default applied, in words for the report.
+    pub assumptions: Vec<String>,
+    /// Where the project-wide keys were written (`mains.nominal_v`, ...).
+    pub key_spans: BTreeMap<String, Span>,
+    /// Tables present in the file that this version reads but does not evaluate.
+    pub not_evaluated: Vec<String>,
+    /// Each area's checked part, filled by its [`Area::read`].
+    pub inputs: AreaInputs,
+}
+
+/// Each area's checked part of the project, as the project file is being read (each area
+/// fills its own; [`ProjectPart::into_project`] moves them into the [`Project`]).
+#[derive(Debug, Default)]
+pub struct AreaInputs {
+    pub circuits: Vec<Circuit>,
+    pub barriers: Vec<Barrier>,
+    pub parts: Vec<Part>,
+    pub board: Option<BoardSpec>,
+    pub input: Option<crate::power_entry::InputSpec>,
+    pub converter: Option<crate::power_entry::ConverterSpec>,
+    pub emc: Option<crate::emc::EmcSpec>,
+}
+
+impl<'a, 's> ProjectPart<'a, 's> {
+    pub fn new(r: Reader<'s>, root: TableAt, raw: &'a RawProject) -> Self {
+        ProjectPart {
+            r,
+            root,
+            raw,
+            assumptions: Vec::new(),
+            key_spans: BTreeMap::new(),
+            not_evaluated: Vec::new(),
+            inputs: AreaInputs::default(),
+        }
+    }
+
+    /// The checked project, once every area has read its part without a problem.
+    pub fn into_project(
+        mut self,
+        design: Design,
+        environment: Environment,
+        mains: Mains,
+    ) -> Project {
+        let AreaInputs {
+            circuits,
+            barriers,
+            parts,
+            board,
+            input,
+            converter,
+            emc,
+        } = self.inputs;
+        Project {
+            design,
+            environment,
+            mains,
+            circuits,
+            barriers,
+            parts,
+            assumptions: self.assumptions,
+            warnings: std::mem::take(&mut self.r.warnings),
+            input,
+            converter,
+            emc,
+            board,
+            not_evaluated: self.not_evaluated,
+            key_spans: self.key_spans,
         }
     }
 }
@@ -83,14 +168,21 @@ pub struct Evaluation<'a> {
     pub sections: Sections,
 }
 
-/// An area of evaluation. The project file is read and validated as a whole (every
-/// problem in one pass) before any area runs; an area then takes its part of the checked
-/// project, and an area whose tables are absent writes no section (its JSON section is
-/// null and its `*.not_evaluated` note appears).
+/// An area of evaluation. Each area reads and validates its own part of the project file
+/// ([`Area::read`]), all in one pass that reports every problem of the file before any area
+/// runs; an area then takes its part of the checked project, and an area whose tables are
+/// absent writes no section (its JSON section is null and its `*.not_evaluated` note
+/// appears).
 pub trait Area: Sync {
     /// `insulation`, `power_entry`, `emc`. Power entry's and EMC's explain items start
     /// with it; insulation's are the barrier ids, `isolation`, `bridges` and part refs.
     fn name(&self) -> &'static str;
+
+    /// Reads and validates the area's tables of the raw project (`part.raw`) into its field
+    /// of `part.inputs`, through `part.r`: every problem is recorded there with its
+    /// position and key (none stops the reading), and a table with a problem is left out.
+    /// Called for each area in [`AREAS`] order, after the project-wide tables.
+    fn read(&self, part: &mut ProjectPart);
 
     /// Whether the project describes this area (its part of the project is present).
     fn described(&self, project: &Project) -> bool;
@@ -116,6 +208,13 @@ pub static AREAS: &[&dyn Area] = &[
     &crate::power_entry::PowerEntry,
     &crate::emc::Emc,
 ];
+
+/// Every area reads its part of the project file, in [`AREAS`] order.
+pub fn read_all(part: &mut ProjectPart) {
+    for area in AREAS {
+        area.read(part);
+    }
+}
 
 /// Runs every area over a checked project.
 pub fn evaluate_all(

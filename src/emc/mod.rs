@@ -15,13 +15,13 @@ pub mod rules;
 use crate::rules::Table as _;
 use serde::Serialize;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
 use crate::derivation::{Derivation, Suspicious, steps_only};
 use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
 use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
-use crate::raw::{Reader, Span, TableAt};
+use crate::raw::Span;
 use crate::report::Report;
 use crate::rules::{RuleBook, Typed};
 use crate::spacing::show;
@@ -327,22 +327,18 @@ pub struct EmcReport {
     pub derivation: EmcDerivation,
 }
 
-/// Reads `[emc]`; a table present is read in full (nothing is left unevaluated).
-pub fn read(
-    r: &mut Reader,
-    root: &TableAt,
-    raw_root: &crate::project::RawProject,
-    _not_evaluated: &mut Vec<String>,
-) -> Option<EmcSpec> {
-    read::read_emc(r, root, raw_root)
-}
-
 /// The EMC area: `[emc]`.
 pub struct Emc;
 
 impl Area for Emc {
     fn name(&self) -> &'static str {
         "emc"
+    }
+
+    /// `[emc]` with its `[[emc.prescan]]` points and `[emc.filter]`; a table present is read
+    /// in full (nothing is left unevaluated).
+    fn read(&self, part: &mut ProjectPart) {
+        part.inputs.emc = read::read_emc(&mut part.r, &part.root, part.raw);
     }
 
     fn described(&self, project: &Project) -> bool {

@@ -1,15 +1,16 @@
 //! The insulation area: each barrier's required clearance and creepage (`spacing`), the
 //! weakest isolation path to each accessible circuit (`isolation`), the parts that bridge
 //! a barrier against what it needs (`parts`), their rule tables (`tables`) and their
-//! `explain` items. It reads `[environment]`, `[mains]`, `[board]`, `[[circuit]]`,
-//! `[[barrier]]` and `[[part]]` of the checked project.
+//! `explain` items. It reads `[[circuit]]`, `[[barrier]]`, `[[part]]` and `[board]` of the
+//! project file (`read`), and takes `[environment]` and `[mains]` from the checked project.
 
 pub mod isolation;
 pub mod parts;
+mod read;
 pub mod spacing;
 pub mod tables;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
 use crate::derivation::{Step, Suspicious};
 use crate::diag::{Diagnostic, Problems};
 use crate::project::Project;
@@ -19,6 +20,8 @@ use isolation::IsolationReport;
 use parts::BridgeResult;
 use spacing::{BarrierResult, Conditions, show};
 use tables::*;
+
+pub use read::{RawBarrier, RawBoard, RawCircuit, RawPart};
 
 crate::table_set! {
     /// The insulation area's rule tables. The electric strength test voltages are read by
@@ -59,6 +62,12 @@ pub fn conditions(project: &Project) -> Conditions {
 impl Area for Insulation {
     fn name(&self) -> &'static str {
         "insulation"
+    }
+
+    /// `[[circuit]]`, `[[part]]`, `[[barrier]]` (whose references to circuits and parts
+    /// are checked against the ids declared) and `[board]`.
+    fn read(&self, part: &mut ProjectPart) {
+        read::read_part(part);
     }
 
     /// Barriers are the core of every project: always evaluated (none declared is a

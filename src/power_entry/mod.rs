@@ -12,10 +12,10 @@ pub mod tables;
 
 use serde::Serialize;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules};
+use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
 use crate::diag::{Problems, Source};
 use crate::project::Project;
-use crate::raw::{Located, Reader, TableAt};
+use crate::raw::Located;
 use crate::report::Report;
 use crate::rules::{RuleBook, Typed};
 use crate::spacing::{BarrierResult, Step, show};
@@ -401,17 +401,6 @@ pub struct PowerEntryReport {
     pub sections: Vec<Section>,
 }
 
-/// Reads `[input]` and `[converter]` with full validation; problems go to `r`. Both
-/// tables are evaluated, so nothing is added to `not_evaluated`.
-pub fn read(
-    r: &mut Reader,
-    root: &TableAt,
-    raw_root: &crate::project::RawProject,
-    _not_evaluated: &mut Vec<String>,
-) -> (Option<InputSpec>, Option<ConverterSpec>) {
-    read::read_tables(r, root, raw_root)
-}
-
 /// The power-entry figures; `None` when the project has no `[input]`.
 pub fn evaluate(
     project: &Project,
@@ -428,6 +417,14 @@ pub struct PowerEntry;
 impl Area for PowerEntry {
     fn name(&self) -> &'static str {
         "power_entry"
+    }
+
+    /// `[input]` (with `[input.limiter]` and `[input.fuse]`) and `[converter]`, with full
+    /// validation. Both tables are evaluated, so nothing is added to `not_evaluated`.
+    fn read(&self, part: &mut ProjectPart) {
+        let (input, converter) = read::read_tables(&mut part.r, &part.root, part.raw);
+        part.inputs.input = input;
+        part.inputs.converter = converter;
     }
 
     fn described(&self, project: &Project) -> bool {

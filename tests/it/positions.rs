@@ -300,3 +300,127 @@ fn a_date_where_a_table_belongs_is_reported_at_its_line_and_key() {
     assert_eq!(d.key.as_deref(), Some("design"), "{d}");
     assert_eq!(d.message, "expected a table, found datetime");
 }
+
+/// An invented project with a problem in the project-wide tables and in each area's part:
+/// insulation (`[board]`, `[[circuit]]`, `[[barrier]]`), power entry (`[input]`,
+/// `[converter]`) and EMC (`[[emc.prescan]]`, `[emc.filter]`).
+const EVERY_AREA: &str = r#"[design]
+name = "Every area"
+protection_class = "II"
+
+[environment]
+pollution_degree = 5
+
+[mains]
+nominal_v = 230
+
+[board]
+files = []
+thickness_mm = 1.6
+
+[[circuit]]
+id = "primary"
+kind = "mains"
+
+[[circuit]]
+id = "output"
+kind = "saef"
+accessible = true
+
+[[barrier]]
+id = "pri-sec"
+between = ["primary", "outptu"]
+grade = "reinforced"
+working_rms_v = 250
+
+[input]
+bulk_capacitance_uf = "47"
+series_resistance_ohm = 0.5
+
+[converter]
+output_w = 24
+efficiency = 1.5
+min_bulk_v = 70
+switching_hz = 65000
+max_duty = 0.45
+
+[emc]
+limit_class = "B"
+margin_db = 6
+
+[[emc.prescan]]
+frequency_hz = 195000
+level_dbuv = 90
+detectr = "quasi-peak"
+
+[emc.filter]
+damping_resistance_ohm = 47
+"#;
+
+/// Line and column (from 1) of the first `needle` after `anchor` in `text`: where the test's
+/// own text has the value at fault (the text is ASCII, so a byte is a column).
+fn written_at(text: &str, anchor: &str, needle: &str) -> (usize, usize) {
+    let from = text.find(anchor).expect("the anchor is in the text");
+    let at = from
+        + text[from..]
+            .find(needle)
+            .expect("the needle is in the text");
+    let line_start = text[..at].rfind('\n').map_or(0, |i| i + 1);
+    (text[..at].matches('\n').count() + 1, at - line_start + 1)
+}
+
+#[test]
+fn every_area_reads_its_own_part_and_all_their_problems_come_in_one_pass() {
+    use gapwarden::diag::Source;
+    let Err(problems) = gapwarden::project::read_project(&Source::new("p.toml", EVERY_AREA)) else {
+        panic!("the project was accepted");
+    };
+    // (key, the line the value stands under, the value): each problem at the value at fault,
+    // a missing key at the first key of its table, an unknown key at itself.
+    let expected = [
+        ("environment.pollution_degree", "[environment]", "5"),
+        ("board.files", "[board]", "[]"),
+        ("circuit[2].kind", "id = \"output\"", "\"saef\""),
+        ("barrier[1].between", "[[barrier]]", "\"outptu\""),
+        ("input.bulk_capacitance_uf", "[input]", "\"47\""),
+        ("converter.efficiency", "[converter]", "1.5"),
+        ("emc.prescan[1].detector", "[[emc.prescan]]", "frequency_hz"),
+        ("emc.prescan[1].detectr", "[[emc.prescan]]", "detectr"),
+        ("emc.filter.damping_resistance_ohm", "[emc.filter]", "47"),
+    ];
+    let want: Vec<(Option<usize>, Option<usize>, Option<&str>)> = expected
+        .iter()
+        .map(|(key, anchor, needle)| {
+            let (line, column) = written_at(EVERY_AREA, anchor, needle);
+            (Some(line), Some(column), Some(*key))
+        })
+        .collect();
+    let got: Vec<(Option<usize>, Option<usize>, Option<&str>)> = problems
+        .0
+        .iter()
+        .map(|d| (d.line, d.column, d.key.as_deref()))
+        .collect();
+    // Every area's problems, none lost to another's, in file order and nothing else.
+    assert_eq!(got, want, "{problems}");
+    let help = |key: &str| {
+        problems
+            .0
+            .iter()
+            .find(|d| d.key.as_deref() == Some(key))
+            .and_then(|d| d.help.clone())
+    };
+    // The id of a circuit with a problem of its own (circuit[2]'s kind) is still declared:
+    // a misspelt reference to it from a barrier suggests it.
+    assert_eq!(
+        help("barrier[1].between").as_deref(),
+        Some("did you mean \"output\"?")
+    );
+    assert_eq!(
+        help("emc.prescan[1].detectr").as_deref(),
+        Some("did you mean `detector`?")
+    );
+    assert_eq!(
+        help("circuit[2].kind").as_deref(),
+        Some("did you mean \"safe\"?")
+    );
+}
