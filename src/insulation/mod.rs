@@ -390,6 +390,29 @@ fn explain_isolation(out: &mut String, iso: &IsolationReport) {
                 .unwrap_or_default()
         ));
     }
+    explain_means(out, iso);
+}
+
+/// IEC 60601-1: the means of protection counted toward each applied part and accessible
+/// circuit, for `explain isolation`.
+pub fn explain_means(out: &mut String, iso: &IsolationReport) {
+    if let Some(means) = &iso.means {
+        out.push_str(&format!(
+            "means of protection (IEC 60601-1), {} circuit(s) reached from the mains: an applied part needs 2 MOPP, another accessible circuit 2 MOOP or 1 MOOP plus protective earth; a MOPP counts as a MOOP too\n",
+            means.len()
+        ));
+        for m in means {
+            out.push_str(&format!(
+                "  {} -> {}{}: {}; provides {}, needs {}\n",
+                m.mains,
+                m.circuit,
+                if m.applied_part { " (applied part)" } else { "" },
+                m.description,
+                m.provides_words,
+                m.needs_words
+            ));
+        }
+    }
 }
 
 fn explain_bridge(out: &mut String, b: &BridgeResult) {

@@ -418,6 +418,19 @@ const CASES: &[Case] = &[
         also: &[],
     },
     Case {
+        id: "isolation.means_short",
+        base: MEDICAL,
+        // IEC 60601-1 (issue 13's rule; rules/SOURCES.md "IEC 60601-1"): the applied part
+        // `output` needs 2 MOPP from the mains. Through ac-input -[functional]- primary
+        // -[pri-sec]- output, a 2 MOOP pri-sec gives 0 MOPP (operator means do not count
+        // toward a patient) and is short; as 2 MOPP it gives 2. Both grades count as
+        // reinforced for the protection class, so isolation.insufficient stays quiet.
+        common: &[],
+        raise: &[Set("barrier[pri-sec].grade", "\"2-moop\"")],
+        clear: &[Set("barrier[pri-sec].grade", "\"2-mopp\"")],
+        also: &[],
+    },
+    Case {
         id: "isolation.relies_on_earth",
         base: CLASS1,
         common: &[],
