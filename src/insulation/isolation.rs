@@ -485,8 +485,11 @@ fn means_paths(project: &Project, graph: &Graph) -> Vec<MeansPath> {
     } else {
         vec![None; circuits.len()]
     };
-    let barriers: HashMap<&str, &crate::project::Barrier> =
-        project.barriers.iter().map(|b| (b.id.as_str(), b)).collect();
+    let barriers: HashMap<&str, &crate::project::Barrier> = project
+        .barriers
+        .iter()
+        .map(|b| (b.id.as_str(), b))
+        .collect();
     let mut out = Vec::new();
     for (a, c) in circuits.iter().enumerate() {
         if c.kind == CircuitKind::Mains || !(c.applied_part || c.accessible) {

@@ -406,7 +406,11 @@ pub fn explain_means(out: &mut String, iso: &IsolationReport) {
                 "  {} -> {}{}: {}; provides {}, needs {}\n",
                 m.mains,
                 m.circuit,
-                if m.applied_part { " (applied part)" } else { "" },
+                if m.applied_part {
+                    " (applied part)"
+                } else {
+                    ""
+                },
                 m.description,
                 m.provides_words,
                 m.needs_words

@@ -4,7 +4,7 @@
 //! never read from `rules/`; the refusals; and the physical invariants per standard.
 
 use crate::common;
-use common::{assert_exit, query, root, run, stderr, stdout};
+use common::{assert_exit, describe, query, root, run, stderr, stdout};
 
 use gapwarden::commands::{SpacingQuery, spacing_under};
 use gapwarden::project::{Grade, MaterialGroup};
@@ -581,7 +581,10 @@ fn iec60601_two_y2_across_2_moop_are_left_to_the_electric_strength_test() {
     // The medical example with its pri-sec barrier as 2 MOOP and two Y2 in series: the
     // [SLP] rule (two Y1 across 2 MOPP) does not reach 2 MOOP, whose test is 3000 V a.c. at
     // 250 V rms ([SLP], one source); whether two Y2 withstand it is the lab's test.
+    // The output is then no applied part (2 MOOP toward a patient would be short of MOPP:
+    // isolation.means_short, pinned by iec60601_an_applied_part_needs_2_mopp_from_the_mains).
     let text = medical()
+        .replacen("applied_part = true", "applied_part = false", 1)
         .replacen("grade = \"2-mopp\"", "grade = \"2-moop\"", 1)
         .replacen("subclass = \"Y1\"", "subclass = \"Y2\"", 1);
     let (warning, bridge, _) = two_y2("y2-moop.toml", &text);
@@ -632,6 +635,236 @@ fn explain_lists_and_shows_each_barriers_electric_strength_test() {
         stdout(&o).contains("no electric strength test applies"),
         "{}",
         stdout(&o)
+    );
+}
+
+// ---------------------------------------------------------------------------------------
+// IEC 60601-1: means of protection counted along the isolation paths
+// ---------------------------------------------------------------------------------------
+
+/// The `isolation.means` entry for `circuit`.
+fn means_to(report: &serde_json::Value, circuit: &str) -> serde_json::Value {
+    report["isolation"]["means"]
+        .as_array()
+        .unwrap_or_else(|| panic!("no isolation.means: {:#}", report["isolation"]))
+        .iter()
+        .find(|m| m["circuit"] == circuit)
+        .cloned()
+        .unwrap_or_else(|| panic!("no means entry for {circuit}: {:#}", report["isolation"]))
+}
+
+fn finding_ids(report: &serde_json::Value) -> Vec<String> {
+    report["findings"]
+        .as_array()
+        .expect("findings")
+        .iter()
+        .map(|f| format!("{} ({})", f["id"].as_str().unwrap_or(""), f["subject"]))
+        .collect()
+}
+
+#[test]
+fn iec60601_an_applied_part_needs_2_mopp_from_the_mains() {
+    // Issue 13, from memory of IEC 60601-1 (rules/SOURCES.md "IEC 60601-1": means of
+    // protection for operators and patients, each counted once or twice): an applied part
+    // needs 2 MOPP from the mains; only means of patient protection count toward it.
+    // The medical example: output is an applied part; both paths from the mains circuit
+    // ac-input (directly across input-output, 2 MOPP; through the functional input-bulk and
+    // pri-sec, 2 MOPP) give 2 MOPP.
+    let (o, report) = check_text("means-2mopp.toml", &medical());
+    assert_exit(&o, 0);
+    let m = means_to(&report, "output");
+    assert_eq!(m["mains"], "ac-input");
+    assert_eq!(m["applied_part"], true);
+    assert_eq!(m["counts"], "mopp");
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(2), Some(2))
+    );
+    assert_eq!(report["circuits"][2]["applied_part"], true);
+
+    // pri-sec as 2 MOOP: operator means do not count toward a patient, so the path through
+    // the functional input-bulk (0) and pri-sec (0 MOPP) gives 0 MOPP: blocking. For the
+    // protection class 2 MOOP is reinforced insulation, so only the new check speaks.
+    let moop = medical().replacen("grade = \"2-mopp\"", "grade = \"2-moop\"", 1);
+    let (o, report) = check_text("means-2moop.toml", &moop);
+    assert_exit(&o, 1);
+    let m = means_to(&report, "output");
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(0), Some(2))
+    );
+    assert_eq!(
+        m["description"],
+        "ac-input -[input-bulk: functional]- primary -[pri-sec: 2-moop]- output"
+    );
+    assert_eq!(
+        blocking_ids(&report),
+        ["isolation.means_short (\"output\")"]
+    );
+    let f = report["findings"]
+        .as_array()
+        .expect("findings")
+        .iter()
+        .find(|f| f["id"] == "isolation.means_short")
+        .expect("the finding");
+    let message = f["message"].as_str().unwrap_or("");
+    assert!(
+        message.contains("applied part output")
+            && message.contains("0 MOPP")
+            && message.contains("2 MOPP"),
+        "{message}"
+    );
+
+    // pri-sec as 1 MOPP: 1 of the 2 MOPP needed.
+    let one = medical().replacen("grade = \"2-mopp\"", "grade = \"1-mopp\"", 1);
+    let (o, report) = check_text("means-1mopp.toml", &one);
+    assert_exit(&o, 1);
+    let m = means_to(&report, "output");
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(1), Some(2))
+    );
+    assert!(
+        blocking_ids(&report).contains(&"isolation.means_short (\"output\")".to_string()),
+        "{:?}",
+        blocking_ids(&report)
+    );
+}
+
+/// A mains circuit and one accessible circuit, one barrier between them graded `grade`,
+/// under IEC 60601-1 at 250 V rms on 230 V mains (the row the MOOP figures carry: [SLP]).
+fn one_barrier(class: &str, grade: &str, earthed: bool, applied_part: bool) -> String {
+    format!(
+        r#"[design]
+name = "Means test"
+revision = "A"
+protection_class = "{class}"
+standard = "iec60601-1"
+
+[environment]
+pollution_degree = 2
+overvoltage_category = "II"
+altitude_m = 2000
+
+[mains]
+nominal_v = 230
+max_v = 264
+min_v = 90
+frequency_hz = 50
+
+[[circuit]]
+id = "mains"
+kind = "mains"
+accessible = false
+earthed = false
+
+[[circuit]]
+id = "enclosure"
+kind = "safe"
+accessible = true
+earthed = {earthed}
+applied_part = {applied_part}
+
+[[barrier]]
+id = "mains-enclosure"
+between = ["mains", "enclosure"]
+grade = "{grade}"
+working_rms_v = 250
+material_group = "IIIa"
+clearance_mm = 10
+creepage_mm = 20
+"#
+    )
+}
+
+#[test]
+fn iec60601_an_accessible_circuit_needs_2_moop_or_1_moop_and_protective_earth() {
+    // Issue 13, from memory of IEC 60601-1 (rules/SOURCES.md "IEC 60601-1"): an accessible
+    // enclosure needs 2 MOOP, or 1 MOOP plus protective earth; a MOPP counts as a MOOP.
+    // Distances are generous (10 mm, 20 mm: above the 2 MOPP 5 mm / 8 mm of [SLP]) so that
+    // only the counting is judged.
+    let judge = |name: &str, text: String| {
+        let (o, report) = check_text(name, &text);
+        let m = means_to(&report, "enclosure");
+        (o, report, m)
+    };
+    // Class II, 2 MOOP: enough.
+    let (o, _, m) = judge("moop2.toml", one_barrier("II", "2-moop", false, false));
+    assert_exit(&o, 0);
+    assert_eq!(m["counts"], "moop");
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(2), Some(2))
+    );
+    // Class II, 1 MOOP: short.
+    let (o, report, m) = judge("moop1.toml", one_barrier("II", "1-moop", false, false));
+    assert_exit(&o, 1);
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(1), Some(2))
+    );
+    assert!(
+        finding_ids(&report).contains(&"isolation.means_short (\"enclosure\")".to_string()),
+        "{:?}",
+        finding_ids(&report)
+    );
+    // Class I with the enclosure at protective earth, 1 MOOP: enough (1 MOOP plus earth).
+    let (o, report, m) = judge("moop1-pe.toml", one_barrier("I", "1-moop", true, false));
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(1), Some(1))
+    );
+    assert_eq!(m["earth"], "enclosure");
+    assert!(
+        !finding_ids(&report)
+            .iter()
+            .any(|f| f.starts_with("isolation.means_short")),
+        "{:?}",
+        finding_ids(&report)
+    );
+    assert!(blocking_ids(&report).is_empty(), "{}", describe(&o));
+    // A MOPP counts as a MOOP: 2 MOPP to an accessible (not applied) enclosure is 2 MOOP.
+    let (o, _, m) = judge(
+        "mopp-as-moop.toml",
+        one_barrier("II", "2-mopp", false, false),
+    );
+    assert_exit(&o, 0);
+    assert_eq!(m["counts"], "moop");
+    assert_eq!(m["provides"].as_u64(), Some(2));
+    // Not the other way round: 2 MOOP to an applied part is 0 MOPP.
+    let (o, _, m) = judge(
+        "moop-to-patient.toml",
+        one_barrier("II", "2-moop", false, true),
+    );
+    assert_exit(&o, 1);
+    assert_eq!(m["counts"], "mopp");
+    assert_eq!(
+        (m["provides"].as_u64(), m["needs"].as_u64()),
+        (Some(0), Some(2))
+    );
+}
+
+#[test]
+fn applied_part_changes_nothing_under_the_other_standards() {
+    // The Class II example under IEC 62368-1 with its output marked as an applied part: the
+    // same findings, barriers and exit status; no means are counted.
+    let text =
+        std::fs::read_to_string(root().join("examples/class2-adapter.toml")).expect("the example");
+    let marked = text.replacen("kind = \"safe\"", "kind = \"safe\"\napplied_part = true", 1);
+    assert_ne!(marked, text);
+    let (o1, plain) = check_text("plain.toml", &text);
+    let (o2, applied) = check_text("applied.toml", &marked);
+    assert_eq!(o1.status.code(), o2.status.code());
+    assert_eq!(finding_ids(&plain), finding_ids(&applied));
+    assert_eq!(plain["barriers"], applied["barriers"]);
+    assert_eq!(plain["isolation"]["pairs"], applied["isolation"]["pairs"]);
+    assert!(applied["isolation"]["means"].is_null());
+    assert!(
+        applied["circuits"]
+            .as_array()
+            .expect("circuits")
+            .iter()
+            .any(|c| c["applied_part"] == true)
     );
 }
 
