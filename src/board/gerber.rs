@@ -1,9 +1,14 @@
 //! Reads one Gerber X2 file (RS-274X with attributes) into the objects it draws, in file
 //! order, in millimetres: each with its polarity, its net (`.N`) and its outline as thick
 //! segments or polygon rings. Our own small reader: every refusal names the file and line,
-//! and anything it does not interpret is refused rather than guessed.
+//! and anything it does not interpret is refused rather than guessed. Written from memory
+//! of the Gerber Layer Format Specification (Ucamco, revision 2023.08); aperture macros are
+//! in `macros`, aperture blocks here.
+
+mod macros;
 
 use std::collections::BTreeMap;
+use std::rc::Rc;
 
 use super::geometry::{self as g, P, Seg};
 use crate::diag::Diagnostic;
@@ -101,12 +106,24 @@ pub struct Image {
     pub outline_segments: Vec<(P, P, usize)>,
 }
 
-#[derive(Debug, Clone, Copy)]
+/// A defined aperture. `Macro`: an aperture macro instantiated with its parameters, its
+/// shapes at the origin in mm. `Block`: an aperture block's objects at the origin, with their
+/// polarity relative to the flash (dark = the flash's own polarity).
+#[derive(Debug, Clone)]
 enum Aperture {
     Circle { d: f64 },
     Rect { w: f64, h: f64 },
     Obround { w: f64, h: f64 },
     Polygon { d: f64, n: u32, rot_deg: f64 },
+    Macro(Rc<Vec<Shape>>),
+    Block(Rc<Vec<Object>>),
+}
+
+/// An aperture block being defined: its D code, the line of its `%AB`, its objects so far.
+struct OpenBlock {
+    code: u32,
+    line: usize,
+    objects: Vec<Object>,
 }
 
 #[derive(Clone, Copy, PartialEq)]
@@ -134,6 +151,9 @@ struct State<'a> {
     region: Option<Vec<Vec<P>>>,
     step_repeat: Option<(usize, u32, u32, f64, f64)>,
     seen_gerber: bool,
+    macros: BTreeMap<String, macros::Macro>,
+    /// Aperture blocks being defined, innermost last; objects go to the innermost.
+    blocks: Vec<OpenBlock>,
 }
 
 fn err(file: &str, line: usize, message: impl Into<String>) -> Diagnostic {
@@ -169,18 +189,20 @@ fn commands(text: &str) -> Vec<(usize, bool, String)> {
                 }
                 if c == '\n' {
                     line += 1;
-                    continue;
                 }
                 if c != '\r' {
                     body.push(c);
                 }
             }
-            // An extended command holds one or more blocks ended by `*` (a macro holds many).
-            let blocks: Vec<&str> = body.split('*').filter(|b| !b.trim().is_empty()).collect();
-            if blocks.first().is_some_and(|b| b.starts_with("AM")) {
-                out.push((start, true, body.clone()));
+            // An extended command holds one or more blocks ended by `*` (a macro holds many,
+            // and keeps its line breaks so that each of its blocks is named by its line).
+            if body.trim_start().starts_with("AM") {
+                let lead = body.len() - body.trim_start().len();
+                let skipped = body[..lead].matches('\n').count();
+                out.push((start + skipped, true, body.trim_start().to_string()));
             } else {
-                for b in blocks {
+                let flat: String = body.chars().filter(|c| *c != '\n').collect();
+                for b in flat.split('*').filter(|b| !b.trim().is_empty()) {
                     out.push((start, true, b.trim().to_string()));
                 }
             }
@@ -224,6 +246,8 @@ pub fn read(name: &str, text: &str) -> Result<Image, Diagnostic> {
         region: None,
         step_repeat: None,
         seen_gerber: false,
+        macros: BTreeMap::new(),
+        blocks: Vec::new(),
     };
     let mut ended = false;
     for (line, extended, cmd) in commands(text) {
@@ -248,6 +272,16 @@ pub fn read(name: &str, text: &str) -> Result<Image, Diagnostic> {
             name,
             text.lines().count().max(1),
             "a region (G36) is never closed by G37",
+        ));
+    }
+    if let Some(open) = st.blocks.last() {
+        return Err(err(
+            name,
+            open.line,
+            format!(
+                "the aperture block D{} opened here (%ABD{}*%) is never closed by %AB*%",
+                open.code, open.code
+            ),
         ));
     }
     if st.step_repeat.is_some() {
@@ -360,21 +394,20 @@ impl State<'_> {
             }
             "AD" => self.aperture(line, &cmd[2..])?,
             "AM" => {
-                return Err(err(
-                    file,
-                    line,
-                    "aperture macros (%AM...%) are not interpreted by this version; write the \
-                     files with standard apertures (round, rectangular, obround, polygon) or \
-                     convert the macro pads to regions",
-                ));
+                let m = macros::parse(file, line, cmd)?;
+                if let Some(first) = self.macros.get(&m.name) {
+                    return Err(err(
+                        file,
+                        line,
+                        format!(
+                            "aperture macro {} is defined a second time (first at line {})",
+                            m.name, first.line
+                        ),
+                    ));
+                }
+                self.macros.insert(m.name.clone(), m);
             }
-            "AB" => {
-                return Err(err(
-                    file,
-                    line,
-                    "aperture blocks (%AB...%) are not interpreted by this version",
-                ));
-            }
+            "AB" => self.aperture_block(line, cmd[2..].trim())?,
             "LP" => {
                 self.dark = match &cmd[2..] {
                     "D" => true,
@@ -405,6 +438,17 @@ impl State<'_> {
                 }
             }
             "SR" => {
+                if let Some(open) = self.blocks.last() {
+                    return Err(err(
+                        file,
+                        line,
+                        format!(
+                            "step and repeat (%SR) inside the aperture block D{} (opened at line \
+                             {}) is not valid Gerber: close the block first",
+                            open.code, open.line
+                        ),
+                    ));
+                }
                 if self.step_repeat.is_some() {
                     self.close_step_repeat();
                 }
@@ -514,6 +558,7 @@ impl State<'_> {
                 .collect::<Result<_, _>>()?
         };
         let need = |n: usize| -> Result<(), Diagnostic> {
+            // Only the standard apertures come here: a macro's parameters may be negative.
             if p.len() < n || p.iter().any(|v| *v < 0.0) {
                 Err(err(
                     file,
@@ -560,14 +605,18 @@ impl State<'_> {
                 }
             }
             other => {
-                return Err(err(
-                    file,
-                    line,
-                    format!(
-                        "aperture D{code} uses the macro \"{other}\": aperture macros are not \
-                         interpreted by this version"
-                    ),
-                ));
+                let Some(m) = self.macros.get(other) else {
+                    return Err(err(
+                        file,
+                        line,
+                        format!(
+                            "aperture D{code} uses the template \"{other}\", which is neither a \
+                             standard aperture (C, R, O, P) nor a macro defined before it (%AM{other}*...%)"
+                        ),
+                    ));
+                };
+                let to_mm = self.mm(1.0);
+                Aperture::Macro(Rc::new(m.instantiate(file, line, code, &p, to_mm)?))
             }
         };
         self.apertures.insert(code, ap);
@@ -732,7 +781,7 @@ impl State<'_> {
 
     fn current_aperture(&self, line: usize) -> Result<Aperture, Diagnostic> {
         self.current
-            .and_then(|c| self.apertures.get(&c).copied())
+            .and_then(|c| self.apertures.get(&c).cloned())
             .ok_or_else(|| {
                 err(
                     self.file,
@@ -743,14 +792,84 @@ impl State<'_> {
     }
 
     fn push(&mut self, line: usize, shape: Shape, width_mm: Option<f64>, drawn: bool) {
-        self.objects.push(Object {
+        let o = Object {
             dark: self.dark,
             net: self.net.clone(),
             shape,
             width_mm,
             drawn,
             line,
+        };
+        match self.blocks.last_mut() {
+            Some(open) => open.objects.push(o),
+            None => self.objects.push(o),
+        }
+    }
+
+    /// `%ABDnn*%` opens a block, `%AB*%` closes the innermost one (blocks nest). Between them
+    /// the commands draw as anywhere else, but into the block, which becomes aperture Dnn.
+    fn aperture_block(&mut self, line: usize, rest: &str) -> Result<(), Diagnostic> {
+        let file = self.file;
+        if rest.is_empty() {
+            let Some(open) = self.blocks.pop() else {
+                return Err(err(
+                    file,
+                    line,
+                    "%AB*% closes an aperture block, but none is open",
+                ));
+            };
+            if self.region.is_some() {
+                return Err(err(
+                    file,
+                    line,
+                    format!(
+                        "the aperture block D{} (opened at line {}) is closed inside a region \
+                         (G36 without G37)",
+                        open.code, open.line
+                    ),
+                ));
+            }
+            self.apertures
+                .insert(open.code, Aperture::Block(Rc::new(open.objects)));
+            return Ok(());
+        }
+        let code = rest
+            .strip_prefix('D')
+            .and_then(|d| d.parse::<u32>().ok())
+            .filter(|d| *d >= 10)
+            .ok_or_else(|| {
+                err(
+                    file,
+                    line,
+                    format!(
+                        "aperture block \"%AB{rest}*%\": expected a D code from D10, as in \
+                         %ABD12*%, or %AB*% to close the block"
+                    ),
+                )
+            })?;
+        if self.role.as_ref().is_some_and(|(r, _)| *r == Role::Profile) {
+            // The profile's draws become the outline where they are drawn, not where a
+            // block is flashed.
+            return Err(err(
+                file,
+                line,
+                "aperture blocks in the profile file are not interpreted: draw the board \
+                 outline with plain draws",
+            ));
+        }
+        if self.region.is_some() {
+            return Err(err(
+                file,
+                line,
+                "an aperture block (%AB) opened inside a region (G36) is not valid Gerber",
+            ));
+        }
+        self.blocks.push(OpenBlock {
+            code,
+            line,
+            objects: Vec::new(),
         });
+        Ok(())
     }
 
     fn draw(&mut self, line: usize, to: P, ij: P) -> Result<(), Diagnostic> {
@@ -912,6 +1031,49 @@ impl State<'_> {
                     Shape::Rings(vec![ring]),
                     d * (std::f64::consts::PI / n as f64).cos(),
                 )
+            }
+            Aperture::Macro(shapes) => {
+                let cut_out = self
+                    .role
+                    .as_ref()
+                    .is_some_and(|(r, _)| *r == Role::NonPlated);
+                if cut_out
+                    && shapes
+                        .iter()
+                        .any(|s| matches!(s, Shape::Rings(r) if r.len() > 1))
+                {
+                    // A cut-out is taken ring by ring; an island inside one would be lost.
+                    return Err(err(
+                        self.file,
+                        line,
+                        "a macro pad with a hole (exposure off inside it) flashed in a \
+                         non-plated drill or rout file is not interpreted: give the cut-out \
+                         as a region or a rout",
+                    ));
+                }
+                for s in shapes.iter() {
+                    // A circle keeps its diameter (a drill); other shapes' width is found
+                    // from their outline where it is needed.
+                    let width = match s {
+                        Shape::Segs(segs) if segs.len() == 1 => Some(2.0 * segs[0].r),
+                        _ => None,
+                    };
+                    self.push(line, s.translated(at), width, false);
+                }
+                return Ok(());
+            }
+            Aperture::Block(objects) => {
+                // Each object keeps its polarity when the block is flashed dark and takes the
+                // opposite when it is flashed clear; the net is the flash's (a flash is one
+                // object and carries the attributes in force when it is made).
+                let flash_dark = self.dark;
+                for o in objects.iter() {
+                    let shape = o.shape.translated(at);
+                    self.dark = o.dark == flash_dark;
+                    self.push(line, shape, o.width_mm, o.drawn);
+                }
+                self.dark = flash_dark;
+                return Ok(());
             }
         };
         self.push(line, shape, Some(width), false);

@@ -16,6 +16,7 @@ mod emc;
 mod explain_items;
 mod files;
 mod fuzz;
+mod gerber_macros;
 mod invariants;
 mod isolation_parts;
 mod output_snapshots;
