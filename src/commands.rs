@@ -737,6 +737,7 @@ pub fn explain_with_rules(
                     .unwrap_or_default()
             ));
         }
+        crate::insulation::explain_means(&mut out, iso);
         out.push_str(&iso.diagram);
         if !iso.diagram.ends_with('\n') {
             out.push('\n');

@@ -118,6 +118,12 @@ impl Area for Insulation {
             for d in [&b.derivation.clearance, &b.derivation.creepage] {
                 items.push(ExplainItem::new(&d.id, d.title.to_lowercase()));
             }
+            // The test voltage the report shows beside the distances (`test_v_rms`,
+            // `test_v_dc`), or why there is none.
+            items.push(ExplainItem::new(
+                format!("{}.electric_strength", b.id),
+                format!("{}: electric strength test voltage", b.id),
+            ));
         }
         if report.isolation.is_some() {
             items.push(ExplainItem::new(
@@ -360,6 +366,33 @@ fn explain_isolation(out: &mut String, iso: &IsolationReport) {
                 .map(|e| format!(" (protective earth through {e})"))
                 .unwrap_or_default()
         ));
+    }
+    explain_means(out, iso);
+}
+
+/// IEC 60601-1: the means of protection counted toward each applied part and accessible
+/// circuit, for `explain isolation`.
+pub fn explain_means(out: &mut String, iso: &IsolationReport) {
+    if let Some(means) = &iso.means {
+        out.push_str(&format!(
+            "means of protection (IEC 60601-1), {} circuit(s) reached from the mains: an applied part needs 2 MOPP, another accessible circuit 2 MOOP or 1 MOOP plus protective earth; a MOPP counts as a MOOP too\n",
+            means.len()
+        ));
+        for m in means {
+            out.push_str(&format!(
+                "  {} -> {}{}: {}; provides {}, needs {}\n",
+                m.mains,
+                m.circuit,
+                if m.applied_part {
+                    " (applied part)"
+                } else {
+                    ""
+                },
+                m.description,
+                m.provides_words,
+                m.needs_words
+            ));
+        }
     }
 }
 
