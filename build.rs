@@ -2,7 +2,9 @@
 //! the binary, so a new file needs no list kept by hand. Each rule file is also converted
 //! to JSON, hashed (SHA-256 of its text) and, for check files, the line of each `[[check]]`
 //! noted: a run then reads the shipped rules without parsing TOML or hashing again. A file
-//! that is not valid TOML fails the build.
+//! that is not valid TOML fails the build. It also lists every type that implements the
+//! rule book's `Table` trait (`impl Table for X` in `src/`), so that a new rule table is its
+//! file and its struct, and a house table of any type is read and checked at load.
 
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -47,8 +49,12 @@ fn rules(root: &Path) -> String {
             std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
         let value: toml::Value = toml::from_str(&text)
             .unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
-        let json =
-            serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+        // A check file is read from its `checks` entries; its JSON form would be unused.
+        let json = if value.get("check").is_some() {
+            String::new()
+        } else {
+            serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+        };
         let hash: String = Sha256::digest(text.as_bytes())
             .iter()
             .map(|b| format!("{b:02x}"))
@@ -72,6 +78,7 @@ fn rules(root: &Path) -> String {
                 _ => None,
             })
             .unwrap_or_default();
+        let checks = shipped_checks(&path, &value, &lines);
         let field = |key: &str| {
             value
                 .get(key)
@@ -81,12 +88,13 @@ fn rules(root: &Path) -> String {
         };
         let _ = writeln!(
             code,
-            "    ShippedRule {{ name: {:?}, text: include_str!({:?}), json: {:?}, sha256: {:?}, check_lines: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
+            "    ShippedRule {{ name: {:?}, text: include_str!({:?}), json: {:?}, sha256: {:?}, check_lines: &[{}], checks: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
             inside(root, &path),
             absolute(&path),
             json,
             hash,
             lines.join(", "),
+            checks,
             field("id"),
             field("title"),
             field("source"),
@@ -95,6 +103,85 @@ fn rules(root: &Path) -> String {
         );
     }
     code.push_str("];\n");
+    code
+}
+
+/// The keys a `[[check]]` entry may have (`RawCheck` in src/rules/check_defs.rs).
+const CHECK_KEYS: [&str; 11] = [
+    "id",
+    "overrides",
+    "title",
+    "severity",
+    "over",
+    "applies",
+    "condition",
+    "subject",
+    "message",
+    "rationale",
+    "source",
+];
+
+/// A check file's `[[check]]` entries as `ShippedCheck` literals: its text fields as they
+/// are, its conditions as JSON (a quoted expression or a predicate table), so that a run
+/// reads no check file. An unknown key or a value of the wrong kind fails the build.
+fn shipped_checks(path: &Path, value: &toml::Value, lines: &[String]) -> String {
+    let Some(entries) = value.get("check").and_then(toml::Value::as_array) else {
+        return String::new();
+    };
+    let mut code = String::new();
+    for (i, entry) in entries.iter().enumerate() {
+        let Some(table) = entry.as_table() else {
+            panic!("{}: check[{}] is not a table", path.display(), i + 1);
+        };
+        for key in table.keys() {
+            if !CHECK_KEYS.contains(&key.as_str()) {
+                panic!(
+                    "{}: check[{}] has an unknown key `{key}`",
+                    path.display(),
+                    i + 1
+                );
+            }
+        }
+        let text = |key: &str| match table.get(key) {
+            None => "None".to_string(),
+            Some(toml::Value::String(s)) => format!("Some({s:?})"),
+            Some(_) => panic!("{}: check[{}].{key} is not a string", path.display(), i + 1),
+        };
+        let json = |key: &str| match table.get(key) {
+            None => "None".to_string(),
+            Some(v) => format!(
+                "Some({:?})",
+                serde_json::to_string(v).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+            ),
+        };
+        let overrides = match table.get("overrides") {
+            None => false,
+            Some(toml::Value::Boolean(b)) => *b,
+            Some(_) => panic!(
+                "{}: check[{}].overrides is not true or false",
+                path.display(),
+                i + 1
+            ),
+        };
+        let id = match table.get("id") {
+            Some(toml::Value::String(s)) => s.clone(),
+            _ => panic!("{}: check[{}] has no id", path.display(), i + 1),
+        };
+        let _ = write!(
+            code,
+            "ShippedCheck {{ id: {id:?}, overrides: {overrides}, title: {}, severity: {}, over: {}, applies: {}, condition: {}, subject: {}, message: {}, rationale: {}, source: {}, line: {} }}, ",
+            text("title"),
+            text("severity"),
+            text("over"),
+            json("applies"),
+            json("condition"),
+            text("subject"),
+            text("message"),
+            text("rationale"),
+            text("source"),
+            lines.get(i).map(String::as_str).unwrap_or("0"),
+        );
+    }
     code
 }
 
@@ -114,6 +201,53 @@ fn templates(root: &Path) -> String {
     code
 }
 
+/// `crate::a::b` for `src/a/b.rs` (or `src/a/b/mod.rs`).
+fn module_path(src: &Path, path: &Path) -> String {
+    let inside = inside(src, path);
+    let inside = inside.strip_suffix(".rs").unwrap_or(&inside);
+    let inside = inside.strip_suffix("/mod").unwrap_or(inside);
+    if inside == "lib" || inside == "main" {
+        return "crate".to_string();
+    }
+    format!("crate::{}", inside.replace('/', "::"))
+}
+
+/// Every `impl Table for X` (the trait named as `Table` or by a path ending in it) at the
+/// start of a line, as `TableType::of::<path::X>("path::X")` entries.
+fn table_types(src: &Path) -> String {
+    let mut found = Vec::new();
+    files(src, "rs", &mut found);
+    let mut code = String::from("&[\n");
+    for path in found {
+        let Ok(text) = std::fs::read_to_string(&path) else {
+            continue;
+        };
+        for line in text.lines() {
+            let Some(rest) = line.strip_prefix("impl ") else {
+                continue;
+            };
+            let Some((trait_path, after)) = rest.split_once(" for ") else {
+                continue;
+            };
+            if trait_path != "Table" && !trait_path.ends_with("::Table") {
+                continue;
+            }
+            let name: String = after
+                .chars()
+                .take_while(|c| c.is_alphanumeric() || *c == '_')
+                .collect();
+            if name.is_empty() {
+                continue;
+            }
+            let full = format!("{}::{name}", module_path(src, &path));
+            let shown = full.strip_prefix("crate::").unwrap_or(&full);
+            let _ = writeln!(code, "    TableType::of::<{full}>({shown:?}),");
+        }
+    }
+    code.push(']');
+    code
+}
+
 fn main() {
     let manifest =
         PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_else(|_| ".".into()));
@@ -124,6 +258,7 @@ fn main() {
             "shipped_templates.rs",
             templates(&manifest.join("templates")),
         ),
+        ("table_types.rs", table_types(&manifest.join("src"))),
     ] {
         if let Err(e) = std::fs::write(out.join(file), code) {
             panic!("cannot write the embedded file list {file}: {e}");
@@ -131,4 +266,5 @@ fn main() {
     }
     println!("cargo:rerun-if-changed=rules");
     println!("cargo:rerun-if-changed=templates");
+    println!("cargo:rerun-if-changed=src");
 }

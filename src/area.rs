@@ -2,12 +2,12 @@
 //! one trait each implements. The rule book, the report's assembly and `explain` go over
 //! [`AREAS`] instead of keeping their own lists of tables, sections and items.
 //!
-//! To add an area: a module that owns its raw and checked input types and their reader, a
-//! `table_set!` set of its tables, its calculations returning
-//! [`crate::derivation::Derivation`]s, and an `impl Area`; then a field for its table in
-//! `RawProject`, one for its checked input in [`AreaInputs`] and `Project`, one for its rules
-//! in `RuleBook`, one for its section in [`Sections`] (and the report), and an entry in
-//! [`AREAS`]. Its checks are TOML in
+//! To add an area: a module that owns its raw and checked input types and their reader,
+//! its rule tables (each a struct implementing `rules::Table`, read with
+//! `rules.table::<T>()`), its calculations returning [`crate::derivation::Derivation`]s,
+//! and an `impl Area`; then a field for its table in `RawProject`, one for its checked
+//! input in [`AreaInputs`] and `Project`, one for its section in [`Sections`] (and the
+//! report), and an entry in [`AREAS`]. Its checks are TOML in
 //! `rules/checks/`, with finding ids grouped by area (DESIGN.md: `barrier.*`, `isolation.*`
 //! and `part.*` for insulation, `power_entry.*`, `emc.*`).
 
@@ -24,7 +24,7 @@ use crate::project::RawProject;
 use crate::project::{Barrier, BoardSpec, Circuit, Design, Environment, Mains, Part, Project};
 use crate::raw::{Reader, Span, TableAt};
 use crate::report::Report;
-use crate::rules::{RuleBook, Typed};
+use crate::rules::{RuleBook, Validation};
 
 /// An item `gapwarden explain` takes, with what it shows.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
@@ -121,28 +121,6 @@ impl<'a, 's> ProjectPart<'a, 's> {
     }
 }
 
-/// Each area's rule tables, as the rule book is being loaded (each area fills its own).
-#[derive(Default)]
-pub struct LoadedRules {
-    pub insulation: Option<crate::insulation::InsulationRules>,
-    pub power_entry: Option<crate::power_entry::PowerEntryRules>,
-    pub emc: Option<crate::emc::EmcRules>,
-    /// Loaded by the insulation area, which dimensions barriers by them.
-    pub standards: Option<crate::standards::StandardRules>,
-}
-
-impl LoadedRules {
-    /// Every area's tables, or `None` when any area's failed (its problems are recorded).
-    pub fn complete(self) -> Option<crate::rules::Tables> {
-        Some(crate::rules::Tables {
-            insulation: self.insulation?,
-            power_entry: self.power_entry?,
-            emc: self.emc?,
-            standards: self.standards?,
-        })
-    }
-}
-
 /// What the areas contribute to the report: each area writes its own section.
 #[derive(Debug, Clone, Default)]
 pub struct Sections {
@@ -187,9 +165,11 @@ pub trait Area: Sync {
     /// Whether the project describes this area (its part of the project is present).
     fn described(&self, project: &Project) -> bool;
 
-    /// Loads and checks the area's rule tables (`table_set!`'s `load`) into `into`;
-    /// every problem goes to `tables`.
-    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules);
+    /// Requires and checks, when the rule book is loaded, the area's tables that are not
+    /// `rules::Table` types (read under several ids into one type); every problem goes to
+    /// `tables`. Tables that implement `rules::Table` need nothing here: every one is
+    /// required, and a house one checked, by the rule book itself.
+    fn load_rules(&self, _tables: &mut Validation) {}
 
     /// Computes the area's figures, each with its derivation and settled verdict, and
     /// writes its section into `run.sections`. Inputs outside a table are problems.

@@ -615,7 +615,8 @@ pub fn apply(
 
     let index = Index::new(&board);
     let pd = project.environment.pollution_degree.clamp(1, 3);
-    let groove_width_mm = rules.insulation.grooves.min_width_mm[(pd - 1) as usize];
+    let groove_width_mm =
+        rules.table::<crate::rules::GrooveTable>().min_width_mm[(pd - 1) as usize];
     let files_text: Vec<String> = board
         .files
         .iter()
@@ -679,7 +680,7 @@ pub fn apply(
         creep.push_str(&format!(
             " Cut-outs at least X = {} mm wide (pollution degree {pd}, {}) are walked round ({} here), narrower ones crossed straight ({}).",
             show(groove_width_mm),
-            rules.insulation.grooves.source,
+            rules.table::<crate::rules::GrooveTable>().source,
             m.cutouts_walked_round,
             m.cutouts_bridged
         ));

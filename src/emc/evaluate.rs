@@ -9,7 +9,7 @@ use super::filter::{
 };
 use super::limits::{OutOfBand, frequency_words, limit_dbuv};
 use super::noise::{self, BulkCapacitor, CommonModePath, ConverterFigures, Harmonic, Network};
-use super::rules::{Detector, EmcRules, LimitClass, Parameter};
+use super::rules::{Detector, FilterModel, LimitClass, LimitTable, Parameter};
 use super::{
     Damping, DeclaredFilter, EmcDerivation, EmcReport, EmcSpec, LimitLineOut, Middlebrook,
     NoisePoint, PrescanDetector, YArrangement,
@@ -17,6 +17,7 @@ use super::{
 use crate::derivation::{Suspicious, Verdict};
 use crate::project::ProtectionClass;
 use crate::raw::Span;
+use crate::rules::RuleBook;
 use crate::spacing::{Step, round_up, show, tidy};
 
 /// Second-order filter slope, dB per decade.
@@ -144,14 +145,14 @@ impl Candidate {
 /// The limit a point is compared with: the named detector's, or for a peak reading or an
 /// estimate (which stand for both), the lower of the two.
 fn binding_limit(
-    rules: &EmcRules,
+    rules: &RuleBook,
     class: LimitClass,
     detectors: &[Detector],
     frequency_hz: f64,
 ) -> Result<(Detector, f64, Step), OutOfBand> {
     let mut best: Option<(Detector, f64, Step)> = None;
     for &d in detectors {
-        let (value, s) = limit_dbuv(&rules.limits, class, d, frequency_hz)?;
+        let (value, s) = limit_dbuv(rules.table::<LimitTable>(), class, d, frequency_hz)?;
         if best.as_ref().is_none_or(|b| value < b.1) {
             best = Some((d, value, s));
         }
@@ -315,9 +316,9 @@ struct MiddlebrookPhase {
 /// the declared filter, the points after the filter, Middlebrook's criterion, the limit
 /// lines, and the verdicts. Every frequency outside the limits' band is reported, not only
 /// the first.
-pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<InputProblem>> {
-    let model = &rules.model;
-    let band = rules.limits.band_hz();
+pub fn compute(inputs: &EmcInputs, rules: &RuleBook) -> Result<EmcReport, Vec<InputProblem>> {
+    let model = rules.table::<FilterModel>();
+    let band = rules.table::<LimitTable>().band_hz();
     let mut assumptions: Vec<String> = Vec::new();
     let mut d = EmcDerivation::default();
 
@@ -478,9 +479,9 @@ pub fn compute(inputs: &EmcInputs, rules: &EmcRules) -> Result<EmcReport, Vec<In
 }
 
 /// The limit class and margin (or their defaults) and the measuring network.
-fn settings(inputs: &EmcInputs, rules: &EmcRules, assumptions: &mut Vec<String>) -> Settings {
+fn settings(inputs: &EmcInputs, rules: &RuleBook, assumptions: &mut Vec<String>) -> Settings {
     let spec = &inputs.spec;
-    let model = &rules.model;
+    let model = rules.table::<FilterModel>();
     let class = spec.limit_class.unwrap_or_else(|| {
         assumptions.push(
             "Limit class B, the stricter (limit_class not stated in the emc table).".to_string(),
@@ -511,7 +512,7 @@ fn settings(inputs: &EmcInputs, rules: &EmcRules, assumptions: &mut Vec<String>)
 /// or nothing; each point with the limit it is compared with and the attenuation it needs.
 fn noise_to_beat(
     inputs: &EmcInputs,
-    rules: &EmcRules,
+    rules: &RuleBook,
     settings: &Settings,
     assumptions: &mut Vec<String>,
     steps: &mut Vec<Step>,
@@ -563,7 +564,7 @@ fn noise_to_beat(
 /// The prescan points, each held against both filter modes (their mode is not known).
 fn prescan_points(
     inputs: &EmcInputs,
-    rules: &EmcRules,
+    rules: &RuleBook,
     settings: &Settings,
     assumptions: &mut Vec<String>,
     steps: &mut Vec<Step>,
@@ -650,7 +651,7 @@ fn prescan_points(
 fn estimated_points(
     c: &ConverterFigures,
     inputs: &EmcInputs,
-    rules: &EmcRules,
+    rules: &RuleBook,
     settings: &Settings,
     assumptions: &mut Vec<String>,
     steps: &mut Vec<Step>,
@@ -658,9 +659,9 @@ fn estimated_points(
     problems: &mut Vec<InputProblem>,
 ) {
     let spec = &inputs.spec;
-    let model = &rules.model;
+    let model = rules.table::<FilterModel>();
     let model_id = model.id.as_str();
-    let band = rules.limits.band_hz();
+    let band = rules.table::<LimitTable>().band_hz();
     let (class, margin_db, network) = (settings.class, settings.margin_db, settings.network);
     let max_mains_v = inputs.max_mains_v;
     let Noise {
@@ -1137,14 +1138,14 @@ fn inductances(
 /// 40 dB/decade asymptote.
 fn after_filter<'a>(
     inputs: &'a EmcInputs,
-    rules: &EmcRules,
+    rules: &RuleBook,
     corners: &Corners,
     declared: Option<&DeclaredFilter>,
     declared_cm_nf: Option<f64>,
     margin_db: f64,
     steps: &mut Vec<Step>,
 ) -> AfterFilter<'a> {
-    let model = &rules.model;
+    let model = rules.table::<FilterModel>();
     let model_id = model.id.as_str();
     let f = &inputs.spec.filter;
     let (dm_corner_hz, cm_corner_hz) = (corners.dm_corner_hz, corners.cm_corner_hz);
@@ -1322,11 +1323,11 @@ fn report_points(noise: &Noise, corners: &Corners, after: &AfterFilter) -> Vec<N
 /// the filter sees the bulk capacitor's low impedance, not -V^2/P.
 fn middlebrook_phase(
     inputs: &EmcInputs,
-    rules: &EmcRules,
+    rules: &RuleBook,
     inductances: &Inductances,
     steps: &mut Vec<Step>,
 ) -> MiddlebrookPhase {
-    let model = &rules.model;
+    let model = rules.table::<FilterModel>();
     let model_id = model.id.as_str();
     let f = &inputs.spec.filter;
     let (x_capacitance_uf, dm_inductance_for_corner_uh) = (
@@ -1395,12 +1396,12 @@ fn middlebrook_phase(
 }
 
 /// The limit lines as polylines for the chart, and the limits' source.
-fn limit_lines(rules: &EmcRules, class: LimitClass, steps: &mut Vec<Step>) -> Vec<LimitLineOut> {
-    let limits_id = rules.limits.id.as_str();
+fn limit_lines(rules: &RuleBook, class: LimitClass, steps: &mut Vec<Step>) -> Vec<LimitLineOut> {
+    let limits_id = rules.table::<LimitTable>().id.as_str();
     let limit_lines: Vec<LimitLineOut> = [Detector::QuasiPeak, Detector::Average]
         .iter()
         .filter_map(|&det| {
-            rules.limits.line(class, det).map(|line| {
+            rules.table::<LimitTable>().line(class, det).map(|line| {
                 let mut vertices: Vec<[f64; 2]> = Vec::new();
                 for s in &line.segments {
                     vertices.push([s.from_hz, s.from_dbuv]);
@@ -1419,7 +1420,7 @@ fn limit_lines(rules: &EmcRules, class: LimitClass, steps: &mut Vec<Step>) -> Ve
         format!(
             "Class {} limits: quasi-peak and average lines from {}; between a segment's ends the limit runs linearly in log f.",
             class.as_str(),
-            rules.limits.source
+            rules.table::<LimitTable>().source
         ),
     ));
     limit_lines

@@ -15,7 +15,7 @@ pub mod rules;
 use crate::rules::Table as _;
 use serde::Serialize;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
+use crate::area::{Area, Evaluation, ExplainItem, ProjectPart};
 use crate::derivation::{Derivation, Suspicious, steps_only};
 use crate::diag::{Diagnostic, Problems, Source};
 use crate::power_entry::PowerEntryReport;
@@ -23,13 +23,13 @@ use crate::power_entry::TouchRules;
 use crate::project::{PartKind, Project, ProtectionClass};
 use crate::raw::Span;
 use crate::report::Report;
-use crate::rules::{RuleBook, Typed};
+use crate::rules::RuleBook;
 use crate::spacing::show;
 
 pub use evaluate::{EmcInputs, InputProblem, TouchLimit, compute};
 pub use noise::{BulkCapacitor, CommonModePath, ConverterFigures, Network};
 pub use read::{RawEmc, RawFilter, RawPrescan};
-pub use rules::{Detector, EmcRules, LimitClass};
+pub use rules::{Detector, LimitClass};
 
 /// The detector a prescan point was read with.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -345,10 +345,6 @@ impl Area for Emc {
         project.emc.is_some()
     }
 
-    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.emc = crate::rules::TableSet::load(tables);
-    }
-
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
         run.sections.emc = evaluate(
             run.project,
@@ -385,7 +381,7 @@ pub fn evaluate(
         return Ok(None);
     };
     let inputs = gather(project, rules, power_entry, spec);
-    compute(&inputs, &rules.emc).map(Some).map_err(|problems| {
+    compute(&inputs, rules).map(Some).map_err(|problems| {
         Problems(
             problems
                 .into_iter()
@@ -411,7 +407,7 @@ fn gather(
     spec: &EmcSpec,
 ) -> EmcInputs {
     let mut assumptions = Vec::new();
-    let mains_defaults = &rules.power_entry.mains;
+    let mains_defaults = rules.table::<crate::power_entry::tables::MainsDefaults>();
     let (max_mains_v, max_mains_frequency_hz) = match power_entry {
         // Power entry has settled the range (and listed its own defaults).
         Some(pe) => (pe.mains.max_v, pe.mains.max_frequency_hz),
@@ -448,7 +444,7 @@ fn gather(
         }
     };
 
-    let touch = &rules.power_entry.touch;
+    let touch = rules.table::<crate::power_entry::tables::TouchRules>();
     let named = project
         .input
         .as_ref()

@@ -242,13 +242,3 @@ impl Table for FilterModel {
         Ok(())
     }
 }
-
-crate::table_set! {
-    /// The rule tables the EMC evaluation reads. The touch-current limits and the mains
-    /// defaults are power entry's tables (`power-entry.touch-current`,
-    /// `power-entry.mains-defaults`), read through `RuleBook::power_entry`.
-    pub struct EmcRules {
-        pub limits: LimitTable,
-        pub model: FilterModel,
-    }
-}

@@ -94,6 +94,10 @@ pub struct IsolationReport {
     pub diagram_truncated: bool,
     /// The structure as data: every barrier as an edge between two circuit ids.
     pub structure: Vec<StructureEdge>,
+    /// Under IEC 60601-1: the means of protection counted along the weakest path from the
+    /// mains to each applied part (MOPP) and each other accessible circuit (MOOP); null
+    /// under the other standards.
+    pub means: Option<Vec<MeansPath>>,
 }
 
 /// The best known (level, barriers) to a circuit, with the barrier it was reached through
@@ -136,6 +140,17 @@ impl<'p> Graph<'p> {
     /// equally weak paths, the one with the fewest barriers. Circuits in `stop_at` that
     /// are not sources are reached but not passed through.
     fn weakest(&self, sources: &[usize], stop_at: &[bool]) -> Vec<Option<Reached>> {
+        self.weakest_by(sources, stop_at, |b| level_of(b.grade))
+    }
+
+    /// `weakest` with what one barrier adds to a path given by `adds` (an insulation level,
+    /// or a count of means of protection), capped at two.
+    fn weakest_by(
+        &self,
+        sources: &[usize],
+        stop_at: &[bool],
+        adds: impl Fn(&crate::project::Barrier) -> u8,
+    ) -> Vec<Option<Reached>> {
         let n = self.adjacent.len();
         let mut best: Vec<Option<Reached>> = vec![None; n];
         let mut is_source = vec![false; n];
@@ -160,7 +175,7 @@ impl<'p> Graph<'p> {
             let origin = best[node].map_or(node, |b| b.origin);
             for &(next, b) in &self.adjacent[node] {
                 let through = (
-                    (l + level_of(self.project.barriers[b].grade)).min(LEVEL_DOUBLE),
+                    (l + adds(&self.project.barriers[b])).min(LEVEL_DOUBLE),
                     hops + 1,
                 );
                 if best[next].is_none_or(|known| through < (known.level, known.hops)) {
@@ -403,7 +418,140 @@ pub fn analyse(project: &Project) -> IsolationReport {
                 grade: b.grade,
             })
             .collect(),
+        means: (project.design.standard == Some(crate::standards::Standard::Iec60601))
+            .then(|| means_paths(project, &graph)),
     }
+}
+
+/// IEC 60601-1: the means of protection along the weakest path from a mains circuit to a
+/// circuit a patient or an operator touches.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MeansPath {
+    /// The mains circuit the weakest path starts at.
+    pub mains: String,
+    /// The applied part or accessible circuit.
+    pub circuit: String,
+    pub applied_part: bool,
+    /// What is counted: "mopp" (toward an applied part) or "moop" (toward another
+    /// accessible circuit; a means of patient protection counts as one of operator
+    /// protection too).
+    pub counts: &'static str,
+    /// Means counted along the weakest path (two at most: more adds nothing asked for).
+    pub provides: u8,
+    /// Means needed: 2, or 1 toward an accessible circuit held at protective earth (Class I).
+    pub needs: u8,
+    /// The earthed circuit the protection relies on (1 MOOP plus protective earth).
+    pub earth: Option<String>,
+    pub path: PathInfo,
+    /// The path with each barrier's means of protection: `ac-input -[in-out: 2-mopp]- output`.
+    pub description: String,
+    /// What the path provides and what is needed, in words.
+    pub provides_words: String,
+    pub needs_words: String,
+}
+
+/// Means of patient protection a barrier adds to a path: only MOPP count.
+fn mopp_of(barrier: &crate::project::Barrier) -> u8 {
+    barrier
+        .means
+        .filter(|m| m.for_patient())
+        .map_or(0, crate::standards::Means::count)
+}
+
+/// Means of operator protection a barrier adds to a path: a MOPP counts as a MOOP too.
+fn moop_of(barrier: &crate::project::Barrier) -> u8 {
+    barrier.means.map_or(0, crate::standards::Means::count)
+}
+
+/// Counts the means of protection (IEC 60601-1) from every mains circuit at once: an
+/// applied part needs 2 MOPP; another accessible circuit 2 MOOP, or 1 MOOP where it is
+/// held at protective earth (Class I). A path through a circuit held at earth ends there for
+/// MOOP, as for the insulation levels; protective earth is not counted as a MOPP (the
+/// issue's rule; from memory of IEC 60601-1: verify). Circuits no mains circuit reaches
+/// through declared barriers are left to `isolation.no_barrier`; a mains circuit that is
+/// itself accessible to `isolation.insufficient`.
+fn means_paths(project: &Project, graph: &Graph) -> Vec<MeansPath> {
+    let circuits = &project.circuits;
+    let mains: Vec<usize> = (0..circuits.len())
+        .filter(|&i| circuits[i].kind == CircuitKind::Mains)
+        .collect();
+    let class_i = project.design.protection_class == ProtectionClass::I;
+    let earthed: Vec<bool> = circuits.iter().map(|c| class_i && c.earthed).collect();
+    let mopp = graph.weakest_by(&mains, &vec![false; circuits.len()], mopp_of);
+    let moop = graph.weakest_by(&mains, &earthed, moop_of);
+    let reached: Vec<bool> = moop.iter().map(Option::is_some).collect();
+    let nearest = if class_i {
+        graph.nearest_earthed(&earthed, &reached)
+    } else {
+        vec![None; circuits.len()]
+    };
+    let barriers: HashMap<&str, &crate::project::Barrier> = project
+        .barriers
+        .iter()
+        .map(|b| (b.id.as_str(), b))
+        .collect();
+    let mut out = Vec::new();
+    for (a, c) in circuits.iter().enumerate() {
+        if c.kind == CircuitKind::Mains || !(c.applied_part || c.accessible) {
+            continue;
+        }
+        let (best, counts, needs, earth) = if c.applied_part {
+            (&mopp, "mopp", LEVEL_DOUBLE, None)
+        } else if earthed[a] {
+            (&moop, "moop", 1, Some(a))
+        } else if moop[a].is_some() {
+            (&moop, "moop", LEVEL_DOUBLE, None)
+        } else {
+            // Reached only through a circuit held at earth: 1 MOOP to that circuit.
+            match nearest[a] {
+                Some(e) => (&moop, "moop", 1, Some(e)),
+                None => continue,
+            }
+        };
+        let target = earth.unwrap_or(a);
+        let Some(r) = best[target] else {
+            continue;
+        };
+        let word = if counts == "mopp" { "MOPP" } else { "MOOP" };
+        let path = graph.path_to(target, best);
+        let description = means_description(&barriers, &path);
+        out.push(MeansPath {
+            mains: circuits[r.origin].id.clone(),
+            circuit: c.id.clone(),
+            applied_part: c.applied_part,
+            counts,
+            provides: r.level,
+            needs,
+            earth: earth.map(|e| circuits[e].id.clone()),
+            path,
+            description,
+            provides_words: format!("{} {word}", r.level),
+            needs_words: match earth {
+                Some(e) => format!("1 {word} to {}, held at protective earth", circuits[e].id),
+                None => format!("{needs} {word}"),
+            },
+        });
+    }
+    out
+}
+
+/// A path in words with each barrier's means of protection (its grade where it has none).
+fn means_description(
+    barriers: &HashMap<&str, &crate::project::Barrier>,
+    path: &PathInfo,
+) -> String {
+    if path.omitted_barriers > 0 {
+        return path.description.clone();
+    }
+    let mut out = path.circuits.first().cloned().unwrap_or_default();
+    for (id, next) in path.barriers.iter().zip(path.circuits.iter().skip(1)) {
+        let word = barriers.get(id.as_str()).map_or("?", |b| {
+            b.means
+                .map_or(b.grade.as_str(), crate::standards::Means::as_str)
+        });
+        out.push_str(&format!(" -[{id}: {word}]- {next}"));
+    }
+    out
 }
 
 struct Judge<'g, 'p> {

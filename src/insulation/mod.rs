@@ -10,39 +10,17 @@ mod read;
 pub mod spacing;
 pub mod tables;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
+use crate::area::{Area, Evaluation, ExplainItem, ProjectPart};
 use crate::derivation::{Step, Suspicious};
 use crate::diag::{Diagnostic, Problems};
 use crate::project::Project;
 use crate::report::Report;
-use crate::rules::Typed;
+use crate::rules::Validation;
 use isolation::IsolationReport;
 use parts::BridgeResult;
 use spacing::{BarrierResult, Conditions, show};
-use tables::*;
 
 pub use read::{RawBarrier, RawBoard, RawCircuit, RawPart};
-
-crate::table_set! {
-    /// The insulation area's rule tables. The electric strength test voltages are read by
-    /// power entry too (`rules.insulation.test_voltages`).
-    pub struct InsulationRules {
-        pub impulse: ImpulseTable,
-        pub clearance: ClearanceTable,
-        pub steady_state: SteadyStateClearanceTable,
-        pub creepage: CreepageTable,
-        pub reinforced: ReinforcedRule,
-        pub altitude: AltitudeTable,
-        pub grooves: GrooveTable,
-        pub material_groups: MaterialGroupTable,
-        pub board: BoardSpacingTable,
-        pub capacitors: CapacitorSubclasses,
-        pub test_voltages: TestVoltages,
-        pub thermal: ThermalClasses,
-        pub solid: SolidInsulation,
-        pub minimums: MinimumDistances,
-    }
-}
 
 /// The insulation area.
 pub struct Insulation;
@@ -76,10 +54,9 @@ impl Area for Insulation {
         true
     }
 
-    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.insulation = crate::rules::TableSet::load(tables);
+    fn load_rules(&self, tables: &mut Validation) {
         // The end-product standards' tables (`rules/<standard>/`) dimension barriers too.
-        into.standards = crate::rules::TableSet::load(tables);
+        crate::standards::StandardRules::require(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {
@@ -141,6 +118,12 @@ impl Area for Insulation {
             for d in [&b.derivation.clearance, &b.derivation.creepage] {
                 items.push(ExplainItem::new(&d.id, d.title.to_lowercase()));
             }
+            // The test voltage the report shows beside the distances (`test_v_rms`,
+            // `test_v_dc`), or why there is none.
+            items.push(ExplainItem::new(
+                format!("{}.electric_strength", b.id),
+                format!("{}: electric strength test voltage", b.id),
+            ));
         }
         if report.isolation.is_some() {
             items.push(ExplainItem::new(
@@ -383,6 +366,33 @@ fn explain_isolation(out: &mut String, iso: &IsolationReport) {
                 .map(|e| format!(" (protective earth through {e})"))
                 .unwrap_or_default()
         ));
+    }
+    explain_means(out, iso);
+}
+
+/// IEC 60601-1: the means of protection counted toward each applied part and accessible
+/// circuit, for `explain isolation`.
+pub fn explain_means(out: &mut String, iso: &IsolationReport) {
+    if let Some(means) = &iso.means {
+        out.push_str(&format!(
+            "means of protection (IEC 60601-1), {} circuit(s) reached from the mains: an applied part needs 2 MOPP, another accessible circuit 2 MOOP or 1 MOOP plus protective earth; a MOPP counts as a MOOP too\n",
+            means.len()
+        ));
+        for m in means {
+            out.push_str(&format!(
+                "  {} -> {}{}: {}; provides {}, needs {}\n",
+                m.mains,
+                m.circuit,
+                if m.applied_part {
+                    " (applied part)"
+                } else {
+                    ""
+                },
+                m.description,
+                m.provides_words,
+                m.needs_words
+            ));
+        }
     }
 }
 

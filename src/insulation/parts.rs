@@ -33,6 +33,17 @@ pub struct BridgeResult {
     pub subclass_allowed: bool,
     /// Basic-rated capacitors in series accepted across reinforced or double insulation.
     pub series_accepted: bool,
+    /// Those capacitors in series under a named end-product standard: the sources carried
+    /// do not prove that they withstand the barrier's electric strength test, so the lab's
+    /// test decides (a warning; `crate::standards::series_capacitors_test_decides`).
+    pub series_test_decides: bool,
+    /// The standard the barrier is judged against ("iec60664-1" for the basics).
+    pub standard: &'static str,
+    /// The barrier's electric strength test as a.c. rms and as peak or d.c. volts, and where
+    /// it comes from (null where no test applies or the standard's table is not carried).
+    pub barrier_test_v_rms: Option<f64>,
+    pub barrier_test_v_dc: Option<f64>,
+    pub barrier_test_v_basis: String,
     pub isolation_test_v_rms: Option<f64>,
     /// Electric strength test voltage the barrier's grade needs; null for functional
     /// insulation or above the table.
@@ -101,7 +112,7 @@ fn bridge(
     let mut derivation = Vec::new();
     let working_peak_v = barrier.peak_v();
     let (subclass_bridges, mut subclass_allowed, mut series_accepted) = capacitor_fit(
-        &rules.insulation.capacitors,
+        rules.table::<crate::rules::CapacitorSubclasses>(),
         r.subclass.as_deref(),
         r.count_in_series,
         barrier.grade,
@@ -117,6 +128,29 @@ fn bridge(
         subclass_allowed = ok;
         series_accepted = false;
     }
+    let entry = r.subclass.as_deref().and_then(|s| {
+        rules
+            .table::<crate::rules::CapacitorSubclasses>()
+            .subclasses
+            .iter()
+            .find(|e| e.subclass == s)
+    });
+    let series_test_decides = crate::standards::series_capacitors_test_decides(
+        result,
+        series_accepted,
+        entry.map(|e| {
+            (
+                e.subclass.as_str(),
+                e.impulse_test_v,
+                rules
+                    .table::<crate::rules::CapacitorSubclasses>()
+                    .source
+                    .as_str(),
+            )
+        }),
+        r.count_in_series,
+        &mut derivation,
+    );
     let (required_test_v_rms, required_test_v_from) = match part.kind {
         // A named end-product standard sets the barrier's test voltage (crate::standards).
         PartKind::Optocoupler | PartKind::DigitalIsolator if result.standard != "iec60664-1" => {
@@ -127,17 +161,20 @@ fn bridge(
             )
         }
         PartKind::Optocoupler | PartKind::DigitalIsolator => test_voltage(
-            &rules.insulation.test_voltages,
+            rules.table::<crate::rules::TestVoltages>(),
             barrier.grade,
             working_peak_v,
             &mut derivation,
         ),
         _ => (None, None),
     };
-    let thermal_class_max_c = r
-        .thermal_class
-        .as_deref()
-        .and_then(|c| thermal_limit(&rules.insulation.thermal, c, &mut derivation));
+    let thermal_class_max_c = r.thermal_class.as_deref().and_then(|c| {
+        thermal_limit(
+            rules.table::<crate::rules::ThermalClasses>(),
+            c,
+            &mut derivation,
+        )
+    });
     BridgeResult {
         barrier: barrier.id.clone(),
         part: part.reference.clone(),
@@ -156,6 +193,11 @@ fn bridge(
         subclass_bridges,
         subclass_allowed,
         series_accepted,
+        series_test_decides,
+        standard: result.standard,
+        barrier_test_v_rms: result.test_v_rms,
+        barrier_test_v_dc: result.test_v_dc,
+        barrier_test_v_basis: result.test_v_basis.clone(),
         isolation_test_v_rms: r.isolation_test_v_rms,
         required_test_v_rms,
         required_test_v_from,
@@ -164,14 +206,12 @@ fn bridge(
         distance_through_insulation_mm: r.distance_through_insulation_mm,
         thin_layer_rated: r.thin_layer_rated,
         min_distance_through_insulation_mm: rules
-            .insulation
-            .solid
+            .table::<crate::rules::SolidInsulation>()
             .min_distance_through_insulation_mm,
         insulation_system: r.insulation_system.clone(),
         tape_layers: r.tape_layers,
         min_tape_layers: rules
-            .insulation
-            .solid
+            .table::<crate::rules::SolidInsulation>()
             .min_tape_layers
             .get(barrier.grade)
             .round() as u32,

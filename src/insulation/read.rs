@@ -60,6 +60,10 @@ pub struct RawCircuit {
     pub accessible: Key<Flag>,
     /// Whether it is bonded to protective earth (default false).
     pub earthed: Key<Flag>,
+    /// Whether it is an applied part (IEC 60601-1: the part a patient touches); under
+    /// `iec60601-1` it needs two means of patient protection (2 MOPP) from the mains; under
+    /// the other standards it changes nothing (default false).
+    pub applied_part: Key<Flag>,
     /// Free text for the reader of the report.
     pub description: Key<Text>,
     /// Net names of this circuit as the board's files carry them (`.N`).
@@ -202,6 +206,7 @@ fn read_circuits(
         let kind = r.required_word::<CircuitKind>(t, key!(raw_t.kind));
         let accessible = r.boolean(t, key!(raw_t.accessible));
         let earthed = r.boolean(t, key!(raw_t.earthed));
+        let applied_part = r.boolean(t, key!(raw_t.applied_part));
         let description = r.string(t, key!(raw_t.description)).map(|l| l.value);
         let nets = r
             .string_list(t, key!(raw_t.nets))
@@ -219,6 +224,7 @@ fn read_circuits(
         }
         if raw_t.accessible.is_some() && accessible.is_none()
             || raw_t.earthed.is_some() && earthed.is_none()
+            || raw_t.applied_part.is_some() && applied_part.is_none()
         {
             continue;
         }
@@ -230,6 +236,7 @@ fn read_circuits(
             kind: kind.value,
             accessible: accessible.is_some_and(|l| l.value),
             earthed: earthed.is_some_and(|l| l.value),
+            applied_part: applied_part.is_some_and(|l| l.value),
             description,
             nets,
             span: t.span.clone(),

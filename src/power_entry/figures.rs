@@ -112,26 +112,31 @@ pub(super) fn evaluate(
     let Some(spec) = &project.input else {
         return Ok(None);
     };
-    let pe = &rules.power_entry;
+    let touch_rules = rules.table::<super::tables::TouchRules>();
     // `[design] standard` names the standard for the touch-current limits too, unless
     // `input.end_product_standard` says otherwise or the touch table does not carry it.
     let design_standard = project
         .design
         .standard
         .map(crate::standards::Standard::as_str)
-        .filter(|s| spec.end_product_standard.is_none() && pe.touch.standard(s).is_some());
+        .filter(|s| spec.end_product_standard.is_none() && touch_rules.standard(s).is_some());
     let (standard, standard_title) = match design_standard {
         Some(s) => (
             s.to_string(),
-            pe.touch
+            touch_rules
                 .standard(s)
                 .map(|t| t.title.clone())
                 .unwrap_or_else(|| s.to_string()),
         ),
-        None => end_product_standard(spec, &pe.touch, source)?,
+        None => end_product_standard(spec, touch_rules, source)?,
     };
     let mut assumptions = Vec::new();
-    let mains = mains_range(project, spec, &pe.mains, &mut assumptions);
+    let mains = mains_range(
+        project,
+        spec,
+        rules.table::<super::tables::MainsDefaults>(),
+        &mut assumptions,
+    );
     let mut b = Basis {
         project,
         rules,
@@ -1198,7 +1203,7 @@ fn fuse(
     inrush: &InrushReport,
     input_rms_a: Option<f64>,
 ) -> (Option<FuseReport>, Section) {
-    let rules = &b.rules.power_entry.fuse;
+    let rules = b.rules.table::<crate::power_entry::tables::FuseRules>();
     let rule = Some(FuseRules::ID);
     let id_section = format!("{PE}.fuse");
     let Some(f) = &b.spec.fuse else {
@@ -1456,7 +1461,9 @@ fn fuse(
 }
 
 fn discharge(b: &mut Basis, standard: &str) -> (DischargeReport, Section) {
-    let rules = &b.rules.power_entry.discharge;
+    let rules = b
+        .rules
+        .table::<crate::power_entry::tables::DischargeRules>();
     // A house limit holds under every standard; otherwise the end-product standard's own.
     let residual_limit: Option<(f64, String)> = rules
         .residual_limit_v
@@ -1716,7 +1723,7 @@ fn discharge(b: &mut Basis, standard: &str) -> (DischargeReport, Section) {
 }
 
 fn touch(b: &mut Basis, standard: &str, standard_title: &str) -> (Vec<TouchCircuit>, Section) {
-    let rules = &b.rules.power_entry.touch;
+    let rules = b.rules.table::<crate::power_entry::tables::TouchRules>();
     let project = b.project;
     let f = b.mains.max_frequency_hz;
     let v = b.mains.max_v;
@@ -1975,7 +1982,7 @@ fn touch_model(arrangement: YArrangement, count: usize, counted_nf: Option<f64>)
 }
 
 fn test_voltages(b: &Basis, results: &[BarrierResult]) -> (Vec<TestVoltage>, Section) {
-    let table = &b.rules.insulation.test_voltages;
+    let table = b.rules.table::<crate::rules::TestVoltages>();
     let rule = Some(TestVoltages::ID);
     let mut out = Vec::new();
     let mut figures = Vec::new();

@@ -12,12 +12,12 @@ pub mod tables;
 
 use serde::Serialize;
 
-use crate::area::{Area, Evaluation, ExplainItem, LoadedRules, ProjectPart};
+use crate::area::{Area, Evaluation, ExplainItem, ProjectPart};
 use crate::diag::{Problems, Source};
 use crate::project::Project;
 use crate::raw::Located;
 use crate::report::Report;
-use crate::rules::{RuleBook, Typed};
+use crate::rules::RuleBook;
 use crate::spacing::{BarrierResult, Step, show};
 use crate::text::{Digits, number};
 
@@ -120,17 +120,6 @@ pub struct ConverterSpec {
     /// The converter has an active power-factor-correction stage (a small capacitance
     /// after the bridge): Middlebrook's criterion applies to the input filter.
     pub pfc_stage: bool,
-}
-
-crate::table_set! {
-    /// The rule tables power entry reads. The electric strength test voltages come from the
-    /// insulation area's table `iec60950-1.test-voltages` (`rules.insulation.test_voltages`).
-    pub struct PowerEntryRules {
-        pub fuse: FuseRules,
-        pub discharge: DischargeRules,
-        pub touch: TouchRules,
-        pub mains: MainsDefaults,
-    }
 }
 
 /// A topic of the power-entry section, as the report shows it.
@@ -429,10 +418,6 @@ impl Area for PowerEntry {
 
     fn described(&self, project: &Project) -> bool {
         project.input.is_some()
-    }
-
-    fn load_rules(&self, tables: &mut Typed, into: &mut LoadedRules) {
-        into.power_entry = crate::rules::TableSet::load(tables);
     }
 
     fn evaluate(&self, run: &mut Evaluation) -> Result<(), Problems> {

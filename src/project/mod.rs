@@ -211,6 +211,8 @@ pub struct Circuit {
     pub kind: CircuitKind,
     pub accessible: bool,
     pub earthed: bool,
+    /// An applied part (IEC 60601-1): under that standard it needs 2 MOPP from the mains.
+    pub applied_part: bool,
     pub description: Option<String>,
     /// Net names of this circuit as the board's fabrication files carry them (`.N`).
     pub nets: Vec<crate::raw::Located<String>>,

@@ -82,6 +82,8 @@ pub struct CircuitInfo {
     pub kind: CircuitKind,
     pub accessible: bool,
     pub earthed: bool,
+    /// An applied part (IEC 60601-1).
+    pub applied_part: bool,
     pub description: Option<String>,
 }
 
@@ -488,6 +490,7 @@ pub fn figures(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
                 kind: c.kind,
                 accessible: c.accessible,
                 earthed: c.earthed,
+                applied_part: c.applied_part,
                 description: c.description.clone(),
             })
             .collect(),

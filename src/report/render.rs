@@ -731,9 +731,9 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         w: &mut W,
         fragment: &str,
     ) -> std::io::Result<()> {
-        // Printable ASCII needs no look at each character (serde_json has escaped the
-        // controls and quotes already).
-        if fragment.bytes().all(|b| (0x20..0x7f).contains(&b)) {
+        // ASCII without DEL needs no look at each character (serde_json has escaped the
+        // controls and quotes already); both tests run a word or more at a time.
+        if fragment.is_ascii() && !fragment.as_bytes().contains(&0x7f) {
             return w.write_all(fragment.as_bytes());
         }
         let mut start = 0;

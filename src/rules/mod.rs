@@ -15,7 +15,8 @@ use serde::{Deserialize, Serialize};
 use crate::diag::{Diagnostic, Problems, Source};
 pub use crate::insulation::tables::*;
 pub use check_defs::{CheckDef, Cond, Over, Retired};
-pub use table::{Table, TableSet};
+use table::TableFile;
+pub use table::{TABLE_TYPES, Table, TableStore, TableType, Validation};
 
 /// Tolerance for reading an input against a table row: a value within `EPS` of a row's
 /// bound counts as on it. Inputs are written with a handful of decimals in volts,
@@ -30,23 +31,44 @@ pub const EPS: f64 = 1e-9;
 /// build time by `build.rs`.
 pub use shipped::SHIPPED_RULES;
 
-mod shipped {
+pub(crate) mod shipped {
     /// One shipped rule file as build.rs prepared it.
     pub struct ShippedRule {
         /// Path inside `rules/`.
         pub name: &'static str,
         pub text: &'static str,
-        /// The same content as JSON, read much faster than TOML.
+        /// The same content as JSON, read much faster than TOML (empty for a check file,
+        /// whose entries are in `checks`).
         pub json: &'static str,
         /// SHA-256 of `text`.
         pub sha256: &'static str,
         /// The line of each `[[check]]` header, in order.
         pub check_lines: &'static [usize],
+        /// A check file's entries, read by build.rs (nothing to parse at run time).
+        pub checks: &'static [ShippedCheck],
         pub id: &'static str,
         pub title: &'static str,
         pub source: &'static str,
         pub provenance: &'static str,
         pub is_checks: bool,
+    }
+
+    /// One `[[check]]` entry of a shipped check file as build.rs read it: the text fields
+    /// as written, the conditions as JSON (a quoted expression or a predicate table).
+    pub struct ShippedCheck {
+        pub id: &'static str,
+        pub overrides: bool,
+        pub title: Option<&'static str>,
+        pub severity: Option<&'static str>,
+        pub over: Option<&'static str>,
+        pub applies: Option<&'static str>,
+        pub condition: Option<&'static str>,
+        pub subject: Option<&'static str>,
+        pub message: Option<&'static str>,
+        pub rationale: Option<&'static str>,
+        pub source: Option<&'static str>,
+        /// The line of its `[[check]]` header.
+        pub line: usize,
     }
 
     include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
@@ -83,36 +105,26 @@ struct Header {
     check: Option<serde::de::IgnoredAny>,
 }
 
-/// Every area's rule tables: each area's own `table_set!`, loaded by the area
-/// (`area::Area::load_rules`), in `area::AREAS`.
-#[derive(Debug, Clone)]
-pub struct Tables {
-    /// Tables owned by the insulation area (spacing, isolation, bridging parts).
-    pub insulation: crate::insulation::InsulationRules,
-    /// Tables owned by the power-entry evaluation.
-    pub power_entry: crate::power_entry::PowerEntryRules,
-    /// Tables owned by the EMC evaluation.
-    pub emc: crate::emc::EmcRules,
-    /// The end-product standards' tables (`rules/<standard>/`), read by the insulation area.
-    pub standards: crate::standards::StandardRules,
-}
-
-/// All loaded tables, typed, and the checklist.
+/// All loaded tables, typed on first use, and the checklist.
 #[derive(Debug, Clone)]
 pub struct RuleBook {
     pub info: Vec<RuleInfo>,
-    /// The tables by area; `book.insulation` reads through to them.
-    pub tables: Tables,
+    /// Every rule table file by id; evaluation reads them through [`RuleBook::table`].
+    pub tables: TableStore,
     pub checks: Vec<CheckDef>,
     /// The checks, compiled once.
     pub compiled_checks: crate::checks::CompiledChecks,
 }
 
-impl std::ops::Deref for RuleBook {
-    type Target = Tables;
+impl RuleBook {
+    /// The rule table `T` (the file with `T::ID`, shipped or house), read on first use.
+    pub fn table<T: Table>(&self) -> &T {
+        self.tables.get::<T>()
+    }
 
-    fn deref(&self) -> &Tables {
-        &self.tables
+    /// The end-product standards' tables.
+    pub fn standards(&self) -> crate::standards::StandardRules<'_> {
+        crate::standards::StandardRules::new(&self.tables)
     }
 }
 
@@ -135,14 +147,23 @@ impl RuleBook {
 
     /// The shipped rules, with those in `house` (if given) added or replacing by id.
     pub fn load(house: Option<&Path>) -> Result<RuleBook, Problems> {
-        Self::load_with_fields(house, &predicate::Fields::shipped())
+        Self::load_inner(house, None)
     }
 
-    /// Loads with the checks validated against `fields`; an empty list validates nothing,
-    /// which is how the list itself is regenerated (`tests/it/check_fields.rs`).
+    /// Loads with every check, shipped ones too, validated against `fields` (a run
+    /// validates only house checks, against the shipped list; `tests/it/check_fields.rs`
+    /// validates the shipped ones this way). An empty list validates nothing, which is
+    /// how the list itself is regenerated.
     pub fn load_with_fields(
         house: Option<&Path>,
         fields: &predicate::Fields,
+    ) -> Result<RuleBook, Problems> {
+        Self::load_inner(house, Some(fields))
+    }
+
+    fn load_inner(
+        house: Option<&Path>,
+        fields: Option<&predicate::Fields>,
     ) -> Result<RuleBook, Problems> {
         let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
         let mut order: Vec<String> = Vec::new();
@@ -258,17 +279,25 @@ impl RuleBook {
                 text: l.source.text.clone(),
             });
         }
-        let mut typed = Typed {
-            files: &files,
+        let mut tables = TableStore::default();
+        for id in &order {
+            if let Some(l) = files.get(id)
+                && !l.is_checks
+            {
+                tables.insert(id.clone(), TableFile::new(l.source.clone(), l.shipped));
+            }
+        }
+        // Every table type's file is there; every house table is read and checked now,
+        // each problem with its line and key (shipped ones are proven by a test).
+        let mut validation = Validation {
+            store: &tables,
             problems: Vec::new(),
         };
-        // Each area loads its own tables; every problem is collected.
-        let mut areas = crate::area::LoadedRules::default();
+        validation.every_table_type(order.iter());
         for area in crate::area::AREAS {
-            area.load_rules(&mut typed, &mut areas);
+            area.load_rules(&mut validation);
         }
-        let tables = areas.complete();
-        let mut problems = typed.problems;
+        let mut problems = validation.problems;
         let check_sources: Vec<check_defs::CheckSource> = order
             .iter()
             .filter_map(|id| files.get(id))
@@ -277,7 +306,7 @@ impl RuleBook {
                 source: &l.source,
                 file: l.file.as_str(),
                 origin: l.origin,
-                shipped: l.shipped.map(|s| (s.json, s.check_lines)),
+                shipped: l.shipped.map(|s| s.checks),
             })
             .collect();
         // Retired check ids: the shipped list, plus any a house file retires itself.
@@ -320,11 +349,11 @@ impl RuleBook {
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
-        // Every table that failed has left a problem above.
-        let (Some(tables), Some(compiled_checks)) = (tables, compiled_checks) else {
+        // A check that failed to compile has left a problem above.
+        let Some(compiled_checks) = compiled_checks else {
             return Err(Problems(vec![Diagnostic::new(
                 "rules",
-                "a rule table could not be loaded",
+                "the checks could not be compiled",
             )]));
         };
         let book = RuleBook {
@@ -378,55 +407,6 @@ impl RuleBook {
     }
 }
 
-/// Typed access to the loaded rule files, collecting every problem; domain modules load
-/// their own tables through it (`table_set!`'s `load`, called by `Area::load_rules`).
-pub struct Typed<'a> {
-    files: &'a BTreeMap<String, Loaded>,
-    problems: Vec<Diagnostic>,
-}
-
-impl Typed<'_> {
-    /// The table with `T::ID`, parsed and checked; `None` (with a problem) otherwise.
-    pub fn get<T: Table>(&mut self) -> Option<T> {
-        self.get_by_id(T::ID, T::check)
-    }
-
-    /// A table read into one type under several ids (the end-product standards' generic
-    /// table), parsed and checked by `check`; `None` (with a problem) otherwise.
-    pub fn get_by_id<T: for<'de> Deserialize<'de>>(
-        &mut self,
-        id: &str,
-        check: impl Fn(&T) -> Result<(), String>,
-    ) -> Option<T> {
-        let Some(loaded) = self.files.get(id) else {
-            self.problems.push(Diagnostic::new(
-                "rules",
-                format!("no rule table with id \"{id}\" is loaded"),
-            ));
-            return None;
-        };
-        let source = &loaded.source;
-        let parsed = match &loaded.shipped {
-            Some(shipped) => serde_json::from_str::<T>(shipped.json)
-                .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
-            None => toml::from_str::<T>(&source.text).map_err(|e| toml_problem(source, &e, "")),
-        };
-        match parsed {
-            Ok(table) => match check(&table) {
-                Ok(()) => Some(table),
-                Err(message) => {
-                    self.problems.push(table_problem(source, &message));
-                    None
-                }
-            },
-            Err(d) => {
-                self.problems.push(d);
-                None
-            }
-        }
-    }
-}
-
 /// A rule file that serde could not read, located by the parser, with the dotted key the
 /// parser was in and the expected form in words ("a number", not "f64").
 pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> Diagnostic {
@@ -464,16 +444,6 @@ pub(crate) fn toml_problem(source: &Source, e: &toml::de::Error, help: &str) -> 
         d = d.with_help(help);
     }
     d
-}
-
-/// A table's `check()` problem (`path: message`), located at the value the path names
-/// through the parser's spans (or at the nearest enclosing value the path reaches).
-fn table_problem(source: &Source, problem: &str) -> Diagnostic {
-    let (path, message) = problem.split_once(": ").unwrap_or(("", problem));
-    match crate::diag::span_of_path(&source.text, path) {
-        Some(span) => source.diag(&span, message).with_key(path),
-        None => Diagnostic::new(&source.name, problem),
-    }
 }
 
 /// The files a house rule folder contributes: every `*.toml` entry that is not a folder, in

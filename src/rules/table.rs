@@ -1,16 +1,23 @@
 //! What every rule table is to the rule book: a serde type with the permanent id of its
 //! file and a `check` that rejects what the engine could not read safely; the helpers
-//! those checks share; and `table_set!`, which declares an area's set of tables (a new
-//! table is its file, its struct and one line in the set of the area that reads it).
+//! those checks share; and the store the rule book keeps its tables in, read by type
+//! (`rules.table::<ClearanceTable>()`) and parsed on first use. A new table is its file
+//! and its struct: `build.rs` lists every `impl Table for X` it finds under `src/`, so
+//! that a house table is read and checked when the rule book is loaded.
+
+use std::any::Any;
+use std::collections::BTreeMap;
+use std::sync::{Arc, OnceLock};
 
 use serde::Deserialize;
 
-use super::Typed;
+use super::shipped::ShippedRule;
+use crate::diag::{Diagnostic, Source};
 
 /// A rule table as read from TOML: the permanent id of its file, and what makes it usable.
-/// A new table is this struct plus its file; the loader finds it by `ID`
-/// (`RuleBook::load`, or an area's own table list such as `PowerEntryRules`).
-pub trait Table: for<'de> Deserialize<'de> {
+/// A new table is this struct plus its file; evaluation asks for it by type
+/// (`RuleBook::table`), and the store finds its file by `ID`.
+pub trait Table: for<'de> Deserialize<'de> + Send + Sync + 'static {
     /// The `id` its rule file carries.
     const ID: &'static str;
 
@@ -84,39 +91,246 @@ pub(crate) fn column<'r, R: 'r>(
         .filter_map(move |(i, r)| value(r).map(|v| (item(list, i, key), v)))
 }
 
-/// A set of rule tables loaded together: one table (`Table`, found by its id) or a struct
-/// of them declared with `table_set!`.
-pub trait TableSet: Sized {
-    /// Every table of the set, parsed and checked; `None` once any has a problem (each
-    /// problem is recorded in `typed`, and the other tables are still read).
-    fn load(typed: &mut Typed) -> Option<Self>;
+/// A type that implements [`Table`], as `build.rs` found it: its id, its name, and how a
+/// file is read into it (parsed, checked, and kept for evaluation).
+pub struct TableType {
+    pub id: &'static str,
+    /// The struct's path in the crate, for messages and tests.
+    pub name: &'static str,
+    read: fn(&TableFile) -> Result<Typed, Diagnostic>,
 }
 
-impl<T: Table> TableSet for T {
-    fn load(typed: &mut Typed) -> Option<Self> {
-        typed.get::<T>()
+impl TableType {
+    pub const fn of<T: Table>(name: &'static str) -> TableType {
+        TableType {
+            id: T::ID,
+            name,
+            read: read_as::<T>,
+        }
     }
 }
 
-/// Declares a struct of rule tables (or of other sets) that loads itself: every field is
-/// read by its type's `Table::ID`, and all are read before any failure is reported. A new
-/// table is its file, its struct and one line in the set of the area that reads it.
-#[macro_export]
-macro_rules! table_set {
-    ($(#[$meta:meta])* pub struct $name:ident {
-        $($(#[$field_meta:meta])* pub $field:ident: $ty:ty,)*
-    }) => {
-        $(#[$meta])*
-        #[derive(Debug, Clone)]
-        pub struct $name {
-            $($(#[$field_meta])* pub $field: $ty,)*
-        }
+fn read_as<T: Table>(file: &TableFile) -> Result<Typed, Diagnostic> {
+    file.read::<T>(T::check).map(|t| Arc::new(t) as Typed)
+}
 
-        impl $crate::rules::TableSet for $name {
-            fn load(typed: &mut $crate::rules::Typed) -> Option<Self> {
-                $(let $field = <$ty as $crate::rules::TableSet>::load(typed);)*
-                Some($name { $($field: $field?,)* })
+/// Every type that implements [`Table`] in the crate, found by `build.rs` (which reads the
+/// sources for `impl Table for X`, so nothing is listed by hand). `tests/it/rule_tables.rs`
+/// proves each reads and checks its shipped file, and that every shipped table file has one.
+pub static TABLE_TYPES: &[TableType] = include!(concat!(env!("OUT_DIR"), "/table_types.rs"));
+
+/// A table read into its type.
+type Typed = Arc<dyn Any + Send + Sync>;
+
+/// One rule table file and, once read, its typed form.
+#[derive(Clone)]
+pub(crate) struct TableFile {
+    /// The file as loaded (a shipped file's name is `rules/<path>`).
+    pub(crate) source: Source,
+    /// A shipped file's JSON form, prepared by build.rs; `None` for a house file.
+    shipped: Option<&'static ShippedRule>,
+    typed: OnceLock<Typed>,
+}
+
+impl TableFile {
+    pub(crate) fn new(source: Source, shipped: Option<&'static ShippedRule>) -> Self {
+        TableFile {
+            source,
+            shipped,
+            typed: OnceLock::new(),
+        }
+    }
+
+    /// Parses the file into `T`. A shipped file is read from its JSON form and not checked
+    /// again (`tests/it/rule_tables.rs` checks every one); a house file is read from its
+    /// TOML with every problem at its line and key, and checked.
+    fn read<T: for<'de> Deserialize<'de>>(
+        &self,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) -> Result<T, Diagnostic> {
+        let source = &self.source;
+        match self.shipped {
+            Some(shipped) => serde_json::from_str::<T>(shipped.json)
+                .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
+            None => {
+                let table = toml::from_str::<T>(&source.text)
+                    .map_err(|e| super::toml_problem(source, &e, ""))?;
+                check(&table).map_err(|message| table_problem(source, &message))?;
+                Ok(table)
             }
         }
+    }
+
+    /// The typed form, read now if it has not been.
+    fn typed<T: for<'de> Deserialize<'de> + Send + Sync + 'static>(
+        &self,
+        id: &str,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) -> Result<&T, Diagnostic> {
+        if self.typed.get().is_none() {
+            let table = self.read::<T>(check)?;
+            // Another thread may have read it meanwhile; either copy serves.
+            let _ = self.typed.set(Arc::new(table));
+        }
+        self.typed
+            .get()
+            .and_then(|t| t.downcast_ref::<T>())
+            .ok_or_else(|| {
+                Diagnostic::new(
+                    &self.source.name,
+                    format!(
+                        "rule table \"{id}\" is read as {} and as another type",
+                        std::any::type_name::<T>()
+                    ),
+                )
+            })
+    }
+}
+
+/// A table's `check()` problem (`path: message`), located at the value the path names
+/// through the parser's spans (or at the nearest enclosing value the path reaches).
+fn table_problem(source: &Source, problem: &str) -> Diagnostic {
+    let (path, message) = problem.split_once(": ").unwrap_or(("", problem));
+    match crate::diag::span_of_path(&source.text, path) {
+        Some(span) => source.diag(&span, message).with_key(path),
+        None => Diagnostic::new(&source.name, problem),
+    }
+}
+
+/// Every loaded rule table file by id, each parsed into its type when evaluation first
+/// asks for it (a run reads only the tables its design needs).
+#[derive(Clone, Default)]
+pub struct TableStore {
+    files: BTreeMap<String, TableFile>,
+}
+
+impl std::fmt::Debug for TableStore {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_set().entries(self.files.keys()).finish()
+    }
+}
+
+impl TableStore {
+    pub(crate) fn insert(&mut self, id: String, file: TableFile) {
+        self.files.insert(id, file);
+    }
+
+    /// The table `T`. Every table type's file was found when the rule book was loaded, a
+    /// house file was read and checked then, and every shipped file reads into its type
+    /// (`tests/it/rule_tables.rs`), so no input reaches the failure below: it means a
+    /// build whose shipped tables do not match their types.
+    pub fn get<T: Table>(&self) -> &T {
+        match self.by_id::<T>(T::ID, T::check) {
+            Ok(table) => table,
+            Err(d) => panic!("a shipped rule table does not match its type: {d}"),
+        }
+    }
+
+    /// The table with `id` read into `T` (one type under several ids, such as the
+    /// end-product standards' tables), checked by `check` if it is a house file.
+    pub fn by_id<T: for<'de> Deserialize<'de> + Send + Sync + 'static>(
+        &self,
+        id: &str,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) -> Result<&T, Diagnostic> {
+        let Some(file) = self.files.get(id) else {
+            return Err(missing(id));
+        };
+        file.typed(id, check)
+    }
+
+    /// Whether a table with `id` is loaded.
+    pub fn has(&self, id: &str) -> bool {
+        self.files.contains_key(id)
+    }
+}
+
+fn missing(id: &str) -> Diagnostic {
+    Diagnostic::new("rules", format!("no rule table with id \"{id}\" is loaded"))
+}
+
+/// The rule book's tables while it is being loaded: every table type's file must be
+/// there, and every house table is read and checked now, each problem collected with its
+/// file, line and key.
+pub struct Validation<'a> {
+    pub(crate) store: &'a TableStore,
+    pub(crate) problems: Vec<Diagnostic>,
+}
+
+impl Validation<'_> {
+    /// Requires the table with `id` and, if it is a house file, reads it into `T` and
+    /// checks it now (the typed form is kept for evaluation).
+    pub fn require<T: for<'de> Deserialize<'de> + Send + Sync + 'static>(
+        &mut self,
+        id: &str,
+        check: impl Fn(&T) -> Result<(), String>,
+    ) {
+        match self.store.files.get(id) {
+            None => self.problems.push(missing(id)),
+            Some(file) if file.shipped.is_none() => {
+                if let Err(d) = file.typed(id, check) {
+                    self.problems.push(d);
+                }
+            }
+            Some(_) => {}
+        }
+    }
+
+    /// Every [`TABLE_TYPES`] entry has its file, and every house file of one of those
+    /// types (`house`, ids in load order) is read and checked now.
+    pub(crate) fn every_table_type<'i>(&mut self, house: impl Iterator<Item = &'i String>) {
+        for kind in TABLE_TYPES {
+            if !self.store.has(kind.id) {
+                self.problems.push(missing(kind.id));
+            }
+        }
+        for id in house {
+            let (Some(file), Some(kind)) = (
+                self.store.files.get(id),
+                TABLE_TYPES.iter().find(|k| k.id == id),
+            ) else {
+                continue;
+            };
+            if file.shipped.is_some() {
+                continue;
+            }
+            match (kind.read)(file) {
+                Ok(typed) => {
+                    let _ = file.typed.set(typed);
+                }
+                Err(d) => self.problems.push(d),
+            }
+        }
+    }
+}
+
+/// The shipped file of `kind` read through its type from the JSON form a run uses, and
+/// from its TOML with its `check()`, as a house file would be: for the test that proves
+/// every shipped table usable (a run does not check shipped tables again).
+pub fn check_shipped(kind: &TableType) -> Result<(), Diagnostic> {
+    let (as_run, as_house) = shipped_files(kind.id)?;
+    (kind.read)(&as_run)?;
+    (kind.read)(&as_house).map(|_| ())
+}
+
+/// [`check_shipped`] for one type read under several ids (the end-product standards).
+pub fn check_shipped_as<T: for<'de> Deserialize<'de>>(
+    id: &str,
+    check: impl Fn(&T) -> Result<(), String>,
+) -> Result<(), Diagnostic> {
+    let (as_run, as_house) = shipped_files(id)?;
+    as_run.read::<T>(|_| Ok(()))?;
+    as_house.read::<T>(check).map(|_| ())
+}
+
+/// The shipped file `id` as a run reads it (JSON) and as a house file (TOML, checked).
+fn shipped_files(id: &str) -> Result<(TableFile, TableFile), Diagnostic> {
+    let Some(rule) = super::SHIPPED_RULES.iter().find(|r| r.id == id) else {
+        return Err(missing(id));
     };
+    let source = || Source::new(format!("rules/{}", rule.name), rule.text);
+    Ok((
+        TableFile::new(source(), Some(rule)),
+        TableFile::new(source(), None),
+    ))
 }

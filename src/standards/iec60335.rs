@@ -6,8 +6,8 @@
 //! (functional insulation) is not carried.
 
 use super::{
-    Dimensioned, ElectricStrength, Standard, StandardRules, at_least_clearance, both, double_up,
-    general_column, refuse_above_2000_m,
+    CreepageNotes, Dimensioned, ElectricStrength, Standard, StandardRules, overvoltage_column,
+    refuse_above_2000_m, with_table_creepage,
 };
 use crate::project::{Barrier, Grade};
 use crate::rules::RuleBook;
@@ -39,15 +39,9 @@ fn clearance(
             (v, "transient_v")
         }
         None => {
-            let column = match cond.overvoltage_category {
-                crate::project::OvervoltageCategory::I => "ovc_i",
-                crate::project::OvervoltageCategory::II => "ovc_ii",
-                crate::project::OvervoltageCategory::III => "ovc_iii",
-                crate::project::OvervoltageCategory::IV => "ovc_iv",
-            };
             let r = t.table(TABLE_15)?.read(
                 cond.nominal_v,
-                column,
+                overvoltage_column(cond.overvoltage_category),
                 "mains.nominal_v",
                 &format!(
                     "Rated impulse voltage (overvoltage category {})",
@@ -142,49 +136,11 @@ fn clearance(
     ))
 }
 
-fn creepage(
-    t: &StandardRules,
-    rules: &RuleBook,
-    cond: &Conditions,
-    barrier: &Barrier,
-    reinforced: bool,
-) -> Result<(Figure, &'static str, crate::project::MaterialGroup), OutOfTable> {
-    let mut steps = Vec::new();
-    let (group, step) =
-        crate::spacing::material_group(&rules.insulation.material_groups, barrier.material)?;
-    steps.push(step);
-    let pd = cond.pollution_degree.clamp(1, 3);
-    let column = general_column(pd, group);
-    if barrier.printed_board {
-        steps.push(Step::new(
-            None,
-            "On a printed board: IEC 60335-1 Table 17 is carried with its general columns only; they are used on boards too (conservative).",
-        ));
-    }
-    let t17 = t.table(TABLE_17)?;
-    let basic = t17.read(
-        barrier.working_rms_v,
-        column,
-        "working_rms_v",
-        "Basic creepage",
-    )?;
-    steps.push(basic.step);
-    let mut mm = basic.value;
-    if reinforced {
-        let (factor, why) = t17.constant("reinforced_factor")?;
-        mm = tidy(basic.value * factor);
-        steps.push(Step::new(
-            Some(TABLE_17),
-            format!(
-                "Reinforced insulation: {} × {} = {} mm ({why}).",
-                show(basic.value),
-                show(factor),
-                show(mm)
-            ),
-        ));
-    }
-    Ok((Figure { mm, steps }, column, group))
-}
+/// What this standard's creepage table is not carried for.
+const CREEPAGE_NOTES: CreepageNotes = CreepageNotes {
+    printed_board: "On a printed board: IEC 60335-1 Table 17 is carried with its general columns only; they are used on boards too (conservative).",
+    interpolate: None,
+};
 
 pub(super) fn dimension(
     t: &StandardRules,
@@ -194,44 +150,24 @@ pub(super) fn dimension(
     basics: &BarrierResult,
 ) -> Result<Dimensioned, Vec<OutOfTable>> {
     let reinforced = barrier.grade == Grade::Reinforced;
-    let (
-        (clearance, impulse_v, clearance_impulse_v, table_mm, governed_by),
-        (creepage, column, group),
-    ) = both(
-        clearance(t, cond, barrier, reinforced, basics),
-        creepage(t, rules, cond, barrier, reinforced),
+    let (d, (impulse_v, clearance_impulse_v, table_mm, governed_by)) = with_table_creepage(
+        (t, TABLE_17, &CREEPAGE_NOTES),
+        rules,
+        cond,
+        barrier,
+        clearance(t, cond, barrier, reinforced, basics)
+            .map(|(figure, impulse, at, table_mm, by)| (figure, (impulse, at, table_mm, by))),
     )?;
-    let (mut clearance, mut creepage) = (clearance, creepage);
-    let mut creepage_governed_by = "creepage-table";
-    if at_least_clearance(&mut creepage, clearance.mm) {
-        creepage_governed_by = "clearance";
-    }
-    let double_parts =
-        (barrier.grade == Grade::Double).then(|| double_up(&mut clearance, &mut creepage));
-    let label = super::figure_label(barrier.grade);
-    clearance.steps.push(Step::new(
-        None,
-        format!("Required clearance ({label}): {} mm.", show(clearance.mm)),
-    ));
-    creepage.steps.push(Step::new(
-        None,
-        format!("Required creepage ({label}): {} mm.", show(creepage.mm)),
-    ));
     Ok(Dimensioned {
-        clearance,
-        creepage,
         method: "iec60335-1",
         clearance_governed_by: governed_by,
-        creepage_governed_by,
         rated_impulse_v: Some(impulse_v),
         clearance_impulse_v: Some(clearance_impulse_v),
         altitude_factor: 1.0,
-        creepage_column: column.to_string(),
-        material_group: Some(group.as_str()),
-        double_parts,
         transient_clearance_mm: Some(table_mm),
         steady_state_clearance_mm: basics.steady_state_clearance_mm,
         steady_state_peak_v: basics.steady_state_peak_v,
+        ..d
     })
 }
 

@@ -9,7 +9,7 @@ use crate::rules::{EPS, RuleBook, Table, TestVoltages};
 use crate::spacing::{Step, show};
 
 pub(super) fn electric_strength(rules: &RuleBook, barrier: &Barrier) -> ElectricStrength {
-    let table = &rules.insulation.test_voltages;
+    let table = rules.table::<crate::rules::TestVoltages>();
     let peak = barrier.peak_v();
     let mut steps = vec![Step::new(
         None,

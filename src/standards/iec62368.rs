@@ -6,8 +6,8 @@
 //! refused.
 
 use super::{
-    Dimensioned, ElectricStrength, StandardRules, at_least_clearance, both, double_up,
-    general_column,
+    CreepageNotes, Dimensioned, ElectricStrength, StandardRules, overvoltage_column,
+    times_reinforced_factor, with_table_creepage,
 };
 use crate::project::{Barrier, Grade};
 use crate::rules::RuleBook;
@@ -42,15 +42,9 @@ fn withstand(
             "transient_v",
         ));
     }
-    let column = match cond.overvoltage_category {
-        crate::project::OvervoltageCategory::I => "ovc_i",
-        crate::project::OvervoltageCategory::II => "ovc_ii",
-        crate::project::OvervoltageCategory::III => "ovc_iii",
-        crate::project::OvervoltageCategory::IV => "ovc_iv",
-    };
     let r = t.table(TABLE_12)?.read(
         cond.nominal_v,
-        column,
+        overvoltage_column(cond.overvoltage_category),
         "mains.nominal_v",
         &format!(
             "Required withstand voltage = mains transient voltage (overvoltage category {})",
@@ -75,9 +69,8 @@ fn frequency_in_range(t: &StandardRules, barrier: &Barrier) -> Result<(), OutOfT
     }
 }
 
-/// The clearance and the figures behind it.
+/// The figures behind the clearance.
 struct Clearance {
-    figure: Figure,
     withstand_v: f64,
     /// The withstand voltage of the Table 14 row read (one row up for reinforced).
     table_v: f64,
@@ -94,7 +87,7 @@ fn clearance(
     cond: &Conditions,
     barrier: &Barrier,
     reinforced: bool,
-) -> Result<Clearance, OutOfTable> {
+) -> Result<(Figure, Clearance), OutOfTable> {
     let mut steps = Vec::new();
     let pd = cond.pollution_degree.clamp(1, 3);
     // Procedure 1: Table 10 by the peak working voltage.
@@ -118,20 +111,11 @@ fn clearance(
     let t10 = t.table(TABLE_10)?;
     let basic = t10.read(peak, "basic_mm", peak_key, "Procedure 1, basic clearance")?;
     steps.push(basic.step);
-    let mut p1 = basic.value;
-    if reinforced {
-        let (factor, why) = t10.constant("reinforced_factor")?;
-        p1 = tidy(basic.value * factor);
-        steps.push(Step::new(
-            Some(TABLE_10),
-            format!(
-                "Reinforced insulation: {} × {} = {} mm ({why}).",
-                show(basic.value),
-                show(factor),
-                show(p1)
-            ),
-        ));
-    }
+    let mut p1 = if reinforced {
+        times_reinforced_factor(t10, basic.value, &mut steps)?
+    } else {
+        basic.value
+    };
     if barrier.field == crate::project::Field::Homogeneous {
         steps.push(Step::new(
             None,
@@ -235,70 +219,30 @@ fn clearance(
         ));
         mm = corrected;
     }
-    Ok(Clearance {
-        figure: Figure {
+    Ok((
+        Figure {
             mm: tidy(mm),
             steps,
         },
-        withstand_v,
-        table_v,
-        procedure_1_mm: p1,
-        procedure_2_mm: p2,
-        peak_v: peak,
-        altitude_factor: factor,
-        governed_by,
-    })
+        Clearance {
+            withstand_v,
+            table_v,
+            procedure_1_mm: p1,
+            procedure_2_mm: p2,
+            peak_v: peak,
+            altitude_factor: factor,
+            governed_by,
+        },
+    ))
 }
 
-fn creepage(
-    t: &StandardRules,
-    rules: &RuleBook,
-    cond: &Conditions,
-    barrier: &Barrier,
-    reinforced: bool,
-) -> Result<(Figure, &'static str, crate::project::MaterialGroup), OutOfTable> {
-    let mut steps = Vec::new();
-    let (group, step) =
-        crate::spacing::material_group(&rules.insulation.material_groups, barrier.material)?;
-    steps.push(step);
-    let pd = cond.pollution_degree.clamp(1, 3);
-    let column = general_column(pd, group);
-    if barrier.printed_board {
-        steps.push(Step::new(
-            None,
-            "On a printed board: the printed-wiring columns are not confirmed for IEC 62368-1, so the general columns are used (conservative).",
-        ));
-    }
-    if cond.creepage_between_rows == crate::project::BetweenRows::Interpolate {
-        steps.push(Step::new(
-            None,
-            "creepage_between_rows = \"interpolate\" is not applied to IEC 62368-1 Table 17 here: whether the standard allows it is not confirmed, so the next higher row is used (conservative).",
-        ));
-    }
-    let t17 = t.table(TABLE_17)?;
-    let basic = t17.read(
-        barrier.working_rms_v,
-        column,
-        "working_rms_v",
-        "Basic creepage",
-    )?;
-    steps.push(basic.step);
-    let mut mm = basic.value;
-    if reinforced {
-        let (factor, why) = t17.constant("reinforced_factor")?;
-        mm = tidy(basic.value * factor);
-        steps.push(Step::new(
-            Some(TABLE_17),
-            format!(
-                "Reinforced insulation: {} × {} = {} mm ({why}).",
-                show(basic.value),
-                show(factor),
-                show(mm)
-            ),
-        ));
-    }
-    Ok((Figure { mm, steps }, column, group))
-}
+/// What this standard's creepage table is not carried for.
+const CREEPAGE_NOTES: CreepageNotes = CreepageNotes {
+    printed_board: "On a printed board: the printed-wiring columns are not confirmed for IEC 62368-1, so the general columns are used (conservative).",
+    interpolate: Some(
+        "creepage_between_rows = \"interpolate\" is not applied to IEC 62368-1 Table 17 here: whether the standard allows it is not confirmed, so the next higher row is used (conservative).",
+    ),
+};
 
 pub(super) fn dimension(
     t: &StandardRules,
@@ -308,57 +252,23 @@ pub(super) fn dimension(
 ) -> Result<Dimensioned, Vec<OutOfTable>> {
     frequency_in_range(t, barrier).map_err(|e| vec![e])?;
     let reinforced = barrier.grade == Grade::Reinforced;
-    let (
-        Clearance {
-            figure: clearance,
-            withstand_v,
-            table_v,
-            procedure_1_mm: p1,
-            procedure_2_mm: p2,
-            peak_v: peak,
-            altitude_factor: factor,
-            governed_by,
-        },
-        (creepage, column, group),
-    ) = both(
+    let (d, c) = with_table_creepage(
+        (t, TABLE_17, &CREEPAGE_NOTES),
+        rules,
+        cond,
+        barrier,
         clearance(t, cond, barrier, reinforced),
-        creepage(t, rules, cond, barrier, reinforced),
     )?;
-    let (mut clearance, mut creepage) = (clearance, creepage);
-    let mut creepage_governed_by = "creepage-table";
-    let mut double_parts = None;
-    if barrier.grade == Grade::Double {
-        if at_least_clearance(&mut creepage, clearance.mm) {
-            creepage_governed_by = "clearance";
-        }
-        double_parts = Some(double_up(&mut clearance, &mut creepage));
-    } else if at_least_clearance(&mut creepage, clearance.mm) {
-        creepage_governed_by = "clearance";
-    }
-    let label = super::figure_label(barrier.grade);
-    clearance.steps.push(Step::new(
-        None,
-        format!("Required clearance ({label}): {} mm.", show(clearance.mm)),
-    ));
-    creepage.steps.push(Step::new(
-        None,
-        format!("Required creepage ({label}): {} mm.", show(creepage.mm)),
-    ));
     Ok(Dimensioned {
-        clearance,
-        creepage,
         method: "iec62368-1",
-        clearance_governed_by: governed_by,
-        creepage_governed_by,
-        rated_impulse_v: Some(withstand_v),
-        clearance_impulse_v: Some(table_v),
-        altitude_factor: factor,
-        creepage_column: column.to_string(),
-        material_group: Some(group.as_str()),
-        double_parts,
-        transient_clearance_mm: Some(p2),
-        steady_state_clearance_mm: Some(p1),
-        steady_state_peak_v: Some(peak),
+        clearance_governed_by: c.governed_by,
+        rated_impulse_v: Some(c.withstand_v),
+        clearance_impulse_v: Some(c.table_v),
+        altitude_factor: c.altitude_factor,
+        transient_clearance_mm: Some(c.procedure_2_mm),
+        steady_state_clearance_mm: Some(c.procedure_1_mm),
+        steady_state_peak_v: Some(c.peak_v),
+        ..d
     })
 }
 

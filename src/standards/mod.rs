@@ -9,12 +9,10 @@ mod iec60601;
 mod iec60664;
 mod iec62368;
 
-use std::collections::BTreeMap;
-
 use serde::{Deserialize, Serialize};
 
 use crate::project::{Barrier, Grade};
-use crate::rules::{EPS, Typed};
+use crate::rules::{EPS, Validation};
 use crate::spacing::{BarrierResult, Conditions, Figure, OutOfTable, Step, show, tidy};
 
 /// The standard a design is judged against (`[design] standard`).
@@ -147,6 +145,55 @@ pub fn two_mopp_capacitor(
         ),
     ));
     Some(accepted)
+}
+
+/// Basic-rated capacitors in series across double or reinforced insulation (two Y2, say)
+/// under a named end-product standard. The published sources carried (rules/SOURCES.md,
+/// "Safety capacitors") say that two Y2 in series is community practice under IEC 60950-1,
+/// not universal, and that the end-product standard's electric strength test decides (under
+/// IEC 60601-1 two Y2 do not withstand the 4000 V a.c. test of 2 MOPP). What they give of a
+/// Y2 is its impulse test (5 kV, IEC 60384-14, confirmed against maker data sheets), which
+/// is not that electric strength test; no rule of IEC 62368-1, IEC 60335-1 or IEC 60601-1
+/// on capacitors in series is carried. So acceptance cannot be proven here: `true` (the
+/// lab's test decides, a warning) with a step naming the standard and the barrier's test
+/// voltage. `false` under the IEC 60664-1 basics (the IEC 60950-1 practice stands, with a
+/// note) or where the series rule did not accept the string (`series_accepted`).
+pub fn series_capacitors_test_decides(
+    barrier: &crate::spacing::BarrierResult,
+    series_accepted: bool,
+    subclass: Option<(&str, f64, &str)>,
+    count_in_series: u32,
+    steps: &mut Vec<Step>,
+) -> bool {
+    if !series_accepted || barrier.standard == Standard::Iec60664.as_str() {
+        return false;
+    }
+    let test = match (barrier.test_v_rms, barrier.test_v_dc) {
+        (Some(rms), Some(dc)) => format!(
+            "{} V rms a.c. or {} V peak or d.c. ({})",
+            show(rms),
+            show(dc),
+            barrier.test_v_basis
+        ),
+        _ => format!("not computed here ({})", barrier.test_v_basis),
+    };
+    let impulse = subclass
+        .map(|(name, v, source)| {
+            format!(
+                " A {name} is impulse-tested at {} V peak ({source}); an impulse test is not the electric strength test, and no a.c. or d.c. withstand figure of a {name} is carried.",
+                show(v)
+            )
+        })
+        .unwrap_or_default();
+    steps.push(Step::new(
+        None,
+        format!(
+            "{}: the common practice is not proof under this standard; {count_in_series} basic-rated capacitors in series across {} insulation are accepted only where the string withstands the barrier's electric strength test, {test}.{impulse} The sources carried do not prove it (two Y2 in series is community practice under IEC 60950-1, not universal: rules/SOURCES.md \"Safety capacitors\"), so the lab's electric strength test decides: a warning, not a pass.",
+            barrier.standard_title,
+            barrier.means_of_protection.unwrap_or(barrier.grade.as_str()),
+        ),
+    ));
+    true
 }
 
 /// The words a barrier's `grade` may take: the means of protection (accepted only under
@@ -415,21 +462,14 @@ impl StandardTable {
     }
 }
 
-/// Every table of the end-product standards (one generic form under many ids), loaded
-/// together as one set of the rule book.
-impl crate::rules::TableSet for StandardRules {
-    fn load(typed: &mut Typed) -> Option<Self> {
-        Self::load_all(typed)
-    }
+/// The end-product standards' tables (one generic form under many ids), read from the
+/// rule book's store on first use.
+#[derive(Debug, Clone, Copy)]
+pub struct StandardRules<'a> {
+    store: &'a crate::rules::TableStore,
 }
 
-/// Every table of the end-product standards, by id.
-#[derive(Debug, Clone)]
-pub struct StandardRules {
-    pub tables: BTreeMap<String, StandardTable>,
-}
-
-impl StandardRules {
+impl<'a> StandardRules<'a> {
     /// The ids the methods read; each must be loaded (a house file may replace one).
     pub const IDS: &'static [&'static str] = &[
         iec62368::TABLE_10,
@@ -449,24 +489,22 @@ impl StandardRules {
         iec60335::TEST_VOLTAGES,
     ];
 
-    fn load_all(typed: &mut Typed) -> Option<StandardRules> {
-        let mut tables = BTreeMap::new();
-        let mut complete = true;
-        for id in Self::IDS {
-            match typed.get_by_id::<StandardTable>(id, StandardTable::check) {
-                Some(t) => {
-                    tables.insert(id.to_string(), t);
-                }
-                None => complete = false,
-            }
-        }
-        complete.then_some(StandardRules { tables })
+    pub(crate) fn new(store: &'a crate::rules::TableStore) -> Self {
+        StandardRules { store }
     }
 
-    fn table(&self, id: &str) -> Result<&StandardTable, OutOfTable> {
-        self.tables.get(id).ok_or_else(|| {
-            OutOfTable::new("rules", format!("no rule table with id \"{id}\" is loaded"))
-        })
+    /// When the rule book is loaded: every id is there, and a house table is read and
+    /// checked now.
+    pub(crate) fn require(tables: &mut Validation) {
+        for id in Self::IDS {
+            tables.require::<StandardTable>(id, StandardTable::check);
+        }
+    }
+
+    fn table(&self, id: &str) -> Result<&'a StandardTable, OutOfTable> {
+        self.store
+            .by_id::<StandardTable>(id, StandardTable::check)
+            .map_err(|d| OutOfTable::new("rules", d.message))
     }
 
     /// The standard each rule file belongs to, for `gapwarden rules`: the standards' own
@@ -594,7 +632,7 @@ pub fn evaluate(
     standard: Standard,
     barrier: &Barrier,
 ) -> Result<BarrierResult, Vec<OutOfTable>> {
-    let std_rules = &rules.standards;
+    let std_rules = &rules.standards();
     if barrier.means.is_some() && standard != Standard::Iec60601 {
         return Err(vec![OutOfTable::new(
             "grade",
@@ -801,6 +839,156 @@ fn general_column(pollution_degree: u8, group: crate::project::MaterialGroup) ->
         (_, G::II) => "pd3_group_ii",
         (_, _) => "pd3_group_iii",
     }
+}
+
+/// The column of a mains-transient table (IEC 62368-1 Table 12, IEC 60335-1 Table 15) for
+/// the project's overvoltage category.
+fn overvoltage_column(category: crate::project::OvervoltageCategory) -> &'static str {
+    use crate::project::OvervoltageCategory as C;
+    match category {
+        C::I => "ovc_i",
+        C::II => "ovc_ii",
+        C::III => "ovc_iii",
+        C::IV => "ovc_iv",
+    }
+}
+
+/// `basic` times the table's `reinforced_factor` constant, with a step citing it.
+fn times_reinforced_factor(
+    table: &StandardTable,
+    basic: f64,
+    steps: &mut Vec<Step>,
+) -> Result<f64, OutOfTable> {
+    let (factor, why) = table.constant("reinforced_factor")?;
+    let mm = tidy(basic * factor);
+    steps.push(Step::new(
+        Some(&table.id),
+        format!(
+            "Reinforced insulation: {} × {} = {} mm ({why}).",
+            show(basic),
+            show(factor),
+            show(mm)
+        ),
+    ));
+    Ok(mm)
+}
+
+/// What a standard says about its creepage table where the project asks for something the
+/// table is not carried for.
+struct CreepageNotes {
+    /// On a printed board: the table's general columns are used.
+    printed_board: &'static str,
+    /// With `creepage_between_rows = "interpolate"`, where the standard's table is read at
+    /// the next higher row instead (None: said nowhere).
+    interpolate: Option<&'static str>,
+}
+
+/// Creepage from a standard's creepage table by working voltage (IEC 62368-1 Table 17,
+/// IEC 60335-1 Table 17): material group, the general column for the pollution degree,
+/// the basic figure, and reinforced by the table's factor.
+fn table_creepage(
+    t: &StandardRules,
+    table_id: &str,
+    notes: &CreepageNotes,
+    rules: &crate::rules::RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    reinforced: bool,
+) -> Result<(Figure, &'static str, crate::project::MaterialGroup), OutOfTable> {
+    let table = t.table(table_id)?;
+    let mut steps = Vec::new();
+    let (group, step) = crate::spacing::material_group(
+        rules.table::<crate::rules::MaterialGroupTable>(),
+        barrier.material,
+    )?;
+    steps.push(step);
+    let column = general_column(cond.pollution_degree.clamp(1, 3), group);
+    if barrier.printed_board {
+        steps.push(Step::new(None, notes.printed_board));
+    }
+    if let Some(note) = notes.interpolate
+        && cond.creepage_between_rows == crate::project::BetweenRows::Interpolate
+    {
+        steps.push(Step::new(None, note));
+    }
+    let basic = table.read(
+        barrier.working_rms_v,
+        column,
+        "working_rms_v",
+        "Basic creepage",
+    )?;
+    steps.push(basic.step);
+    let mm = if reinforced {
+        times_reinforced_factor(table, basic.value, &mut steps)?
+    } else {
+        basic.value
+    };
+    Ok((Figure { mm, steps }, column, group))
+}
+
+/// The method IEC 62368-1 and IEC 60335-1 share once their own clearance is found: the
+/// creepage from the standard's creepage table (`creepage`: the rules, the table's id and
+/// its notes), both refusals at once, then `finish`. Returns the figures with the fields
+/// the clearance method sets left empty (the caller fills them), and what the clearance
+/// method returned beside its figure.
+fn with_table_creepage<C>(
+    creepage: (&StandardRules, &str, &CreepageNotes),
+    rules: &crate::rules::RuleBook,
+    cond: &Conditions,
+    barrier: &Barrier,
+    clearance: Result<(Figure, C), OutOfTable>,
+) -> Result<(Dimensioned, C), Vec<OutOfTable>> {
+    let (t, table_id, notes) = creepage;
+    let reinforced = barrier.grade == Grade::Reinforced;
+    let ((mut clearance, found), (mut creepage, column, group)) = both(
+        clearance,
+        table_creepage(t, table_id, notes, rules, cond, barrier, reinforced),
+    )?;
+    let (creepage_governed_by, double_parts) = finish(&mut clearance, &mut creepage, barrier.grade);
+    Ok((
+        Dimensioned {
+            clearance,
+            creepage,
+            method: "",
+            clearance_governed_by: "",
+            creepage_governed_by,
+            rated_impulse_v: None,
+            clearance_impulse_v: None,
+            altitude_factor: 1.0,
+            creepage_column: column.to_string(),
+            material_group: Some(group.as_str()),
+            double_parts,
+            transient_clearance_mm: None,
+            steady_state_clearance_mm: None,
+            steady_state_peak_v: None,
+        },
+        found,
+    ))
+}
+
+/// After a standard's tables: creepage never below the clearance, double insulation as
+/// basic plus supplementary, and each figure's last step. Returns what governs the creepage
+/// ("creepage-table" or "clearance") and the double insulation's parts.
+fn finish(
+    clearance: &mut Figure,
+    creepage: &mut Figure,
+    grade: Grade,
+) -> (&'static str, Option<crate::spacing::DoubleParts>) {
+    let creepage_governed_by = if at_least_clearance(creepage, clearance.mm) {
+        "clearance"
+    } else {
+        "creepage-table"
+    };
+    let double_parts = (grade == Grade::Double).then(|| double_up(clearance, creepage));
+    let label = figure_label(grade);
+    for (figure, what) in [(clearance, "clearance"), (creepage, "creepage")] {
+        let mm = figure.mm;
+        figure.steps.push(Step::new(
+            None,
+            format!("Required {what} ({label}): {} mm.", show(mm)),
+        ));
+    }
+    (creepage_governed_by, double_parts)
 }
 
 /// The altitude above which a standard whose tables hold to 2000 m carries no factor.

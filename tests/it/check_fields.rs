@@ -116,3 +116,24 @@ fn shipped_check_expressions_and_messages_name_existing_fields() {
     assert!(seen > 200, "the messages read many fields ({seen})");
     assert!(problems.is_empty(), "{problems:#?}");
 }
+
+/// A run validates only house checks; the shipped checks' `over` and predicate fields are
+/// validated here, against the generated list, and a list that lacks their fields refuses
+/// them (so the validation is real, not skipped).
+#[test]
+fn shipped_check_predicates_and_sections_are_valid_against_the_field_list() {
+    if let Err(p) = RuleBook::load_with_fields(None, &Fields::shipped()) {
+        panic!("the shipped checks name fields the report does not have:\n{p}");
+    }
+    let too_short = Fields::parse("barriers list\nbarriers[] map\nbarriers[].id string\n");
+    let problems = match RuleBook::load_with_fields(None, &too_short) {
+        Ok(_) => panic!("the shipped checks passed a field list without their fields"),
+        Err(p) => p.0,
+    };
+    assert!(
+        problems
+            .iter()
+            .any(|d| d.file.starts_with("rules/checks/") && d.key.is_some()),
+        "{problems:#?}"
+    );
+}

@@ -418,6 +418,19 @@ const CASES: &[Case] = &[
         also: &[],
     },
     Case {
+        id: "isolation.means_short",
+        base: MEDICAL,
+        // IEC 60601-1 (issue 13's rule; rules/SOURCES.md "IEC 60601-1"): the applied part
+        // `output` needs 2 MOPP from the mains. Through ac-input -[functional]- primary
+        // -[pri-sec]- output, a 2 MOOP pri-sec gives 0 MOPP (operator means do not count
+        // toward a patient) and is short; as 2 MOPP it gives 2. Both grades count as
+        // reinforced for the protection class, so isolation.insufficient stays quiet.
+        common: &[],
+        raise: &[Set("barrier[pri-sec].grade", "\"2-moop\"")],
+        clear: &[Set("barrier[pri-sec].grade", "\"2-mopp\"")],
+        also: &[],
+    },
+    Case {
         id: "isolation.relies_on_earth",
         base: CLASS1,
         common: &[],
@@ -531,6 +544,21 @@ const CASES: &[Case] = &[
         base: CLASS2,
         // Two Y2 in series across reinforced insulation: community practice under IEC
         // 60950-1, not universal (rules/SOURCES.md "Safety capacitors"); two Y1 need no note.
+        // The note speaks under the IEC 60664-1 basics; under a named end-product standard
+        // part.y_series_test_decides speaks instead.
+        common: &[IEC60664, Set("part[CY1].count_in_series", "2")],
+        raise: &[Set("part[CY1].subclass", "\"Y2\"")],
+        clear: &[Set("part[CY1].subclass", "\"Y1\"")],
+        also: &[],
+    },
+    Case {
+        id: "part.y_series_test_decides",
+        base: CLASS2,
+        // The example's IEC 62368-1: two Y2 in series across the reinforced pri-sec barrier
+        // are accepted only where they withstand its electric strength test (4000 V peak:
+        // Table 25 reinforced at 2500 V and Table 27 mains up to 250 V, one source each);
+        // the sources carried do not prove it (rules/SOURCES.md "Safety capacitors"), so it
+        // is a warning. Two Y1 may bridge reinforced insulation (IEC 60384-14).
         common: &[Set("part[CY1].count_in_series", "2")],
         raise: &[Set("part[CY1].subclass", "\"Y2\"")],
         clear: &[Set("part[CY1].subclass", "\"Y1\"")],

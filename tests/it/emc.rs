@@ -97,9 +97,14 @@ fn sloped_limit(at_150k: f64, at_500k: f64, frequency_hz: f64) -> f64 {
 
 fn limit(class: LimitClass, detector: Detector, frequency_hz: f64) -> f64 {
     let book = rules();
-    limit_dbuv(&book.emc.limits, class, detector, frequency_hz)
-        .unwrap_or_else(|e| panic!("{frequency_hz} Hz refused: {}", e.message))
-        .0
+    limit_dbuv(
+        book.table::<gapwarden::emc::rules::LimitTable>(),
+        class,
+        detector,
+        frequency_hz,
+    )
+    .unwrap_or_else(|e| panic!("{frequency_hz} Hz refused: {}", e.message))
+    .0
 }
 
 /// dBuV of the rms value of a sine with this peak voltage.
@@ -193,8 +198,13 @@ fn a_frequency_outside_150_khz_to_30_mhz_is_refused_with_the_band_named() {
         f64::NAN,
         f64::INFINITY,
     ] {
-        let refused = limit_dbuv(&book.emc.limits, LimitClass::B, Detector::QuasiPeak, f)
-            .expect_err("outside the band must be refused");
+        let refused = limit_dbuv(
+            book.table::<gapwarden::emc::rules::LimitTable>(),
+            LimitClass::B,
+            Detector::QuasiPeak,
+            f,
+        )
+        .expect_err("outside the band must be refused");
         assert!(
             refused.message.contains("150 kHz to 30 MHz"),
             "the band is named: {}",

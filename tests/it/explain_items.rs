@@ -57,6 +57,8 @@ fn shown(json: &Value) -> Vec<String> {
     for id in strings(json, "/barriers", "id") {
         items.push(format!("{id}.clearance"));
         items.push(format!("{id}.creepage"));
+        // The electric strength test (test_v_rms, test_v_dc, or why there is none).
+        items.push(format!("{id}.electric_strength"));
         items.push(id);
     }
     if !json["isolation"].is_null() {

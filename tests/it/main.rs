@@ -24,6 +24,7 @@ mod positions;
 mod power_entry;
 mod properties;
 mod report_layout;
+mod rule_tables;
 mod schema;
 mod size_limits;
 mod sources;

@@ -146,7 +146,11 @@ pub fn functional_spacing(
             show(B3_ABOVE_M)
         ),
     ));
-    let (mm, step) = table_spacing(&rules.insulation.board, peak, column)?;
+    let (mm, step) = table_spacing(
+        rules.table::<crate::rules::BoardSpacingTable>(),
+        peak,
+        column,
+    )?;
     steps.push(step);
     steps.push(Step::new(
         None,

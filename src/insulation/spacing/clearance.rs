@@ -439,14 +439,17 @@ pub fn required(
             v
         }
         None => {
-            let (v, step) = rated_impulse(&rules.insulation.impulse, cond)?;
+            let (v, step) = rated_impulse(rules.table::<crate::rules::ImpulseTable>(), cond)?;
             steps.push(step);
             v
         }
     };
     let reinforced = grade == Grade::Reinforced;
     let clearance_impulse_v = if reinforced {
-        let (v, step) = step_up(&rules.insulation.reinforced, rated_impulse_v);
+        let (v, step) = step_up(
+            rules.table::<crate::rules::ReinforcedRule>(),
+            rated_impulse_v,
+        );
         steps.push(step);
         v
     } else {
@@ -459,7 +462,7 @@ pub fn required(
     };
     let pd = cond.pollution_degree;
     let transient = table_clearance(
-        &rules.insulation.clearance,
+        rules.table::<crate::rules::ClearanceTable>(),
         clearance_impulse_v,
         barrier.field,
         pd,
@@ -468,7 +471,7 @@ pub fn required(
     );
 
     // The steady-state (or recurring) peak: as declared, or the peak of a sinusoid.
-    let steady_table = &rules.insulation.steady_state;
+    let steady_table = rules.table::<crate::rules::SteadyStateClearanceTable>();
     let peak = match barrier.working_peak_v {
         Some(p) => {
             steps.push(Step::new(
@@ -534,7 +537,9 @@ pub fn required(
     }
 
     let index = (pd.clamp(1, 3) - 1) as usize;
-    let minimum = rules.insulation.clearance.pollution_degree_minimum_mm[index]
+    let minimum = rules
+        .table::<crate::rules::ClearanceTable>()
+        .pollution_degree_minimum_mm[index]
         .max(steady_table.pollution_degree_minimum_mm[index]);
     if mm < minimum {
         steps.push(Step::new(
@@ -542,7 +547,7 @@ pub fn required(
             format!(
                 "Raised to the pollution degree {pd} minimum of {} mm ({}; the same minimum applies to {}, from memory).",
                 show(minimum),
-                rules.insulation.clearance.source,
+                rules.table::<crate::rules::ClearanceTable>().source,
                 steady_table.source
             ),
         ));
@@ -551,7 +556,7 @@ pub fn required(
     }
 
     let (factor, step) = altitude_factor(
-        &rules.insulation.altitude,
+        rules.table::<crate::rules::AltitudeTable>(),
         cond.altitude_m,
         cond.altitude_between_rows,
     )?;

@@ -287,28 +287,39 @@ pub fn from_table(
     grade: Grade,
 ) -> Result<Creepage, OutOfTable> {
     let mut steps = Vec::new();
-    let (group, step) = material_group(&rules.insulation.material_groups, barrier.material)?;
+    let (group, step) = material_group(
+        rules.table::<crate::rules::MaterialGroupTable>(),
+        barrier.material,
+    )?;
     steps.push(step);
     let (column, note) = column(cond.pollution_degree, group, barrier.printed_board);
     if let Some(note) = note {
         steps.push(Step::new(None, note));
     }
     let (mut mm, step) = table_creepage(
-        &rules.insulation.creepage,
+        rules.table::<crate::rules::CreepageTable>(),
         barrier.working_rms_v,
         column,
         cond.creepage_between_rows,
     )?;
     steps.push(step);
     if grade == Grade::Reinforced {
-        let doubled = tidy(mm * rules.insulation.reinforced.creepage_factor);
+        let doubled = tidy(
+            mm * rules
+                .table::<crate::rules::ReinforcedRule>()
+                .creepage_factor,
+        );
         steps.push(Step::new(
             Some(ReinforcedRule::ID),
             format!(
                 "Reinforced insulation: {} x the basic creepage: {} mm ({}).",
-                show(rules.insulation.reinforced.creepage_factor),
+                show(
+                    rules
+                        .table::<crate::rules::ReinforcedRule>()
+                        .creepage_factor
+                ),
                 show(doubled),
-                rules.insulation.reinforced.source
+                rules.table::<crate::rules::ReinforcedRule>().source
             ),
         ));
         mm = doubled;

@@ -334,7 +334,7 @@ pub(crate) fn narrowest_groove(
     cond: &Conditions,
     clearance_mm: f64,
 ) -> (f64, Step) {
-    let table = &rules.insulation.grooves;
+    let table = rules.table::<crate::rules::GrooveTable>();
     let pd = cond.pollution_degree.clamp(1, 3);
     let x = table.min_width_mm[(pd - 1) as usize];
     let head = format!(
@@ -458,7 +458,7 @@ pub(crate) fn house_minimums(
     mut clearance: Figure,
     mut creepage: Figure,
 ) -> (Figure, Figure, HouseApplied) {
-    let table = &rules.insulation.minimums;
+    let table = rules.table::<crate::rules::MinimumDistances>();
     let mut applied = [false, false];
     for (i, (figure, floor, what)) in [
         (&mut clearance, table.clearance_mm.get(grade), "clearance"),
