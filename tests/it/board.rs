@@ -10,17 +10,18 @@ use gapwarden::board::{self, Board, Index, gerber};
 use proptest::prelude::*;
 
 /// Measured gaps lose this much each (see the module comment).
-const GAP_LOSS: f64 = 0.004;
+pub(super) const GAP_LOSS: f64 = 0.004;
 
-/// A Gerber X2 file in millimetres, format 4.6, with its file function.
-fn gbr(function: &str, body: &str) -> String {
+/// A Gerber X2 file in millimetres, format 4.6, with its file function: its body starts on
+/// line 7.
+pub(super) fn gbr(function: &str, body: &str) -> String {
     format!(
         "G04 test board*\n%FSLAX46Y46*%\n%MOMM*%\n%TF.FileFunction,{function}*%\n%LPD*%\nG75*\n{body}M02*\n"
     )
 }
 
 /// Millimetres as a 4.6 coordinate.
-fn c(v: f64) -> String {
+pub(super) fn c(v: f64) -> String {
     format!("{}", (v * 1e6).round() as i64)
 }
 

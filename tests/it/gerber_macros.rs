@@ -13,20 +13,9 @@
 
 use gapwarden::board::{self, Board, Index, gerber};
 
-const GAP_LOSS: f64 = 0.004;
+use super::board::{GAP_LOSS, c, gbr};
+
 const CHORD: f64 = 0.002;
-
-/// A Gerber X2 file in millimetres, format 4.6: its body starts on line 7.
-fn gbr(function: &str, body: &str) -> String {
-    format!(
-        "G04 macro test*\n%FSLAX46Y46*%\n%MOMM*%\n%TF.FileFunction,{function}*%\n%LPD*%\nG75*\n{body}M02*\n"
-    )
-}
-
-/// Millimetres as a 4.6 coordinate.
-fn c(v: f64) -> String {
-    format!("{}", (v * 1e6).round() as i64)
-}
 
 fn outline() -> String {
     gbr(
