@@ -292,6 +292,8 @@ th { background: var(--head); }
 code { font-size: 0.85rem; word-break: break-all; }
 /* A hash alone in a cell: two lines of 32 digits, not a column of seven. */
 td > code:only-child { display: inline-block; width: 32ch; font-size: 0.78rem; }
+/* A rule file's path has no spaces: let it break so that the table fits the page. */
+#rule-tables + h2 + .table td:nth-child(5) { overflow-wrap: anywhere; min-width: 8ch; }
 pre { background: #f6f8fa; padding: 0.5rem 0.75rem; overflow-x: auto; }
 blockquote { border-left: 4px solid #b3541e; margin: 1rem 0; padding: 0.25rem 1rem; background: #fbf3ee; }
 li { margin: 0.2rem 0; }
