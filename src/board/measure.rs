@@ -523,65 +523,48 @@ impl<'b> Index<'b> {
                                 );
                             }
                         });
-                        if l <= 1 && with_rims {
-                            self.rim_grid.query(&gbox.grown(r + tol), |k| {
-                                let (p, _) = self.rim[k as usize];
-                                let v = rim0 + 2 * k as usize + l as usize;
-                                if dist[v] <= d {
-                                    return;
-                                }
-                                for si in group.clone() {
-                                    let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
-                                    let w = (gap - one).max(0.0);
-                                    if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
-                                        continue;
+                        // Rim points and cut-out corners on this face are reached alike: the
+                        // gap from this group of edges to the point, seen past the obstacles.
+                        let mut reach_points =
+                            |grid: &Grid, base: usize, point: &dyn Fn(usize) -> P| {
+                                grid.query(&gbox.grown(r + tol), |k| {
+                                    let p = point(k as usize);
+                                    let v = base + 2 * k as usize + l as usize;
+                                    if dist[v] <= d {
+                                        return;
                                     }
-                                    relax(
-                                        v,
-                                        w,
-                                        Pred {
-                                            from: u,
-                                            from_pt: pu,
-                                            from_layer: l,
-                                            to_pt: p,
-                                            to_layer: l,
-                                        },
-                                        &mut dist,
-                                        &mut heap,
-                                    );
-                                }
-                            });
+                                    for si in group.clone() {
+                                        let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
+                                        let w = (gap - one).max(0.0);
+                                        if w > r
+                                            || d + w >= dist[v]
+                                            || (gap > 0.0 && !visible(pu, p))
+                                        {
+                                            continue;
+                                        }
+                                        relax(
+                                            v,
+                                            w,
+                                            Pred {
+                                                from: u,
+                                                from_pt: pu,
+                                                from_layer: l,
+                                                to_pt: p,
+                                                to_layer: l,
+                                            },
+                                            &mut dist,
+                                            &mut heap,
+                                        );
+                                    }
+                                });
+                            };
+                        if l <= 1 && with_rims {
+                            reach_points(&self.rim_grid, rim0, &|k| self.rim[k].0);
                         }
                         if l <= 1
                             && let Some(o) = obstacles
                         {
-                            o.corner_grid.query(&gbox.grown(r + tol), |k| {
-                                let p = o.corners[k as usize];
-                                let v = corner0 + 2 * k as usize + l as usize;
-                                if dist[v] <= d {
-                                    return;
-                                }
-                                for si in group.clone() {
-                                    let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
-                                    let w = (gap - one).max(0.0);
-                                    if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, p)) {
-                                        continue;
-                                    }
-                                    relax(
-                                        v,
-                                        w,
-                                        Pred {
-                                            from: u,
-                                            from_pt: pu,
-                                            from_layer: l,
-                                            to_pt: p,
-                                            to_layer: l,
-                                        },
-                                        &mut dist,
-                                        &mut heap,
-                                    );
-                                }
-                            });
+                            reach_points(&o.corner_grid, corner0, &|k| o.corners[k]);
                         }
                     }
                     if let Some(inside) = self.inside.get(&u) {
