@@ -25,8 +25,8 @@ use super::{Board, Layer, Net, Shape};
 
 /// Spacing of the points placed along each rim (board edge, holes, slots).
 pub const RIM_SPACING_MM: f64 = 0.05;
-/// First reach of a hop; grown when no path is found within it.
-const FIRST_REACH_MM: f64 = 4.0;
+/// Outer radius of the first ring of hops; each further ring doubles it.
+const FIRST_RING_MM: f64 = 1.0;
 /// A point closer than this to a cut-out's edge is on it, not inside.
 const ON_EDGE_MM: f64 = 1e-7;
 
@@ -99,6 +99,8 @@ pub struct Index<'b> {
     rim_at: Vec<f64>,
     /// Each rim's length.
     rim_length: Vec<f64>,
+    /// Index of each rim's first point (one more entry: the number of rim points).
+    rim_first: Vec<u32>,
     rim_grid: Grid,
 }
 
@@ -111,12 +113,16 @@ struct Obstacles {
     corner_grid: Grid,
 }
 
+/// A queue entry: key, node, and which ring of the node's hops it opens (0: the node
+/// itself is reached; bits 16 and 17 for a rim point's two directions along its rim).
 #[derive(Clone, Copy, PartialEq)]
-struct Entry(f64, u32);
+struct Entry(f64, u32, u32);
 impl Eq for Entry {}
 impl Ord for Entry {
     fn cmp(&self, o: &Self) -> Ordering {
-        o.0.total_cmp(&self.0).then(o.1.cmp(&self.1))
+        o.0.total_cmp(&self.0)
+            .then(o.1.cmp(&self.1))
+            .then(o.2.cmp(&self.2))
     }
 }
 impl PartialOrd for Entry {
@@ -189,6 +195,7 @@ impl<'b> Index<'b> {
         let mut rim = Vec::new();
         let mut rim_at = Vec::new();
         let mut rim_length = Vec::new();
+        let mut rim_first = Vec::new();
         let rims = board
             .cutouts
             .iter()
@@ -196,6 +203,7 @@ impl<'b> Index<'b> {
             .chain(std::iter::once(&board.outline));
         for (ri, ring) in rims.enumerate() {
             let n = ring.len();
+            rim_first.push(rim.len() as u32);
             let mut along = 0.0;
             for k in 0..n {
                 let (a, b) = (ring[k], ring[(k + 1) % n]);
@@ -210,6 +218,7 @@ impl<'b> Index<'b> {
             }
             rim_length.push(along);
         }
+        rim_first.push(rim.len() as u32);
         let rim_boxes: Vec<Bbox> = rim.iter().map(|(p, _)| Bbox { min: *p, max: *p }).collect();
         let rim_grid = Grid::build(&rim_boxes, Some(1.0));
 
@@ -226,6 +235,7 @@ impl<'b> Index<'b> {
             rim,
             rim_at,
             rim_length,
+            rim_first,
             rim_grid,
         };
         index.find_inside();
@@ -266,6 +276,11 @@ impl<'b> Index<'b> {
                 self.inside.entry(v).or_default().push(i as u32);
             }
         }
+    }
+
+    fn obj_bbox(&self, o: u32) -> Bbox {
+        self.obj_segs(o)
+            .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]))
     }
 
     fn obj_segs(&self, o: u32) -> std::ops::Range<usize> {
@@ -360,8 +375,8 @@ impl<'b> Index<'b> {
         }
     }
 
-    /// The shortest path with hops of unlimited length: searched with a reach that grows
-    /// until the distance found is within it.
+    /// The shortest path with hops of unlimited length (see the module comment: hops are
+    /// taken in rings of growing length, and a ring is skipped where it cannot help).
     fn shortest(
         &self,
         layers: &[usize],
@@ -385,21 +400,7 @@ impl<'b> Index<'b> {
         let most = (all.max[0] - all.min[0]).hypot(all.max[1] - all.min[1])
             + 2.0 * self.board.thickness_mm
             + 1.0;
-        let mut reach = FIRST_REACH_MM;
-        loop {
-            match self.search(layers, obstacles, is_a, is_b, reach, f64::INFINITY) {
-                Some(found) if found.distance_mm <= reach => return Some(found),
-                Some(found) => {
-                    // The path found is a real one: no shorter path has a step longer than
-                    // it, and no step that cannot end below it needs looking at. The
-                    // micrometre covers the rounding of the figure.
-                    let bound = found.distance_mm + 1e-6;
-                    return self.search(layers, obstacles, is_a, is_b, bound, bound);
-                }
-                None if reach >= most => return None,
-                None => reach = (reach * 2.0).min(most),
-            }
-        }
+        self.search(layers, obstacles, is_a, is_b, all, most)
     }
 
     fn on_any(&self, o: u32, layers: &[usize]) -> bool {
@@ -413,8 +414,8 @@ impl<'b> Index<'b> {
         obstacles: Option<&Obstacles>,
         is_a: &[bool],
         is_b: &[bool],
-        reach: f64,
-        bound: f64,
+        all: Bbox,
+        most: f64,
     ) -> Option<MeasuredPath> {
         let n = self.board.conductors.len();
         let with_rims = layers.contains(&0) || layers.contains(&1);
@@ -427,134 +428,187 @@ impl<'b> Index<'b> {
         let rimx0 = n + 2 * n_rim;
         let corner0 = n + 4 * n_rim;
         let total = corner0 + 2 * n_corner;
-        let mut dist = vec![f64::INFINITY; total];
-        let mut pred: Vec<Option<Pred>> = vec![None; total];
-        let mut heap = BinaryHeap::new();
+        let mut st = State {
+            dist: vec![f64::INFINITY; total],
+            pred: vec![None; total],
+            heap: BinaryHeap::new(),
+            best: f64::INFINITY,
+            n,
+            is_b,
+        };
+        let mut settled = vec![false; total];
         for (i, &x) in is_a.iter().enumerate() {
             if x && self.on_any(i as u32, layers) {
-                dist[i] = 0.0;
-                heap.push(Entry(0.0, i as u32));
+                st.dist[i] = 0.0;
+                st.heap.push(Entry(0.0, i as u32, 0));
             }
         }
-        // Steps that cannot end within `bound` (the length of a path known to exist) are
-        // not taken; the search stops at the second circuit's first copper as before.
-        let mut best = bound;
+        let mut cells = Cells::new(all, self.segs.len(), layers, self.layers.len(), obstacles);
         let mut target = None;
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
         let one = CHORD_TOLERANCE_MM;
         let tol = 2.0 * one;
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
+        let face_of = |l: u8| layers.contains(&(l as usize));
 
-        while let Some(Entry(d, u)) = heap.pop() {
-            if d > dist[u as usize] {
-                continue;
-            }
-            if d >= best && target.is_some() {
+        while let Some(Entry(key, u, aux)) = st.heap.pop() {
+            if key >= st.best && target.is_some() {
                 break;
             }
             let ui = u as usize;
-            if ui < n && is_b[ui] {
-                target = Some(u);
-                break;
-            }
-            let r = reach.min(best - d);
-            if r < 0.0 {
-                continue;
-            }
-            let mut relax =
-                |v: usize, w: f64, p: Pred, dist: &mut Vec<f64>, heap: &mut BinaryHeap<Entry>| {
-                    let nd = d + w.max(0.0);
-                    if nd < dist[v] {
-                        dist[v] = nd;
-                        pred[v] = Some(p);
-                        heap.push(Entry(nd, v as u32));
-                        if v < n && is_b[v] && nd < best {
-                            best = nd;
+            let ring = aux & 0xffff;
+            let mut dirs = aux >> 16;
+            if ring == 0 {
+                if settled[ui] || key > st.dist[ui] {
+                    continue;
+                }
+                settled[ui] = true;
+                if ui < n && is_b[ui] {
+                    target = Some(u);
+                    break;
+                }
+                if ui < n {
+                    let (l0, l1) = self.obj_layers[ui];
+                    for l in [l0, l1] {
+                        if l != NONE && face_of(l) {
+                            for si in self.obj_segs(u) {
+                                cells.register_seg(l as usize, &self.segs[si], key, u);
+                            }
                         }
                     }
-                };
+                } else if ui >= corner0 {
+                    if let Some(o) = obstacles {
+                        let f = (ui - corner0) % 2;
+                        cells.register(f, o.corners[(ui - corner0) / 2], key, u);
+                    }
+                } else if ui >= rimx0 {
+                    // Reached from the other face, it goes on only along this face: where
+                    // this face's own copper or a corner already reached the point as soon,
+                    // that copper goes everywhere this point goes, no later.
+                    if st.dist[rim0 + (ui - rimx0)] <= key {
+                        continue;
+                    }
+                } else {
+                    dirs = 3;
+                }
+            }
+            let d = st.dist[ui];
+            let k = ring.max(1);
+            let lo = if ring == 0 { -1.0 } else { ring_mm(k - 1) };
+            let hi_ring = ring_mm(k);
+            let cap = st.best - d;
+            if lo > cap {
+                continue;
+            }
+            let hi = hi_ring.min(cap);
+            let in_ring = |w: f64| w > lo && w <= hi;
+            // The point node's position and face (rim points and corners).
+            let point_at = |ui: usize| -> (P, u8) {
+                if ui < rimx0 {
+                    (self.rim[(ui - rim0) / 2].0, ((ui - rim0) % 2) as u8)
+                } else if ui < corner0 {
+                    (self.rim[(ui - rimx0) / 2].0, ((ui - rimx0) % 2) as u8)
+                } else {
+                    (
+                        obstacles.map_or([0.0, 0.0], |o| o.corners[(ui - corner0) / 2]),
+                        ((ui - corner0) % 2) as u8,
+                    )
+                }
+            };
+            if ring >= 2 && ui < n {
+                // Hops longer than `lo` are not needed where every point at that distance
+                // from this conductor is nearer to copper reached sooner (module comment).
+                let ab = self.obj_bbox(u);
+                let a0 = self.segs[self.obj_segs(u).start].a;
+                let (l0, l1) = self.obj_layers[ui];
+                let dominated = [l0, l1].iter().all(|&l| {
+                    l == NONE || !face_of(l) || cells.dominated(l as usize, &ab, a0, lo, d, u)
+                });
+                if dominated {
+                    continue;
+                }
+            } else if ring >= 2 && ui >= rimx0 {
+                let (p, f) = point_at(ui);
+                if cells.dominated(f as usize, &Bbox { min: p, max: p }, p, lo, d, u) {
+                    continue;
+                }
+            }
             if ui < n {
                 let (l0, l1) = self.obj_layers[ui];
                 for l in [l0, l1] {
-                    if l == NONE || !layers.contains(&(l as usize)) {
+                    if l == NONE || !face_of(l) {
                         continue;
                     }
                     let (ids, grid) = &self.layers[l as usize];
                     // Small objects (pads, tracks) query the grid once round their box; large
                     // ones (pours) once per edge, so that a pour does not look at its whole box.
-                    let all = self.obj_segs(u);
-                    let groups: Vec<std::ops::Range<usize>> = if all.len() <= 8 {
-                        vec![all]
+                    let all_segs = self.obj_segs(u);
+                    let groups: Vec<std::ops::Range<usize>> = if all_segs.len() <= 8 {
+                        vec![all_segs]
                     } else {
-                        all.map(|i| i..i + 1).collect()
+                        all_segs.map(|i| i..i + 1).collect()
                     };
                     for group in groups {
                         let gbox = group
                             .clone()
                             .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]));
-                        grid.query(&gbox.grown(r + tol), |k| {
+                        grid.query(&gbox.grown(hi + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
-                            if v == ui || dist[v] <= d || self.seg_box[sj].gap(&gbox) > r + tol {
+                            if v == ui
+                                || st.dist[v] <= d
+                                || self.seg_box[sj].gap(&gbox) > hi + tol
+                            {
                                 return;
                             }
                             for si in group.clone() {
-                                if self.seg_box[sj].gap(&self.seg_box[si]) > r + tol {
+                                if self.seg_box[sj].gap(&self.seg_box[si]) > hi + tol {
                                     continue;
                                 }
                                 let (gap, pu, pv) = g::seg_distance(&self.segs[si], &self.segs[sj]);
                                 let w = (gap - tol).max(0.0);
-                                if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(pu, pv)) {
+                                if !in_ring(w)
+                                    || d + w >= st.dist[v]
+                                    || (gap > 0.0 && !visible(pu, pv))
+                                {
                                     continue;
                                 }
-                                relax(
-                                    v,
-                                    w,
-                                    Pred {
-                                        from: u,
-                                        from_pt: pu,
-                                        from_layer: l,
-                                        to_pt: pv,
-                                        to_layer: l,
-                                    },
-                                    &mut dist,
-                                    &mut heap,
-                                );
+                                st.relax(v, d + w, Pred {
+                                    from: u,
+                                    from_pt: pu,
+                                    from_layer: l,
+                                    to_pt: pv,
+                                    to_layer: l,
+                                });
                             }
                         });
                         // Rim points and cut-out corners on this face are reached alike: the
                         // gap from this group of edges to the point, seen past the obstacles.
                         let mut reach_points =
                             |grid: &Grid, base: usize, point: &dyn Fn(usize) -> P| {
-                                grid.query(&gbox.grown(r + tol), |k| {
+                                grid.query(&gbox.grown(hi + tol), |k| {
                                     let p = point(k as usize);
                                     let v = base + 2 * k as usize + l as usize;
-                                    if dist[v] <= d {
+                                    if st.dist[v] <= d {
                                         return;
                                     }
                                     for si in group.clone() {
                                         let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
                                         let w = (gap - one).max(0.0);
-                                        if w > r
-                                            || d + w >= dist[v]
+                                        if !in_ring(w)
+                                            || d + w >= st.dist[v]
                                             || (gap > 0.0 && !visible(pu, p))
                                         {
                                             continue;
                                         }
-                                        relax(
-                                            v,
-                                            w,
-                                            Pred {
-                                                from: u,
-                                                from_pt: pu,
-                                                from_layer: l,
-                                                to_pt: p,
-                                                to_layer: l,
-                                            },
-                                            &mut dist,
-                                            &mut heap,
-                                        );
+                                        st.relax(v, d + w, Pred {
+                                            from: u,
+                                            from_pt: pu,
+                                            from_layer: l,
+                                            to_pt: p,
+                                            to_layer: l,
+                                        });
                                     }
                                 });
                             };
@@ -567,179 +621,203 @@ impl<'b> Index<'b> {
                             reach_points(&o.corner_grid, corner0, &|k| o.corners[k]);
                         }
                     }
-                    if let Some(inside) = self.inside.get(&u) {
+                    if ring == 0
+                        && let Some(inside) = self.inside.get(&u)
+                    {
                         let at = self.segs[self.obj_segs(u).start].a;
                         for &v in inside {
                             if self.on_any(v, &[l as usize]) {
-                                relax(
-                                    v as usize,
-                                    0.0,
-                                    Pred {
-                                        from: u,
-                                        from_pt: at,
-                                        from_layer: l,
-                                        to_pt: at,
-                                        to_layer: l,
-                                    },
-                                    &mut dist,
-                                    &mut heap,
-                                );
+                                st.relax(v as usize, d, Pred {
+                                    from: u,
+                                    from_pt: at,
+                                    from_layer: l,
+                                    to_pt: at,
+                                    to_layer: l,
+                                });
                             }
                         }
                     }
                 }
-                continue;
-            }
-            // A rim point or a corner, on face `f`.
-            let (p, f, rim_of) = if ui < rimx0 {
-                let k = (ui - rim0) / 2;
-                (self.rim[k].0, ((ui - rim0) % 2) as u8, Some(self.rim[k].1))
-            } else if ui < corner0 {
-                let k = (ui - rimx0) / 2;
-                (self.rim[k].0, ((ui - rimx0) % 2) as u8, None)
-            } else {
-                let k = (ui - corner0) / 2;
-                (
-                    obstacles.map_or([0.0, 0.0], |o| o.corners[k]),
-                    ((ui - corner0) % 2) as u8,
-                    None,
-                )
-            };
-            if rim_of.is_none() && layers.contains(&(f as usize)) {
-                let (ids, grid) = &self.layers[f as usize];
-                let pb = Bbox { min: p, max: p };
-                grid.query(&pb.grown(r + tol), |k| {
-                    let sj = ids[k as usize] as usize;
-                    let v = self.seg_owner[sj] as usize;
-                    if dist[v] <= d {
-                        return;
-                    }
-                    let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
-                    let w = (gap - one).max(0.0);
-                    if w > r || d + w >= dist[v] || (gap > 0.0 && !visible(p, pv)) {
-                        return;
-                    }
-                    relax(
-                        v,
-                        w,
-                        Pred {
+            } else if ui >= rimx0 {
+                // A corner, or a rim point reached from the other face: on along face `f`.
+                let (p, f) = point_at(ui);
+                if face_of(f) {
+                    let (ids, grid) = &self.layers[f as usize];
+                    let pb = Bbox { min: p, max: p };
+                    grid.query(&pb.grown(hi + tol), |k| {
+                        let sj = ids[k as usize] as usize;
+                        let v = self.seg_owner[sj] as usize;
+                        if st.dist[v] <= d {
+                            return;
+                        }
+                        let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
+                        let w = (gap - one).max(0.0);
+                        if !in_ring(w) || d + w >= st.dist[v] || (gap > 0.0 && !visible(p, pv)) {
+                            return;
+                        }
+                        st.relax(v, d + w, Pred {
                             from: u,
                             from_pt: p,
                             from_layer: f,
                             to_pt: pv,
                             to_layer: f,
-                        },
-                        &mut dist,
-                        &mut heap,
-                    );
-                });
-                if let Some(o) = obstacles {
-                    o.corner_grid.query(&pb.grown(r), |k| {
-                        let q = o.corners[k as usize];
-                        let v = corner0 + 2 * k as usize + f as usize;
-                        let w = g::dist(p, q);
-                        if v == ui || w > r || d + w >= dist[v] || !visible(p, q) {
-                            return;
-                        }
-                        relax(
-                            v,
-                            w,
-                            Pred {
+                        });
+                    });
+                    if let Some(o) = obstacles {
+                        o.corner_grid.query(&pb.grown(hi), |k| {
+                            let q = o.corners[k as usize];
+                            let v = corner0 + 2 * k as usize + f as usize;
+                            let w = g::dist(p, q);
+                            if v == ui || !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
+                                return;
+                            }
+                            st.relax(v, d + w, Pred {
                                 from: u,
                                 from_pt: p,
                                 from_layer: f,
                                 to_pt: q,
                                 to_layer: f,
-                            },
-                            &mut dist,
-                            &mut heap,
-                        );
-                    });
-                    if ui >= corner0 {
-                        self.rim_grid.query(&pb.grown(r), |k| {
-                            let (q, _) = self.rim[k as usize];
-                            let v = rim0 + 2 * k as usize + f as usize;
-                            let w = g::dist(p, q);
-                            if w > r || d + w >= dist[v] || !visible(p, q) {
-                                return;
-                            }
-                            relax(
-                                v,
-                                w,
-                                Pred {
+                            });
+                        });
+                        if ui >= corner0 {
+                            self.rim_grid.query(&pb.grown(hi), |k| {
+                                let (q, _) = self.rim[k as usize];
+                                let v = rim0 + 2 * k as usize + f as usize;
+                                let w = g::dist(p, q);
+                                if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
+                                    return;
+                                }
+                                st.relax(v, d + w, Pred {
                                     from: u,
                                     from_pt: p,
                                     from_layer: f,
                                     to_pt: q,
                                     to_layer: f,
-                                },
-                                &mut dist,
-                                &mut heap,
-                            );
+                                });
+                            });
+                        }
+                    }
+                }
+            } else {
+                // A rim point reached along face `f`: down the rim to the other face,
+                // through the hole or round the edge.
+                let kp = (ui - rim0) / 2;
+                let (p, ri) = self.rim[kp];
+                let f = ((ui - rim0) % 2) as u8;
+                let other = 1 - f;
+                if !face_of(other) {
+                    continue;
+                }
+                // A crossing point between two rim points is at most half a spacing from
+                // one: both faces' steps and this one together are at most two spacings
+                // longer than through the true crossing points.
+                let cost = |across: f64| (across.hypot(thickness) - 2.0 * RIM_SPACING_MM).max(0.0);
+                if obstacles.is_some() {
+                    // Creepage: along the wall, unfolded; the rim's points in turn both ways.
+                    let first = self.rim_first[ri as usize] as usize;
+                    let count = self.rim_first[ri as usize + 1] as usize - first;
+                    let length = self.rim_length[ri as usize];
+                    let at = self.rim_at[kp];
+                    for dir in 0..2u32 {
+                        if dirs & (1 << dir) == 0 {
+                            continue;
+                        }
+                        // The last point of this ring's inner part: a path that passes
+                        // further this way is no shorter from there (module comment).
+                        let mut last_inner: Option<(usize, f64)> = None;
+                        let mut done = true;
+                        for j in 0..count {
+                            let kq = if dir == 0 {
+                                first + (kp - first + j) % count
+                            } else {
+                                first + (kp - first + count - j) % count
+                            };
+                            let mut s = if dir == 0 {
+                                self.rim_at[kq] - at
+                            } else {
+                                at - self.rim_at[kq]
+                            };
+                            if s < 0.0 {
+                                s += length;
+                            }
+                            if s > length / 2.0 + 1e-9 {
+                                break;
+                            }
+                            let w = cost(s);
+                            if w <= lo {
+                                last_inner = Some((kq, s));
+                                continue;
+                            }
+                            if ring >= 2
+                                && let Some((kd, sd)) = last_inner.take()
+                                && st.dist[rim0 + 2 * kd + f as usize] + 1e-9
+                                    < d + sd.hypot(thickness) - thickness
+                            {
+                                break;
+                            }
+                            if w > hi {
+                                done = false;
+                                break;
+                            }
+                            let v = rimx0 + 2 * kq + other as usize;
+                            let nd = d + w;
+                            if nd >= st.dist[v] || st.dist[rim0 + 2 * kq + other as usize] <= nd {
+                                continue;
+                            }
+                            st.relax(v, nd, Pred {
+                                from: u,
+                                from_pt: p,
+                                from_layer: f,
+                                to_pt: self.rim[kq].0,
+                                to_layer: other,
+                            });
+                        }
+                        if done {
+                            dirs &= !(1 << dir);
+                        }
+                    }
+                    if dirs == 0 {
+                        continue;
+                    }
+                } else {
+                    // Clearance: straight through the air of the hole (the chord: never
+                    // longer than the true path).
+                    let reach = hi + 2.0 * RIM_SPACING_MM;
+                    if reach >= thickness {
+                        let chord = (reach * reach - thickness * thickness).sqrt();
+                        let pb = Bbox { min: p, max: p };
+                        self.rim_grid.query(&pb.grown(chord), |k| {
+                            let (q, rj) = self.rim[k as usize];
+                            if rj != ri {
+                                return;
+                            }
+                            let w = cost(g::dist(p, q));
+                            let v = rimx0 + 2 * k as usize + other as usize;
+                            let nd = d + w;
+                            if !in_ring(w)
+                                || nd >= st.dist[v]
+                                || st.dist[rim0 + 2 * k as usize + other as usize] <= nd
+                                || cells.covers(other as usize, q, nd)
+                            {
+                                return;
+                            }
+                            st.relax(v, nd, Pred {
+                                from: u,
+                                from_pt: p,
+                                from_layer: f,
+                                to_pt: q,
+                                to_layer: other,
+                            });
                         });
                     }
                 }
             }
-            // Down the rim to the other face: through the hole or round the edge.
-            if let Some(ri) = rim_of {
-                let other = 1 - f;
-                if !layers.contains(&(other as usize)) {
-                    continue;
-                }
-                let pb = Bbox { min: p, max: p };
-                let at = self.rim_at[(ui - rim0) / 2];
-                let length = self.rim_length[ri as usize];
-                self.rim_grid.query(&pb.grown(r), |k| {
-                    let (q, rj) = self.rim[k as usize];
-                    if rj != ri {
-                        return;
-                    }
-                    let v = rimx0 + 2 * k as usize + other as usize;
-                    // Clearance: straight through the air of the hole (the chord: never
-                    // longer than the true path). Creepage: along the wall, unfolded.
-                    let lim = r.min(dist[v] - d);
-                    if lim < 0.0 {
-                        return;
-                    }
-                    // Cheap and conservative rejection before the exact figure: the step is
-                    // at least its chord and the thickness, less two spacings.
-                    let chord2 = {
-                        let e = g::sub(p, q);
-                        g::dot(e, e)
-                    };
-                    let most = lim + 2.0 * RIM_SPACING_MM;
-                    if chord2 + thickness * thickness > most * most * (1.0 + 1e-9) + 1e-12 {
-                        return;
-                    }
-                    let across = if obstacles.is_some() {
-                        let s = (self.rim_at[k as usize] - at).abs();
-                        s.min(length - s)
-                    } else {
-                        g::dist(p, q)
-                    };
-                    // A crossing point between two rim points is at most half a spacing
-                    // from one: both faces' steps and this one together are at most two
-                    // spacings longer than through the true crossing points.
-                    let w = (across.hypot(thickness) - 2.0 * RIM_SPACING_MM).max(0.0);
-                    if w > r || d + w >= dist[v] {
-                        return;
-                    }
-                    relax(
-                        v,
-                        w,
-                        Pred {
-                            from: u,
-                            from_pt: p,
-                            from_layer: f,
-                            to_pt: q,
-                            to_layer: other,
-                        },
-                        &mut dist,
-                        &mut heap,
-                    );
-                });
+            if hi_ring < cap && hi_ring < most {
+                st.heap.push(Entry(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
         }
+        let dist = st.dist;
+        let pred = st.pred;
         let t = target? as usize;
         // The path, walked back from the second circuit's copper.
         let mut hops = Vec::new();
@@ -806,6 +884,216 @@ impl<'b> Index<'b> {
             }
         }
         m
+    }
+}
+
+/// State of one search: tentative distances, how each node was reached, the queue.
+struct State<'a> {
+    dist: Vec<f64>,
+    pred: Vec<Option<Pred>>,
+    heap: BinaryHeap<Entry>,
+    /// The shortest distance to the second circuit found so far.
+    best: f64,
+    n: usize,
+    is_b: &'a [bool],
+}
+
+impl State<'_> {
+    fn relax(&mut self, v: usize, nd: f64, p: Pred) {
+        if nd < self.dist[v] {
+            self.dist[v] = nd;
+            self.pred[v] = Some(p);
+            self.heap.push(Entry(nd, v as u32, 0));
+            if v < self.n && self.is_b[v] && nd < self.best {
+                self.best = nd;
+            }
+        }
+    }
+}
+
+/// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
+fn ring_mm(k: u32) -> f64 {
+    if k == 0 {
+        0.0
+    } else {
+        FIRST_RING_MM * (1u64 << (k - 1).min(60)) as f64
+    }
+}
+
+/// A coarse map of the board for one search: per searched layer and cell, the smallest
+/// distance of a settled conductor or corner with a point in the cell (and which node);
+/// for creepage, the cells an obstacle's edge crosses (two points in such a cell may not
+/// see each other). About as many cells as outline segments: memory linear in the board.
+struct Cells {
+    origin: P,
+    h: f64,
+    /// Added to a recorded distance for any point of its cell: the cell's diagonal and
+    /// the tolerances a hop may take off at either end.
+    slack: f64,
+    nx: usize,
+    ny: usize,
+    min: Vec<Vec<(f64, u32)>>,
+    blocked: Vec<bool>,
+}
+
+impl Cells {
+    fn new(
+        all: Bbox,
+        items: usize,
+        layers: &[usize],
+        n_layers: usize,
+        obstacles: Option<&Obstacles>,
+    ) -> Cells {
+        let w = (all.max[0] - all.min[0]).max(1e-3);
+        let ht = (all.max[1] - all.min[1]).max(1e-3);
+        let budget = (2 * items + 1024) as f64;
+        let mut h = (w * ht / items.max(1) as f64).sqrt().max(0.05);
+        while (w / h).ceil() * (ht / h).ceil() > budget {
+            h *= 1.25;
+        }
+        let nx = ((w / h).ceil() as usize).max(1);
+        let ny = ((ht / h).ceil() as usize).max(1);
+        let mut cells = Cells {
+            origin: all.min,
+            h,
+            slack: h * std::f64::consts::SQRT_2 + 2.0 * CHORD_TOLERANCE_MM + 1e-9,
+            nx,
+            ny,
+            min: (0..n_layers)
+                .map(|l| {
+                    if layers.contains(&l) {
+                        vec![(f64::INFINITY, u32::MAX); nx * ny]
+                    } else {
+                        Vec::new()
+                    }
+                })
+                .collect(),
+            blocked: Vec::new(),
+        };
+        if let Some(o) = obstacles {
+            cells.blocked = vec![false; nx * ny];
+            for &(a, b) in &o.edges {
+                cells.block_segment(a, b);
+            }
+        }
+        cells
+    }
+
+    fn index(&self, v: f64, o: f64, n: usize) -> usize {
+        let i = ((v - o) / self.h).floor();
+        if i < 0.0 { 0 } else { (i as usize).min(n - 1) }
+    }
+
+    fn cell(&self, p: P) -> Option<usize> {
+        let fx = (p[0] - self.origin[0]) / self.h;
+        let fy = (p[1] - self.origin[1]) / self.h;
+        if !(fx >= 0.0 && fy >= 0.0) {
+            return None;
+        }
+        let (x, y) = (fx as usize, fy as usize);
+        (x < self.nx && y < self.ny).then_some(y * self.nx + x)
+    }
+
+    /// Marks every cell the segment passes through (and, for long ones, their neighbours).
+    fn block_segment(&mut self, a: P, b: P) {
+        let bb = Bbox::around([a, b]);
+        let (x0, x1) = (self.index(bb.min[0], self.origin[0], self.nx), self.index(bb.max[0], self.origin[0], self.nx));
+        let (y0, y1) = (self.index(bb.min[1], self.origin[1], self.ny), self.index(bb.max[1], self.origin[1], self.ny));
+        if (x1 - x0 + 1) * (y1 - y0 + 1) <= 64 {
+            for y in y0..=y1 {
+                for x in x0..=x1 {
+                    self.blocked[y * self.nx + x] = true;
+                }
+            }
+            return;
+        }
+        // Points half a cell apart: the segment is within a quarter cell of one of them,
+        // so every cell it crosses is that point's cell or a neighbour of it.
+        let steps = (g::dist(a, b) / (0.5 * self.h)).ceil().max(1.0) as usize;
+        for i in 0..=steps {
+            let p = g::add(a, g::scale(g::sub(b, a), i as f64 / steps as f64));
+            let cx = self.index(p[0], self.origin[0], self.nx);
+            let cy = self.index(p[1], self.origin[1], self.ny);
+            for y in cy.saturating_sub(1)..=(cy + 1).min(self.ny - 1) {
+                for x in cx.saturating_sub(1)..=(cx + 1).min(self.nx - 1) {
+                    self.blocked[y * self.nx + x] = true;
+                }
+            }
+        }
+    }
+
+    fn register(&mut self, l: usize, p: P, d: f64, u: u32) {
+        if let Some(c) = self.cell(p)
+            && let Some(m) = self.min.get_mut(l).and_then(|m| m.get_mut(c))
+            && d < m.0
+        {
+            *m = (d, u);
+        }
+    }
+
+    /// Points along the segment's centre line (copper), at most a cell apart.
+    fn register_seg(&mut self, l: usize, s: &Seg, d: f64, u: u32) {
+        let steps = (g::dist(s.a, s.b) / self.h).ceil() as usize;
+        for i in 0..=steps {
+            let t = if steps == 0 { 0.0 } else { i as f64 / steps as f64 };
+            self.register(l, g::add(s.a, g::scale(g::sub(s.b, s.a), t)), d, u);
+        }
+    }
+
+    /// A node at distance `d` reaches the point `q` on layer `l` no sooner than copper or
+    /// a corner recorded in its cell (which goes everywhere `q` goes on that layer).
+    fn covers(&self, l: usize, q: P, d: f64) -> bool {
+        self.cell(q)
+            .and_then(|c| self.min.get(l).and_then(|m| m.get(c)))
+            .is_some_and(|m| m.0 + self.slack <= d)
+    }
+
+    /// Every point `x` at distance `rho` from some point of node `u` (inside `bb`, which
+    /// holds `a0`) lies in a cell, free of obstacle edges, where another settled node is
+    /// recorded whose distance plus `slack` is below `d + rho`. Then any hop of `u` longer
+    /// than `rho` passes such an `x`, and that node reaches the hop's end sooner.
+    fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64, u: u32) -> bool {
+        let Some(min) = self.min.get(l).filter(|m| !m.is_empty()) else {
+            return false;
+        };
+        let below = d + rho;
+        let size = g::dist(bb.min, bb.max);
+        let region = bb.grown(rho);
+        let x0 = self.index(region.min[0], self.origin[0], self.nx);
+        let x1 = self.index(region.max[0], self.origin[0], self.nx);
+        let y0 = self.index(region.min[1], self.origin[1], self.ny);
+        let y1 = self.index(region.max[1], self.origin[1], self.ny);
+        for y in y0..=y1 {
+            for x in x0..=x1 {
+                let lo = [
+                    self.origin[0] + x as f64 * self.h,
+                    self.origin[1] + y as f64 * self.h,
+                ];
+                let rect = Bbox {
+                    min: lo,
+                    max: [lo[0] + self.h, lo[1] + self.h],
+                };
+                if rect.gap(bb) > rho {
+                    continue;
+                }
+                let far = [rect.min, rect.max, [lo[0], rect.max[1]], [rect.max[0], lo[1]]]
+                    .iter()
+                    .map(|&c| g::dist(c, a0))
+                    .fold(0.0, f64::max);
+                if far < rho - size {
+                    continue;
+                }
+                let c = y * self.nx + x;
+                if self.blocked.get(c).copied().unwrap_or(false) {
+                    return false;
+                }
+                let (m, who) = min[c];
+                if who == u || m + self.slack >= below {
+                    return false;
+                }
+            }
+        }
+        true
     }
 }
 
