@@ -25,6 +25,8 @@ use super::{Board, Layer, Net, Shape};
 
 /// Spacing of the points placed along each rim (board edge, holes, slots).
 pub const RIM_SPACING_MM: f64 = 0.05;
+/// Rim points per run (see `Index::chunks`).
+const CHUNK: u32 = 64;
 /// Outer radius of the first ring of hops; each further ring doubles it.
 const FIRST_RING_MM: f64 = 1.0;
 /// A point closer than this to a cut-out's edge is on it, not inside.
@@ -101,6 +103,12 @@ pub struct Index<'b> {
     rim_length: Vec<f64>,
     /// Index of each rim's first point (one more entry: the number of rim points).
     rim_first: Vec<u32>,
+    /// Runs of up to `CHUNK` consecutive points of one rim (first, end), each point's run,
+    /// and a grid over the runs' boxes: a passage looks at a run as a whole first.
+    chunks: Vec<(u32, u32)>,
+    rim_chunk: Vec<u32>,
+    chunk_box: Vec<Bbox>,
+    chunk_grid: Grid,
     rim_grid: Grid,
 }
 
@@ -141,6 +149,13 @@ struct Pred {
 }
 
 const NONE: u8 = u8::MAX;
+
+pub static CNT: [std::sync::atomic::AtomicU64; 8] = [const { std::sync::atomic::AtomicU64::new(0) }; 8];
+macro_rules! cnt {
+    ($i:expr) => {
+        CNT[$i].fetch_add(1, std::sync::atomic::Ordering::Relaxed)
+    };
+}
 
 impl<'b> Index<'b> {
     pub fn new(board: &'b Board) -> Index<'b> {
@@ -219,6 +234,25 @@ impl<'b> Index<'b> {
             rim_length.push(along);
         }
         rim_first.push(rim.len() as u32);
+        let mut chunks = Vec::new();
+        let mut rim_chunk = vec![0u32; rim.len()];
+        for w in rim_first.windows(2) {
+            let mut s = w[0];
+            while s < w[1] {
+                let e = (s + CHUNK).min(w[1]);
+                for k in s..e {
+                    rim_chunk[k as usize] = chunks.len() as u32;
+                }
+                chunks.push((s, e));
+                s = e;
+            }
+        }
+        let chunk_boxes: Vec<Bbox> = chunks
+            .iter()
+            .map(|&(s, e)| Bbox::around((s..e).map(|k| rim[k as usize].0)))
+            .collect();
+        let chunk_grid = Grid::build(&chunk_boxes, None);
+        let chunk_box = chunk_boxes;
         let rim_boxes: Vec<Bbox> = rim.iter().map(|(p, _)| Bbox { min: *p, max: *p }).collect();
         let rim_grid = Grid::build(&rim_boxes, Some(1.0));
 
@@ -236,6 +270,10 @@ impl<'b> Index<'b> {
             rim_at,
             rim_length,
             rim_first,
+            chunks,
+            rim_chunk,
+            chunk_box,
+            chunk_grid,
             rim_grid,
         };
         index.find_inside();
@@ -435,6 +473,11 @@ impl<'b> Index<'b> {
             best: f64::INFINITY,
             n,
             is_b,
+            rim0,
+            rimx0,
+            rim_chunk: &self.rim_chunk,
+            run_max: vec![[f64::INFINITY; 2]; self.chunks.len()],
+            run_dirty: vec![[true; 2]; self.chunks.len()],
         };
         let mut settled = vec![false; total];
         for (i, &x) in is_a.iter().enumerate() {
@@ -452,7 +495,15 @@ impl<'b> Index<'b> {
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
         let face_of = |l: u8| layers.contains(&(l as usize));
 
+        let mut stats = [[0u64; 4]; 3];
+        let t0 = std::time::Instant::now();
+        for c in &CNT { c.store(0, std::sync::atomic::Ordering::Relaxed); }
+        let stats_on = std::env::var_os("GW_STATS").is_some();
         while let Some(Entry(key, u, aux)) = st.heap.pop() {
+            if stats_on {
+                let kind = if (u as usize) < n { 0 } else if (u as usize) < rimx0 { 1 } else if (u as usize) < corner0 { 2 } else { 3 };
+                stats[((aux & 0xffff) as usize).min(2)][kind] += 1;
+            }
             if key >= st.best && target.is_some() {
                 break;
             }
@@ -553,19 +604,19 @@ impl<'b> Index<'b> {
                         let gbox = group
                             .clone()
                             .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]));
+                        let far2 = (hi + tol) * (hi + tol);
                         grid.query(&gbox.grown(hi + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
-                            if v == ui
-                                || st.dist[v] <= d
-                                || self.seg_box[sj].gap(&gbox) > hi + tol
+                            if v == ui || st.dist[v] <= d || gap2(&self.seg_box[sj], &gbox) > far2
                             {
                                 return;
                             }
                             for si in group.clone() {
-                                if self.seg_box[sj].gap(&self.seg_box[si]) > hi + tol {
+                                if gap2(&self.seg_box[sj], &self.seg_box[si]) > far2 {
                                     continue;
                                 }
+                                cnt!(0);
                                 let (gap, pu, pv) = g::seg_distance(&self.segs[si], &self.segs[sj]);
                                 let w = (gap - tol).max(0.0);
                                 if !in_ring(w)
@@ -594,6 +645,7 @@ impl<'b> Index<'b> {
                                         return;
                                     }
                                     for si in group.clone() {
+                                        cnt!(1);
                                         let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
                                         let w = (gap - one).max(0.0);
                                         if !in_ring(w)
@@ -650,6 +702,7 @@ impl<'b> Index<'b> {
                         if st.dist[v] <= d {
                             return;
                         }
+                        cnt!(2);
                         let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
                         let w = (gap - one).max(0.0);
                         if !in_ring(w) || d + w >= st.dist[v] || (gap > 0.0 && !visible(p, pv)) {
@@ -712,6 +765,14 @@ impl<'b> Index<'b> {
                 // one: both faces' steps and this one together are at most two spacings
                 // longer than through the true crossing points.
                 let cost = |across: f64| (across.hypot(thickness) - 2.0 * RIM_SPACING_MM).max(0.0);
+                let t2 = thickness * thickness;
+                let reach = hi + 2.0 * RIM_SPACING_MM;
+                let hi2 = if reach > 0.0 { reach * reach } else { -1.0 };
+                let lo2 = if lo + 2.0 * RIM_SPACING_MM > 0.0 {
+                    (lo + 2.0 * RIM_SPACING_MM).powi(2)
+                } else {
+                    -1.0
+                };
                 if obstacles.is_some() {
                     // Creepage: along the wall, unfolded; the rim's points in turn both ways.
                     let first = self.rim_first[ri as usize] as usize;
@@ -743,8 +804,9 @@ impl<'b> Index<'b> {
                             if s > length / 2.0 + 1e-9 {
                                 break;
                             }
-                            let w = cost(s);
-                            if w <= lo {
+                            cnt!(3);
+                            let e2 = s * s + t2;
+                            if e2 <= lo2 {
                                 last_inner = Some((kq, s));
                                 continue;
                             }
@@ -755,10 +817,11 @@ impl<'b> Index<'b> {
                             {
                                 break;
                             }
-                            if w > hi {
+                            if e2 > hi2 {
                                 done = false;
                                 break;
                             }
+                            let w = (e2.sqrt() - 2.0 * RIM_SPACING_MM).max(0.0);
                             let v = rimx0 + 2 * kq + other as usize;
                             let nd = d + w;
                             if nd >= st.dist[v] || st.dist[rim0 + 2 * kq + other as usize] <= nd {
@@ -781,33 +844,58 @@ impl<'b> Index<'b> {
                     }
                 } else {
                     // Clearance: straight through the air of the hole (the chord: never
-                    // longer than the true path).
-                    let reach = hi + 2.0 * RIM_SPACING_MM;
+                    // longer than the true path). A run of rim points is passed over where
+                    // even its nearest point is reached no sooner than its farthest point
+                    // already is along the other face (such a point goes nowhere new).
                     if reach >= thickness {
-                        let chord = (reach * reach - thickness * thickness).sqrt();
+                        let chord = (hi2 - t2).sqrt();
                         let pb = Bbox { min: p, max: p };
-                        self.rim_grid.query(&pb.grown(chord), |k| {
-                            let (q, rj) = self.rim[k as usize];
-                            if rj != ri {
+                        let o = other as usize;
+                        self.chunk_grid.query(&pb.grown(chord), |c| {
+                            let (s, e) = self.chunks[c as usize];
+                            if self.rim[s as usize].1 != ri {
                                 return;
                             }
-                            let w = cost(g::dist(p, q));
-                            let v = rimx0 + 2 * k as usize + other as usize;
-                            let nd = d + w;
-                            if !in_ring(w)
-                                || nd >= st.dist[v]
-                                || st.dist[rim0 + 2 * k as usize + other as usize] <= nd
-                                || cells.covers(other as usize, q, nd)
-                            {
+                            let near = self.chunk_box[c as usize].gap(&pb);
+                            if near * near + t2 > hi2 {
                                 return;
                             }
-                            st.relax(v, nd, Pred {
-                                from: u,
-                                from_pt: p,
-                                from_layer: f,
-                                to_pt: q,
-                                to_layer: other,
-                            });
+                            let c = c as usize;
+                            if st.run_dirty[c][o] {
+                                st.run_dirty[c][o] = false;
+                                st.run_max[c][o] = (s..e)
+                                    .map(|k| st.dist[rim0 + 2 * k as usize + o])
+                                    .fold(0.0, f64::max);
+                            }
+                            if d + cost(near) >= st.run_max[c][o] {
+                                return;
+                            }
+                            for k in s as usize..e as usize {
+                                let q = self.rim[k].0;
+                                cnt!(4);
+                                let e2 = {
+                                    let e = g::sub(p, q);
+                                    g::dot(e, e) + t2
+                                };
+                                if e2 <= lo2 || e2 > hi2 {
+                                    continue;
+                                }
+                                let nd = d + (e2.sqrt() - 2.0 * RIM_SPACING_MM).max(0.0);
+                                let v = rimx0 + 2 * k + o;
+                                if nd >= st.dist[v]
+                                    || st.dist[rim0 + 2 * k + o] <= nd
+                                    || cells.covers(o, q, nd)
+                                {
+                                    continue;
+                                }
+                                st.relax(v, nd, Pred {
+                                    from: u,
+                                    from_pt: p,
+                                    from_layer: f,
+                                    to_pt: q,
+                                    to_layer: other,
+                                });
+                            }
                         });
                     }
                 }
@@ -815,6 +903,9 @@ impl<'b> Index<'b> {
             if hi_ring < cap && hi_ring < most {
                 st.heap.push(Entry(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
+        }
+        if stats_on {
+            eprintln!("stats {:?} pops ring0/1-2/3+ by kind [cond, rim0, rimx, corner]: {stats:?}; best {}; counts segd,cond->pt,pt->cond,walk,chord,dom,-,vis {:?}", t0.elapsed(), st.best, CNT.iter().map(|c| c.load(std::sync::atomic::Ordering::Relaxed)).collect::<Vec<_>>());
         }
         let dist = st.dist;
         let pred = st.pred;
@@ -896,6 +987,13 @@ struct State<'a> {
     best: f64,
     n: usize,
     is_b: &'a [bool],
+    /// Rim points reached along a face: each run's largest distance per face (an upper
+    /// bound, infinite until known), and whether a distance in it fell since.
+    rim0: usize,
+    rimx0: usize,
+    rim_chunk: &'a [u32],
+    run_max: Vec<[f64; 2]>,
+    run_dirty: Vec<[bool; 2]>,
 }
 
 impl State<'_> {
@@ -904,11 +1002,22 @@ impl State<'_> {
             self.dist[v] = nd;
             self.pred[v] = Some(p);
             self.heap.push(Entry(nd, v as u32, 0));
+            if v >= self.rim0 && v < self.rimx0 {
+                let k = (v - self.rim0) / 2;
+                self.run_dirty[self.rim_chunk[k] as usize][(v - self.rim0) % 2] = true;
+            }
             if v < self.n && self.is_b[v] && nd < self.best {
                 self.best = nd;
             }
         }
     }
+}
+
+/// The square of `Bbox::gap` (no square root on the searches' hot paths).
+fn gap2(a: &Bbox, b: &Bbox) -> f64 {
+    let dx = (b.min[0] - a.max[0]).max(a.min[0] - b.max[0]).max(0.0);
+    let dy = (b.min[1] - a.max[1]).max(a.min[1] - b.max[1]).max(0.0);
+    dx * dx + dy * dy
 }
 
 /// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
@@ -1031,12 +1140,38 @@ impl Cells {
         }
     }
 
-    /// Points along the segment's centre line (copper), at most a cell apart.
+    /// Every cell the thick segment (copper) touches.
     fn register_seg(&mut self, l: usize, s: &Seg, d: f64, u: u32) {
-        let steps = (g::dist(s.a, s.b) / self.h).ceil() as usize;
-        for i in 0..=steps {
-            let t = if steps == 0 { 0.0 } else { i as f64 / steps as f64 };
-            self.register(l, g::add(s.a, g::scale(g::sub(s.b, s.a), t)), d, u);
+        let bb = s.bbox();
+        let x0 = self.index(bb.min[0], self.origin[0], self.nx);
+        let x1 = self.index(bb.max[0], self.origin[0], self.nx);
+        let y0 = self.index(bb.min[1], self.origin[1], self.ny);
+        let y1 = self.index(bb.max[1], self.origin[1], self.ny);
+        let Some(min) = self.min.get_mut(l).filter(|m| !m.is_empty()) else {
+            return;
+        };
+        for y in y0..=y1 {
+            for x in x0..=x1 {
+                let c = y * self.nx + x;
+                if d >= min[c].0 {
+                    continue;
+                }
+                let lo = [
+                    self.origin[0] + x as f64 * self.h,
+                    self.origin[1] + y as f64 * self.h,
+                ];
+                let hi = [lo[0] + self.h, lo[1] + self.h];
+                let rect = Bbox { min: lo, max: hi };
+                let touches = rect.contains(s.a) || {
+                    let corners = [lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]];
+                    (0..4).any(|i| {
+                        g::segment_closest(corners[i], corners[(i + 1) % 4], s.a, s.b).0 < s.r
+                    })
+                };
+                if touches {
+                    min[c] = (d, u);
+                }
+            }
         }
     }
 
@@ -1053,6 +1188,7 @@ impl Cells {
     /// recorded whose distance plus `slack` is below `d + rho`. Then any hop of `u` longer
     /// than `rho` passes such an `x`, and that node reaches the hop's end sooner.
     fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64, u: u32) -> bool {
+        cnt!(5);
         let Some(min) = self.min.get(l).filter(|m| !m.is_empty()) else {
             return false;
         };
@@ -1073,14 +1209,12 @@ impl Cells {
                     min: lo,
                     max: [lo[0] + self.h, lo[1] + self.h],
                 };
-                if rect.gap(bb) > rho {
+                if gap2(&rect, bb) > rho * rho {
                     continue;
                 }
-                let far = [rect.min, rect.max, [lo[0], rect.max[1]], [rect.max[0], lo[1]]]
-                    .iter()
-                    .map(|&c| g::dist(c, a0))
-                    .fold(0.0, f64::max);
-                if far < rho - size {
+                let fx = (rect.min[0] - a0[0]).abs().max((rect.max[0] - a0[0]).abs());
+                let fy = (rect.min[1] - a0[1]).abs().max((rect.max[1] - a0[1]).abs());
+                if rho > size && fx * fx + fy * fy < (rho - size) * (rho - size) {
                     continue;
                 }
                 let c = y * self.nx + x;
@@ -1102,6 +1236,7 @@ impl Obstacles {
     /// that is walked round and does not leave the outline (running along an edge or
     /// touching a corner is allowed).
     fn visible(&self, p: P, q: P) -> bool {
+        cnt!(7);
         let bb = Bbox::around([p, q]);
         let mut ts = Vec::new();
         let mut blocked = false;
