@@ -27,6 +27,9 @@ use super::{Board, Layer, Net, Shape};
 pub const RIM_SPACING_MM: f64 = 0.05;
 /// Rim points per run (see `Index::chunks`).
 const CHUNK: u32 = 64;
+/// The map of cells (`Cells`) has this many times more cells per side than the index
+/// has outline segments per unit of area.
+const CELL_DIVISOR: f64 = 1.0;
 /// Outer radius of the first ring of hops; each further ring doubles it.
 const FIRST_RING_MM: f64 = 1.0;
 /// A point closer than this to a cut-out's edge is on it, not inside.
@@ -507,6 +510,7 @@ impl<'b> Index<'b> {
             if key >= st.best && target.is_some() {
                 break;
             }
+            cells.advance(key);
             let ui = u as usize;
             let ring = aux & 0xffff;
             let mut dirs = aux >> 16;
@@ -524,14 +528,14 @@ impl<'b> Index<'b> {
                     for l in [l0, l1] {
                         if l != NONE && face_of(l) {
                             for si in self.obj_segs(u) {
-                                cells.register_seg(l as usize, &self.segs[si], key, u);
+                                cells.register_seg(l as usize, &self.segs[si], key);
                             }
                         }
                     }
                 } else if ui >= corner0 {
                     if let Some(o) = obstacles {
                         let f = (ui - corner0) % 2;
-                        cells.register(f, o.corners[(ui - corner0) / 2], key, u);
+                        cells.register(f, o.corners[(ui - corner0) / 2], key);
                     }
                 } else if ui >= rimx0 {
                     // Reached from the other face, it goes on only along this face: where
@@ -574,14 +578,14 @@ impl<'b> Index<'b> {
                 let a0 = self.segs[self.obj_segs(u).start].a;
                 let (l0, l1) = self.obj_layers[ui];
                 let dominated = [l0, l1].iter().all(|&l| {
-                    l == NONE || !face_of(l) || cells.dominated(l as usize, &ab, a0, lo, d, u)
+                    l == NONE || !face_of(l) || cells.dominated(l as usize, &ab, a0, lo, d)
                 });
                 if dominated {
                     continue;
                 }
             } else if ring >= 2 && ui >= rimx0 {
                 let (p, f) = point_at(ui);
-                if cells.dominated(f as usize, &Bbox { min: p, max: p }, p, lo, d, u) {
+                if cells.dominated(f as usize, &Bbox { min: p, max: p }, p, lo, d) {
                     continue;
                 }
             }
@@ -634,8 +638,57 @@ impl<'b> Index<'b> {
                                 });
                             }
                         });
-                        // Rim points and cut-out corners on this face are reached alike: the
-                        // gap from this group of edges to the point, seen past the obstacles.
+                        if l <= 1 && with_rims {
+                            // Rim points run by run: a run is passed over where even its
+                            // nearest point would be reached no sooner than its farthest
+                            // point already is.
+                            let lf = l as usize;
+                            let far = hi + tol;
+                            self.chunk_grid.query(&gbox.grown(far), |c| {
+                                let c = c as usize;
+                                let near2 = gap2(&self.chunk_box[c], &gbox);
+                                if near2 > far * far {
+                                    return;
+                                }
+                                let (s, e) = self.chunks[c];
+                                if st.run_dirty[c][lf] {
+                                    st.run_dirty[c][lf] = false;
+                                    st.run_max[c][lf] = (s..e)
+                                        .map(|k| st.dist[rim0 + 2 * k as usize + lf])
+                                        .fold(0.0, f64::max);
+                                }
+                                if d + near2.sqrt() - one >= st.run_max[c][lf] {
+                                    return;
+                                }
+                                for k in s as usize..e as usize {
+                                    let p = self.rim[k].0;
+                                    let v = rim0 + 2 * k + lf;
+                                    if st.dist[v] <= d {
+                                        continue;
+                                    }
+                                    for si in group.clone() {
+                                        cnt!(1);
+                                        let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
+                                        let w = (gap - one).max(0.0);
+                                        if !in_ring(w)
+                                            || d + w >= st.dist[v]
+                                            || (gap > 0.0 && !visible(pu, p))
+                                        {
+                                            continue;
+                                        }
+                                        st.relax(v, d + w, Pred {
+                                            from: u,
+                                            from_pt: pu,
+                                            from_layer: l,
+                                            to_pt: p,
+                                            to_layer: l,
+                                        });
+                                    }
+                                }
+                            });
+                        }
+                        // Cut-out corners on this face: the gap from this group of edges to
+                        // the point, seen past the obstacles.
                         let mut reach_points =
                             |grid: &Grid, base: usize, point: &dyn Fn(usize) -> P| {
                                 grid.query(&gbox.grown(hi + tol), |k| {
@@ -664,9 +717,6 @@ impl<'b> Index<'b> {
                                     }
                                 });
                             };
-                        if l <= 1 && with_rims {
-                            reach_points(&self.rim_grid, rim0, &|k| self.rim[k].0);
-                        }
                         if l <= 1
                             && let Some(o) = obstacles
                         {
@@ -1029,20 +1079,27 @@ fn ring_mm(k: u32) -> f64 {
     }
 }
 
-/// A coarse map of the board for one search: per searched layer and cell, the smallest
-/// distance of a settled conductor or corner with a point in the cell (and which node);
-/// for creepage, the cells an obstacle's edge crosses (two points in such a cell may not
-/// see each other). About as many cells as outline segments: memory linear in the board.
+/// A coarse map of the board for one search: per searched layer and cell, a distance
+/// within which settled copper (or a corner) reaches the cell's centre: copper touching
+/// the cell gives its own distance plus half the cell's diagonal, and each value spreads
+/// to the four neighbours at one cell's width more (a walk between centres). For
+/// creepage, the cells an obstacle's edge crosses take no part (two points in such a cell
+/// may not see each other). About as many cells as outline segments, times four: memory
+/// linear in the board.
 struct Cells {
     origin: P,
     h: f64,
-    /// Added to a recorded distance for any point of its cell: the cell's diagonal and
-    /// the tolerances a hop may take off at either end.
+    /// Half the cell's diagonal: from its centre to any point of it.
+    half: f64,
+    /// Added to a cell's value for any point of it: half the diagonal and the tolerances
+    /// a hop may take off at either end.
     slack: f64,
     nx: usize,
     ny: usize,
-    min: Vec<Vec<(f64, u32)>>,
+    min: Vec<Vec<f64>>,
     blocked: Vec<bool>,
+    /// Values not yet spread: (value, cell, layer).
+    queue: BinaryHeap<Entry>,
 }
 
 impl Cells {
@@ -1055,8 +1112,8 @@ impl Cells {
     ) -> Cells {
         let w = (all.max[0] - all.min[0]).max(1e-3);
         let ht = (all.max[1] - all.min[1]).max(1e-3);
-        let budget = (2 * items + 1024) as f64;
-        let mut h = (w * ht / items.max(1) as f64).sqrt().max(0.05);
+        let budget = (8 * items + 1024) as f64;
+        let mut h = (w * ht / items.max(1) as f64).sqrt().max(0.05) / CELL_DIVISOR;
         while (w / h).ceil() * (ht / h).ceil() > budget {
             h *= 1.25;
         }
@@ -1065,19 +1122,21 @@ impl Cells {
         let mut cells = Cells {
             origin: all.min,
             h,
-            slack: h * std::f64::consts::SQRT_2 + 2.0 * CHORD_TOLERANCE_MM + 1e-9,
+            half: h * std::f64::consts::FRAC_1_SQRT_2,
+            slack: h * std::f64::consts::FRAC_1_SQRT_2 + 2.0 * CHORD_TOLERANCE_MM + 1e-9,
             nx,
             ny,
             min: (0..n_layers)
                 .map(|l| {
                     if layers.contains(&l) {
-                        vec![(f64::INFINITY, u32::MAX); nx * ny]
+                        vec![f64::INFINITY; nx * ny]
                     } else {
                         Vec::new()
                     }
                 })
                 .collect(),
             blocked: Vec::new(),
+            queue: BinaryHeap::new(),
         };
         if let Some(o) = obstacles {
             cells.blocked = vec![false; nx * ny];
@@ -1131,29 +1190,67 @@ impl Cells {
         }
     }
 
-    fn register(&mut self, l: usize, p: P, d: f64, u: u32) {
-        if let Some(c) = self.cell(p)
-            && let Some(m) = self.min.get_mut(l).and_then(|m| m.get_mut(c))
-            && d < m.0
+    fn set(&mut self, l: usize, c: usize, v: f64) {
+        if self.blocked.get(c).copied().unwrap_or(false) {
+            return;
+        }
+        if let Some(m) = self.min.get_mut(l).and_then(|m| m.get_mut(c))
+            && v < *m
         {
-            *m = (d, u);
+            *m = v;
+            self.queue.push(Entry(v, c as u32, l as u32));
+        }
+    }
+
+    fn register(&mut self, l: usize, p: P, d: f64) {
+        if let Some(c) = self.cell(p) {
+            self.set(l, c, d + self.half);
+        }
+    }
+
+    /// Spreads every value up to `until` to the neighbouring cells.
+    fn advance(&mut self, until: f64) {
+        while let Some(&Entry(v, c, l)) = self.queue.peek() {
+            if v > until {
+                break;
+            }
+            self.queue.pop();
+            let (c, l) = (c as usize, l as usize);
+            if v > self.min[l][c] {
+                continue;
+            }
+            let (x, y) = (c % self.nx, c / self.nx);
+            let nv = v + self.h;
+            if x > 0 {
+                self.set(l, c - 1, nv);
+            }
+            if x + 1 < self.nx {
+                self.set(l, c + 1, nv);
+            }
+            if y > 0 {
+                self.set(l, c - self.nx, nv);
+            }
+            if y + 1 < self.ny {
+                self.set(l, c + self.nx, nv);
+            }
         }
     }
 
     /// Every cell the thick segment (copper) touches.
-    fn register_seg(&mut self, l: usize, s: &Seg, d: f64, u: u32) {
+    fn register_seg(&mut self, l: usize, s: &Seg, d: f64) {
         let bb = s.bbox();
         let x0 = self.index(bb.min[0], self.origin[0], self.nx);
         let x1 = self.index(bb.max[0], self.origin[0], self.nx);
         let y0 = self.index(bb.min[1], self.origin[1], self.ny);
         let y1 = self.index(bb.max[1], self.origin[1], self.ny);
-        let Some(min) = self.min.get_mut(l).filter(|m| !m.is_empty()) else {
+        if self.min.get(l).is_none_or(|m| m.is_empty()) {
             return;
-        };
+        }
+        let v = d + self.half;
         for y in y0..=y1 {
             for x in x0..=x1 {
                 let c = y * self.nx + x;
-                if d >= min[c].0 {
+                if v >= self.min[l][c] {
                     continue;
                 }
                 let lo = [
@@ -1169,7 +1266,7 @@ impl Cells {
                     })
                 };
                 if touches {
-                    min[c] = (d, u);
+                    self.set(l, c, v);
                 }
             }
         }
@@ -1180,14 +1277,15 @@ impl Cells {
     fn covers(&self, l: usize, q: P, d: f64) -> bool {
         self.cell(q)
             .and_then(|c| self.min.get(l).and_then(|m| m.get(c)))
-            .is_some_and(|m| m.0 + self.slack <= d)
+            .is_some_and(|m| m + self.slack <= d)
     }
 
-    /// Every point `x` at distance `rho` from some point of node `u` (inside `bb`, which
-    /// holds `a0`) lies in a cell, free of obstacle edges, where another settled node is
-    /// recorded whose distance plus `slack` is below `d + rho`. Then any hop of `u` longer
-    /// than `rho` passes such an `x`, and that node reaches the hop's end sooner.
-    fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64, u: u32) -> bool {
+    /// Every point `x` at distance `rho` from some point of a node at distance `d` (inside
+    /// `bb`, which holds `a0`) lies in a cell, free of obstacle edges, whose value plus
+    /// `slack` is below `d + rho`. Then any hop of that node longer than `rho` passes such
+    /// an `x`, which settled copper reaches sooner, and from there the hop's end sooner.
+    /// (That copper is not the node itself: a hop's nearest ends are `rho` from it.)
+    fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64) -> bool {
         cnt!(5);
         let Some(min) = self.min.get(l).filter(|m| !m.is_empty()) else {
             return false;
@@ -1221,8 +1319,7 @@ impl Cells {
                 if self.blocked.get(c).copied().unwrap_or(false) {
                     return false;
                 }
-                let (m, who) = min[c];
-                if who == u || m + self.slack >= below {
+                if min[c] + self.slack >= below {
                     return false;
                 }
             }
