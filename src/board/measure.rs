@@ -617,7 +617,9 @@ impl<'b> Index<'b> {
                                 return;
                             }
                             for si in group.clone() {
-                                if gap2(&self.seg_box[sj], &self.seg_box[si]) > far2 {
+                                // The box gap is a lower bound of the true gap.
+                                let lb2 = gap2(&self.seg_box[sj], &self.seg_box[si]);
+                                if lb2 > far2 || d + lb2.sqrt() - tol >= st.dist[v] {
                                     continue;
                                 }
                                 cnt!(0);
@@ -666,7 +668,13 @@ impl<'b> Index<'b> {
                                     if st.dist[v] <= d {
                                         continue;
                                     }
+                                    let pb = Bbox { min: p, max: p };
                                     for si in group.clone() {
+                                        // The box gap is a lower bound of the true gap.
+                                        let lb2 = gap2(&self.seg_box[si], &pb);
+                                        if lb2 > far * far || d + lb2.sqrt() - one >= st.dist[v] {
+                                            continue;
+                                        }
                                         cnt!(1);
                                         let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
                                         let w = (gap - one).max(0.0);
