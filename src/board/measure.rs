@@ -6,10 +6,34 @@
 //! on the surface that do not cross a cut-out of at least the groove width X for creepage,
 //! and `hypot(chord, thickness)` down a rim.
 //!
-//! Neighbours are found through a grid over the conductors' outlines, so the work grows
-//! with the copper near the gap, not with the board. Hops are limited to a reach that
-//! grows until the distance found is within it, which makes the result exact: a path with
-//! a longer hop is longer than the reach.
+//! Neighbours are found through a grid over the conductors' outlines. The graph is
+//! complete (any node to any node on its face, any rim point to any point of its rim on
+//! the other face), but its edges are taken lazily, in rings: when a node is reached at
+//! distance `d`, its hops up to `FIRST_RING_MM` are relaxed, and a queue entry at
+//! `d + r` opens the ring of hops from `r` to `2r`. A ring is not opened where it cannot
+//! help (the figure is the same as with every edge):
+//!
+//! - Face hops. Any hop longer than `r` passes a point `x` at exactly `r` from the node.
+//!   A map of cells (`Cells`) keeps, per cell, a distance within which copper already
+//!   settled reaches the cell's centre (copper touching the cell, spread to the
+//!   neighbouring cells at one cell width per step). If every cell such an `x` can lie in
+//!   has a value below `d + r` (less half its diagonal and the tolerances), that copper
+//!   reaches `x`, and so the hop's end, sooner; the hop is not needed, and neither is any
+//!   longer one. In dense copper this stops the rings after a millimetre or two; at the
+//!   edge of a gap they go on until the second circuit is reached. For creepage, cells an
+//!   obstacle's edge crosses never count.
+//! - Passages down a rim (creepage, along the wall): the cost `hypot(s, thickness)` is
+//!   convex in the distance `s` along the rim, so once the rim point `s'` along has been
+//!   reached along this face at no more than `d + hypot(s', thickness) - thickness`,
+//!   every passage further that way is no shorter from there. Clearance (through the air
+//!   of the hole, by the chord): a run of rim points is passed over where even its
+//!   nearest point would come later than its farthest point already is reached along the
+//!   other face, or copper in its cell reaches it sooner.
+//! - A rim point reached from the other face goes on along this face only where the
+//!   face's own copper did not reach it as soon.
+//!
+//! The search ends when the second circuit's copper is taken from the queue; no
+//! hop-length limit, so no second search.
 //!
 //! Every figure is rounded down, never up: each gap loses twice `CHORD_TOLERANCE_MM` (arcs
 //! and circles are chords that may lie that far inside the copper or the hole), and each
@@ -152,13 +176,6 @@ struct Pred {
 }
 
 const NONE: u8 = u8::MAX;
-
-pub static CNT: [std::sync::atomic::AtomicU64; 8] = [const { std::sync::atomic::AtomicU64::new(0) }; 8];
-macro_rules! cnt {
-    ($i:expr) => {
-        CNT[$i].fetch_add(1, std::sync::atomic::Ordering::Relaxed)
-    };
-}
 
 impl<'b> Index<'b> {
     pub fn new(board: &'b Board) -> Index<'b> {
@@ -498,18 +515,7 @@ impl<'b> Index<'b> {
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
         let face_of = |l: u8| layers.contains(&(l as usize));
 
-        let mut stats = [[0u64; 4]; 3];
-        let t0 = std::time::Instant::now();
-        for c in &CNT { c.store(0, std::sync::atomic::Ordering::Relaxed); }
-        let stats_on = std::env::var_os("GW_STATS").is_some();
         while let Some(Entry(key, u, aux)) = st.heap.pop() {
-            if stats_on {
-                let kind = if (u as usize) < n { 0 } else if (u as usize) < rimx0 { 1 } else if (u as usize) < corner0 { 2 } else { 3 };
-                stats[((aux & 0xffff) as usize).min(2)][kind] += 1;
-            }
-            if key >= st.best && target.is_some() {
-                break;
-            }
             cells.advance(key);
             let ui = u as usize;
             let ring = aux & 0xffff;
@@ -612,8 +618,7 @@ impl<'b> Index<'b> {
                         grid.query(&gbox.grown(hi + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
-                            if v == ui || st.dist[v] <= d || gap2(&self.seg_box[sj], &gbox) > far2
-                            {
+                            if v == ui || st.dist[v] <= d || gap2(&self.seg_box[sj], &gbox) > far2 {
                                 return;
                             }
                             for si in group.clone() {
@@ -622,7 +627,6 @@ impl<'b> Index<'b> {
                                 if lb2 > far2 || d + lb2.sqrt() - tol >= st.dist[v] {
                                     continue;
                                 }
-                                cnt!(0);
                                 let (gap, pu, pv) = g::seg_distance(&self.segs[si], &self.segs[sj]);
                                 let w = (gap - tol).max(0.0);
                                 if !in_ring(w)
@@ -631,13 +635,17 @@ impl<'b> Index<'b> {
                                 {
                                     continue;
                                 }
-                                st.relax(v, d + w, Pred {
-                                    from: u,
-                                    from_pt: pu,
-                                    from_layer: l,
-                                    to_pt: pv,
-                                    to_layer: l,
-                                });
+                                st.relax(
+                                    v,
+                                    d + w,
+                                    Pred {
+                                        from: u,
+                                        from_pt: pu,
+                                        from_layer: l,
+                                        to_pt: pv,
+                                        to_layer: l,
+                                    },
+                                );
                             }
                         });
                         if l <= 1 && with_rims {
@@ -675,7 +683,6 @@ impl<'b> Index<'b> {
                                         if lb2 > far * far || d + lb2.sqrt() - one >= st.dist[v] {
                                             continue;
                                         }
-                                        cnt!(1);
                                         let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
                                         let w = (gap - one).max(0.0);
                                         if !in_ring(w)
@@ -684,13 +691,17 @@ impl<'b> Index<'b> {
                                         {
                                             continue;
                                         }
-                                        st.relax(v, d + w, Pred {
-                                            from: u,
-                                            from_pt: pu,
-                                            from_layer: l,
-                                            to_pt: p,
-                                            to_layer: l,
-                                        });
+                                        st.relax(
+                                            v,
+                                            d + w,
+                                            Pred {
+                                                from: u,
+                                                from_pt: pu,
+                                                from_layer: l,
+                                                to_pt: p,
+                                                to_layer: l,
+                                            },
+                                        );
                                     }
                                 }
                             });
@@ -706,7 +717,6 @@ impl<'b> Index<'b> {
                                         return;
                                     }
                                     for si in group.clone() {
-                                        cnt!(1);
                                         let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
                                         let w = (gap - one).max(0.0);
                                         if !in_ring(w)
@@ -715,13 +725,17 @@ impl<'b> Index<'b> {
                                         {
                                             continue;
                                         }
-                                        st.relax(v, d + w, Pred {
-                                            from: u,
-                                            from_pt: pu,
-                                            from_layer: l,
-                                            to_pt: p,
-                                            to_layer: l,
-                                        });
+                                        st.relax(
+                                            v,
+                                            d + w,
+                                            Pred {
+                                                from: u,
+                                                from_pt: pu,
+                                                from_layer: l,
+                                                to_pt: p,
+                                                to_layer: l,
+                                            },
+                                        );
                                     }
                                 });
                             };
@@ -737,13 +751,17 @@ impl<'b> Index<'b> {
                         let at = self.segs[self.obj_segs(u).start].a;
                         for &v in inside {
                             if self.on_any(v, &[l as usize]) {
-                                st.relax(v as usize, d, Pred {
-                                    from: u,
-                                    from_pt: at,
-                                    from_layer: l,
-                                    to_pt: at,
-                                    to_layer: l,
-                                });
+                                st.relax(
+                                    v as usize,
+                                    d,
+                                    Pred {
+                                        from: u,
+                                        from_pt: at,
+                                        from_layer: l,
+                                        to_pt: at,
+                                        to_layer: l,
+                                    },
+                                );
                             }
                         }
                     }
@@ -760,19 +778,22 @@ impl<'b> Index<'b> {
                         if st.dist[v] <= d {
                             return;
                         }
-                        cnt!(2);
                         let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
                         let w = (gap - one).max(0.0);
                         if !in_ring(w) || d + w >= st.dist[v] || (gap > 0.0 && !visible(p, pv)) {
                             return;
                         }
-                        st.relax(v, d + w, Pred {
-                            from: u,
-                            from_pt: p,
-                            from_layer: f,
-                            to_pt: pv,
-                            to_layer: f,
-                        });
+                        st.relax(
+                            v,
+                            d + w,
+                            Pred {
+                                from: u,
+                                from_pt: p,
+                                from_layer: f,
+                                to_pt: pv,
+                                to_layer: f,
+                            },
+                        );
                     });
                     if let Some(o) = obstacles {
                         o.corner_grid.query(&pb.grown(hi), |k| {
@@ -782,13 +803,17 @@ impl<'b> Index<'b> {
                             if v == ui || !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                 return;
                             }
-                            st.relax(v, d + w, Pred {
-                                from: u,
-                                from_pt: p,
-                                from_layer: f,
-                                to_pt: q,
-                                to_layer: f,
-                            });
+                            st.relax(
+                                v,
+                                d + w,
+                                Pred {
+                                    from: u,
+                                    from_pt: p,
+                                    from_layer: f,
+                                    to_pt: q,
+                                    to_layer: f,
+                                },
+                            );
                         });
                         if ui >= corner0 {
                             self.rim_grid.query(&pb.grown(hi), |k| {
@@ -798,13 +823,17 @@ impl<'b> Index<'b> {
                                 if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                     return;
                                 }
-                                st.relax(v, d + w, Pred {
-                                    from: u,
-                                    from_pt: p,
-                                    from_layer: f,
-                                    to_pt: q,
-                                    to_layer: f,
-                                });
+                                st.relax(
+                                    v,
+                                    d + w,
+                                    Pred {
+                                        from: u,
+                                        from_pt: p,
+                                        from_layer: f,
+                                        to_pt: q,
+                                        to_layer: f,
+                                    },
+                                );
                             });
                         }
                     }
@@ -862,7 +891,6 @@ impl<'b> Index<'b> {
                             if s > length / 2.0 + 1e-9 {
                                 break;
                             }
-                            cnt!(3);
                             let e2 = s * s + t2;
                             if e2 <= lo2 {
                                 last_inner = Some((kq, s));
@@ -885,13 +913,17 @@ impl<'b> Index<'b> {
                             if nd >= st.dist[v] || st.dist[rim0 + 2 * kq + other as usize] <= nd {
                                 continue;
                             }
-                            st.relax(v, nd, Pred {
-                                from: u,
-                                from_pt: p,
-                                from_layer: f,
-                                to_pt: self.rim[kq].0,
-                                to_layer: other,
-                            });
+                            st.relax(
+                                v,
+                                nd,
+                                Pred {
+                                    from: u,
+                                    from_pt: p,
+                                    from_layer: f,
+                                    to_pt: self.rim[kq].0,
+                                    to_layer: other,
+                                },
+                            );
                         }
                         if done {
                             dirs &= !(1 << dir);
@@ -930,7 +962,6 @@ impl<'b> Index<'b> {
                             }
                             for k in s as usize..e as usize {
                                 let q = self.rim[k].0;
-                                cnt!(4);
                                 let e2 = {
                                     let e = g::sub(p, q);
                                     g::dot(e, e) + t2
@@ -946,13 +977,17 @@ impl<'b> Index<'b> {
                                 {
                                     continue;
                                 }
-                                st.relax(v, nd, Pred {
-                                    from: u,
-                                    from_pt: p,
-                                    from_layer: f,
-                                    to_pt: q,
-                                    to_layer: other,
-                                });
+                                st.relax(
+                                    v,
+                                    nd,
+                                    Pred {
+                                        from: u,
+                                        from_pt: p,
+                                        from_layer: f,
+                                        to_pt: q,
+                                        to_layer: other,
+                                    },
+                                );
                             }
                         });
                     }
@@ -961,9 +996,6 @@ impl<'b> Index<'b> {
             if hi_ring < cap && hi_ring < most {
                 st.heap.push(Entry(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
-        }
-        if stats_on {
-            eprintln!("stats {:?} pops ring0/1-2/3+ by kind [cond, rim0, rimx, corner]: {stats:?}; best {}; counts segd,cond->pt,pt->cond,walk,chord,dom,-,vis {:?}", t0.elapsed(), st.best, CNT.iter().map(|c| c.load(std::sync::atomic::Ordering::Relaxed)).collect::<Vec<_>>());
         }
         let dist = st.dist;
         let pred = st.pred;
@@ -1173,8 +1205,14 @@ impl Cells {
     /// Marks every cell the segment passes through (and, for long ones, their neighbours).
     fn block_segment(&mut self, a: P, b: P) {
         let bb = Bbox::around([a, b]);
-        let (x0, x1) = (self.index(bb.min[0], self.origin[0], self.nx), self.index(bb.max[0], self.origin[0], self.nx));
-        let (y0, y1) = (self.index(bb.min[1], self.origin[1], self.ny), self.index(bb.max[1], self.origin[1], self.ny));
+        let (x0, x1) = (
+            self.index(bb.min[0], self.origin[0], self.nx),
+            self.index(bb.max[0], self.origin[0], self.nx),
+        );
+        let (y0, y1) = (
+            self.index(bb.min[1], self.origin[1], self.ny),
+            self.index(bb.max[1], self.origin[1], self.ny),
+        );
         if (x1 - x0 + 1) * (y1 - y0 + 1) <= 64 {
             for y in y0..=y1 {
                 for x in x0..=x1 {
@@ -1294,7 +1332,6 @@ impl Cells {
     /// an `x`, which settled copper reaches sooner, and from there the hop's end sooner.
     /// (That copper is not the node itself: a hop's nearest ends are `rho` from it.)
     fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64) -> bool {
-        cnt!(5);
         let Some(min) = self.min.get(l).filter(|m| !m.is_empty()) else {
             return false;
         };
@@ -1341,7 +1378,6 @@ impl Obstacles {
     /// that is walked round and does not leave the outline (running along an edge or
     /// touching a corner is allowed).
     fn visible(&self, p: P, q: P) -> bool {
-        cnt!(7);
         let bb = Bbox::around([p, q]);
         let mut ts = Vec::new();
         let mut blocked = false;
