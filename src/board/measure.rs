@@ -21,7 +21,8 @@
 //!   reaches `x`, and so the hop's end, sooner; the hop is not needed, and neither is any
 //!   longer one. In dense copper this stops the rings after a millimetre or two; at the
 //!   edge of a gap they go on until the second circuit is reached. For creepage, cells an
-//!   obstacle's edge crosses never count.
+//!   obstacle's edge crosses never count, and the way from that copper to `x` and on is a
+//!   path on the surface, which the search holds as hops round the cut-outs' corners.
 //! - Passages down a rim (creepage, along the wall): the cost `hypot(s, thickness)` is
 //!   convex in the distance `s` along the rim, so once the rim point `s'` along has been
 //!   reached along this face at no more than `d + hypot(s', thickness) - thickness`,
