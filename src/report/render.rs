@@ -59,7 +59,7 @@ pub struct Templates {
 
 impl Templates {
     /// Whether any template in use came from a house folder rather than the binary.
-    fn any_house(&self) -> bool {
+    pub fn any_house(&self) -> bool {
         self.files
             .iter()
             .any(|(name, _, origin)| *origin != format!("templates/{name}"))
@@ -309,7 +309,7 @@ const MARKDOWN_PLAIN: [bool; 256] = {
 /// As [`md_escape`], written to `out`: runs of plain characters (most of every value) are
 /// copied whole, and only the characters that change, and those outside ASCII, are looked
 /// at one by one.
-fn md_escape_to<W: std::fmt::Write + ?Sized>(text: &str, out: &mut W) -> std::fmt::Result {
+pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(text: &str, out: &mut W) -> std::fmt::Result {
     let bytes = text.as_bytes();
     let mut copied = 0;
     let mut i = 0;
@@ -405,15 +405,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         Ok(())
     });
     env.add_filter("signed", |value: Value| -> String {
-        match f64::try_from(value) {
-            // A margin smaller than a tenth of a micrometre is shown as such, with its
-            // sign: a shortfall too small to print is still a shortfall, never "0".
-            Ok(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
-            Ok(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
-            Ok(x) if x > 0.0 => format!("+{}", figure(x)),
-            Ok(x) => figure(x),
-            Err(_) => "not declared".to_string(),
-        }
+        signed(f64::try_from(value).ok())
     });
     // A name or id from the project file: escaped, never rounded (an id is not a figure).
     env.add_filter("id", |value: Value| -> Value {
@@ -433,12 +425,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     });
     // The symbol of a verdict alone, for cells that print the word themselves.
     env.add_filter("symbol", |value: Value| -> String {
-        let word = value.as_str().unwrap_or_default();
-        let label = view::verdict_label(word);
-        match label.split_once(' ') {
-            Some((symbol, rest)) if rest == word => symbol.to_string(),
-            _ => String::new(),
-        }
+        symbol(value.as_str().unwrap_or_default())
     });
     // A number as the report prints it, as a string to join with others.
     env.add_filter("num", |value: Value| -> String { report_number(&value) });
@@ -446,7 +433,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     // letters, digits, `-`, `_` and `.` only.
     env.add_function("anchor", |state: &State, name: String| -> Value {
         if is_html(state) {
-            Value::from_safe_string(format!("<a id=\"{}\"></a>", view::anchor_id(&name)))
+            Value::from_safe_string(anchor_html(&name))
         } else {
             Value::from_safe_string(String::new())
         }
@@ -461,14 +448,9 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         let anchor = place
             .get_attr("anchor")
             .ok()
-            .and_then(|t| t.as_str().map(view::anchor_id))
+            .and_then(|t| t.as_str().map(str::to_string))
             .unwrap_or_default();
-        let title = md_escape(&round_figures(&title));
-        Value::from_safe_string(if is_html(state) {
-            format!("[{title}](#{anchor})")
-        } else {
-            title
-        })
+        Value::from_safe_string(link_text(&title, &anchor, is_html(state)))
     });
     if templates.any_house() {
         // Parsed now, so that a broken house template stops the run before any design is
@@ -493,6 +475,46 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         });
     }
     Ok(env)
+}
+
+/// A margin with its sign (the templates' `signed` filter). A margin smaller than a tenth
+/// of a micrometre is shown as such, with its sign: a shortfall too small to print is still
+/// a shortfall, never "0".
+pub(super) fn signed(margin: Option<f64>) -> String {
+    match margin {
+        Some(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
+        Some(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
+        Some(x) if x > 0.0 => format!("+{}", figure(x)),
+        Some(x) => figure(x),
+        None => "not declared".to_string(),
+    }
+}
+
+/// The symbol of a verdict alone, for cells that print the word themselves (the `symbol`
+/// filter); nothing for a word without one.
+pub(super) fn symbol(word: &str) -> String {
+    let label = view::verdict_label(word);
+    match label.split_once(' ') {
+        Some((symbol, rest)) if rest == word => symbol.to_string(),
+        _ => String::new(),
+    }
+}
+
+/// An anchor on the HTML page (the `anchor` function): `<a id="..."></a>`, its id made of
+/// letters, digits, `-`, `_` and `.` only.
+pub(super) fn anchor_html(name: &str) -> String {
+    format!("<a id=\"{}\"></a>", view::anchor_id(name))
+}
+
+/// A place in the report (the `link` function): a live link on the HTML page, its title in
+/// words in Markdown.
+pub(super) fn link_text(title: &str, anchor: &str, html: bool) -> String {
+    let title = md_escape(&round_figures(title));
+    if html {
+        format!("[{title}](#{})", view::anchor_id(anchor))
+    } else {
+        title
+    }
 }
 
 /// Whether the template renders the HTML page (the `view.html` flag of its context).
@@ -600,9 +622,64 @@ pub fn render_markdown_with(
     render_page(report, templates, Page::Markdown, options)
 }
 
+/// Which writer makes a page's Markdown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Writer {
+    /// The Rust writer of `page/` (the shipped layout only; the default without house
+    /// templates).
+    Native,
+    /// The templates, parsed and interpreted by minijinja (always, with house templates).
+    Templates,
+}
+
 /// The Markdown for one page: plain Markdown, or the Markdown the HTML page is made from
-/// (with anchors and live links).
+/// (with anchors and live links). Written natively unless a house template is in force.
 fn render_page(
+    report: &Report,
+    templates: &Templates,
+    page: Page,
+    options: &MarkdownOptions,
+) -> Result<String, Problems> {
+    render_page_with(report, templates, page, options, Writer::Native)
+}
+
+/// As the page is rendered, with the writer named: the equivalence test renders every
+/// fixture with both. House templates are always interpreted, whatever `writer` says.
+pub fn render_page_with(
+    report: &Report,
+    templates: &Templates,
+    page: Page,
+    options: &MarkdownOptions,
+    writer: Writer,
+) -> Result<String, Problems> {
+    let text = if writer == Writer::Native && !templates.any_house() {
+        let report = with_templates(report, templates);
+        let view = view::build(&report, page, options);
+        let text = super::page::write(&report, &view);
+        finish(&report, &text)
+    } else {
+        interpret(report, templates, page, options)?
+    };
+    Ok(text)
+}
+
+/// The page's text with the preamble, blank lines tidied, line breaks as `\n`, and no
+/// control or bidi character left visible only to a machine.
+fn finish(report: &Report, text: &str) -> String {
+    let mut text = tidy_blank_lines(&insert_preamble(text, &preamble(report)));
+    if text.contains('\r') {
+        text = text.replace("\r\n", "\n");
+    }
+    // Text a template writes itself (or marks safe, such as the structure diagram) has not
+    // passed through md_escape: no control or bidi character reaches the reader from it.
+    match crate::text::visible(&text) {
+        Cow::Borrowed(_) => text,
+        Cow::Owned(shown) => shown,
+    }
+}
+
+/// The page through the templates.
+fn interpret(
     report: &Report,
     templates: &Templates,
     page: Page,
@@ -655,16 +732,7 @@ fn render_page(
             .render(context)
             .map_err(|e| template_problem(&origin(&e), &e))?
     };
-    let mut text = tidy_blank_lines(&insert_preamble(&text, &preamble(&report)));
-    if text.contains('\r') {
-        text = text.replace("\r\n", "\n");
-    }
-    // Text a template writes itself (or marks safe, such as the structure diagram) has not
-    // passed through md_escape: no control or bidi character reaches the reader from it.
-    Ok(match crate::text::visible(&text) {
-        Cow::Borrowed(_) => text,
-        Cow::Owned(shown) => shown,
-    })
+    Ok(finish(&report, &text))
 }
 
 /// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which
