@@ -97,8 +97,12 @@ impl Templates {
 
     /// The shipped templates, with any of the same name in `dir` taking their place, all
     /// parsed now so that a broken house template stops the run before any design is read.
+    /// Without house templates nothing is built: the page is written natively.
     pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
         let templates = Self::read(dir)?;
+        if !templates.any_house() {
+            return Ok(templates);
+        }
         if let Err(problems) = templates.env() {
             return Err(problems.clone());
         }
