@@ -808,18 +808,26 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         if fragment.is_ascii() && !fragment.as_bytes().contains(&0x7f) {
             return w.write_all(fragment.as_bytes());
         }
-        let mut start = 0;
-        for (i, c) in fragment.char_indices() {
+        // Otherwise only DEL and the characters beyond ASCII are looked at: the ASCII runs
+        // between them are skipped a byte at a time without decoding.
+        let bytes = fragment.as_bytes();
+        let (mut start, mut i) = (0, 0);
+        while let Some(skip) = bytes[i..].iter().position(|&b| b >= 0x7f) {
+            i += skip;
+            let Some(c) = fragment[i..].chars().next() else {
+                break;
+            };
             if crate::text::is_hazardous(c) {
-                w.write_all(&fragment.as_bytes()[start..i])?;
+                w.write_all(&bytes[start..i])?;
                 let mut units = [0u16; 2];
                 for unit in c.encode_utf16(&mut units) {
                     write!(w, "\\u{unit:04x}")?;
                 }
                 start = i + c.len_utf8();
             }
+            i += c.len_utf8();
         }
-        w.write_all(&fragment.as_bytes()[start..])
+        w.write_all(&bytes[start..])
     }
     fn begin_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
         self.0.begin_array(w)
