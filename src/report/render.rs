@@ -313,7 +313,10 @@ const MARKDOWN_PLAIN: [bool; 256] = {
 /// As [`md_escape`], written to `out`: runs of plain characters (most of every value) are
 /// copied whole, and only the characters that change, and those outside ASCII, are looked
 /// at one by one.
-pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(text: &str, out: &mut W) -> std::fmt::Result {
+pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+) -> std::fmt::Result {
     let bytes = text.as_bytes();
     let mut copied = 0;
     let mut i = 0;

@@ -43,7 +43,11 @@ fn first_difference(native: &str, templates: &str) -> String {
     format!(
         "line {}:\n  before:    {:?}\n  native:    {:?}\n  templates: {:?}\n  ({} lines native, {} lines templates)",
         at + 1,
-        if at > 0 { line(&a, at - 1) } else { String::new() },
+        if at > 0 {
+            line(&a, at - 1)
+        } else {
+            String::new()
+        },
         line(&a, at),
         line(&b, at),
         a.len(),
@@ -83,8 +87,9 @@ fn the_native_page_is_the_templates_page_for_every_fixture_and_example() {
         };
         for (page, options) in &pages {
             let render = |writer| {
-                render_page_with(&report, &templates, *page, options, writer)
-                    .unwrap_or_else(|p| panic!("{name} ({page:?}, {writer:?}) does not render: {p}"))
+                render_page_with(&report, &templates, *page, options, writer).unwrap_or_else(|p| {
+                    panic!("{name} ({page:?}, {writer:?}) does not render: {p}")
+                })
             };
             let native = render(Writer::Native);
             let interpreted = render(Writer::Templates);
@@ -120,7 +125,11 @@ fn the_native_page_is_the_templates_page_for_every_fixture_and_example() {
             "{must} was not rendered (rendered: {rendered:?})"
         );
     }
-    assert!(rendered.len() >= 40, "only {} projects rendered", rendered.len());
+    assert!(
+        rendered.len() >= 40,
+        "only {} projects rendered",
+        rendered.len()
+    );
 }
 
 /// Both pages of `report`, native and interpreted, the same (a message naming `what` if not).
@@ -144,8 +153,11 @@ fn assert_same_pages(report: &gapwarden::report::Report, what: &str) {
 fn report_of(path: &str) -> gapwarden::report::Report {
     let rules = RuleBook::shipped().expect("the shipped rules load");
     let text = std::fs::read_to_string(root().join(path)).expect("the project file reads");
-    check_source(&Source::new(root().join(path).display().to_string(), text), &rules)
-        .expect("the project evaluates")
+    check_source(
+        &Source::new(root().join(path).display().to_string(), text),
+        &rules,
+    )
+    .expect("the project evaluates")
 }
 
 /// The template branches no fixture reaches (empty lists, absent figures, the other
@@ -155,31 +167,37 @@ fn report_of(path: &str) -> gapwarden::report::Report {
 fn the_native_page_follows_the_templates_on_branches_no_fixture_reaches() {
     type Change = fn(&mut gapwarden::report::Report);
     let changes: [(&str, Change); 9] = [
-        ("no finding at all, every check quiet, no revision, no assumption", |r| {
-            r.findings.clear();
-            r.finding_context.clear();
-            r.summary.blocking = 0;
-            r.summary.warning = 0;
-            r.summary.note = 0;
-            for c in &mut r.checks {
-                c.judged = 0;
-                c.raised = 0;
-            }
-            r.design.revision = None;
-            r.design.standard_named = true;
-            r.assumptions.clear();
-        }),
-        ("EMC: gaps, no filter, Middlebrook not applied, no points, no assumption", |r| {
-            let emc = r.emc.as_mut().expect("an EMC section");
-            emc.noise_gaps = vec!["the rise time (emc.switch_node_rise_time_ns)".to_string()];
-            emc.filter = None;
-            emc.middlebrook = None;
-            emc.middlebrook_not_applied = Some("no PFC stage: 1.5 A".to_string());
-            emc.points.clear();
-            emc.assumptions.clear();
-            emc.governing_mode = None;
-            emc.max_required_attenuation_hz = None;
-        }),
+        (
+            "no finding at all, every check quiet, no revision, no assumption",
+            |r| {
+                r.findings.clear();
+                r.finding_context.clear();
+                r.summary.blocking = 0;
+                r.summary.warning = 0;
+                r.summary.note = 0;
+                for c in &mut r.checks {
+                    c.judged = 0;
+                    c.raised = 0;
+                }
+                r.design.revision = None;
+                r.design.standard_named = true;
+                r.assumptions.clear();
+            },
+        ),
+        (
+            "EMC: gaps, no filter, Middlebrook not applied, no points, no assumption",
+            |r| {
+                let emc = r.emc.as_mut().expect("an EMC section");
+                emc.noise_gaps = vec!["the rise time (emc.switch_node_rise_time_ns)".to_string()];
+                emc.filter = None;
+                emc.middlebrook = None;
+                emc.middlebrook_not_applied = Some("no PFC stage: 1.5 A".to_string());
+                emc.points.clear();
+                emc.assumptions.clear();
+                emc.governing_mode = None;
+                emc.max_required_attenuation_hz = None;
+            },
+        ),
         ("EMC: no converter figures", |r| {
             let emc = r.emc.as_mut().expect("an EMC section");
             emc.middlebrook = None;

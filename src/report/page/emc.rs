@@ -123,13 +123,12 @@ fn opening(md: &mut Md, emc: &EmcReport) {
     }
 }
 
-/// The verdict named `key` of the EMC figures, then `after` (the template's cell).
-fn verdict_cell(md: &mut Md, emc: &EmcReport, key: &str) {
-    md.verdict_in(&emc.verdicts, key);
-}
-
 /// "declared X kHz" of a corner, or "none" without a declared filter.
-fn declared_corner(md: &mut Md, emc: &EmcReport, corner: impl Fn(&crate::emc::DeclaredFilter) -> Option<f64>) {
+fn declared_corner(
+    md: &mut Md,
+    emc: &EmcReport,
+    corner: impl Fn(&crate::emc::DeclaredFilter) -> Option<f64>,
+) {
     md.s(" (declared ");
     match &emc.filter {
         Some(f) => md.khz(corner(f)),
@@ -145,7 +144,9 @@ fn figures(md: &mut Md, emc: &EmcReport) {
         md.s(", ");
         md.text(mode);
     }
-    md.s(" | the point whose required attenuation forces the lowest corner | – |\n| limit there | ");
+    md.s(
+        " | the point whose required attenuation forces the lowest corner | – |\n| limit there | ",
+    );
     md.computed(emc.limit_dbuv, "dBµV");
     if let Some(detector) = emc.governing_detector.filter(|d| !d.is_empty()) {
         md.s(", ");
@@ -168,13 +169,13 @@ fn figures(md: &mut Md, emc: &EmcReport) {
     md.s(" dB in practice, two about ");
     md.fig(emc.two_stage_practical_db);
     md.s(" dB | ");
-    verdict_cell(md, emc, "points");
+    md.verdict_in(&emc.verdicts, "points");
     md.s(" (after the declared filter, every point) |\n| differential-mode corner, second order");
     md.anchor("fig-emc.dm_corner_hz");
     md.s(" | ");
     md.khz(emc.dm_corner_hz);
     md.s(" | fc = f / 10^(A / 40), lowest over the points | ");
-    verdict_cell(md, emc, "dm_corner_hz");
+    md.verdict_in(&emc.verdicts, "dm_corner_hz");
     declared_corner(md, emc, |f| f.dm_corner_hz);
     md.s("| differential-mode corner, fourth order (two stages) | ");
     md.khz(emc.dm_corner_fourth_order_hz);
@@ -185,7 +186,7 @@ fn figures(md: &mut Md, emc: &EmcReport) {
     md.s(" | ");
     md.khz(emc.cm_corner_hz);
     md.s(" | fc = f / 10^(A / 40) | ");
-    verdict_cell(md, emc, "cm_corner_hz");
+    md.verdict_in(&emc.verdicts, "cm_corner_hz");
     declared_corner(md, emc, |f| f.cm_corner_hz);
     md.s("| common-mode corner, fourth order (two stages) | ");
     md.khz(emc.cm_corner_fourth_order_hz);
@@ -218,7 +219,7 @@ fn figures(md: &mut Md, emc: &EmcReport) {
         md.text(from);
     }
     md.s(" | | ");
-    verdict_cell(md, emc, "y_capacitance_nf");
+    md.verdict_in(&emc.verdicts, "y_capacitance_nf");
     md.s(" |\n");
 }
 

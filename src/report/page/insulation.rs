@@ -141,7 +141,9 @@ pub(super) fn isolation(md: &mut Md, r: &Report) {
         if means.is_empty() {
             md.s("\nNo applied part or accessible circuit is reached from a mains circuit through declared barriers.\n");
         } else {
-            md.s("\n| mains | circuit | weakest path | provides | needs |\n|---|---|---|---|---|\n");
+            md.s(
+                "\n| mains | circuit | weakest path | provides | needs |\n|---|---|---|---|---|\n",
+            );
             for m in means {
                 md.s("| ");
                 md.id(&m.mains);
@@ -402,7 +404,10 @@ fn clearance_set_by(md: &mut Md, b: &BarrierResult) {
 fn capitalize(word: &str) -> String {
     let mut chars = word.chars();
     match chars.next() {
-        Some(first) => first.to_uppercase().chain(chars.flat_map(char::to_lowercase)).collect(),
+        Some(first) => first
+            .to_uppercase()
+            .chain(chars.flat_map(char::to_lowercase))
+            .collect(),
         None => String::new(),
     }
 }

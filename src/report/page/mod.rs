@@ -141,7 +141,11 @@ impl Md<'_> {
     }
 
     /// Numbered steps of a derivation, each after a blank line: `1. text (rule id)`.
-    fn steps<'s>(&mut self, steps: impl IntoIterator<Item = &'s crate::derivation::Step>, id: bool) {
+    fn steps<'s>(
+        &mut self,
+        steps: impl IntoIterator<Item = &'s crate::derivation::Step>,
+        id: bool,
+    ) {
         for (i, step) in steps.into_iter().enumerate() {
             self.s("\n");
             self.int(i + 1);
