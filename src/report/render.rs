@@ -79,10 +79,9 @@ impl Templates {
         Self::from_files(files)
     }
 
-    fn from_files(mut files: Vec<(String, String, String)>) -> Self {
-        for (_, text, _) in &mut files {
-            *text = mark_chart(text);
-        }
+    /// The templates as read; their marker lines become comments only when they are parsed
+    /// (`environment`), which the native page and a JSON report never need.
+    fn from_files(files: Vec<(String, String, String)>) -> Self {
         Templates {
             files,
             env: OnceLock::new(),
@@ -463,7 +462,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         // Parsed now, so that a broken house template stops the run before any design is
         // read.
         for (name, text, origin) in &templates.files {
-            env.add_template_owned(name.clone(), text.clone())
+            env.add_template_owned(name.clone(), mark_chart(text))
                 .map_err(|e| template_problem(origin, &e))?;
         }
     } else {
@@ -472,7 +471,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         let files: Vec<(String, String)> = templates
             .files
             .iter()
-            .map(|(name, text, _)| (name.clone(), text.clone()))
+            .map(|(name, text, _)| (name.clone(), mark_chart(text)))
             .collect();
         env.set_loader(move |name| {
             Ok(files
