@@ -362,11 +362,9 @@ fn tidy_blank_lines(text: &str) -> String {
     let mut copied = 0;
     let bytes = text.as_bytes();
     let mut i = 0;
-    while i < bytes.len() {
-        if bytes[i] != b'\n' {
-            i += 1;
-            continue;
-        }
+    // From one newline to the next (found by `find`, a word at a time, not byte by byte).
+    while let Some(next) = text[i..].find('\n') {
+        i += next;
         let run_start = i;
         while i < bytes.len() && bytes[i] == b'\n' {
             i += 1;
