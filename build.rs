@@ -122,8 +122,8 @@ const CHECK_KEYS: [&str; 11] = [
 ];
 
 /// A check file's `[[check]]` entries as `ShippedCheck` literals: its text fields as they
-/// are, its conditions as JSON (a quoted expression or a predicate table), so that a run
-/// reads no check file. An unknown key or a value of the wrong kind fails the build.
+/// are, its conditions as Rust code (see [`condition`]), so that a run reads no check
+/// file. An unknown key or a value of the wrong kind fails the build.
 fn shipped_checks(path: &Path, value: &toml::Value, lines: &[String]) -> String {
     let Some(entries) = value.get("check").and_then(toml::Value::as_array) else {
         return String::new();
@@ -147,12 +147,12 @@ fn shipped_checks(path: &Path, value: &toml::Value, lines: &[String]) -> String 
             Some(toml::Value::String(s)) => format!("Some({s:?})"),
             Some(_) => panic!("{}: check[{}].{key} is not a string", path.display(), i + 1),
         };
-        let json = |key: &str| match table.get(key) {
+        let cond = |key: &str| match table.get(key) {
             None => "None".to_string(),
-            Some(v) => format!(
-                "Some({:?})",
-                serde_json::to_string(v).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
-            ),
+            Some(v) => {
+                let at = format!("{}: check[{}].{key}", path.display(), i + 1);
+                format!("Some({})", condition(v, &at))
+            }
         };
         let overrides = match table.get("overrides") {
             None => false,
@@ -173,8 +173,8 @@ fn shipped_checks(path: &Path, value: &toml::Value, lines: &[String]) -> String 
             text("title"),
             text("severity"),
             text("over"),
-            json("applies"),
-            json("condition"),
+            cond("applies"),
+            cond("condition"),
             text("subject"),
             text("message"),
             text("rationale"),
@@ -183,6 +183,118 @@ fn shipped_checks(path: &Path, value: &toml::Value, lines: &[String]) -> String 
         );
     }
     code
+}
+
+/// A shipped check's condition as Rust code: a quoted expression as
+/// `ShippedCond::Expression`, a predicate table as the constructor calls of the
+/// `Predicate` it reads as, so that a run parses no shipped condition. The unit test
+/// `rules::check_defs::tests::shipped_conditions_are_built_as_the_parser_reads_them` proves
+/// each equal to what `Predicate::parse` makes of the same table; a shape this does not
+/// know fails the build.
+fn condition(value: &toml::Value, at: &str) -> String {
+    match value {
+        toml::Value::String(e) => format!("ShippedCond::Expression({e:?})"),
+        other => format!("ShippedCond::Predicate(|| {})", predicate(other, at)),
+    }
+}
+
+fn predicate(value: &toml::Value, at: &str) -> String {
+    let table = match value {
+        toml::Value::Boolean(b) => return format!("P::Always({b})"),
+        toml::Value::Table(t) => t,
+        _ => panic!("{at}: a condition is an expression or a table"),
+    };
+    let list = |items: &toml::Value| -> String {
+        let Some(items) = items.as_array() else {
+            panic!("{at}: all and any take a list")
+        };
+        let parts: Vec<String> = items.iter().map(|p| predicate(p, at)).collect();
+        format!("vec![{}]", parts.join(", "))
+    };
+    if table.len() == 1 {
+        if let Some(items) = table.get("all") {
+            return format!("P::All({})", list(items));
+        }
+        if let Some(items) = table.get("any") {
+            return format!("P::Any({})", list(items));
+        }
+        if let Some(inner) = table.get("not") {
+            return format!("P::Not(Box::new({}))", predicate(inner, at));
+        }
+    }
+    let field = match (table.get("field"), table.get("verdict")) {
+        (Some(toml::Value::String(f)), None) => field_ref(f, false),
+        (None, Some(toml::Value::String(v))) => field_ref(v, true),
+        _ => panic!("{at}: a condition table needs field or verdict"),
+    };
+    let tests: Vec<(&String, &toml::Value)> = table
+        .iter()
+        .filter(|(k, _)| k.as_str() != "field" && k.as_str() != "verdict")
+        .collect();
+    let [(test, arg)] = tests.as_slice() else {
+        panic!("{at}: a condition on a field takes exactly one test")
+    };
+    let flag = || match arg {
+        toml::Value::Boolean(b) => *b,
+        _ => panic!("{at}: {test} takes true or false"),
+    };
+    match test.as_str() {
+        "missing" => format!("P::Missing({field}, {})", flag()),
+        "set" => format!("P::Set({field}, {})", flag()),
+        "not_empty" => format!("P::NotEmpty({field}, {})", flag()),
+        "one_of" => {
+            let Some(values) = arg.as_array() else {
+                panic!("{at}: one_of takes a list")
+            };
+            let values: Vec<String> = values.iter().map(|v| constant(v, at)).collect();
+            format!("P::OneOf({field}, vec![{}])", values.join(", "))
+        }
+        op @ ("is" | "is_not" | "lt" | "le" | "gt" | "ge") => {
+            let op = match op {
+                "is" => "Is",
+                "is_not" => "IsNot",
+                "lt" => "Lt",
+                "le" => "Le",
+                "gt" => "Gt",
+                _ => "Ge",
+            };
+            let operand = match arg {
+                toml::Value::Table(t) => match (t.get("field"), t.len()) {
+                    (Some(toml::Value::String(f)), 1) => {
+                        format!("Operand::Field({})", field_ref(f, false))
+                    }
+                    _ => panic!("{at}: {test} takes a value or {{ field = ... }}"),
+                },
+                v => format!("Operand::Constant({})", constant(v, at)),
+            };
+            format!("P::Compare({field}, Op::{op}, {operand})")
+        }
+        other => panic!("{at}: unknown test `{other}`"),
+    }
+}
+
+/// `FieldRef::built(...)` for a field path (`verdict = "name"` reads `verdicts.<name>`).
+fn field_ref(path: &str, verdict: bool) -> String {
+    let (from_report, rest) = match path.strip_prefix("report.") {
+        Some(rest) => (true, rest),
+        None => (false, path),
+    };
+    let (parts, written): (Vec<&str>, String) = if verdict {
+        (vec!["verdicts", rest], format!("verdicts['{rest}']"))
+    } else {
+        (rest.split('.').collect(), path.to_string())
+    };
+    format!("FieldRef::built({from_report}, &{parts:?}, {written:?})")
+}
+
+fn constant(value: &toml::Value, at: &str) -> String {
+    match value {
+        toml::Value::Boolean(b) => format!("Value::from({b})"),
+        toml::Value::String(s) => format!("Value::from({s:?})"),
+        toml::Value::Integer(i) => format!("Value::from({i}i64)"),
+        toml::Value::Float(f) if f.is_finite() => format!("Value::from({f:?}f64)"),
+        _ => panic!("{at}: a constant is a number, a string or true/false"),
+    }
 }
 
 fn templates(root: &Path) -> String {

@@ -41,6 +41,33 @@ fn marker(c: char) -> String {
     format!("<U+{:04X}>", c as u32)
 }
 
+/// How many bytes at the start of `bytes` are printable ASCII (0x20 to 0x7e), looked at
+/// eight at a time: the runs between line ends and non-ASCII characters of a report.
+fn printable_ascii_run(bytes: &[u8]) -> usize {
+    const ONES: u64 = 0x0101_0101_0101_0101;
+    const HIGH: u64 = 0x8080_8080_8080_8080;
+    let mut i = 0;
+    while let Some(chunk) = bytes
+        .get(i..i + 8)
+        .and_then(|c| <[u8; 8]>::try_from(c).ok())
+    {
+        let w = u64::from_le_bytes(chunk);
+        // The word tricks: `(x - n) & !x & HIGH` is non-zero exactly when some byte of `x`
+        // (all below 0x80) is below `n`; DEL is the byte that `^ 0x7f` makes zero.
+        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
+        let del = w ^ (0x7f * ONES);
+        let is_del = del.wrapping_sub(ONES) & !del;
+        if (w | below_space | is_del) & HIGH != 0 {
+            break;
+        }
+        i += 8;
+    }
+    i + bytes[i..]
+        .iter()
+        .take_while(|&&b| (0x20..0x7f).contains(&b))
+        .count()
+}
+
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
 pub fn visible(text: &str) -> Cow<'_, str> {
@@ -60,6 +87,7 @@ pub fn visible(text: &str) -> Cow<'_, str> {
     let bytes = text.as_bytes();
     let mut i = 0;
     let first = loop {
+        i += printable_ascii_run(&bytes[i..]);
         let Some(&b) = bytes.get(i) else {
             return Cow::Borrowed(text);
         };
@@ -241,6 +269,33 @@ const UNITS: &[&str] = &[
     "uH", "dB", "dBµV", "dBuV", "mm", "m", "°C", "K", "A²s", "A2s", "%",
 ];
 
+/// How many bytes at the start of `bytes` are not ASCII digits, looked at eight at a time
+/// (figures are a small part of prose).
+fn digit_free_run(bytes: &[u8]) -> usize {
+    const ONES: u64 = 0x0101_0101_0101_0101;
+    const HIGH: u64 = 0x8080_8080_8080_8080;
+    let mut i = 0;
+    while let Some(chunk) = bytes
+        .get(i..i + 8)
+        .and_then(|c| <[u8; 8]>::try_from(c).ok())
+    {
+        // Each byte's low seven bits plus 0x50 reach 0x80 from '0' up, plus 0x46 from ':'
+        // up: a digit sets the first high bit and not the second (a byte beyond ASCII may
+        // look like one; it is then looked at below, never skipped wrongly).
+        let low = u64::from_le_bytes(chunk) & (0x7f * ONES);
+        let from_zero = low.wrapping_add(0x50 * ONES) & HIGH;
+        let from_colon = low.wrapping_add(0x46 * ONES) & HIGH;
+        if from_zero & !from_colon != 0 {
+            break;
+        }
+        i += 8;
+    }
+    i + bytes[i..]
+        .iter()
+        .take_while(|b| !b.is_ascii_digit())
+        .count()
+}
+
 /// The text with every figure of more than four significant digits rounded to four, for
 /// the Markdown and HTML report: derivations and messages are written once with the
 /// figures as the JSON keeps them (35.5574 A), and a reader of the checklist gets 35.56 A.
@@ -254,9 +309,9 @@ pub fn round_figures(text: &str) -> Cow<'_, str> {
     let mut copied = 0;
     let mut i = 0;
     while i < bytes.len() {
-        if !bytes[i].is_ascii_digit() {
-            i += 1;
-            continue;
+        i += digit_free_run(&bytes[i..]);
+        if i == bytes.len() {
+            break;
         }
         let start = i;
         while i < bytes.len() && bytes[i].is_ascii_digit() {
@@ -365,6 +420,48 @@ mod tests {
         assert_eq!(visible("line\n\tnext"), "line\n\tnext");
         assert_eq!(visible("crlf\r"), "crlf<U+000D>");
         assert!(matches!(visible("plain µF – ok"), Cow::Borrowed(_)));
+    }
+
+    /// As for the printable run: every byte value at every position of a 17-byte text.
+    #[test]
+    fn the_digit_free_run_stops_at_the_first_ascii_digit() {
+        for position in 0..17 {
+            for byte in 0..=255u8 {
+                let mut text = vec![b'x'; 17];
+                text[position] = byte;
+                let expected = if byte.is_ascii_digit() { position } else { 17 };
+                assert_eq!(
+                    digit_free_run(&text),
+                    expected,
+                    "byte {byte:#04x} at {position}"
+                );
+            }
+        }
+    }
+
+    /// The eight-at-a-time run agrees with a byte-by-byte reading for every byte value at
+    /// every position of a 17-byte text (two words and one byte more).
+    #[test]
+    fn the_printable_run_stops_at_the_first_byte_outside_0x20_to_0x7e() {
+        for position in 0..17 {
+            for byte in 0..=255u8 {
+                let mut text = vec![b'a'; 17];
+                text[position] = byte;
+                let expected = if (0x20..0x7f).contains(&byte) {
+                    17
+                } else {
+                    position
+                };
+                assert_eq!(
+                    printable_ascii_run(&text),
+                    expected,
+                    "byte {byte:#04x} at {position}"
+                );
+            }
+        }
+        // Every byte below the space and DEL, with printable bytes on both sides of it.
+        assert_eq!(printable_ascii_run(b"~~~~~~~~ !\x1f"), 10);
+        assert_eq!(printable_ascii_run(b"}~}~}~}\x7f"), 7);
     }
 
     #[test]

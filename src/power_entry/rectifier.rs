@@ -395,29 +395,44 @@ impl HalfCycle {
             let u = source - self.drop;
             let v_off = self.discharged(v, h)?;
             if u <= v_off && wave.is_none() {
-                // A blocked stretch, most of a half-cycle: the same arithmetic as the general
-                // step below without its bookkeeping. Nothing flows, so the sums and the
-                // peak stay; the load alone discharges, so v only falls and of the tally
-                // only the valley can move, to the stretch's last voltage.
-                let mut v_off = v_off;
-                loop {
-                    if !(v_off.is_finite() && v_off > self.floor) {
+                // A blocked stretch, most of a half-cycle, in closed form: the load alone
+                // discharges, `v_{n+m}^2 = v_n^2 - 2 P m h / C`, and the slope of the map
+                // telescopes to `dv_n v_n / v_{n+m}`. The stretch ends at the first step
+                // whose source exceeds the voltage it would discharge to (compared
+                // squared: no root per step). Nothing flows, so the sums and the peak stay;
+                // v only falls, so of the tally only the valley moves, to its last voltage.
+                if !(v_off.is_finite() && v_off > self.floor) {
+                    return Err(Collapse);
+                }
+                let (v_start, dv_start) = (v, dv);
+                let (start_square, per_step) = (v * v, 2.0 * p * h / c);
+                let floor_square = self.floor * self.floor;
+                let square_after = |m: usize| start_square - per_step * m as f64;
+                let mut m = 1;
+                while n + m < steps {
+                    let next_square = square_after(m + 1);
+                    if next_square <= floor_square {
                         return Err(Collapse);
                     }
-                    let dv_next = v / v_off * dv;
-                    v_prev = v;
-                    v = v_off;
-                    dv_prev = dv;
-                    dv = dv_next;
-                    n += 1;
-                    if n == steps {
+                    let u = self.source[n + m] - self.drop;
+                    if u > 0.0 && u * u > next_square {
                         break;
                     }
-                    v_off = self.discharged(v, h)?;
-                    if self.source[n] - self.drop > v_off {
-                        break;
-                    }
+                    m += 1;
                 }
+                v_prev = if m == 1 {
+                    v
+                } else {
+                    square_after(m - 1).sqrt()
+                };
+                v = if m == 1 {
+                    v_off
+                } else {
+                    square_after(m).sqrt()
+                };
+                dv_prev = dv_start * v_start / v_prev;
+                dv = dv_start * v_start / v;
+                n += m;
                 conducting = false;
                 if let Some(t) = tally.as_deref_mut() {
                     t.v_min = t.v_min.min(v);

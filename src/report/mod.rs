@@ -2,6 +2,7 @@
 //! Markdown, HTML or JSON, so the three cannot disagree.
 
 mod html;
+mod page;
 mod render;
 pub mod view;
 
@@ -20,8 +21,8 @@ use crate::spacing::{BarrierResult, Verdict};
 
 pub(crate) use render::number as value_number;
 pub use render::{
-    Templates, house_template_files, md_escape, render_html, render_json, render_markdown,
-    render_markdown_with, to_json, with_templates,
+    Templates, Writer, house_template_files, md_escape, render_html, render_json, render_markdown,
+    render_markdown_with, render_page_with, to_json, with_templates,
 };
 pub use view::MarkdownOptions;
 

@@ -59,7 +59,7 @@ pub struct Templates {
 
 impl Templates {
     /// Whether any template in use came from a house folder rather than the binary.
-    fn any_house(&self) -> bool {
+    pub fn any_house(&self) -> bool {
         self.files
             .iter()
             .any(|(name, _, origin)| *origin != format!("templates/{name}"))
@@ -79,10 +79,9 @@ impl Templates {
         Self::from_files(files)
     }
 
-    fn from_files(mut files: Vec<(String, String, String)>) -> Self {
-        for (_, text, _) in &mut files {
-            *text = mark_chart(text);
-        }
+    /// The templates as read; their marker lines become comments only when they are parsed
+    /// (`environment`), which the native page and a JSON report never need.
+    fn from_files(files: Vec<(String, String, String)>) -> Self {
         Templates {
             files,
             env: OnceLock::new(),
@@ -97,8 +96,12 @@ impl Templates {
 
     /// The shipped templates, with any of the same name in `dir` taking their place, all
     /// parsed now so that a broken house template stops the run before any design is read.
+    /// Without house templates nothing is built: the page is written natively.
     pub fn load(dir: Option<&Path>) -> Result<Self, Problems> {
         let templates = Self::read(dir)?;
+        if !templates.any_house() {
+            return Ok(templates);
+        }
         if let Err(problems) = templates.env() {
             return Err(problems.clone());
         }
@@ -309,7 +312,10 @@ const MARKDOWN_PLAIN: [bool; 256] = {
 /// As [`md_escape`], written to `out`: runs of plain characters (most of every value) are
 /// copied whole, and only the characters that change, and those outside ASCII, are looked
 /// at one by one.
-fn md_escape_to<W: std::fmt::Write + ?Sized>(text: &str, out: &mut W) -> std::fmt::Result {
+pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+) -> std::fmt::Result {
     let bytes = text.as_bytes();
     let mut copied = 0;
     let mut i = 0;
@@ -356,11 +362,9 @@ fn tidy_blank_lines(text: &str) -> String {
     let mut copied = 0;
     let bytes = text.as_bytes();
     let mut i = 0;
-    while i < bytes.len() {
-        if bytes[i] != b'\n' {
-            i += 1;
-            continue;
-        }
+    // From one newline to the next (found by `find`, a word at a time, not byte by byte).
+    while let Some(next) = text[i..].find('\n') {
+        i += next;
         let run_start = i;
         while i < bytes.len() && bytes[i] == b'\n' {
             i += 1;
@@ -405,15 +409,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         Ok(())
     });
     env.add_filter("signed", |value: Value| -> String {
-        match f64::try_from(value) {
-            // A margin smaller than a tenth of a micrometre is shown as such, with its
-            // sign: a shortfall too small to print is still a shortfall, never "0".
-            Ok(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
-            Ok(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
-            Ok(x) if x > 0.0 => format!("+{}", figure(x)),
-            Ok(x) => figure(x),
-            Err(_) => "not declared".to_string(),
-        }
+        signed(f64::try_from(value).ok())
     });
     // A name or id from the project file: escaped, never rounded (an id is not a figure).
     env.add_filter("id", |value: Value| -> Value {
@@ -433,12 +429,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     });
     // The symbol of a verdict alone, for cells that print the word themselves.
     env.add_filter("symbol", |value: Value| -> String {
-        let word = value.as_str().unwrap_or_default();
-        let label = view::verdict_label(word);
-        match label.split_once(' ') {
-            Some((symbol, rest)) if rest == word => symbol.to_string(),
-            _ => String::new(),
-        }
+        symbol(value.as_str().unwrap_or_default())
     });
     // A number as the report prints it, as a string to join with others.
     env.add_filter("num", |value: Value| -> String { report_number(&value) });
@@ -446,7 +437,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
     // letters, digits, `-`, `_` and `.` only.
     env.add_function("anchor", |state: &State, name: String| -> Value {
         if is_html(state) {
-            Value::from_safe_string(format!("<a id=\"{}\"></a>", view::anchor_id(&name)))
+            Value::from_safe_string(anchor_html(&name))
         } else {
             Value::from_safe_string(String::new())
         }
@@ -461,20 +452,15 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         let anchor = place
             .get_attr("anchor")
             .ok()
-            .and_then(|t| t.as_str().map(view::anchor_id))
+            .and_then(|t| t.as_str().map(str::to_string))
             .unwrap_or_default();
-        let title = md_escape(&round_figures(&title));
-        Value::from_safe_string(if is_html(state) {
-            format!("[{title}](#{anchor})")
-        } else {
-            title
-        })
+        Value::from_safe_string(link_text(&title, &anchor, is_html(state)))
     });
     if templates.any_house() {
         // Parsed now, so that a broken house template stops the run before any design is
         // read.
         for (name, text, origin) in &templates.files {
-            env.add_template_owned(name.clone(), text.clone())
+            env.add_template_owned(name.clone(), mark_chart(text))
                 .map_err(|e| template_problem(origin, &e))?;
         }
     } else {
@@ -483,7 +469,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         let files: Vec<(String, String)> = templates
             .files
             .iter()
-            .map(|(name, text, _)| (name.clone(), text.clone()))
+            .map(|(name, text, _)| (name.clone(), mark_chart(text)))
             .collect();
         env.set_loader(move |name| {
             Ok(files
@@ -493,6 +479,46 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
         });
     }
     Ok(env)
+}
+
+/// A margin with its sign (the templates' `signed` filter). A margin smaller than a tenth
+/// of a micrometre is shown as such, with its sign: a shortfall too small to print is still
+/// a shortfall, never "0".
+pub(super) fn signed(margin: Option<f64>) -> String {
+    match margin {
+        Some(x) if x > 0.0 && x < 1e-4 => "+<0.0001".to_string(),
+        Some(x) if x < 0.0 && x > -1e-4 => "-<0.0001".to_string(),
+        Some(x) if x > 0.0 => format!("+{}", figure(x)),
+        Some(x) => figure(x),
+        None => "not declared".to_string(),
+    }
+}
+
+/// The symbol of a verdict alone, for cells that print the word themselves (the `symbol`
+/// filter); nothing for a word without one.
+pub(super) fn symbol(word: &str) -> String {
+    let label = view::verdict_label(word);
+    match label.split_once(' ') {
+        Some((symbol, rest)) if rest == word => symbol.to_string(),
+        _ => String::new(),
+    }
+}
+
+/// An anchor on the HTML page (the `anchor` function): `<a id="..."></a>`, its id made of
+/// letters, digits, `-`, `_` and `.` only.
+pub(super) fn anchor_html(name: &str) -> String {
+    format!("<a id=\"{}\"></a>", view::anchor_id(name))
+}
+
+/// A place in the report (the `link` function): a live link on the HTML page, its title in
+/// words in Markdown.
+pub(super) fn link_text(title: &str, anchor: &str, html: bool) -> String {
+    let title = md_escape(&round_figures(title));
+    if html {
+        format!("[{title}](#{})", view::anchor_id(anchor))
+    } else {
+        title
+    }
 }
 
 /// Whether the template renders the HTML page (the `view.html` flag of its context).
@@ -600,9 +626,64 @@ pub fn render_markdown_with(
     render_page(report, templates, Page::Markdown, options)
 }
 
+/// Which writer makes a page's Markdown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Writer {
+    /// The Rust writer of `page/` (the shipped layout only; the default without house
+    /// templates).
+    Native,
+    /// The templates, parsed and interpreted by minijinja (always, with house templates).
+    Templates,
+}
+
 /// The Markdown for one page: plain Markdown, or the Markdown the HTML page is made from
-/// (with anchors and live links).
+/// (with anchors and live links). Written natively unless a house template is in force.
 fn render_page(
+    report: &Report,
+    templates: &Templates,
+    page: Page,
+    options: &MarkdownOptions,
+) -> Result<String, Problems> {
+    render_page_with(report, templates, page, options, Writer::Native)
+}
+
+/// As the page is rendered, with the writer named: the equivalence test renders every
+/// fixture with both. House templates are always interpreted, whatever `writer` says.
+pub fn render_page_with(
+    report: &Report,
+    templates: &Templates,
+    page: Page,
+    options: &MarkdownOptions,
+    writer: Writer,
+) -> Result<String, Problems> {
+    let text = if writer == Writer::Native && !templates.any_house() {
+        let report = with_templates(report, templates);
+        let view = view::build(&report, page, options);
+        let text = super::page::write(&report, &view);
+        finish(&report, &text)
+    } else {
+        interpret(report, templates, page, options)?
+    };
+    Ok(text)
+}
+
+/// The page's text with the preamble, blank lines tidied, line breaks as `\n`, and no
+/// control or bidi character left visible only to a machine.
+fn finish(report: &Report, text: &str) -> String {
+    let mut text = tidy_blank_lines(&insert_preamble(text, &preamble(report)));
+    if text.contains('\r') {
+        text = text.replace("\r\n", "\n");
+    }
+    // Text a template writes itself (or marks safe, such as the structure diagram) has not
+    // passed through md_escape: no control or bidi character reaches the reader from it.
+    match crate::text::visible(&text) {
+        Cow::Borrowed(_) => text,
+        Cow::Owned(shown) => shown,
+    }
+}
+
+/// The page through the templates.
+fn interpret(
     report: &Report,
     templates: &Templates,
     page: Page,
@@ -655,16 +736,7 @@ fn render_page(
             .render(context)
             .map_err(|e| template_problem(&origin(&e), &e))?
     };
-    let mut text = tidy_blank_lines(&insert_preamble(&text, &preamble(&report)));
-    if text.contains('\r') {
-        text = text.replace("\r\n", "\n");
-    }
-    // Text a template writes itself (or marks safe, such as the structure diagram) has not
-    // passed through md_escape: no control or bidi character reaches the reader from it.
-    Ok(match crate::text::visible(&text) {
-        Cow::Borrowed(_) => text,
-        Cow::Owned(shown) => shown,
-    })
+    Ok(finish(&report, &text))
 }
 
 /// The Markdown checklist as one self-contained HTML page. Raw HTML in the Markdown (which
@@ -736,18 +808,26 @@ impl serde_json::ser::Formatter for SafeJson<'_> {
         if fragment.is_ascii() && !fragment.as_bytes().contains(&0x7f) {
             return w.write_all(fragment.as_bytes());
         }
-        let mut start = 0;
-        for (i, c) in fragment.char_indices() {
+        // Otherwise only DEL and the characters beyond ASCII are looked at: the ASCII runs
+        // between them are skipped a byte at a time without decoding.
+        let bytes = fragment.as_bytes();
+        let (mut start, mut i) = (0, 0);
+        while let Some(skip) = bytes[i..].iter().position(|&b| b >= 0x7f) {
+            i += skip;
+            let Some(c) = fragment[i..].chars().next() else {
+                break;
+            };
             if crate::text::is_hazardous(c) {
-                w.write_all(&fragment.as_bytes()[start..i])?;
+                w.write_all(&bytes[start..i])?;
                 let mut units = [0u16; 2];
                 for unit in c.encode_utf16(&mut units) {
                     write!(w, "\\u{unit:04x}")?;
                 }
                 start = i + c.len_utf8();
             }
+            i += c.len_utf8();
         }
-        w.write_all(&fragment.as_bytes()[start..])
+        w.write_all(&bytes[start..])
     }
     fn begin_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
         self.0.begin_array(w)

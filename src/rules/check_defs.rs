@@ -158,12 +158,36 @@ struct RawCheck {
     title: Option<String>,
     severity: Option<String>,
     over: Option<String>,
-    applies: Option<serde_json::Value>,
-    condition: Option<serde_json::Value>,
+    applies: Option<RawCond>,
+    condition: Option<RawCond>,
     subject: Option<String>,
     message: Option<String>,
     rationale: Option<String>,
     source: Option<String>,
+}
+
+/// A condition as given: a house file's value (an expression in quotes or a predicate
+/// table), or a shipped one that build.rs has already made into a condition.
+#[derive(Deserialize)]
+#[serde(from = "serde_json::Value")]
+enum RawCond {
+    Given(serde_json::Value),
+    Built(Cond),
+}
+
+impl From<serde_json::Value> for RawCond {
+    fn from(value: serde_json::Value) -> Self {
+        RawCond::Given(value)
+    }
+}
+
+impl From<super::shipped::ShippedCond> for RawCond {
+    fn from(cond: super::shipped::ShippedCond) -> Self {
+        RawCond::Built(match cond {
+            super::shipped::ShippedCond::Expression(e) => Cond::Expression(e.to_string()),
+            super::shipped::ShippedCond::Predicate(build) => Cond::Predicate(build()),
+        })
+    }
 }
 
 /// Reads the check files in load order (shipped first, then house), merging overrides.
@@ -176,23 +200,22 @@ pub struct CheckSource<'a> {
     pub shipped: Option<&'static [super::shipped::ShippedCheck]>,
 }
 
-/// A shipped entry as a raw check; its conditions are the only JSON left to read.
-fn from_shipped(c: &super::shipped::ShippedCheck) -> Result<RawCheck, serde_json::Error> {
+/// A shipped entry as a raw check, its conditions already built (nothing to parse).
+fn from_shipped(c: &super::shipped::ShippedCheck) -> RawCheck {
     let text = |t: Option<&str>| t.map(str::to_string);
-    let json = |t: Option<&str>| t.map(serde_json::from_str).transpose();
-    Ok(RawCheck {
+    RawCheck {
         id: c.id.to_string(),
         overrides: c.overrides,
         title: text(c.title),
         severity: text(c.severity),
         over: text(c.over),
-        applies: json(c.applies)?,
-        condition: json(c.condition)?,
+        applies: c.applies.map(RawCond::from),
+        condition: c.condition.map(RawCond::from),
         subject: text(c.subject),
         message: text(c.message),
         rationale: text(c.rationale),
         source: text(c.source),
-    })
+    }
 }
 
 /// A retired check id and why it went; no check may take it again.
@@ -221,10 +244,11 @@ fn locate_key(text: &str, index: usize, key: &str, needle: Option<&str>) -> Opti
 }
 
 /// Reads a condition (`applies` or `condition`): a quoted expression or a predicate table.
-fn read_cond(value: &serde_json::Value) -> Result<Cond, String> {
+fn read_cond(value: RawCond) -> Result<Cond, String> {
     match value {
-        serde_json::Value::String(e) => Ok(Cond::Expression(e.clone())),
-        other => Predicate::parse(other).map(Cond::Predicate),
+        RawCond::Built(cond) => Ok(cond),
+        RawCond::Given(serde_json::Value::String(e)) => Ok(Cond::Expression(e)),
+        RawCond::Given(other) => Predicate::parse(&other).map(Cond::Predicate),
     }
 }
 
@@ -253,17 +277,7 @@ pub fn load_checks(
     {
         // Each check with the line its [[check]] header stands on.
         let entries: Vec<(RawCheck, usize)> = match shipped {
-            Some(shipped) => match shipped
-                .iter()
-                .map(|c| from_shipped(c).map(|raw| (raw, c.line)))
-                .collect::<Result<Vec<_>, _>>()
-            {
-                Ok(entries) => entries,
-                Err(e) => {
-                    problems.push(Diagnostic::new(&source.name, e.to_string()));
-                    continue;
-                }
-            },
+            Some(shipped) => shipped.iter().map(|c| (from_shipped(c), c.line)).collect(),
             None => match toml::from_str::<CheckFile>(&source.text) {
                 Ok(f) => f
                     .check
@@ -283,8 +297,7 @@ pub fn load_checks(
         let validate = shipped.is_none();
         // The field names and `over` of shipped checks are validated by a test.
         let validate_fields = validate || validate_shipped;
-        for (entry_index, (raw, line)) in entries.iter().enumerate() {
-            let line = *line;
+        for (entry_index, (mut raw, line)) in entries.into_iter().enumerate() {
             // Located at the entry's [[check]] line, with the key's own line and column in
             // the message (tools that jump to the first position land on the entry).
             // Located at the key's value (or at the `[[check]]` line when the entry does not
@@ -350,9 +363,8 @@ pub fn load_checks(
                 (Some(i), true) => Some(checks[i].clone()),
                 (None, false) => None,
             };
-            let field = |value: &Option<String>, old: Option<&String>| {
-                value.clone().or_else(|| old.cloned())
-            };
+            let field =
+                |value: Option<String>, old: Option<&String>| value.or_else(|| old.cloned());
             let required = |value: Option<String>, key: &str, problems: &mut Vec<Diagnostic>| {
                 if value.is_none() {
                     problems.push(at("is missing; every new check needs it".to_string(), key));
@@ -360,23 +372,24 @@ pub fn load_checks(
                 value
             };
             let title = required(
-                field(&raw.title, base.as_ref().map(|b| &b.title)),
+                field(raw.title.take(), base.as_ref().map(|b| &b.title)),
                 "title",
                 problems,
             );
             let message = required(
-                field(&raw.message, base.as_ref().map(|b| &b.message)),
+                field(raw.message.take(), base.as_ref().map(|b| &b.message)),
                 "message",
                 problems,
             );
             let source_text = required(
-                field(&raw.source, base.as_ref().map(|b| &b.source)),
+                field(raw.source.take(), base.as_ref().map(|b| &b.source)),
                 "source",
                 problems,
             );
-            let rationale =
-                field(&raw.rationale, base.as_ref().map(|b| &b.rationale)).unwrap_or_default();
-            let mut read = |value: &Option<serde_json::Value>, key: &str| match value {
+            let rationale = field(raw.rationale.take(), base.as_ref().map(|b| &b.rationale))
+                .unwrap_or_default();
+            let (given_applies, given_condition) = (raw.applies.is_some(), raw.condition.is_some());
+            let mut read = |value: Option<RawCond>, key: &str| match value {
                 None => None,
                 Some(v) => match read_cond(v) {
                     Ok(c) => Some(c),
@@ -386,21 +399,21 @@ pub fn load_checks(
                     }
                 },
             };
-            let applies = read(&raw.applies, "applies").or_else(|| {
-                if raw.applies.is_none() {
+            let applies = read(raw.applies.take(), "applies").or_else(|| {
+                if !given_applies {
                     base.as_ref().and_then(|b| b.applies.clone())
                 } else {
                     None
                 }
             });
-            let condition = read(&raw.condition, "condition").or_else(|| {
-                if raw.condition.is_none() {
+            let condition = read(raw.condition.take(), "condition").or_else(|| {
+                if !given_condition {
                     base.as_ref().map(|b| b.condition.clone())
                 } else {
                     None
                 }
             });
-            if condition.is_none() && raw.condition.is_none() {
+            if condition.is_none() && !given_condition {
                 problems.push(at(
                     "is missing; every new check needs it".to_string(),
                     "condition",
@@ -626,5 +639,43 @@ fn expression(c: &Cond) -> Option<&str> {
     match c {
         Cond::Expression(e) => Some(e),
         Cond::Predicate(_) => None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every shipped condition that build.rs compiled into code is what the parser a house
+    /// file goes through makes of the same TOML: the two readings cannot drift apart.
+    #[test]
+    fn shipped_conditions_are_built_as_the_parser_reads_them() {
+        let mut compared = 0;
+        for rule in super::super::SHIPPED_RULES.iter().filter(|r| r.is_checks) {
+            let file: toml::Value = toml::from_str(rule.text).expect("shipped file is TOML");
+            let entries = file["check"]
+                .as_array()
+                .expect("a check file has [[check]]");
+            assert_eq!(entries.len(), rule.checks.len(), "{}", rule.name);
+            for (entry, shipped) in entries.iter().zip(rule.checks) {
+                for (key, built) in [
+                    ("applies", shipped.applies),
+                    ("condition", shipped.condition),
+                ] {
+                    let given = entry.get(key).map(|v| {
+                        let json = serde_json::to_value(v).expect("TOML converts to JSON");
+                        read_cond(RawCond::Given(json)).expect("shipped condition parses")
+                    });
+                    let built = built.map(|c| match RawCond::from(c) {
+                        RawCond::Built(c) => c,
+                        RawCond::Given(_) => unreachable!("a shipped condition is built"),
+                    });
+                    assert_eq!(built, given, "{} check {} {key}", rule.name, shipped.id);
+                    compared += usize::from(given.is_some());
+                }
+            }
+        }
+        // 88 checks, most with `applies` as well: all of them were looked at.
+        assert!(compared > 100, "only {compared} conditions compared");
     }
 }

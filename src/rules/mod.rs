@@ -54,15 +54,15 @@ pub(crate) mod shipped {
     }
 
     /// One `[[check]]` entry of a shipped check file as build.rs read it: the text fields
-    /// as written, the conditions as JSON (a quoted expression or a predicate table).
+    /// as written, the conditions built (see [`ShippedCond`]).
     pub struct ShippedCheck {
         pub id: &'static str,
         pub overrides: bool,
         pub title: Option<&'static str>,
         pub severity: Option<&'static str>,
         pub over: Option<&'static str>,
-        pub applies: Option<&'static str>,
-        pub condition: Option<&'static str>,
+        pub applies: Option<ShippedCond>,
+        pub condition: Option<ShippedCond>,
         pub subject: Option<&'static str>,
         pub message: Option<&'static str>,
         pub rationale: Option<&'static str>,
@@ -70,6 +70,17 @@ pub(crate) mod shipped {
         /// The line of its `[[check]]` header.
         pub line: usize,
     }
+
+    /// A shipped condition: an expression, or the predicate its table reads as, built by
+    /// code that build.rs wrote from the table (a run parses no shipped condition).
+    #[derive(Clone, Copy)]
+    pub enum ShippedCond {
+        Expression(&'static str),
+        Predicate(fn() -> P),
+    }
+
+    use super::predicate::{FieldRef, Op, Operand, Predicate as P};
+    use minijinja::value::Value;
 
     include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
 }

@@ -126,6 +126,18 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
     })
 }
 
+impl FieldRef {
+    /// A field path as build.rs writes it for a shipped check (already split; see
+    /// `field_ref` for the same from a check file).
+    pub fn built(from_report: bool, parts: &[&str], written: &str) -> FieldRef {
+        FieldRef {
+            from_report,
+            parts: parts.iter().map(|p| p.to_string()).collect(),
+            written: written.to_string(),
+        }
+    }
+}
+
 /// How deep `all`, `any` and `not` may nest.
 const MAX_DEPTH: usize = 16;
 

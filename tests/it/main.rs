@@ -19,6 +19,7 @@ mod fuzz;
 mod gerber_macros;
 mod invariants;
 mod isolation_parts;
+mod native_page;
 mod output_snapshots;
 mod positions;
 mod power_entry;
