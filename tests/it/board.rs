@@ -508,6 +508,28 @@ fn the_markdown_report_shows_the_board_and_what_it_cannot_show() {
     assert!(md.contains("AUX"));
 }
 
+/// The barrier table's "laid out" cell gives the distance the verdict rests on: with only
+/// the board's figures it is the measured one, marked, never "not declared" beside a pass.
+#[test]
+fn the_barrier_table_shows_the_measured_distance_a_verdict_rests_on() {
+    let out = crate::common::run(&["check", "examples/class2-adapter-board.toml"]);
+    let md = crate::common::stdout(&out);
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| pri-sec |"))
+        .expect("the barrier table has a pri-sec row");
+    assert_eq!(row.matches("(measured)").count(), 2, "{row}");
+    assert!(!row.contains("not declared"), "{row}");
+    // Declared figures alone read as before, unmarked.
+    let out = crate::common::run(&["check", "examples/class2-adapter.toml"]);
+    let md = crate::common::stdout(&out);
+    let row = md
+        .lines()
+        .find(|l| l.starts_with("| pri-sec |"))
+        .expect("the barrier table has a pri-sec row");
+    assert!(!row.contains("(measured)"), "{row}");
+}
+
 /// A project in a temporary folder using the example's board files (named absolutely).
 fn temp_project(
     tag: &str,

@@ -36,13 +36,17 @@ pub(super) fn barriers(md: &mut Md, r: &Report) {
         md.s(" | ");
         md.fig(b.required_clearance_mm);
         md.s(" / ");
-        md.opt_fig(b.clearance_mm);
+        md.laid_out(
+            b.clearance_mm,
+            b.measured_clearance_mm,
+            b.judged_clearance_mm,
+        );
         md.s(" / ");
         md.signed(b.clearance_margin_mm);
         md.s(" | ");
         md.fig(b.required_creepage_mm);
         md.s(" / ");
-        md.opt_fig(b.creepage_mm);
+        md.laid_out(b.creepage_mm, b.measured_creepage_mm, b.judged_creepage_mm);
         md.s(" / ");
         md.signed(b.creepage_margin_mm);
         md.s(" | ");

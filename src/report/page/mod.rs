@@ -92,6 +92,18 @@ impl Md<'_> {
         }
     }
 
+    /// The distance a barrier was judged on (the template's `laid_out` macro): the declared
+    /// one, or the board's, marked, where it is the only one or the smaller.
+    fn laid_out(&mut self, declared: Option<f64>, measured: Option<f64>, judged: Option<f64>) {
+        match (measured, judged) {
+            (Some(m), Some(j)) if declared.is_none_or(|d| m < d) => {
+                self.fig(j);
+                self.s(" (measured)");
+            }
+            _ => self.opt_fig(declared),
+        }
+    }
+
     /// A figure with a space and its unit, or `missing` (the EMC template's `val`).
     fn val(&mut self, x: Option<f64>, unit: &str, missing: &str) {
         match x {
