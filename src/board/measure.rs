@@ -616,6 +616,37 @@ impl<'b> Index<'b> {
                             .clone()
                             .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]));
                         let far2 = (hi + tol) * (hi + tol);
+                        // A hop from this group of edges to the point node `v` at `p` on this
+                        // face (a rim point or a cut-out corner), seen past the obstacles.
+                        let hop_to_point = |st: &mut State, v: usize, p: P| {
+                            let pb = Bbox { min: p, max: p };
+                            for si in group.clone() {
+                                // The box gap is a lower bound of the true gap.
+                                let lb2 = gap2(&self.seg_box[si], &pb);
+                                if lb2 > far2 || d + lb2.sqrt() - one >= st.dist[v] {
+                                    continue;
+                                }
+                                let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
+                                let w = (gap - one).max(0.0);
+                                if !in_ring(w)
+                                    || d + w >= st.dist[v]
+                                    || (gap > 0.0 && !visible(pu, p))
+                                {
+                                    continue;
+                                }
+                                st.relax(
+                                    v,
+                                    d + w,
+                                    Pred {
+                                        from: u,
+                                        from_pt: pu,
+                                        from_layer: l,
+                                        to_pt: p,
+                                        to_layer: l,
+                                    },
+                                );
+                            }
+                        };
                         grid.query(&gbox.grown(hi + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
@@ -677,33 +708,7 @@ impl<'b> Index<'b> {
                                     if st.dist[v] <= d {
                                         continue;
                                     }
-                                    let pb = Bbox { min: p, max: p };
-                                    for si in group.clone() {
-                                        // The box gap is a lower bound of the true gap.
-                                        let lb2 = gap2(&self.seg_box[si], &pb);
-                                        if lb2 > far * far || d + lb2.sqrt() - one >= st.dist[v] {
-                                            continue;
-                                        }
-                                        let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
-                                        let w = (gap - one).max(0.0);
-                                        if !in_ring(w)
-                                            || d + w >= st.dist[v]
-                                            || (gap > 0.0 && !visible(pu, p))
-                                        {
-                                            continue;
-                                        }
-                                        st.relax(
-                                            v,
-                                            d + w,
-                                            Pred {
-                                                from: u,
-                                                from_pt: pu,
-                                                from_layer: l,
-                                                to_pt: p,
-                                                to_layer: l,
-                                            },
-                                        );
-                                    }
+                                    hop_to_point(&mut st, v, p);
                                 }
                             });
                         }
@@ -717,27 +722,7 @@ impl<'b> Index<'b> {
                                     if st.dist[v] <= d {
                                         return;
                                     }
-                                    for si in group.clone() {
-                                        let (gap, pu) = g::point_seg_distance(p, &self.segs[si]);
-                                        let w = (gap - one).max(0.0);
-                                        if !in_ring(w)
-                                            || d + w >= st.dist[v]
-                                            || (gap > 0.0 && !visible(pu, p))
-                                        {
-                                            continue;
-                                        }
-                                        st.relax(
-                                            v,
-                                            d + w,
-                                            Pred {
-                                                from: u,
-                                                from_pt: pu,
-                                                from_layer: l,
-                                                to_pt: p,
-                                                to_layer: l,
-                                            },
-                                        );
-                                    }
+                                    hop_to_point(&mut st, v, p);
                                 });
                             };
                         if l <= 1
