@@ -94,13 +94,25 @@ impl Bbox {
     /// Distance between two boxes (0 when they overlap): a lower bound of the distance
     /// between anything inside them.
     pub fn gap(&self, o: &Bbox) -> f64 {
+        let (dx, dy) = self.axis_gaps(o);
+        dx.hypot(dy)
+    }
+
+    /// The square of [`Bbox::gap`], without its root (for comparisons on hot paths).
+    pub fn gap_squared(&self, o: &Bbox) -> f64 {
+        let (dx, dy) = self.axis_gaps(o);
+        dx * dx + dy * dy
+    }
+
+    /// The gaps between the boxes along x and along y (0 where they overlap).
+    fn axis_gaps(&self, o: &Bbox) -> (f64, f64) {
         let dx = (o.min[0] - self.max[0])
             .max(self.min[0] - o.max[0])
             .max(0.0);
         let dy = (o.min[1] - self.max[1])
             .max(self.min[1] - o.max[1])
             .max(0.0);
-        dx.hypot(dy)
+        (dx, dy)
     }
     pub fn contains(&self, p: P) -> bool {
         p[0] >= self.min[0] && p[0] <= self.max[0] && p[1] >= self.min[1] && p[1] <= self.max[1]

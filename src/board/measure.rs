@@ -338,8 +338,12 @@ impl<'b> Index<'b> {
     }
 
     fn obj_bbox(&self, o: u32) -> Bbox {
-        self.obj_segs(o)
-            .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]))
+        self.segs_bbox(self.obj_segs(o))
+    }
+
+    /// The box round a run of outline segments.
+    fn segs_bbox(&self, segs: std::ops::Range<usize>) -> Bbox {
+        segs.fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]))
     }
 
     fn obj_segs(&self, o: u32) -> std::ops::Range<usize> {
@@ -612,9 +616,7 @@ impl<'b> Index<'b> {
                         all_segs.map(|i| i..i + 1).collect()
                     };
                     for group in groups {
-                        let gbox = group
-                            .clone()
-                            .fold(Bbox::EMPTY, |b, i| b.union(&self.seg_box[i]));
+                        let gbox = self.segs_bbox(group.clone());
                         let far2 = (hi + tol) * (hi + tol);
                         // A hop from this group of edges to the point node `v` at `p` on this
                         // face (a rim point or a cut-out corner), seen past the obstacles.
@@ -622,7 +624,7 @@ impl<'b> Index<'b> {
                             let pb = Bbox { min: p, max: p };
                             for si in group.clone() {
                                 // The box gap is a lower bound of the true gap.
-                                let lb2 = gap2(&self.seg_box[si], &pb);
+                                let lb2 = self.seg_box[si].gap_squared(&pb);
                                 if lb2 > far2 || d + lb2.sqrt() - one >= st.dist[v] {
                                     continue;
                                 }
@@ -650,12 +652,15 @@ impl<'b> Index<'b> {
                         grid.query(&gbox.grown(hi + tol), |k| {
                             let sj = ids[k as usize] as usize;
                             let v = self.seg_owner[sj] as usize;
-                            if v == ui || st.dist[v] <= d || gap2(&self.seg_box[sj], &gbox) > far2 {
+                            if v == ui
+                                || st.dist[v] <= d
+                                || self.seg_box[sj].gap_squared(&gbox) > far2
+                            {
                                 return;
                             }
                             for si in group.clone() {
                                 // The box gap is a lower bound of the true gap.
-                                let lb2 = gap2(&self.seg_box[sj], &self.seg_box[si]);
+                                let lb2 = self.seg_box[sj].gap_squared(&self.seg_box[si]);
                                 if lb2 > far2 || d + lb2.sqrt() - tol >= st.dist[v] {
                                     continue;
                                 }
@@ -688,7 +693,7 @@ impl<'b> Index<'b> {
                             let far = hi + tol;
                             self.chunk_grid.query(&gbox.grown(far), |c| {
                                 let c = c as usize;
-                                let near2 = gap2(&self.chunk_box[c], &gbox);
+                                let near2 = self.chunk_box[c].gap_squared(&gbox);
                                 if near2 > far * far {
                                     return;
                                 }
@@ -1089,13 +1094,6 @@ impl State<'_> {
     }
 }
 
-/// The square of `Bbox::gap` (no square root on the searches' hot paths).
-fn gap2(a: &Bbox, b: &Bbox) -> f64 {
-    let dx = (b.min[0] - a.max[0]).max(a.min[0] - b.max[0]).max(0.0);
-    let dy = (b.min[1] - a.max[1]).max(a.min[1] - b.max[1]).max(0.0);
-    dx * dx + dy * dy
-}
-
 /// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
 fn ring_mm(k: u32) -> f64 {
     if k == 0 {
@@ -1338,7 +1336,7 @@ impl Cells {
                     min: lo,
                     max: [lo[0] + self.h, lo[1] + self.h],
                 };
-                if gap2(&rect, bb) > rho * rho {
+                if rect.gap_squared(bb) > rho * rho {
                     continue;
                 }
                 let fx = (rect.min[0] - a0[0]).abs().max((rect.max[0] - a0[0]).abs());
