@@ -44,28 +44,37 @@ fn marker(c: char) -> String {
 /// How many bytes at the start of `bytes` are printable ASCII (0x20 to 0x7e), looked at
 /// eight at a time: the runs between line ends and non-ASCII characters of a report.
 fn printable_ascii_run(bytes: &[u8]) -> usize {
-    const ONES: u64 = 0x0101_0101_0101_0101;
-    const HIGH: u64 = 0x8080_8080_8080_8080;
+    // The word tricks: `(x - n) & !x & HIGH` is non-zero exactly when some byte of `x`
+    // (all below 0x80) is below `n`; DEL is the byte that `^ 0x7f` makes zero.
+    let stops = |w: u64| {
+        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
+        let del = w ^ (0x7f * ONES);
+        let is_del = del.wrapping_sub(ONES) & !del;
+        (w | below_space | is_del) & HIGH != 0
+    };
+    run_while(bytes, stops, |b| (0x20..0x7f).contains(&b))
+}
+
+/// Bytes of every 64-bit word, and their high bits, for the word tricks below.
+const ONES: u64 = 0x0101_0101_0101_0101;
+const HIGH: u64 = 0x8080_8080_8080_8080;
+
+/// How many bytes at the start of `bytes` are `kept`, skipping eight at a time while
+/// `may_stop` is false for the word. `may_stop` may be true for a word whose bytes are all
+/// kept (that word is then looked at byte by byte), never false for one that holds a byte
+/// that is not: the count is exact either way.
+fn run_while(bytes: &[u8], may_stop: impl Fn(u64) -> bool, kept: impl Fn(u8) -> bool) -> usize {
     let mut i = 0;
     while let Some(chunk) = bytes
         .get(i..i + 8)
         .and_then(|c| <[u8; 8]>::try_from(c).ok())
     {
-        let w = u64::from_le_bytes(chunk);
-        // The word tricks: `(x - n) & !x & HIGH` is non-zero exactly when some byte of `x`
-        // (all below 0x80) is below `n`; DEL is the byte that `^ 0x7f` makes zero.
-        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
-        let del = w ^ (0x7f * ONES);
-        let is_del = del.wrapping_sub(ONES) & !del;
-        if (w | below_space | is_del) & HIGH != 0 {
+        if may_stop(u64::from_le_bytes(chunk)) {
             break;
         }
         i += 8;
     }
-    i + bytes[i..]
-        .iter()
-        .take_while(|&&b| (0x20..0x7f).contains(&b))
-        .count()
+    i + bytes[i..].iter().take_while(|&&b| kept(b)).count()
 }
 
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
@@ -272,28 +281,16 @@ const UNITS: &[&str] = &[
 /// How many bytes at the start of `bytes` are not ASCII digits, looked at eight at a time
 /// (figures are a small part of prose).
 fn digit_free_run(bytes: &[u8]) -> usize {
-    const ONES: u64 = 0x0101_0101_0101_0101;
-    const HIGH: u64 = 0x8080_8080_8080_8080;
-    let mut i = 0;
-    while let Some(chunk) = bytes
-        .get(i..i + 8)
-        .and_then(|c| <[u8; 8]>::try_from(c).ok())
-    {
-        // Each byte's low seven bits plus 0x50 reach 0x80 from '0' up, plus 0x46 from ':'
-        // up: a digit sets the first high bit and not the second (a byte beyond ASCII may
-        // look like one; it is then looked at below, never skipped wrongly).
-        let low = u64::from_le_bytes(chunk) & (0x7f * ONES);
+    // Each byte's low seven bits plus 0x50 reach 0x80 from '0' up, plus 0x46 from ':' up: a
+    // digit sets the first high bit and not the second (a byte beyond ASCII may look like
+    // one; it is then looked at byte by byte, never skipped wrongly).
+    let may_hold_digit = |w: u64| {
+        let low = w & (0x7f * ONES);
         let from_zero = low.wrapping_add(0x50 * ONES) & HIGH;
         let from_colon = low.wrapping_add(0x46 * ONES) & HIGH;
-        if from_zero & !from_colon != 0 {
-            break;
-        }
-        i += 8;
-    }
-    i + bytes[i..]
-        .iter()
-        .take_while(|b| !b.is_ascii_digit())
-        .count()
+        from_zero & !from_colon != 0
+    };
+    run_while(bytes, may_hold_digit, |b| !b.is_ascii_digit())
 }
 
 /// The text with every figure of more than four significant digits rounded to four, for
