@@ -20,7 +20,7 @@ fn c(v: f64) -> String {
 /// turn: the input circuit left of x = 40 (nets I0..I49), the primary from x = 48 to 100
 /// (P0..P49), the secondary right of x = 108 (S0..S49); the two 8 mm gaps between them hold
 /// a 2 mm milled slot each and three floating (N/C) pads each.
-fn generated_files() -> Vec<(String, String)> {
+pub fn generated_files() -> Vec<(String, String)> {
     let header = |f: &str| {
         format!(
             "%FSLAX46Y46*%\n%MOMM*%\n%TF.FileFunction,{f}*%\n%LPD*%\nG75*\n%ADD10C,0.5*%\n%ADD11C,0.25*%\n"
@@ -99,7 +99,7 @@ fn generated_files() -> Vec<(String, String)> {
     files
 }
 
-fn build(files: &[(String, String)]) -> Board {
+pub fn build(files: &[(String, String)]) -> Board {
     let images = files
         .iter()
         .map(|(name, text)| {
@@ -110,7 +110,7 @@ fn build(files: &[(String, String)]) -> Board {
     board::build(images, 1.6).expect("generated board builds")
 }
 
-fn nets(prefix: &str, n: usize) -> Vec<String> {
+pub fn nets(prefix: &str, n: usize) -> Vec<String> {
     (0..n).map(|i| format!("{prefix}{i}")).collect()
 }
 
