@@ -114,6 +114,26 @@ impl Bbox {
             .max(0.0);
         (dx, dy)
     }
+    /// The segment `a`-`b` has a point in the box (its border included).
+    pub fn meets_segment(&self, a: P, b: P) -> bool {
+        let d = sub(b, a);
+        let (mut t0, mut t1) = (0.0f64, 1.0f64);
+        for k in 0..2 {
+            if d[k] == 0.0 {
+                if a[k] < self.min[k] || a[k] > self.max[k] {
+                    return false;
+                }
+                continue;
+            }
+            let (u, v) = ((self.min[k] - a[k]) / d[k], (self.max[k] - a[k]) / d[k]);
+            t0 = t0.max(u.min(v));
+            t1 = t1.min(u.max(v));
+            if t0 > t1 {
+                return false;
+            }
+        }
+        true
+    }
     pub fn contains(&self, p: P) -> bool {
         p[0] >= self.min[0] && p[0] <= self.max[0] && p[1] >= self.min[1] && p[1] <= self.max[1]
     }

@@ -20,9 +20,16 @@
 //!   has a value below `d + r` (less half its diagonal and the tolerances), that copper
 //!   reaches `x`, and so the hop's end, sooner; the hop is not needed, and neither is any
 //!   longer one. In dense copper this stops the rings after a millimetre or two; at the
-//!   edge of a gap they go on until the second circuit is reached. For creepage, cells an
-//!   obstacle's edge crosses never count, and the way from that copper to `x` and on is a
-//!   path on the surface, which the search holds as hops round the cut-outs' corners.
+//!   edge of a gap they go on until the second circuit is reached. For creepage, the way
+//!   from that copper to `x` and on is a path on the surface, which the search holds as
+//!   hops round the cut-outs' corners. A cell an obstacle's edge meets has no value of its
+//!   own; where its part on the surface is convex (one edge right across it, or two
+//!   meeting at a corner that is convex on the surface's side), the straight line to any
+//!   point of that part from the centre of a side neighbour that lies on the surface's
+//!   side of those edges stays on the surface, and the neighbour's value plus the longest
+//!   such line bounds it. A cell that one edge hides from the whole node (every line
+//!   from the node's box to the cell crosses the edge, not at its ends) holds no `x`: a
+//!   hop that crosses an edge is not on the surface.
 //! - Passages down a rim (creepage, along the wall): the cost `hypot(s, thickness)` is
 //!   convex in the distance `s` along the rim, so once the rim point `s'` along has been
 //!   reached along this face at no more than `d + hypot(s', thickness) - thickness`,
@@ -144,6 +151,8 @@ struct Obstacles {
     /// Rings; the last flag marks the board outline (whose outside is the obstacle).
     rings: Vec<(Vec<P>, Bbox, bool)>,
     edges: Vec<(P, P)>,
+    /// Per edge, a normal pointing to the surface's side (away from the obstacle).
+    edge_normals: Vec<P>,
     edge_grid: Grid,
     corners: Vec<P>,
     corner_grid: Grid,
@@ -369,13 +378,23 @@ impl<'b> Index<'b> {
             true,
         ));
         let mut edges = Vec::new();
+        let mut edge_normals = Vec::new();
         let mut corners = Vec::new();
         for (ring, _, outer) in &rings {
             let n = ring.len();
             let area_sign = g::ring_area(ring).signum();
+            // The ring's inside is on the left of each edge when it runs anticlockwise;
+            // the surface is the outline's inside and a cut-out's outside.
+            let surface_left = *outer == (area_sign > 0.0);
             for k in 0..n {
                 let (a, b, c) = (ring[(k + n - 1) % n], ring[k], ring[(k + 1) % n]);
                 edges.push((b, c));
+                let left = [b[1] - c[1], c[0] - b[0]];
+                edge_normals.push(if surface_left {
+                    left
+                } else {
+                    g::scale(left, -1.0)
+                });
                 let turn = g::cross(g::sub(b, a), g::sub(c, b)) * area_sign;
                 // A hole's convex corners, and the outline's inward (reflex) corners, are
                 // where a shortest path may bend.
@@ -391,6 +410,7 @@ impl<'b> Index<'b> {
                 rings,
                 edge_grid: Grid::build(&eb, None),
                 edges,
+                edge_normals,
                 corner_grid: Grid::build(&cb, Some(1.0)),
                 corners,
             },
@@ -589,14 +609,16 @@ impl<'b> Index<'b> {
                 let a0 = self.segs[self.obj_segs(u).start].a;
                 let (l0, l1) = self.obj_layers[ui];
                 let dominated = [l0, l1].iter().all(|&l| {
-                    l == NONE || !face_of(l) || cells.dominated(l as usize, &ab, a0, lo, d)
+                    l == NONE
+                        || !face_of(l)
+                        || cells.dominated(l as usize, &ab, a0, lo, d, obstacles)
                 });
                 if dominated {
                     continue;
                 }
             } else if ring >= 2 && ui >= rimx0 {
                 let (p, f) = point_at(ui);
-                if cells.dominated(f as usize, &Bbox { min: p, max: p }, p, lo, d) {
+                if cells.dominated(f as usize, &Bbox { min: p, max: p }, p, lo, d, obstacles) {
                     continue;
                 }
             }
@@ -1103,13 +1125,20 @@ fn ring_mm(k: u32) -> f64 {
     }
 }
 
+/// `Cells::sides` of a cell that no obstacle edge meets.
+const OPEN: u32 = 0;
+/// `Cells::sides` of a cell whose part on the surface may not be convex.
+const SHUT: u32 = u32::MAX;
+
 /// A coarse map of the board for one search: per searched layer and cell, a distance
 /// within which settled copper (or a corner) reaches the cell's centre: copper touching
 /// the cell gives its own distance plus half the cell's diagonal, and each value spreads
 /// to the four neighbours at one cell's width more (a walk between centres). For
-/// creepage, the cells an obstacle's edge crosses take no part (two points in such a cell
-/// may not see each other). About as many cells as outline segments, times four: memory
-/// linear in the board.
+/// creepage, the cells an obstacle's edge meets hold no value (two points in such a cell
+/// may not see each other); where the cell's part on the surface is convex (one edge
+/// across it, or two meeting at a corner that is convex on the surface's side), its
+/// points are reached from a neighbour's centre instead (`Cells::through_side`). About
+/// as many cells as outline segments, times four: memory linear in the board.
 struct Cells {
     origin: P,
     h: f64,
@@ -1118,10 +1147,18 @@ struct Cells {
     /// Added to a cell's value for any point of it: half the diagonal and the tolerances
     /// a hop may take off at either end.
     slack: f64,
+    /// Added to a side neighbour's value for any point of a cell an edge meets: from the
+    /// neighbour's centre to the cell's far corners (1.58 cells), and the tolerances.
+    side_slack: f64,
     nx: usize,
     ny: usize,
     min: Vec<Vec<f64>>,
-    blocked: Vec<bool>,
+    /// Creepage only, per cell: `OPEN`, `SHUT`, or 1 + the index in `halves` of the
+    /// half-planes whose common part with the cell is the cell's part on the surface.
+    sides: Vec<u32>,
+    /// Two half-planes (the same one twice where one edge crosses the cell), each as a
+    /// point on its border and a normal into the surface.
+    halves: Vec<[(P, P); 2]>,
     /// Values not yet spread: (value, cell, layer).
     queue: BinaryHeap<Entry>,
 }
@@ -1143,11 +1180,13 @@ impl Cells {
         }
         let nx = ((w / h).ceil() as usize).max(1);
         let ny = ((ht / h).ceil() as usize).max(1);
+        let tolerances = 2.0 * CHORD_TOLERANCE_MM + 1e-9;
         let mut cells = Cells {
             origin: all.min,
             h,
             half: h * std::f64::consts::FRAC_1_SQRT_2,
-            slack: h * std::f64::consts::FRAC_1_SQRT_2 + 2.0 * CHORD_TOLERANCE_MM + 1e-9,
+            slack: h * std::f64::consts::FRAC_1_SQRT_2 + tolerances,
+            side_slack: h * 2.5f64.sqrt() + tolerances,
             nx,
             ny,
             min: (0..n_layers)
@@ -1159,14 +1198,12 @@ impl Cells {
                     }
                 })
                 .collect(),
-            blocked: Vec::new(),
+            sides: Vec::new(),
+            halves: Vec::new(),
             queue: BinaryHeap::new(),
         };
         if let Some(o) = obstacles {
-            cells.blocked = vec![false; nx * ny];
-            for &(a, b) in &o.edges {
-                cells.block_segment(a, b);
-            }
+            cells.mark_edges(o);
         }
         cells
     }
@@ -1186,8 +1223,63 @@ impl Cells {
         (x < self.nx && y < self.ny).then_some(y * self.nx + x)
     }
 
-    /// Marks every cell the segment passes through (and, for long ones, their neighbours).
-    fn block_segment(&mut self, a: P, b: P) {
+    fn rect(&self, x: usize, y: usize) -> Bbox {
+        let lo = [
+            self.origin[0] + x as f64 * self.h,
+            self.origin[1] + y as f64 * self.h,
+        ];
+        Bbox {
+            min: lo,
+            max: [lo[0] + self.h, lo[1] + self.h],
+        }
+    }
+
+    /// Sorts the cells by the obstacle edges that meet them (`sides`, `halves`).
+    fn mark_edges(&mut self, o: &Obstacles) {
+        let mut hits: Vec<(u32, u32)> = Vec::new();
+        for (i, &(a, b)) in o.edges.iter().enumerate() {
+            self.cells_near(a, b, |c| hits.push((c as u32, i as u32)));
+        }
+        hits.sort_unstable();
+        hits.dedup();
+        // The cell grown by a hair: an edge that ends on its border counts, so that a
+        // single edge in a cell runs right across it (its neighbours do not meet it).
+        hits.retain(|&(c, i)| {
+            let (a, b) = o.edges[i as usize];
+            let c = c as usize;
+            self.rect(c % self.nx, c / self.nx)
+                .grown(1e-9)
+                .meets_segment(a, b)
+        });
+        self.sides = vec![OPEN; self.nx * self.ny];
+        let side = |i: u32| (o.edges[i as usize].0, o.edge_normals[i as usize]);
+        for run in hits.chunk_by(|p, q| p.0 == q.0) {
+            let convex = match *run {
+                [(_, i)] => Some([side(i), side(i)]),
+                [(_, i), (_, j)] => {
+                    let (e, f) = (o.edges[i as usize], o.edges[j as usize]);
+                    let (first, second) = if e.1 == f.0 { (i, j) } else { (j, i) };
+                    let (a, v) = o.edges[first as usize];
+                    let (w, b) = o.edges[second as usize];
+                    // Consecutive edges, each on the surface's side of the other.
+                    (v == w && a != b && in_half(b, side(first)) && in_half(a, side(second)))
+                        .then(|| [side(first), side(second)])
+                }
+                _ => None,
+            };
+            self.sides[run[0].0 as usize] = match convex {
+                Some(h) => {
+                    self.halves.push(h);
+                    self.halves.len() as u32
+                }
+                None => SHUT,
+            };
+        }
+    }
+
+    /// Calls `visit` with every cell the segment may meet (each at most once per call
+    /// for short segments; long ones may repeat).
+    fn cells_near(&self, a: P, b: P, mut visit: impl FnMut(usize)) {
         let bb = Bbox::around([a, b]);
         let (x0, x1) = (
             self.index(bb.min[0], self.origin[0], self.nx),
@@ -1200,13 +1292,13 @@ impl Cells {
         if (x1 - x0 + 1) * (y1 - y0 + 1) <= 64 {
             for y in y0..=y1 {
                 for x in x0..=x1 {
-                    self.blocked[y * self.nx + x] = true;
+                    visit(y * self.nx + x);
                 }
             }
             return;
         }
         // Points half a cell apart: the segment is within a quarter cell of one of them,
-        // so every cell it crosses is that point's cell or a neighbour of it.
+        // so every cell it meets is that point's cell or a neighbour of it.
         let steps = (g::dist(a, b) / (0.5 * self.h)).ceil().max(1.0) as usize;
         for i in 0..=steps {
             let p = g::add(a, g::scale(g::sub(b, a), i as f64 / steps as f64));
@@ -1214,14 +1306,50 @@ impl Cells {
             let cy = self.index(p[1], self.origin[1], self.ny);
             for y in cy.saturating_sub(1)..=(cy + 1).min(self.ny - 1) {
                 for x in cx.saturating_sub(1)..=(cx + 1).min(self.nx - 1) {
-                    self.blocked[y * self.nx + x] = true;
+                    visit(y * self.nx + x);
                 }
             }
         }
     }
 
+    /// A distance within which settled copper reaches every point on the surface of cell
+    /// `(x, y)`, an edge's cell whose part on the surface is the common part of `halves`:
+    /// through the centre of a side neighbour that no edge meets and that lies in both
+    /// half-planes. The straight way from that centre to such a point stays in the two
+    /// cells and on the surface's side of both half-planes, where the only edges are
+    /// their borders: it is on the surface.
+    fn through_side(&self, min: &[f64], x: usize, y: usize, halves: &[(P, P); 2]) -> f64 {
+        let mut best = f64::INFINITY;
+        let mut try_cell = |nx: usize, ny: usize| {
+            let n = ny * self.nx + nx;
+            if self.sides[n] != OPEN || min[n] + self.side_slack >= best {
+                return;
+            }
+            let centre = [
+                self.origin[0] + (nx as f64 + 0.5) * self.h,
+                self.origin[1] + (ny as f64 + 0.5) * self.h,
+            ];
+            if in_half(centre, halves[0]) && in_half(centre, halves[1]) {
+                best = min[n] + self.side_slack;
+            }
+        };
+        if x > 0 {
+            try_cell(x - 1, y);
+        }
+        if x + 1 < self.nx {
+            try_cell(x + 1, y);
+        }
+        if y > 0 {
+            try_cell(x, y - 1);
+        }
+        if y + 1 < self.ny {
+            try_cell(x, y + 1);
+        }
+        best
+    }
+
     fn set(&mut self, l: usize, c: usize, v: f64) {
-        if self.blocked.get(c).copied().unwrap_or(false) {
+        if self.sides.get(c).is_some_and(|&k| k != OPEN) {
             return;
         }
         if let Some(m) = self.min.get_mut(l).and_then(|m| m.get_mut(c))
@@ -1311,14 +1439,27 @@ impl Cells {
     }
 
     /// Every point `x` at distance `rho` from some point of a node at distance `d` (inside
-    /// `bb`, which holds `a0`) lies in a cell, free of obstacle edges, whose value plus
-    /// `slack` is below `d + rho`. Then any hop of that node longer than `rho` passes such
-    /// an `x`, which settled copper reaches sooner, and from there the hop's end sooner.
-    /// (That copper is not the node itself: a hop's nearest ends are `rho` from it.)
-    fn dominated(&self, l: usize, bb: &Bbox, a0: P, rho: f64, d: f64) -> bool {
+    /// `bb`, which holds `a0`) lies in a cell whose points settled copper reaches within
+    /// less than `d + rho` (`OPEN` cells: value plus `slack`; cells an edge meets:
+    /// `through_side`), or in a cell that an obstacle's edge hides from the whole box
+    /// (no hop of the node passes it). Then any hop of that node longer than `rho` passes
+    /// such an `x`, which settled copper reaches sooner, and from there the hop's end
+    /// sooner. (That copper is not the node itself: a hop's nearest ends are `rho` from it.)
+    fn dominated(
+        &self,
+        l: usize,
+        bb: &Bbox,
+        a0: P,
+        rho: f64,
+        d: f64,
+        obstacles: Option<&Obstacles>,
+    ) -> bool {
         let Some(min) = self.min.get(l).filter(|m| !m.is_empty()) else {
             return false;
         };
+        // Long edges near the node (found when first needed): the ones that can hide a
+        // cell from it.
+        let mut walls: Option<Vec<u32>> = None;
         let below = d + rho;
         let size = g::dist(bb.min, bb.max);
         let region = bb.grown(rho);
@@ -1345,10 +1486,22 @@ impl Cells {
                     continue;
                 }
                 let c = y * self.nx + x;
-                if self.blocked.get(c).copied().unwrap_or(false) {
-                    return false;
+                let reached = match self.sides.get(c).copied().unwrap_or(OPEN) {
+                    OPEN => min[c] + self.slack,
+                    SHUT => f64::INFINITY,
+                    k => self.through_side(min, x, y, &self.halves[k as usize - 1]),
+                };
+                if reached < below {
+                    continue;
                 }
-                if min[c] + self.slack >= below {
+                let Some(o) = obstacles else {
+                    return false;
+                };
+                let walls = walls.get_or_insert_with(|| o.walls_near(&region, 2.0 * self.h));
+                if !walls.iter().any(|&e| {
+                    let (p, q) = o.edges[e as usize];
+                    hides(p, q, bb, &rect)
+                }) {
                     return false;
                 }
             }
@@ -1357,7 +1510,64 @@ impl Cells {
     }
 }
 
+/// The point is in the closed half-plane given as a point on its border and a normal.
+fn in_half(p: P, (q, n): (P, P)) -> bool {
+    g::dot(g::sub(p, q), n) >= 0.0
+}
+
+/// Every straight line from a point of box `a` to a point of box `b` properly crosses the
+/// edge `p`-`q` (not at its ends): the edge's line has the boxes strictly on either side,
+/// and it meets the lines between their corners (which bound all such lines) well inside
+/// the edge.
+fn hides(p: P, q: P, a: &Bbox, b: &Bbox) -> bool {
+    let dir = g::sub(q, p);
+    let len2 = g::dot(dir, dir);
+    // Distances from the edge's line, scaled by its length; a millionth of a millimetre
+    // keeps clear of a line that merely touches.
+    let margin = 1e-6 * len2.sqrt();
+    let corners = |bb: &Bbox| {
+        [
+            bb.min,
+            [bb.max[0], bb.min[1]],
+            bb.max,
+            [bb.min[0], bb.max[1]],
+        ]
+    };
+    let side = |x: P| g::cross(dir, g::sub(x, p));
+    let (ca, cb) = (corners(a), corners(b));
+    let (sa, sb) = (ca.map(side), cb.map(side));
+    let apart = (sa.iter().all(|&s| s > margin) && sb.iter().all(|&s| s < -margin))
+        || (sa.iter().all(|&s| s < -margin) && sb.iter().all(|&s| s > margin));
+    if !apart || len2 == 0.0 {
+        return false;
+    }
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for (i, &u) in ca.iter().enumerate() {
+        for (j, &v) in cb.iter().enumerate() {
+            let x = g::add(u, g::scale(g::sub(v, u), sa[i] / (sa[i] - sb[j])));
+            let t = g::dot(g::sub(x, p), dir) / len2;
+            lo = lo.min(t);
+            hi = hi.max(t);
+        }
+    }
+    lo > 1e-6 && hi < 1.0 - 1e-6
+}
+
 impl Obstacles {
+    /// The edges at least `min_len` long whose boxes meet `region`.
+    fn walls_near(&self, region: &Bbox, min_len: f64) -> Vec<u32> {
+        let mut found = Vec::new();
+        self.edge_grid.query(region, |k| {
+            let (a, b) = self.edges[k as usize];
+            if g::dist(a, b) >= min_len {
+                found.push(k);
+            }
+        });
+        found.sort_unstable();
+        found.dedup();
+        found
+    }
+
     /// The straight segment `p`-`q` stays on the board's surface: it crosses no cut-out
     /// that is walked round and does not leave the outline (running along an edge or
     /// touching a corner is allowed).
