@@ -151,6 +151,8 @@ struct Obstacles {
     /// Rings; the last flag marks the board outline (whose outside is the obstacle).
     rings: Vec<(Vec<P>, Bbox, bool)>,
     edges: Vec<(P, P)>,
+    /// Each ring's first edge (one more entry: the number of edges).
+    ring_edges: Vec<usize>,
     /// Per edge, a normal pointing to the surface's side (away from the obstacle).
     edge_normals: Vec<P>,
     edge_grid: Grid,
@@ -160,14 +162,31 @@ struct Obstacles {
 
 /// A queue entry: key, node, and which ring of the node's hops it opens (0: the node
 /// itself is reached; bits 16 and 17 for a rim point's two directions along its rim).
-#[derive(Clone, Copy, PartialEq)]
-struct Entry(f64, u32, u32);
-impl Eq for Entry {}
+/// Packed as two integers that order as the key (as `f64::total_cmp` does), then the
+/// node, then the ring: the queue compares entries at every step, integers are cheaper.
+#[derive(Clone, Copy, PartialEq, Eq)]
+struct Entry {
+    key: u64,
+    id: u64,
+}
+impl Entry {
+    const SIGN: u64 = 1 << 63;
+    fn new(key: f64, node: u32, aux: u32) -> Entry {
+        let b = key.to_bits();
+        Entry {
+            key: b ^ (((b as i64 >> 63) as u64) >> 1) ^ Entry::SIGN,
+            id: (node as u64) << 32 | aux as u64,
+        }
+    }
+    fn parts(self) -> (f64, u32, u32) {
+        let t = self.key ^ Entry::SIGN;
+        let key = f64::from_bits(t ^ (((t as i64 >> 63) as u64) >> 1));
+        (key, (self.id >> 32) as u32, self.id as u32)
+    }
+}
 impl Ord for Entry {
     fn cmp(&self, o: &Self) -> Ordering {
-        o.0.total_cmp(&self.0)
-            .then(o.1.cmp(&self.1))
-            .then(o.2.cmp(&self.2))
+        (o.key, o.id).cmp(&(self.key, self.id))
     }
 }
 impl PartialOrd for Entry {
@@ -380,7 +399,9 @@ impl<'b> Index<'b> {
         let mut edges = Vec::new();
         let mut edge_normals = Vec::new();
         let mut corners = Vec::new();
+        let mut ring_edges = Vec::new();
         for (ring, _, outer) in &rings {
+            ring_edges.push(edges.len());
             let n = ring.len();
             let area_sign = g::ring_area(ring).signum();
             // The ring's inside is on the left of each edge when it runs anticlockwise;
@@ -403,13 +424,17 @@ impl<'b> Index<'b> {
                 }
             }
         }
+        ring_edges.push(edges.len());
         let eb: Vec<Bbox> = edges.iter().map(|(a, b)| Bbox::around([*a, *b])).collect();
         let cb: Vec<Bbox> = corners.iter().map(|p| Bbox { min: *p, max: *p }).collect();
         (
             Obstacles {
                 rings,
-                edge_grid: Grid::build(&eb, None),
+                // Cells as fine as the copper's: a hop looks at the edges near it only
+                // (a few long edges would otherwise make the cells as large as the board).
+                edge_grid: Grid::build(&eb, Some(self.layers[0].1.cell_mm())),
                 edges,
+                ring_edges,
                 edge_normals,
                 corner_grid: Grid::build(&cb, Some(1.0)),
                 corners,
@@ -528,7 +553,7 @@ impl<'b> Index<'b> {
         for (i, &x) in is_a.iter().enumerate() {
             if x && self.on_any(i as u32, layers) {
                 st.dist[i] = 0.0;
-                st.heap.push(Entry(0.0, i as u32, 0));
+                st.heap.push(Entry::new(0.0, i as u32, 0));
             }
         }
         let mut cells = Cells::new(all, self.segs.len(), layers, self.layers.len(), obstacles);
@@ -540,7 +565,8 @@ impl<'b> Index<'b> {
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
         let face_of = |l: u8| layers.contains(&(l as usize));
 
-        while let Some(Entry(key, u, aux)) = st.heap.pop() {
+        while let Some(entry) = st.heap.pop() {
+            let (key, u, aux) = entry.parts();
             cells.advance(key);
             let ui = u as usize;
             let ring = aux & 0xffff;
@@ -1007,7 +1033,8 @@ impl<'b> Index<'b> {
                 }
             }
             if hi_ring < cap && hi_ring < most {
-                st.heap.push(Entry(d + hi_ring, u, (k + 1) | (dirs << 16)));
+                st.heap
+                    .push(Entry::new(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
         }
         let dist = st.dist;
@@ -1102,12 +1129,19 @@ struct State<'a> {
 impl State<'_> {
     fn relax(&mut self, v: usize, nd: f64, p: Pred) {
         if nd < self.dist[v] {
+            let old = self.dist[v];
             self.dist[v] = nd;
             self.pred[v] = Some(p);
-            self.heap.push(Entry(nd, v as u32, 0));
+            self.heap.push(Entry::new(nd, v as u32, 0));
             if v >= self.rim0 && v < self.rimx0 {
-                let k = (v - self.rim0) / 2;
-                self.run_dirty[self.rim_chunk[k] as usize][(v - self.rim0) % 2] = true;
+                // A run's largest distance changes only when it was this point's.
+                let (c, f) = (
+                    self.rim_chunk[(v - self.rim0) / 2] as usize,
+                    (v - self.rim0) % 2,
+                );
+                if old >= self.run_max[c][f] {
+                    self.run_dirty[c][f] = true;
+                }
             }
             if v < self.n && self.is_b[v] && nd < self.best {
                 self.best = nd;
@@ -1209,8 +1243,7 @@ impl Cells {
     }
 
     fn index(&self, v: f64, o: f64, n: usize) -> usize {
-        let i = ((v - o) / self.h).floor();
-        if i < 0.0 { 0 } else { (i as usize).min(n - 1) }
+        g::cell_index((v - o) / self.h, n)
     }
 
     fn cell(&self, p: P) -> Option<usize> {
@@ -1356,7 +1389,7 @@ impl Cells {
             && v < *m
         {
             *m = v;
-            self.queue.push(Entry(v, c as u32, l as u32));
+            self.queue.push(Entry::new(v, c as u32, l as u32));
         }
     }
 
@@ -1368,7 +1401,8 @@ impl Cells {
 
     /// Spreads every value up to `until` to the neighbouring cells.
     fn advance(&mut self, until: f64) {
-        while let Some(&Entry(v, c, l)) = self.queue.peek() {
+        while let Some(&entry) = self.queue.peek() {
+            let (v, c, l) = entry.parts();
             if v > until {
                 break;
             }
@@ -1467,16 +1501,41 @@ impl Cells {
         let x1 = self.index(region.max[0], self.origin[0], self.nx);
         let y0 = self.index(region.min[1], self.origin[1], self.ny);
         let y1 = self.index(region.max[1], self.origin[1], self.ny);
+        let inner2 = if rho > size {
+            (rho - size) * (rho - size)
+        } else {
+            -1.0
+        };
         for y in y0..=y1 {
-            for x in x0..=x1 {
-                let lo = [
-                    self.origin[0] + x as f64 * self.h,
-                    self.origin[1] + y as f64 * self.h,
-                ];
-                let rect = Bbox {
-                    min: lo,
-                    max: [lo[0] + self.h, lo[1] + self.h],
-                };
+            // Per row, only the cells near the circle: those that may be within `rho` of the
+            // box, less those wholly within `rho - size` of `a0`, each range a cell or two
+            // wider than computed so that rounding cannot leave out a cell the tests below
+            // would keep.
+            let ylo = self.origin[1] + y as f64 * self.h;
+            let yhi = ylo + self.h;
+            let dy = (bb.min[1] - yhi).max(ylo - bb.max[1]).max(0.0);
+            if dy * dy > rho * rho {
+                continue;
+            }
+            let ax = (rho * rho - dy * dy).sqrt();
+            let xa = self
+                .index(bb.min[0] - ax, self.origin[0], self.nx)
+                .saturating_sub(1)
+                .max(x0);
+            let xb = (self.index(bb.max[0] + ax, self.origin[0], self.nx) + 1).min(x1);
+            let fy = (ylo - a0[1]).abs().max((yhi - a0[1]).abs());
+            let (sa, sb) = if inner2 > fy * fy {
+                let ix = (inner2 - fy * fy).sqrt();
+                (
+                    self.index(a0[0] - ix, self.origin[0], self.nx) + 2,
+                    self.index(a0[0] + ix, self.origin[0], self.nx)
+                        .saturating_sub(2),
+                )
+            } else {
+                (1, 0)
+            };
+            for x in (xa..=xb).filter(|x| !(sa..=sb).contains(x)) {
+                let rect = self.rect(x, y);
                 if rect.gap_squared(bb) > rho * rho {
                     continue;
                 }
@@ -1573,29 +1632,37 @@ impl Obstacles {
     /// touching a corner is allowed).
     fn visible(&self, p: P, q: P) -> bool {
         let bb = Bbox::around([p, q]);
-        let mut ts = Vec::new();
-        let mut blocked = false;
-        self.edge_grid.query(&bb, |k| {
-            if blocked {
-                return;
-            }
+        // Where the segment touches edges (along it, 0 to 1), on the stack: most hops
+        // touch none or two (at a rim point or corner). An edge may come more than once.
+        let mut ts = [0.0f64; 34];
+        let mut n = 1;
+        let mut spilled: Vec<f64> = Vec::new();
+        let blocked = self.edge_grid.query_until(&bb, |k| {
             let (a, b) = self.edges[k as usize];
-            if let Some((t, proper)) = g::segment_meet(p, q, a, b) {
-                if proper {
-                    blocked = true;
-                } else {
-                    ts.push(t);
+            match g::segment_meet(p, q, a, b) {
+                Some((_, true)) => return true,
+                Some((t, false)) if n < ts.len() - 1 => {
+                    ts[n] = t;
+                    n += 1;
                 }
+                Some((t, false)) => spilled.push(t),
+                None => {}
             }
+            false
         });
         if blocked {
             return false;
         }
-        if ts.is_empty() {
+        if n == 1 {
             return true;
         }
-        ts.push(0.0);
-        ts.push(1.0);
+        ts[n] = 1.0;
+        let ts = if spilled.is_empty() {
+            &mut ts[..=n]
+        } else {
+            spilled.extend_from_slice(&ts[..=n]);
+            &mut spilled[..]
+        };
         ts.sort_by(f64::total_cmp);
         for w in ts.windows(2) {
             if w[1] - w[0] < 1e-9 {
@@ -1610,7 +1677,7 @@ impl Obstacles {
     }
 
     fn strictly_blocked(&self, m: P) -> bool {
-        for (ring, bb, outer) in &self.rings {
+        for (r, (ring, bb, outer)) in self.rings.iter().enumerate() {
             if !*outer && !bb.contains(m) {
                 continue;
             }
@@ -1618,19 +1685,40 @@ impl Obstacles {
             if inside == *outer {
                 continue;
             }
-            let n = ring.len();
-            let near_edge = (0..n).any(|k| {
-                let s = Seg {
-                    a: ring[k],
-                    b: ring[(k + 1) % n],
-                    r: 0.0,
-                };
-                g::point_seg_distance(m, &s).0 < ON_EDGE_MM
-            });
+            // The ring's own edges within `ON_EDGE_MM` of the point, found through the grid.
+            let own = self.ring_edges[r]..self.ring_edges[r + 1];
+            let mut near_edge = false;
+            self.edge_grid
+                .query(&Bbox { min: m, max: m }.grown(ON_EDGE_MM), |k| {
+                    let (a, b) = self.edges[k as usize];
+                    near_edge |= own.contains(&(k as usize))
+                        && g::point_seg_distance(m, &Seg { a, b, r: 0.0 }).0 < ON_EDGE_MM;
+                });
             if !near_edge {
                 return true;
             }
         }
         false
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn queue_entries_order_by_key_then_node_then_ring() {
+        let keys = [0.0, -0.0, 1e-300, 0.25, 7.683149, 1e300, f64::INFINITY];
+        for &a in &keys {
+            for &b in &keys {
+                let (ea, eb) = (Entry::new(a, 3, 1), Entry::new(b, 3, 1));
+                // The queue pops the greatest: the smallest key first.
+                assert_eq!(ea.cmp(&eb), b.total_cmp(&a), "{a} against {b}");
+                assert_eq!(ea.parts().0.to_bits(), a.to_bits());
+            }
+        }
+        assert!(Entry::new(1.0, 2, 9) > Entry::new(1.0, 3, 0));
+        assert!(Entry::new(1.0, 2, 1) > Entry::new(1.0, 2, 2));
+        assert_eq!(Entry::new(1.5, 7, 0x30005).parts(), (1.5, 7, 0x30005));
     }
 }
