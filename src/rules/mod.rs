@@ -4,6 +4,7 @@
 //! Every table and check names its source and provenance.
 
 mod check_defs;
+pub mod node;
 pub mod predicate;
 pub mod table;
 
@@ -37,9 +38,9 @@ pub(crate) mod shipped {
         /// Path inside `rules/`.
         pub name: &'static str,
         pub text: &'static str,
-        /// The same content as JSON, read much faster than TOML (empty for a check file,
-        /// whose entries are in `checks`).
-        pub json: &'static str,
+        /// The same content as a value tree that serde reads without parsing text (an
+        /// empty table for a check file, whose entries are in `checks`).
+        pub values: Node,
         /// SHA-256 of `text`.
         pub sha256: &'static str,
         /// The line of each `[[check]]` header, in order.
@@ -79,6 +80,7 @@ pub(crate) mod shipped {
         Predicate(fn() -> P),
     }
 
+    use super::node::Node;
     use super::predicate::{FieldRef, Op, Operand, Predicate as P};
     use minijinja::value::Value;
 
@@ -333,10 +335,10 @@ impl RuleBook {
             .filter(|l| !l.is_checks)
         {
             let list = match l.shipped {
-                Some(s) if s.json.contains("\"retired\"") => {
-                    serde_json::from_str::<RetiredList>(s.json)
-                        .map_err(|e| Diagnostic::new(&l.source.name, e.to_string()))
-                }
+                Some(s) if s.values.get("retired").is_some() => s
+                    .values
+                    .read::<RetiredList>()
+                    .map_err(|e| Diagnostic::new(&l.source.name, e.to_string())),
                 Some(_) => continue,
                 None if l.source.text.contains("retired") => {
                     toml::from_str::<RetiredList>(&l.source.text)

@@ -17,7 +17,7 @@ use crate::diag::{Diagnostic, Source};
 /// A rule table as read from TOML: the permanent id of its file, and what makes it usable.
 /// A new table is this struct plus its file; evaluation asks for it by type
 /// (`RuleBook::table`), and the store finds its file by `ID`.
-pub trait Table: for<'de> Deserialize<'de> + Send + Sync + 'static {
+pub trait Table: for<'de> Deserialize<'de> + std::fmt::Debug + Send + Sync + 'static {
     /// The `id` its rule file carries.
     const ID: &'static str;
 
@@ -98,6 +98,9 @@ pub struct TableType {
     /// The struct's path in the crate, for messages and tests.
     pub name: &'static str,
     read: fn(&TableFile) -> Result<Typed, Diagnostic>,
+    /// The typed form written out with `{:?}` (floats as they read back), for the test
+    /// that holds a shipped table's tree to its TOML.
+    shown: fn(&Typed) -> String,
 }
 
 impl TableType {
@@ -106,12 +109,20 @@ impl TableType {
             id: T::ID,
             name,
             read: read_as::<T>,
+            shown: shown_as::<T>,
         }
     }
 }
 
 fn read_as<T: Table>(file: &TableFile) -> Result<Typed, Diagnostic> {
     file.read::<T>(T::check).map(|t| Arc::new(t) as Typed)
+}
+
+fn shown_as<T: Table>(typed: &Typed) -> String {
+    typed
+        .downcast_ref::<T>()
+        .map(|t| format!("{t:#?}"))
+        .unwrap_or_default()
 }
 
 /// Every type that implements [`Table`] in the crate, found by `build.rs` (which reads the
@@ -127,7 +138,7 @@ type Typed = Arc<dyn Any + Send + Sync>;
 pub(crate) struct TableFile {
     /// The file as loaded (a shipped file's name is `rules/<path>`).
     pub(crate) source: Source,
-    /// A shipped file's JSON form, prepared by build.rs; `None` for a house file.
+    /// A shipped file's value tree, written by build.rs; `None` for a house file.
     shipped: Option<&'static ShippedRule>,
     typed: OnceLock<Typed>,
 }
@@ -141,7 +152,7 @@ impl TableFile {
         }
     }
 
-    /// Parses the file into `T`. A shipped file is read from its JSON form and not checked
+    /// Reads the file into `T`. A shipped file is read from its value tree and not checked
     /// again (`tests/it/rule_tables.rs` checks every one); a house file is read from its
     /// TOML with every problem at its line and key, and checked.
     fn read<T: for<'de> Deserialize<'de>>(
@@ -150,7 +161,9 @@ impl TableFile {
     ) -> Result<T, Diagnostic> {
         let source = &self.source;
         match self.shipped {
-            Some(shipped) => serde_json::from_str::<T>(shipped.json)
+            Some(shipped) => shipped
+                .values
+                .read::<T>()
                 .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
             None => {
                 let table = toml::from_str::<T>(&source.text)
@@ -304,7 +317,7 @@ impl Validation<'_> {
     }
 }
 
-/// The shipped file of `kind` read through its type from the JSON form a run uses, and
+/// The shipped file of `kind` read through its type from the value tree a run uses, and
 /// from its TOML with its `check()`, as a house file would be: for the test that proves
 /// every shipped table usable (a run does not check shipped tables again).
 pub fn check_shipped(kind: &TableType) -> Result<(), Diagnostic> {
@@ -323,7 +336,29 @@ pub fn check_shipped_as<T: for<'de> Deserialize<'de>>(
     as_house.read::<T>(check).map(|_| ())
 }
 
-/// The shipped file `id` as a run reads it (JSON) and as a house file (TOML, checked).
+/// The shipped file of `kind` read into its type as a run reads it (from the value tree
+/// build.rs wrote) and as the TOML parser reads its text, each written out with `{:#?}`:
+/// for the test that holds the two readings equal, floats to the last bit.
+pub fn shipped_readings(kind: &TableType) -> Result<(String, String), Diagnostic> {
+    let (as_run, as_house) = shipped_files(kind.id)?;
+    Ok((
+        (kind.shown)(&(kind.read)(&as_run)?),
+        (kind.shown)(&(kind.read)(&as_house)?),
+    ))
+}
+
+/// [`shipped_readings`] for one type read under several ids (the end-product standards).
+pub fn shipped_readings_as<T: for<'de> Deserialize<'de> + std::fmt::Debug>(
+    id: &str,
+) -> Result<(String, String), Diagnostic> {
+    let (as_run, as_house) = shipped_files(id)?;
+    let as_run = as_run.read::<T>(|_| Ok(()))?;
+    let as_house = as_house.read::<T>(|_| Ok(()))?;
+    Ok((format!("{as_run:#?}"), format!("{as_house:#?}")))
+}
+
+/// The shipped file `id` as a run reads it (its value tree) and as a house file (TOML,
+/// checked).
 fn shipped_files(id: &str) -> Result<(TableFile, TableFile), Diagnostic> {
     let Some(rule) = super::SHIPPED_RULES.iter().find(|r| r.id == id) else {
         return Err(missing(id));
