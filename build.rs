@@ -90,8 +90,9 @@ fn rules(root: &Path) -> String {
         };
         let _ = writeln!(
             code,
-            "    ShippedRule {{ name: {:?}, text: include_str!({:?}), values: {}, sha256: {:?}, check_lines: &[{}], checks: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
+            "    ShippedRule {{ name: {:?}, path: {:?}, text: include_str!({:?}), values: {}, sha256: {:?}, check_lines: &[{}], checks: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
             inside(root, &path),
+            format!("rules/{}", inside(root, &path)),
             absolute(&path),
             values,
             hash,

@@ -87,7 +87,7 @@ impl CompiledChecks {
                             "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
                         )
                     }),
-                    Some(c.message.clone()),
+                    Some(c.message.to_string()),
                 ]
             })
             .collect();
@@ -136,11 +136,11 @@ pub fn run_checks(
         let result = run_one(&rules.compiled_checks, index, check, report, &mut findings);
         match result {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
-                id: check.id.clone(),
-                title: check.title.clone(),
+                id: check.id.to_string(),
+                title: check.title.to_string(),
                 severity: check.severity,
-                origin: check.origin.clone(),
-                source: check.source.clone(),
+                origin: check.origin.to_string(),
+                source: check.source.to_string(),
                 judged,
                 raised,
             }),
@@ -218,7 +218,7 @@ fn run_one(
             None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
-            id: check.id.clone(),
+            id: check.id.to_string(),
             severity: check.severity,
             subject,
             message: text.split_whitespace().collect::<Vec<_>>().join(" "),

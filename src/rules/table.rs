@@ -136,19 +136,42 @@ type Typed = Arc<dyn Any + Send + Sync>;
 /// One rule table file and, once read, its typed form.
 #[derive(Clone)]
 pub(crate) struct TableFile {
-    /// The file as loaded (a shipped file's name is `rules/<path>`).
-    pub(crate) source: Source,
-    /// A shipped file's value tree, written by build.rs; `None` for a house file.
-    shipped: Option<&'static ShippedRule>,
+    file: File,
     typed: OnceLock<Typed>,
 }
 
+/// A shipped file (its value tree, written by build.rs, read in place) or a house file's
+/// text.
+#[derive(Clone)]
+enum File {
+    Shipped(&'static ShippedRule),
+    House(Source),
+}
+
 impl TableFile {
-    pub(crate) fn new(source: Source, shipped: Option<&'static ShippedRule>) -> Self {
+    pub(crate) fn shipped(rule: &'static ShippedRule) -> Self {
         TableFile {
-            source,
-            shipped,
+            file: File::Shipped(rule),
             typed: OnceLock::new(),
+        }
+    }
+
+    pub(crate) fn house(source: Source) -> Self {
+        TableFile {
+            file: File::House(source),
+            typed: OnceLock::new(),
+        }
+    }
+
+    fn is_shipped(&self) -> bool {
+        matches!(self.file, File::Shipped(_))
+    }
+
+    /// The file as messages name it (a shipped file's name is `rules/<path>`).
+    fn name(&self) -> &str {
+        match &self.file {
+            File::Shipped(rule) => rule.path,
+            File::House(source) => &source.name,
         }
     }
 
@@ -159,13 +182,12 @@ impl TableFile {
         &self,
         check: impl Fn(&T) -> Result<(), String>,
     ) -> Result<T, Diagnostic> {
-        let source = &self.source;
-        match self.shipped {
-            Some(shipped) => shipped
+        match &self.file {
+            File::Shipped(shipped) => shipped
                 .values
                 .read::<T>()
-                .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
-            None => {
+                .map_err(|e| Diagnostic::new(shipped.path, e.to_string())),
+            File::House(source) => {
                 let table = toml::from_str::<T>(&source.text)
                     .map_err(|e| super::toml_problem(source, &e, ""))?;
                 check(&table).map_err(|message| table_problem(source, &message))?;
@@ -190,7 +212,7 @@ impl TableFile {
             .and_then(|t| t.downcast_ref::<T>())
             .ok_or_else(|| {
                 Diagnostic::new(
-                    &self.source.name,
+                    self.name(),
                     format!(
                         "rule table \"{id}\" is read as {} and as another type",
                         std::any::type_name::<T>()
@@ -214,7 +236,7 @@ fn table_problem(source: &Source, problem: &str) -> Diagnostic {
 /// asks for it (a run reads only the tables its design needs).
 #[derive(Clone, Default)]
 pub struct TableStore {
-    files: BTreeMap<String, TableFile>,
+    files: BTreeMap<super::Text, TableFile>,
 }
 
 impl std::fmt::Debug for TableStore {
@@ -224,7 +246,7 @@ impl std::fmt::Debug for TableStore {
 }
 
 impl TableStore {
-    pub(crate) fn insert(&mut self, id: String, file: TableFile) {
+    pub(crate) fn insert(&mut self, id: super::Text, file: TableFile) {
         self.files.insert(id, file);
     }
 
@@ -280,7 +302,7 @@ impl Validation<'_> {
     ) {
         match self.store.files.get(id) {
             None => self.problems.push(missing(id)),
-            Some(file) if file.shipped.is_none() => {
+            Some(file) if !file.is_shipped() => {
                 if let Err(d) = file.typed(id, check) {
                     self.problems.push(d);
                 }
@@ -291,7 +313,7 @@ impl Validation<'_> {
 
     /// Every [`TABLE_TYPES`] entry has its file, and every house file of one of those
     /// types (`house`, ids in load order) is read and checked now.
-    pub(crate) fn every_table_type<'i>(&mut self, house: impl Iterator<Item = &'i String>) {
+    pub(crate) fn every_table_type<'i>(&mut self, house: impl Iterator<Item = &'i str>) {
         for kind in TABLE_TYPES {
             if !self.store.has(kind.id) {
                 self.problems.push(missing(kind.id));
@@ -304,7 +326,7 @@ impl Validation<'_> {
             ) else {
                 continue;
             };
-            if file.shipped.is_some() {
+            if file.is_shipped() {
                 continue;
             }
             match (kind.read)(file) {
@@ -363,9 +385,8 @@ fn shipped_files(id: &str) -> Result<(TableFile, TableFile), Diagnostic> {
     let Some(rule) = super::SHIPPED_RULES.iter().find(|r| r.id == id) else {
         return Err(missing(id));
     };
-    let source = || Source::new(format!("rules/{}", rule.name), rule.text);
     Ok((
-        TableFile::new(source(), Some(rule)),
-        TableFile::new(source(), None),
+        TableFile::shipped(rule),
+        TableFile::house(Source::new(rule.path, rule.text)),
     ))
 }
