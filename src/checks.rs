@@ -72,11 +72,11 @@ impl CompiledChecks {
     /// validated when they were read, the shipped ones are tested with the project.
     pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
         let mut env = expression_environment();
-        let parts: Vec<[Option<String>; 4]> = checks
+        let parts: Vec<[Option<crate::rules::Text>; 4]> = checks
             .iter()
             .map(|c| {
                 let expr = |c: Option<&Cond>| match c {
-                    Some(Cond::Expression(e)) => Some(format!("{{% if {e} %}}1{{% endif %}}")),
+                    Some(Cond::Expression(e)) => Some(format!("{{% if {e} %}}1{{% endif %}}").into()),
                     _ => None,
                 };
                 [
@@ -86,8 +86,9 @@ impl CompiledChecks {
                         format!(
                             "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
                         )
+                        .into()
                     }),
-                    Some(c.message.to_string()),
+                    Some(c.message.clone()),
                 ]
             })
             .collect();
@@ -106,7 +107,7 @@ impl CompiledChecks {
                 .parse::<usize>()
                 .ok()
                 .and_then(|i| parts.get(i))
-                .and_then(|p| p[slot].clone()))
+                .and_then(|p| p[slot].as_deref().map(str::to_string)))
         });
         Ok(CompiledChecks { env })
     }

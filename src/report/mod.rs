@@ -225,7 +225,7 @@ fn finding_context(findings: &[Finding], rules: &RuleBook) -> Vec<FindingContext
             let verdicts = fields
                 .iter()
                 .filter(|(field, _)| field.parts.len() == 2 && field.parts[0] == "verdicts")
-                .map(|(field, _)| field.parts[1].clone())
+                .map(|(field, _)| field.parts[1].to_string())
                 .collect();
             FindingContext {
                 over: check.over.word.to_string(),

@@ -274,7 +274,8 @@ pub fn load_checks(
     let validate_shipped = fields.is_some();
     let shipped_fields = std::cell::OnceCell::new();
     let fields = || fields.unwrap_or_else(|| shipped_fields.get_or_init(Fields::shipped));
-    let mut checks: Vec<CheckDef> = Vec::new();
+    let shipped_count = files.iter().filter_map(|f| f.shipped).map(<[_]>::len).sum();
+    let mut checks: Vec<CheckDef> = Vec::with_capacity(shipped_count);
     // Check ids to their place; a shipped check's id is lent, not copied.
     let mut index: BTreeMap<Text, usize> = BTreeMap::new();
     // Only house checks' expressions are compiled here: the environment is made for them.
@@ -515,7 +516,7 @@ pub fn load_checks(
                     p.fields(&mut used);
                     for (f, need) in used {
                         if let Err(m) = fields.check(&prefix, &f, need) {
-                            let needle = f.parts.last().map(String::as_str);
+                            let needle = f.parts.last().map(|p| &**p);
                             problems.push(at_field(m, key, needle));
                         }
                     }
@@ -579,8 +580,8 @@ pub fn load_checks(
                             };
                         let field = FieldRef {
                             from_report,
-                            parts: rest.split('.').map(str::to_string).collect(),
-                            written: name.clone(),
+                            parts: rest.split('.').map(|p| Cow::Owned(p.to_string())).collect(),
+                            written: Cow::Owned(name.clone()),
                         };
                         if let Err(m) = fields.check(&prefix, &field, Need::Any) {
                             problems.push(at(m, key));
