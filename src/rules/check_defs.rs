@@ -3,7 +3,7 @@
 //! a rationale and its source. House files add checks or change shipped ones by id.
 
 use std::borrow::Cow;
-use std::collections::BTreeMap;
+use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
 
@@ -198,8 +198,10 @@ impl From<super::shipped::ShippedCond> for RawCond {
 /// A check file on its way in: shipped files come as JSON with the line of each check
 /// (prepared by build.rs); house files as TOML text.
 pub struct CheckSource<'a> {
-    /// The file's text, looked at to locate a problem (and read, for a house file).
-    pub source: Cow<'a, Source>,
+    /// A house file's text, read here; `None` for a shipped file, whose text (`text`) is
+    /// made a `Source` only to locate a problem.
+    pub house: Option<&'a Source>,
+    pub text: &'a str,
     /// The file as messages name it.
     pub path: Text,
     /// The file's path inside its rules folder.
@@ -277,33 +279,39 @@ pub fn load_checks(
     let shipped_count = files.iter().filter_map(|f| f.shipped).map(<[_]>::len).sum();
     let mut checks: Vec<CheckDef> = Vec::with_capacity(shipped_count);
     // Check ids to their place; a shipped check's id is lent, not copied.
-    let mut index: BTreeMap<Text, usize> = BTreeMap::new();
+    let mut index: HashMap<Text, usize> = HashMap::with_capacity(shipped_count);
     // Only house checks' expressions are compiled here: the environment is made for them.
     let env_cell = std::cell::OnceCell::new();
     let env = || env_cell.get_or_init(expression_environment);
     for CheckSource {
-        source,
+        house,
+        text,
         path,
         file: file_in_folder,
         origin,
         shipped,
     } in files
     {
-        let source: &Source = source;
+        let made = std::cell::OnceCell::new();
+        let source = || match house {
+            Some(source) => *source,
+            None => made.get_or_init(|| Source::new(path.to_string(), *text)),
+        };
         // Each check with the line its [[check]] header stands on.
         let entries: Vec<(RawCheck, usize)> = match shipped {
             Some(shipped) => shipped.iter().map(|c| (from_shipped(c), c.line)).collect(),
-            None => match toml::from_str::<CheckFile>(&source.text) {
+            None => match toml::from_str::<CheckFile>(&source().text) {
                 Ok(f) => f
                     .check
                     .into_iter()
                     .map(|spanned| {
+                        let source = source();
                         let (line, _) = source.index.locate(&source.text, spanned.span().start);
                         (spanned.into_inner(), line)
                     })
                     .collect(),
                 Err(e) => {
-                    problems.push(super::toml_problem(source, &e, ""));
+                    problems.push(super::toml_problem(source(), &e, ""));
                     continue;
                 }
             },
@@ -318,6 +326,7 @@ pub fn load_checks(
             // Located at the key's value (or at the `[[check]]` line when the entry does not
             // give the key), naming the entry's own line too.
             let at_field = |message: String, key: &str, needle: Option<&str>| {
+                let source = source();
                 let entry_at = format!("{}:{line}:1", source.name);
                 let d = match locate_key(&source.text, entry_index, key, needle) {
                     Some(span) => {
@@ -364,7 +373,9 @@ pub fn load_checks(
                     continue;
                 }
                 (None, true) => {
-                    let known: Vec<&str> = index.keys().map(|k| &**k).collect();
+                    // In id order, as suggestions have always been looked for.
+                    let mut known: Vec<&str> = index.keys().map(|k| &**k).collect();
+                    known.sort_unstable();
                     let mut d = at(
                         format!("overrides = true, but no check \"{}\" is loaded", raw.id),
                         "overrides",

@@ -329,20 +329,21 @@ impl RuleBook {
             area.load_rules(&mut validation);
         }
         let mut problems = validation.problems;
-        // A shipped check file's text is looked at only to locate a problem.
         let check_sources: Vec<check_defs::CheckSource> = files
             .iter()
             .filter(|l| l.is_checks)
             .map(|l| match &l.from {
                 From::Shipped(rule) => check_defs::CheckSource {
-                    source: Cow::Owned(Source::new(rule.path, rule.text)),
+                    house: None,
+                    text: rule.text,
                     path: Cow::Borrowed(rule.path),
                     file: l.file.clone(),
                     origin: "shipped",
                     shipped: Some(rule.checks),
                 },
                 From::House(source) => check_defs::CheckSource {
-                    source: Cow::Borrowed(source),
+                    house: Some(source),
+                    text: &source.text,
                     path: Cow::Owned(source.name.clone()),
                     file: l.file.clone(),
                     origin: "house",

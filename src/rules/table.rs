@@ -320,15 +320,12 @@ impl Validation<'_> {
             }
         }
         for id in house {
-            let (Some(file), Some(kind)) = (
-                self.store.files.get(id),
-                TABLE_TYPES.iter().find(|k| k.id == id),
-            ) else {
+            let Some(file) = self.store.files.get(id).filter(|f| !f.is_shipped()) else {
                 continue;
             };
-            if file.is_shipped() {
+            let Some(kind) = TABLE_TYPES.iter().find(|k| k.id == id) else {
                 continue;
-            }
+            };
             match (kind.read)(file) {
                 Ok(typed) => {
                     let _ = file.typed.set(typed);
