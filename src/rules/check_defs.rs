@@ -194,9 +194,8 @@ impl From<super::shipped::ShippedCond> for RawCond {
     }
 }
 
-/// Reads the check files in load order (shipped first, then house), merging overrides.
-/// A check file on its way in: shipped files come as JSON with the line of each check
-/// (prepared by build.rs); house files as TOML text.
+/// A check file on its way in: shipped files come as the entries build.rs wrote, each with
+/// the line of its `[[check]]`; house files as TOML text.
 pub struct CheckSource<'a> {
     /// A house file's text, read here; `None` for a shipped file, whose text (`text`) is
     /// made a `Source` only to locate a problem.

@@ -163,7 +163,8 @@ fn constant(v: &Json) -> Value {
 }
 
 impl Predicate {
-    /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
+    /// Reads a predicate table (a house file's TOML, as a JSON value), naming the key at
+    /// fault.
     pub fn parse(value: &Json) -> Result<Predicate, String> {
         Predicate::parse_at(value, 0)
     }
