@@ -197,14 +197,12 @@ pub fn number(x: f64, digits: Digits) -> String {
             }
             // Printed from the rounded decimal digits, so 0.1 + 0.2 reads 0.3 and a
             // rounded 12350 does not come back as 12349.999999999998.
-            let decimals = (3 - x.abs().log10().floor() as i32).max(0) as usize;
-            let s = format!("{x:.decimals$}");
-            let s = if s.contains('.') {
-                s.trim_end_matches('0').trim_end_matches('.').to_string()
-            } else {
-                s
-            };
-            return if s == "-0" { "0".to_string() } else { s };
+            let decimals = (3 - x.abs().log10().floor() as i32).max(0) as u32;
+            // x lies within a rounding unit of a four-digit integer times 10^-decimals
+            // (decimals is at most 9 here), so scaling and rounding recovers that integer,
+            // the digits `{x:.decimals$}` prints.
+            let scaled = (x * 10f64.powi(decimals as i32)).round() as i64;
+            return decimal(scaled, decimals);
         }
         Digits::SixSignificant => {
             let x = six_significant(x);
@@ -228,9 +226,36 @@ pub fn number(x: f64, digits: Digits) -> String {
     let plain_from = if digits == Digits::Exact { 1e-6 } else { 0.0 };
     if x.abs() >= 1e15 || x.abs() < plain_from {
         format!("{x:e}")
+    } else if digits != Digits::Exact && x.abs() < 1e11 {
+        // A rounded x is a whole number of ten-thousandths, k / 1e4 to the nearest double;
+        // below 1e11 neighbouring such numbers are distinct doubles, so k's decimal form
+        // is the shortest that reads back as x: what `{x}` prints.
+        decimal((x * 1e4).round() as i64, 4)
     } else {
         format!("{x}")
     }
+}
+
+/// `scaled / 10^decimals` in plain digits without trailing zeros (and no point for a
+/// whole number); "0" for zero, never "-0".
+fn decimal(scaled: i64, decimals: u32) -> String {
+    use std::fmt::Write;
+    let mut s = String::with_capacity(24);
+    if scaled < 0 {
+        s.push('-');
+    }
+    let unit = 10u64.pow(decimals);
+    let (whole, mut fraction) = (scaled.unsigned_abs() / unit, scaled.unsigned_abs() % unit);
+    let _ = write!(s, "{whole}");
+    if fraction != 0 {
+        let mut width = decimals as usize;
+        while fraction % 10 == 0 {
+            fraction /= 10;
+            width -= 1;
+        }
+        let _ = write!(s, ".{fraction:0width$}");
+    }
+    s
 }
 
 /// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
@@ -407,6 +432,90 @@ pub fn apart(value: f64, bounds: &[f64], shown: impl Fn(f64) -> String) -> Strin
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// What `number` printed before its digits were written from an integer: the standard
+    /// library's float formatting (shortest form, or a fixed number of decimals).
+    fn printed_by_std(x: f64, digits: Digits) -> String {
+        let four_decimals = |x: f64| (x * 1e4).round() / 1e4;
+        let x = match digits {
+            Digits::FourDecimals => four_decimals(x),
+            Digits::SixSignificant => {
+                let x = six_significant(x);
+                if x.abs() >= 1e4 {
+                    x.round()
+                } else {
+                    four_decimals(x)
+                }
+            }
+            Digits::FourSignificant => {
+                let x = significant(x, 4);
+                let decimals = (3 - x.abs().log10().floor() as i32).max(0) as usize;
+                let s = format!("{x:.decimals$}");
+                let s = if s.contains('.') {
+                    s.trim_end_matches('0').trim_end_matches('.').to_string()
+                } else {
+                    s
+                };
+                return if s == "-0" { "0".to_string() } else { s };
+            }
+            Digits::Exact => x,
+        };
+        if x == 0.0 {
+            "0".to_string()
+        } else {
+            format!("{x}")
+        }
+    }
+
+    /// Values of every magnitude the fast paths take (1e-6 to 1e11), halves of the last
+    /// kept digit, and pseudo-random mantissas: the digits agree with the standard
+    /// library's in every case.
+    #[test]
+    fn numbers_print_the_digits_the_standard_formatting_prints() {
+        let mut seed = 0x2545_f491_4f6c_dd1du64;
+        let mut values = vec![
+            0.00005,
+            0.00015,
+            9999.95,
+            9999.5,
+            12345.5,
+            0.1 + 0.2,
+            1.0 / 3.0,
+        ];
+        for _ in 0..20_000 {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            let mantissa = (seed >> 11) as f64 / (1u64 << 53) as f64;
+            let exponent = (seed % 18) as i32 - 6;
+            let x = mantissa * 10f64.powi(exponent);
+            let sign = if seed & 1 == 0 { 1.0 } else { -1.0 };
+            values.push(sign * x);
+            // A value a half unit from a rounding boundary of each mode.
+            values.push(sign * ((x * 1e4).floor() + 0.5) / 1e4);
+        }
+        for x in values {
+            for digits in [Digits::FourDecimals, Digits::SixSignificant] {
+                if digits == Digits::SixSignificant && x != 0.0 && six_significant(x).abs() < 1e-3 {
+                    continue;
+                }
+                assert_eq!(
+                    number(x, digits),
+                    printed_by_std(x, digits),
+                    "{x:e} {digits:?}"
+                );
+            }
+            let rounded = significant(x, 4).abs();
+            if x.fract() != 0.0 && (1e-6..1e15).contains(&rounded) {
+                let digits = Digits::FourSignificant;
+                assert_eq!(
+                    number(x, digits),
+                    printed_by_std(x, digits),
+                    "{x:e} {digits:?}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn controls_and_bidi_become_visible_newlines_and_tabs_stay() {
