@@ -55,6 +55,23 @@ fn printable_ascii_run(bytes: &[u8]) -> usize {
     run_while(bytes, stops, |b| (0x20..0x7f).contains(&b))
 }
 
+/// How many bytes at the start of `bytes` a JSON string holds as they are: printable ASCII
+/// (0x20 to 0x7e) other than the quote and the backslash, looked at eight at a time.
+pub(crate) fn json_plain_run(bytes: &[u8]) -> usize {
+    // A byte equal to `b` is a zero byte of `w ^ b...b`, found as in `printable_ascii_run`.
+    let equal = |w: u64, b: u8| {
+        let x = w ^ (b as u64 * ONES);
+        x.wrapping_sub(ONES) & !x
+    };
+    let stops = |w: u64| {
+        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
+        (w | below_space | equal(w, 0x7f) | equal(w, b'"') | equal(w, b'\\')) & HIGH != 0
+    };
+    run_while(bytes, stops, |b| {
+        (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
+    })
+}
+
 /// Bytes of every 64-bit word, and their high bits, for the word tricks below.
 const ONES: u64 = 0x0101_0101_0101_0101;
 const HIGH: u64 = 0x8080_8080_8080_8080;
@@ -538,6 +555,24 @@ mod tests {
                 let expected = if byte.is_ascii_digit() { position } else { 17 };
                 assert_eq!(
                     digit_free_run(&text),
+                    expected,
+                    "byte {byte:#04x} at {position}"
+                );
+            }
+        }
+    }
+
+    /// As for the printable run: every byte value at every position of a 17-byte text.
+    #[test]
+    fn the_json_plain_run_stops_at_quotes_backslashes_controls_and_non_ascii() {
+        for position in 0..17 {
+            for byte in 0..=255u8 {
+                let mut text = vec![b'a'; 17];
+                text[position] = byte;
+                let plain = (0x20..0x7f).contains(&byte) && byte != b'"' && byte != b'\\';
+                let expected = if plain { 17 } else { position };
+                assert_eq!(
+                    json_plain_run(&text),
                     expected,
                     "byte {byte:#04x} at {position}"
                 );

@@ -2,6 +2,7 @@
 //! Markdown, HTML or JSON, so the three cannot disagree.
 
 mod html;
+mod json;
 mod page;
 mod render;
 pub mod view;
