@@ -5,7 +5,6 @@
 //! be the same to the byte. A change to the layout is made in both places; this test says
 //! where they part.
 
-
 use gapwarden::diag::Source;
 use gapwarden::report::view::Page;
 use gapwarden::report::{MarkdownOptions, Templates, Writer, check_source, render_page_with};
