@@ -256,23 +256,41 @@ pub fn number(x: f64, digits: Digits) -> String {
 /// `scaled / 10^decimals` in plain digits without trailing zeros (and no point for a
 /// whole number); "0" for zero, never "-0".
 fn decimal(scaled: i64, decimals: u32) -> String {
-    use std::fmt::Write;
-    let mut s = String::with_capacity(24);
-    if scaled < 0 {
-        s.push('-');
+    decimal_in(scaled, decimals, &mut [0; 24]).to_string()
+}
+
+/// As [`decimal`], written into the end of `buf` (at most 22 bytes: 20 digits, a point and
+/// a sign), for a caller that writes it on.
+pub(crate) fn decimal_in(scaled: i64, decimals: u32, buf: &mut [u8; 24]) -> &str {
+    let (mut n, mut decimals) = (scaled.unsigned_abs(), decimals.min(19));
+    while decimals > 0 && n % 10 == 0 {
+        n /= 10;
+        decimals -= 1;
     }
-    let unit = 10u64.pow(decimals);
-    let (whole, mut fraction) = (scaled.unsigned_abs() / unit, scaled.unsigned_abs() % unit);
-    let _ = write!(s, "{whole}");
-    if fraction != 0 {
-        let mut width = decimals as usize;
-        while fraction % 10 == 0 {
-            fraction /= 10;
-            width -= 1;
+    let mut at = buf.len();
+    let mut put = |b: u8| {
+        at -= 1;
+        buf[at] = b;
+    };
+    for _ in 0..decimals {
+        put(b'0' + (n % 10) as u8);
+        n /= 10;
+    }
+    if decimals > 0 {
+        put(b'.');
+    }
+    loop {
+        put(b'0' + (n % 10) as u8);
+        n /= 10;
+        if n == 0 {
+            break;
         }
-        let _ = write!(s, ".{fraction:0width$}");
     }
-    s
+    if scaled < 0 {
+        put(b'-');
+    }
+    // Only ASCII digits, a point and a sign were written.
+    std::str::from_utf8(&buf[at..]).unwrap_or("0")
 }
 
 /// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
