@@ -125,6 +125,30 @@ impl CompiledChecks {
     }
 }
 
+/// Report fields that no shipped check reads (in a condition, an `over` path or a message
+/// or subject template), by far the largest part of the report: derivation texts, the
+/// power entry's page sections and the rule list. `tests/it/check_predicates.rs` proves
+/// that no shipped check names one and that leaving them out changes no finding.
+pub const UNREAD_BY_SHIPPED_CHECKS: [&str; 3] = ["derivation", "sections", "rules"];
+
+/// The report fields the checks' context may leave out: [`UNREAD_BY_SHIPPED_CHECKS`] when
+/// every check is shipped as it is, nothing when a house check could read anything.
+pub fn context_omits(rules: &RuleBook) -> &'static [&'static str] {
+    if rules.checks.iter().all(|c| c.origin == "shipped") {
+        &UNREAD_BY_SHIPPED_CHECKS
+    } else {
+        &[]
+    }
+}
+
+/// The checks' context: the report as its JSON shows it, less the fields `omit` names.
+pub fn context<T: serde::Serialize>(report: &T, omit: &[&'static str]) -> Value {
+    Value::from(minijinja::value::Serde(crate::pruned::Pruned {
+        value: report,
+        omit,
+    }))
+}
+
 /// Runs every check over the report context (the serialised report without findings).
 pub fn run_checks(
     rules: &RuleBook,

@@ -2,6 +2,7 @@
 //! Markdown, HTML or JSON, so the three cannot disagree.
 
 mod html;
+mod json;
 mod page;
 mod render;
 pub mod view;
@@ -434,8 +435,9 @@ fn shipped_check_ids() -> &'static [String] {
 /// Reads, evaluates and judges one project file's text.
 pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     let mut report = figures(source, rules)?;
-    // The checks see the report as the JSON shows it, before any finding.
-    let context = minijinja::Value::from(minijinja::value::Serde(&report));
+    // The checks see the report as the JSON shows it, before any finding, less what no
+    // check reads.
+    let context = crate::checks::context(&report, crate::checks::context_omits(rules));
     let (findings, checks) = run_checks(rules, &context)?;
     report.finding_context = finding_context(&findings, rules);
     report.findings = findings;
