@@ -76,7 +76,9 @@ impl CompiledChecks {
             .iter()
             .map(|c| {
                 let expr = |c: Option<&Cond>| match c {
-                    Some(Cond::Expression(e)) => Some(format!("{{% if {e} %}}1{{% endif %}}").into()),
+                    Some(Cond::Expression(e)) => {
+                        Some(format!("{{% if {e} %}}1{{% endif %}}").into())
+                    }
                     _ => None,
                 };
                 [

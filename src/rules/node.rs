@@ -91,7 +91,10 @@ impl<'de> de::Deserializer<'de> for NodeDeserializer {
         match *self.0 {
             Node::Str(s) => visitor.visit_enum(s.into_deserializer()),
             Node::Table([(variant, content)]) => visitor.visit_enum(Variant { variant, content }),
-            ref other => Err(de::Error::invalid_type(other.kind(), &"a string or a table of one key")),
+            ref other => Err(de::Error::invalid_type(
+                other.kind(),
+                &"a string or a table of one key",
+            )),
         }
     }
 
@@ -138,7 +141,8 @@ impl<'de> de::MapAccess<'de> for Entries {
             return Ok(None);
         };
         self.value = Some(value);
-        seed.deserialize(BorrowedStrDeserializer::new(key)).map(Some)
+        seed.deserialize(BorrowedStrDeserializer::new(key))
+            .map(Some)
     }
 
     fn next_value_seed<S: DeserializeSeed<'de>>(&mut self, seed: S) -> Result<S::Value, Error> {
@@ -296,7 +300,10 @@ kinds = ["Plain", { Rated = { v = 0.1 } }, { Count = 7 }]
         let err = EXTRA.read::<Sample>().expect_err("unknown key").to_string();
         assert!(err.contains("unknown field `nmae`"), "{err}");
         static WRONG: Node = Node::Table(&[("count", Node::Float(1.5))]);
-        let err = WRONG.read::<Sample>().expect_err("a float is no count").to_string();
+        let err = WRONG
+            .read::<Sample>()
+            .expect_err("a float is no count")
+            .to_string();
         assert!(err.contains("floating point `1.5`"), "{err}");
     }
 }

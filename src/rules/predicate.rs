@@ -132,11 +132,7 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
 impl FieldRef {
     /// A field path as build.rs writes it for a shipped check (already split; see
     /// `field_ref` for the same from a check file).
-    pub fn built(
-        from_report: bool,
-        parts: &[&'static str],
-        written: &'static str,
-    ) -> FieldRef {
+    pub fn built(from_report: bool, parts: &[&'static str], written: &'static str) -> FieldRef {
         FieldRef {
             from_report,
             parts: parts.iter().map(|p| Cow::Borrowed(*p)).collect(),

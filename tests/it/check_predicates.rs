@@ -352,7 +352,11 @@ fn no_shipped_check_reads_a_field_the_checks_context_leaves_out() {
                 Cond::Predicate(p) => {
                     let mut fields = Vec::new();
                     p.fields(&mut fields);
-                    names.extend(fields.into_iter().flat_map(|(f, _)| f.parts.into_iter().map(String::from)));
+                    names.extend(
+                        fields
+                            .into_iter()
+                            .flat_map(|(f, _)| f.parts.into_iter().map(String::from)),
+                    );
                 }
                 Cond::Expression(e) => names.extend(words(e)),
             }

@@ -40,8 +40,8 @@ fn every_shipped_table_reads_from_its_tree_as_from_its_toml() {
         assert_eq!(as_run, as_toml, "{} ({})", kind.id, kind.name);
     }
     for id in StandardRules::IDS {
-        let (as_run, as_toml) = table::shipped_readings_as::<StandardTable>(id)
-            .unwrap_or_else(|d| panic!("{id}: {d}"));
+        let (as_run, as_toml) =
+            table::shipped_readings_as::<StandardTable>(id).unwrap_or_else(|d| panic!("{id}: {d}"));
         assert!(as_toml.contains("rows"), "{id}: {as_toml}");
         assert_eq!(as_run, as_toml, "{id}");
     }
