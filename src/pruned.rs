@@ -27,6 +27,11 @@ struct Pruning<'a, S> {
     omit: &'a [&'static str],
 }
 
+/// A compound opened by `inner`, with the names to omit.
+fn nested<'a, C, E>(omit: &'a [&'static str], inner: Result<C, E>) -> Result<Nested<'a, C>, E> {
+    inner.map(|inner| Nested { inner, omit })
+}
+
 /// A compound being written (sequence, map, struct, ...), with the names to omit.
 struct Nested<'a, C> {
     inner: C,
@@ -132,19 +137,11 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
     }
 
     fn serialize_seq(self, len: Option<usize>) -> Result<Self::SerializeSeq, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self.inner.serialize_seq(len)?,
-            omit,
-        })
+        nested(self.omit, self.inner.serialize_seq(len))
     }
 
     fn serialize_tuple(self, len: usize) -> Result<Self::SerializeTuple, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self.inner.serialize_tuple(len)?,
-            omit,
-        })
+        nested(self.omit, self.inner.serialize_tuple(len))
     }
 
     fn serialize_tuple_struct(
@@ -152,11 +149,7 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
         name: &'static str,
         len: usize,
     ) -> Result<Self::SerializeTupleStruct, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self.inner.serialize_tuple_struct(name, len)?,
-            omit,
-        })
+        nested(self.omit, self.inner.serialize_tuple_struct(name, len))
     }
 
     fn serialize_tuple_variant(
@@ -166,21 +159,15 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
         variant: &'static str,
         len: usize,
     ) -> Result<Self::SerializeTupleVariant, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self
-                .inner
-                .serialize_tuple_variant(name, index, variant, len)?,
-            omit,
-        })
+        nested(
+            self.omit,
+            self.inner
+                .serialize_tuple_variant(name, index, variant, len),
+        )
     }
 
     fn serialize_map(self, len: Option<usize>) -> Result<Self::SerializeMap, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self.inner.serialize_map(len)?,
-            omit,
-        })
+        nested(self.omit, self.inner.serialize_map(len))
     }
 
     fn serialize_struct(
@@ -188,11 +175,7 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
         name: &'static str,
         len: usize,
     ) -> Result<Self::SerializeStruct, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self.inner.serialize_struct(name, len)?,
-            omit,
-        })
+        nested(self.omit, self.inner.serialize_struct(name, len))
     }
 
     fn serialize_struct_variant(
@@ -202,13 +185,11 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
         variant: &'static str,
         len: usize,
     ) -> Result<Self::SerializeStructVariant, S::Error> {
-        let omit = self.omit;
-        Ok(Nested {
-            inner: self
-                .inner
-                .serialize_struct_variant(name, index, variant, len)?,
-            omit,
-        })
+        nested(
+            self.omit,
+            self.inner
+                .serialize_struct_variant(name, index, variant, len),
+        )
     }
 
     fn is_human_readable(&self) -> bool {
@@ -216,60 +197,31 @@ impl<'a, S: Serializer> Serializer for Pruning<'a, S> {
     }
 }
 
-impl<C: ser::SerializeSeq> ser::SerializeSeq for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
+/// The compounds whose entries are values (`$add` is `serialize_element` or
+/// `serialize_field`): each value wrapped, so the omission reaches it.
+macro_rules! nested_values {
+    ($($trait:ident::$add:ident),* $(,)?) => {
+        $(impl<C: ser::$trait> ser::$trait for Nested<'_, C> {
+            type Ok = C::Ok;
+            type Error = C::Error;
 
-    fn serialize_element<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
-        let value = self.wrap(value);
-        self.inner.serialize_element(&value)
-    }
+            fn $add<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
+                let value = self.wrap(value);
+                self.inner.$add(&value)
+            }
 
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
+            fn end(self) -> Result<C::Ok, C::Error> {
+                self.inner.end()
+            }
+        })*
+    };
 }
 
-impl<C: ser::SerializeTuple> ser::SerializeTuple for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
-
-    fn serialize_element<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
-        let value = self.wrap(value);
-        self.inner.serialize_element(&value)
-    }
-
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
-}
-
-impl<C: ser::SerializeTupleStruct> ser::SerializeTupleStruct for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
-        let value = self.wrap(value);
-        self.inner.serialize_field(&value)
-    }
-
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
-}
-
-impl<C: ser::SerializeTupleVariant> ser::SerializeTupleVariant for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
-        let value = self.wrap(value);
-        self.inner.serialize_field(&value)
-    }
-
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
+nested_values! {
+    SerializeSeq::serialize_element,
+    SerializeTuple::serialize_element,
+    SerializeTupleStruct::serialize_field,
+    SerializeTupleVariant::serialize_field,
 }
 
 impl<C: ser::SerializeMap> ser::SerializeMap for Nested<'_, C> {
@@ -290,44 +242,30 @@ impl<C: ser::SerializeMap> ser::SerializeMap for Nested<'_, C> {
     }
 }
 
-impl<C: ser::SerializeStruct> ser::SerializeStruct for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
+/// The compounds whose entries are named fields: a field named in `omit` is skipped.
+macro_rules! nested_fields {
+    ($($trait:ident),* $(,)?) => {
+        $(impl<C: ser::$trait> ser::$trait for Nested<'_, C> {
+            type Ok = C::Ok;
+            type Error = C::Error;
 
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), C::Error> {
-        if self.omit.contains(&key) {
-            return self.inner.skip_field(key);
-        }
-        let value = self.wrap(value);
-        self.inner.serialize_field(key, &value)
-    }
+            fn serialize_field<T: Serialize + ?Sized>(
+                &mut self,
+                key: &'static str,
+                value: &T,
+            ) -> Result<(), C::Error> {
+                if self.omit.contains(&key) {
+                    return self.inner.skip_field(key);
+                }
+                let value = self.wrap(value);
+                self.inner.serialize_field(key, &value)
+            }
 
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
+            fn end(self) -> Result<C::Ok, C::Error> {
+                self.inner.end()
+            }
+        })*
+    };
 }
 
-impl<C: ser::SerializeStructVariant> ser::SerializeStructVariant for Nested<'_, C> {
-    type Ok = C::Ok;
-    type Error = C::Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), C::Error> {
-        if self.omit.contains(&key) {
-            return self.inner.skip_field(key);
-        }
-        let value = self.wrap(value);
-        self.inner.serialize_field(key, &value)
-    }
-
-    fn end(self) -> Result<C::Ok, C::Error> {
-        self.inner.end()
-    }
-}
+nested_fields!(SerializeStruct, SerializeStructVariant);

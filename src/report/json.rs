@@ -376,43 +376,28 @@ impl ser::SerializeSeq for Compound<'_> {
     }
 }
 
-impl ser::SerializeTuple for Compound<'_> {
-    type Ok = ();
-    type Error = Error;
+/// Tuples of every kind are written as arrays, like sequences.
+macro_rules! as_sequence {
+    ($($trait:ident::$add:ident),* $(,)?) => {
+        $(impl ser::$trait for Compound<'_> {
+            type Ok = ();
+            type Error = Error;
 
-    fn serialize_element<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
-        ser::SerializeSeq::serialize_element(self, value)
-    }
+            fn $add<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+                ser::SerializeSeq::serialize_element(self, value)
+            }
 
-    fn end(self) -> Result<(), Error> {
-        ser::SerializeSeq::end(self)
-    }
+            fn end(self) -> Result<(), Error> {
+                ser::SerializeSeq::end(self)
+            }
+        })*
+    };
 }
 
-impl ser::SerializeTupleStruct for Compound<'_> {
-    type Ok = ();
-    type Error = Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
-        ser::SerializeSeq::serialize_element(self, value)
-    }
-
-    fn end(self) -> Result<(), Error> {
-        ser::SerializeSeq::end(self)
-    }
-}
-
-impl ser::SerializeTupleVariant for Compound<'_> {
-    type Ok = ();
-    type Error = Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
-        ser::SerializeSeq::serialize_element(self, value)
-    }
-
-    fn end(self) -> Result<(), Error> {
-        ser::SerializeSeq::end(self)
-    }
+as_sequence! {
+    SerializeTuple::serialize_element,
+    SerializeTupleStruct::serialize_field,
+    SerializeTupleVariant::serialize_field,
 }
 
 impl ser::SerializeMap for Compound<'_> {
@@ -436,41 +421,31 @@ impl ser::SerializeMap for Compound<'_> {
     }
 }
 
-impl ser::SerializeStruct for Compound<'_> {
-    type Ok = ();
-    type Error = Error;
+/// Structs and struct variants are written as objects of their fields.
+macro_rules! as_object {
+    ($($trait:ident),* $(,)?) => {
+        $(impl ser::$trait for Compound<'_> {
+            type Ok = ();
+            type Error = Error;
 
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), Error> {
-        self.key(key);
-        value.serialize(&mut *self.writer)
-    }
+            fn serialize_field<T: Serialize + ?Sized>(
+                &mut self,
+                key: &'static str,
+                value: &T,
+            ) -> Result<(), Error> {
+                self.key(key);
+                value.serialize(&mut *self.writer)
+            }
 
-    fn end(self) -> Result<(), Error> {
-        self.close(b'}');
-        Ok(())
-    }
+            fn end(self) -> Result<(), Error> {
+                self.close(b'}');
+                Ok(())
+            }
+        })*
+    };
 }
 
-impl ser::SerializeStructVariant for Compound<'_> {
-    type Ok = ();
-    type Error = Error;
-
-    fn serialize_field<T: Serialize + ?Sized>(
-        &mut self,
-        key: &'static str,
-        value: &T,
-    ) -> Result<(), Error> {
-        ser::SerializeStruct::serialize_field(self, key, value)
-    }
-
-    fn end(self) -> Result<(), Error> {
-        ser::SerializeStruct::end(self)
-    }
-}
+as_object!(SerializeStruct, SerializeStructVariant);
 
 /// A map key: JSON keys are strings, so a number is written in quotes, as serde_json does.
 struct KeyWriter<'a>(&'a mut Writer);
@@ -486,6 +461,15 @@ impl KeyWriter<'_> {
 
 fn key_must_be_a_string() -> Error {
     Error("key must be a string".to_string())
+}
+
+/// Key kinds JSON has no string form for.
+macro_rules! refused {
+    ($($method:ident($ty:ty)),* $(,)?) => {
+        $(fn $method(self, _v: $ty) -> Result<(), Error> {
+            Err(key_must_be_a_string())
+        })*
+    };
 }
 
 macro_rules! quoted_integers {
@@ -535,16 +519,10 @@ impl ser::Serializer for KeyWriter<'_> {
         serialize_u128 u128 => write_u128,
     }
 
-    fn serialize_f32(self, _v: f32) -> Result<(), Error> {
-        Err(key_must_be_a_string())
-    }
-
-    fn serialize_f64(self, _v: f64) -> Result<(), Error> {
-        Err(key_must_be_a_string())
-    }
-
-    fn serialize_bytes(self, _v: &[u8]) -> Result<(), Error> {
-        Err(key_must_be_a_string())
+    refused! {
+        serialize_f32(f32),
+        serialize_f64(f64),
+        serialize_bytes(&[u8]),
     }
 
     fn serialize_none(self) -> Result<(), Error> {
