@@ -54,9 +54,15 @@ struct Writer {
 
 impl Writer {
     fn newline(&mut self) {
-        self.out.push(b'\n');
-        for _ in 0..self.depth {
-            self.out.extend_from_slice(b"  ");
+        // A newline and two spaces a level, from one run of spaces while it lasts.
+        const LINE: &[u8; 65] = b"\n                                                                ";
+        let indent = 2 * self.depth;
+        match LINE.get(..1 + indent) {
+            Some(line) => self.out.extend_from_slice(line),
+            None => {
+                self.out.extend_from_slice(LINE);
+                self.out.resize(self.out.len() + indent + 1 - LINE.len(), b' ');
+            }
         }
     }
 
@@ -72,11 +78,18 @@ impl Writer {
 
     fn string(&mut self, s: &str) {
         let out = &mut self.out;
-        out.push(b'"');
         let bytes = s.as_bytes();
-        let (mut copied, mut i) = (0, 0);
+        let plain = crate::text::json_plain_run(bytes);
+        out.reserve(bytes.len() + 2);
+        out.push(b'"');
+        if plain == bytes.len() {
+            // Most strings (every key): nothing to escape.
+            out.extend_from_slice(bytes);
+            out.push(b'"');
+            return;
+        }
+        let (mut copied, mut i) = (0, plain);
         loop {
-            i += crate::text::json_plain_run(&bytes[i..]);
             let Some(&b) = bytes.get(i) else { break };
             let escape: &[u8] = match b {
                 b'"' => b"\\\"",
@@ -101,6 +114,7 @@ impl Writer {
                         copied = i + c.len_utf8();
                     }
                     i += c.len_utf8();
+                    i += crate::text::json_plain_run(&bytes[i..]);
                     continue;
                 }
             };
@@ -112,6 +126,7 @@ impl Writer {
             }
             i += 1;
             copied = i;
+            i += crate::text::json_plain_run(&bytes[i..]);
         }
         out.extend_from_slice(&bytes[copied..]);
         out.push(b'"');
