@@ -55,13 +55,15 @@ struct Writer {
 impl Writer {
     fn newline(&mut self) {
         // A newline and two spaces a level, from one run of spaces while it lasts.
-        const LINE: &[u8; 65] = b"\n                                                                ";
+        const LINE: &[u8; 65] =
+            b"\n                                                                ";
         let indent = 2 * self.depth;
         match LINE.get(..1 + indent) {
             Some(line) => self.out.extend_from_slice(line),
             None => {
                 self.out.extend_from_slice(LINE);
-                self.out.resize(self.out.len() + indent + 1 - LINE.len(), b' ');
+                self.out
+                    .resize(self.out.len() + indent + 1 - LINE.len(), b' ');
             }
         }
     }
