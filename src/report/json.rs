@@ -91,8 +91,7 @@ impl Writer {
             return;
         }
         let (mut copied, mut i) = (0, plain);
-        loop {
-            let Some(&b) = bytes.get(i) else { break };
+        while let Some(&b) = bytes.get(i) {
             let escape: &[u8] = match b {
                 b'"' => b"\\\"",
                 b'\\' => b"\\\\",
