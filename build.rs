@@ -1,6 +1,6 @@
 //! Embeds every shipped rule file (`rules/**/*.toml`) and template (`templates/*.j2`) in
-//! the binary, so a new file needs no list kept by hand. Each rule file is also converted
-//! to JSON, hashed (SHA-256 of its text) and, for check files, the line of each `[[check]]`
+//! the binary, so a new file needs no list kept by hand. Each rule file is also written out
+//! as a static value tree (`Node`, read by serde without parsing text), hashed (SHA-256 of its text) and, for check files, the line of each `[[check]]`
 //! noted: a run then reads the shipped rules without parsing TOML or hashing again. A file
 //! that is not valid TOML fails the build. It also lists every type that implements the
 //! rule book's `Table` trait (`impl Table for X` in `src/`), so that a new rule table is its
@@ -49,11 +49,13 @@ fn rules(root: &Path) -> String {
             std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
         let value: toml::Value = toml::from_str(&text)
             .unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
-        // A check file is read from its `checks` entries; its JSON form would be unused.
-        let json = if value.get("check").is_some() {
-            String::new()
+        // A check file is read from its `checks` entries; its value tree would be unused.
+        let values = if value.get("check").is_some() {
+            "Node::Table(&[])".to_string()
         } else {
-            serde_json::to_string(&value).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+            let mut out = String::new();
+            node(&value, &path.display().to_string(), &mut out);
+            out
         };
         let hash: String = Sha256::digest(text.as_bytes())
             .iter()
@@ -88,10 +90,11 @@ fn rules(root: &Path) -> String {
         };
         let _ = writeln!(
             code,
-            "    ShippedRule {{ name: {:?}, text: include_str!({:?}), json: {:?}, sha256: {:?}, check_lines: &[{}], checks: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
+            "    ShippedRule {{ name: {:?}, path: {:?}, text: include_str!({:?}), values: {}, sha256: {:?}, check_lines: &[{}], checks: &[{}], id: {:?}, title: {:?}, source: {:?}, provenance: {:?}, is_checks: {} }},",
             inside(root, &path),
+            format!("rules/{}", inside(root, &path)),
             absolute(&path),
-            json,
+            values,
             hash,
             lines.join(", "),
             checks,
@@ -104,6 +107,47 @@ fn rules(root: &Path) -> String {
     }
     code.push_str("];\n");
     code
+}
+
+/// A TOML value as a `Node` literal (src/rules/node.rs): every string, integer, float,
+/// boolean, array and table as the TOML parser gives it, so that a run reads a shipped
+/// table through serde without parsing any text. Floats are written with `{:?}`, which
+/// reads back as the same `f64`; integers stay integers. A value TOML has but a table
+/// cannot use (a date, an infinite or NaN float) fails the build.
+fn node(value: &toml::Value, at: &str, out: &mut String) {
+    match value {
+        toml::Value::String(s) => {
+            let _ = write!(out, "Node::Str({s:?})");
+        }
+        toml::Value::Integer(i) => {
+            let _ = write!(out, "Node::Int({i}i64)");
+        }
+        toml::Value::Float(f) if f.is_finite() => {
+            let _ = write!(out, "Node::Float({f:?}f64)");
+        }
+        toml::Value::Float(f) => panic!("{at}: {f} is not a finite number"),
+        toml::Value::Boolean(b) => {
+            let _ = write!(out, "Node::Bool({b})");
+        }
+        toml::Value::Datetime(d) => panic!("{at}: a date ({d}) is not read by any rule table"),
+        toml::Value::Array(items) => {
+            out.push_str("Node::Array(&[");
+            for item in items {
+                node(item, at, out);
+                out.push_str(", ");
+            }
+            out.push_str("])");
+        }
+        toml::Value::Table(table) => {
+            out.push_str("Node::Table(&[");
+            for (key, item) in table {
+                let _ = write!(out, "({key:?}, ");
+                node(item, at, out);
+                out.push_str("), ");
+            }
+            out.push_str("])");
+        }
+    }
 }
 
 /// The keys a `[[check]]` entry may have (`RawCheck` in src/rules/check_defs.rs).

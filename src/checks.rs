@@ -72,11 +72,13 @@ impl CompiledChecks {
     /// validated when they were read, the shipped ones are tested with the project.
     pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
         let mut env = expression_environment();
-        let parts: Vec<[Option<String>; 4]> = checks
+        let parts: Vec<[Option<crate::rules::Text>; 4]> = checks
             .iter()
             .map(|c| {
                 let expr = |c: Option<&Cond>| match c {
-                    Some(Cond::Expression(e)) => Some(format!("{{% if {e} %}}1{{% endif %}}")),
+                    Some(Cond::Expression(e)) => {
+                        Some(format!("{{% if {e} %}}1{{% endif %}}").into())
+                    }
                     _ => None,
                 };
                 [
@@ -86,6 +88,7 @@ impl CompiledChecks {
                         format!(
                             "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
                         )
+                        .into()
                     }),
                     Some(c.message.clone()),
                 ]
@@ -106,7 +109,7 @@ impl CompiledChecks {
                 .parse::<usize>()
                 .ok()
                 .and_then(|i| parts.get(i))
-                .and_then(|p| p[slot].clone()))
+                .and_then(|p| p[slot].as_deref().map(str::to_string)))
         });
         Ok(CompiledChecks { env })
     }
@@ -124,6 +127,30 @@ impl CompiledChecks {
     }
 }
 
+/// Report fields that no shipped check reads (in a condition, an `over` path or a message
+/// or subject template), by far the largest part of the report: derivation texts, the
+/// power entry's page sections and the rule list. `tests/it/check_predicates.rs` proves
+/// that no shipped check names one and that leaving them out changes no finding.
+pub const UNREAD_BY_SHIPPED_CHECKS: [&str; 3] = ["derivation", "sections", "rules"];
+
+/// The report fields the checks' context may leave out: [`UNREAD_BY_SHIPPED_CHECKS`] when
+/// every check is shipped as it is, nothing when a house check could read anything.
+pub fn context_omits(rules: &RuleBook) -> &'static [&'static str] {
+    if rules.checks.iter().all(|c| c.origin == "shipped") {
+        &UNREAD_BY_SHIPPED_CHECKS
+    } else {
+        &[]
+    }
+}
+
+/// The checks' context: the report as its JSON shows it, less the fields `omit` names.
+pub fn context<T: serde::Serialize>(report: &T, omit: &[&'static str]) -> Value {
+    Value::from(minijinja::value::Serde(crate::pruned::Pruned {
+        value: report,
+        omit,
+    }))
+}
+
 /// Runs every check over the report context (the serialised report without findings).
 pub fn run_checks(
     rules: &RuleBook,
@@ -136,11 +163,11 @@ pub fn run_checks(
         let result = run_one(&rules.compiled_checks, index, check, report, &mut findings);
         match result {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
-                id: check.id.clone(),
-                title: check.title.clone(),
+                id: check.id.to_string(),
+                title: check.title.to_string(),
                 severity: check.severity,
-                origin: check.origin.clone(),
-                source: check.source.clone(),
+                origin: check.origin.to_string(),
+                source: check.source.to_string(),
                 judged,
                 raised,
             }),
@@ -218,7 +245,7 @@ fn run_one(
             None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
-            id: check.id.clone(),
+            id: check.id.to_string(),
             severity: check.severity,
             subject,
             message: text.split_whitespace().collect::<Vec<_>>().join(" "),

@@ -979,8 +979,8 @@ pub fn describe_rules(rules: &RuleBook, id: Option<&str>) -> Result<String, Prob
     let ids: Vec<&str> = rules
         .info
         .iter()
-        .map(|r| r.id.as_str())
-        .chain(rules.checks.iter().map(|c| c.id.as_str()))
+        .map(|r| &*r.id)
+        .chain(rules.checks.iter().map(|c| &*c.id))
         .collect();
     let mut d = Diagnostic::new("rules", format!("no rule table or check \"{id}\""))
         .with_help("`gapwarden rules` lists them all");

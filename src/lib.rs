@@ -17,6 +17,7 @@ pub mod insulation;
 pub mod memory_guard;
 pub mod power_entry;
 pub mod project;
+pub mod pruned;
 pub mod raw;
 pub mod report;
 pub mod rules;

@@ -55,6 +55,23 @@ fn printable_ascii_run(bytes: &[u8]) -> usize {
     run_while(bytes, stops, |b| (0x20..0x7f).contains(&b))
 }
 
+/// How many bytes at the start of `bytes` a JSON string holds as they are: printable ASCII
+/// (0x20 to 0x7e) other than the quote and the backslash, looked at eight at a time.
+pub(crate) fn json_plain_run(bytes: &[u8]) -> usize {
+    // A byte equal to `b` is a zero byte of `w ^ b...b`, found as in `printable_ascii_run`.
+    let equal = |w: u64, b: u8| {
+        let x = w ^ (b as u64 * ONES);
+        x.wrapping_sub(ONES) & !x
+    };
+    let stops = |w: u64| {
+        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
+        (w | below_space | equal(w, 0x7f) | equal(w, b'"') | equal(w, b'\\')) & HIGH != 0
+    };
+    run_while(bytes, stops, |b| {
+        (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
+    })
+}
+
 /// Bytes of every 64-bit word, and their high bits, for the word tricks below.
 const ONES: u64 = 0x0101_0101_0101_0101;
 const HIGH: u64 = 0x8080_8080_8080_8080;
@@ -197,14 +214,12 @@ pub fn number(x: f64, digits: Digits) -> String {
             }
             // Printed from the rounded decimal digits, so 0.1 + 0.2 reads 0.3 and a
             // rounded 12350 does not come back as 12349.999999999998.
-            let decimals = (3 - x.abs().log10().floor() as i32).max(0) as usize;
-            let s = format!("{x:.decimals$}");
-            let s = if s.contains('.') {
-                s.trim_end_matches('0').trim_end_matches('.').to_string()
-            } else {
-                s
-            };
-            return if s == "-0" { "0".to_string() } else { s };
+            let decimals = (3 - x.abs().log10().floor() as i32).max(0) as u32;
+            // x lies within a rounding unit of a four-digit integer times 10^-decimals
+            // (decimals is at most 9 here), so scaling and rounding recovers that integer,
+            // the digits `{x:.decimals$}` prints.
+            let scaled = (x * 10f64.powi(decimals as i32)).round() as i64;
+            return decimal(scaled, decimals);
         }
         Digits::SixSignificant => {
             let x = six_significant(x);
@@ -228,9 +243,54 @@ pub fn number(x: f64, digits: Digits) -> String {
     let plain_from = if digits == Digits::Exact { 1e-6 } else { 0.0 };
     if x.abs() >= 1e15 || x.abs() < plain_from {
         format!("{x:e}")
+    } else if digits != Digits::Exact && x.abs() < 1e11 {
+        // A rounded x is a whole number of ten-thousandths, k / 1e4 to the nearest double;
+        // below 1e11 neighbouring such numbers are distinct doubles, so k's decimal form
+        // is the shortest that reads back as x: what `{x}` prints.
+        decimal((x * 1e4).round() as i64, 4)
     } else {
         format!("{x}")
     }
+}
+
+/// `scaled / 10^decimals` in plain digits without trailing zeros (and no point for a
+/// whole number); "0" for zero, never "-0".
+fn decimal(scaled: i64, decimals: u32) -> String {
+    decimal_in(scaled, decimals, &mut [0; 24]).to_string()
+}
+
+/// As [`decimal`], written into the end of `buf` (at most 22 bytes: 20 digits, a point and
+/// a sign), for a caller that writes it on.
+pub(crate) fn decimal_in(scaled: i64, decimals: u32, buf: &mut [u8; 24]) -> &str {
+    let (mut n, mut decimals) = (scaled.unsigned_abs(), decimals.min(19));
+    while decimals > 0 && n % 10 == 0 {
+        n /= 10;
+        decimals -= 1;
+    }
+    let mut at = buf.len();
+    let mut put = |b: u8| {
+        at -= 1;
+        buf[at] = b;
+    };
+    for _ in 0..decimals {
+        put(b'0' + (n % 10) as u8);
+        n /= 10;
+    }
+    if decimals > 0 {
+        put(b'.');
+    }
+    loop {
+        put(b'0' + (n % 10) as u8);
+        n /= 10;
+        if n == 0 {
+            break;
+        }
+    }
+    if scaled < 0 {
+        put(b'-');
+    }
+    // Only ASCII digits, a point and a sign were written.
+    std::str::from_utf8(&buf[at..]).unwrap_or("0")
 }
 
 /// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
@@ -408,6 +468,90 @@ pub fn apart(value: f64, bounds: &[f64], shown: impl Fn(f64) -> String) -> Strin
 mod tests {
     use super::*;
 
+    /// What `number` printed before its digits were written from an integer: the standard
+    /// library's float formatting (shortest form, or a fixed number of decimals).
+    fn printed_by_std(x: f64, digits: Digits) -> String {
+        let four_decimals = |x: f64| (x * 1e4).round() / 1e4;
+        let x = match digits {
+            Digits::FourDecimals => four_decimals(x),
+            Digits::SixSignificant => {
+                let x = six_significant(x);
+                if x.abs() >= 1e4 {
+                    x.round()
+                } else {
+                    four_decimals(x)
+                }
+            }
+            Digits::FourSignificant => {
+                let x = significant(x, 4);
+                let decimals = (3 - x.abs().log10().floor() as i32).max(0) as usize;
+                let s = format!("{x:.decimals$}");
+                let s = if s.contains('.') {
+                    s.trim_end_matches('0').trim_end_matches('.').to_string()
+                } else {
+                    s
+                };
+                return if s == "-0" { "0".to_string() } else { s };
+            }
+            Digits::Exact => x,
+        };
+        if x == 0.0 {
+            "0".to_string()
+        } else {
+            format!("{x}")
+        }
+    }
+
+    /// Values of every magnitude the fast paths take (1e-6 to 1e11), halves of the last
+    /// kept digit, and pseudo-random mantissas: the digits agree with the standard
+    /// library's in every case.
+    #[test]
+    fn numbers_print_the_digits_the_standard_formatting_prints() {
+        let mut seed = 0x2545_f491_4f6c_dd1du64;
+        let mut values = vec![
+            0.00005,
+            0.00015,
+            9999.95,
+            9999.5,
+            12345.5,
+            0.1 + 0.2,
+            1.0 / 3.0,
+        ];
+        for _ in 0..20_000 {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            let mantissa = (seed >> 11) as f64 / (1u64 << 53) as f64;
+            let exponent = (seed % 18) as i32 - 6;
+            let x = mantissa * 10f64.powi(exponent);
+            let sign = if seed & 1 == 0 { 1.0 } else { -1.0 };
+            values.push(sign * x);
+            // A value a half unit from a rounding boundary of each mode.
+            values.push(sign * ((x * 1e4).floor() + 0.5) / 1e4);
+        }
+        for x in values {
+            for digits in [Digits::FourDecimals, Digits::SixSignificant] {
+                if digits == Digits::SixSignificant && x != 0.0 && six_significant(x).abs() < 1e-3 {
+                    continue;
+                }
+                assert_eq!(
+                    number(x, digits),
+                    printed_by_std(x, digits),
+                    "{x:e} {digits:?}"
+                );
+            }
+            let rounded = significant(x, 4).abs();
+            if x.fract() != 0.0 && (1e-6..1e15).contains(&rounded) {
+                let digits = Digits::FourSignificant;
+                assert_eq!(
+                    number(x, digits),
+                    printed_by_std(x, digits),
+                    "{x:e} {digits:?}"
+                );
+            }
+        }
+    }
+
     #[test]
     fn controls_and_bidi_become_visible_newlines_and_tabs_stay() {
         assert_eq!(visible("a\u{1b}]0;x\u{7}b"), "a<U+001B>]0;x<U+0007>b");
@@ -429,6 +573,24 @@ mod tests {
                 let expected = if byte.is_ascii_digit() { position } else { 17 };
                 assert_eq!(
                     digit_free_run(&text),
+                    expected,
+                    "byte {byte:#04x} at {position}"
+                );
+            }
+        }
+    }
+
+    /// As for the printable run: every byte value at every position of a 17-byte text.
+    #[test]
+    fn the_json_plain_run_stops_at_quotes_backslashes_controls_and_non_ascii() {
+        for position in 0..17 {
+            for byte in 0..=255u8 {
+                let mut text = vec![b'a'; 17];
+                text[position] = byte;
+                let plain = (0x20..0x7f).contains(&byte) && byte != b'"' && byte != b'\\';
+                let expected = if plain { 17 } else { position };
+                assert_eq!(
+                    json_plain_run(&text),
                     expected,
                     "byte {byte:#04x} at {position}"
                 );

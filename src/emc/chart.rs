@@ -76,8 +76,9 @@ struct Px(f64);
 impl std::fmt::Display for Px {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         let tenths = (self.0 * 10.0).round();
-        if tenths == 0.0 {
-            f.write_str("0")
+        if tenths.abs() < 1e15 {
+            // Whole tenths: the digits of the integer, as `{:.1}` prints them.
+            f.write_str(crate::text::decimal_in(tenths as i64, 1, &mut [0; 24]))
         } else if tenths % 10.0 == 0.0 {
             write!(f, "{}", tenths / 10.0)
         } else {
@@ -568,5 +569,31 @@ fn legend(svg: &mut Svg, report: &EmcReport, margin: f64, clamped: bool) {
     }
     if clamped {
         text(svg, "on the lower edge: lower still", (columns[0], rows[3]));
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Px;
+
+    /// A coordinate prints as the standard library prints its tenths (`{}` for a whole
+    /// number, `{:.1}` otherwise), over a sweep of the chart's range and beyond, both signs.
+    #[test]
+    fn coordinates_print_as_the_standard_formatting_prints_them() {
+        let by_std = |x: f64| {
+            let tenths = (x * 10.0).round();
+            if tenths == 0.0 {
+                "0".to_string()
+            } else if tenths % 10.0 == 0.0 {
+                format!("{}", tenths / 10.0)
+            } else {
+                format!("{:.1}", tenths / 10.0)
+            }
+        };
+        for i in -30_000..30_000 {
+            for x in [i as f64 * 0.0173, i as f64 * 0.05, i as f64 * 1234.5678] {
+                assert_eq!(Px(x).to_string(), by_std(x), "{x}");
+            }
+        }
     }
 }

@@ -311,6 +311,20 @@ struct HalfCycle {
     floor: f64,
     /// |u| at t = h, 2h, ..., T/2 (index n holds t = (n + 1) h).
     source: Vec<f64>,
+    /// The largest of `source` in each run of [`BLOCK`] samples (`source[BLOCK j..]`), so
+    /// that a blocked stretch passes a run whose every sample stays below the bulk voltage
+    /// without looking at each.
+    block_max: Vec<f64>,
+}
+
+/// Samples per entry of `HalfCycle::block_max`.
+const BLOCK: usize = 32;
+
+fn block_maxima(source: &[f64]) -> Vec<f64> {
+    source
+        .chunks(BLOCK)
+        .map(|run| run.iter().copied().fold(f64::NEG_INFINITY, f64::max))
+        .collect()
 }
 
 impl HalfCycle {
@@ -329,6 +343,7 @@ impl HalfCycle {
         }
         HalfCycle {
             h,
+            block_max: block_maxima(&source),
             source,
             ..*coarse
         }
@@ -349,6 +364,7 @@ impl HalfCycle {
             c: r.capacitance_f,
             p: r.load_w,
             floor: COLLAPSE_FRACTION * peak,
+            block_max: block_maxima(&source),
             source,
         }
     }
@@ -410,6 +426,19 @@ impl HalfCycle {
                 let square_after = |m: usize| start_square - per_step * m as f64;
                 let mut m = 1;
                 while n + m < steps {
+                    // A whole run of samples at once where none can end the stretch: the
+                    // voltage falls through the run, so its last square is the least, and
+                    // if that is above the floor and no sample's square exceeds it, the
+                    // steps below would find nothing there (the same comparisons, bounded).
+                    let at = n + m;
+                    if at % BLOCK == 0 && at + BLOCK <= steps {
+                        let last_square = square_after(m + BLOCK);
+                        let top = self.block_max[at / BLOCK] - self.drop;
+                        if last_square > floor_square && (top <= 0.0 || top * top <= last_square) {
+                            m += BLOCK;
+                            continue;
+                        }
+                    }
                     let next_square = square_after(m + 1);
                     if next_square <= floor_square {
                         return Err(Collapse);

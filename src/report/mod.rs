@@ -2,6 +2,7 @@
 //! Markdown, HTML or JSON, so the three cannot disagree.
 
 mod html;
+mod json;
 mod page;
 mod render;
 pub mod view;
@@ -225,10 +226,10 @@ fn finding_context(findings: &[Finding], rules: &RuleBook) -> Vec<FindingContext
             let verdicts = fields
                 .iter()
                 .filter(|(field, _)| field.parts.len() == 2 && field.parts[0] == "verdicts")
-                .map(|(field, _)| field.parts[1].clone())
+                .map(|(field, _)| field.parts[1].to_string())
                 .collect();
             FindingContext {
-                over: check.over.word.clone(),
+                over: check.over.word.to_string(),
                 verdicts,
             }
         })
@@ -378,11 +379,11 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
         .collect();
     let mut info = HouseInfo::default();
     for r in rules.info.iter().filter(|r| r.origin == "house") {
-        let replaced = shipped_ids.contains(&r.id.as_str());
+        let replaced = shipped_ids.contains(&&*r.id);
         // A file of checks is counted by its checks below, not as a table; so is a house
         // file that replaces a shipped file of checks, even one holding no check at all
         // (it removes them).
-        let is_checks = shipped_check_files.contains(&r.id.as_str())
+        let is_checks = shipped_check_files.contains(&&*r.id)
             || rules
                 .checks
                 .iter()
@@ -393,9 +394,9 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
             (false, false) => info.tables_added += 1,
         }
         info.rules.push(HouseFile {
-            file: r.file.clone(),
-            sha256: r.sha256.clone(),
-            id: r.id.clone(),
+            file: r.file.to_string(),
+            sha256: r.sha256.to_string(),
+            id: r.id.to_string(),
             effect: if replaced { "replaced" } else { "added" },
             kind: if is_checks { "checks" } else { "table" },
         });
@@ -405,11 +406,11 @@ fn house_info(rules: &RuleBook) -> HouseInfo {
     }
     let shipped = shipped_check_ids();
     for c in &rules.checks {
-        match c.origin.as_str() {
+        match &*c.origin {
             "shipped" => {}
             // A check under a shipped id, in a house file that replaced the shipped
             // file, changes that check; it adds nothing.
-            "house" if !shipped.contains(&c.id) => info.checks_added += 1,
+            "house" if !shipped.iter().any(|id| *id == c.id) => info.checks_added += 1,
             _ => info.checks_changed += 1,
         }
     }
@@ -426,7 +427,7 @@ fn shipped_check_ids() -> &'static [String] {
     static IDS: std::sync::OnceLock<Vec<String>> = std::sync::OnceLock::new();
     IDS.get_or_init(|| {
         RuleBook::shipped()
-            .map(|book| book.checks.iter().map(|c| c.id.clone()).collect())
+            .map(|book| book.checks.iter().map(|c| c.id.to_string()).collect())
             .unwrap_or_default()
     })
 }
@@ -434,8 +435,9 @@ fn shipped_check_ids() -> &'static [String] {
 /// Reads, evaluates and judges one project file's text.
 pub fn check_source(source: &Source, rules: &RuleBook) -> Result<Report, Problems> {
     let mut report = figures(source, rules)?;
-    // The checks see the report as the JSON shows it, before any finding.
-    let context = minijinja::Value::from(minijinja::value::Serde(&report));
+    // The checks see the report as the JSON shows it, before any finding, less what no
+    // check reads.
+    let context = crate::checks::context(&report, crate::checks::context_omits(rules));
     let (findings, checks) = run_checks(rules, &context)?;
     report.finding_context = finding_context(&findings, rules);
     report.findings = findings;

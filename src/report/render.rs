@@ -769,99 +769,12 @@ pub fn render_json(report: &Report) -> String {
     to_json(report)
 }
 
-/// Pretty-printed JSON as gapwarden writes it (see [`SafeJson`]), with a final newline.
+/// Pretty-printed JSON as gapwarden writes it (see [`super::json`]), with a final newline.
 pub fn to_json<T: serde::Serialize + ?Sized>(value: &T) -> String {
-    let mut bytes = Vec::new();
-    let mut ser = serde_json::Serializer::with_formatter(
-        &mut bytes,
-        SafeJson(serde_json::ser::PrettyFormatter::new()),
-    );
-    let mut text = match value.serialize(&mut ser) {
-        Ok(()) => String::from_utf8(bytes).unwrap_or_default(),
+    let mut text = match super::json::pretty(value) {
+        Ok(text) => text,
         Err(e) => format!("{{\"error\": \"{e}\"}}"),
     };
     text.push('\n');
     text
-}
-
-/// serde_json's pretty printer with two changes: a negative zero prints as 0 (a figure of
-/// "-0.0" reads as a sign error), and every character that a terminal would act on or that
-/// hides or reorders text (DEL, C1 controls, bidi overrides, zero-width characters; see
-/// `text::is_hazardous`) is written as a `\uXXXX` escape. JSON readers decode the escape
-/// to the same character, so the data are unchanged; only what a terminal sees is.
-struct SafeJson<'a>(serde_json::ser::PrettyFormatter<'a>);
-
-impl serde_json::ser::Formatter for SafeJson<'_> {
-    fn write_f64<W: ?Sized + std::io::Write>(&mut self, w: &mut W, v: f64) -> std::io::Result<()> {
-        self.0.write_f64(w, if v == 0.0 { 0.0 } else { v })
-    }
-    fn write_f32<W: ?Sized + std::io::Write>(&mut self, w: &mut W, v: f32) -> std::io::Result<()> {
-        self.0.write_f32(w, if v == 0.0 { 0.0 } else { v })
-    }
-    fn write_string_fragment<W: ?Sized + std::io::Write>(
-        &mut self,
-        w: &mut W,
-        fragment: &str,
-    ) -> std::io::Result<()> {
-        // ASCII without DEL needs no look at each character (serde_json has escaped the
-        // controls and quotes already); both tests run a word or more at a time.
-        if fragment.is_ascii() && !fragment.as_bytes().contains(&0x7f) {
-            return w.write_all(fragment.as_bytes());
-        }
-        // Otherwise only DEL and the characters beyond ASCII are looked at: the ASCII runs
-        // between them are skipped a byte at a time without decoding.
-        let bytes = fragment.as_bytes();
-        let (mut start, mut i) = (0, 0);
-        while let Some(skip) = bytes[i..].iter().position(|&b| b >= 0x7f) {
-            i += skip;
-            let Some(c) = fragment[i..].chars().next() else {
-                break;
-            };
-            if crate::text::is_hazardous(c) {
-                w.write_all(&bytes[start..i])?;
-                let mut units = [0u16; 2];
-                for unit in c.encode_utf16(&mut units) {
-                    write!(w, "\\u{unit:04x}")?;
-                }
-                start = i + c.len_utf8();
-            }
-            i += c.len_utf8();
-        }
-        w.write_all(&bytes[start..])
-    }
-    fn begin_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.begin_array(w)
-    }
-    fn end_array<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.end_array(w)
-    }
-    fn begin_array_value<W: ?Sized + std::io::Write>(
-        &mut self,
-        w: &mut W,
-        first: bool,
-    ) -> std::io::Result<()> {
-        self.0.begin_array_value(w, first)
-    }
-    fn end_array_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.end_array_value(w)
-    }
-    fn begin_object<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.begin_object(w)
-    }
-    fn end_object<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.end_object(w)
-    }
-    fn begin_object_key<W: ?Sized + std::io::Write>(
-        &mut self,
-        w: &mut W,
-        first: bool,
-    ) -> std::io::Result<()> {
-        self.0.begin_object_key(w, first)
-    }
-    fn begin_object_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.begin_object_value(w)
-    }
-    fn end_object_value<W: ?Sized + std::io::Write>(&mut self, w: &mut W) -> std::io::Result<()> {
-        self.0.end_object_value(w)
-    }
 }

@@ -2,13 +2,15 @@
 //! severity, what it runs over, a condition (a minijinja expression), a message template,
 //! a rationale and its source. House files add checks or change shipped ones by id.
 
-use std::collections::BTreeMap;
+use std::borrow::Cow;
+use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
 
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
+use super::Text;
 use super::predicate::{FieldRef, Fields, Need, Predicate};
 use crate::checks::{Severity, expression_environment};
 use crate::diag::{Diagnostic, Source, one_of, suggest};
@@ -19,8 +21,8 @@ use crate::diag::{Diagnostic, Source, one_of, suggest};
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Over {
     /// As written in the check file.
-    pub word: String,
-    path: String,
+    pub word: Text,
+    path: Text,
 }
 
 impl Serialize for Over {
@@ -41,15 +43,17 @@ impl Over {
     ];
 
     pub fn from_word(word: &str) -> Over {
-        let path = match word {
-            "isolation_pairs" => "isolation.pairs",
-            "report" => "",
-            other => other,
+        Over::of(Cow::Owned(word.to_string()))
+    }
+
+    /// `from_word` without a copy of a shipped check's word.
+    fn of(word: Text) -> Over {
+        let path = match &*word {
+            "isolation_pairs" => Cow::Borrowed("isolation.pairs"),
+            "report" => Cow::Borrowed(""),
+            _ => word.clone(),
         };
-        Over {
-            word: word.to_string(),
-            path: path.to_string(),
-        }
+        Over { word, path }
     }
 
     pub fn is_report(&self) -> bool {
@@ -72,7 +76,7 @@ impl Over {
 
     /// The item field a finding names as its subject when the check gives none.
     pub fn subject_key(&self) -> Option<&'static str> {
-        match self.word.as_str() {
+        match &*self.word {
             "bridges" => Some("part"),
             "isolation_pairs" => Some("accessible"),
             "input_warnings" => Some("key"),
@@ -87,7 +91,7 @@ impl Over {
 #[derive(Debug, Clone, PartialEq)]
 pub enum Cond {
     Predicate(Predicate),
-    Expression(String),
+    Expression(Text),
 }
 
 impl fmt::Display for Cond {
@@ -108,8 +112,8 @@ impl Serialize for Cond {
 /// One loaded check, ready to run.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct CheckDef {
-    pub id: String,
-    pub title: String,
+    pub id: Text,
+    pub title: Text,
     pub severity: Severity,
     pub over: Over,
     /// Whether the check has anything to judge on an item (default: always).
@@ -117,19 +121,19 @@ pub struct CheckDef {
     /// Raises the finding when it holds.
     pub condition: Cond,
     /// Expression giving the finding's subject (default: the item's id).
-    pub subject: Option<String>,
+    pub subject: Option<Text>,
     /// Template of the finding's message.
-    pub message: String,
-    pub rationale: String,
-    pub source: String,
+    pub message: Text,
+    pub rationale: Text,
+    pub source: Text,
     /// "shipped" or "house"; "shipped, changed by house" after an override.
-    pub origin: String,
+    pub origin: Text,
     /// The rule file (name only) and line that defined the check last.
-    pub file: String,
+    pub file: Text,
     pub line: usize,
     /// The rule file as given (for error messages only; reports carry the name).
     #[serde(skip)]
-    pub path: String,
+    pub path: Text,
 }
 
 #[derive(Deserialize)]
@@ -152,18 +156,18 @@ struct CheckFile {
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawCheck {
-    id: String,
+    id: Text,
     #[serde(default)]
     overrides: bool,
-    title: Option<String>,
-    severity: Option<String>,
-    over: Option<String>,
+    title: Option<Text>,
+    severity: Option<Text>,
+    over: Option<Text>,
     applies: Option<RawCond>,
     condition: Option<RawCond>,
-    subject: Option<String>,
-    message: Option<String>,
-    rationale: Option<String>,
-    source: Option<String>,
+    subject: Option<Text>,
+    message: Option<Text>,
+    rationale: Option<Text>,
+    source: Option<Text>,
 }
 
 /// A condition as given: a house file's value (an expression in quotes or a predicate
@@ -184,27 +188,33 @@ impl From<serde_json::Value> for RawCond {
 impl From<super::shipped::ShippedCond> for RawCond {
     fn from(cond: super::shipped::ShippedCond) -> Self {
         RawCond::Built(match cond {
-            super::shipped::ShippedCond::Expression(e) => Cond::Expression(e.to_string()),
+            super::shipped::ShippedCond::Expression(e) => Cond::Expression(Cow::Borrowed(e)),
             super::shipped::ShippedCond::Predicate(build) => Cond::Predicate(build()),
         })
     }
 }
 
-/// Reads the check files in load order (shipped first, then house), merging overrides.
-/// A check file on its way in: shipped files come as JSON with the line of each check
-/// (prepared by build.rs); house files as TOML text.
+/// A check file on its way in: shipped files come as the entries build.rs wrote, each with
+/// the line of its `[[check]]`; house files as TOML text.
 pub struct CheckSource<'a> {
-    pub source: &'a Source,
-    pub file: &'a str,
-    pub origin: &'a str,
+    /// A house file's text, read here; `None` for a shipped file, whose text (`text`) is
+    /// made a `Source` only to locate a problem.
+    pub house: Option<&'a Source>,
+    pub text: &'a str,
+    /// The file as messages name it.
+    pub path: Text,
+    /// The file's path inside its rules folder.
+    pub file: Text,
+    pub origin: &'static str,
     pub shipped: Option<&'static [super::shipped::ShippedCheck]>,
 }
 
-/// A shipped entry as a raw check, its conditions already built (nothing to parse).
+/// A shipped entry as a raw check, its conditions already built (nothing to parse) and its
+/// text lent, not copied.
 fn from_shipped(c: &super::shipped::ShippedCheck) -> RawCheck {
-    let text = |t: Option<&str>| t.map(str::to_string);
+    let text = |t: Option<&'static str>| t.map(Cow::Borrowed);
     RawCheck {
-        id: c.id.to_string(),
+        id: Cow::Borrowed(c.id),
         overrides: c.overrides,
         title: text(c.title),
         severity: text(c.severity),
@@ -247,7 +257,7 @@ fn locate_key(text: &str, index: usize, key: &str, needle: Option<&str>) -> Opti
 fn read_cond(value: RawCond) -> Result<Cond, String> {
     match value {
         RawCond::Built(cond) => Ok(cond),
-        RawCond::Given(serde_json::Value::String(e)) => Ok(Cond::Expression(e)),
+        RawCond::Given(serde_json::Value::String(e)) => Ok(Cond::Expression(Cow::Owned(e))),
         RawCond::Given(other) => Predicate::parse(&other).map(Cond::Predicate),
     }
 }
@@ -265,30 +275,42 @@ pub fn load_checks(
     let validate_shipped = fields.is_some();
     let shipped_fields = std::cell::OnceCell::new();
     let fields = || fields.unwrap_or_else(|| shipped_fields.get_or_init(Fields::shipped));
-    let mut checks: Vec<CheckDef> = Vec::new();
-    let mut index: BTreeMap<String, usize> = BTreeMap::new();
-    let env = expression_environment();
+    let shipped_count = files.iter().filter_map(|f| f.shipped).map(<[_]>::len).sum();
+    let mut checks: Vec<CheckDef> = Vec::with_capacity(shipped_count);
+    // Check ids to their place; a shipped check's id is lent, not copied.
+    let mut index: HashMap<Text, usize> = HashMap::with_capacity(shipped_count);
+    // Only house checks' expressions are compiled here: the environment is made for them.
+    let env_cell = std::cell::OnceCell::new();
+    let env = || env_cell.get_or_init(expression_environment);
     for CheckSource {
-        source,
+        house,
+        text,
+        path,
         file: file_in_folder,
         origin,
         shipped,
     } in files
     {
+        let made = std::cell::OnceCell::new();
+        let source = || match house {
+            Some(source) => *source,
+            None => made.get_or_init(|| Source::new(path.to_string(), *text)),
+        };
         // Each check with the line its [[check]] header stands on.
         let entries: Vec<(RawCheck, usize)> = match shipped {
             Some(shipped) => shipped.iter().map(|c| (from_shipped(c), c.line)).collect(),
-            None => match toml::from_str::<CheckFile>(&source.text) {
+            None => match toml::from_str::<CheckFile>(&source().text) {
                 Ok(f) => f
                     .check
                     .into_iter()
                     .map(|spanned| {
+                        let source = source();
                         let (line, _) = source.index.locate(&source.text, spanned.span().start);
                         (spanned.into_inner(), line)
                     })
                     .collect(),
                 Err(e) => {
-                    problems.push(super::toml_problem(source, &e, ""));
+                    problems.push(super::toml_problem(source(), &e, ""));
                     continue;
                 }
             },
@@ -303,6 +325,7 @@ pub fn load_checks(
             // Located at the key's value (or at the `[[check]]` line when the entry does not
             // give the key), naming the entry's own line too.
             let at_field = |message: String, key: &str, needle: Option<&str>| {
+                let source = source();
                 let entry_at = format!("{}:{line}:1", source.name);
                 let d = match locate_key(&source.text, entry_index, key, needle) {
                     Some(span) => {
@@ -339,7 +362,7 @@ pub fn load_checks(
                 );
                 continue;
             }
-            let existing = index.get(&raw.id).copied();
+            let existing = index.get(&*raw.id).copied();
             let base = match (existing, raw.overrides) {
                 (Some(_), false) => {
                     problems.push(
@@ -349,7 +372,9 @@ pub fn load_checks(
                     continue;
                 }
                 (None, true) => {
-                    let known: Vec<&str> = index.keys().map(String::as_str).collect();
+                    // In id order, as suggestions have always been looked for.
+                    let mut known: Vec<&str> = index.keys().map(|k| &**k).collect();
+                    known.sort_unstable();
                     let mut d = at(
                         format!("overrides = true, but no check \"{}\" is loaded", raw.id),
                         "overrides",
@@ -363,9 +388,8 @@ pub fn load_checks(
                 (Some(i), true) => Some(checks[i].clone()),
                 (None, false) => None,
             };
-            let field =
-                |value: Option<String>, old: Option<&String>| value.or_else(|| old.cloned());
-            let required = |value: Option<String>, key: &str, problems: &mut Vec<Diagnostic>| {
+            let field = |value: Option<Text>, old: Option<&Text>| value.or_else(|| old.cloned());
+            let required = |value: Option<Text>, key: &str, problems: &mut Vec<Diagnostic>| {
                 if value.is_none() {
                     problems.push(at("is missing; every new check needs it".to_string(), key));
                 }
@@ -446,10 +470,10 @@ pub fn load_checks(
                 }
             };
             let over = match (&raw.over, &base) {
-                (Some(word), _) if !validate_fields => Some(Over::from_word(word)),
+                (Some(word), _) if !validate_fields => Some(Over::of(word.clone())),
                 (Some(word), _) => {
                     let fields = fields();
-                    let over = Over::from_word(word);
+                    let over = Over::of(word.clone());
                     let kind = if over.is_report() {
                         Some("map")
                     } else {
@@ -502,7 +526,7 @@ pub fn load_checks(
                     p.fields(&mut used);
                     for (f, need) in used {
                         if let Err(m) = fields.check(&prefix, &f, need) {
-                            let needle = f.parts.last().map(String::as_str);
+                            let needle = f.parts.last().map(|p| &**p);
                             problems.push(at_field(m, key, needle));
                         }
                     }
@@ -515,7 +539,7 @@ pub fn load_checks(
             ] {
                 if let Some(expr) = expr
                     && validate
-                    && let Err(e) = env.compile_expression(expr)
+                    && let Err(e) = env().compile_expression(expr)
                 {
                     problems.push(at(
                         format!(
@@ -547,11 +571,11 @@ pub fn load_checks(
                         condition.as_ref().and_then(expression).map(wrap),
                     ),
                     ("subject", subject.as_deref().map(wrap)),
-                    ("message", message.clone()),
+                    ("message", message.as_deref().map(str::to_string)),
                 ];
                 for (key, text) in texts {
                     let Some(text) = text else { continue };
-                    let Ok(template) = env.template_from_str(&text) else {
+                    let Ok(template) = env().template_from_str(&text) else {
                         continue;
                     };
                     let mut names: Vec<String> =
@@ -566,8 +590,8 @@ pub fn load_checks(
                             };
                         let field = FieldRef {
                             from_report,
-                            parts: rest.split('.').map(str::to_string).collect(),
-                            written: name.clone(),
+                            parts: rest.split('.').map(|p| Cow::Owned(p.to_string())).collect(),
+                            written: Cow::Owned(name.clone()),
                         };
                         if let Err(m) = fields.check(&prefix, &field, Need::Any) {
                             problems.push(at(m, key));
@@ -577,7 +601,7 @@ pub fn load_checks(
             }
             if let Some(message) = &message
                 && validate
-                && let Err(e) = env.template_from_str(message)
+                && let Err(e) = env().template_from_str(message)
             {
                 problems.push(at(
                     format!(
@@ -602,10 +626,8 @@ pub fn load_checks(
                 continue;
             };
             let origin = match (&base, *origin) {
-                (Some(b), "house") if b.origin != "house" => {
-                    "shipped, changed by house".to_string()
-                }
-                (_, o) => o.to_string(),
+                (Some(b), "house") if b.origin != "house" => "shipped, changed by house",
+                (_, o) => o,
             };
             let def = CheckDef {
                 id: raw.id.clone(),
@@ -618,10 +640,10 @@ pub fn load_checks(
                 message,
                 rationale,
                 source: source_text,
-                origin,
-                file: file_in_folder.to_string(),
+                origin: Cow::Borrowed(origin),
+                file: file_in_folder.clone(),
                 line,
-                path: source.name.clone(),
+                path: path.clone(),
             };
             match existing {
                 Some(i) => checks[i] = def,

@@ -4,10 +4,11 @@
 //! Every table and check names its source and provenance.
 
 mod check_defs;
+pub mod node;
 pub mod predicate;
 pub mod table;
 
-use std::collections::BTreeMap;
+use std::borrow::Cow;
 use std::path::Path;
 
 use serde::{Deserialize, Serialize};
@@ -36,10 +37,12 @@ pub(crate) mod shipped {
     pub struct ShippedRule {
         /// Path inside `rules/`.
         pub name: &'static str,
+        /// `rules/` and the path inside it, as messages name the file.
+        pub path: &'static str,
         pub text: &'static str,
-        /// The same content as JSON, read much faster than TOML (empty for a check file,
-        /// whose entries are in `checks`).
-        pub json: &'static str,
+        /// The same content as a value tree that serde reads without parsing text (an
+        /// empty table for a check file, whose entries are in `checks`).
+        pub values: Node,
         /// SHA-256 of `text`.
         pub sha256: &'static str,
         /// The line of each `[[check]]` header, in order.
@@ -79,27 +82,32 @@ pub(crate) mod shipped {
         Predicate(fn() -> P),
     }
 
+    use super::node::Node;
     use super::predicate::{FieldRef, Op, Operand, Predicate as P};
     use minijinja::value::Value;
 
     include!(concat!(env!("OUT_DIR"), "/shipped_rules.rs"));
 }
 
+/// Text that a shipped rule file lends for the whole run (its id, title, its checks'
+/// messages) and a house file owns: a shipped rule book copies none of its text.
+pub type Text = Cow<'static, str>;
+
 /// What a report says about one loaded rule file.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct RuleInfo {
-    pub id: String,
-    pub title: String,
-    pub source: String,
-    pub provenance: String,
-    pub sha256: String,
+    pub id: Text,
+    pub title: Text,
+    pub source: Text,
+    pub provenance: Text,
+    pub sha256: Text,
     /// "shipped", or "house" for a file from a `--rules` folder.
-    pub origin: String,
+    pub origin: Text,
     /// File name (never a full path, so reports carry no machine paths).
-    pub file: String,
+    pub file: Text,
     /// The file's text, for `gapwarden rules ID`.
     #[serde(skip)]
-    pub text: String,
+    pub text: Text,
 }
 
 /// The fields every house rule file carries, read leniently to learn its id, with
@@ -139,15 +147,37 @@ impl RuleBook {
     }
 }
 
-/// A rule file on its way in: its text, where it came from, and whether it holds checks.
+/// A rule file on its way in: where it came from, and whether it holds checks.
 struct Loaded {
-    source: Source,
-    /// Shipped files: their JSON form, SHA-256, header and check lines, from build.rs.
-    shipped: Option<&'static shipped::ShippedRule>,
+    id: Text,
+    from: From,
     /// The file's path inside its rules folder (`checks/barrier.toml`): no machine path.
-    file: String,
-    origin: &'static str,
+    file: Text,
     is_checks: bool,
+}
+
+/// A shipped file as build.rs prepared it (value tree, SHA-256, header, checks), read in
+/// place; or a house file's text.
+enum From {
+    Shipped(&'static shipped::ShippedRule),
+    House(Source),
+}
+
+impl Loaded {
+    /// The file as messages name it.
+    fn name(&self) -> Text {
+        match &self.from {
+            From::Shipped(rule) => Cow::Borrowed(rule.path),
+            From::House(source) => Cow::Owned(source.name.clone()),
+        }
+    }
+
+    fn origin(&self) -> &'static str {
+        match self.from {
+            From::Shipped(_) => "shipped",
+            From::House(_) => "house",
+        }
+    }
 }
 
 impl RuleBook {
@@ -176,22 +206,17 @@ impl RuleBook {
         house: Option<&Path>,
         fields: Option<&predicate::Fields>,
     ) -> Result<RuleBook, Problems> {
-        let mut files: BTreeMap<String, Loaded> = BTreeMap::new();
-        let mut order: Vec<String> = Vec::new();
+        // In load order; a house file that overrides a shipped one takes its place.
+        let mut files: Vec<Loaded> = Vec::with_capacity(SHIPPED_RULES.len());
         let mut problems = Vec::new();
         // Shipped files: ids and headers as build.rs read them; they never clash (tested).
         for rule in SHIPPED_RULES {
-            order.push(rule.id.to_string());
-            files.insert(
-                rule.id.to_string(),
-                Loaded {
-                    source: Source::new(format!("rules/{}", rule.name), rule.text),
-                    shipped: Some(rule),
-                    file: rule.name.to_string(),
-                    origin: "shipped",
-                    is_checks: rule.is_checks,
-                },
-            );
+            files.push(Loaded {
+                id: Cow::Borrowed(rule.id),
+                from: From::Shipped(rule),
+                file: Cow::Borrowed(rule.name),
+                is_checks: rule.is_checks,
+            });
         }
         let house_files = match house {
             Some(dir) => read_folder(dir)?,
@@ -211,12 +236,9 @@ impl RuleBook {
             };
             let id = header.id.get_ref().clone();
             let overrides = header.overrides.as_ref().is_some_and(|o| *o.get_ref());
-            let exists = files.contains_key(&id);
-            if exists && !overrides {
-                let first = files
-                    .get(&id)
-                    .map(|l| l.source.name.clone())
-                    .unwrap_or_default();
+            let existing = files.iter().position(|l| l.id == id.as_str());
+            if let Some(first) = existing.filter(|_| !overrides) {
+                let first = files[first].name();
                 problems.push(
                     source
                         .diag(&header.id.span(), format!("id \"{id}\" is already used by {first}"))
@@ -225,7 +247,7 @@ impl RuleBook {
                 );
                 continue;
             }
-            if !exists && overrides {
+            if existing.is_none() && overrides {
                 let span = header
                     .overrides
                     .as_ref()
@@ -241,62 +263,60 @@ impl RuleBook {
                 );
                 continue;
             }
-            if !exists {
-                order.push(id.clone());
-            }
             let is_checks = header.check.is_some();
-            files.insert(
-                id,
-                Loaded {
-                    source,
-                    shipped: None,
-                    file,
-                    origin: "house",
-                    is_checks,
-                },
-            );
+            let loaded = Loaded {
+                id: Cow::Owned(id),
+                from: From::House(source),
+                file: Cow::Owned(file),
+                is_checks,
+            };
+            match existing {
+                Some(i) => files[i] = loaded,
+                None => files.push(loaded),
+            }
         }
         if !problems.is_empty() {
             return Err(Problems(problems));
         }
-        let mut info = Vec::new();
-        for id in &order {
-            let Some(l) = files.get(id) else { continue };
-            let (title, source, provenance, sha256) = match l.shipped {
-                Some(rule) => (
-                    rule.title.to_string(),
-                    rule.source.to_string(),
-                    rule.provenance.to_string(),
-                    rule.sha256.to_string(),
+        let mut info = Vec::with_capacity(files.len());
+        for l in &files {
+            let (title, source, provenance, sha256, text) = match &l.from {
+                From::Shipped(rule) => (
+                    Cow::Borrowed(rule.title),
+                    Cow::Borrowed(rule.source),
+                    Cow::Borrowed(rule.provenance),
+                    Cow::Borrowed(rule.sha256),
+                    Cow::Borrowed(rule.text),
                 ),
-                None => match toml::from_str::<Header>(&l.source.text) {
+                From::House(s) => match toml::from_str::<Header>(&s.text) {
                     Ok(h) => (
-                        h.title,
-                        h.source,
-                        h.provenance,
-                        crate::sha256_hex(l.source.text.as_bytes()),
+                        Cow::Owned(h.title),
+                        Cow::Owned(h.source),
+                        Cow::Owned(h.provenance),
+                        Cow::Owned(crate::sha256_hex(s.text.as_bytes())),
+                        Cow::Owned(s.text.clone()),
                     ),
                     Err(_) => continue,
                 },
             };
             info.push(RuleInfo {
-                id: id.clone(),
+                id: l.id.clone(),
                 title,
                 source,
                 provenance,
                 sha256,
-                origin: l.origin.to_string(),
+                origin: Cow::Borrowed(l.origin()),
                 file: l.file.clone(),
-                text: l.source.text.clone(),
+                text,
             });
         }
         let mut tables = TableStore::default();
-        for id in &order {
-            if let Some(l) = files.get(id)
-                && !l.is_checks
-            {
-                tables.insert(id.clone(), TableFile::new(l.source.clone(), l.shipped));
-            }
+        for l in files.iter().filter(|l| !l.is_checks) {
+            let file = match &l.from {
+                From::Shipped(rule) => TableFile::shipped(rule),
+                From::House(source) => TableFile::house(source.clone()),
+            };
+            tables.insert(l.id.clone(), file);
         }
         // Every table type's file is there; every house table is read and checked now,
         // each problem with its line and key (shipped ones are proven by a test).
@@ -304,20 +324,31 @@ impl RuleBook {
             store: &tables,
             problems: Vec::new(),
         };
-        validation.every_table_type(order.iter());
+        validation.every_table_type(files.iter().map(|l| &*l.id));
         for area in crate::area::AREAS {
             area.load_rules(&mut validation);
         }
         let mut problems = validation.problems;
-        let check_sources: Vec<check_defs::CheckSource> = order
+        let check_sources: Vec<check_defs::CheckSource> = files
             .iter()
-            .filter_map(|id| files.get(id))
             .filter(|l| l.is_checks)
-            .map(|l| check_defs::CheckSource {
-                source: &l.source,
-                file: l.file.as_str(),
-                origin: l.origin,
-                shipped: l.shipped.map(|s| s.checks),
+            .map(|l| match &l.from {
+                From::Shipped(rule) => check_defs::CheckSource {
+                    house: None,
+                    text: rule.text,
+                    path: Cow::Borrowed(rule.path),
+                    file: l.file.clone(),
+                    origin: "shipped",
+                    shipped: Some(rule.checks),
+                },
+                From::House(source) => check_defs::CheckSource {
+                    house: Some(source),
+                    text: &source.text,
+                    path: Cow::Owned(source.name.clone()),
+                    file: l.file.clone(),
+                    origin: "house",
+                    shipped: None,
+                },
             })
             .collect();
         // Retired check ids: the shipped list, plus any a house file retires itself.
@@ -327,22 +358,18 @@ impl RuleBook {
             retired: Vec<Retired>,
         }
         let mut retired: Vec<Retired> = Vec::new();
-        for l in order
-            .iter()
-            .filter_map(|id| files.get(id))
-            .filter(|l| !l.is_checks)
-        {
-            let list = match l.shipped {
-                Some(s) if s.json.contains("\"retired\"") => {
-                    serde_json::from_str::<RetiredList>(s.json)
-                        .map_err(|e| Diagnostic::new(&l.source.name, e.to_string()))
+        for l in files.iter().filter(|l| !l.is_checks) {
+            let list = match &l.from {
+                From::Shipped(s) if s.values.get("retired").is_some() => s
+                    .values
+                    .read::<RetiredList>()
+                    .map_err(|e| Diagnostic::new(s.path, e.to_string())),
+                From::Shipped(_) => continue,
+                From::House(source) if source.text.contains("retired") => {
+                    toml::from_str::<RetiredList>(&source.text)
+                        .map_err(|e| toml_problem(source, &e, ""))
                 }
-                Some(_) => continue,
-                None if l.source.text.contains("retired") => {
-                    toml::from_str::<RetiredList>(&l.source.text)
-                        .map_err(|e| toml_problem(&l.source, &e, ""))
-                }
-                None => continue,
+                From::House(_) => continue,
             };
             match list {
                 Ok(list) => retired.extend(list.retired),

@@ -10,21 +10,24 @@
 //! `one_of = [...]`, `missing = true|false`, `set = true|false`, `not_empty = true|false`.
 //! A missing (absent or null) field fails every comparison except `is_not`.
 
+use std::borrow::Cow;
 use std::collections::BTreeMap;
 use std::fmt;
 
 use minijinja::value::Value;
 use serde_json::Value as Json;
 
+use super::Text;
 use crate::diag::{one_of, suggest};
 
-/// A field named by a check: path segments from the item or from the report.
+/// A field named by a check: path segments from the item or from the report (a shipped
+/// check's are lent by the binary, not copied).
 #[derive(Debug, Clone, PartialEq)]
 pub struct FieldRef {
     pub from_report: bool,
-    pub parts: Vec<String>,
+    pub parts: Vec<Text>,
     /// As written, for messages and `explain`.
-    pub written: String,
+    pub written: Text,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -111,29 +114,29 @@ fn field_ref(path: &str, verdict: bool) -> Result<FieldRef, String> {
         ));
     }
     let parts = if verdict {
-        vec!["verdicts".to_string(), rest.to_string()]
+        vec![Cow::Borrowed("verdicts"), Cow::Owned(rest.to_string())]
     } else {
-        rest.split('.').map(str::to_string).collect()
+        rest.split('.').map(|p| Cow::Owned(p.to_string())).collect()
     };
     Ok(FieldRef {
         from_report,
         parts,
-        written: if verdict {
+        written: Cow::Owned(if verdict {
             format!("verdicts['{rest}']")
         } else {
             path.to_string()
-        },
+        }),
     })
 }
 
 impl FieldRef {
     /// A field path as build.rs writes it for a shipped check (already split; see
     /// `field_ref` for the same from a check file).
-    pub fn built(from_report: bool, parts: &[&str], written: &str) -> FieldRef {
+    pub fn built(from_report: bool, parts: &[&'static str], written: &'static str) -> FieldRef {
         FieldRef {
             from_report,
-            parts: parts.iter().map(|p| p.to_string()).collect(),
-            written: written.to_string(),
+            parts: parts.iter().map(|p| Cow::Borrowed(*p)).collect(),
+            written: Cow::Borrowed(written),
         }
     }
 }
@@ -156,7 +159,8 @@ fn constant(v: &Json) -> Value {
 }
 
 impl Predicate {
-    /// Reads a predicate table (from TOML or the shipped JSON), naming the key at fault.
+    /// Reads a predicate table (a house file's TOML, as a JSON value), naming the key at
+    /// fault.
     pub fn parse(value: &Json) -> Result<Predicate, String> {
         Predicate::parse_at(value, 0)
     }
@@ -365,13 +369,13 @@ impl Predicate {
 }
 
 /// The value at a path, or `None` where a step is absent or null.
-pub fn resolve(from: &Value, parts: &[String]) -> Option<Value> {
+pub fn resolve<S: AsRef<str>>(from: &Value, parts: &[S]) -> Option<Value> {
     let mut value = from.clone();
     for part in parts {
         if value.is_none() || value.is_undefined() {
             return None;
         }
-        value = value.get_item(&Value::from(part.as_str())).ok()?;
+        value = value.get_item(&Value::from(part.as_ref())).ok()?;
     }
     (!value.is_none() && !value.is_undefined()).then_some(value)
 }
@@ -388,7 +392,7 @@ impl fmt::Display for Predicate {
         let operand = |o: &Operand| match o {
             Operand::Constant(c) if c.as_str().is_some() => format!("'{c}'"),
             Operand::Constant(c) => c.to_string(),
-            Operand::Field(g) => g.written.clone(),
+            Operand::Field(g) => g.written.to_string(),
         };
         let join = |ps: &[Predicate], sep: &str| {
             ps.iter()

@@ -17,7 +17,7 @@ use crate::diag::{Diagnostic, Source};
 /// A rule table as read from TOML: the permanent id of its file, and what makes it usable.
 /// A new table is this struct plus its file; evaluation asks for it by type
 /// (`RuleBook::table`), and the store finds its file by `ID`.
-pub trait Table: for<'de> Deserialize<'de> + Send + Sync + 'static {
+pub trait Table: for<'de> Deserialize<'de> + std::fmt::Debug + Send + Sync + 'static {
     /// The `id` its rule file carries.
     const ID: &'static str;
 
@@ -98,6 +98,9 @@ pub struct TableType {
     /// The struct's path in the crate, for messages and tests.
     pub name: &'static str,
     read: fn(&TableFile) -> Result<Typed, Diagnostic>,
+    /// The typed form written out with `{:?}` (floats as they read back), for the test
+    /// that holds a shipped table's tree to its TOML.
+    shown: fn(&Typed) -> String,
 }
 
 impl TableType {
@@ -106,12 +109,20 @@ impl TableType {
             id: T::ID,
             name,
             read: read_as::<T>,
+            shown: shown_as::<T>,
         }
     }
 }
 
 fn read_as<T: Table>(file: &TableFile) -> Result<Typed, Diagnostic> {
     file.read::<T>(T::check).map(|t| Arc::new(t) as Typed)
+}
+
+fn shown_as<T: Table>(typed: &Typed) -> String {
+    typed
+        .downcast_ref::<T>()
+        .map(|t| format!("{t:#?}"))
+        .unwrap_or_default()
 }
 
 /// Every type that implements [`Table`] in the crate, found by `build.rs` (which reads the
@@ -125,34 +136,58 @@ type Typed = Arc<dyn Any + Send + Sync>;
 /// One rule table file and, once read, its typed form.
 #[derive(Clone)]
 pub(crate) struct TableFile {
-    /// The file as loaded (a shipped file's name is `rules/<path>`).
-    pub(crate) source: Source,
-    /// A shipped file's JSON form, prepared by build.rs; `None` for a house file.
-    shipped: Option<&'static ShippedRule>,
+    file: File,
     typed: OnceLock<Typed>,
 }
 
+/// A shipped file (its value tree, written by build.rs, read in place) or a house file's
+/// text.
+#[derive(Clone)]
+enum File {
+    Shipped(&'static ShippedRule),
+    House(Source),
+}
+
 impl TableFile {
-    pub(crate) fn new(source: Source, shipped: Option<&'static ShippedRule>) -> Self {
+    pub(crate) fn shipped(rule: &'static ShippedRule) -> Self {
         TableFile {
-            source,
-            shipped,
+            file: File::Shipped(rule),
             typed: OnceLock::new(),
         }
     }
 
-    /// Parses the file into `T`. A shipped file is read from its JSON form and not checked
+    pub(crate) fn house(source: Source) -> Self {
+        TableFile {
+            file: File::House(source),
+            typed: OnceLock::new(),
+        }
+    }
+
+    fn is_shipped(&self) -> bool {
+        matches!(self.file, File::Shipped(_))
+    }
+
+    /// The file as messages name it (a shipped file's name is `rules/<path>`).
+    fn name(&self) -> &str {
+        match &self.file {
+            File::Shipped(rule) => rule.path,
+            File::House(source) => &source.name,
+        }
+    }
+
+    /// Reads the file into `T`. A shipped file is read from its value tree and not checked
     /// again (`tests/it/rule_tables.rs` checks every one); a house file is read from its
     /// TOML with every problem at its line and key, and checked.
     fn read<T: for<'de> Deserialize<'de>>(
         &self,
         check: impl Fn(&T) -> Result<(), String>,
     ) -> Result<T, Diagnostic> {
-        let source = &self.source;
-        match self.shipped {
-            Some(shipped) => serde_json::from_str::<T>(shipped.json)
-                .map_err(|e| Diagnostic::new(&source.name, e.to_string())),
-            None => {
+        match &self.file {
+            File::Shipped(shipped) => shipped
+                .values
+                .read::<T>()
+                .map_err(|e| Diagnostic::new(shipped.path, e.to_string())),
+            File::House(source) => {
                 let table = toml::from_str::<T>(&source.text)
                     .map_err(|e| super::toml_problem(source, &e, ""))?;
                 check(&table).map_err(|message| table_problem(source, &message))?;
@@ -177,7 +212,7 @@ impl TableFile {
             .and_then(|t| t.downcast_ref::<T>())
             .ok_or_else(|| {
                 Diagnostic::new(
-                    &self.source.name,
+                    self.name(),
                     format!(
                         "rule table \"{id}\" is read as {} and as another type",
                         std::any::type_name::<T>()
@@ -201,7 +236,7 @@ fn table_problem(source: &Source, problem: &str) -> Diagnostic {
 /// asks for it (a run reads only the tables its design needs).
 #[derive(Clone, Default)]
 pub struct TableStore {
-    files: BTreeMap<String, TableFile>,
+    files: BTreeMap<super::Text, TableFile>,
 }
 
 impl std::fmt::Debug for TableStore {
@@ -211,7 +246,7 @@ impl std::fmt::Debug for TableStore {
 }
 
 impl TableStore {
-    pub(crate) fn insert(&mut self, id: String, file: TableFile) {
+    pub(crate) fn insert(&mut self, id: super::Text, file: TableFile) {
         self.files.insert(id, file);
     }
 
@@ -267,7 +302,7 @@ impl Validation<'_> {
     ) {
         match self.store.files.get(id) {
             None => self.problems.push(missing(id)),
-            Some(file) if file.shipped.is_none() => {
+            Some(file) if !file.is_shipped() => {
                 if let Err(d) = file.typed(id, check) {
                     self.problems.push(d);
                 }
@@ -278,22 +313,19 @@ impl Validation<'_> {
 
     /// Every [`TABLE_TYPES`] entry has its file, and every house file of one of those
     /// types (`house`, ids in load order) is read and checked now.
-    pub(crate) fn every_table_type<'i>(&mut self, house: impl Iterator<Item = &'i String>) {
+    pub(crate) fn every_table_type<'i>(&mut self, house: impl Iterator<Item = &'i str>) {
         for kind in TABLE_TYPES {
             if !self.store.has(kind.id) {
                 self.problems.push(missing(kind.id));
             }
         }
         for id in house {
-            let (Some(file), Some(kind)) = (
-                self.store.files.get(id),
-                TABLE_TYPES.iter().find(|k| k.id == id),
-            ) else {
+            let Some(file) = self.store.files.get(id).filter(|f| !f.is_shipped()) else {
                 continue;
             };
-            if file.shipped.is_some() {
+            let Some(kind) = TABLE_TYPES.iter().find(|k| k.id == id) else {
                 continue;
-            }
+            };
             match (kind.read)(file) {
                 Ok(typed) => {
                     let _ = file.typed.set(typed);
@@ -304,7 +336,7 @@ impl Validation<'_> {
     }
 }
 
-/// The shipped file of `kind` read through its type from the JSON form a run uses, and
+/// The shipped file of `kind` read through its type from the value tree a run uses, and
 /// from its TOML with its `check()`, as a house file would be: for the test that proves
 /// every shipped table usable (a run does not check shipped tables again).
 pub fn check_shipped(kind: &TableType) -> Result<(), Diagnostic> {
@@ -323,14 +355,35 @@ pub fn check_shipped_as<T: for<'de> Deserialize<'de>>(
     as_house.read::<T>(check).map(|_| ())
 }
 
-/// The shipped file `id` as a run reads it (JSON) and as a house file (TOML, checked).
+/// The shipped file of `kind` read into its type as a run reads it (from the value tree
+/// build.rs wrote) and as the TOML parser reads its text, each written out with `{:#?}`:
+/// for the test that holds the two readings equal, floats to the last bit.
+pub fn shipped_readings(kind: &TableType) -> Result<(String, String), Diagnostic> {
+    let (as_run, as_house) = shipped_files(kind.id)?;
+    Ok((
+        (kind.shown)(&(kind.read)(&as_run)?),
+        (kind.shown)(&(kind.read)(&as_house)?),
+    ))
+}
+
+/// [`shipped_readings`] for one type read under several ids (the end-product standards).
+pub fn shipped_readings_as<T: for<'de> Deserialize<'de> + std::fmt::Debug>(
+    id: &str,
+) -> Result<(String, String), Diagnostic> {
+    let (as_run, as_house) = shipped_files(id)?;
+    let as_run = as_run.read::<T>(|_| Ok(()))?;
+    let as_house = as_house.read::<T>(|_| Ok(()))?;
+    Ok((format!("{as_run:#?}"), format!("{as_house:#?}")))
+}
+
+/// The shipped file `id` as a run reads it (its value tree) and as a house file (TOML,
+/// checked).
 fn shipped_files(id: &str) -> Result<(TableFile, TableFile), Diagnostic> {
     let Some(rule) = super::SHIPPED_RULES.iter().find(|r| r.id == id) else {
         return Err(missing(id));
     };
-    let source = || Source::new(format!("rules/{}", rule.name), rule.text);
     Ok((
-        TableFile::new(source(), Some(rule)),
-        TableFile::new(source(), None),
+        TableFile::shipped(rule),
+        TableFile::house(Source::new(rule.path, rule.text)),
     ))
 }

@@ -82,7 +82,7 @@ fn shipped_check_expressions_and_messages_name_existing_fields() {
         } else {
             fields.item_prefix(check.over.path())
         };
-        let mut texts: Vec<String> = vec![check.message.clone()];
+        let mut texts: Vec<String> = vec![check.message.to_string()];
         for cond in [check.applies.as_ref(), Some(&check.condition)]
             .into_iter()
             .flatten()

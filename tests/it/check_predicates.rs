@@ -305,3 +305,109 @@ source = "invented for the tests"
     assert!(err.contains("did you mean \"creepage_mm\"?"), "{err}");
     assert!(err.contains("`message` at line 12"), "{err}");
 }
+
+/// The checks' context leaves out the report fields no shipped check reads
+/// (`checks::UNREAD_BY_SHIPPED_CHECKS`): no shipped check names one, in a condition, an
+/// `over` path, or inside the tags of its message or subject (prose outside the tags may
+/// say "derivation"; it reads nothing).
+#[test]
+fn no_shipped_check_reads_a_field_the_checks_context_leaves_out() {
+    use gapwarden::checks::UNREAD_BY_SHIPPED_CHECKS as OMITTED;
+    use gapwarden::rules::Cond;
+    let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
+    assert_eq!(gapwarden::checks::context_omits(&rules), OMITTED);
+    // Every word of a text: a field name can only be read by being written.
+    let words = |text: &str| -> Vec<String> {
+        text.split(|c: char| !(c.is_alphanumeric() || c == '_'))
+            .filter(|w| !w.is_empty())
+            .map(str::to_string)
+            .collect()
+    };
+    // The text inside `{{ }}` and `{% %}` tags of a template.
+    let tags = |template: &str| -> String {
+        let mut inside = String::new();
+        let mut rest = template;
+        while let Some(open) = rest.find(['{']) {
+            let after = &rest[open + 1..];
+            let close = match after.chars().next() {
+                Some('{') => "}}",
+                Some('%') => "%}",
+                _ => {
+                    rest = after;
+                    continue;
+                }
+            };
+            let end = after.find(close).expect("every tag is closed");
+            inside.push_str(&after[1..end]);
+            inside.push(' ');
+            rest = &after[end + 2..];
+        }
+        inside
+    };
+    let mut read = 0;
+    for check in &rules.checks {
+        let mut names: Vec<String> = check.over.parts().map(str::to_string).collect();
+        for cond in check.applies.iter().chain([&check.condition]) {
+            match cond {
+                Cond::Predicate(p) => {
+                    let mut fields = Vec::new();
+                    p.fields(&mut fields);
+                    names.extend(
+                        fields
+                            .into_iter()
+                            .flat_map(|(f, _)| f.parts.into_iter().map(String::from)),
+                    );
+                }
+                Cond::Expression(e) => names.extend(words(e)),
+            }
+        }
+        names.extend(words(check.subject.as_deref().unwrap_or("")));
+        names.extend(words(&tags(&check.message)));
+        read += names.len();
+        for name in OMITTED {
+            assert!(
+                !names.iter().any(|n| n == name),
+                "shipped check {} reads `{name}`, which the checks' context leaves out",
+                check.id
+            );
+        }
+    }
+    assert!(
+        read > 500,
+        "only {read} names were read from the shipped checks"
+    );
+}
+
+/// Leaving those fields out changes no finding and no count of judged and raised items, on
+/// every fixture and example that evaluates.
+#[test]
+fn the_checks_context_without_unread_fields_raises_the_same_findings() {
+    use gapwarden::checks::{context, context_omits, run_checks};
+    let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
+    let mut files = Vec::new();
+    project_files(&root().join("tests/fixtures"), &mut files);
+    project_files(&root().join("examples"), &mut files);
+    let mut compared = 0;
+    for path in &files {
+        let Ok(text) = std::fs::read_to_string(path) else {
+            continue;
+        };
+        let source = gapwarden::diag::Source::new(path.display().to_string(), text);
+        let Ok(report) = gapwarden::report::figures(&source, &rules) else {
+            continue;
+        };
+        let outcome = |omit: &[&'static str]| {
+            let (findings, checks) = run_checks(&rules, &context(&report, omit))
+                .unwrap_or_else(|p| panic!("{}: the checks run: {p}", path.display()));
+            serde_json::to_value((findings, checks)).expect("findings serialise")
+        };
+        assert_eq!(
+            outcome(context_omits(&rules)),
+            outcome(&[]),
+            "{}",
+            path.display()
+        );
+        compared += 1;
+    }
+    assert!(compared >= 30, "only {compared} reports were compared");
+}

@@ -2,7 +2,7 @@
 //! read what it printed. Each test file uses the ones it needs.
 #![allow(dead_code)]
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::Output;
 
 use assert_cmd::cargo::cargo_bin_cmd;
@@ -111,5 +111,21 @@ pub fn spacing_refusal(q: &SpacingQuery) -> String {
             r.required_clearance_mm, r.required_creepage_mm
         ),
         Err(p) => p.to_string(),
+    }
+}
+
+/// Every `.toml` file under `dir`, in a stable order.
+pub fn project_files(dir: &Path, out: &mut Vec<PathBuf>) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
+    paths.sort();
+    for path in paths {
+        if path.is_dir() {
+            project_files(&path, out);
+        } else if path.extension().is_some_and(|e| e == "toml") {
+            out.push(path);
+        }
     }
 }

@@ -19,6 +19,7 @@ mod fuzz;
 mod gerber_macros;
 mod invariants;
 mod isolation_parts;
+mod json_writer;
 mod native_page;
 mod output_snapshots;
 mod positions;

@@ -5,30 +5,12 @@
 //! be the same to the byte. A change to the layout is made in both places; this test says
 //! where they part.
 
-use std::path::{Path, PathBuf};
-
 use gapwarden::diag::Source;
 use gapwarden::report::view::Page;
 use gapwarden::report::{MarkdownOptions, Templates, Writer, check_source, render_page_with};
 use gapwarden::rules::RuleBook;
 
-use crate::common::root;
-
-/// Every `.toml` file under `dir`, in a stable order.
-fn project_files(dir: &Path, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        return;
-    };
-    let mut paths: Vec<PathBuf> = entries.filter_map(|e| e.ok().map(|e| e.path())).collect();
-    paths.sort();
-    for path in paths {
-        if path.is_dir() {
-            project_files(&path, out);
-        } else if path.extension().is_some_and(|e| e == "toml") {
-            out.push(path);
-        }
-    }
-}
+use crate::common::{project_files, root};
 
 /// The first line where two texts differ, with the line before it, for the failure message.
 fn first_difference(native: &str, templates: &str) -> String {

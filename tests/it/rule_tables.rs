@@ -1,6 +1,7 @@
 //! The rule book's tables: every type that implements `rules::Table` (found by build.rs,
 //! listed in `rules::TABLE_TYPES`) reads and checks its shipped file, as the run reads it
-//! (JSON) and as a house file would be (TOML, checked); every shipped table file has a type;
+//! (from the value tree build.rs wrote) and as a house file would be (TOML, checked), the
+//! two readings equal; every shipped table file has a type;
 //! a house table is checked when the rule book is loaded, whether or not a design asks for
 //! it; a missing table is a clear error. Nothing here takes a figure from `rules/`: the
 //! tables' values are checked in `check_values.rs` and `standards.rs` against their sources.
@@ -24,6 +25,25 @@ fn every_end_product_standard_table_reads_and_checks_its_shipped_file() {
         if let Err(d) = table::check_shipped_as::<StandardTable>(id, StandardTable::check) {
             panic!("{id}: {d}");
         }
+    }
+}
+
+/// A run reads a shipped table from the value tree build.rs wrote, not from its TOML: the
+/// typed table must be the one the TOML parser makes of the file, every float to the last
+/// bit (`{:?}` writes each so that it reads back as the same `f64`).
+#[test]
+fn every_shipped_table_reads_from_its_tree_as_from_its_toml() {
+    for kind in TABLE_TYPES {
+        let (as_run, as_toml) = table::shipped_readings(kind)
+            .unwrap_or_else(|d| panic!("{} ({}): {d}", kind.id, kind.name));
+        assert!(as_toml.len() > 100, "{}: {as_toml}", kind.id);
+        assert_eq!(as_run, as_toml, "{} ({})", kind.id, kind.name);
+    }
+    for id in StandardRules::IDS {
+        let (as_run, as_toml) =
+            table::shipped_readings_as::<StandardTable>(id).unwrap_or_else(|d| panic!("{id}: {d}"));
+        assert!(as_toml.contains("rows"), "{id}: {as_toml}");
+        assert_eq!(as_run, as_toml, "{id}");
     }
 }
 

@@ -1,0 +1,634 @@
+//! The JSON writer: any `Serialize` value as pretty-printed JSON, in the layout of
+//! serde_json's pretty printer (two-space indent, `"key": value`, `[]` and `{}` when empty,
+//! numbers through serde_json's own number formatting) with gapwarden's two changes: a
+//! negative zero prints as 0 (a figure of "-0.0" reads as a sign error), and every
+//! character a terminal would act on or that hides or reorders text (see
+//! `text::is_hazardous`) is a `\uXXXX` escape. JSON readers decode an escape to the same
+//! character, so the data are unchanged; only what a terminal sees is.
+//!
+//! Written here rather than as a serde_json formatter because serde_json looks at every
+//! byte of every string through a table before a formatter sees it; this writer skips
+//! the plain runs eight bytes at a time. `tests/it/report_layout.rs` holds it to
+//! serde_json's output on every fixture and on generated strings.
+
+use std::fmt::Display;
+
+use serde::ser::{self, Serialize};
+use serde_json::ser::{CompactFormatter, Formatter};
+
+/// The value as pretty-printed JSON, without a final newline.
+pub fn pretty<T: Serialize + ?Sized>(value: &T) -> Result<String, Error> {
+    let mut writer = Writer {
+        out: Vec::with_capacity(1 << 16),
+        depth: 0,
+    };
+    value.serialize(&mut writer)?;
+    // Only whole strings and ASCII punctuation were written.
+    String::from_utf8(writer.out).map_err(|e| Error(e.to_string()))
+}
+
+/// Why a value could not be written (a map key that is not a string or a number, or a
+/// value's own serialisation error).
+#[derive(Debug)]
+pub struct Error(String);
+
+impl Display for Error {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+impl std::error::Error for Error {}
+
+impl ser::Error for Error {
+    fn custom<T: Display>(msg: T) -> Self {
+        Error(msg.to_string())
+    }
+}
+
+struct Writer {
+    out: Vec<u8>,
+    /// Containers open around the next value.
+    depth: usize,
+}
+
+impl Writer {
+    fn newline(&mut self) {
+        // A newline and two spaces a level, from one run of spaces while it lasts.
+        const LINE: &[u8; 65] =
+            b"\n                                                                ";
+        let indent = 2 * self.depth;
+        match LINE.get(..1 + indent) {
+            Some(line) => self.out.extend_from_slice(line),
+            None => {
+                self.out.extend_from_slice(LINE);
+                self.out
+                    .resize(self.out.len() + indent + 1 - LINE.len(), b' ');
+            }
+        }
+    }
+
+    fn open(&mut self, bracket: u8) -> Compound<'_> {
+        self.out.push(bracket);
+        self.depth += 1;
+        Compound {
+            writer: self,
+            first: true,
+            closing: &[],
+        }
+    }
+
+    fn string(&mut self, s: &str) {
+        let out = &mut self.out;
+        let bytes = s.as_bytes();
+        let plain = crate::text::json_plain_run(bytes);
+        out.reserve(bytes.len() + 2);
+        out.push(b'"');
+        if plain == bytes.len() {
+            // Most strings (every key): nothing to escape.
+            out.extend_from_slice(bytes);
+            out.push(b'"');
+            return;
+        }
+        let (mut copied, mut i) = (0, plain);
+        while let Some(&b) = bytes.get(i) {
+            let escape: &[u8] = match b {
+                b'"' => b"\\\"",
+                b'\\' => b"\\\\",
+                b'\n' => b"\\n",
+                b'\r' => b"\\r",
+                b'\t' => b"\\t",
+                0x08 => b"\\b",
+                0x0c => b"\\f",
+                0x00..=0x1f | 0x7f => b"",
+                _ => {
+                    // Beyond ASCII: kept as written unless hazardous.
+                    let Some(c) = s[i..].chars().next() else {
+                        break;
+                    };
+                    if crate::text::is_hazardous(c) {
+                        out.extend_from_slice(&bytes[copied..i]);
+                        let mut units = [0u16; 2];
+                        for &mut unit in c.encode_utf16(&mut units) {
+                            unicode_escape(out, unit);
+                        }
+                        copied = i + c.len_utf8();
+                    }
+                    i += c.len_utf8();
+                    i += crate::text::json_plain_run(&bytes[i..]);
+                    continue;
+                }
+            };
+            out.extend_from_slice(&bytes[copied..i]);
+            if escape.is_empty() {
+                unicode_escape(out, u16::from(b));
+            } else {
+                out.extend_from_slice(escape);
+            }
+            i += 1;
+            copied = i;
+            i += crate::text::json_plain_run(&bytes[i..]);
+        }
+        out.extend_from_slice(&bytes[copied..]);
+        out.push(b'"');
+    }
+
+    fn number(&mut self, write: impl FnOnce(&mut Vec<u8>) -> std::io::Result<()>) {
+        // Writing to a Vec cannot fail.
+        let _ = write(&mut self.out);
+    }
+
+    fn float(&mut self, v: f64) {
+        if v.is_finite() {
+            self.number(|w| CompactFormatter.write_f64(w, if v == 0.0 { 0.0 } else { v }));
+        } else {
+            self.out.extend_from_slice(b"null");
+        }
+    }
+}
+
+/// `\u00e9`: four lowercase hex digits, as serde_json writes them.
+fn unicode_escape(out: &mut Vec<u8>, unit: u16) {
+    const HEX: &[u8; 16] = b"0123456789abcdef";
+    out.extend_from_slice(b"\\u");
+    for shift in [12, 8, 4, 0] {
+        out.push(HEX[usize::from((unit >> shift) & 0xf)]);
+    }
+}
+
+/// An open array or object (`closing` holds what a variant's wrapping object still needs).
+struct Compound<'a> {
+    writer: &'a mut Writer,
+    first: bool,
+    closing: &'static [u8],
+}
+
+impl Compound<'_> {
+    fn item(&mut self) {
+        if !self.first {
+            self.writer.out.push(b',');
+        }
+        self.first = false;
+        self.writer.newline();
+    }
+
+    fn key(&mut self, key: &str) {
+        self.item();
+        self.writer.string(key);
+        self.writer.out.extend_from_slice(b": ");
+    }
+
+    fn close(self, bracket: u8) {
+        let Compound {
+            writer,
+            first,
+            closing,
+        } = self;
+        writer.depth -= 1;
+        if !first {
+            writer.newline();
+        }
+        writer.out.push(bracket);
+        if !closing.is_empty() {
+            // The object round a variant: `{"Variant": [...]}` or `{"Variant": {...}}`.
+            writer.depth -= 1;
+            writer.newline();
+            writer.out.extend_from_slice(closing);
+        }
+    }
+}
+
+/// `{ "variant": ` before a variant's content, as serde_json writes an externally tagged
+/// enum.
+fn open_variant<'a>(writer: &'a mut Writer, variant: &str, bracket: u8) -> Compound<'a> {
+    writer.out.push(b'{');
+    writer.depth += 1;
+    writer.newline();
+    writer.string(variant);
+    writer.out.extend_from_slice(b": ");
+    let mut inner = writer.open(bracket);
+    inner.closing = b"}";
+    inner
+}
+
+macro_rules! integers {
+    ($($method:ident $ty:ty => $write:ident),* $(,)?) => {
+        $(fn $method(self, v: $ty) -> Result<(), Error> {
+            self.number(|w| CompactFormatter.$write(w, v));
+            Ok(())
+        })*
+    };
+}
+
+impl<'a> ser::Serializer for &'a mut Writer {
+    type Ok = ();
+    type Error = Error;
+    type SerializeSeq = Compound<'a>;
+    type SerializeTuple = Compound<'a>;
+    type SerializeTupleStruct = Compound<'a>;
+    type SerializeTupleVariant = Compound<'a>;
+    type SerializeMap = Compound<'a>;
+    type SerializeStruct = Compound<'a>;
+    type SerializeStructVariant = Compound<'a>;
+
+    fn serialize_bool(self, v: bool) -> Result<(), Error> {
+        self.out
+            .extend_from_slice(if v { b"true" as &[u8] } else { b"false" });
+        Ok(())
+    }
+
+    integers! {
+        serialize_i8 i8 => write_i8,
+        serialize_i16 i16 => write_i16,
+        serialize_i32 i32 => write_i32,
+        serialize_i64 i64 => write_i64,
+        serialize_i128 i128 => write_i128,
+        serialize_u8 u8 => write_u8,
+        serialize_u16 u16 => write_u16,
+        serialize_u32 u32 => write_u32,
+        serialize_u64 u64 => write_u64,
+        serialize_u128 u128 => write_u128,
+    }
+
+    fn serialize_f32(self, v: f32) -> Result<(), Error> {
+        if v.is_finite() {
+            self.number(|w| CompactFormatter.write_f32(w, if v == 0.0 { 0.0 } else { v }));
+        } else {
+            self.out.extend_from_slice(b"null");
+        }
+        Ok(())
+    }
+
+    fn serialize_f64(self, v: f64) -> Result<(), Error> {
+        self.float(v);
+        Ok(())
+    }
+
+    fn serialize_char(self, v: char) -> Result<(), Error> {
+        self.string(v.encode_utf8(&mut [0u8; 4]));
+        Ok(())
+    }
+
+    fn serialize_str(self, v: &str) -> Result<(), Error> {
+        self.string(v);
+        Ok(())
+    }
+
+    fn serialize_bytes(self, v: &[u8]) -> Result<(), Error> {
+        use ser::SerializeSeq;
+        let mut seq = self.serialize_seq(Some(v.len()))?;
+        for b in v {
+            seq.serialize_element(b)?;
+        }
+        seq.end()
+    }
+
+    fn serialize_none(self) -> Result<(), Error> {
+        self.serialize_unit()
+    }
+
+    fn serialize_some<T: Serialize + ?Sized>(self, value: &T) -> Result<(), Error> {
+        value.serialize(self)
+    }
+
+    fn serialize_unit(self) -> Result<(), Error> {
+        self.out.extend_from_slice(b"null");
+        Ok(())
+    }
+
+    fn serialize_unit_struct(self, _name: &'static str) -> Result<(), Error> {
+        self.serialize_unit()
+    }
+
+    fn serialize_unit_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        variant: &'static str,
+    ) -> Result<(), Error> {
+        self.string(variant);
+        Ok(())
+    }
+
+    fn serialize_newtype_struct<T: Serialize + ?Sized>(
+        self,
+        _name: &'static str,
+        value: &T,
+    ) -> Result<(), Error> {
+        value.serialize(self)
+    }
+
+    fn serialize_newtype_variant<T: Serialize + ?Sized>(
+        self,
+        _name: &'static str,
+        _index: u32,
+        variant: &'static str,
+        value: &T,
+    ) -> Result<(), Error> {
+        let mut object = self.open(b'{');
+        object.key(variant);
+        value.serialize(&mut *object.writer)?;
+        object.close(b'}');
+        Ok(())
+    }
+
+    fn serialize_seq(self, _len: Option<usize>) -> Result<Compound<'a>, Error> {
+        Ok(self.open(b'['))
+    }
+
+    fn serialize_tuple(self, len: usize) -> Result<Compound<'a>, Error> {
+        self.serialize_seq(Some(len))
+    }
+
+    fn serialize_tuple_struct(
+        self,
+        _name: &'static str,
+        len: usize,
+    ) -> Result<Compound<'a>, Error> {
+        self.serialize_seq(Some(len))
+    }
+
+    fn serialize_tuple_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        variant: &'static str,
+        _len: usize,
+    ) -> Result<Compound<'a>, Error> {
+        Ok(open_variant(self, variant, b'['))
+    }
+
+    fn serialize_map(self, _len: Option<usize>) -> Result<Compound<'a>, Error> {
+        Ok(self.open(b'{'))
+    }
+
+    fn serialize_struct(self, _name: &'static str, _len: usize) -> Result<Compound<'a>, Error> {
+        Ok(self.open(b'{'))
+    }
+
+    fn serialize_struct_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        variant: &'static str,
+        _len: usize,
+    ) -> Result<Compound<'a>, Error> {
+        Ok(open_variant(self, variant, b'{'))
+    }
+}
+
+impl ser::SerializeSeq for Compound<'_> {
+    type Ok = ();
+    type Error = Error;
+
+    fn serialize_element<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+        self.item();
+        value.serialize(&mut *self.writer)
+    }
+
+    fn end(self) -> Result<(), Error> {
+        self.close(b']');
+        Ok(())
+    }
+}
+
+/// Tuples of every kind are written as arrays, like sequences.
+macro_rules! as_sequence {
+    ($($trait:ident::$add:ident),* $(,)?) => {
+        $(impl ser::$trait for Compound<'_> {
+            type Ok = ();
+            type Error = Error;
+
+            fn $add<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+                ser::SerializeSeq::serialize_element(self, value)
+            }
+
+            fn end(self) -> Result<(), Error> {
+                ser::SerializeSeq::end(self)
+            }
+        })*
+    };
+}
+
+as_sequence! {
+    SerializeTuple::serialize_element,
+    SerializeTupleStruct::serialize_field,
+    SerializeTupleVariant::serialize_field,
+}
+
+impl ser::SerializeMap for Compound<'_> {
+    type Ok = ();
+    type Error = Error;
+
+    fn serialize_key<T: Serialize + ?Sized>(&mut self, key: &T) -> Result<(), Error> {
+        self.item();
+        key.serialize(KeyWriter(&mut *self.writer))?;
+        self.writer.out.extend_from_slice(b": ");
+        Ok(())
+    }
+
+    fn serialize_value<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+        value.serialize(&mut *self.writer)
+    }
+
+    fn end(self) -> Result<(), Error> {
+        self.close(b'}');
+        Ok(())
+    }
+}
+
+/// Structs and struct variants are written as objects of their fields.
+macro_rules! as_object {
+    ($($trait:ident),* $(,)?) => {
+        $(impl ser::$trait for Compound<'_> {
+            type Ok = ();
+            type Error = Error;
+
+            fn serialize_field<T: Serialize + ?Sized>(
+                &mut self,
+                key: &'static str,
+                value: &T,
+            ) -> Result<(), Error> {
+                self.key(key);
+                value.serialize(&mut *self.writer)
+            }
+
+            fn end(self) -> Result<(), Error> {
+                self.close(b'}');
+                Ok(())
+            }
+        })*
+    };
+}
+
+as_object!(SerializeStruct, SerializeStructVariant);
+
+/// A map key: JSON keys are strings, so a number is written in quotes, as serde_json does.
+struct KeyWriter<'a>(&'a mut Writer);
+
+impl KeyWriter<'_> {
+    fn quoted(self, write: impl FnOnce(&mut Vec<u8>) -> std::io::Result<()>) -> Result<(), Error> {
+        self.0.out.push(b'"');
+        self.0.number(write);
+        self.0.out.push(b'"');
+        Ok(())
+    }
+}
+
+fn key_must_be_a_string() -> Error {
+    Error("key must be a string".to_string())
+}
+
+/// Key kinds JSON has no string form for.
+macro_rules! refused {
+    ($($method:ident($ty:ty)),* $(,)?) => {
+        $(fn $method(self, _v: $ty) -> Result<(), Error> {
+            Err(key_must_be_a_string())
+        })*
+    };
+}
+
+macro_rules! quoted_integers {
+    ($($method:ident $ty:ty => $write:ident),* $(,)?) => {
+        $(fn $method(self, v: $ty) -> Result<(), Error> {
+            self.quoted(|w| CompactFormatter.$write(w, v))
+        })*
+    };
+}
+
+impl ser::Serializer for KeyWriter<'_> {
+    type Ok = ();
+    type Error = Error;
+    type SerializeSeq = ser::Impossible<(), Error>;
+    type SerializeTuple = ser::Impossible<(), Error>;
+    type SerializeTupleStruct = ser::Impossible<(), Error>;
+    type SerializeTupleVariant = ser::Impossible<(), Error>;
+    type SerializeMap = ser::Impossible<(), Error>;
+    type SerializeStruct = ser::Impossible<(), Error>;
+    type SerializeStructVariant = ser::Impossible<(), Error>;
+
+    fn serialize_str(self, v: &str) -> Result<(), Error> {
+        self.0.string(v);
+        Ok(())
+    }
+
+    fn serialize_char(self, v: char) -> Result<(), Error> {
+        self.0.string(v.encode_utf8(&mut [0u8; 4]));
+        Ok(())
+    }
+
+    fn serialize_bool(self, v: bool) -> Result<(), Error> {
+        self.0.string(if v { "true" } else { "false" });
+        Ok(())
+    }
+
+    quoted_integers! {
+        serialize_i8 i8 => write_i8,
+        serialize_i16 i16 => write_i16,
+        serialize_i32 i32 => write_i32,
+        serialize_i64 i64 => write_i64,
+        serialize_i128 i128 => write_i128,
+        serialize_u8 u8 => write_u8,
+        serialize_u16 u16 => write_u16,
+        serialize_u32 u32 => write_u32,
+        serialize_u64 u64 => write_u64,
+        serialize_u128 u128 => write_u128,
+    }
+
+    refused! {
+        serialize_f32(f32),
+        serialize_f64(f64),
+        serialize_bytes(&[u8]),
+    }
+
+    fn serialize_none(self) -> Result<(), Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_some<T: Serialize + ?Sized>(self, _value: &T) -> Result<(), Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_unit(self) -> Result<(), Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_unit_struct(self, _name: &'static str) -> Result<(), Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_unit_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        variant: &'static str,
+    ) -> Result<(), Error> {
+        self.serialize_str(variant)
+    }
+
+    fn serialize_newtype_struct<T: Serialize + ?Sized>(
+        self,
+        _name: &'static str,
+        value: &T,
+    ) -> Result<(), Error> {
+        value.serialize(self)
+    }
+
+    fn serialize_newtype_variant<T: Serialize + ?Sized>(
+        self,
+        _name: &'static str,
+        _index: u32,
+        _variant: &'static str,
+        _value: &T,
+    ) -> Result<(), Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_seq(self, _len: Option<usize>) -> Result<Self::SerializeSeq, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_tuple(self, _len: usize) -> Result<Self::SerializeTuple, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_tuple_struct(
+        self,
+        _name: &'static str,
+        _len: usize,
+    ) -> Result<Self::SerializeTupleStruct, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_tuple_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        _variant: &'static str,
+        _len: usize,
+    ) -> Result<Self::SerializeTupleVariant, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_map(self, _len: Option<usize>) -> Result<Self::SerializeMap, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_struct(
+        self,
+        _name: &'static str,
+        _len: usize,
+    ) -> Result<Self::SerializeStruct, Error> {
+        Err(key_must_be_a_string())
+    }
+
+    fn serialize_struct_variant(
+        self,
+        _name: &'static str,
+        _index: u32,
+        _variant: &'static str,
+        _len: usize,
+    ) -> Result<Self::SerializeStructVariant, Error> {
+        Err(key_must_be_a_string())
+    }
+}
