@@ -150,7 +150,7 @@ impl RuleBook {
 /// A rule file on its way in: where it came from, and whether it holds checks.
 struct Loaded {
     id: Text,
-    from: From,
+    from: Whence,
     /// The file's path inside its rules folder (`checks/barrier.toml`): no machine path.
     file: Text,
     is_checks: bool,
@@ -158,7 +158,7 @@ struct Loaded {
 
 /// A shipped file as build.rs prepared it (value tree, SHA-256, header, checks), read in
 /// place; or a house file's text.
-enum From {
+enum Whence {
     Shipped(&'static shipped::ShippedRule),
     House(Source),
 }
@@ -167,15 +167,15 @@ impl Loaded {
     /// The file as messages name it.
     fn name(&self) -> Text {
         match &self.from {
-            From::Shipped(rule) => Cow::Borrowed(rule.path),
-            From::House(source) => Cow::Owned(source.name.clone()),
+            Whence::Shipped(rule) => Cow::Borrowed(rule.path),
+            Whence::House(source) => Cow::Owned(source.name.clone()),
         }
     }
 
     fn origin(&self) -> &'static str {
         match self.from {
-            From::Shipped(_) => "shipped",
-            From::House(_) => "house",
+            Whence::Shipped(_) => "shipped",
+            Whence::House(_) => "house",
         }
     }
 }
@@ -213,7 +213,7 @@ impl RuleBook {
         for rule in SHIPPED_RULES {
             files.push(Loaded {
                 id: Cow::Borrowed(rule.id),
-                from: From::Shipped(rule),
+                from: Whence::Shipped(rule),
                 file: Cow::Borrowed(rule.name),
                 is_checks: rule.is_checks,
             });
@@ -266,7 +266,7 @@ impl RuleBook {
             let is_checks = header.check.is_some();
             let loaded = Loaded {
                 id: Cow::Owned(id),
-                from: From::House(source),
+                from: Whence::House(source),
                 file: Cow::Owned(file),
                 is_checks,
             };
@@ -281,14 +281,14 @@ impl RuleBook {
         let mut info = Vec::with_capacity(files.len());
         for l in &files {
             let (title, source, provenance, sha256, text) = match &l.from {
-                From::Shipped(rule) => (
+                Whence::Shipped(rule) => (
                     Cow::Borrowed(rule.title),
                     Cow::Borrowed(rule.source),
                     Cow::Borrowed(rule.provenance),
                     Cow::Borrowed(rule.sha256),
                     Cow::Borrowed(rule.text),
                 ),
-                From::House(s) => match toml::from_str::<Header>(&s.text) {
+                Whence::House(s) => match toml::from_str::<Header>(&s.text) {
                     Ok(h) => (
                         Cow::Owned(h.title),
                         Cow::Owned(h.source),
@@ -313,8 +313,8 @@ impl RuleBook {
         let mut tables = TableStore::default();
         for l in files.iter().filter(|l| !l.is_checks) {
             let file = match &l.from {
-                From::Shipped(rule) => TableFile::shipped(rule),
-                From::House(source) => TableFile::house(source.clone()),
+                Whence::Shipped(rule) => TableFile::shipped(rule),
+                Whence::House(source) => TableFile::house(source.clone()),
             };
             tables.insert(l.id.clone(), file);
         }
@@ -333,7 +333,7 @@ impl RuleBook {
             .iter()
             .filter(|l| l.is_checks)
             .map(|l| match &l.from {
-                From::Shipped(rule) => check_defs::CheckSource {
+                Whence::Shipped(rule) => check_defs::CheckSource {
                     house: None,
                     text: rule.text,
                     path: Cow::Borrowed(rule.path),
@@ -341,7 +341,7 @@ impl RuleBook {
                     origin: "shipped",
                     shipped: Some(rule.checks),
                 },
-                From::House(source) => check_defs::CheckSource {
+                Whence::House(source) => check_defs::CheckSource {
                     house: Some(source),
                     text: &source.text,
                     path: Cow::Owned(source.name.clone()),
@@ -360,16 +360,16 @@ impl RuleBook {
         let mut retired: Vec<Retired> = Vec::new();
         for l in files.iter().filter(|l| !l.is_checks) {
             let list = match &l.from {
-                From::Shipped(s) if s.values.get("retired").is_some() => s
+                Whence::Shipped(s) if s.values.get("retired").is_some() => s
                     .values
                     .read::<RetiredList>()
                     .map_err(|e| Diagnostic::new(s.path, e.to_string())),
-                From::Shipped(_) => continue,
-                From::House(source) if source.text.contains("retired") => {
+                Whence::Shipped(_) => continue,
+                Whence::House(source) if source.text.contains("retired") => {
                     toml::from_str::<RetiredList>(&source.text)
                         .map_err(|e| toml_problem(source, &e, ""))
                 }
-                From::House(_) => continue,
+                Whence::House(_) => continue,
             };
             match list {
                 Ok(list) => retired.extend(list.retired),
