@@ -22,7 +22,7 @@ use super::render::{anchor_html, link_text, md_escape_to, signed};
 use super::view::{self, Place, View};
 use crate::checks::Severity;
 use crate::derivation::Verdict;
-use crate::text::{figure, round_figures};
+use crate::text::{round_figures, write_figure};
 
 /// The page's Markdown before the preamble and tidying, as `report.md.j2` writes it.
 pub(super) fn write(report: &Report, view: &View) -> String {
@@ -81,7 +81,7 @@ impl Md<'_> {
 
     /// A figure, to four significant digits.
     fn fig(&mut self, x: f64) {
-        self.out.push_str(&figure(x));
+        write_figure(&mut self.out, x);
     }
 
     /// A figure, or "not declared" where there is none (the formatter's word for null).
