@@ -44,7 +44,7 @@ fn marker(c: char) -> String {
 
 /// How many bytes at the start of `bytes` are printable ASCII (0x20 to 0x7e), looked at
 /// eight at a time: the runs between line ends and non-ASCII characters of a report.
-fn printable_ascii_run(bytes: &[u8]) -> usize {
+pub(crate) fn printable_ascii_run(bytes: &[u8]) -> usize {
     // The word tricks: `(x - n) & !x & HIGH` is non-zero exactly when some byte of `x`
     // (all below 0x80) is below `n`; DEL is the byte that `^ 0x7f` makes zero.
     let stops = |w: u64| {
@@ -72,6 +72,48 @@ pub(crate) fn json_plain_run(bytes: &[u8]) -> usize {
         (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
     })
 }
+
+/// How many bytes at the start of `bytes` Markdown escaping copies as they are: printable
+/// ASCII (0x20 to 0x7e) other than `` \ ` * _ [ ] < > | & # ``, looked at eight at a time.
+pub(crate) fn markdown_plain_run(bytes: &[u8]) -> usize {
+    // As in `json_plain_run`. For a word of ASCII bytes adding `0x80 - n` to each sets a
+    // byte's high bit exactly when it is at least `n` (no carry leaves a byte); a word with
+    // a byte beyond ASCII stops anyway. The ranges take in `^`, `}` and `~` too: a word
+    // holding one is looked at byte by byte, and the count stays exact.
+    let equal = |w: u64, b: u8| {
+        let x = w ^ (b as u64 * ONES);
+        x.wrapping_sub(ONES) & !x
+    };
+    let at_least = |w: u64, n: u8| w.wrapping_add((0x80 - n as u64) * ONES);
+    let stops = |w: u64| {
+        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
+        // `[ \ ] ^ _ `` (0x5b to 0x60), and `| } ~` with DEL (0x7c up).
+        let brackets = at_least(w, 0x5b) & !at_least(w, 0x61);
+        let bar_up = at_least(w, 0x7c);
+        let signs =
+            equal(w, b'#') | equal(w, b'&') | equal(w, b'*') | equal(w, b'<') | equal(w, b'>');
+        (w | below_space | brackets | bar_up | signs) & HIGH != 0
+    };
+    run_while(bytes, stops, |b| MARKDOWN_PLAIN[b as usize])
+}
+
+/// Which bytes [`markdown_plain_run`] counts, for its byte-by-byte part: printable ASCII
+/// other than the Markdown characters that escaping changes.
+const MARKDOWN_PLAIN: [bool; 256] = {
+    let mut plain = [false; 256];
+    let mut b = 0x20;
+    while b < 0x7f {
+        plain[b] = true;
+        b += 1;
+    }
+    let special = b"\\`*_[]<>|&#";
+    let mut k = 0;
+    while k < special.len() {
+        plain[special[k] as usize] = false;
+        k += 1;
+    }
+    plain
+};
 
 /// Bytes of every 64-bit word, and their high bits, for the word tricks below.
 const ONES: u64 = 0x0101_0101_0101_0101;
@@ -612,6 +654,24 @@ mod tests {
                 let expected = if plain { 17 } else { position };
                 assert_eq!(
                     json_plain_run(&text),
+                    expected,
+                    "byte {byte:#04x} at {position}"
+                );
+            }
+        }
+    }
+
+    /// As for the printable run: every byte value at every position of a 17-byte text.
+    #[test]
+    fn the_markdown_plain_run_stops_at_markdown_characters_controls_and_non_ascii() {
+        for position in 0..17 {
+            for byte in 0..=255u8 {
+                let mut text = vec![b'a'; 17];
+                text[position] = byte;
+                let plain = (0x20..0x7f).contains(&byte) && !br"\`*_[]<>|&#".contains(&byte);
+                let expected = if plain { 17 } else { position };
+                assert_eq!(
+                    markdown_plain_run(&text),
                     expected,
                     "byte {byte:#04x} at {position}"
                 );
