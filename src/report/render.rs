@@ -306,13 +306,45 @@ pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(
     text: &str,
     out: &mut W,
 ) -> std::fmt::Result {
+    escape_to(text, out, false)
+}
+
+/// `md_escape(&round_figures(text))` in one pass, written to `out`: a value of the page
+/// (the templates' formatter). Rounding changes only numbers, into digits, a point and a
+/// sign, which escaping leaves be; so each number is rounded where the scan meets it.
+pub(super) fn md_escape_rounded_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+) -> std::fmt::Result {
+    escape_to(text, out, true)
+}
+
+fn escape_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+    round: bool,
+) -> std::fmt::Result {
     let bytes = text.as_bytes();
     let mut copied = 0;
     let mut i = 0;
     loop {
-        i += crate::text::markdown_plain_run(&bytes[i..]);
+        i += if round {
+            crate::text::markdown_prose_run(&bytes[i..])
+        } else {
+            crate::text::markdown_plain_run(&bytes[i..])
+        };
         if i >= bytes.len() {
             break;
+        }
+        if round && bytes[i].is_ascii_digit() {
+            let (end, figure) = crate::text::figure_at(text, i);
+            if let Some(x) = figure {
+                out.write_str(&text[copied..i])?;
+                out.write_str(&crate::text::figure(x))?;
+                copied = end;
+            }
+            i = end;
+            continue;
         }
         let Some(c) = text[i..].chars().next() else {
             break;
@@ -389,9 +421,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             }
             // Figures inside prose (derivations, messages) are rounded as the report's own
             // figures are; ids and names go through the `id` filter, which leaves them be.
-            ValueKind::String => {
-                md_escape_to(&round_figures(value.as_str().unwrap_or_default()), out)?
-            }
+            ValueKind::String => md_escape_rounded_to(value.as_str().unwrap_or_default(), out)?,
             ValueKind::Number => out.write_str(&report_number(value))?,
             ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,
             _ => out.write_str(&md_escape(&value.to_string()))?,
@@ -847,6 +877,22 @@ mod tests {
             }
         }
         out
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(4000))]
+
+        /// Prose of numbers of every length (with points, signs and units), Markdown
+        /// characters, ids and non-ASCII: rounding while escaping writes what rounding and
+        /// then escaping write.
+        #[test]
+        fn escaping_with_rounding_agrees_with_rounding_then_escaping(
+            text in "([0-9]{1,8}|[0-9]{1,6}\\.[0-9]{1,7}|-|\\.|,|:| |Hz|V|mm|µF|A²s|CY|\\(|=|_|/|#|\\*|\\||<|\\\\|`|\\[|\\]|\n|\x1b|\u{202e}|é|x){0,40}"
+        ) {
+            let mut fused = String::new();
+            md_escape_rounded_to(&text, &mut fused).unwrap();
+            proptest::prop_assert_eq!(fused, md_escape(&round_figures(&text)));
+        }
     }
 
     /// The page tidied as first written, in three passes: blank lines, carriage returns,

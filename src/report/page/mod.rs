@@ -18,11 +18,11 @@ use std::fmt::Display;
 use std::fmt::Write as _;
 
 use super::Report;
-use super::render::{anchor_html, link_text, md_escape_to, signed};
+use super::render::{anchor_html, link_text, md_escape_rounded_to, md_escape_to, signed};
 use super::view::{self, Place, View};
 use crate::checks::Severity;
 use crate::derivation::Verdict;
-use crate::text::{round_figures, write_figure};
+use crate::text::write_figure;
 
 /// The page's Markdown before the preamble and tidying, as `report.md.j2` writes it.
 pub(super) fn write(report: &Report, view: &View) -> String {
@@ -71,7 +71,7 @@ impl Md<'_> {
     /// A string value: figures in it rounded, then escaped (the templates' formatter).
     fn text(&mut self, value: &str) {
         // Writing to a String cannot fail.
-        let _ = md_escape_to(&round_figures(value), &mut self.out);
+        let _ = md_escape_rounded_to(value, &mut self.out);
     }
 
     /// A name or id from the project file: escaped, never rounded (the `id` filter).
