@@ -128,6 +128,12 @@ impl<'a> Iterator for Styled<'a> {
     fn next(&mut self) -> Option<Event<'a>> {
         while self.out.is_empty() {
             let event = self.events.next()?;
+            // Most events (text, paragraphs, emphasis, rows) pass as they are: only what
+            // `style` changes or counts goes through it.
+            if passes_through(&event, self.at_cell_start) {
+                self.at_cell_start = false;
+                return Some(event);
+            }
             if !matches!(event, Event::Start(Tag::Table(_))) {
                 self.style(event, 0);
                 continue;
@@ -152,6 +158,19 @@ impl<'a> Iterator for Styled<'a> {
             self.table = table;
         }
         self.out.pop_front()
+    }
+}
+
+/// Whether `style` would pass `event` on unchanged, its only effect to end a cell's or
+/// item's start (its last arm): anything but raw HTML, a task marker, a table's, cell's or
+/// item's start or end, and the text that opens a cell or item.
+fn passes_through(event: &Event, at_cell_start: bool) -> bool {
+    match event {
+        Event::Html(_) | Event::InlineHtml(_) | Event::TaskListMarker(_) => false,
+        Event::Start(Tag::Table(_) | Tag::TableCell | Tag::Item) => false,
+        Event::End(TagEnd::Table | TagEnd::TableCell | TagEnd::Item) => false,
+        Event::Text(_) => !at_cell_start,
+        _ => true,
     }
 }
 

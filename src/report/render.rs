@@ -679,8 +679,7 @@ pub fn render_page_with(
     let text = if writer == Writer::Native && !templates.any_house() {
         let report = with_templates(report, templates);
         let view = view::build(&report, page, options);
-        let text = super::page::write(&report, &view);
-        finish(&report, &text)
+        tidy(&super::page::write(&report, &view, &preamble(&report)))
     } else {
         interpret(report, templates, page, options)?
     };
@@ -690,10 +689,14 @@ pub fn render_page_with(
 /// The page's text with the preamble, blank lines tidied, line breaks as `\n`, and no
 /// control or bidi character left visible only to a machine.
 fn finish(report: &Report, text: &str) -> String {
-    let text = insert_preamble(text, &preamble(report));
-    match tidy_plain(&text) {
+    tidy(&insert_preamble(text, &preamble(report)))
+}
+
+/// As [`finish`], for a page that has its preamble already.
+fn tidy(text: &str) -> String {
+    match tidy_plain(text) {
         Some(tidied) => tidied,
-        None => tidy_and_show(&text),
+        None => tidy_and_show(text),
     }
 }
 

@@ -24,13 +24,14 @@ use crate::checks::Severity;
 use crate::derivation::Verdict;
 use crate::text::write_figure;
 
-/// The page's Markdown before the preamble and tidying, as `report.md.j2` writes it.
-pub(super) fn write(report: &Report, view: &View) -> String {
+/// The page's Markdown before tidying, as `report.md.j2` writes it, with `preamble` after
+/// the title (where the template's page gets it from `render::finish`).
+pub(super) fn write(report: &Report, view: &View, preamble: &str) -> String {
     let mut md = Md {
         out: String::with_capacity(64 * 1024),
         view,
     };
-    title(&mut md, report);
+    title(&mut md, report, preamble);
     open_items(&mut md, report);
     insulation::barriers(&mut md, report);
     insulation::strength_tests(&mut md, report);
@@ -190,9 +191,12 @@ fn present(value: &Option<String>) -> Option<&str> {
     value.as_deref().filter(|s| !s.is_empty())
 }
 
-fn title(md: &mut Md, r: &Report) {
+fn title(md: &mut Md, r: &Report, preamble: &str) {
     md.s("# Pre-review checklist: ");
     md.id(&r.design.name);
+    // The name is escaped, so it holds no line break: this is the end of the first line.
+    md.s("\n\n");
+    md.s(preamble);
     md.s("\n\nRevision ");
     match present(&r.design.revision) {
         Some(rev) => md.id(rev),
