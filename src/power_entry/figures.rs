@@ -919,6 +919,8 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     let mut points = Vec::new();
     let mut figures = Vec::new();
     let mut hold_up = None;
+    // Low and high line at the same frequency sample the same sine.
+    let mut grids = rectifier::SourceGrids::default();
     for (name, v_rms, f) in [
         ("low-line", b.mains.min_v, b.mains.min_frequency_hz),
         ("high-line", b.mains.max_v, b.mains.max_frequency_hz),
@@ -931,7 +933,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             load_w,
             diode_drop_v: b.drop_v,
         };
-        let s = rectifier::steady_state(&rect);
+        let s = rectifier::steady_state_sharing(&rect, &mut grids);
         let ok = |x: f64| (s.sustained && x.is_finite()).then_some(significant(x));
         let point = OperatingPoint {
             name: name.to_string(),
