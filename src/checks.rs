@@ -314,7 +314,7 @@ fn items_of(over: &Over, report: &Value) -> Vec<Value> {
     if over.is_report() {
         return vec![Value::UNDEFINED];
     }
-    let parts: Vec<String> = over.parts().map(str::to_string).collect();
+    let parts: Vec<&str> = over.parts().collect();
     let Some(value) = crate::rules::predicate::resolve(report, &parts) else {
         return Vec::new();
     };
