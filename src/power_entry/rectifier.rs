@@ -306,7 +306,9 @@ fn solve(
                 };
             }
             half_cycles += 1;
-            sim.run(start, &mut tally, recorder).is_ok().then_some(tally)
+            sim.run(start, &mut tally, recorder)
+                .is_ok()
+                .then_some(tally)
         }
     };
     let tally = tally.map(|t| sim.settle(t));
@@ -981,7 +983,10 @@ mod tests {
         }
         eprintln!("{sustained} sustained, {refined} refined");
         // The walk must exercise the search, not only collapses.
-        assert!(sustained >= 100 && refined >= 50, "{sustained} sustained, {refined} refined");
+        assert!(
+            sustained >= 100 && refined >= 50,
+            "{sustained} sustained, {refined} refined"
+        );
     }
 
     #[test]
@@ -989,10 +994,7 @@ mod tests {
         // Low and high line of each design at one frequency, then the other way round,
         // each pair sharing its grids (the second point builds none).
         for r in designs().into_iter().take(16) {
-            let high = Rectifier {
-                v_rms: 264.0,
-                ..r
-            };
+            let high = Rectifier { v_rms: 264.0, ..r };
             for order in [[r, high], [high, r]] {
                 let mut grids = SourceGrids::default();
                 for point in order {

@@ -2,8 +2,8 @@
 //! for the tests): every figure of the fast implementation must equal this one to the bit.
 
 use super::{
-    ENERGY_TOLERANCE, MAX_HALF_CYCLES, MAX_STEPS_PER_HALF_CYCLE, Rectifier,
-    STEADY_STATE_TOLERANCE, STEPS_PER_HALF_CYCLE, SteadyState, Waveform,
+    ENERGY_TOLERANCE, MAX_HALF_CYCLES, MAX_STEPS_PER_HALF_CYCLE, Rectifier, STEADY_STATE_TOLERANCE,
+    STEPS_PER_HALF_CYCLE, SteadyState, Waveform,
 };
 
 const COLLAPSE_FRACTION: f64 = 0.01;
