@@ -24,25 +24,39 @@ fn is_anchor(text: &str) -> bool {
         })
 }
 
-/// The class of a table cell or list item that starts with a verdict's symbol.
-fn verdict_class(text: &str) -> Option<&'static str> {
+/// The opening tag of the span that colours a table cell or list item starting with a
+/// verdict's symbol (its class `v-pass`, `v-fail`, ...).
+fn verdict_span(text: &str) -> Option<&'static str> {
     let mut chars = text.chars();
-    let class = match chars.next()? {
-        '✓' => "pass",
-        '✗' => "fail",
-        '⚠' => "check",
-        '○' => "incomplete",
-        '?' => "not-judged",
+    let span = match chars.next()? {
+        '✓' => "<span class=\"v v-pass\">",
+        '✗' => "<span class=\"v v-fail\">",
+        '⚠' => "<span class=\"v v-check\">",
+        '○' => "<span class=\"v v-incomplete\">",
+        '?' => "<span class=\"v v-not-judged\">",
         _ => return None,
     };
-    (chars.next() == Some(' ')).then_some(class)
+    (chars.next() == Some(' ')).then_some(span)
 }
 
+/// Text for an HTML attribute or element: `&`, `<`, `>` and `"` as entities, in one pass.
 fn escape(text: &str) -> String {
-    text.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
+    let mut out = String::with_capacity(text.len());
+    let mut copied = 0;
+    for (i, b) in text.bytes().enumerate() {
+        let entity = match b {
+            b'&' => "&amp;",
+            b'<' => "&lt;",
+            b'>' => "&gt;",
+            b'"' => "&quot;",
+            _ => continue,
+        };
+        out.push_str(&text[copied..i]);
+        out.push_str(entity);
+        copied = i + 1;
+    }
+    out.push_str(&text[copied..]);
+    out
 }
 
 /// A table of at most this many body rows is kept whole on a printed page; a longer one
@@ -240,32 +254,26 @@ impl<'a> Styled<'a> {
             // A cell's verdict is coloured to the cell's end; an item's badge only.
             Event::Text(text) if self.at_cell_start => {
                 self.at_cell_start = false;
-                match verdict_class(&text) {
-                    Some(class) if self.in_item => {
-                        out.push_back(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
+                match verdict_span(&text) {
+                    Some(span) if self.in_item => {
+                        out.push_back(Event::InlineHtml(span.into()));
                         out.push_back(Event::Text(text));
                         out.push_back(Event::InlineHtml("</span>".into()));
                     }
                     // The symbol alone (its word follows in bold): coloured to the cell's end.
-                    Some(class) if text.trim_end().chars().count() == 1 => {
+                    Some(span) if text.trim_end().chars().count() == 1 => {
                         self.verdict_open = true;
-                        out.push_back(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
+                        out.push_back(Event::InlineHtml(span.into()));
                         out.push_back(Event::Text(text));
                     }
                     // The symbol and its word, then perhaps a remark in brackets: only the
                     // verdict is coloured.
-                    Some(class) => {
+                    Some(span) => {
                         let (verdict, rest) = match text.find(" (") {
                             Some(at) => text.split_at(at),
                             None => (&*text, ""),
                         };
-                        out.push_back(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
+                        out.push_back(Event::InlineHtml(span.into()));
                         out.push_back(Event::Text(verdict.to_string().into()));
                         out.push_back(Event::InlineHtml("</span>".into()));
                         if !rest.is_empty() {
@@ -421,3 +429,46 @@ figure.chart svg { max-width: 100%; height: auto; }
   td > code:only-child { width: 22ch; }
 }
 "#;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(2000))]
+
+        /// The one-pass escaping writes what four replacements in a row write.
+        #[test]
+        fn escaping_in_one_pass_agrees_with_four_replacements(
+            text in "([a-z -]{0,6}|&|<|>|\"|'|&amp;|µ|✓){0,20}"
+        ) {
+            let replaced = text
+                .replace('&', "&amp;")
+                .replace('<', "&lt;")
+                .replace('>', "&gt;")
+                .replace('"', "&quot;");
+            proptest::prop_assert_eq!(escape(&text), replaced);
+        }
+    }
+
+    /// Each verdict's symbol, then a space, opens the span of its class; anything else none.
+    #[test]
+    fn a_verdict_symbol_opens_the_span_of_its_class() {
+        assert_eq!(verdict_span("✓ pass"), Some("<span class=\"v v-pass\">"));
+        assert_eq!(
+            verdict_span("✗ **FAIL**"),
+            Some("<span class=\"v v-fail\">")
+        );
+        assert_eq!(verdict_span("⚠ check"), Some("<span class=\"v v-check\">"));
+        assert_eq!(
+            verdict_span("○ incomplete"),
+            Some("<span class=\"v v-incomplete\">")
+        );
+        assert_eq!(
+            verdict_span("? not judged"),
+            Some("<span class=\"v v-not-judged\">")
+        );
+        assert_eq!(verdict_span("✓pass"), None);
+        assert_eq!(verdict_span("pass"), None);
+    }
+}
