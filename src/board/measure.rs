@@ -145,6 +145,16 @@ pub struct Index<'b> {
     chunk_box: Vec<Bbox>,
     chunk_grid: Grid,
     rim_grid: Grid,
+    /// Which of the later prunings the search uses (all, except in tests that compare
+    /// with the search without them).
+    prune: Prune,
+}
+
+/// Prunings that a test may switch off, to compare the figures with and without.
+#[derive(Clone, Copy)]
+struct Prune {
+    /// Cells inside convex cut-outs hold no surface (`Cells::mark_void`).
+    void_cells: bool,
 }
 
 struct Obstacles {
@@ -324,6 +334,7 @@ impl<'b> Index<'b> {
             chunk_box,
             chunk_grid,
             rim_grid,
+            prune: Prune { void_cells: true },
         };
         index.find_inside();
         index
@@ -556,7 +567,14 @@ impl<'b> Index<'b> {
                 st.heap.push(Entry::new(0.0, i as u32, 0));
             }
         }
-        let mut cells = Cells::new(all, self.segs.len(), layers, self.layers.len(), obstacles);
+        let mut cells = Cells::new(
+            all,
+            self.segs.len(),
+            layers,
+            self.layers.len(),
+            obstacles,
+            self.prune.void_cells,
+        );
         let mut target = None;
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
@@ -1163,6 +1181,12 @@ fn ring_mm(k: u32) -> f64 {
 const OPEN: u32 = 0;
 /// `Cells::sides` of a cell whose part on the surface may not be convex.
 const SHUT: u32 = u32::MAX;
+/// `Cells::sides` of a cell that no hop passes through (inside a convex cut-out, away
+/// from its edges; see `Cells::mark_void`).
+const VOID: u32 = u32::MAX - 1;
+/// A cell within this of a cut-out's edges is not `VOID`: more than twice `ON_EDGE_MM`
+/// (how far inside a cut-out a hop that `Obstacles::visible` lets through may pass).
+const VOID_MARGIN_MM: f64 = 1e-6;
 
 /// A coarse map of the board for one search: per searched layer and cell, a distance
 /// within which settled copper (or a corner) reaches the cell's centre: copper touching
@@ -1204,6 +1228,7 @@ impl Cells {
         layers: &[usize],
         n_layers: usize,
         obstacles: Option<&Obstacles>,
+        void_cells: bool,
     ) -> Cells {
         let w = (all.max[0] - all.min[0]).max(1e-3);
         let ht = (all.max[1] - all.min[1]).max(1e-3);
@@ -1238,6 +1263,9 @@ impl Cells {
         };
         if let Some(o) = obstacles {
             cells.mark_edges(o);
+            if void_cells {
+                cells.mark_void(o);
+            }
         }
         cells
     }
@@ -1307,6 +1335,58 @@ impl Cells {
                 }
                 None => SHUT,
             };
+        }
+    }
+
+    /// Marks `VOID` the cells that lie inside a convex cut-out (walked round) and farther
+    /// than `VOID_MARGIN_MM` from every obstacle edge. No hop passes through such a cell,
+    /// so `dominated` need not find an `x` there (nor an edge that hides it):
+    ///
+    /// `Obstacles::visible` cuts a hop at the points where it touches edges; a piece
+    /// between two such points crosses no edge, so it lies wholly on one side of each
+    /// ring. A piece inside the cut-out `C` is let through only where its midpoint `m` is
+    /// within `ON_EDGE_MM` of `C`'s edges. In a convex polygon the distance to the border
+    /// is a concave function, so along the piece it is at most twice its value at `m`
+    /// (for a point `t` between an end `a` and `m`, `m` lies between `t` and the other end
+    /// `b`: `f(m) >= f(t) |mb| / |tb| >= f(t) / 2`). Every point of a hop inside `C` is
+    /// therefore within `2 ON_EDGE_MM < VOID_MARGIN_MM` of `C`'s edges, never in a `VOID`
+    /// cell. A cell that no edge comes within the margin of, with its centre inside `C`,
+    /// lies wholly inside `C` (it is connected and meets no edge of `C`).
+    fn mark_void(&mut self, o: &Obstacles) {
+        for (ring, bb, outer) in &o.rings {
+            if *outer || !is_convex(ring) {
+                continue;
+            }
+            let x0 = self.index(bb.min[0], self.origin[0], self.nx);
+            let x1 = self.index(bb.max[0], self.origin[0], self.nx);
+            let y0 = self.index(bb.min[1], self.origin[1], self.ny);
+            let y1 = self.index(bb.max[1], self.origin[1], self.ny);
+            for y in y0..=y1 {
+                for x in x0..=x1 {
+                    let c = y * self.nx + x;
+                    if self.sides[c] != OPEN {
+                        continue;
+                    }
+                    let rect = self.rect(x, y);
+                    let centre = [
+                        (rect.min[0] + rect.max[0]) / 2.0,
+                        (rect.min[1] + rect.max[1]) / 2.0,
+                    ];
+                    if !bb.contains(centre)
+                        || !g::point_in_rings(centre, std::slice::from_ref(ring))
+                    {
+                        continue;
+                    }
+                    let near = rect.grown(VOID_MARGIN_MM);
+                    let touched = o.edge_grid.query_until(&near, |k| {
+                        let (a, b) = o.edges[k as usize];
+                        near.meets_segment(a, b)
+                    });
+                    if !touched {
+                        self.sides[c] = VOID;
+                    }
+                }
+            }
         }
     }
 
@@ -1548,6 +1628,8 @@ impl Cells {
                 let reached = match self.sides.get(c).copied().unwrap_or(OPEN) {
                     OPEN => min[c] + self.slack,
                     SHUT => f64::INFINITY,
+                    // No hop passes through the cell (`mark_void`): it holds no `x`.
+                    VOID => continue,
                     k => self.through_side(min, x, y, &self.halves[k as usize - 1]),
                 };
                 if reached < below {
@@ -1567,6 +1649,25 @@ impl Cells {
         }
         true
     }
+}
+
+/// The ring is a convex polygon: it turns one way only (or runs straight) at every
+/// vertex, and once round in all (a ring that winds round twice turns one way too).
+fn is_convex(ring: &[P]) -> bool {
+    let n = ring.len();
+    if n < 3 {
+        return false;
+    }
+    let (mut left, mut right, mut turning) = (false, false, 0.0f64);
+    for k in 0..n {
+        let (a, b, c) = (ring[(k + n - 1) % n], ring[k], ring[(k + 1) % n]);
+        let (u, v) = (g::sub(b, a), g::sub(c, b));
+        let turn = g::cross(u, v);
+        left |= turn > 0.0;
+        right |= turn < 0.0;
+        turning += turn.atan2(g::dot(u, v));
+    }
+    !(left && right) && (turning.abs() - std::f64::consts::TAU).abs() < 1e-6
 }
 
 /// The point is in the closed half-plane given as a point on its border and a normal.
@@ -1720,5 +1821,137 @@ mod tests {
         assert!(Entry::new(1.0, 2, 9) > Entry::new(1.0, 3, 0));
         assert!(Entry::new(1.0, 2, 1) > Entry::new(1.0, 2, 2));
         assert_eq!(Entry::new(1.5, 7, 0x30005).parts(), (1.5, 7, 0x30005));
+    }
+
+    /// A generated board 30 by 20 mm: pads 0.3 to 0.7 mm wide on a 1 mm grid (net A left
+    /// of x = 10, B right of x = 20, a few of no net between), on either face or plated
+    /// through, and between the circuits a convex window and a slot walked round (X = 1)
+    /// and a narrow slot bridged. `seed` varies everything.
+    fn generated_board(seed: u64) -> Board {
+        let mut state = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut conductors = Vec::new();
+        for j in 0..20 {
+            for i in 0..30 {
+                let (x, y) = (i as f64 + 0.5, j as f64 + 0.5);
+                let net = if x < 10.0 {
+                    Net::Named("A".into())
+                } else if x > 20.0 {
+                    Net::Named("B".into())
+                } else if next() < 0.1 {
+                    Net::NoConnect
+                } else {
+                    continue;
+                };
+                if next() < 0.3 {
+                    continue;
+                }
+                let layer = match (next() * 3.0) as u32 {
+                    0 => Layer::Top,
+                    1 => Layer::Bottom,
+                    _ => Layer::Through,
+                };
+                let r = 0.15 + 0.2 * next();
+                let p = [x + 0.2 * (next() - 0.5), y + 0.2 * (next() - 0.5)];
+                conductors.push(super::super::Conductor {
+                    layer,
+                    net,
+                    shape: Shape::Segs(vec![Seg { a: p, b: p, r }]),
+                    file: 0,
+                    line: 0,
+                });
+            }
+        }
+        let stadium = |a: P, b: P, w: f64| -> Vec<P> {
+            let d = g::sub(b, a);
+            let angle = d[1].atan2(d[0]);
+            let mut ring = Vec::new();
+            for (centre, from) in [
+                (b, angle - std::f64::consts::FRAC_PI_2),
+                (a, angle + std::f64::consts::FRAC_PI_2),
+            ] {
+                for k in 0..=12 {
+                    let t = from + std::f64::consts::PI * k as f64 / 12.0;
+                    ring.push(g::add(centre, g::scale([t.cos(), t.sin()], w / 2.0)));
+                }
+            }
+            ring
+        };
+        let cutout = |ring: Vec<P>, w: f64| super::super::CutOut {
+            ring,
+            width_mm: Some(w),
+            file: 0,
+            line: 0,
+        };
+        let (wx, wy) = (11.0 + 3.0 * next(), 2.0 + 8.0 * next());
+        let window = vec![
+            [wx, wy],
+            [wx + 3.0 + next(), wy],
+            [wx + 3.0, wy + 5.0 + next()],
+            [wx, wy + 5.0],
+        ];
+        let sx = 16.0 + 3.0 * next();
+        let slot_w = 1.2 + 2.0 * next();
+        let (ny0, ny1) = (12.0 + 2.0 * next(), 16.0 + 3.0 * next());
+        let cutouts = vec![
+            cutout(window, 3.0),
+            cutout(
+                stadium(
+                    [sx, 1.0 + 3.0 * next()],
+                    [sx + 2.0 * (next() - 0.5), 9.0 + 6.0 * next()],
+                    slot_w,
+                ),
+                slot_w,
+            ),
+            cutout(stadium([15.0, ny0], [15.5, ny1], 0.6), 0.6),
+        ];
+        Board {
+            files: Vec::new(),
+            thickness_mm: 1.6,
+            conductors,
+            cutouts,
+            outline: vec![[-0.5, -0.5], [30.5, -0.5], [30.5, 20.5], [-0.5, 20.5]],
+            nets: ["A", "B"].iter().map(|n| n.to_string()).collect(),
+            unknown_net_objects: 0,
+        }
+    }
+
+    #[test]
+    fn cells_inside_a_convex_cut_out_change_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        let mut void_cells_seen = 0;
+        for seed in 0..16 {
+            let board = generated_board(seed);
+            let mut index = Index::new(&board);
+            let (o, _, _) = index.obstacles(1.0);
+            let all = Bbox::around(board.outline.iter().copied());
+            let cells = Cells::new(all, index.segs.len(), &[0, 1], 2, Some(&o), true);
+            void_cells_seen += cells.sides.iter().filter(|&&k| k == VOID).count();
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.void_cells = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+        }
+        // The cells are fine enough for the window and the wide slot to hold some.
+        assert!(void_cells_seen > 16, "{void_cells_seen} cells marked");
+    }
+
+    #[test]
+    fn only_a_ring_that_turns_one_way_once_round_is_convex() {
+        let square = vec![[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        assert!(is_convex(&square));
+        let clockwise: Vec<P> = square.iter().rev().copied().collect();
+        assert!(is_convex(&clockwise));
+        let notched = vec![[0.0, 0.0], [1.0, 0.0], [0.5, 0.2], [1.0, 1.0], [0.0, 1.0]];
+        assert!(!is_convex(&notched));
+        let twice: Vec<P> = square.iter().chain(square.iter()).copied().collect();
+        assert!(!is_convex(&twice));
     }
 }
