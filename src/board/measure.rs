@@ -155,6 +155,9 @@ pub struct Index<'b> {
 struct Prune {
     /// Cells inside convex cut-outs hold no surface (`Cells::mark_void`).
     void_cells: bool,
+    /// Clearance: runs of rim points wholly within a ring's inner radius are passed over
+    /// at once (each point would be).
+    inner_runs: bool,
 }
 
 struct Obstacles {
@@ -334,7 +337,10 @@ impl<'b> Index<'b> {
             chunk_box,
             chunk_grid,
             rim_grid,
-            prune: Prune { void_cells: true },
+            prune: Prune {
+                void_cells: true,
+                inner_runs: true,
+            },
         };
         index.find_inside();
         index
@@ -908,7 +914,6 @@ impl<'b> Index<'b> {
                 // A crossing point between two rim points is at most half a spacing from
                 // one: both faces' steps and this one together are at most two spacings
                 // longer than through the true crossing points.
-                let cost = |across: f64| (across.hypot(thickness) - 2.0 * RIM_SPACING_MM).max(0.0);
                 let t2 = thickness * thickness;
                 let reach = hi + 2.0 * RIM_SPACING_MM;
                 let hi2 = if reach > 0.0 { reach * reach } else { -1.0 };
@@ -1003,8 +1008,21 @@ impl<'b> Index<'b> {
                             if self.rim[s as usize].1 != ri {
                                 return;
                             }
-                            let near = self.chunk_box[c as usize].gap(&pb);
-                            if near * near + t2 > hi2 {
+                            // The run's nearest passage, by the same sums as each point's below
+                            // (no point's can come out smaller).
+                            let near2 = self.chunk_box[c as usize].gap_squared(&pb) + t2;
+                            if near2 > hi2 {
+                                return;
+                            }
+                            // A run whose farthest point is within the ring's inner radius
+                            // (the same sums as each point's below, which cannot exceed
+                            // them) has no passage in this ring.
+                            let bc = &self.chunk_box[c as usize];
+                            let far_corner = [
+                                (p[0] - bc.min[0]).abs().max((p[0] - bc.max[0]).abs()),
+                                (p[1] - bc.min[1]).abs().max((p[1] - bc.max[1]).abs()),
+                            ];
+                            if self.prune.inner_runs && g::dot(far_corner, far_corner) + t2 <= lo2 {
                                 return;
                             }
                             let c = c as usize;
@@ -1014,7 +1032,8 @@ impl<'b> Index<'b> {
                                     .map(|k| st.dist[rim0 + 2 * k as usize + o])
                                     .fold(0.0, f64::max);
                             }
-                            if d + cost(near) >= st.run_max[c][o] {
+                            let cost = (near2.sqrt() - 2.0 * RIM_SPACING_MM).max(0.0);
+                            if d + cost >= st.run_max[c][o] {
                                 return;
                             }
                             for k in s as usize..e as usize {
@@ -1614,7 +1633,13 @@ impl Cells {
             } else {
                 (1, 0)
             };
-            for x in (xa..=xb).filter(|x| !(sa..=sb).contains(x)) {
+            // The cells left and right of the inner range (not every cell, filtered).
+            let (left, right) = if sa <= sb {
+                (xa..=xb.min(sa - 1), xa.max(sb + 1)..=xb)
+            } else {
+                (xa..=xb, 1..=0)
+            };
+            for x in left.chain(right) {
                 let rect = self.rect(x, y);
                 if rect.gap_squared(bb) > rho * rho {
                     continue;
@@ -1941,6 +1966,19 @@ mod tests {
         }
         // The cells are fine enough for the window and the wide slot to hold some.
         assert!(void_cells_seen > 16, "{void_cells_seen} cells marked");
+    }
+
+    #[test]
+    fn passing_over_runs_inside_a_ring_changes_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        for seed in 100..116 {
+            let board = generated_board(seed);
+            let mut index = Index::new(&board);
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.inner_runs = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+        }
     }
 
     #[test]
