@@ -29,7 +29,8 @@
 //!   side of those edges stays on the surface, and the neighbour's value plus the longest
 //!   such line bounds it. A cell that one edge hides from the whole node (every line
 //!   from the node's box to the cell crosses the edge, not at its ends) holds no `x`: a
-//!   hop that crosses an edge is not on the surface.
+//!   hop that crosses an edge is not on the surface. Nor does a cell wholly inside a
+//!   convex cut-out (`Cells::mark_void`).
 //! - Passages down a rim (creepage, along the wall): the cost `hypot(s, thickness)` is
 //!   convex in the distance `s` along the rim, so once the rim point `s'` along has been
 //!   reached along this face at no more than `d + hypot(s', thickness) - thickness`,
@@ -48,7 +49,7 @@
 //! passage from one face to the other loses twice the rim's point spacing.
 
 use std::cmp::Ordering;
-use std::collections::{BTreeMap, BinaryHeap, HashMap};
+use std::collections::{BTreeMap, BinaryHeap, HashMap, VecDeque};
 
 use serde::Serialize;
 
@@ -835,10 +836,16 @@ impl<'b> Index<'b> {
                 if face_of(f) {
                     let (ids, grid) = &self.layers[f as usize];
                     let pb = Bbox { min: p, max: p };
+                    let far2 = (hi + tol) * (hi + tol);
                     grid.query(&pb.grown(hi + tol), |k| {
                         let sj = ids[k as usize] as usize;
                         let v = self.seg_owner[sj] as usize;
                         if st.dist[v] <= d {
+                            return;
+                        }
+                        // The box gap is a lower bound of the true gap.
+                        let lb2 = self.seg_box[sj].gap_squared(&pb);
+                        if lb2 > far2 || d + lb2.sqrt() - one >= st.dist[v] {
                             return;
                         }
                         let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
@@ -862,6 +869,9 @@ impl<'b> Index<'b> {
                         o.corner_grid.query(&pb.grown(hi), |k| {
                             let q = o.corners[k as usize];
                             let v = corner0 + 2 * k as usize + f as usize;
+                            if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
+                                return;
+                            }
                             let w = g::dist(p, q);
                             if v == ui || !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                 return;
@@ -882,6 +892,9 @@ impl<'b> Index<'b> {
                             self.rim_grid.query(&pb.grown(hi), |k| {
                                 let (q, _) = self.rim[k as usize];
                                 let v = rim0 + 2 * k as usize + f as usize;
+                                if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
+                                    return;
+                                }
                                 let w = g::dist(p, q);
                                 if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                     return;
@@ -1187,6 +1200,21 @@ impl State<'_> {
     }
 }
 
+/// Decides without a `hypot` what the exact test after it would (`w = g::dist(p, q)` not
+/// in the ring `(lo, hi]`, or `d + w >= reached`) where it is sure: the root of the sum of
+/// squares is within a few units in the last place of `hypot`, far inside the relative
+/// margin `SURE_RATIO`. The points it leaves are decided by the exact test as before.
+fn surely_no_hop(p: P, q: P, lo: f64, hi: f64, d: f64, reached: f64) -> bool {
+    let e = g::sub(p, q);
+    let w2 = g::dot(e, e);
+    (lo >= 0.0 && w2 < lo * lo * (1.0 - SURE_RATIO))
+        || w2 > hi * hi * (1.0 + SURE_RATIO)
+        || d + w2.sqrt() * (1.0 - SURE_RATIO) >= reached
+}
+
+/// See `surely_no_hop`.
+const SURE_RATIO: f64 = 1e-12;
+
 /// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
 fn ring_mm(k: u32) -> f64 {
     if k == 0 {
@@ -1236,8 +1264,12 @@ struct Cells {
     /// Two half-planes (the same one twice where one edge crosses the cell), each as a
     /// point on its border and a normal into the surface.
     halves: Vec<[(P, P); 2]>,
-    /// Values not yet spread: (value, cell, layer).
-    queue: BinaryHeap<Entry>,
+    /// Values not yet spread, as (value, cell, layer): those of copper and corners
+    /// reached (`seeds`) and those spread from a cell to its neighbours (`spread`). Each
+    /// queue is in order of value as it is filled (see `Cells::advance`), so the two are
+    /// taken together in order by comparing their fronts, without a heap.
+    seeds: VecDeque<(f64, u32, u32)>,
+    spread: VecDeque<(f64, u32, u32)>,
 }
 
 impl Cells {
@@ -1278,7 +1310,8 @@ impl Cells {
                 .collect(),
             sides: Vec::new(),
             halves: Vec::new(),
-            queue: BinaryHeap::new(),
+            seeds: VecDeque::new(),
+            spread: VecDeque::new(),
         };
         if let Some(o) = obstacles {
             cells.mark_edges(o);
@@ -1480,7 +1513,9 @@ impl Cells {
         best
     }
 
-    fn set(&mut self, l: usize, c: usize, v: f64) {
+    /// Lowers the cell's value to `v` and queues it, on `seeds` (a conductor or corner
+    /// reached) or on `spread` (from a neighbour).
+    fn set(&mut self, l: usize, c: usize, v: f64, seed: bool) {
         if self.sides.get(c).is_some_and(|&k| k != OPEN) {
             return;
         }
@@ -1488,24 +1523,46 @@ impl Cells {
             && v < *m
         {
             *m = v;
-            self.queue.push(Entry::new(v, c as u32, l as u32));
+            let queue = if seed {
+                &mut self.seeds
+            } else {
+                &mut self.spread
+            };
+            debug_assert!(queue.back().is_none_or(|b| b.0 <= v), "queue out of order");
+            queue.push_back((v, c as u32, l as u32));
         }
     }
 
     fn register(&mut self, l: usize, p: P, d: f64) {
         if let Some(c) = self.cell(p) {
-            self.set(l, c, d + self.half);
+            self.set(l, c, d + self.half, true);
         }
     }
 
-    /// Spreads every value up to `until` to the neighbouring cells.
+    /// Spreads every value up to `until` to the neighbouring cells, in order of value (a
+    /// Dijkstra search over the cells). Each queue is filled in order: a seed is the
+    /// search's current key plus half a cell, and the search's keys never fall; a spread
+    /// value is a taken value plus one cell, and values are taken in order. So the smaller
+    /// of the two fronts is the smallest value queued. (Equal values may come in another
+    /// order than a heap's; the values left after taking every one up to `until` do not
+    /// depend on it.)
     fn advance(&mut self, until: f64) {
-        while let Some(&entry) = self.queue.peek() {
-            let (v, c, l) = entry.parts();
+        loop {
+            let (seed, spread) = (self.seeds.front().copied(), self.spread.front().copied());
+            let ((v, c, l), from_seeds) = match (seed, spread) {
+                (Some(a), Some(b)) if b.0 < a.0 => (b, false),
+                (Some(a), _) => (a, true),
+                (None, Some(b)) => (b, false),
+                (None, None) => break,
+            };
             if v > until {
                 break;
             }
-            self.queue.pop();
+            if from_seeds {
+                self.seeds.pop_front();
+            } else {
+                self.spread.pop_front();
+            }
             let (c, l) = (c as usize, l as usize);
             if v > self.min[l][c] {
                 continue;
@@ -1513,16 +1570,16 @@ impl Cells {
             let (x, y) = (c % self.nx, c / self.nx);
             let nv = v + self.h;
             if x > 0 {
-                self.set(l, c - 1, nv);
+                self.set(l, c - 1, nv, false);
             }
             if x + 1 < self.nx {
-                self.set(l, c + 1, nv);
+                self.set(l, c + 1, nv, false);
             }
             if y > 0 {
-                self.set(l, c - self.nx, nv);
+                self.set(l, c - self.nx, nv, false);
             }
             if y + 1 < self.ny {
-                self.set(l, c + self.nx, nv);
+                self.set(l, c + self.nx, nv, false);
             }
         }
     }
@@ -1557,7 +1614,7 @@ impl Cells {
                     })
                 };
                 if touches {
-                    self.set(l, c, v);
+                    self.set(l, c, v, true);
                 }
             }
         }
@@ -1979,6 +2036,49 @@ mod tests {
             let without = index.measure(&a, &b, 1.0);
             assert_eq!(with, without, "seed {seed}");
         }
+    }
+
+    #[test]
+    fn a_hop_passed_over_without_its_root_fails_the_exact_test_too() {
+        let mut state = 7u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut passed_over = 0;
+        for i in 0..200_000 {
+            let k = (next() * 7.0) as u32;
+            let (lo, hi) = (
+                if k == 0 { -1.0 } else { ring_mm(k - 1) },
+                ring_mm(k.max(1)),
+            );
+            let p = [400.0 * next() - 200.0, 400.0 * next() - 200.0];
+            // Lengths right at the ring's bounds half the time, anywhere otherwise.
+            let length = match i % 4 {
+                0 => lo.max(0.0),
+                1 => hi,
+                _ => 2.0 * hi * next(),
+            };
+            let angle = std::f64::consts::TAU * next();
+            let q = g::add(p, g::scale([angle.cos(), angle.sin()], length));
+            let d = 30.0 * next();
+            let w = g::dist(p, q);
+            let reached = if i % 3 == 0 {
+                d + w
+            } else {
+                d + 2.0 * hi * next()
+            };
+            if surely_no_hop(p, q, lo, hi, d, reached) {
+                passed_over += 1;
+                assert!(
+                    !(w > lo && w <= hi) || d + w >= reached,
+                    "{p:?} {q:?} {lo} {hi}"
+                );
+            }
+        }
+        assert!(passed_over > 50_000, "{passed_over}");
     }
 
     #[test]
