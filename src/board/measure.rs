@@ -557,7 +557,7 @@ impl<'b> Index<'b> {
         let mut st = State {
             dist: vec![f64::INFINITY; total],
             pred: vec![None; total],
-            heap: BinaryHeap::new(),
+            queue: Queue::new(total),
             best: f64::INFINITY,
             n,
             is_b,
@@ -571,7 +571,7 @@ impl<'b> Index<'b> {
         for (i, &x) in is_a.iter().enumerate() {
             if x && self.on_any(i as u32, layers) {
                 st.dist[i] = 0.0;
-                st.heap.push(Entry::new(0.0, i as u32, 0));
+                st.queue.set(i as u32, 0.0);
             }
         }
         let mut cells = Cells::new(
@@ -590,7 +590,7 @@ impl<'b> Index<'b> {
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
         let face_of = |l: u8| layers.contains(&(l as usize));
 
-        while let Some(entry) = st.heap.pop() {
+        while let Some(entry) = st.queue.pop() {
             let (key, u, aux) = entry.parts();
             cells.advance(key);
             let ui = u as usize;
@@ -1083,7 +1083,8 @@ impl<'b> Index<'b> {
                 }
             }
             if hi_ring < cap && hi_ring < most {
-                st.heap
+                st.queue
+                    .rings
                     .push(Entry::new(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
         }
@@ -1162,7 +1163,7 @@ impl<'b> Index<'b> {
 struct State<'a> {
     dist: Vec<f64>,
     pred: Vec<Option<Pred>>,
-    heap: BinaryHeap<Entry>,
+    queue: Queue,
     /// The shortest distance to the second circuit found so far.
     best: f64,
     n: usize,
@@ -1182,7 +1183,7 @@ impl State<'_> {
             let old = self.dist[v];
             self.dist[v] = nd;
             self.pred[v] = Some(p);
-            self.heap.push(Entry::new(nd, v as u32, 0));
+            self.queue.set(v as u32, nd);
             if v >= self.rim0 && v < self.rimx0 {
                 // A run's largest distance changes only when it was this point's.
                 let (c, f) = (
@@ -1214,6 +1215,116 @@ fn surely_no_hop(p: P, q: P, lo: f64, hi: f64, d: f64, reached: f64) -> bool {
 
 /// See `surely_no_hop`.
 const SURE_RATIO: f64 = 1e-12;
+
+/// The search's queue: one entry per node reached and not yet taken, lowered in place
+/// when the node's distance falls (a binary heap that knows each node's place), and a
+/// heap of the rings of hops still to open. Both order as `Entry` does and no two entries
+/// are equal (a node's own entry has ring 0, a ring's entry more), so taking the greater
+/// of the two fronts gives the entries in the order one heap holding both would, less
+/// the stale entries a heap without lowering would hold and pass over.
+struct Queue {
+    /// Greatest `Entry` (smallest key) first; children of `i` at `2i + 1` and `2i + 2`.
+    nodes: Vec<Entry>,
+    /// Each node's index in `nodes`, `NOT_QUEUED` where it has none.
+    place: Vec<u32>,
+    rings: BinaryHeap<Entry>,
+}
+
+const NOT_QUEUED: u32 = u32::MAX;
+
+impl Queue {
+    fn new(nodes: usize) -> Queue {
+        Queue {
+            nodes: Vec::new(),
+            place: vec![NOT_QUEUED; nodes],
+            rings: BinaryHeap::new(),
+        }
+    }
+
+    /// Queues `node` at `key`, or lowers its queued key to `key`.
+    fn set(&mut self, node: u32, key: f64) {
+        let entry = Entry::new(key, node, 0);
+        let i = match self.place[node as usize] {
+            NOT_QUEUED => {
+                self.nodes.push(entry);
+                self.nodes.len() - 1
+            }
+            i => {
+                debug_assert!(entry >= self.nodes[i as usize], "a queued key only falls");
+                self.nodes[i as usize] = entry;
+                i as usize
+            }
+        };
+        self.sift_up(i);
+    }
+
+    fn pop(&mut self) -> Option<Entry> {
+        let node_first = match (self.nodes.first(), self.rings.peek()) {
+            (Some(a), Some(b)) => a > b,
+            (Some(_), None) => true,
+            (None, _) => false,
+        };
+        if !node_first {
+            return self.rings.pop();
+        }
+        let last = self.nodes.pop()?;
+        let top = match self.nodes.first_mut() {
+            Some(first) => {
+                let top = std::mem::replace(first, last);
+                self.sift_down(0);
+                top
+            }
+            None => last,
+        };
+        self.place[Queue::node(top)] = NOT_QUEUED;
+        Some(top)
+    }
+
+    fn node(entry: Entry) -> usize {
+        (entry.id >> 32) as usize
+    }
+
+    fn put(&mut self, i: usize, entry: Entry) {
+        self.nodes[i] = entry;
+        self.place[Queue::node(entry)] = i as u32;
+    }
+
+    fn sift_up(&mut self, mut i: usize) {
+        let entry = self.nodes[i];
+        while i > 0 {
+            let parent = (i - 1) / 2;
+            if self.nodes[parent] >= entry {
+                break;
+            }
+            self.put(i, self.nodes[parent]);
+            i = parent;
+        }
+        self.put(i, entry);
+    }
+
+    fn sift_down(&mut self, mut i: usize) {
+        let entry = self.nodes[i];
+        let n = self.nodes.len();
+        loop {
+            let left = 2 * i + 1;
+            if left >= n {
+                break;
+            }
+            let right = left + 1;
+            let child = if right < n && self.nodes[right] > self.nodes[left] {
+                right
+            } else {
+                left
+            };
+            if self.nodes[child] <= entry {
+                break;
+            }
+            self.put(i, self.nodes[child]);
+            i = child;
+        }
+        self.put(i, entry);
+    }
+}
 
 /// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
 fn ring_mm(k: u32) -> f64 {
@@ -2079,6 +2190,66 @@ mod tests {
             }
         }
         assert!(passed_over > 50_000, "{passed_over}");
+    }
+
+    #[test]
+    fn the_queue_gives_the_entries_a_heap_with_stale_entries_would() {
+        let mut state = 11u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let nodes = 300;
+        let mut queue = Queue::new(nodes);
+        let mut heap = BinaryHeap::new();
+        let mut dist = vec![f64::INFINITY; nodes];
+        let mut now = 0.0;
+        let mut taken = 0;
+        for step in 0..20_000 {
+            if step % 3 != 0 {
+                // Keys on a coarse grid, so that equal keys come often.
+                let v = (next() * nodes as f64) as usize;
+                let key = now + (next() * 8.0).floor() * 0.25;
+                if next() < 0.8 {
+                    if key < dist[v] {
+                        dist[v] = key;
+                        queue.set(v as u32, key);
+                        heap.push(Entry::new(key, v as u32, 0));
+                    }
+                } else {
+                    let ring = Entry::new(key, v as u32, 1 + (next() * 4.0) as u32);
+                    queue.rings.push(ring);
+                    heap.push(ring);
+                }
+                continue;
+            }
+            let expected = loop {
+                match heap.pop() {
+                    Some(e) => {
+                        let (key, v, aux) = e.parts();
+                        if aux == 0 && key > dist[v as usize] {
+                            continue;
+                        }
+                        break Some(e);
+                    }
+                    None => break None,
+                }
+            };
+            let got = queue.pop();
+            assert!(got == expected, "step {step}");
+            if let Some(e) = got {
+                let (key, v, aux) = e.parts();
+                now = key;
+                if aux == 0 {
+                    // Taken: a later key never lowers it again.
+                    dist[v as usize] = f64::NEG_INFINITY;
+                }
+                taken += 1;
+            }
+        }
+        assert!(taken > 2_000, "{taken}");
     }
 
     #[test]
