@@ -420,6 +420,17 @@ fn main() {
             panic!("cannot write the embedded file list {file}: {e}");
         }
     }
+    // The tool is linked at a fixed address (not position-independent): the loader then has
+    // no pointers to relocate at start, about 15,500 of them (the static rule trees, vtables),
+    // which cost a run about 0.2 million instructions and 70 of its 480 page faults (README,
+    // "Performance"). The price is that the executable's own code is not placed at a random
+    // address; the tool reads local files only and never the network. The examples are
+    // linked the same way, so that the parse-only baseline of `scripts/bench-process.sh`
+    // starts as cheaply and the comparison is of the work done.
+    if std::env::var("CARGO_CFG_TARGET_OS").as_deref() == Ok("linux") {
+        println!("cargo:rustc-link-arg-bins=-no-pie");
+        println!("cargo:rustc-link-arg-examples=-no-pie");
+    }
     println!("cargo:rerun-if-changed=rules");
     println!("cargo:rerun-if-changed=templates");
     println!("cargo:rerun-if-changed=src");

@@ -9,6 +9,16 @@ use serde::Serialize;
 use crate::diag::{Diagnostic, Problems};
 use crate::rules::{CheckDef, Cond, Over, RuleBook};
 
+pub mod message;
+
+/// How raised findings' messages are written: plain ones without the template engine
+/// (what a run does), or every one by the engine (what a test compares with).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Messages {
+    PlainWithoutEngine,
+    AllByEngine,
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, clap::ValueEnum)]
 pub enum Severity {
     Blocking,
@@ -156,11 +166,26 @@ pub fn run_checks(
     rules: &RuleBook,
     report: &Value,
 ) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
+    run_checks_with(rules, report, Messages::PlainWithoutEngine)
+}
+
+/// [`run_checks`], with the messages written as `messages` says.
+pub fn run_checks_with(
+    rules: &RuleBook,
+    report: &Value,
+    messages: Messages,
+) -> Result<(Vec<Finding>, Vec<CheckOutcome>), Problems> {
     let mut findings = Vec::new();
     let mut outcomes = Vec::new();
     let mut problems = Vec::new();
     for (index, check) in rules.checks.iter().enumerate() {
-        let result = run_one(&rules.compiled_checks, index, check, report, &mut findings);
+        let result = run_one(
+            &rules.compiled_checks,
+            (index, check),
+            report,
+            messages,
+            &mut findings,
+        );
         match result {
             Ok((judged, raised)) => outcomes.push(CheckOutcome {
                 id: check.id.to_string(),
@@ -190,9 +215,9 @@ pub fn run_checks(
 
 fn run_one(
     compiled: &CompiledChecks,
-    index: usize,
-    check: &CheckDef,
+    (index, check): (usize, &CheckDef),
     report: &Value,
+    messages: Messages,
     findings: &mut Vec<Finding>,
 ) -> Result<(usize, usize), String> {
     let items = items_of(&check.over, report);
@@ -237,11 +262,18 @@ fn run_one(
             continue;
         }
         raised += 1;
-        // Only a raised finding pays for its message and subject.
-        let ctx = ctx();
-        let text = render("message", &ctx)?.unwrap_or_default();
+        // Only a raised finding pays for its message and subject; a plain message is
+        // written without compiling it (see `message`).
+        let plain = match messages {
+            Messages::PlainWithoutEngine => message::render(&check.message, &item, report),
+            Messages::AllByEngine => None,
+        };
+        let text = match plain {
+            Some(text) => text,
+            None => render("message", &ctx())?.unwrap_or_default(),
+        };
         let subject = match &check.subject {
-            Some(_) => render("subject", &ctx)?.filter(|s| !s.is_empty()),
+            Some(_) => render("subject", &ctx())?.filter(|s| !s.is_empty()),
             None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
@@ -314,7 +346,7 @@ fn items_of(over: &Over, report: &Value) -> Vec<Value> {
     if over.is_report() {
         return vec![Value::UNDEFINED];
     }
-    let parts: Vec<String> = over.parts().map(str::to_string).collect();
+    let parts: Vec<&str> = over.parts().collect();
     let Some(value) = crate::rules::predicate::resolve(report, &parts) else {
         return Vec::new();
     };

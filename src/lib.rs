@@ -35,8 +35,14 @@ use std::path::Path;
 /// Lower-case hex SHA-256 of some bytes.
 pub fn sha256_hex(bytes: &[u8]) -> String {
     use sha2::{Digest, Sha256};
+    const HEX: &[u8; 16] = b"0123456789abcdef";
     let digest = Sha256::digest(bytes);
-    digest.iter().map(|b| format!("{b:02x}")).collect()
+    let mut hex = String::with_capacity(2 * digest.len());
+    for b in digest {
+        hex.push(char::from(HEX[usize::from(b >> 4)]));
+        hex.push(char::from(HEX[usize::from(b & 0xf)]));
+    }
+    hex
 }
 
 /// The largest input file gapwarden reads (project, house rule and template files): 16 MiB.
@@ -135,4 +141,21 @@ pub fn read_text(path: &Path, name: &str) -> Result<String, diag::Diagnostic> {
             )
         }
     })
+}
+
+#[cfg(test)]
+mod tests {
+    /// FIPS 180-2, Appendix B.1 and B.2: the SHA-256 of "abc" and of the 56-byte message,
+    /// in lower-case hex as reports print it.
+    #[test]
+    fn file_hashes_print_as_the_published_examples() {
+        assert_eq!(
+            super::sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+        assert_eq!(
+            super::sha256_hex(b"abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq"),
+            "248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1"
+        );
+    }
 }

@@ -52,7 +52,7 @@ fn printable_ascii_run(bytes: &[u8]) -> usize {
         let is_del = del.wrapping_sub(ONES) & !del;
         (w | below_space | is_del) & HIGH != 0
     };
-    run_while(bytes, stops, |b| (0x20..0x7f).contains(&b))
+    run_while::<false>(bytes, stops, |b| (0x20..0x7f).contains(&b))
 }
 
 /// How many bytes at the start of `bytes` a JSON string holds as they are: printable ASCII
@@ -67,7 +67,7 @@ pub(crate) fn json_plain_run(bytes: &[u8]) -> usize {
         let below_space = w.wrapping_sub(0x20 * ONES) & !w;
         (w | below_space | equal(w, 0x7f) | equal(w, b'"') | equal(w, b'\\')) & HIGH != 0
     };
-    run_while(bytes, stops, |b| {
+    run_while::<true>(bytes, stops, |b| {
         (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
     })
 }
@@ -79,8 +79,16 @@ const HIGH: u64 = 0x8080_8080_8080_8080;
 /// How many bytes at the start of `bytes` are `kept`, skipping eight at a time while
 /// `may_stop` is false for the word. `may_stop` may be true for a word whose bytes are all
 /// kept (that word is then looked at byte by byte), never false for one that holds a byte
-/// that is not: the count is exact either way.
-fn run_while(bytes: &[u8], may_stop: impl Fn(u64) -> bool, kept: impl Fn(u8) -> bool) -> usize {
+/// that is not: the count is exact either way. Every caller keeps the space ([`FILLER`]).
+///
+/// With `PAD_TAIL` the last few bytes are first tested as one padded word: worth it where a
+/// run usually reaches the end of its text (JSON strings), a loss where it usually stops
+/// before (prose, with line ends and digits).
+fn run_while<const PAD_TAIL: bool>(
+    bytes: &[u8],
+    may_stop: impl Fn(u64) -> bool,
+    kept: impl Fn(u8) -> bool,
+) -> usize {
     let mut i = 0;
     while let Some(chunk) = bytes
         .get(i..i + 8)
@@ -91,8 +99,23 @@ fn run_while(bytes: &[u8], may_stop: impl Fn(u64) -> bool, kept: impl Fn(u8) -> 
         }
         i += 8;
     }
-    i + bytes[i..].iter().take_while(|&&b| kept(b)).count()
+    let rest = &bytes[i..];
+    if PAD_TAIL && rest.len() < 8 {
+        // The last few bytes (most short strings are nothing else) as one word, padded with
+        // a byte every caller keeps: the same test decides them at once.
+        let mut word = [FILLER; 8];
+        word[..rest.len()].copy_from_slice(rest);
+        if !may_stop(u64::from_le_bytes(word)) {
+            return bytes.len();
+        }
+    }
+    i + rest.iter().take_while(|&&b| kept(b)).count()
 }
+
+/// The byte that pads the last word of a run: printable ASCII, not a digit, not a quote or
+/// a backslash, so kept by every run above and the word can pass. (Any byte would give the
+/// same count: one that a run stops at only sends the tail to the byte-by-byte reading.)
+const FILLER: u8 = b' ';
 
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
@@ -350,7 +373,7 @@ fn digit_free_run(bytes: &[u8]) -> usize {
         let from_colon = low.wrapping_add(0x46 * ONES) & HIGH;
         from_zero & !from_colon != 0
     };
-    run_while(bytes, may_hold_digit, |b| !b.is_ascii_digit())
+    run_while::<false>(bytes, may_hold_digit, |b| !b.is_ascii_digit())
 }
 
 /// The text with every figure of more than four significant digits rounded to four, for
@@ -576,6 +599,37 @@ mod tests {
                     expected,
                     "byte {byte:#04x} at {position}"
                 );
+            }
+        }
+    }
+
+    /// The three runs against a byte-by-byte reading on texts of every length up to 17
+    /// (no word, part of a word, one or two words and a tail), with every byte value at
+    /// every position: the padded last word decides a short tail exactly.
+    #[test]
+    fn every_run_is_exact_at_every_length() {
+        let runs: [(fn(&[u8]) -> usize, fn(u8) -> bool); 3] = [
+            (printable_ascii_run, |b| (0x20..0x7f).contains(&b)),
+            (json_plain_run, |b| {
+                (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
+            }),
+            (digit_free_run, |b| !b.is_ascii_digit()),
+        ];
+        for (run, kept) in runs {
+            for len in 0..=17 {
+                assert_eq!(run(&vec![b'a'; len]), len);
+                for position in 0..len {
+                    for byte in 0..=255u8 {
+                        let mut text = vec![b'a'; len];
+                        text[position] = byte;
+                        let expected = text.iter().take_while(|&&b| kept(b)).count();
+                        assert_eq!(
+                            run(&text),
+                            expected,
+                            "byte {byte:#04x} at {position} of {len}"
+                        );
+                    }
+                }
             }
         }
     }

@@ -216,8 +216,10 @@ pub(super) fn evaluate(
         .map_or(inrush.exact_bulk_peak_v, |v| {
             v.max(inrush.exact_bulk_peak_v)
         });
+    // Ids compared against every figure: written once, not once per figure.
+    let bulk_peak_id = format!("{PE}.bulk_peak_v");
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
-        if f.id == format!("{PE}.bulk_peak_v") {
+        if f.id == bulk_peak_id {
             f.value = sig(Some(bulk_peak));
             f.verdict = Some(Verdict::of(spec.bulk_rated_v.map(|r| bulk_peak > r)));
         }
@@ -236,14 +238,16 @@ pub(super) fn evaluate(
     ]
     .iter()
     .map(|(to, from)| {
+        let from_id = format!("{PE}.{from}");
         let v = sections
             .iter()
             .flat_map(|s| s.figures.iter())
-            .find(|f| f.id == format!("{PE}.{from}"))
+            .find(|f| f.id == from_id)
             .and_then(|f| f.verdict);
         (format!("{PE}.{to}"), v)
     })
     .collect();
+    let residual_id = format!("{PE}.discharge_residual_v");
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         if let Some((_, v)) = copies.iter().find(|(id, _)| *id == f.id) {
             f.verdict = *v;
@@ -254,7 +258,7 @@ pub(super) fn evaluate(
                 "emc.filter.dm_".into(),
             ];
         }
-        if f.id == format!("{PE}.discharge_residual_v") && discharge.residual_limit_v.is_some() {
+        if f.id == residual_id && discharge.residual_limit_v.is_some() {
             f.verdict = Some(Verdict::of(
                 match (discharge.exact_residual_v, discharge.residual_limit_v) {
                     (Some(v), Some(l)) => Some(v > l),
@@ -831,7 +835,8 @@ fn inrush(b: &Basis) -> (InrushReport, Section) {
         ),
     ];
     if !has_limiter {
-        figures.retain(|f| f.id != format!("{PE}.limiter_energy_j"));
+        let energy_id = format!("{PE}.limiter_energy_j");
+        figures.retain(|f| f.id != energy_id);
     }
     let mut notes = vec![format!(
         "Limiter: {}{}.",
@@ -919,6 +924,8 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
     let mut points = Vec::new();
     let mut figures = Vec::new();
     let mut hold_up = None;
+    // Low and high line at the same frequency sample the same sine.
+    let mut grids = rectifier::SourceGrids::default();
     for (name, v_rms, f) in [
         ("low-line", b.mains.min_v, b.mains.min_frequency_hz),
         ("high-line", b.mains.max_v, b.mains.max_frequency_hz),
@@ -931,7 +938,7 @@ fn operating_points(b: &Basis) -> (Vec<OperatingPoint>, Option<Section>, Option<
             load_w,
             diode_drop_v: b.drop_v,
         };
-        let s = rectifier::steady_state(&rect);
+        let s = rectifier::steady_state_sharing(&rect, &mut grids);
         let ok = |x: f64| (s.sustained && x.is_finite()).then_some(significant(x));
         let point = OperatingPoint {
             name: name.to_string(),

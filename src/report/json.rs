@@ -19,7 +19,9 @@ use serde_json::ser::{CompactFormatter, Formatter};
 /// The value as pretty-printed JSON, without a final newline.
 pub fn pretty<T: Serialize + ?Sized>(value: &T) -> Result<String, Error> {
     let mut writer = Writer {
-        out: Vec::with_capacity(1 << 16),
+        // Room for a whole report of the size the examples write (160 KB) without
+        // copying it as it grows.
+        out: Vec::with_capacity(1 << 18),
         depth: 0,
     };
     value.serialize(&mut writer)?;

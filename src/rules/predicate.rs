@@ -375,7 +375,9 @@ pub fn resolve<S: AsRef<str>>(from: &Value, parts: &[S]) -> Option<Value> {
         if value.is_none() || value.is_undefined() {
             return None;
         }
-        value = value.get_item(&Value::from(part.as_ref())).ok()?;
+        // By name: a map the report serialised into looks the name up without making a
+        // string value of it first (the same answer as `get_item` with one).
+        value = value.get_attr(part.as_ref()).ok()?;
     }
     (!value.is_none() && !value.is_undefined()).then_some(value)
 }

@@ -411,3 +411,48 @@ fn the_checks_context_without_unread_fields_raises_the_same_findings() {
     }
     assert!(compared >= 30, "only {compared} reports were compared");
 }
+
+/// Plain messages written without the template engine read as the engine writes them: every
+/// finding of every fixture and example, the same either way, and enough of them plain for
+/// the comparison to mean something.
+#[test]
+fn plain_messages_are_written_as_the_engine_writes_them() {
+    use gapwarden::checks::{Messages, context, context_omits, message, run_checks_with};
+    let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
+    let mut files = Vec::new();
+    project_files(&root().join("tests/fixtures"), &mut files);
+    project_files(&root().join("examples"), &mut files);
+    let plain_ids: Vec<&str> = rules
+        .checks
+        .iter()
+        .filter(|c| message::fits(&c.message))
+        .map(|c| &*c.id)
+        .collect();
+    let (mut findings_compared, mut plain_findings) = (0, 0);
+    for path in &files {
+        let Ok(text) = std::fs::read_to_string(path) else {
+            continue;
+        };
+        let source = gapwarden::diag::Source::new(path.display().to_string(), text);
+        let Ok(report) = gapwarden::report::figures(&source, &rules) else {
+            continue;
+        };
+        let ctx = context(&report, context_omits(&rules));
+        let run = |messages| {
+            run_checks_with(&rules, &ctx, messages)
+                .unwrap_or_else(|p| panic!("{}: the checks run: {p}", path.display()))
+        };
+        let (native, _) = run(Messages::PlainWithoutEngine);
+        let (engine, _) = run(Messages::AllByEngine);
+        assert_eq!(native, engine, "{}", path.display());
+        findings_compared += engine.len();
+        plain_findings += engine
+            .iter()
+            .filter(|f| plain_ids.contains(&f.id.as_str()))
+            .count();
+    }
+    assert!(
+        plain_findings >= 100 && findings_compared > plain_findings,
+        "{plain_findings} plain findings of {findings_compared}"
+    );
+}
