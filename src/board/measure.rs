@@ -1808,6 +1808,14 @@ impl Cells {
                 (xa..=xb, 1..=0)
             };
             for x in left.chain(right) {
+                let c = y * self.nx + x;
+                let side = self.sides.get(c).copied().unwrap_or(OPEN);
+                // A cell with no `x` (`mark_void`), or one settled copper reaches soon
+                // enough, passes wherever it lies: that is tested first (most cells pass),
+                // the cell's place only for the others.
+                if side == VOID || (side == OPEN && min[c] + self.slack < below) {
+                    continue;
+                }
                 let rect = self.rect(x, y);
                 if rect.gap_squared(bb) > rho * rho {
                     continue;
@@ -1817,12 +1825,9 @@ impl Cells {
                 if rho > size && fx * fx + fy * fy < (rho - size) * (rho - size) {
                     continue;
                 }
-                let c = y * self.nx + x;
-                let reached = match self.sides.get(c).copied().unwrap_or(OPEN) {
+                let reached = match side {
                     OPEN => min[c] + self.slack,
-                    SHUT => f64::INFINITY,
-                    // No hop passes through the cell (`mark_void`): it holds no `x`.
-                    VOID => continue,
+                    SHUT | VOID => f64::INFINITY,
                     k => self.through_side(min, x, y, &self.halves[k as usize - 1]),
                 };
                 if reached < below {
