@@ -4,6 +4,8 @@
 //! before the major sections, headings kept with what follows, a running header naming
 //! the design, its revision and the inputs' hash).
 
+use std::collections::VecDeque;
+
 use pulldown_cmark::{Event, Options, Parser, Tag, TagEnd, html};
 
 use super::render::{BOARD_COMMENT, CHART_COMMENT};
@@ -22,143 +24,208 @@ fn is_anchor(text: &str) -> bool {
         })
 }
 
-/// The class of a table cell or list item that starts with a verdict's symbol.
-fn verdict_class(text: &str) -> Option<&'static str> {
+/// The opening tag of the span that colours a table cell or list item starting with a
+/// verdict's symbol (its class `v-pass`, `v-fail`, ...).
+fn verdict_span(text: &str) -> Option<&'static str> {
     let mut chars = text.chars();
-    let class = match chars.next()? {
-        '✓' => "pass",
-        '✗' => "fail",
-        '⚠' => "check",
-        '○' => "incomplete",
-        '?' => "not-judged",
+    let span = match chars.next()? {
+        '✓' => "<span class=\"v v-pass\">",
+        '✗' => "<span class=\"v v-fail\">",
+        '⚠' => "<span class=\"v v-check\">",
+        '○' => "<span class=\"v v-incomplete\">",
+        '?' => "<span class=\"v v-not-judged\">",
         _ => return None,
     };
-    (chars.next() == Some(' ')).then_some(class)
+    (chars.next() == Some(' ')).then_some(span)
 }
 
+/// Text for an HTML attribute or element: `&`, `<`, `>` and `"` as entities, in one pass.
 fn escape(text: &str) -> String {
-    text.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
+    let mut out = String::with_capacity(text.len());
+    let mut copied = 0;
+    for (i, b) in text.bytes().enumerate() {
+        let entity = match b {
+            b'&' => "&amp;",
+            b'<' => "&lt;",
+            b'>' => "&gt;",
+            b'"' => "&quot;",
+            _ => continue,
+        };
+        out.push_str(&text[copied..i]);
+        out.push_str(entity);
+        copied = i + 1;
+    }
+    out.push_str(&text[copied..]);
+    out
 }
 
 /// A table of at most this many body rows is kept whole on a printed page; a longer one
 /// breaks between rows, its header repeated.
 const SHORT_TABLE_ROWS: usize = 16;
 
-/// The page's body from the Markdown, and its table of contents (second-level headings).
-fn body(
-    markdown: &str,
+/// The parser's events with an anchor before every heading (its text's slug, made unique
+/// as GitHub does), collecting the table of contents (second-level headings) on the way.
+/// Events stream through; only a heading is held until its end, for its text.
+struct Anchored<'a> {
+    parser: Parser<'a>,
+    /// A heading's events, held back after its anchor.
+    held: VecDeque<Event<'a>>,
+    used: Vec<String>,
+    toc: Vec<(String, String)>,
+}
+
+impl<'a> Iterator for Anchored<'a> {
+    type Item = Event<'a>;
+
+    fn next(&mut self) -> Option<Event<'a>> {
+        if let Some(event) = self.held.pop_front() {
+            return Some(event);
+        }
+        let event = self.parser.next()?;
+        let Event::Start(Tag::Heading {
+            level, id: None, ..
+        }) = &event
+        else {
+            return Some(event);
+        };
+        let level = *level;
+        self.held.push_back(event);
+        let mut text = String::new();
+        for inner in self.parser.by_ref() {
+            let end = matches!(inner, Event::End(TagEnd::Heading(_)));
+            if let Event::Text(t) | Event::Code(t) = &inner {
+                text.push_str(t);
+            }
+            self.held.push_back(inner);
+            if end {
+                break;
+            }
+        }
+        let base = heading_slug(&text);
+        let mut slug = base.clone();
+        let mut n = 0;
+        while self.used.contains(&slug) {
+            n += 1;
+            slug = format!("{base}-{n}");
+        }
+        // The anchor goes just before the heading (the heading's own markup stays plain
+        // `<h2>Title</h2>`).
+        let anchor = Event::Html(format!("<a id=\"{}\"></a>\n", escape(&slug)).into());
+        if level == pulldown_cmark::HeadingLevel::H2 {
+            self.toc.push((slug.clone(), text));
+        }
+        self.used.push(slug);
+        Some(anchor)
+    }
+}
+
+/// The page's events: the chart and board drawings at their markers, raw HTML other than
+/// anchors shown as text, tickable checkboxes, verdicts coloured, and each table wrapped
+/// in a block that says whether it is short. A table is held until its end, to count its
+/// rows; any other event is turned into its replacements as it arrives.
+struct Styled<'a> {
+    events: Anchored<'a>,
+    out: VecDeque<Event<'a>>,
+    /// A table's events up to its end.
+    table: Vec<Event<'a>>,
     chart: Option<String>,
-    drawings: Vec<Option<String>>,
-) -> (String, Vec<(String, String)>) {
-    let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
-    let mut chart = chart;
-    let mut drawings = drawings.into_iter();
-    let mut events: Vec<Event> = Vec::new();
-    let mut used: Vec<String> = Vec::new();
-    let mut toc = Vec::new();
-    // Headings first: each gets the anchor of its text (made unique as GitHub does).
-    let parsed: Vec<Event> = Parser::new_ext(markdown, options).collect();
-    let mut i = 0;
-    while i < parsed.len() {
-        if let Event::Start(Tag::Heading {
-            level,
-            id: None,
-            classes,
-            attrs,
-        }) = &parsed[i]
-        {
-            let mut text = String::new();
-            let mut j = i + 1;
-            while j < parsed.len() && !matches!(parsed[j], Event::End(TagEnd::Heading(_))) {
-                if let Event::Text(t) | Event::Code(t) = &parsed[j] {
-                    text.push_str(t);
-                }
-                j += 1;
+    drawings: std::vec::IntoIter<Option<String>>,
+    open_anchors: usize,
+    verdict_open: bool,
+    at_cell_start: bool,
+    in_item: bool,
+}
+
+impl<'a> Iterator for Styled<'a> {
+    type Item = Event<'a>;
+
+    fn next(&mut self) -> Option<Event<'a>> {
+        while self.out.is_empty() {
+            let event = self.events.next()?;
+            // Most events (text, paragraphs, emphasis, rows) pass as they are: only what
+            // `style` changes or counts goes through it.
+            if passes_through(&event, self.at_cell_start) {
+                self.at_cell_start = false;
+                return Some(event);
             }
-            let base = heading_slug(&text);
-            let mut slug = base.clone();
-            let mut n = 0;
-            while used.contains(&slug) {
-                n += 1;
-                slug = format!("{base}-{n}");
+            if !matches!(event, Event::Start(Tag::Table(_))) {
+                self.style(event, 0);
+                continue;
             }
-            used.push(slug.clone());
-            if *level == pulldown_cmark::HeadingLevel::H2 {
-                toc.push((slug.clone(), text));
-            }
-            // The anchor goes just before the heading (the heading's own markup stays
-            // plain `<h2>Title</h2>`).
-            events.push(Event::Html(
-                format!("<a id=\"{}\"></a>\n", escape(&slug)).into(),
-            ));
-            events.push(Event::Start(Tag::Heading {
-                level: *level,
-                id: None,
-                classes: classes.clone(),
-                attrs: attrs.clone(),
-            }));
-        } else {
-            events.push(parsed[i].clone());
-        }
-        i += 1;
-    }
-    // Rows of each table, in order: a short table is kept whole on a printed page.
-    let mut table_rows: Vec<usize> = Vec::new();
-    for e in &events {
-        match e {
-            Event::Start(Tag::Table(_)) => table_rows.push(0),
-            Event::Start(Tag::TableRow) => {
-                if let Some(n) = table_rows.last_mut() {
-                    *n += 1;
+            self.table.push(event);
+            for inner in self.events.by_ref() {
+                let end = matches!(inner, Event::End(TagEnd::Table));
+                self.table.push(inner);
+                if end {
+                    break;
                 }
             }
-            _ => {}
+            let rows = self
+                .table
+                .iter()
+                .filter(|e| matches!(e, Event::Start(Tag::TableRow)))
+                .count();
+            let mut table = std::mem::take(&mut self.table);
+            for event in table.drain(..) {
+                self.style(event, rows);
+            }
+            self.table = table;
         }
+        self.out.pop_front()
     }
-    let mut tables = table_rows.into_iter();
-    let mut out_events: Vec<Event> = Vec::with_capacity(events.len());
-    let mut open_anchors = 0usize;
-    let mut verdict_open = false;
-    let mut at_cell_start = false;
-    let mut in_item = false;
-    for event in events {
+}
+
+/// Whether `style` would pass `event` on unchanged, its only effect to end a cell's or
+/// item's start (its last arm): anything but raw HTML, a task marker, a table's, cell's or
+/// item's start or end, and the text that opens a cell or item.
+fn passes_through(event: &Event, at_cell_start: bool) -> bool {
+    match event {
+        Event::Html(_) | Event::InlineHtml(_) | Event::TaskListMarker(_) => false,
+        Event::Start(Tag::Table(_) | Tag::TableCell | Tag::Item) => false,
+        Event::End(TagEnd::Table | TagEnd::TableCell | TagEnd::Item) => false,
+        Event::Text(_) => !at_cell_start,
+        _ => true,
+    }
+}
+
+impl<'a> Styled<'a> {
+    /// Queues what `event` becomes; `rows` is the body rows of the table it is in.
+    fn style(&mut self, event: Event<'a>, rows: usize) {
+        let out = &mut self.out;
         match event {
             // The EMC template marks where the chart goes; the SVG is gapwarden's own.
             // The board template marks each measured barrier's drawing; gapwarden's own SVG.
             Event::Html(text) | Event::InlineHtml(text) if text.trim() == BOARD_COMMENT => {
-                if let Some(Some(svg)) = drawings.next() {
-                    out_events.push(Event::Html(
+                if let Some(Some(svg)) = self.drawings.next() {
+                    out.push_back(Event::Html(
                         format!("<figure class=\"board\">{svg}</figure>").into(),
                     ));
                 }
             }
             Event::Html(text) | Event::InlineHtml(text) if text.trim() == CHART_COMMENT => {
-                if let Some(svg) = chart.take() {
-                    out_events.push(Event::Html(
+                if let Some(svg) = self.chart.take() {
+                    out.push_back(Event::Html(
                         format!("<figure class=\"chart\" id=\"emc-chart\">{svg}</figure>").into(),
                     ));
                 }
             }
             // A heading's anchor (above), or the same from a template line: kept.
             Event::Html(text) if text.trim_end().strip_suffix("</a>").is_some_and(is_anchor) => {
-                out_events.push(Event::Html(text));
+                out.push_back(Event::Html(text));
             }
             Event::InlineHtml(text) if is_anchor(&text) => {
-                open_anchors += 1;
-                out_events.push(Event::InlineHtml(text));
+                self.open_anchors += 1;
+                out.push_back(Event::InlineHtml(text));
             }
-            Event::InlineHtml(text) if &*text == "</a>" && open_anchors > 0 => {
-                open_anchors -= 1;
-                out_events.push(Event::InlineHtml(text));
+            Event::InlineHtml(text) if &*text == "</a>" && self.open_anchors > 0 => {
+                self.open_anchors -= 1;
+                out.push_back(Event::InlineHtml(text));
             }
             // Any other raw HTML (which no escaped project string can produce, and the
             // shipped templates do not write) is shown as text.
-            Event::Html(text) | Event::InlineHtml(text) => out_events.push(Event::Text(text)),
+            Event::Html(text) | Event::InlineHtml(text) => out.push_back(Event::Text(text)),
             // Checkboxes a reviewer can tick on the page (and that print as boxes).
-            Event::TaskListMarker(checked) => out_events.push(Event::InlineHtml(
+            Event::TaskListMarker(checked) => out.push_back(Event::InlineHtml(
                 if checked {
                     "<input type=\"checkbox\" checked> "
                 } else {
@@ -167,81 +234,101 @@ fn body(
                 .into(),
             )),
             Event::Start(Tag::Table(_)) => {
-                let class = if tables.next().unwrap_or(0) <= SHORT_TABLE_ROWS {
-                    "table short"
+                let class = if rows <= SHORT_TABLE_ROWS {
+                    "<div class=\"table short\">\n"
                 } else {
-                    "table"
+                    "<div class=\"table\">\n"
                 };
-                out_events.push(Event::Html(format!("<div class=\"{class}\">\n").into()));
-                out_events.push(event);
+                out.push_back(Event::Html(class.into()));
+                out.push_back(event);
             }
             Event::End(TagEnd::Table) => {
-                out_events.push(event);
-                out_events.push(Event::Html("</div>\n".into()));
+                out.push_back(event);
+                out.push_back(Event::Html("</div>\n".into()));
             }
             Event::Start(Tag::TableCell) | Event::Start(Tag::Item) => {
-                at_cell_start = true;
-                in_item = matches!(event, Event::Start(Tag::Item));
-                out_events.push(event);
+                self.at_cell_start = true;
+                self.in_item = matches!(event, Event::Start(Tag::Item));
+                out.push_back(event);
             }
             // A cell's verdict is coloured to the cell's end; an item's badge only.
-            Event::Text(text) if at_cell_start => {
-                at_cell_start = false;
-                match verdict_class(&text) {
-                    Some(class) if in_item => {
-                        out_events.push(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
-                        out_events.push(Event::Text(text));
-                        out_events.push(Event::InlineHtml("</span>".into()));
+            Event::Text(text) if self.at_cell_start => {
+                self.at_cell_start = false;
+                match verdict_span(&text) {
+                    Some(span) if self.in_item => {
+                        out.push_back(Event::InlineHtml(span.into()));
+                        out.push_back(Event::Text(text));
+                        out.push_back(Event::InlineHtml("</span>".into()));
                     }
                     // The symbol alone (its word follows in bold): coloured to the cell's end.
-                    Some(class) if text.trim_end().chars().count() == 1 => {
-                        verdict_open = true;
-                        out_events.push(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
-                        out_events.push(Event::Text(text));
+                    Some(span) if text.trim_end().chars().count() == 1 => {
+                        self.verdict_open = true;
+                        out.push_back(Event::InlineHtml(span.into()));
+                        out.push_back(Event::Text(text));
                     }
                     // The symbol and its word, then perhaps a remark in brackets: only the
                     // verdict is coloured.
-                    Some(class) => {
+                    Some(span) => {
                         let (verdict, rest) = match text.find(" (") {
                             Some(at) => text.split_at(at),
                             None => (&*text, ""),
                         };
-                        out_events.push(Event::InlineHtml(
-                            format!("<span class=\"v v-{class}\">").into(),
-                        ));
-                        out_events.push(Event::Text(verdict.to_string().into()));
-                        out_events.push(Event::InlineHtml("</span>".into()));
+                        out.push_back(Event::InlineHtml(span.into()));
+                        out.push_back(Event::Text(verdict.to_string().into()));
+                        out.push_back(Event::InlineHtml("</span>".into()));
                         if !rest.is_empty() {
-                            out_events.push(Event::Text(rest.to_string().into()));
+                            out.push_back(Event::Text(rest.to_string().into()));
                         }
                     }
-                    None => out_events.push(Event::Text(text)),
+                    None => out.push_back(Event::Text(text)),
                 }
             }
             Event::End(TagEnd::TableCell) | Event::End(TagEnd::Item) => {
-                at_cell_start = false;
-                if verdict_open {
-                    verdict_open = false;
-                    out_events.push(Event::InlineHtml("</span>".into()));
+                self.at_cell_start = false;
+                if self.verdict_open {
+                    self.verdict_open = false;
+                    out.push_back(Event::InlineHtml("</span>".into()));
                 }
-                out_events.push(event);
+                out.push_back(event);
             }
             // An anchor or checkbox first in a cell or item does not end its start.
             other => {
                 if !matches!(other, Event::InlineHtml(_)) {
-                    at_cell_start = false;
+                    self.at_cell_start = false;
                 }
-                out_events.push(other);
+                out.push_back(other);
             }
         }
     }
-    let mut body = String::new();
-    html::push_html(&mut body, out_events.into_iter());
-    (body, toc)
+}
+
+/// The page's body from the Markdown, and its table of contents (second-level headings).
+fn body(
+    markdown: &str,
+    chart: Option<String>,
+    drawings: Vec<Option<String>>,
+) -> (String, Vec<(String, String)>) {
+    let options = Options::ENABLE_TABLES | Options::ENABLE_TASKLISTS;
+    let mut styled = Styled {
+        events: Anchored {
+            parser: Parser::new_ext(markdown, options),
+            held: VecDeque::new(),
+            used: Vec::new(),
+            toc: Vec::new(),
+        },
+        out: VecDeque::new(),
+        table: Vec::new(),
+        chart,
+        drawings: drawings.into_iter(),
+        open_anchors: 0,
+        verdict_open: false,
+        at_cell_start: false,
+        in_item: false,
+    };
+    // The HTML is a little longer than its Markdown.
+    let mut body = String::with_capacity(markdown.len() * 3 / 2);
+    html::push_html(&mut body, &mut styled);
+    (body, styled.events.toc)
 }
 
 /// The whole page.
@@ -253,29 +340,37 @@ pub fn page(
     drawings: Vec<Option<String>>,
 ) -> String {
     let (body, toc) = body(markdown, chart, drawings);
-    let mut nav = String::from(
-        "<nav class=\"toc\" aria-label=\"Contents\"><strong>Contents</strong>\n<ol>\n",
-    );
-    for (slug, text) in &toc {
-        nav.push_str(&format!(
-            "<li><a href=\"#{}\">{}</a></li>\n",
-            escape(slug),
-            escape(text)
-        ));
-    }
-    nav.push_str("</ol>\n</nav>\n");
     // The contents go before the first section, after the title block.
     let first = toc
         .first()
         .and_then(|(slug, _)| body.find(&format!("<a id=\"{}\"></a>", escape(slug))));
-    let body = match first {
-        Some(at) => format!("{}{nav}{}", &body[..at], &body[at..]),
-        None => body,
-    };
+    let (before, after) = body.split_at(first.unwrap_or(body.len()));
     let title = escape(&crate::text::visible(title));
-    format!(
-        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>{title}</title>\n<style>\n{STYLE}@page {{ @top-left {{ content: \"{running_header}\"; }} }}\n</style>\n</head>\n<body>\n{body}</body>\n</html>\n"
-    )
+    let mut page = String::with_capacity(STYLE.len() + body.len() + 4096);
+    page.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>");
+    page.push_str(&title);
+    page.push_str("</title>\n<style>\n");
+    page.push_str(STYLE);
+    page.push_str("@page { @top-left { content: \"");
+    page.push_str(running_header);
+    page.push_str("\"; } }\n</style>\n</head>\n<body>\n");
+    page.push_str(before);
+    if first.is_some() {
+        page.push_str(
+            "<nav class=\"toc\" aria-label=\"Contents\"><strong>Contents</strong>\n<ol>\n",
+        );
+        for (slug, text) in &toc {
+            page.push_str("<li><a href=\"#");
+            page.push_str(&escape(slug));
+            page.push_str("\">");
+            page.push_str(&escape(text));
+            page.push_str("</a></li>\n");
+        }
+        page.push_str("</ol>\n</nav>\n");
+    }
+    page.push_str(after);
+    page.push_str("</body>\n</html>\n");
+    page
 }
 
 /// The embedded stylesheet. Colours of our own; every verdict also carries its word and
@@ -334,3 +429,46 @@ figure.chart svg { max-width: 100%; height: auto; }
   td > code:only-child { width: 22ch; }
 }
 "#;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(2000))]
+
+        /// The one-pass escaping writes what four replacements in a row write.
+        #[test]
+        fn escaping_in_one_pass_agrees_with_four_replacements(
+            text in "([a-z -]{0,6}|&|<|>|\"|'|&amp;|µ|✓){0,20}"
+        ) {
+            let replaced = text
+                .replace('&', "&amp;")
+                .replace('<', "&lt;")
+                .replace('>', "&gt;")
+                .replace('"', "&quot;");
+            proptest::prop_assert_eq!(escape(&text), replaced);
+        }
+    }
+
+    /// Each verdict's symbol, then a space, opens the span of its class; anything else none.
+    #[test]
+    fn a_verdict_symbol_opens_the_span_of_its_class() {
+        assert_eq!(verdict_span("✓ pass"), Some("<span class=\"v v-pass\">"));
+        assert_eq!(
+            verdict_span("✗ **FAIL**"),
+            Some("<span class=\"v v-fail\">")
+        );
+        assert_eq!(verdict_span("⚠ check"), Some("<span class=\"v v-check\">"));
+        assert_eq!(
+            verdict_span("○ incomplete"),
+            Some("<span class=\"v v-incomplete\">")
+        );
+        assert_eq!(
+            verdict_span("? not judged"),
+            Some("<span class=\"v v-not-judged\">")
+        );
+        assert_eq!(verdict_span("✓pass"), None);
+        assert_eq!(verdict_span("pass"), None);
+    }
+}

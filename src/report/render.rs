@@ -255,10 +255,18 @@ fn preamble(report: &Report) -> String {
 /// `text` with the preamble after its first line when that is a heading, else before it.
 fn insert_preamble(text: &str, preamble: &str) -> String {
     let (head, rest) = match text.split_once('\n') {
-        Some((first, rest)) if first.starts_with("# ") => (format!("{first}\n\n"), rest),
-        _ => (String::new(), text),
+        Some((first, rest)) if first.starts_with("# ") => (first, rest),
+        _ => ("", text),
     };
-    format!("{head}{preamble}\n{rest}")
+    let mut out = String::with_capacity(text.len() + preamble.len() + 3);
+    if !head.is_empty() {
+        out.push_str(head);
+        out.push_str("\n\n");
+    }
+    out.push_str(preamble);
+    out.push('\n');
+    out.push_str(rest);
+    out
 }
 
 /// The template source with each line that holds only the chart marker turned into the
@@ -291,37 +299,51 @@ pub fn md_escape(text: &str) -> String {
     out
 }
 
-/// Which ASCII bytes `md_escape` copies as they are: printable ASCII other than the
-/// Markdown characters it escapes. Everything else is looked at as a character.
-const MARKDOWN_PLAIN: [bool; 256] = {
-    let mut plain = [false; 256];
-    let mut b = 0x20;
-    while b < 0x7f {
-        plain[b] = true;
-        b += 1;
-    }
-    let special = b"\\`*_[]<>|&#";
-    let mut k = 0;
-    while k < special.len() {
-        plain[special[k] as usize] = false;
-        k += 1;
-    }
-    plain
-};
-
 /// As [`md_escape`], written to `out`: runs of plain characters (most of every value) are
-/// copied whole, and only the characters that change, and those outside ASCII, are looked
-/// at one by one.
+/// skipped eight bytes at a time and copied whole, and only the characters that change,
+/// and those outside ASCII, are looked at one by one.
 pub(super) fn md_escape_to<W: std::fmt::Write + ?Sized>(
     text: &str,
     out: &mut W,
 ) -> std::fmt::Result {
+    escape_to(text, out, false)
+}
+
+/// `md_escape(&round_figures(text))` in one pass, written to `out`: a value of the page
+/// (the templates' formatter). Rounding changes only numbers, into digits, a point and a
+/// sign, which escaping leaves be; so each number is rounded where the scan meets it.
+pub(super) fn md_escape_rounded_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+) -> std::fmt::Result {
+    escape_to(text, out, true)
+}
+
+fn escape_to<W: std::fmt::Write + ?Sized>(
+    text: &str,
+    out: &mut W,
+    round: bool,
+) -> std::fmt::Result {
     let bytes = text.as_bytes();
     let mut copied = 0;
     let mut i = 0;
-    while i < bytes.len() {
-        if MARKDOWN_PLAIN[bytes[i] as usize] {
-            i += 1;
+    loop {
+        i += if round {
+            crate::text::markdown_prose_run(&bytes[i..])
+        } else {
+            crate::text::markdown_plain_run(&bytes[i..])
+        };
+        if i >= bytes.len() {
+            break;
+        }
+        if round && bytes[i].is_ascii_digit() {
+            let (end, figure) = crate::text::figure_at(text, i);
+            if let Some(x) = figure {
+                out.write_str(&text[copied..i])?;
+                out.write_str(&crate::text::figure(x))?;
+                copied = end;
+            }
+            i = end;
             continue;
         }
         let Some(c) = text[i..].chars().next() else {
@@ -399,9 +421,7 @@ fn environment(templates: &Templates) -> Result<Environment<'static>, Problems> 
             }
             // Figures inside prose (derivations, messages) are rounded as the report's own
             // figures are; ids and names go through the `id` filter, which leaves them be.
-            ValueKind::String => {
-                md_escape_to(&round_figures(value.as_str().unwrap_or_default()), out)?
-            }
+            ValueKind::String => md_escape_rounded_to(value.as_str().unwrap_or_default(), out)?,
             ValueKind::Number => out.write_str(&report_number(value))?,
             ValueKind::None | ValueKind::Undefined => out.write_str("not declared")?,
             _ => out.write_str(&md_escape(&value.to_string()))?,
@@ -659,8 +679,7 @@ pub fn render_page_with(
     let text = if writer == Writer::Native && !templates.any_house() {
         let report = with_templates(report, templates);
         let view = view::build(&report, page, options);
-        let text = super::page::write(&report, &view);
-        finish(&report, &text)
+        tidy(&super::page::write(&report, &view, &preamble(&report)))
     } else {
         interpret(report, templates, page, options)?
     };
@@ -670,7 +689,21 @@ pub fn render_page_with(
 /// The page's text with the preamble, blank lines tidied, line breaks as `\n`, and no
 /// control or bidi character left visible only to a machine.
 fn finish(report: &Report, text: &str) -> String {
-    let mut text = tidy_blank_lines(&insert_preamble(text, &preamble(report)));
+    tidy(&insert_preamble(text, &preamble(report)))
+}
+
+/// As [`finish`], for a page that has its preamble already.
+fn tidy(text: &str) -> String {
+    match tidy_plain(text) {
+        Some(tidied) => tidied,
+        None => tidy_and_show(text),
+    }
+}
+
+/// The page tidied (`tidy_blank_lines`), its `\r\n` made `\n` and every control or bidi
+/// character shown as `<U+XXXX>`: the general path, for a page that holds any of them.
+fn tidy_and_show(text: &str) -> String {
+    let mut text = tidy_blank_lines(text);
     if text.contains('\r') {
         text = text.replace("\r\n", "\n");
     }
@@ -680,6 +713,52 @@ fn finish(report: &Report, text: &str) -> String {
         Cow::Borrowed(_) => text,
         Cow::Owned(shown) => shown,
     }
+}
+
+/// As [`tidy_and_show`] in one pass, for the usual page that holds no carriage return and
+/// no character to show as `<U+XXXX>` (then tidying is all there is to do); `None` for any
+/// other page. Runs of printable ASCII are skipped eight bytes at a time.
+fn tidy_plain(text: &str) -> Option<String> {
+    let bytes = text.as_bytes();
+    let mut out = String::with_capacity(text.len() + 1);
+    let mut copied = 0;
+    let mut i = 0;
+    loop {
+        i += crate::text::printable_ascii_run(&bytes[i..]);
+        let Some(&b) = bytes.get(i) else {
+            break;
+        };
+        match b {
+            b'\n' => {
+                let run_start = i;
+                while bytes.get(i) == Some(&b'\n') {
+                    i += 1;
+                }
+                if i - run_start > 2 {
+                    out.push_str(&text[copied..run_start + 2]);
+                    copied = i;
+                }
+            }
+            b'\t' => i += 1,
+            0x80.. => {
+                let c = text[i..].chars().next()?;
+                if crate::text::is_hazardous(c) {
+                    return None;
+                }
+                i += c.len_utf8();
+            }
+            // A carriage return, or another control character or DEL.
+            _ => return None,
+        }
+    }
+    out.push_str(&text[copied..]);
+    while out.ends_with("\n\n") {
+        out.pop();
+    }
+    if !out.ends_with('\n') {
+        out.push('\n');
+    }
+    Some(out)
 }
 
 /// The page through the templates.
@@ -777,4 +856,95 @@ pub fn to_json<T: serde::Serialize + ?Sized>(value: &T) -> String {
     };
     text.push('\n');
     text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// `md_escape` as first written, looking at every character: the reference for the
+    /// eight-bytes-at-a-time skip over plain text.
+    fn md_escape_reference(text: &str) -> String {
+        let mut out = String::new();
+        for c in text.chars() {
+            match c {
+                '\r' | '\n' | '\t' => out.push(' '),
+                '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '&' | '#' => {
+                    out.push('\\');
+                    out.push(c);
+                }
+                c if c.is_control() || crate::text::is_hazardous(c) => {
+                    out.push_str(&format!("<U+{:04X}>", c as u32));
+                }
+                c => out.push(c),
+            }
+        }
+        out
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(4000))]
+
+        /// Prose of numbers of every length (with points, signs and units), Markdown
+        /// characters, ids and non-ASCII: rounding while escaping writes what rounding and
+        /// then escaping write.
+        #[test]
+        fn escaping_with_rounding_agrees_with_rounding_then_escaping(
+            text in "([0-9]{1,8}|[0-9]{1,6}\\.[0-9]{1,7}|-|\\.|,|:| |Hz|V|mm|µF|A²s|CY|\\(|=|_|/|#|\\*|\\||<|\\\\|`|\\[|\\]|\n|\x1b|\u{202e}|é|x){0,40}"
+        ) {
+            let mut fused = String::new();
+            md_escape_rounded_to(&text, &mut fused).unwrap();
+            proptest::prop_assert_eq!(fused, md_escape(&round_figures(&text)));
+        }
+    }
+
+    /// The page tidied as first written, in three passes: blank lines, carriage returns,
+    /// then hidden characters made visible.
+    fn finish_reference(text: &str) -> String {
+        let mut text = tidy_blank_lines(text);
+        if text.contains('\r') {
+            text = text.replace("\r\n", "\n");
+        }
+        crate::text::visible(&text).into_owned()
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(4000))]
+
+        /// Text of plain runs of every length among every character Markdown escaping
+        /// changes, controls, DEL, bidi and zero-width characters, and other non-ASCII.
+        #[test]
+        fn markdown_escaping_agrees_with_the_reference(
+            text in "([a-z ]{0,12}|[\\\\`*_\\[\\]<>|&#^}~=()]|[\\x00-\\x1f\\x7f]|[\\u{80}-\\u{9f}]|µ|Ω|✓|–|\\u{202e}|\\u{200b}|\\u{feff}|\\u{e0041}){0,30}"
+        ) {
+            proptest::prop_assert_eq!(md_escape(&text), md_escape_reference(&text));
+        }
+
+        /// Pages of lines, runs of line breaks, carriage returns, tabs, controls, bidi
+        /// characters and other non-ASCII: the one-pass tidying agrees with the three passes
+        /// wherever it answers, and the page always ends as the reference's does.
+        #[test]
+        fn tidying_the_page_agrees_with_the_reference(
+            text in "([a-z #|]{0,20}|\\n{1,5}|\\r\\n|\\r|\\t|\\x1b|\\x7f|µ|✓|\\u{202e}|\\u{200b}|\\u{9b}){0,30}"
+        ) {
+            let expected = finish_reference(&text);
+            let plain = tidy_plain(&text);
+            if let Some(tidied) = &plain {
+                proptest::prop_assert_eq!(tidied, &expected);
+            }
+            proptest::prop_assert_eq!(plain.unwrap_or_else(|| tidy_and_show(&text)), expected);
+        }
+    }
+
+    /// The usual page takes the one pass: tidied, nothing to show.
+    #[test]
+    fn a_page_without_hidden_characters_is_tidied_in_one_pass() {
+        // Worked by hand: four line breaks become two, the trailing ones one.
+        assert_eq!(
+            tidy_plain("# T\n\n\n\nµ ✓ a\tb\n\n\n").as_deref(),
+            Some("# T\n\nµ ✓ a\tb\n")
+        );
+        assert_eq!(tidy_plain("a\r\nb"), None);
+        assert_eq!(tidy_plain("id\u{202e}x"), None);
+    }
 }

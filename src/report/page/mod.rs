@@ -18,19 +18,20 @@ use std::fmt::Display;
 use std::fmt::Write as _;
 
 use super::Report;
-use super::render::{anchor_html, link_text, md_escape_to, signed};
+use super::render::{anchor_html, link_text, md_escape_rounded_to, md_escape_to, signed};
 use super::view::{self, Place, View};
 use crate::checks::Severity;
 use crate::derivation::Verdict;
-use crate::text::{figure, round_figures};
+use crate::text::write_figure;
 
-/// The page's Markdown before the preamble and tidying, as `report.md.j2` writes it.
-pub(super) fn write(report: &Report, view: &View) -> String {
+/// The page's Markdown before tidying, as `report.md.j2` writes it, with `preamble` after
+/// the title (where the template's page gets it from `render::finish`).
+pub(super) fn write(report: &Report, view: &View, preamble: &str) -> String {
     let mut md = Md {
         out: String::with_capacity(64 * 1024),
         view,
     };
-    title(&mut md, report);
+    title(&mut md, report, preamble);
     open_items(&mut md, report);
     insulation::barriers(&mut md, report);
     insulation::strength_tests(&mut md, report);
@@ -71,7 +72,7 @@ impl Md<'_> {
     /// A string value: figures in it rounded, then escaped (the templates' formatter).
     fn text(&mut self, value: &str) {
         // Writing to a String cannot fail.
-        let _ = md_escape_to(&round_figures(value), &mut self.out);
+        let _ = md_escape_rounded_to(value, &mut self.out);
     }
 
     /// A name or id from the project file: escaped, never rounded (the `id` filter).
@@ -81,7 +82,7 @@ impl Md<'_> {
 
     /// A figure, to four significant digits.
     fn fig(&mut self, x: f64) {
-        self.out.push_str(&figure(x));
+        write_figure(&mut self.out, x);
     }
 
     /// A figure, or "not declared" where there is none (the formatter's word for null).
@@ -190,9 +191,12 @@ fn present(value: &Option<String>) -> Option<&str> {
     value.as_deref().filter(|s| !s.is_empty())
 }
 
-fn title(md: &mut Md, r: &Report) {
+fn title(md: &mut Md, r: &Report, preamble: &str) {
     md.s("# Pre-review checklist: ");
     md.id(&r.design.name);
+    // The name is escaped, so it holds no line break: this is the end of the first line.
+    md.s("\n\n");
+    md.s(preamble);
     md.s("\n\nRevision ");
     match present(&r.design.revision) {
         Some(rev) => md.id(rev),
