@@ -29,7 +29,8 @@
 //!   side of those edges stays on the surface, and the neighbour's value plus the longest
 //!   such line bounds it. A cell that one edge hides from the whole node (every line
 //!   from the node's box to the cell crosses the edge, not at its ends) holds no `x`: a
-//!   hop that crosses an edge is not on the surface.
+//!   hop that crosses an edge is not on the surface. Nor does a cell wholly inside a
+//!   convex cut-out (`Cells::mark_void`).
 //! - Passages down a rim (creepage, along the wall): the cost `hypot(s, thickness)` is
 //!   convex in the distance `s` along the rim, so once the rim point `s'` along has been
 //!   reached along this face at no more than `d + hypot(s', thickness) - thickness`,
@@ -48,7 +49,7 @@
 //! passage from one face to the other loses twice the rim's point spacing.
 
 use std::cmp::Ordering;
-use std::collections::{BTreeMap, BinaryHeap, HashMap};
+use std::collections::{BTreeMap, BinaryHeap, HashMap, VecDeque};
 
 use serde::Serialize;
 
@@ -145,6 +146,19 @@ pub struct Index<'b> {
     chunk_box: Vec<Bbox>,
     chunk_grid: Grid,
     rim_grid: Grid,
+    /// Which of the later prunings the search uses (all, except in tests that compare
+    /// with the search without them).
+    prune: Prune,
+}
+
+/// Prunings that a test may switch off, to compare the figures with and without.
+#[derive(Clone, Copy)]
+struct Prune {
+    /// Cells inside convex cut-outs hold no surface (`Cells::mark_void`).
+    void_cells: bool,
+    /// Clearance: runs of rim points wholly within a ring's inner radius are passed over
+    /// at once (each point would be).
+    inner_runs: bool,
 }
 
 struct Obstacles {
@@ -324,6 +338,10 @@ impl<'b> Index<'b> {
             chunk_box,
             chunk_grid,
             rim_grid,
+            prune: Prune {
+                void_cells: true,
+                inner_runs: true,
+            },
         };
         index.find_inside();
         index
@@ -539,7 +557,7 @@ impl<'b> Index<'b> {
         let mut st = State {
             dist: vec![f64::INFINITY; total],
             pred: vec![None; total],
-            heap: BinaryHeap::new(),
+            queue: Queue::new(total),
             best: f64::INFINITY,
             n,
             is_b,
@@ -553,10 +571,17 @@ impl<'b> Index<'b> {
         for (i, &x) in is_a.iter().enumerate() {
             if x && self.on_any(i as u32, layers) {
                 st.dist[i] = 0.0;
-                st.heap.push(Entry::new(0.0, i as u32, 0));
+                st.queue.set(i as u32, 0.0);
             }
         }
-        let mut cells = Cells::new(all, self.segs.len(), layers, self.layers.len(), obstacles);
+        let mut cells = Cells::new(
+            all,
+            self.segs.len(),
+            layers,
+            self.layers.len(),
+            obstacles,
+            self.prune.void_cells,
+        );
         let mut target = None;
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
@@ -565,7 +590,7 @@ impl<'b> Index<'b> {
         let visible = |p: P, q: P| obstacles.is_none_or(|o| o.visible(p, q));
         let face_of = |l: u8| layers.contains(&(l as usize));
 
-        while let Some(entry) = st.heap.pop() {
+        while let Some(entry) = st.queue.pop() {
             let (key, u, aux) = entry.parts();
             cells.advance(key);
             let ui = u as usize;
@@ -811,10 +836,16 @@ impl<'b> Index<'b> {
                 if face_of(f) {
                     let (ids, grid) = &self.layers[f as usize];
                     let pb = Bbox { min: p, max: p };
+                    let far2 = (hi + tol) * (hi + tol);
                     grid.query(&pb.grown(hi + tol), |k| {
                         let sj = ids[k as usize] as usize;
                         let v = self.seg_owner[sj] as usize;
                         if st.dist[v] <= d {
+                            return;
+                        }
+                        // The box gap is a lower bound of the true gap.
+                        let lb2 = self.seg_box[sj].gap_squared(&pb);
+                        if lb2 > far2 || d + lb2.sqrt() - one >= st.dist[v] {
                             return;
                         }
                         let (gap, pv) = g::point_seg_distance(p, &self.segs[sj]);
@@ -838,6 +869,9 @@ impl<'b> Index<'b> {
                         o.corner_grid.query(&pb.grown(hi), |k| {
                             let q = o.corners[k as usize];
                             let v = corner0 + 2 * k as usize + f as usize;
+                            if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
+                                return;
+                            }
                             let w = g::dist(p, q);
                             if v == ui || !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                 return;
@@ -858,6 +892,9 @@ impl<'b> Index<'b> {
                             self.rim_grid.query(&pb.grown(hi), |k| {
                                 let (q, _) = self.rim[k as usize];
                                 let v = rim0 + 2 * k as usize + f as usize;
+                                if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
+                                    return;
+                                }
                                 let w = g::dist(p, q);
                                 if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
                                     return;
@@ -890,7 +927,6 @@ impl<'b> Index<'b> {
                 // A crossing point between two rim points is at most half a spacing from
                 // one: both faces' steps and this one together are at most two spacings
                 // longer than through the true crossing points.
-                let cost = |across: f64| (across.hypot(thickness) - 2.0 * RIM_SPACING_MM).max(0.0);
                 let t2 = thickness * thickness;
                 let reach = hi + 2.0 * RIM_SPACING_MM;
                 let hi2 = if reach > 0.0 { reach * reach } else { -1.0 };
@@ -985,8 +1021,21 @@ impl<'b> Index<'b> {
                             if self.rim[s as usize].1 != ri {
                                 return;
                             }
-                            let near = self.chunk_box[c as usize].gap(&pb);
-                            if near * near + t2 > hi2 {
+                            // The run's nearest passage, by the same sums as each point's below
+                            // (no point's can come out smaller).
+                            let near2 = self.chunk_box[c as usize].gap_squared(&pb) + t2;
+                            if near2 > hi2 {
+                                return;
+                            }
+                            // A run whose farthest point is within the ring's inner radius
+                            // (the same sums as each point's below, which cannot exceed
+                            // them) has no passage in this ring.
+                            let bc = &self.chunk_box[c as usize];
+                            let far_corner = [
+                                (p[0] - bc.min[0]).abs().max((p[0] - bc.max[0]).abs()),
+                                (p[1] - bc.min[1]).abs().max((p[1] - bc.max[1]).abs()),
+                            ];
+                            if self.prune.inner_runs && g::dot(far_corner, far_corner) + t2 <= lo2 {
                                 return;
                             }
                             let c = c as usize;
@@ -996,7 +1045,8 @@ impl<'b> Index<'b> {
                                     .map(|k| st.dist[rim0 + 2 * k as usize + o])
                                     .fold(0.0, f64::max);
                             }
-                            if d + cost(near) >= st.run_max[c][o] {
+                            let cost = (near2.sqrt() - 2.0 * RIM_SPACING_MM).max(0.0);
+                            if d + cost >= st.run_max[c][o] {
                                 return;
                             }
                             for k in s as usize..e as usize {
@@ -1033,7 +1083,8 @@ impl<'b> Index<'b> {
                 }
             }
             if hi_ring < cap && hi_ring < most {
-                st.heap
+                st.queue
+                    .rings
                     .push(Entry::new(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
         }
@@ -1112,7 +1163,7 @@ impl<'b> Index<'b> {
 struct State<'a> {
     dist: Vec<f64>,
     pred: Vec<Option<Pred>>,
-    heap: BinaryHeap<Entry>,
+    queue: Queue,
     /// The shortest distance to the second circuit found so far.
     best: f64,
     n: usize,
@@ -1132,7 +1183,7 @@ impl State<'_> {
             let old = self.dist[v];
             self.dist[v] = nd;
             self.pred[v] = Some(p);
-            self.heap.push(Entry::new(nd, v as u32, 0));
+            self.queue.set(v as u32, nd);
             if v >= self.rim0 && v < self.rimx0 {
                 // A run's largest distance changes only when it was this point's.
                 let (c, f) = (
@@ -1150,6 +1201,131 @@ impl State<'_> {
     }
 }
 
+/// Decides without a `hypot` what the exact test after it would (`w = g::dist(p, q)` not
+/// in the ring `(lo, hi]`, or `d + w >= reached`) where it is sure: the root of the sum of
+/// squares is within a few units in the last place of `hypot`, far inside the relative
+/// margin `SURE_RATIO`. The points it leaves are decided by the exact test as before.
+fn surely_no_hop(p: P, q: P, lo: f64, hi: f64, d: f64, reached: f64) -> bool {
+    let e = g::sub(p, q);
+    let w2 = g::dot(e, e);
+    (lo >= 0.0 && w2 < lo * lo * (1.0 - SURE_RATIO))
+        || w2 > hi * hi * (1.0 + SURE_RATIO)
+        || d + w2.sqrt() * (1.0 - SURE_RATIO) >= reached
+}
+
+/// See `surely_no_hop`.
+const SURE_RATIO: f64 = 1e-12;
+
+/// The search's queue: one entry per node reached and not yet taken, lowered in place
+/// when the node's distance falls (a binary heap that knows each node's place), and a
+/// heap of the rings of hops still to open. Both order as `Entry` does and no two entries
+/// are equal (a node's own entry has ring 0, a ring's entry more), so taking the greater
+/// of the two fronts gives the entries in the order one heap holding both would, less
+/// the stale entries a heap without lowering would hold and pass over.
+struct Queue {
+    /// Greatest `Entry` (smallest key) first; children of `i` at `2i + 1` and `2i + 2`.
+    nodes: Vec<Entry>,
+    /// Each node's index in `nodes`, `NOT_QUEUED` where it has none.
+    place: Vec<u32>,
+    rings: BinaryHeap<Entry>,
+}
+
+const NOT_QUEUED: u32 = u32::MAX;
+
+impl Queue {
+    fn new(nodes: usize) -> Queue {
+        Queue {
+            nodes: Vec::new(),
+            place: vec![NOT_QUEUED; nodes],
+            rings: BinaryHeap::new(),
+        }
+    }
+
+    /// Queues `node` at `key`, or lowers its queued key to `key`.
+    fn set(&mut self, node: u32, key: f64) {
+        let entry = Entry::new(key, node, 0);
+        let i = match self.place[node as usize] {
+            NOT_QUEUED => {
+                self.nodes.push(entry);
+                self.nodes.len() - 1
+            }
+            i => {
+                debug_assert!(entry >= self.nodes[i as usize], "a queued key only falls");
+                self.nodes[i as usize] = entry;
+                i as usize
+            }
+        };
+        self.sift_up(i);
+    }
+
+    fn pop(&mut self) -> Option<Entry> {
+        let node_first = match (self.nodes.first(), self.rings.peek()) {
+            (Some(a), Some(b)) => a > b,
+            (Some(_), None) => true,
+            (None, _) => false,
+        };
+        if !node_first {
+            return self.rings.pop();
+        }
+        let last = self.nodes.pop()?;
+        let top = match self.nodes.first_mut() {
+            Some(first) => {
+                let top = std::mem::replace(first, last);
+                self.sift_down(0);
+                top
+            }
+            None => last,
+        };
+        self.place[Queue::node(top)] = NOT_QUEUED;
+        Some(top)
+    }
+
+    fn node(entry: Entry) -> usize {
+        (entry.id >> 32) as usize
+    }
+
+    fn put(&mut self, i: usize, entry: Entry) {
+        self.nodes[i] = entry;
+        self.place[Queue::node(entry)] = i as u32;
+    }
+
+    fn sift_up(&mut self, mut i: usize) {
+        let entry = self.nodes[i];
+        while i > 0 {
+            let parent = (i - 1) / 2;
+            if self.nodes[parent] >= entry {
+                break;
+            }
+            self.put(i, self.nodes[parent]);
+            i = parent;
+        }
+        self.put(i, entry);
+    }
+
+    fn sift_down(&mut self, mut i: usize) {
+        let entry = self.nodes[i];
+        let n = self.nodes.len();
+        loop {
+            let left = 2 * i + 1;
+            if left >= n {
+                break;
+            }
+            let right = left + 1;
+            let child = if right < n && self.nodes[right] > self.nodes[left] {
+                right
+            } else {
+                left
+            };
+            if self.nodes[child] <= entry {
+                break;
+            }
+            self.put(i, self.nodes[child]);
+            i = child;
+        }
+        self.put(i, entry);
+    }
+}
+
 /// The outer radius of hop ring `k` (ring 1 holds hops from 0 up to `FIRST_RING_MM`).
 fn ring_mm(k: u32) -> f64 {
     if k == 0 {
@@ -1163,6 +1339,12 @@ fn ring_mm(k: u32) -> f64 {
 const OPEN: u32 = 0;
 /// `Cells::sides` of a cell whose part on the surface may not be convex.
 const SHUT: u32 = u32::MAX;
+/// `Cells::sides` of a cell that no hop passes through (inside a convex cut-out, away
+/// from its edges; see `Cells::mark_void`).
+const VOID: u32 = u32::MAX - 1;
+/// A cell within this of a cut-out's edges is not `VOID`: more than twice `ON_EDGE_MM`
+/// (how far inside a cut-out a hop that `Obstacles::visible` lets through may pass).
+const VOID_MARGIN_MM: f64 = 1e-6;
 
 /// A coarse map of the board for one search: per searched layer and cell, a distance
 /// within which settled copper (or a corner) reaches the cell's centre: copper touching
@@ -1193,8 +1375,12 @@ struct Cells {
     /// Two half-planes (the same one twice where one edge crosses the cell), each as a
     /// point on its border and a normal into the surface.
     halves: Vec<[(P, P); 2]>,
-    /// Values not yet spread: (value, cell, layer).
-    queue: BinaryHeap<Entry>,
+    /// Values not yet spread, as (value, cell, layer): those of copper and corners
+    /// reached (`seeds`) and those spread from a cell to its neighbours (`spread`). Each
+    /// queue is in order of value as it is filled (see `Cells::advance`), so the two are
+    /// taken together in order by comparing their fronts, without a heap.
+    seeds: VecDeque<(f64, u32, u32)>,
+    spread: VecDeque<(f64, u32, u32)>,
 }
 
 impl Cells {
@@ -1204,6 +1390,7 @@ impl Cells {
         layers: &[usize],
         n_layers: usize,
         obstacles: Option<&Obstacles>,
+        void_cells: bool,
     ) -> Cells {
         let w = (all.max[0] - all.min[0]).max(1e-3);
         let ht = (all.max[1] - all.min[1]).max(1e-3);
@@ -1234,10 +1421,14 @@ impl Cells {
                 .collect(),
             sides: Vec::new(),
             halves: Vec::new(),
-            queue: BinaryHeap::new(),
+            seeds: VecDeque::new(),
+            spread: VecDeque::new(),
         };
         if let Some(o) = obstacles {
             cells.mark_edges(o);
+            if void_cells {
+                cells.mark_void(o);
+            }
         }
         cells
     }
@@ -1307,6 +1498,58 @@ impl Cells {
                 }
                 None => SHUT,
             };
+        }
+    }
+
+    /// Marks `VOID` the cells that lie inside a convex cut-out (walked round) and farther
+    /// than `VOID_MARGIN_MM` from every obstacle edge. No hop passes through such a cell,
+    /// so `dominated` need not find an `x` there (nor an edge that hides it):
+    ///
+    /// `Obstacles::visible` cuts a hop at the points where it touches edges; a piece
+    /// between two such points crosses no edge, so it lies wholly on one side of each
+    /// ring. A piece inside the cut-out `C` is let through only where its midpoint `m` is
+    /// within `ON_EDGE_MM` of `C`'s edges. In a convex polygon the distance to the border
+    /// is a concave function, so along the piece it is at most twice its value at `m`
+    /// (for a point `t` between an end `a` and `m`, `m` lies between `t` and the other end
+    /// `b`: `f(m) >= f(t) |mb| / |tb| >= f(t) / 2`). Every point of a hop inside `C` is
+    /// therefore within `2 ON_EDGE_MM < VOID_MARGIN_MM` of `C`'s edges, never in a `VOID`
+    /// cell. A cell that no edge comes within the margin of, with its centre inside `C`,
+    /// lies wholly inside `C` (it is connected and meets no edge of `C`).
+    fn mark_void(&mut self, o: &Obstacles) {
+        for (ring, bb, outer) in &o.rings {
+            if *outer || !is_convex(ring) {
+                continue;
+            }
+            let x0 = self.index(bb.min[0], self.origin[0], self.nx);
+            let x1 = self.index(bb.max[0], self.origin[0], self.nx);
+            let y0 = self.index(bb.min[1], self.origin[1], self.ny);
+            let y1 = self.index(bb.max[1], self.origin[1], self.ny);
+            for y in y0..=y1 {
+                for x in x0..=x1 {
+                    let c = y * self.nx + x;
+                    if self.sides[c] != OPEN {
+                        continue;
+                    }
+                    let rect = self.rect(x, y);
+                    let centre = [
+                        (rect.min[0] + rect.max[0]) / 2.0,
+                        (rect.min[1] + rect.max[1]) / 2.0,
+                    ];
+                    if !bb.contains(centre)
+                        || !g::point_in_rings(centre, std::slice::from_ref(ring))
+                    {
+                        continue;
+                    }
+                    let near = rect.grown(VOID_MARGIN_MM);
+                    let touched = o.edge_grid.query_until(&near, |k| {
+                        let (a, b) = o.edges[k as usize];
+                        near.meets_segment(a, b)
+                    });
+                    if !touched {
+                        self.sides[c] = VOID;
+                    }
+                }
+            }
         }
     }
 
@@ -1381,7 +1624,9 @@ impl Cells {
         best
     }
 
-    fn set(&mut self, l: usize, c: usize, v: f64) {
+    /// Lowers the cell's value to `v` and queues it, on `seeds` (a conductor or corner
+    /// reached) or on `spread` (from a neighbour).
+    fn set(&mut self, l: usize, c: usize, v: f64, seed: bool) {
         if self.sides.get(c).is_some_and(|&k| k != OPEN) {
             return;
         }
@@ -1389,24 +1634,46 @@ impl Cells {
             && v < *m
         {
             *m = v;
-            self.queue.push(Entry::new(v, c as u32, l as u32));
+            let queue = if seed {
+                &mut self.seeds
+            } else {
+                &mut self.spread
+            };
+            debug_assert!(queue.back().is_none_or(|b| b.0 <= v), "queue out of order");
+            queue.push_back((v, c as u32, l as u32));
         }
     }
 
     fn register(&mut self, l: usize, p: P, d: f64) {
         if let Some(c) = self.cell(p) {
-            self.set(l, c, d + self.half);
+            self.set(l, c, d + self.half, true);
         }
     }
 
-    /// Spreads every value up to `until` to the neighbouring cells.
+    /// Spreads every value up to `until` to the neighbouring cells, in order of value (a
+    /// Dijkstra search over the cells). Each queue is filled in order: a seed is the
+    /// search's current key plus half a cell, and the search's keys never fall; a spread
+    /// value is a taken value plus one cell, and values are taken in order. So the smaller
+    /// of the two fronts is the smallest value queued. (Equal values may come in another
+    /// order than a heap's; the values left after taking every one up to `until` do not
+    /// depend on it.)
     fn advance(&mut self, until: f64) {
-        while let Some(&entry) = self.queue.peek() {
-            let (v, c, l) = entry.parts();
+        loop {
+            let (seed, spread) = (self.seeds.front().copied(), self.spread.front().copied());
+            let ((v, c, l), from_seeds) = match (seed, spread) {
+                (Some(a), Some(b)) if b.0 < a.0 => (b, false),
+                (Some(a), _) => (a, true),
+                (None, Some(b)) => (b, false),
+                (None, None) => break,
+            };
             if v > until {
                 break;
             }
-            self.queue.pop();
+            if from_seeds {
+                self.seeds.pop_front();
+            } else {
+                self.spread.pop_front();
+            }
             let (c, l) = (c as usize, l as usize);
             if v > self.min[l][c] {
                 continue;
@@ -1414,16 +1681,16 @@ impl Cells {
             let (x, y) = (c % self.nx, c / self.nx);
             let nv = v + self.h;
             if x > 0 {
-                self.set(l, c - 1, nv);
+                self.set(l, c - 1, nv, false);
             }
             if x + 1 < self.nx {
-                self.set(l, c + 1, nv);
+                self.set(l, c + 1, nv, false);
             }
             if y > 0 {
-                self.set(l, c - self.nx, nv);
+                self.set(l, c - self.nx, nv, false);
             }
             if y + 1 < self.ny {
-                self.set(l, c + self.nx, nv);
+                self.set(l, c + self.nx, nv, false);
             }
         }
     }
@@ -1458,7 +1725,7 @@ impl Cells {
                     })
                 };
                 if touches {
-                    self.set(l, c, v);
+                    self.set(l, c, v, true);
                 }
             }
         }
@@ -1534,7 +1801,21 @@ impl Cells {
             } else {
                 (1, 0)
             };
-            for x in (xa..=xb).filter(|x| !(sa..=sb).contains(x)) {
+            // The cells left and right of the inner range (not every cell, filtered).
+            let (left, right) = if sa <= sb {
+                (xa..=xb.min(sa - 1), xa.max(sb + 1)..=xb)
+            } else {
+                (xa..=xb, 1..=0)
+            };
+            for x in left.chain(right) {
+                let c = y * self.nx + x;
+                let side = self.sides.get(c).copied().unwrap_or(OPEN);
+                // A cell with no `x` (`mark_void`), or one settled copper reaches soon
+                // enough, passes wherever it lies: that is tested first (most cells pass),
+                // the cell's place only for the others.
+                if side == VOID || (side == OPEN && min[c] + self.slack < below) {
+                    continue;
+                }
                 let rect = self.rect(x, y);
                 if rect.gap_squared(bb) > rho * rho {
                     continue;
@@ -1544,10 +1825,9 @@ impl Cells {
                 if rho > size && fx * fx + fy * fy < (rho - size) * (rho - size) {
                     continue;
                 }
-                let c = y * self.nx + x;
-                let reached = match self.sides.get(c).copied().unwrap_or(OPEN) {
+                let reached = match side {
                     OPEN => min[c] + self.slack,
-                    SHUT => f64::INFINITY,
+                    SHUT | VOID => f64::INFINITY,
                     k => self.through_side(min, x, y, &self.halves[k as usize - 1]),
                 };
                 if reached < below {
@@ -1567,6 +1847,25 @@ impl Cells {
         }
         true
     }
+}
+
+/// The ring is a convex polygon: it turns one way only (or runs straight) at every
+/// vertex, and once round in all (a ring that winds round twice turns one way too).
+fn is_convex(ring: &[P]) -> bool {
+    let n = ring.len();
+    if n < 3 {
+        return false;
+    }
+    let (mut left, mut right, mut turning) = (false, false, 0.0f64);
+    for k in 0..n {
+        let (a, b, c) = (ring[(k + n - 1) % n], ring[k], ring[(k + 1) % n]);
+        let (u, v) = (g::sub(b, a), g::sub(c, b));
+        let turn = g::cross(u, v);
+        left |= turn > 0.0;
+        right |= turn < 0.0;
+        turning += turn.atan2(g::dot(u, v));
+    }
+    !(left && right) && (turning.abs() - std::f64::consts::TAU).abs() < 1e-6
 }
 
 /// The point is in the closed half-plane given as a point on its border and a normal.
@@ -1720,5 +2019,253 @@ mod tests {
         assert!(Entry::new(1.0, 2, 9) > Entry::new(1.0, 3, 0));
         assert!(Entry::new(1.0, 2, 1) > Entry::new(1.0, 2, 2));
         assert_eq!(Entry::new(1.5, 7, 0x30005).parts(), (1.5, 7, 0x30005));
+    }
+
+    /// A generated board 30 by 20 mm: pads 0.3 to 0.7 mm wide on a 1 mm grid (net A left
+    /// of x = 10, B right of x = 20, a few of no net between), on either face or plated
+    /// through, and between the circuits a convex window and a slot walked round (X = 1)
+    /// and a narrow slot bridged. `seed` varies everything.
+    fn generated_board(seed: u64) -> Board {
+        let mut state = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut conductors = Vec::new();
+        for j in 0..20 {
+            for i in 0..30 {
+                let (x, y) = (i as f64 + 0.5, j as f64 + 0.5);
+                let net = if x < 10.0 {
+                    Net::Named("A".into())
+                } else if x > 20.0 {
+                    Net::Named("B".into())
+                } else if next() < 0.1 {
+                    Net::NoConnect
+                } else {
+                    continue;
+                };
+                if next() < 0.3 {
+                    continue;
+                }
+                let layer = match (next() * 3.0) as u32 {
+                    0 => Layer::Top,
+                    1 => Layer::Bottom,
+                    _ => Layer::Through,
+                };
+                let r = 0.15 + 0.2 * next();
+                let p = [x + 0.2 * (next() - 0.5), y + 0.2 * (next() - 0.5)];
+                conductors.push(super::super::Conductor {
+                    layer,
+                    net,
+                    shape: Shape::Segs(vec![Seg { a: p, b: p, r }]),
+                    file: 0,
+                    line: 0,
+                });
+            }
+        }
+        let stadium = |a: P, b: P, w: f64| -> Vec<P> {
+            let d = g::sub(b, a);
+            let angle = d[1].atan2(d[0]);
+            let mut ring = Vec::new();
+            for (centre, from) in [
+                (b, angle - std::f64::consts::FRAC_PI_2),
+                (a, angle + std::f64::consts::FRAC_PI_2),
+            ] {
+                for k in 0..=12 {
+                    let t = from + std::f64::consts::PI * k as f64 / 12.0;
+                    ring.push(g::add(centre, g::scale([t.cos(), t.sin()], w / 2.0)));
+                }
+            }
+            ring
+        };
+        let cutout = |ring: Vec<P>, w: f64| super::super::CutOut {
+            ring,
+            width_mm: Some(w),
+            file: 0,
+            line: 0,
+        };
+        let (wx, wy) = (11.0 + 3.0 * next(), 2.0 + 8.0 * next());
+        let window = vec![
+            [wx, wy],
+            [wx + 3.0 + next(), wy],
+            [wx + 3.0, wy + 5.0 + next()],
+            [wx, wy + 5.0],
+        ];
+        let sx = 16.0 + 3.0 * next();
+        let slot_w = 1.2 + 2.0 * next();
+        let (ny0, ny1) = (12.0 + 2.0 * next(), 16.0 + 3.0 * next());
+        let cutouts = vec![
+            cutout(window, 3.0),
+            cutout(
+                stadium(
+                    [sx, 1.0 + 3.0 * next()],
+                    [sx + 2.0 * (next() - 0.5), 9.0 + 6.0 * next()],
+                    slot_w,
+                ),
+                slot_w,
+            ),
+            cutout(stadium([15.0, ny0], [15.5, ny1], 0.6), 0.6),
+        ];
+        Board {
+            files: Vec::new(),
+            thickness_mm: 1.6,
+            conductors,
+            cutouts,
+            outline: vec![[-0.5, -0.5], [30.5, -0.5], [30.5, 20.5], [-0.5, 20.5]],
+            nets: ["A", "B"].iter().map(|n| n.to_string()).collect(),
+            unknown_net_objects: 0,
+        }
+    }
+
+    #[test]
+    fn cells_inside_a_convex_cut_out_change_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        let mut void_cells_seen = 0;
+        for seed in 0..16 {
+            let board = generated_board(seed);
+            let mut index = Index::new(&board);
+            let (o, _, _) = index.obstacles(1.0);
+            let all = Bbox::around(board.outline.iter().copied());
+            let cells = Cells::new(all, index.segs.len(), &[0, 1], 2, Some(&o), true);
+            void_cells_seen += cells.sides.iter().filter(|&&k| k == VOID).count();
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.void_cells = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+        }
+        // The cells are fine enough for the window and the wide slot to hold some.
+        assert!(void_cells_seen > 16, "{void_cells_seen} cells marked");
+    }
+
+    #[test]
+    fn passing_over_runs_inside_a_ring_changes_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        for seed in 100..116 {
+            let board = generated_board(seed);
+            let mut index = Index::new(&board);
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.inner_runs = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+        }
+    }
+
+    #[test]
+    fn a_hop_passed_over_without_its_root_fails_the_exact_test_too() {
+        let mut state = 7u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut passed_over = 0;
+        for i in 0..200_000 {
+            let k = (next() * 7.0) as u32;
+            let (lo, hi) = (
+                if k == 0 { -1.0 } else { ring_mm(k - 1) },
+                ring_mm(k.max(1)),
+            );
+            let p = [400.0 * next() - 200.0, 400.0 * next() - 200.0];
+            // Lengths right at the ring's bounds half the time, anywhere otherwise.
+            let length = match i % 4 {
+                0 => lo.max(0.0),
+                1 => hi,
+                _ => 2.0 * hi * next(),
+            };
+            let angle = std::f64::consts::TAU * next();
+            let q = g::add(p, g::scale([angle.cos(), angle.sin()], length));
+            let d = 30.0 * next();
+            let w = g::dist(p, q);
+            let reached = if i % 3 == 0 {
+                d + w
+            } else {
+                d + 2.0 * hi * next()
+            };
+            if surely_no_hop(p, q, lo, hi, d, reached) {
+                passed_over += 1;
+                assert!(
+                    !(w > lo && w <= hi) || d + w >= reached,
+                    "{p:?} {q:?} {lo} {hi}"
+                );
+            }
+        }
+        assert!(passed_over > 50_000, "{passed_over}");
+    }
+
+    #[test]
+    fn the_queue_gives_the_entries_a_heap_with_stale_entries_would() {
+        let mut state = 11u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let nodes = 300;
+        let mut queue = Queue::new(nodes);
+        let mut heap = BinaryHeap::new();
+        let mut dist = vec![f64::INFINITY; nodes];
+        let mut now = 0.0;
+        let mut taken = 0;
+        for step in 0..20_000 {
+            if step % 3 != 0 {
+                // Keys on a coarse grid, so that equal keys come often.
+                let v = (next() * nodes as f64) as usize;
+                let key = now + (next() * 8.0).floor() * 0.25;
+                if next() < 0.8 {
+                    if key < dist[v] {
+                        dist[v] = key;
+                        queue.set(v as u32, key);
+                        heap.push(Entry::new(key, v as u32, 0));
+                    }
+                } else {
+                    let ring = Entry::new(key, v as u32, 1 + (next() * 4.0) as u32);
+                    queue.rings.push(ring);
+                    heap.push(ring);
+                }
+                continue;
+            }
+            let expected = loop {
+                match heap.pop() {
+                    Some(e) => {
+                        let (key, v, aux) = e.parts();
+                        if aux == 0 && key > dist[v as usize] {
+                            continue;
+                        }
+                        break Some(e);
+                    }
+                    None => break None,
+                }
+            };
+            let got = queue.pop();
+            assert!(got == expected, "step {step}");
+            if let Some(e) = got {
+                let (key, v, aux) = e.parts();
+                now = key;
+                if aux == 0 {
+                    // Taken: a later key never lowers it again.
+                    dist[v as usize] = f64::NEG_INFINITY;
+                }
+                taken += 1;
+            }
+        }
+        assert!(taken > 2_000, "{taken}");
+    }
+
+    #[test]
+    fn only_a_ring_that_turns_one_way_once_round_is_convex() {
+        let square = vec![[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        assert!(is_convex(&square));
+        let clockwise: Vec<P> = square.iter().rev().copied().collect();
+        assert!(is_convex(&clockwise));
+        let notched = vec![[0.0, 0.0], [1.0, 0.0], [0.5, 0.2], [1.0, 1.0], [0.0, 1.0]];
+        assert!(!is_convex(&notched));
+        let twice: Vec<P> = square.iter().chain(square.iter()).copied().collect();
+        assert!(!is_convex(&twice));
     }
 }
