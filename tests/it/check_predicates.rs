@@ -384,18 +384,8 @@ fn no_shipped_check_reads_a_field_the_checks_context_leaves_out() {
 fn the_checks_context_without_unread_fields_raises_the_same_findings() {
     use gapwarden::checks::{context, context_omits, run_checks};
     let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
-    let mut files = Vec::new();
-    project_files(&root().join("tests/fixtures"), &mut files);
-    project_files(&root().join("examples"), &mut files);
     let mut compared = 0;
-    for path in &files {
-        let Ok(text) = std::fs::read_to_string(path) else {
-            continue;
-        };
-        let source = gapwarden::diag::Source::new(path.display().to_string(), text);
-        let Ok(report) = gapwarden::report::figures(&source, &rules) else {
-            continue;
-        };
+    for (path, report) in fixture_reports(&rules) {
         let outcome = |omit: &[&'static str]| {
             let (findings, checks) = run_checks(&rules, &context(&report, omit))
                 .unwrap_or_else(|p| panic!("{}: the checks run: {p}", path.display()));
@@ -419,9 +409,6 @@ fn the_checks_context_without_unread_fields_raises_the_same_findings() {
 fn plain_messages_are_written_as_the_engine_writes_them() {
     use gapwarden::checks::{Messages, context, context_omits, message, run_checks_with};
     let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
-    let mut files = Vec::new();
-    project_files(&root().join("tests/fixtures"), &mut files);
-    project_files(&root().join("examples"), &mut files);
     let plain_ids: Vec<&str> = rules
         .checks
         .iter()
@@ -429,14 +416,7 @@ fn plain_messages_are_written_as_the_engine_writes_them() {
         .map(|c| &*c.id)
         .collect();
     let (mut findings_compared, mut plain_findings) = (0, 0);
-    for path in &files {
-        let Ok(text) = std::fs::read_to_string(path) else {
-            continue;
-        };
-        let source = gapwarden::diag::Source::new(path.display().to_string(), text);
-        let Ok(report) = gapwarden::report::figures(&source, &rules) else {
-            continue;
-        };
+    for (path, report) in fixture_reports(&rules) {
         let ctx = context(&report, context_omits(&rules));
         let run = |messages| {
             run_checks_with(&rules, &ctx, messages)
@@ -455,4 +435,22 @@ fn plain_messages_are_written_as_the_engine_writes_them() {
         plain_findings >= 100 && findings_compared > plain_findings,
         "{plain_findings} plain findings of {findings_compared}"
     );
+}
+
+/// Every fixture and example whose figures can be computed, with its report (before checks).
+fn fixture_reports(
+    rules: &gapwarden::rules::RuleBook,
+) -> Vec<(std::path::PathBuf, gapwarden::report::Report)> {
+    let mut files = Vec::new();
+    project_files(&root().join("tests/fixtures"), &mut files);
+    project_files(&root().join("examples"), &mut files);
+    files
+        .into_iter()
+        .filter_map(|path| {
+            let text = std::fs::read_to_string(&path).ok()?;
+            let source = gapwarden::diag::Source::new(path.display().to_string(), text);
+            let report = gapwarden::report::figures(&source, rules).ok()?;
+            Some((path, report))
+        })
+        .collect()
 }
