@@ -1805,7 +1805,7 @@ impl Cells {
             let (left, right) = if sa <= sb {
                 (xa..=xb.min(sa - 1), xa.max(sb + 1)..=xb)
             } else {
-                (xa..=xb, 1..=0)
+                (xa..=xb, std::ops::RangeInclusive::new(1, 0)) // nothing on the right
             };
             for x in left.chain(right) {
                 let c = y * self.nx + x;
