@@ -446,12 +446,12 @@ impl Grid {
         }
         let (x0, y0, x1, y1) = self.range(b);
         for y in y0..=y1 {
-            for x in x0..=x1 {
-                let c = y * self.nx + x;
-                for &i in &self.items[self.starts[c] as usize..self.starts[c + 1] as usize] {
-                    if visit(i) {
-                        return true;
-                    }
+            // The cells of a row are consecutive, and so are their items: one slice per row
+            // (the same items in the same order as cell by cell).
+            let (first, end) = (y * self.nx + x0, y * self.nx + x1 + 1);
+            for &i in &self.items[self.starts[first] as usize..self.starts[end] as usize] {
+                if visit(i) {
+                    return true;
                 }
             }
         }
@@ -546,5 +546,62 @@ mod tests {
         );
         assert!(found.contains(&10) && found.contains(&11) && found.contains(&12));
         assert!(!found.contains(&50));
+    }
+
+    /// A query takes each row's items as one slice: the same items in the same order as
+    /// going over the row's cells one by one.
+    #[test]
+    fn a_query_gives_the_items_cell_by_cell_in_order() {
+        let mut state = 3u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut random_box = |size: f64| {
+            let (x, y) = (60.0 * next() - 5.0, 40.0 * next() - 5.0);
+            Bbox {
+                min: [x, y],
+                max: [x + size * next(), y + size * next()],
+            }
+        };
+        let boxes: Vec<Bbox> = (0..2_000).map(|_| random_box(3.0)).collect();
+        let g = Grid::build(&boxes, None);
+        let mut items_seen = 0;
+        for _ in 0..500 {
+            let b = random_box(20.0);
+            let mut got = Vec::new();
+            g.query(&b, |i| got.push(i));
+            let mut expected = Vec::new();
+            let inside = !(b.max[0] < g.origin[0]
+                || b.max[1] < g.origin[1]
+                || b.min[0] > g.origin[0] + g.cell * g.nx as f64
+                || b.min[1] > g.origin[1] + g.cell * g.ny as f64);
+            if inside {
+                let (x0, y0, x1, y1) = g.range(&b);
+                for y in y0..=y1 {
+                    for x in x0..=x1 {
+                        let c = y * g.nx + x;
+                        expected.extend_from_slice(
+                            &g.items[g.starts[c] as usize..g.starts[c + 1] as usize],
+                        );
+                    }
+                }
+            }
+            assert_eq!(got, expected, "{b:?}");
+            items_seen += got.len();
+            // Every box that meets the query is among the items.
+            for (i, other) in boxes.iter().enumerate() {
+                if other.min[0] <= b.max[0]
+                    && b.min[0] <= other.max[0]
+                    && other.min[1] <= b.max[1]
+                    && b.min[1] <= other.max[1]
+                {
+                    assert!(got.contains(&(i as u32)), "{i} in {b:?}");
+                }
+            }
+        }
+        assert!(items_seen > 10_000, "{items_seen}");
     }
 }
