@@ -40,6 +40,14 @@
 //!   other face, or copper in its cell reaches it sooner.
 //! - A rim point reached from the other face goes on along this face only where the
 //!   face's own copper did not reach it as soon.
+//! - A corner's hops to rim points (creepage) are taken run by run (`CHUNK` consecutive
+//!   points of a rim, with their box): a run is passed over where its box is farther than
+//!   the ring's outer radius, or wholly within its inner radius, or where even its nearest
+//!   point would be reached no sooner than its farthest point already is. The box's
+//!   nearest and farthest corners bound each point's sum of squares from below and above
+//!   (in floating point too: differences, squares, sums and roots are monotone), so each
+//!   point of such a run would fail the point-by-point test (`surely_no_hop`) anyway; the
+//!   hops taken are the same.
 //!
 //! The search ends when the second circuit's copper is taken from the queue; no
 //! hop-length limit, so no second search.
@@ -145,7 +153,6 @@ pub struct Index<'b> {
     rim_chunk: Vec<u32>,
     chunk_box: Vec<Bbox>,
     chunk_grid: Grid,
-    rim_grid: Grid,
     /// Which of the later prunings the search uses (all, except in tests that compare
     /// with the search without them).
     prune: Prune,
@@ -159,6 +166,9 @@ struct Prune {
     /// Clearance: runs of rim points wholly within a ring's inner radius are passed over
     /// at once (each point would be).
     inner_runs: bool,
+    /// Creepage: a corner's hops to rim points are looked at run by run, and a run is
+    /// passed over where its box shows every point would be.
+    corner_runs: bool,
 }
 
 struct Obstacles {
@@ -316,8 +326,6 @@ impl<'b> Index<'b> {
             .collect();
         let chunk_grid = Grid::build(&chunk_boxes, None);
         let chunk_box = chunk_boxes;
-        let rim_boxes: Vec<Bbox> = rim.iter().map(|(p, _)| Bbox { min: *p, max: *p }).collect();
-        let rim_grid = Grid::build(&rim_boxes, Some(1.0));
 
         let mut index = Index {
             board,
@@ -337,10 +345,10 @@ impl<'b> Index<'b> {
             rim_chunk,
             chunk_box,
             chunk_grid,
-            rim_grid,
             prune: Prune {
                 void_cells: true,
                 inner_runs: true,
+                corner_runs: true,
             },
         };
         index.find_inside();
@@ -889,27 +897,58 @@ impl<'b> Index<'b> {
                             );
                         });
                         if ui >= corner0 {
-                            self.rim_grid.query(&pb.grown(hi), |k| {
-                                let (q, _) = self.rim[k as usize];
-                                let v = rim0 + 2 * k as usize + f as usize;
-                                if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
-                                    return;
+                            // Rim points run by run: a run is passed over where every one of
+                            // its points would be (`surely_no_hop` of the run's box: its
+                            // nearest and farthest corners bound every point's sums).
+                            let fl = f as usize;
+                            self.chunk_grid.query(&pb.grown(hi), |c| {
+                                let c = c as usize;
+                                let (s, e) = self.chunks[c];
+                                let bc = &self.chunk_box[c];
+                                let near2 = bc.gap_squared(&pb);
+                                let far = [
+                                    (p[0] - bc.min[0]).abs().max((p[0] - bc.max[0]).abs()),
+                                    (p[1] - bc.min[1]).abs().max((p[1] - bc.max[1]).abs()),
+                                ];
+                                if self.prune.corner_runs {
+                                    if near2 > hi * hi * (1.0 + SURE_RATIO)
+                                        || (lo >= 0.0
+                                            && g::dot(far, far) < lo * lo * (1.0 - SURE_RATIO))
+                                    {
+                                        return;
+                                    }
+                                    if st.run_dirty[c][fl] {
+                                        st.run_dirty[c][fl] = false;
+                                        st.run_max[c][fl] = (s..e)
+                                            .map(|k| st.dist[rim0 + 2 * k as usize + fl])
+                                            .fold(0.0, f64::max);
+                                    }
+                                    if d + near2.sqrt() * (1.0 - SURE_RATIO) >= st.run_max[c][fl] {
+                                        return;
+                                    }
                                 }
-                                let w = g::dist(p, q);
-                                if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
-                                    return;
+                                for k in s as usize..e as usize {
+                                    let q = self.rim[k].0;
+                                    let v = rim0 + 2 * k + fl;
+                                    if surely_no_hop(p, q, lo, hi, d, st.dist[v]) {
+                                        continue;
+                                    }
+                                    let w = g::dist(p, q);
+                                    if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
+                                        continue;
+                                    }
+                                    st.relax(
+                                        v,
+                                        d + w,
+                                        Pred {
+                                            from: u,
+                                            from_pt: p,
+                                            from_layer: f,
+                                            to_pt: q,
+                                            to_layer: f,
+                                        },
+                                    );
                                 }
-                                st.relax(
-                                    v,
-                                    d + w,
-                                    Pred {
-                                        from: u,
-                                        from_pt: p,
-                                        from_layer: f,
-                                        to_pt: q,
-                                        to_layer: f,
-                                    },
-                                );
                             });
                         }
                     }
@@ -2152,6 +2191,37 @@ mod tests {
             let without = index.measure(&a, &b, 1.0);
             assert_eq!(with, without, "seed {seed}");
         }
+    }
+
+    #[test]
+    fn corner_hops_run_by_run_change_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        let mut between_faces = 0;
+        for seed in 200..216 {
+            let mut board = generated_board(seed);
+            if seed % 2 == 0 {
+                // The first circuit on the top face only, the second on the bottom: every
+                // path passes down a rim, by way of the cut-outs' corners.
+                for c in &mut board.conductors {
+                    match &c.net {
+                        Net::Named(n) if n == "A" => c.layer = Layer::Top,
+                        Net::Named(_) => c.layer = Layer::Bottom,
+                        // No plated floating copper to pass between the faces either.
+                        _ => c.layer = Layer::Top,
+                    }
+                }
+            }
+            let mut index = Index::new(&board);
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.corner_runs = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+            let (o, _, _) = index.obstacles(1.0);
+            assert!(!o.corners.is_empty(), "seed {seed}: corners to hop from");
+            between_faces += with.creepage.is_some_and(|c| c.between_faces) as usize;
+        }
+        // Half the boards' paths pass down a rim, so rim points matter to the figures.
+        assert!(between_faces >= 8, "{between_faces}");
     }
 
     #[test]
