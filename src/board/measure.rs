@@ -48,6 +48,17 @@
 //!   (in floating point too: differences, squares, sums and roots are monotone), so each
 //!   point of such a run would fail the point-by-point test (`surely_no_hop`) anyway; the
 //!   hops taken are the same.
+//! - A corner's hop to a rim point of its own cut-out, where the cut-out is convex, is a
+//!   chord of the polygon. Where the chord's middle lies more than `4 ON_EDGE_MM` inside
+//!   (below every edge's line), `Obstacles::visible` would find it blocked, and is not
+//!   asked (`Obstacles::chord_hidden`): the depth inside a convex polygon (the least
+//!   distance to its edges' lines) is concave along the chord and about zero at its ends,
+//!   so on the chord's middle half it is at least half the middle's, more than
+//!   `2 ON_EDGE_MM`. `visible` cuts the hop where it touches edges (at the corner at
+//!   least) and tests the middle of each piece longer than 1e-9 of the hop; the piece that
+//!   holds the chord's middle (or, where that one is shorter, the one beside it) has its
+//!   own middle in the middle half: inside the ring and farther than `ON_EDGE_MM` from its
+//!   edges, so strictly blocked.
 //!
 //! The search ends when the second circuit's copper is taken from the queue; no
 //! hop-length limit, so no second search.
@@ -169,6 +180,9 @@ struct Prune {
     /// Creepage: a corner's hops to rim points are looked at run by run, and a run is
     /// passed over where its box shows every point would be.
     corner_runs: bool,
+    /// Creepage: a corner's hop to a rim point of its own convex cut-out whose middle lies
+    /// well inside the cut-out is known hidden without `Obstacles::visible`.
+    own_chords: bool,
 }
 
 struct Obstacles {
@@ -182,6 +196,11 @@ struct Obstacles {
     edge_grid: Grid,
     corners: Vec<P>,
     corner_grid: Grid,
+    /// Each corner's ring (an index in `rings`).
+    corner_ring: Vec<u32>,
+    /// Per rim (the board's cut-outs, then the outline), its ring in `rings` where it is
+    /// a convex cut-out walked round.
+    convex_rim_ring: Vec<Option<u32>>,
 }
 
 /// A queue entry: key, node, and which ring of the node's hops it opens (0: the node
@@ -349,6 +368,7 @@ impl<'b> Index<'b> {
                 void_cells: true,
                 inner_runs: true,
                 corner_runs: true,
+                own_chords: true,
             },
         };
         index.find_inside();
@@ -408,15 +428,22 @@ impl<'b> Index<'b> {
         let board = self.board;
         let mut rings = Vec::new();
         let (mut bridged, mut round) = (0, 0);
+        let mut convex_rim_ring = Vec::with_capacity(board.cutouts.len() + 1);
         for c in &board.cutouts {
             match c.width_mm {
                 Some(w) if w >= groove_width_mm => {
                     round += 1;
+                    convex_rim_ring.push(is_convex(&c.ring).then_some(rings.len() as u32));
                     rings.push((c.ring.clone(), Bbox::around(c.ring.iter().copied()), false));
                 }
-                _ => bridged += 1,
+                _ => {
+                    bridged += 1;
+                    convex_rim_ring.push(None);
+                }
             }
         }
+        convex_rim_ring.push(None);
+        let mut corner_ring = Vec::new();
         rings.push((
             board.outline.clone(),
             Bbox::around(board.outline.iter().copied()),
@@ -426,7 +453,7 @@ impl<'b> Index<'b> {
         let mut edge_normals = Vec::new();
         let mut corners = Vec::new();
         let mut ring_edges = Vec::new();
-        for (ring, _, outer) in &rings {
+        for (r, (ring, _, outer)) in rings.iter().enumerate() {
             ring_edges.push(edges.len());
             let n = ring.len();
             let area_sign = g::ring_area(ring).signum();
@@ -447,6 +474,7 @@ impl<'b> Index<'b> {
                 // where a shortest path may bend.
                 if (!outer && turn > 1e-12) || (*outer && turn < -1e-12) {
                     corners.push(b);
+                    corner_ring.push(r as u32);
                 }
             }
         }
@@ -464,6 +492,8 @@ impl<'b> Index<'b> {
                 edge_normals,
                 corner_grid: Grid::build(&cb, Some(1.0)),
                 corners,
+                corner_ring,
+                convex_rim_ring,
             },
             bridged,
             round,
@@ -901,9 +931,14 @@ impl<'b> Index<'b> {
                             // its points would be (`surely_no_hop` of the run's box: its
                             // nearest and farthest corners bound every point's sums).
                             let fl = f as usize;
+                            let o = obstacles.expect("corners come with obstacles");
+                            let own_ring = o.corner_ring[(ui - corner0) / 2];
                             self.chunk_grid.query(&pb.grown(hi), |c| {
                                 let c = c as usize;
                                 let (s, e) = self.chunks[c];
+                                let own = self.prune.own_chords
+                                    && o.convex_rim_ring[self.rim[s as usize].1 as usize]
+                                        == Some(own_ring);
                                 let bc = &self.chunk_box[c];
                                 let near2 = bc.gap_squared(&pb);
                                 let far = [
@@ -934,7 +969,11 @@ impl<'b> Index<'b> {
                                         continue;
                                     }
                                     let w = g::dist(p, q);
-                                    if !in_ring(w) || d + w >= st.dist[v] || !visible(p, q) {
+                                    if !in_ring(w)
+                                        || d + w >= st.dist[v]
+                                        || (own && o.chord_hidden(own_ring, p, q))
+                                        || !visible(p, q)
+                                    {
                                         continue;
                                     }
                                     st.relax(
@@ -1951,6 +1990,24 @@ fn hides(p: P, q: P, a: &Bbox, b: &Bbox) -> bool {
 }
 
 impl Obstacles {
+    /// The chord from `p` to `q` (points on convex ring `r`, a cut-out) has its middle
+    /// farther than `4 ON_EDGE_MM` inside the ring: `visible` is false for it (module
+    /// comment).
+    fn chord_hidden(&self, r: u32, p: P, q: P) -> bool {
+        let m = g::scale(g::add(p, q), 0.5);
+        let r = r as usize;
+        let edges = self.ring_edges[r]..self.ring_edges[r + 1];
+        let margin = 4.0 * ON_EDGE_MM;
+        self.edges[edges.clone()]
+                .iter()
+                .zip(&self.edge_normals[edges])
+                .all(|(&(a, _), &n)| {
+                    // The normal points out of the cut-out (to the surface), as long as
+                    // the edge: the depth below this edge's line, scaled by its length.
+                    -g::dot(g::sub(m, a), n) > margin * g::dot(n, n).sqrt()
+                })
+    }
+
     /// The edges at least `min_len` long whose boxes meet `region`.
     fn walls_near(&self, region: &Bbox, min_len: f64) -> Vec<u32> {
         let mut found = Vec::new();
@@ -2222,6 +2279,41 @@ mod tests {
         }
         // Half the boards' paths pass down a rim, so rim points matter to the figures.
         assert!(between_faces >= 8, "{between_faces}");
+    }
+
+    #[test]
+    fn a_chord_known_hidden_is_not_visible_and_changes_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        let mut hidden = 0;
+        for seed in 300..316 {
+            let mut board = generated_board(seed);
+            if seed % 2 == 0 {
+                for c in &mut board.conductors {
+                    match &c.net {
+                        Net::Named(n) if n == "A" => c.layer = Layer::Top,
+                        Net::Named(_) => c.layer = Layer::Bottom,
+                        _ => c.layer = Layer::Top,
+                    }
+                }
+            }
+            let mut index = Index::new(&board);
+            // The claim itself: every corner against every point of its own convex rim.
+            let (o, _, _) = index.obstacles(1.0);
+            for (k, &p) in o.corners.iter().enumerate() {
+                let r = o.corner_ring[k];
+                for (q, ri) in &index.rim {
+                    if o.convex_rim_ring[*ri as usize] == Some(r) && o.chord_hidden(r, p, *q) {
+                        hidden += 1;
+                        assert!(!o.visible(p, *q), "seed {seed}: {p:?} {q:?}");
+                    }
+                }
+            }
+            let with = index.measure(&a, &b, 1.0);
+            index.prune.own_chords = false;
+            let without = index.measure(&a, &b, 1.0);
+            assert_eq!(with, without, "seed {seed}");
+        }
+        assert!(hidden > 10_000, "{hidden}");
     }
 
     #[test]
