@@ -9,10 +9,12 @@ use serde::Serialize;
 use crate::diag::{Diagnostic, Problems};
 use crate::rules::{CheckDef, Cond, Over, RuleBook};
 
+pub mod expression;
 pub mod message;
 
-/// How raised findings' messages are written: plain ones without the template engine
-/// (what a run does), or every one by the engine (what a test compares with).
+/// How raised findings' messages are written and expression conditions and subjects
+/// evaluated: the simple forms without the template engine (what a run does, see
+/// `message` and `expression`), or every one by the engine (what a test compares with).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Messages {
     PlainWithoutEngine,
@@ -246,10 +248,17 @@ fn run_one(
             &item
         };
         let ctx = || context! { report => report.clone(), item => item.clone() };
+        let without_engine = messages == Messages::PlainWithoutEngine;
         let holds = |cond: &Cond, part: &str| -> Result<bool, String> {
             match cond {
                 Cond::Predicate(p) => Ok(p.holds(native_item, report)),
-                Cond::Expression(_) => Ok(render(part, &ctx())?.as_deref() == Some("1")),
+                Cond::Expression(e) => match without_engine
+                    .then(|| expression::holds(e, &item, report))
+                    .flatten()
+                {
+                    Some(holds) => Ok(holds),
+                    None => Ok(render(part, &ctx())?.as_deref() == Some("1")),
+                },
             }
         };
         if let Some(applies) = &check.applies
@@ -273,7 +282,14 @@ fn run_one(
             None => render("message", &ctx())?.unwrap_or_default(),
         };
         let subject = match &check.subject {
-            Some(_) => render("subject", &ctx())?.filter(|s| !s.is_empty()),
+            Some(s) => match without_engine
+                .then(|| expression::subject(s, &item, report))
+                .flatten()
+            {
+                Some(subject) => subject,
+                None => render("subject", &ctx())?,
+            }
+            .filter(|s| !s.is_empty()),
             None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
