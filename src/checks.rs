@@ -296,7 +296,7 @@ fn run_one(
             id: check.id.to_string(),
             severity: check.severity,
             subject,
-            message: text.split_whitespace().collect::<Vec<_>>().join(" "),
+            message: one_space(text),
         });
     }
     Ok((judged, raised))
@@ -383,9 +383,82 @@ fn default_subject(over: &Over, item: &Value) -> Option<String> {
         .map(|v| v.to_string())
 }
 
+/// The text with every run of whitespace made one space and none at either end, as
+/// `split_whitespace` and `join(" ")` make it. A text already so (most messages) is kept
+/// after one look at its bytes instead of being cut into words and joined again.
+fn one_space(text: String) -> String {
+    if is_one_spaced(&text) {
+        text
+    } else {
+        text.split_whitespace().collect::<Vec<_>>().join(" ")
+    }
+}
+
+/// Whether `text` has no whitespace but single spaces between other characters.
+fn is_one_spaced(text: &str) -> bool {
+    let bytes = text.as_bytes();
+    if bytes.first() == Some(&b' ') || bytes.last() == Some(&b' ') {
+        return false;
+    }
+    let mut after_space = false;
+    for (i, &b) in bytes.iter().enumerate() {
+        if b == b' ' {
+            if after_space {
+                return false;
+            }
+            after_space = true;
+            continue;
+        }
+        after_space = false;
+        let white = if b < 0x80 {
+            char::from(b).is_whitespace()
+        } else {
+            // Unicode has whitespace beyond ASCII too (U+0085, U+00A0, U+2000 ...); a
+            // character's first byte is at least 0xC0.
+            b >= 0xc0 && text[i..].chars().next().is_some_and(char::is_whitespace)
+        };
+        if white {
+            return false;
+        }
+    }
+    true
+}
+
 fn detail(e: &minijinja::Error) -> String {
     match e.detail() {
         Some(d) => format!("{} ({d})", e.kind()),
         None => e.kind().to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    /// `one_space` against cutting into words and joining them, on texts built from words,
+    /// every whitespace character (ASCII and beyond) and runs of spaces, at the ends and
+    /// between words.
+    #[test]
+    fn one_space_is_split_and_join() {
+        let pieces = [
+            "a", "µs", "Ω", "x²", "", " ", "  ", "\t", "\n", "\r\n", "\u{b}", "\u{c}",
+            "\u{85}", "\u{a0}", "\u{1680}", "\u{2002}", "\u{200a}", "\u{200b}", "\u{2028}",
+            "\u{202f}", "\u{205f}", "\u{3000}", "\u{1c}", "—",
+        ];
+        let mut compared = 0;
+        for a in pieces {
+            for b in pieces {
+                for c in pieces {
+                    for text in [
+                        format!("{a}{b}{c}"),
+                        format!("w{a}w{b}w{c}w"),
+                        format!("{a} w {b}w {c}"),
+                    ] {
+                        let expected = text.split_whitespace().collect::<Vec<_>>().join(" ");
+                        assert_eq!(super::one_space(text.clone()), expected, "{text:?}");
+                        compared += 1;
+                    }
+                }
+            }
+        }
+        assert!(compared > 40_000);
     }
 }
