@@ -75,7 +75,12 @@ pub fn expression_environment() -> Environment<'static> {
 /// template of a shared environment, so a run over many designs parses nothing again.
 #[derive(Debug, Clone)]
 pub struct CompiledChecks {
-    env: Environment<'static>,
+    /// Each check's `applies` and `condition` expressions, subject and message as written
+    /// (templates are made of them only when the engine is asked for one).
+    parts: std::sync::Arc<Vec<[Option<crate::rules::Text>; 4]>>,
+    /// The environment, made on first use: a run whose conditions, subjects and messages
+    /// are all of the forms evaluated natively (`expression`, `message`) never builds it.
+    env: std::sync::OnceLock<Environment<'static>>,
 }
 
 impl CompiledChecks {
@@ -83,51 +88,65 @@ impl CompiledChecks {
     /// message only when a finding is raised); the expressions of house checks were
     /// validated when they were read, the shipped ones are tested with the project.
     pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
-        let mut env = expression_environment();
         let parts: Vec<[Option<crate::rules::Text>; 4]> = checks
             .iter()
             .map(|c| {
                 let expr = |c: Option<&Cond>| match c {
-                    Some(Cond::Expression(e)) => {
-                        Some(format!("{{% if {e} %}}1{{% endif %}}").into())
-                    }
+                    Some(Cond::Expression(e)) => Some(e.clone()),
                     _ => None,
                 };
                 [
                     expr(c.applies.as_ref()),
                     expr(Some(&c.condition)),
-                    c.subject.as_ref().map(|s| {
-                        format!(
-                            "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
-                        )
-                        .into()
-                    }),
+                    c.subject.clone(),
                     Some(c.message.clone()),
                 ]
             })
             .collect();
-        env.set_loader(move |name: &str| {
-            let Some((index, part)) = name.split_once('.') else {
-                return Ok(None);
-            };
-            let slot = match part {
-                "applies" => 0,
-                "condition" => 1,
-                "subject" => 2,
-                "message" => 3,
-                _ => return Ok(None),
-            };
-            Ok(index
-                .parse::<usize>()
-                .ok()
-                .and_then(|i| parts.get(i))
-                .and_then(|p| p[slot].as_deref().map(str::to_string)))
-        });
-        Ok(CompiledChecks { env })
+        Ok(CompiledChecks {
+            parts: std::sync::Arc::new(parts),
+            env: std::sync::OnceLock::new(),
+        })
+    }
+
+    /// The environment whose template `N.part` is part `part` of check `N`.
+    fn env(&self) -> &Environment<'static> {
+        self.env.get_or_init(|| {
+            let mut env = expression_environment();
+            let parts = std::sync::Arc::clone(&self.parts);
+            env.set_loader(move |name: &str| {
+                let Some((index, part)) = name.split_once('.') else {
+                    return Ok(None);
+                };
+                let slot = match part {
+                    "applies" => 0,
+                    "condition" => 1,
+                    "subject" => 2,
+                    "message" => 3,
+                    _ => return Ok(None),
+                };
+                let Some(text) = index
+                    .parse::<usize>()
+                    .ok()
+                    .and_then(|i| parts.get(i))
+                    .and_then(|p| p[slot].as_deref())
+                else {
+                    return Ok(None);
+                };
+                Ok(Some(match slot {
+                    0 | 1 => format!("{{% if {text} %}}1{{% endif %}}"),
+                    2 => format!(
+                        "{{% set s = ({text}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
+                    ),
+                    _ => text.to_string(),
+                }))
+            });
+            env
+        })
     }
 
     fn render(&self, index: usize, part: &str, ctx: &Value) -> Result<Option<String>, String> {
-        let template = match self.env.get_template(&format!("{index}.{part}")) {
+        let template = match self.env().get_template(&format!("{index}.{part}")) {
             Ok(t) => t,
             Err(e) if e.kind() == minijinja::ErrorKind::TemplateNotFound => return Ok(None),
             Err(e) => return Err(format!("{part} cannot be read: {}", detail(&e))),
