@@ -431,7 +431,52 @@ fn main() {
         println!("cargo:rustc-link-arg-bins=-no-pie");
         println!("cargo:rustc-link-arg-examples=-no-pie");
     }
+    let hot = manifest.join("scripts/hot-functions.txt");
+    if hot.is_file() && links_with_rust_lld() {
+        println!(
+            "cargo:rustc-link-arg-bins=-Wl,--symbol-ordering-file={}",
+            hot.display()
+        );
+        println!("cargo:rustc-link-arg-bins=-Wl,--no-warn-symbol-ordering");
+    }
     println!("cargo:rerun-if-changed=rules");
     println!("cargo:rerun-if-changed=templates");
     println!("cargo:rerun-if-changed=src");
+    println!("cargo:rerun-if-changed=scripts/hot-functions.txt");
+    println!("cargo:rerun-if-env-changed=RUSTC_LINKER");
+}
+
+/// Whether the binary is linked by the toolchain's own LLD, which can place the functions a
+/// check runs together (`scripts/hot-functions.txt`, written by `scripts/hot-functions.sh`):
+/// a run then maps a few dozen pages of code instead of most of the binary (page faults per
+/// run 229 -> 144 on the Class II example, README "Performance"). Rust links
+/// x86_64-unknown-linux-gnu with its LLD by default since 1.90; any other target, an older
+/// compiler or a linker chosen in the configuration gets no ordering (the flag would not be
+/// understood), which changes nothing but the layout.
+fn links_with_rust_lld() -> bool {
+    let var = |name: &str| std::env::var(name).unwrap_or_default();
+    if var("TARGET") != "x86_64-unknown-linux-gnu" || !var("RUSTC_LINKER").is_empty() {
+        return false;
+    }
+    let flags = var("CARGO_ENCODED_RUSTFLAGS");
+    if ["linker", "fuse-ld", "link-self-contained", "link-arg"]
+        .iter()
+        .any(|word| flags.contains(word))
+    {
+        return false;
+    }
+    let rustc = std::env::var_os("RUSTC").unwrap_or_else(|| "rustc".into());
+    let Ok(out) = std::process::Command::new(rustc).arg("--version").output() else {
+        return false;
+    };
+    // "rustc 1.95.0 (59807616e 2026-04-14)"
+    let version = String::from_utf8_lossy(&out.stdout);
+    let mut numbers = version
+        .split_whitespace()
+        .nth(1)
+        .unwrap_or("")
+        .split('.')
+        .map(|n| n.parse::<u32>().unwrap_or(0));
+    let (major, minor) = (numbers.next().unwrap_or(0), numbers.next().unwrap_or(0));
+    (major, minor) >= (1, 90)
 }

@@ -3,6 +3,7 @@
 
 pub mod area;
 pub mod batch;
+pub mod block_pool;
 pub mod board;
 pub mod checks;
 pub mod commands;

@@ -10,7 +10,9 @@
 //! exit status 2 (the input could not be used). Without the allocator installed (the
 //! library in tests), [`bounded`] only runs its closure.
 
-use std::alloc::{GlobalAlloc, Layout, System};
+use std::alloc::{GlobalAlloc, Layout};
+
+use crate::block_pool::BlockPool;
 use std::cell::{Cell, RefCell};
 
 /// The most a house template or house check may allocate (net) in one evaluation.
@@ -51,7 +53,8 @@ pub fn bounded<T>(what: &str, limit_bytes: usize, f: impl FnOnce() -> T) -> T {
     f()
 }
 
-/// The system allocator, counting allocations made inside [`bounded`].
+/// The binary's allocator ([`BlockPool`]: small blocks from a fixed region, the rest from
+/// the system), counting allocations made inside [`bounded`].
 pub struct GuardedAllocator;
 
 impl GuardedAllocator {
@@ -88,26 +91,26 @@ impl GuardedAllocator {
     }
 }
 
-// SAFETY: every call is passed to the system allocator unchanged; the counting only
+// SAFETY: every call is passed to the block pool unchanged; the counting only
 // reads and writes thread-local cells (const-initialised, so touching them allocates
 // nothing) and never unwinds.
 unsafe impl GlobalAlloc for GuardedAllocator {
     unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
         Self::charge(layout.size());
         // SAFETY: the caller's contract is passed on unchanged.
-        unsafe { System.alloc(layout) }
+        unsafe { BlockPool.alloc(layout) }
     }
 
     unsafe fn alloc_zeroed(&self, layout: Layout) -> *mut u8 {
         Self::charge(layout.size());
         // SAFETY: as above.
-        unsafe { System.alloc_zeroed(layout) }
+        unsafe { BlockPool.alloc_zeroed(layout) }
     }
 
     unsafe fn dealloc(&self, ptr: *mut u8, layout: Layout) {
         Self::refund(layout.size());
         // SAFETY: as above.
-        unsafe { System.dealloc(ptr, layout) }
+        unsafe { BlockPool.dealloc(ptr, layout) }
     }
 
     unsafe fn realloc(&self, ptr: *mut u8, layout: Layout, new_size: usize) -> *mut u8 {
@@ -117,6 +120,6 @@ unsafe impl GlobalAlloc for GuardedAllocator {
             Self::refund(layout.size() - new_size);
         }
         // SAFETY: as above.
-        unsafe { System.realloc(ptr, layout, new_size) }
+        unsafe { BlockPool.realloc(ptr, layout, new_size) }
     }
 }
