@@ -80,8 +80,8 @@ enum Test<'a> {
 enum End {
     Template,
     Else,
-    EndIf,
-    EndFor,
+    If,
+    For,
 }
 
 fn parse(template: &str) -> Option<Vec<Node<'_>>> {
@@ -131,16 +131,16 @@ fn block<'a>(rest: &mut &'a str, vars: &mut Vec<&'a str>) -> Option<(Vec<Node<'a
         let tail = tail.trim();
         match (keyword, tail) {
             ("else", "") => return Some((nodes, End::Else)),
-            ("endif", "") => return Some((nodes, End::EndIf)),
-            ("endfor", "") => return Some((nodes, End::EndFor)),
+            ("endif", "") => return Some((nodes, End::If)),
+            ("endfor", "") => return Some((nodes, End::For)),
             ("if", _) => {
                 let test = test(tail, vars)?;
                 let (then, end) = block(rest, vars)?;
                 let otherwise = match end {
-                    End::EndIf => Vec::new(),
+                    End::If => Vec::new(),
                     End::Else => {
                         let (otherwise, end) = block(rest, vars)?;
-                        (end == End::EndIf).then_some(otherwise)?
+                        (end == End::If).then_some(otherwise)?
                     }
                     _ => return None,
                 };
@@ -177,7 +177,7 @@ fn block<'a>(rest: &mut &'a str, vars: &mut Vec<&'a str>) -> Option<(Vec<Node<'a
                 };
                 let (body, end) = block(rest, vars)?;
                 vars.pop();
-                if end != End::EndFor {
+                if end != End::For {
                     return None;
                 }
                 nodes.push(Node::For {
