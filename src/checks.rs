@@ -9,10 +9,12 @@ use serde::Serialize;
 use crate::diag::{Diagnostic, Problems};
 use crate::rules::{CheckDef, Cond, Over, RuleBook};
 
+pub mod expression;
 pub mod message;
 
-/// How raised findings' messages are written: plain ones without the template engine
-/// (what a run does), or every one by the engine (what a test compares with).
+/// How raised findings' messages are written and expression conditions and subjects
+/// evaluated: the simple forms without the template engine (what a run does, see
+/// `message` and `expression`), or every one by the engine (what a test compares with).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Messages {
     PlainWithoutEngine,
@@ -73,7 +75,12 @@ pub fn expression_environment() -> Environment<'static> {
 /// template of a shared environment, so a run over many designs parses nothing again.
 #[derive(Debug, Clone)]
 pub struct CompiledChecks {
-    env: Environment<'static>,
+    /// Each check's `applies` and `condition` expressions, subject and message as written
+    /// (templates are made of them only when the engine is asked for one).
+    parts: std::sync::Arc<Vec<[Option<crate::rules::Text>; 4]>>,
+    /// The environment, made on first use: a run whose conditions, subjects and messages
+    /// are all of the forms evaluated natively (`expression`, `message`) never builds it.
+    env: std::sync::OnceLock<Environment<'static>>,
 }
 
 impl CompiledChecks {
@@ -81,51 +88,65 @@ impl CompiledChecks {
     /// message only when a finding is raised); the expressions of house checks were
     /// validated when they were read, the shipped ones are tested with the project.
     pub fn new(checks: &[CheckDef]) -> Result<Self, Vec<Diagnostic>> {
-        let mut env = expression_environment();
         let parts: Vec<[Option<crate::rules::Text>; 4]> = checks
             .iter()
             .map(|c| {
                 let expr = |c: Option<&Cond>| match c {
-                    Some(Cond::Expression(e)) => {
-                        Some(format!("{{% if {e} %}}1{{% endif %}}").into())
-                    }
+                    Some(Cond::Expression(e)) => Some(e.clone()),
                     _ => None,
                 };
                 [
                     expr(c.applies.as_ref()),
                     expr(Some(&c.condition)),
-                    c.subject.as_ref().map(|s| {
-                        format!(
-                            "{{% set s = ({s}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
-                        )
-                        .into()
-                    }),
+                    c.subject.clone(),
                     Some(c.message.clone()),
                 ]
             })
             .collect();
-        env.set_loader(move |name: &str| {
-            let Some((index, part)) = name.split_once('.') else {
-                return Ok(None);
-            };
-            let slot = match part {
-                "applies" => 0,
-                "condition" => 1,
-                "subject" => 2,
-                "message" => 3,
-                _ => return Ok(None),
-            };
-            Ok(index
-                .parse::<usize>()
-                .ok()
-                .and_then(|i| parts.get(i))
-                .and_then(|p| p[slot].as_deref().map(str::to_string)))
-        });
-        Ok(CompiledChecks { env })
+        Ok(CompiledChecks {
+            parts: std::sync::Arc::new(parts),
+            env: std::sync::OnceLock::new(),
+        })
+    }
+
+    /// The environment whose template `N.part` is part `part` of check `N`.
+    fn env(&self) -> &Environment<'static> {
+        self.env.get_or_init(|| {
+            let mut env = expression_environment();
+            let parts = std::sync::Arc::clone(&self.parts);
+            env.set_loader(move |name: &str| {
+                let Some((index, part)) = name.split_once('.') else {
+                    return Ok(None);
+                };
+                let slot = match part {
+                    "applies" => 0,
+                    "condition" => 1,
+                    "subject" => 2,
+                    "message" => 3,
+                    _ => return Ok(None),
+                };
+                let Some(text) = index
+                    .parse::<usize>()
+                    .ok()
+                    .and_then(|i| parts.get(i))
+                    .and_then(|p| p[slot].as_deref())
+                else {
+                    return Ok(None);
+                };
+                Ok(Some(match slot {
+                    0 | 1 => format!("{{% if {text} %}}1{{% endif %}}"),
+                    2 => format!(
+                        "{{% set s = ({text}) %}}{{% if s is not none %}}{{{{ s }}}}{{% endif %}}"
+                    ),
+                    _ => text.to_string(),
+                }))
+            });
+            env
+        })
     }
 
     fn render(&self, index: usize, part: &str, ctx: &Value) -> Result<Option<String>, String> {
-        let template = match self.env.get_template(&format!("{index}.{part}")) {
+        let template = match self.env().get_template(&format!("{index}.{part}")) {
             Ok(t) => t,
             Err(e) if e.kind() == minijinja::ErrorKind::TemplateNotFound => return Ok(None),
             Err(e) => return Err(format!("{part} cannot be read: {}", detail(&e))),
@@ -246,10 +267,17 @@ fn run_one(
             &item
         };
         let ctx = || context! { report => report.clone(), item => item.clone() };
+        let without_engine = messages == Messages::PlainWithoutEngine;
         let holds = |cond: &Cond, part: &str| -> Result<bool, String> {
             match cond {
                 Cond::Predicate(p) => Ok(p.holds(native_item, report)),
-                Cond::Expression(_) => Ok(render(part, &ctx())?.as_deref() == Some("1")),
+                Cond::Expression(e) => match without_engine
+                    .then(|| expression::holds(e, &item, report))
+                    .flatten()
+                {
+                    Some(holds) => Ok(holds),
+                    None => Ok(render(part, &ctx())?.as_deref() == Some("1")),
+                },
             }
         };
         if let Some(applies) = &check.applies
@@ -273,14 +301,21 @@ fn run_one(
             None => render("message", &ctx())?.unwrap_or_default(),
         };
         let subject = match &check.subject {
-            Some(_) => render("subject", &ctx())?.filter(|s| !s.is_empty()),
+            Some(s) => match without_engine
+                .then(|| expression::subject(s, &item, report))
+                .flatten()
+            {
+                Some(subject) => subject,
+                None => render("subject", &ctx())?,
+            }
+            .filter(|s| !s.is_empty()),
             None => default_subject(&check.over, &item),
         };
         findings.push(Finding {
             id: check.id.to_string(),
             severity: check.severity,
             subject,
-            message: text.split_whitespace().collect::<Vec<_>>().join(" "),
+            message: one_space(text),
         });
     }
     Ok((judged, raised))
@@ -367,9 +402,82 @@ fn default_subject(over: &Over, item: &Value) -> Option<String> {
         .map(|v| v.to_string())
 }
 
+/// The text with every run of whitespace made one space and none at either end, as
+/// `split_whitespace` and `join(" ")` make it. A text already so (most messages) is kept
+/// after one look at its bytes instead of being cut into words and joined again.
+fn one_space(text: String) -> String {
+    if is_one_spaced(&text) {
+        text
+    } else {
+        text.split_whitespace().collect::<Vec<_>>().join(" ")
+    }
+}
+
+/// Whether `text` has no whitespace but single spaces between other characters.
+fn is_one_spaced(text: &str) -> bool {
+    let bytes = text.as_bytes();
+    if bytes.first() == Some(&b' ') || bytes.last() == Some(&b' ') {
+        return false;
+    }
+    let mut after_space = false;
+    for (i, &b) in bytes.iter().enumerate() {
+        if b == b' ' {
+            if after_space {
+                return false;
+            }
+            after_space = true;
+            continue;
+        }
+        after_space = false;
+        let white = if b < 0x80 {
+            char::from(b).is_whitespace()
+        } else {
+            // Unicode has whitespace beyond ASCII too (U+0085, U+00A0, U+2000 ...); a
+            // character's first byte is at least 0xC0.
+            b >= 0xc0 && text[i..].chars().next().is_some_and(char::is_whitespace)
+        };
+        if white {
+            return false;
+        }
+    }
+    true
+}
+
 fn detail(e: &minijinja::Error) -> String {
     match e.detail() {
         Some(d) => format!("{} ({d})", e.kind()),
         None => e.kind().to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    /// `one_space` against cutting into words and joining them, on texts built from words,
+    /// every whitespace character (ASCII and beyond) and runs of spaces, at the ends and
+    /// between words.
+    #[test]
+    fn one_space_is_split_and_join() {
+        let pieces = [
+            "a", "µs", "Ω", "x²", "", " ", "  ", "\t", "\n", "\r\n", "\u{b}", "\u{c}",
+            "\u{85}", "\u{a0}", "\u{1680}", "\u{2002}", "\u{200a}", "\u{200b}", "\u{2028}",
+            "\u{202f}", "\u{205f}", "\u{3000}", "\u{1c}", "—",
+        ];
+        let mut compared = 0;
+        for a in pieces {
+            for b in pieces {
+                for c in pieces {
+                    for text in [
+                        format!("{a}{b}{c}"),
+                        format!("w{a}w{b}w{c}w"),
+                        format!("{a} w {b}w {c}"),
+                    ] {
+                        let expected = text.split_whitespace().collect::<Vec<_>>().join(" ");
+                        assert_eq!(super::one_space(text.clone()), expected, "{text:?}");
+                        compared += 1;
+                    }
+                }
+            }
+        }
+        assert!(compared > 40_000);
     }
 }

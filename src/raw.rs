@@ -944,11 +944,13 @@ impl<'s> Reader<'s> {
     }
 }
 
+/// The dotted path of `key` in the table at `path`, made for every key read (so joined
+/// from its pieces, not `format!`ted: `tests::a_key_path_is_the_table_path_dot_key`).
 fn join(path: &str, key: &str) -> String {
     if path.is_empty() {
         key.to_string()
     } else {
-        format!("{path}.{key}")
+        [path, ".", key].concat()
     }
 }
 
@@ -1072,4 +1074,24 @@ fn too_deep(text: &str) -> Option<(usize, String)> {
         i += 1;
     }
     None
+}
+
+#[cfg(test)]
+mod tests {
+    /// `join` against the `format!` it replaces, on empty, plain, dotted, indexed and
+    /// non-ASCII paths and keys.
+    #[test]
+    fn a_key_path_is_the_table_path_dot_key() {
+        let parts = ["", "input", "emc.points[2]", "barrier.pri-sec", "µ", "a b"];
+        for path in parts {
+            for key in parts {
+                let reference = if path.is_empty() {
+                    key.to_string()
+                } else {
+                    format!("{path}.{key}")
+                };
+                assert_eq!(super::join(path, key), reference, "{path:?} {key:?}");
+            }
+        }
+    }
 }

@@ -21,12 +21,12 @@ pub fn pretty<T: Serialize + ?Sized>(value: &T) -> Result<String, Error> {
     let mut writer = Writer {
         // Room for a whole report of the size the examples write (160 KB) without
         // copying it as it grows.
-        out: Vec::with_capacity(1 << 18),
+        out: String::with_capacity(1 << 18),
+        scratch: Vec::new(),
         depth: 0,
     };
     value.serialize(&mut writer)?;
-    // Only whole strings and ASCII punctuation were written.
-    String::from_utf8(writer.out).map_err(|e| Error(e.to_string()))
+    Ok(writer.out)
 }
 
 /// Why a value could not be written (a map key that is not a string or a number, or a
@@ -49,7 +49,12 @@ impl ser::Error for Error {
 }
 
 struct Writer {
-    out: Vec<u8>,
+    /// Written as text from the start (whole strings, pieces of them cut where a
+    /// character starts, ASCII punctuation and digits), so the 160 KB of a report need no
+    /// UTF-8 check at the end.
+    out: String,
+    /// Where serde_json's formatter writes a number before it is added to `out`.
+    scratch: Vec<u8>,
     /// Containers open around the next value.
     depth: usize,
 }
@@ -57,26 +62,25 @@ struct Writer {
 impl Writer {
     fn newline(&mut self) {
         // A newline and two spaces a level, from one run of spaces while it lasts.
-        const LINE: &[u8; 65] =
-            b"\n                                                                ";
+        const LINE: &str = "\n                                                                ";
         let indent = 2 * self.depth;
         match LINE.get(..1 + indent) {
-            Some(line) => self.out.extend_from_slice(line),
+            Some(line) => self.out.push_str(line),
             None => {
-                self.out.extend_from_slice(LINE);
+                self.out.push_str(LINE);
                 self.out
-                    .resize(self.out.len() + indent + 1 - LINE.len(), b' ');
+                    .extend(std::iter::repeat_n(' ', indent + 1 - LINE.len()));
             }
         }
     }
 
-    fn open(&mut self, bracket: u8) -> Compound<'_> {
+    fn open(&mut self, bracket: char) -> Compound<'_> {
         self.out.push(bracket);
         self.depth += 1;
         Compound {
             writer: self,
             first: true,
-            closing: &[],
+            closing: "",
         }
     }
 
@@ -85,31 +89,31 @@ impl Writer {
         let bytes = s.as_bytes();
         let plain = crate::text::json_plain_run(bytes);
         out.reserve(bytes.len() + 2);
-        out.push(b'"');
+        out.push('"');
         if plain == bytes.len() {
             // Most strings (every key): nothing to escape.
-            out.extend_from_slice(bytes);
-            out.push(b'"');
+            out.push_str(s);
+            out.push('"');
             return;
         }
         let (mut copied, mut i) = (0, plain);
         while let Some(&b) = bytes.get(i) {
-            let escape: &[u8] = match b {
-                b'"' => b"\\\"",
-                b'\\' => b"\\\\",
-                b'\n' => b"\\n",
-                b'\r' => b"\\r",
-                b'\t' => b"\\t",
-                0x08 => b"\\b",
-                0x0c => b"\\f",
-                0x00..=0x1f | 0x7f => b"",
+            let escape: &str = match b {
+                b'"' => "\\\"",
+                b'\\' => "\\\\",
+                b'\n' => "\\n",
+                b'\r' => "\\r",
+                b'\t' => "\\t",
+                0x08 => "\\b",
+                0x0c => "\\f",
+                0x00..=0x1f | 0x7f => "",
                 _ => {
                     // Beyond ASCII: kept as written unless hazardous.
                     let Some(c) = s[i..].chars().next() else {
                         break;
                     };
                     if crate::text::is_hazardous(c) {
-                        out.extend_from_slice(&bytes[copied..i]);
+                        out.push_str(&s[copied..i]);
                         let mut units = [0u16; 2];
                         for &mut unit in c.encode_utf16(&mut units) {
                             unicode_escape(out, unit);
@@ -121,40 +125,45 @@ impl Writer {
                     continue;
                 }
             };
-            out.extend_from_slice(&bytes[copied..i]);
+            out.push_str(&s[copied..i]);
             if escape.is_empty() {
                 unicode_escape(out, u16::from(b));
             } else {
-                out.extend_from_slice(escape);
+                out.push_str(escape);
             }
             i += 1;
             copied = i;
             i += crate::text::json_plain_run(&bytes[i..]);
         }
-        out.extend_from_slice(&bytes[copied..]);
-        out.push(b'"');
+        out.push_str(&s[copied..]);
+        out.push('"');
     }
 
     fn number(&mut self, write: impl FnOnce(&mut Vec<u8>) -> std::io::Result<()>) {
-        // Writing to a Vec cannot fail.
-        let _ = write(&mut self.out);
+        // Writing to a Vec cannot fail, and serde_json writes a number in ASCII (digits,
+        // sign, point, exponent), so the check passes; it is a few bytes long.
+        self.scratch.clear();
+        let _ = write(&mut self.scratch);
+        if let Ok(text) = std::str::from_utf8(&self.scratch) {
+            self.out.push_str(text);
+        }
     }
 
     fn float(&mut self, v: f64) {
         if v.is_finite() {
             self.number(|w| CompactFormatter.write_f64(w, if v == 0.0 { 0.0 } else { v }));
         } else {
-            self.out.extend_from_slice(b"null");
+            self.out.push_str("null");
         }
     }
 }
 
 /// `\u00e9`: four lowercase hex digits, as serde_json writes them.
-fn unicode_escape(out: &mut Vec<u8>, unit: u16) {
+fn unicode_escape(out: &mut String, unit: u16) {
     const HEX: &[u8; 16] = b"0123456789abcdef";
-    out.extend_from_slice(b"\\u");
+    out.push_str("\\u");
     for shift in [12, 8, 4, 0] {
-        out.push(HEX[usize::from((unit >> shift) & 0xf)]);
+        out.push(char::from(HEX[usize::from((unit >> shift) & 0xf)]));
     }
 }
 
@@ -162,13 +171,13 @@ fn unicode_escape(out: &mut Vec<u8>, unit: u16) {
 struct Compound<'a> {
     writer: &'a mut Writer,
     first: bool,
-    closing: &'static [u8],
+    closing: &'static str,
 }
 
 impl Compound<'_> {
     fn item(&mut self) {
         if !self.first {
-            self.writer.out.push(b',');
+            self.writer.out.push(',');
         }
         self.first = false;
         self.writer.newline();
@@ -177,10 +186,10 @@ impl Compound<'_> {
     fn key(&mut self, key: &str) {
         self.item();
         self.writer.string(key);
-        self.writer.out.extend_from_slice(b": ");
+        self.writer.out.push_str(": ");
     }
 
-    fn close(self, bracket: u8) {
+    fn close(self, bracket: char) {
         let Compound {
             writer,
             first,
@@ -195,21 +204,21 @@ impl Compound<'_> {
             // The object round a variant: `{"Variant": [...]}` or `{"Variant": {...}}`.
             writer.depth -= 1;
             writer.newline();
-            writer.out.extend_from_slice(closing);
+            writer.out.push_str(closing);
         }
     }
 }
 
 /// `{ "variant": ` before a variant's content, as serde_json writes an externally tagged
 /// enum.
-fn open_variant<'a>(writer: &'a mut Writer, variant: &str, bracket: u8) -> Compound<'a> {
-    writer.out.push(b'{');
+fn open_variant<'a>(writer: &'a mut Writer, variant: &str, bracket: char) -> Compound<'a> {
+    writer.out.push('{');
     writer.depth += 1;
     writer.newline();
     writer.string(variant);
-    writer.out.extend_from_slice(b": ");
+    writer.out.push_str(": ");
     let mut inner = writer.open(bracket);
-    inner.closing = b"}";
+    inner.closing = "}";
     inner
 }
 
@@ -234,8 +243,7 @@ impl<'a> ser::Serializer for &'a mut Writer {
     type SerializeStructVariant = Compound<'a>;
 
     fn serialize_bool(self, v: bool) -> Result<(), Error> {
-        self.out
-            .extend_from_slice(if v { b"true" as &[u8] } else { b"false" });
+        self.out.push_str(if v { "true" } else { "false" });
         Ok(())
     }
 
@@ -256,7 +264,7 @@ impl<'a> ser::Serializer for &'a mut Writer {
         if v.is_finite() {
             self.number(|w| CompactFormatter.write_f32(w, if v == 0.0 { 0.0 } else { v }));
         } else {
-            self.out.extend_from_slice(b"null");
+            self.out.push_str("null");
         }
         Ok(())
     }
@@ -294,7 +302,7 @@ impl<'a> ser::Serializer for &'a mut Writer {
     }
 
     fn serialize_unit(self) -> Result<(), Error> {
-        self.out.extend_from_slice(b"null");
+        self.out.push_str("null");
         Ok(())
     }
 
@@ -327,15 +335,15 @@ impl<'a> ser::Serializer for &'a mut Writer {
         variant: &'static str,
         value: &T,
     ) -> Result<(), Error> {
-        let mut object = self.open(b'{');
+        let mut object = self.open('{');
         object.key(variant);
         value.serialize(&mut *object.writer)?;
-        object.close(b'}');
+        object.close('}');
         Ok(())
     }
 
     fn serialize_seq(self, _len: Option<usize>) -> Result<Compound<'a>, Error> {
-        Ok(self.open(b'['))
+        Ok(self.open('['))
     }
 
     fn serialize_tuple(self, len: usize) -> Result<Compound<'a>, Error> {
@@ -357,15 +365,15 @@ impl<'a> ser::Serializer for &'a mut Writer {
         variant: &'static str,
         _len: usize,
     ) -> Result<Compound<'a>, Error> {
-        Ok(open_variant(self, variant, b'['))
+        Ok(open_variant(self, variant, '['))
     }
 
     fn serialize_map(self, _len: Option<usize>) -> Result<Compound<'a>, Error> {
-        Ok(self.open(b'{'))
+        Ok(self.open('{'))
     }
 
     fn serialize_struct(self, _name: &'static str, _len: usize) -> Result<Compound<'a>, Error> {
-        Ok(self.open(b'{'))
+        Ok(self.open('{'))
     }
 
     fn serialize_struct_variant(
@@ -375,7 +383,7 @@ impl<'a> ser::Serializer for &'a mut Writer {
         variant: &'static str,
         _len: usize,
     ) -> Result<Compound<'a>, Error> {
-        Ok(open_variant(self, variant, b'{'))
+        Ok(open_variant(self, variant, '{'))
     }
 }
 
@@ -389,7 +397,7 @@ impl ser::SerializeSeq for Compound<'_> {
     }
 
     fn end(self) -> Result<(), Error> {
-        self.close(b']');
+        self.close(']');
         Ok(())
     }
 }
@@ -425,7 +433,7 @@ impl ser::SerializeMap for Compound<'_> {
     fn serialize_key<T: Serialize + ?Sized>(&mut self, key: &T) -> Result<(), Error> {
         self.item();
         key.serialize(KeyWriter(&mut *self.writer))?;
-        self.writer.out.extend_from_slice(b": ");
+        self.writer.out.push_str(": ");
         Ok(())
     }
 
@@ -434,7 +442,7 @@ impl ser::SerializeMap for Compound<'_> {
     }
 
     fn end(self) -> Result<(), Error> {
-        self.close(b'}');
+        self.close('}');
         Ok(())
     }
 }
@@ -456,7 +464,7 @@ macro_rules! as_object {
             }
 
             fn end(self) -> Result<(), Error> {
-                self.close(b'}');
+                self.close('}');
                 Ok(())
             }
         })*
@@ -470,9 +478,9 @@ struct KeyWriter<'a>(&'a mut Writer);
 
 impl KeyWriter<'_> {
     fn quoted(self, write: impl FnOnce(&mut Vec<u8>) -> std::io::Result<()>) -> Result<(), Error> {
-        self.0.out.push(b'"');
+        self.0.out.push('"');
         self.0.number(write);
-        self.0.out.push(b'"');
+        self.0.out.push('"');
         Ok(())
     }
 }

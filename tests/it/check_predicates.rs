@@ -454,3 +454,53 @@ fn fixture_reports(
         })
         .collect()
 }
+
+/// Expression conditions and subjects evaluated without the template engine hold exactly
+/// where the engine says they do: on every fixture and example, the same findings
+/// (subjects included) and the same items judged and raised by every check, and enough
+/// expression checks judged for the comparison to mean something.
+#[test]
+fn expression_conditions_hold_as_the_engine_says_on_every_fixture() {
+    use gapwarden::checks::{Messages, context, context_omits, expression, run_checks_with};
+    use gapwarden::rules::Cond;
+    let rules = gapwarden::rules::RuleBook::shipped().expect("the shipped rules load");
+    let expression_ids: Vec<&str> = rules
+        .checks
+        .iter()
+        .filter(|c| {
+            matches!(c.condition, Cond::Expression(_))
+                || matches!(c.applies, Some(Cond::Expression(_)))
+        })
+        .map(|c| &*c.id)
+        .collect();
+    assert!(expression_ids.len() >= 5, "{expression_ids:?}");
+    let (mut judged, mut natively) = (0, 0);
+    for (path, report) in fixture_reports(&rules) {
+        let ctx = context(&report, context_omits(&rules));
+        let run = |messages| {
+            run_checks_with(&rules, &ctx, messages)
+                .unwrap_or_else(|p| panic!("{}: the checks run: {p}", path.display()))
+        };
+        let native = run(Messages::PlainWithoutEngine);
+        let engine = run(Messages::AllByEngine);
+        assert_eq!(native, engine, "{}", path.display());
+        judged += engine
+            .1
+            .iter()
+            .filter(|o| expression_ids.contains(&o.id.as_str()))
+            .map(|o| o.judged)
+            .sum::<usize>();
+        // How many of the shipped expressions this report's values are evaluated natively.
+        let power_entry = ctx.get_attr("power_entry").expect("a power_entry field");
+        if !power_entry.is_none() {
+            for check in rules.checks.iter().filter(|c| &*c.over.word == "power_entry") {
+                if let Cond::Expression(e) = &check.condition {
+                    natively +=
+                        usize::from(expression::holds(e, &power_entry, &ctx).is_some());
+                }
+            }
+        }
+    }
+    assert!(judged >= 50, "only {judged} items judged by expression checks");
+    assert!(natively >= 30, "only {natively} expressions evaluated natively");
+}
