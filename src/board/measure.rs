@@ -1999,13 +1999,13 @@ impl Obstacles {
         let edges = self.ring_edges[r]..self.ring_edges[r + 1];
         let margin = 4.0 * ON_EDGE_MM;
         self.edges[edges.clone()]
-                .iter()
-                .zip(&self.edge_normals[edges])
-                .all(|(&(a, _), &n)| {
-                    // The normal points out of the cut-out (to the surface), as long as
-                    // the edge: the depth below this edge's line, scaled by its length.
-                    -g::dot(g::sub(m, a), n) > margin * g::dot(n, n).sqrt()
-                })
+            .iter()
+            .zip(&self.edge_normals[edges])
+            .all(|(&(a, _), &n)| {
+                // The normal points out of the cut-out (to the surface), as long as
+                // the edge: the depth below this edge's line, scaled by its length.
+                -g::dot(g::sub(m, a), n) > margin * g::dot(n, n).sqrt()
+            })
     }
 
     /// The edges at least `min_len` long whose boxes meet `region`.

@@ -165,7 +165,11 @@ impl<'a> Parser<'a> {
     /// A quoted name: `'margin_ma'`.
     fn quoted(&mut self) -> Option<&'a str> {
         self.skip();
-        let quote = self.rest.chars().next().filter(|&c| c == '\'' || c == '"')?;
+        let quote = self
+            .rest
+            .chars()
+            .next()
+            .filter(|&c| c == '\'' || c == '"')?;
         let inner = &self.rest[1..];
         let close = inner.find(quote)?;
         let text = &inner[..close];
@@ -229,7 +233,10 @@ impl<'a> Parser<'a> {
         }
         // `**`, `/`, `//`, `%`, `+`, `-`, `~`, a bracket: the engine's.
         self.skip();
-        if self.rest.starts_with(['*', '/', '%', '+', '-', '~', '[', '(']) {
+        if self
+            .rest
+            .starts_with(['*', '/', '%', '+', '-', '~', '[', '('])
+        {
             return None;
         }
         Some(operand)
@@ -399,7 +406,10 @@ fn product(a: &Value, b: &Value) -> Option<Value> {
         return None;
     }
     if a.is_integer() && b.is_integer() {
-        let (a, b) = (i64::try_from(a.clone()).ok()?, i64::try_from(b.clone()).ok()?);
+        let (a, b) = (
+            i64::try_from(a.clone()).ok()?,
+            i64::try_from(b.clone()).ok()?,
+        );
         return a.checked_mul(b).map(Value::from);
     }
     // An integer is exact as a float below 2^53; beyond, the engine's rounding is its own.
@@ -541,7 +551,11 @@ mod tests {
         let mut native_count = 0;
         for expression in &expressions {
             if let Some(native) = holds(expression, &item, &report) {
-                assert_eq!(Ok(native), engine(expression, &item, &report), "{expression}");
+                assert_eq!(
+                    Ok(native),
+                    engine(expression, &item, &report),
+                    "{expression}"
+                );
                 native_count += 1;
             }
         }
@@ -596,7 +610,14 @@ mod tests {
     #[test]
     fn subjects_read_as_the_engine_writes_them() {
         let (item, report) = sample();
-        for field in ["circuit", "rated_ac_v", "count_in_series", "nothing", "flag", "touch"] {
+        for field in [
+            "circuit",
+            "rated_ac_v",
+            "count_in_series",
+            "nothing",
+            "flag",
+            "touch",
+        ] {
             let expression = format!("item.{field}");
             let native = subject(&expression, &item, &report)
                 .unwrap_or_else(|| panic!("not written natively: {expression}"));

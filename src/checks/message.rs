@@ -344,7 +344,13 @@ impl Scope<'_, '_> {
         let mut value = match path.root {
             "item" => self.item.clone(),
             "report" => self.report.clone(),
-            var => self.loops.iter().rev().find(|l| l.var == var)?.value.clone(),
+            var => self
+                .loops
+                .iter()
+                .rev()
+                .find(|l| l.var == var)?
+                .value
+                .clone(),
         };
         if value.is_undefined() {
             return None;
@@ -624,13 +630,23 @@ mod tests {
             "item.inner.layer",
             "report.standard",
         ];
-        let loop_fields = ["p.name", "p.verdict", "p.frequency_hz", "p.ok", "p.n", "p.tags", "p"];
+        let loop_fields = [
+            "p.name",
+            "p.verdict",
+            "p.frequency_hz",
+            "p.ok",
+            "p.n",
+            "p.tags",
+            "p",
+        ];
         let mut templates = Vec::new();
         for test in tests {
             for field in fields {
                 let test = test.replace("{}", field);
                 templates.push(format!("a {{% if {test} %}}yes{{% endif %}} b"));
-                templates.push(format!("{{% if {test} %}}yes{{% else %}}no {{{{ item.id }}}}{{% endif %}}"));
+                templates.push(format!(
+                    "{{% if {test} %}}yes{{% else %}}no {{{{ item.id }}}}{{% endif %}}"
+                ));
             }
             for field in loop_fields {
                 let test = test.replace("{}", field);

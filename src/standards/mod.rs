@@ -1045,7 +1045,13 @@ mod tests {
     }
 
     /// A reading's step text as first written, with `format!`.
-    fn step_reference(table: &StandardTable, index: usize, col: usize, x: f64, what: &str) -> String {
+    fn step_reference(
+        table: &StandardTable,
+        index: usize,
+        col: usize,
+        x: f64,
+        what: &str,
+    ) -> String {
         let row = &table.rows[index];
         let value = row.values[col];
         let at = if (row.up_to - x).abs() < EPS {
@@ -1103,7 +1109,11 @@ mod tests {
                         compared += 1;
                     }
                 }
-                for status in [RowStatus::Confirmed, RowStatus::OneSource, RowStatus::FromMemory] {
+                for status in [
+                    RowStatus::Confirmed,
+                    RowStatus::OneSource,
+                    RowStatus::FromMemory,
+                ] {
                     assert_eq!(
                         table.provenance_words(status, &row.note),
                         provenance_reference(table, status, &row.note)

@@ -493,14 +493,23 @@ fn expression_conditions_hold_as_the_engine_says_on_every_fixture() {
         // How many of the shipped expressions this report's values are evaluated natively.
         let power_entry = ctx.get_attr("power_entry").expect("a power_entry field");
         if !power_entry.is_none() {
-            for check in rules.checks.iter().filter(|c| &*c.over.word == "power_entry") {
+            for check in rules
+                .checks
+                .iter()
+                .filter(|c| &*c.over.word == "power_entry")
+            {
                 if let Cond::Expression(e) = &check.condition {
-                    natively +=
-                        usize::from(expression::holds(e, &power_entry, &ctx).is_some());
+                    natively += usize::from(expression::holds(e, &power_entry, &ctx).is_some());
                 }
             }
         }
     }
-    assert!(judged >= 50, "only {judged} items judged by expression checks");
-    assert!(natively >= 30, "only {natively} expressions evaluated natively");
+    assert!(
+        judged >= 50,
+        "only {judged} items judged by expression checks"
+    );
+    assert!(
+        natively >= 30,
+        "only {natively} expressions evaluated natively"
+    );
 }
