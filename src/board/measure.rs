@@ -2250,6 +2250,19 @@ mod tests {
         }
     }
 
+    /// The first circuit on the top face only, the second on the bottom: every path
+    /// passes down a rim, by way of the cut-outs' corners.
+    fn on_opposite_faces(board: &mut Board) {
+        for c in &mut board.conductors {
+            match &c.net {
+                Net::Named(n) if n == "A" => c.layer = Layer::Top,
+                Net::Named(_) => c.layer = Layer::Bottom,
+                // No plated floating copper to pass between the faces either.
+                _ => c.layer = Layer::Top,
+            }
+        }
+    }
+
     #[test]
     fn corner_hops_run_by_run_change_no_measurement() {
         let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
@@ -2257,16 +2270,7 @@ mod tests {
         for seed in 200..216 {
             let mut board = generated_board(seed);
             if seed % 2 == 0 {
-                // The first circuit on the top face only, the second on the bottom: every
-                // path passes down a rim, by way of the cut-outs' corners.
-                for c in &mut board.conductors {
-                    match &c.net {
-                        Net::Named(n) if n == "A" => c.layer = Layer::Top,
-                        Net::Named(_) => c.layer = Layer::Bottom,
-                        // No plated floating copper to pass between the faces either.
-                        _ => c.layer = Layer::Top,
-                    }
-                }
+                on_opposite_faces(&mut board);
             }
             let mut index = Index::new(&board);
             let with = index.measure(&a, &b, 1.0);
@@ -2288,13 +2292,7 @@ mod tests {
         for seed in 300..316 {
             let mut board = generated_board(seed);
             if seed % 2 == 0 {
-                for c in &mut board.conductors {
-                    match &c.net {
-                        Net::Named(n) if n == "A" => c.layer = Layer::Top,
-                        Net::Named(_) => c.layer = Layer::Bottom,
-                        _ => c.layer = Layer::Top,
-                    }
-                }
+                on_opposite_faces(&mut board);
             }
             let mut index = Index::new(&board);
             // The claim itself: every corner against every point of its own convex rim.
