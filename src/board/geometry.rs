@@ -463,6 +463,19 @@ impl Grid {
     }
 }
 
+/// A repeatable sequence of numbers in [0, 1) from `seed` (a 64-bit linear congruential
+/// generator, top 53 bits), for the board's tests: generated boards, boxes and hops.
+#[cfg(test)]
+pub(crate) fn uniform_sequence(seed: u64) -> impl FnMut() -> f64 {
+    let mut state = seed;
+    move || {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -552,13 +565,7 @@ mod tests {
     /// going over the row's cells one by one.
     #[test]
     fn a_query_gives_the_items_cell_by_cell_in_order() {
-        let mut state = 3u64;
-        let mut next = move || {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (state >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut next = uniform_sequence(3);
         let mut random_box = |size: f64| {
             let (x, y) = (60.0 * next() - 5.0, 40.0 * next() - 5.0);
             Bbox {

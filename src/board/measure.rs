@@ -2122,15 +2122,9 @@ mod tests {
     /// through, and between the circuits a convex window and a slot walked round (X = 1)
     /// and a narrow slot bridged. `seed` varies everything.
     fn generated_board(seed: u64) -> Board {
-        let mut state = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        let mut next = move || {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (state >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut next = g::uniform_sequence(seed);
+        // The first number is passed over (the sequence the boards were first made with).
+        next();
         let mut conductors = Vec::new();
         for j in 0..20 {
             for i in 0..30 {
@@ -2316,13 +2310,7 @@ mod tests {
 
     #[test]
     fn a_hop_passed_over_without_its_root_fails_the_exact_test_too() {
-        let mut state = 7u64;
-        let mut next = move || {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (state >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut next = g::uniform_sequence(7);
         let mut passed_over = 0;
         for i in 0..200_000 {
             let k = (next() * 7.0) as u32;
@@ -2359,13 +2347,7 @@ mod tests {
 
     #[test]
     fn the_queue_gives_the_entries_a_heap_with_stale_entries_would() {
-        let mut state = 11u64;
-        let mut next = move || {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (state >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut next = g::uniform_sequence(11);
         let nodes = 300;
         let mut queue = Queue::new(nodes);
         let mut heap = BinaryHeap::new();
