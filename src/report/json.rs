@@ -66,7 +66,13 @@ impl Writer {
         const LINE: &str = "\n                                                                ";
         let indent = 2 * self.depth;
         match LINE.get(..1 + indent) {
-            Some(line) => self.out.push_str(line),
+            // The whole run, a copy of fixed length (a few vector stores, no call), cut
+            // back to the indent.
+            Some(line) => {
+                let end = self.out.len() + line.len();
+                self.out.push_str(LINE);
+                self.out.truncate(end);
+            }
             None => {
                 self.out.push_str(LINE);
                 self.out
