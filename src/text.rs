@@ -567,7 +567,7 @@ pub fn apart(value: f64, bounds: &[f64], shown: impl Fn(f64) -> String) -> Strin
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
     /// What `number` printed before its digits were written from an integer: the standard
@@ -682,33 +682,36 @@ mod tests {
         }
     }
 
-    /// The two runs against a byte-by-byte reading on texts of every length up to 17
-    /// (no word, part of a word, one or two words and a tail), with every byte value at
-    /// every position.
-    #[test]
-    fn every_run_is_exact_at_every_length() {
-        type Run = (fn(&[u8]) -> usize, fn(u8) -> bool);
-        let runs: [Run; 2] = [
-            (printable_ascii_run, |b| (0x20..0x7f).contains(&b)),
-            (digit_free_run, |b| !b.is_ascii_digit()),
-        ];
-        for (run, kept) in runs {
-            for len in 0..=17 {
-                assert_eq!(run(&vec![b'a'; len]), len);
-                for position in 0..len {
-                    for byte in 0..=255u8 {
-                        let mut text = vec![b'a'; len];
-                        text[position] = byte;
-                        let expected = text.iter().take_while(|&&b| kept(b)).count();
-                        assert_eq!(
-                            run(&text),
-                            expected,
-                            "byte {byte:#04x} at {position} of {len}"
-                        );
-                    }
+    /// `run` against a byte-by-byte reading of `kept` on texts of every length up to
+    /// `longest`, with every byte value at every position.
+    pub(crate) fn assert_exact_at_every_length(
+        run: fn(&[u8]) -> usize,
+        kept: fn(u8) -> bool,
+        longest: usize,
+    ) {
+        for len in 0..=longest {
+            assert_eq!(run(&vec![b'a'; len]), len);
+            for position in 0..len {
+                for byte in 0..=255u8 {
+                    let mut text = vec![b'a'; len];
+                    text[position] = byte;
+                    let expected = text.iter().take_while(|&&b| kept(b)).count();
+                    assert_eq!(
+                        run(&text),
+                        expected,
+                        "byte {byte:#04x} at {position} of {len}"
+                    );
                 }
             }
         }
+    }
+
+    /// The two runs on texts of every length up to 17 (no word, part of a word, one or
+    /// two words and a tail).
+    #[test]
+    fn every_run_is_exact_at_every_length() {
+        assert_exact_at_every_length(printable_ascii_run, |b| (0x20..0x7f).contains(&b), 17);
+        assert_exact_at_every_length(digit_free_run, |b| !b.is_ascii_digit(), 17);
     }
 
     /// As for the printable run: every byte value at every position of a 17-byte text.

@@ -760,21 +760,7 @@ mod tests {
     /// at every position: the run is as long as a byte-by-byte reading says.
     #[test]
     fn the_plain_run_is_exact_at_every_length_and_position() {
-        for len in 0..=40 {
-            assert_eq!(plain_run(&vec![b'a'; len]), len);
-            for position in 0..len {
-                for byte in 0..=255u8 {
-                    let mut text = vec![b'a'; len];
-                    text[position] = byte;
-                    let expected = text.iter().take_while(|&&b| kept(b)).count();
-                    assert_eq!(
-                        plain_run(&text),
-                        expected,
-                        "{byte:#04x} at {position} of {len}"
-                    );
-                }
-            }
-        }
+        crate::text::tests::assert_exact_at_every_length(plain_run, kept, 40);
     }
 
     /// Two bytes from the boundary set at every pair of positions: a stop after another
