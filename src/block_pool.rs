@@ -114,7 +114,17 @@ fn in_region(ptr: *mut u8) -> bool {
 /// A block of class `class` from the current thread's free list or stretch; null when the
 /// region is used up (or the thread's state is gone, at its very end).
 fn take(class: usize) -> *mut u8 {
-    let head = FREE.try_with(|free| {
+    match take_freed(class) {
+        Some(0) => cut(class_size(class)),
+        Some(head) => head as *mut u8,
+        None => std::ptr::null_mut(),
+    }
+}
+
+/// The first block on the current thread's free list of `class` (0 when the list is
+/// empty; `None` while the thread is being torn down).
+fn take_freed(class: usize) -> Option<usize> {
+    FREE.try_with(|free| {
         let head = free[class].get();
         if head != 0 {
             // SAFETY: a block on a free list is ours, at least a word long, and aligned;
@@ -123,12 +133,8 @@ fn take(class: usize) -> *mut u8 {
             free[class].set(next);
         }
         head
-    });
-    match head {
-        Ok(0) => cut(class_size(class)),
-        Ok(head) => head as *mut u8,
-        Err(_) => std::ptr::null_mut(),
-    }
+    })
+    .ok()
 }
 
 /// `size` bytes (a multiple of [`BLOCK_ALIGN`]) cut from the current thread's stretch,
@@ -228,12 +234,23 @@ unsafe impl GlobalAlloc for BlockPool {
 
     unsafe fn alloc_zeroed(&self, layout: Layout) -> *mut u8 {
         if let Some(class) = Self::pooled_class(layout) {
-            let block = take(class);
-            if !block.is_null() {
-                // A reused block holds its last owner's bytes.
-                // SAFETY: the block is at least `layout.size()` bytes and ours.
-                unsafe { block.write_bytes(0, layout.size()) };
-                return block;
+            match take_freed(class) {
+                Some(0) => {
+                    // Never handed out before: the region starts zeroed (a static), and
+                    // nothing is written beyond the last block cut.
+                    let block = cut(class_size(class));
+                    if !block.is_null() {
+                        return block;
+                    }
+                }
+                Some(head) => {
+                    // A reused block holds its last owner's bytes.
+                    let block = head as *mut u8;
+                    // SAFETY: the block is at least `layout.size()` bytes and ours.
+                    unsafe { block.write_bytes(0, layout.size()) };
+                    return block;
+                }
+                None => {}
             }
         }
         // SAFETY: as above.

@@ -53,24 +53,7 @@ pub(crate) fn printable_ascii_run(bytes: &[u8]) -> usize {
         let is_del = del.wrapping_sub(ONES) & !del;
         (w | below_space | is_del) & HIGH != 0
     };
-    run_while::<false>(bytes, stops, |b| (0x20..0x7f).contains(&b))
-}
-
-/// How many bytes at the start of `bytes` a JSON string holds as they are: printable ASCII
-/// (0x20 to 0x7e) other than the quote and the backslash, looked at eight at a time.
-pub(crate) fn json_plain_run(bytes: &[u8]) -> usize {
-    // A byte equal to `b` is a zero byte of `w ^ b...b`, found as in `printable_ascii_run`.
-    let equal = |w: u64, b: u8| {
-        let x = w ^ (b as u64 * ONES);
-        x.wrapping_sub(ONES) & !x
-    };
-    let stops = |w: u64| {
-        let below_space = w.wrapping_sub(0x20 * ONES) & !w;
-        (w | below_space | equal(w, 0x7f) | equal(w, b'"') | equal(w, b'\\')) & HIGH != 0
-    };
-    run_while::<true>(bytes, stops, |b| {
-        (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
-    })
+    run_while(bytes, stops, |b| (0x20..0x7f).contains(&b))
 }
 
 /// How many bytes at the start of `bytes` Markdown escaping copies as they are: printable
@@ -92,7 +75,8 @@ pub(crate) fn markdown_prose_run(bytes: &[u8]) -> usize {
 /// The bytes of a word that [`markdown_plain_run`] may stop at, marked by their high bit
 /// (see [`run_to_mark`]).
 fn markdown_marks(w: u64) -> u64 {
-    // As in `json_plain_run`. For a word of ASCII bytes adding `0x80 - n` to each sets a
+    // A byte equal to `b` is a zero byte of `w ^ b...b`, found as in
+    // `printable_ascii_run`. For a word of ASCII bytes adding `0x80 - n` to each sets a
     // byte's high bit exactly when it is at least `n` (no carry leaves a byte); a byte
     // beyond ASCII is marked by its own high bit. The ranges take in `^`, `}` and `~` too,
     // which are kept.
@@ -169,16 +153,9 @@ fn run_to_mark(bytes: &[u8], stops: impl Fn(u64) -> u64, kept: impl Fn(u8) -> bo
 /// How many bytes at the start of `bytes` are `kept`, skipping eight at a time while
 /// `may_stop` is false for the word. `may_stop` may be true for a word whose bytes are all
 /// kept (that word is then looked at byte by byte), never false for one that holds a byte
-/// that is not: the count is exact either way. Every caller keeps the space ([`FILLER`]).
-///
-/// With `PAD_TAIL` the last few bytes are first tested as one padded word: worth it where a
-/// run usually reaches the end of its text (JSON strings), a loss where it usually stops
-/// before (prose, with line ends and digits).
-fn run_while<const PAD_TAIL: bool>(
-    bytes: &[u8],
-    may_stop: impl Fn(u64) -> bool,
-    kept: impl Fn(u8) -> bool,
-) -> usize {
+/// that is not: the count is exact either way. The last few bytes are read one by one:
+/// prose (with line ends and digits) usually stops before them.
+fn run_while(bytes: &[u8], may_stop: impl Fn(u64) -> bool, kept: impl Fn(u8) -> bool) -> usize {
     let mut i = 0;
     while let Some(chunk) = bytes
         .get(i..i + 8)
@@ -189,23 +166,8 @@ fn run_while<const PAD_TAIL: bool>(
         }
         i += 8;
     }
-    let rest = &bytes[i..];
-    if PAD_TAIL && rest.len() < 8 {
-        // The last few bytes (most short strings are nothing else) as one word, padded with
-        // a byte every caller keeps: the same test decides them at once.
-        let mut word = [FILLER; 8];
-        word[..rest.len()].copy_from_slice(rest);
-        if !may_stop(u64::from_le_bytes(word)) {
-            return bytes.len();
-        }
-    }
-    i + rest.iter().take_while(|&&b| kept(b)).count()
+    i + bytes[i..].iter().take_while(|&&b| kept(b)).count()
 }
-
-/// The byte that pads the last word of a run: printable ASCII, not a digit, not a quote or
-/// a backslash, so kept by every run above and the word can pass. (Any byte would give the
-/// same count: one that a run stops at only sends the tail to the byte-by-byte reading.)
-const FILLER: u8 = b' ';
 
 /// The text with every hazardous character (see [`is_hazardous`]) shown as `<U+XXXX>`;
 /// newlines and tabs are kept. For anything printed to a terminal or a page.
@@ -469,7 +431,7 @@ const UNITS: &[&str] = &[
 /// How many bytes at the start of `bytes` are not ASCII digits, looked at eight at a time
 /// (figures are a small part of prose).
 fn digit_free_run(bytes: &[u8]) -> usize {
-    run_while::<false>(bytes, may_hold_digit, |b| !b.is_ascii_digit())
+    run_while(bytes, may_hold_digit, |b| !b.is_ascii_digit())
 }
 
 /// Whether a word of eight bytes may hold an ASCII digit (a byte beyond ASCII may look like
@@ -605,7 +567,7 @@ pub fn apart(value: f64, bounds: &[f64], shown: impl Fn(f64) -> String) -> Strin
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
     /// What `number` printed before its digits were written from an integer: the standard
@@ -720,54 +682,36 @@ mod tests {
         }
     }
 
-    /// The three runs against a byte-by-byte reading on texts of every length up to 17
-    /// (no word, part of a word, one or two words and a tail), with every byte value at
-    /// every position: the padded last word decides a short tail exactly.
-    #[test]
-    fn every_run_is_exact_at_every_length() {
-        type Run = (fn(&[u8]) -> usize, fn(u8) -> bool);
-        let runs: [Run; 3] = [
-            (printable_ascii_run, |b| (0x20..0x7f).contains(&b)),
-            (json_plain_run, |b| {
-                (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
-            }),
-            (digit_free_run, |b| !b.is_ascii_digit()),
-        ];
-        for (run, kept) in runs {
-            for len in 0..=17 {
-                assert_eq!(run(&vec![b'a'; len]), len);
-                for position in 0..len {
-                    for byte in 0..=255u8 {
-                        let mut text = vec![b'a'; len];
-                        text[position] = byte;
-                        let expected = text.iter().take_while(|&&b| kept(b)).count();
-                        assert_eq!(
-                            run(&text),
-                            expected,
-                            "byte {byte:#04x} at {position} of {len}"
-                        );
-                    }
+    /// `run` against a byte-by-byte reading of `kept` on texts of every length up to
+    /// `longest`, with every byte value at every position.
+    pub(crate) fn assert_exact_at_every_length(
+        run: fn(&[u8]) -> usize,
+        kept: fn(u8) -> bool,
+        longest: usize,
+    ) {
+        for len in 0..=longest {
+            assert_eq!(run(&vec![b'a'; len]), len);
+            for position in 0..len {
+                for byte in 0..=255u8 {
+                    let mut text = vec![b'a'; len];
+                    text[position] = byte;
+                    let expected = text.iter().take_while(|&&b| kept(b)).count();
+                    assert_eq!(
+                        run(&text),
+                        expected,
+                        "byte {byte:#04x} at {position} of {len}"
+                    );
                 }
             }
         }
     }
 
-    /// As for the printable run: every byte value at every position of a 17-byte text.
+    /// The two runs on texts of every length up to 17 (no word, part of a word, one or
+    /// two words and a tail).
     #[test]
-    fn the_json_plain_run_stops_at_quotes_backslashes_controls_and_non_ascii() {
-        for position in 0..17 {
-            for byte in 0..=255u8 {
-                let mut text = vec![b'a'; 17];
-                text[position] = byte;
-                let plain = (0x20..0x7f).contains(&byte) && byte != b'"' && byte != b'\\';
-                let expected = if plain { 17 } else { position };
-                assert_eq!(
-                    json_plain_run(&text),
-                    expected,
-                    "byte {byte:#04x} at {position}"
-                );
-            }
-        }
+    fn every_run_is_exact_at_every_length() {
+        assert_exact_at_every_length(printable_ascii_run, |b| (0x20..0x7f).contains(&b), 17);
+        assert_exact_at_every_length(digit_free_run, |b| !b.is_ascii_digit(), 17);
     }
 
     /// As for the printable run: every byte value at every position of a 17-byte text.

@@ -8,7 +8,8 @@
 //!
 //! Written here rather than as a serde_json formatter because serde_json looks at every
 //! byte of every string through a table before a formatter sees it; this writer skips
-//! the plain runs eight bytes at a time. `tests/it/report_layout.rs` holds it to
+//! the plain runs sixteen bytes at a time, and writes struct field names without looking
+//! at them. `tests/it/report_layout.rs` holds it to
 //! serde_json's output on every fixture and on generated strings.
 
 use std::fmt::Display;
@@ -65,13 +66,34 @@ impl Writer {
         const LINE: &str = "\n                                                                ";
         let indent = 2 * self.depth;
         match LINE.get(..1 + indent) {
-            Some(line) => self.out.push_str(line),
+            // The whole run, a copy of fixed length (a few vector stores, no call), cut
+            // back to the indent.
+            Some(line) => {
+                let end = self.out.len() + line.len();
+                self.out.push_str(LINE);
+                self.out.truncate(end);
+            }
             None => {
                 self.out.push_str(LINE);
                 self.out
                     .extend(std::iter::repeat_n(' ', indent + 1 - LINE.len()));
             }
         }
+    }
+
+    /// A struct's field name (or a variant's) and the `": "` after it: our own
+    /// identifiers, which need no escaping (checked in debug builds, and by the comparison
+    /// with serde_json's output in the tests).
+    fn field_name(&mut self, name: &'static str) {
+        debug_assert_eq!(
+            plain_run(name.as_bytes()),
+            name.len(),
+            "field name {name:?}"
+        );
+        self.out.reserve(name.len() + 4);
+        self.out.push('"');
+        self.out.push_str(name);
+        self.out.push_str("\": ");
     }
 
     fn open(&mut self, bracket: char) -> Compound<'_> {
@@ -87,7 +109,7 @@ impl Writer {
     fn string(&mut self, s: &str) {
         let out = &mut self.out;
         let bytes = s.as_bytes();
-        let plain = crate::text::json_plain_run(bytes);
+        let plain = plain_run(bytes);
         out.reserve(bytes.len() + 2);
         out.push('"');
         if plain == bytes.len() {
@@ -121,7 +143,7 @@ impl Writer {
                         copied = i + c.len_utf8();
                     }
                     i += c.len_utf8();
-                    i += crate::text::json_plain_run(&bytes[i..]);
+                    i += plain_run(&bytes[i..]);
                     continue;
                 }
             };
@@ -133,7 +155,7 @@ impl Writer {
             }
             i += 1;
             copied = i;
-            i += crate::text::json_plain_run(&bytes[i..]);
+            i += plain_run(&bytes[i..]);
         }
         out.push_str(&s[copied..]);
         out.push('"');
@@ -156,6 +178,84 @@ impl Writer {
             self.out.push_str("null");
         }
     }
+}
+
+/// How many bytes at the start of `bytes` a JSON string holds as they are: printable ASCII
+/// (0x20 to 0x7e) other than the quote and the backslash. Looked at sixteen bytes at a
+/// time, the last sixteen overlapping the chunk before; a string of four to fifteen bytes
+/// as its first and last eight (or four) bytes, which overlap and so cover every byte.
+fn plain_run(bytes: &[u8]) -> usize {
+    let n = bytes.len();
+    let kept = |b: &&u8| (0x20..0x7f).contains(*b) && **b != b'"' && **b != b'\\';
+    let whole = match n {
+        0..4 => false,
+        4..8 => !word_stops(u64::from_le_bytes(join(head::<4>(bytes), tail::<4>(bytes)))),
+        8..16 => {
+            !word_stops(u64::from_le_bytes(head::<8>(bytes)))
+                && !word_stops(u64::from_le_bytes(tail::<8>(bytes)))
+        }
+        _ => {
+            let (chunks, _) = bytes.as_chunks::<16>();
+            for (k, chunk) in chunks.iter().enumerate() {
+                if stops(chunk) {
+                    let i = 16 * k;
+                    return i + bytes[i..].iter().take_while(kept).count();
+                }
+            }
+            let (_, ends) = bytes.as_rchunks::<16>();
+            ends.last().is_none_or(|chunk| !stops(chunk))
+        }
+    };
+    if whole {
+        n
+    } else {
+        bytes.iter().take_while(kept).count()
+    }
+}
+
+/// True where some byte of a chunk ends a run of a JSON string's plain bytes: a control
+/// character, a quote, a backslash, DEL or a byte beyond ASCII. Written byte by byte;
+/// compiled as a few vector instructions.
+#[inline(always)]
+fn stops(chunk: &[u8; 16]) -> bool {
+    let mut any = false;
+    for &b in chunk {
+        any |= (b < 0x20) | (b == b'"') | (b == b'\\') | (b >= 0x7f);
+    }
+    any
+}
+
+/// The first `N` bytes (the caller has checked there are that many).
+fn head<const N: usize>(bytes: &[u8]) -> [u8; N] {
+    let mut part = [0; N];
+    part.copy_from_slice(&bytes[..N]);
+    part
+}
+
+/// The last `N` bytes (the caller has checked there are that many).
+fn tail<const N: usize>(bytes: &[u8]) -> [u8; N] {
+    let mut part = [0; N];
+    part.copy_from_slice(&bytes[bytes.len() - N..]);
+    part
+}
+
+fn join(low: [u8; 4], high: [u8; 4]) -> [u8; 8] {
+    let mut both = [0; 8];
+    both[..4].copy_from_slice(&low);
+    both[4..].copy_from_slice(&high);
+    both
+}
+
+/// [`stops`] for eight bytes in a word: `(x - n) & !x` has a byte's high bit set where
+/// that byte of `x` is below `n` (or a byte before it is, which is then a stop too); a
+/// byte equal to `b` is a zero byte of `x ^ b...b`; DEL plus one and every byte beyond
+/// ASCII have the high bit set.
+fn word_stops(w: u64) -> bool {
+    const ONES: u64 = 0x0101_0101_0101_0101;
+    const HIGH: u64 = 0x8080_8080_8080_8080;
+    let below = |x: u64, n: u64| x.wrapping_sub(n * ONES) & !x;
+    let equal = |b: u8| below(w ^ (u64::from(b) * ONES), 1);
+    (w | w.wrapping_add(ONES) | below(w, 0x20) | equal(b'"') | equal(b'\\')) & HIGH != 0
 }
 
 /// `\u00e9`: four lowercase hex digits, as serde_json writes them.
@@ -183,10 +283,9 @@ impl Compound<'_> {
         self.writer.newline();
     }
 
-    fn key(&mut self, key: &str) {
+    fn key(&mut self, key: &'static str) {
         self.item();
-        self.writer.string(key);
-        self.writer.out.push_str(": ");
+        self.writer.field_name(key);
     }
 
     fn close(self, bracket: char) {
@@ -211,12 +310,11 @@ impl Compound<'_> {
 
 /// `{ "variant": ` before a variant's content, as serde_json writes an externally tagged
 /// enum.
-fn open_variant<'a>(writer: &'a mut Writer, variant: &str, bracket: char) -> Compound<'a> {
+fn open_variant<'a>(writer: &'a mut Writer, variant: &'static str, bracket: char) -> Compound<'a> {
     writer.out.push('{');
     writer.depth += 1;
     writer.newline();
-    writer.string(variant);
-    writer.out.push_str(": ");
+    writer.field_name(variant);
     let mut inner = writer.open(bracket);
     inner.closing = "}";
     inner
@@ -640,5 +738,61 @@ impl ser::Serializer for KeyWriter<'_> {
         _len: usize,
     ) -> Result<Self::SerializeStructVariant, Error> {
         Err(key_must_be_a_string())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn kept(b: u8) -> bool {
+        (0x20..0x7f).contains(&b) && b != b'"' && b != b'\\'
+    }
+
+    /// Bytes at and around every boundary the run tests: controls, space, quote,
+    /// backslash, tilde, DEL, the first and last bytes beyond ASCII.
+    const EDGES: [u8; 11] = [
+        0x00, 0x1f, 0x20, 0x21, b'"', b'\\', 0x7e, 0x7f, 0x80, 0xc2, 0xff,
+    ];
+
+    /// Every length to 40 (under four bytes, one word of four to eight, two overlapping
+    /// words to sixteen, chunks of sixteen with an overlapping last one), every byte value
+    /// at every position: the run is as long as a byte-by-byte reading says.
+    #[test]
+    fn the_plain_run_is_exact_at_every_length_and_position() {
+        crate::text::tests::assert_exact_at_every_length(plain_run, kept, 40);
+    }
+
+    /// Two bytes from the boundary set at every pair of positions: a stop after another
+    /// (a carry or borrow between bytes of a word) never changes the count.
+    #[test]
+    fn the_plain_run_is_exact_with_two_stops() {
+        for len in 2..=40 {
+            for first in 0..len {
+                for second in first + 1..len {
+                    for a in EDGES {
+                        for b in EDGES {
+                            let mut text = vec![b'~'; len];
+                            text[first] = a;
+                            text[second] = b;
+                            let expected = text.iter().take_while(|&&b| kept(b)).count();
+                            assert_eq!(plain_run(&text), expected, "{text:?}");
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// A field name goes out as it is, with its quotes and `": "`.
+    #[test]
+    fn a_field_name_is_written_in_quotes() {
+        let mut writer = Writer {
+            out: String::new(),
+            scratch: Vec::new(),
+            depth: 0,
+        };
+        writer.field_name("clearance_mm");
+        assert_eq!(writer.out, "\"clearance_mm\": ");
     }
 }

@@ -47,8 +47,9 @@ const TEMPLATE_RECURSION: usize = 50;
 /// The templates in use: the shipped ones, each replaced by a house copy of the same name
 /// where a folder holds one.
 pub struct Templates {
-    /// (name, source, where it came from for messages)
-    files: Vec<(String, String, String)>,
+    /// (name, source, where it came from for messages); a shipped template's source is
+    /// the binary's own text, not a copy.
+    files: Vec<(String, Cow<'static, str>, String)>,
     /// The environment with every template parsed, built on first use: a JSON report never
     /// needs it (parsing is about a tenth of a whole run of the Class II example).
     env: OnceLock<Result<Environment<'static>, Problems>>,
@@ -66,12 +67,12 @@ impl Templates {
     }
 
     pub fn shipped() -> Self {
-        let files: Vec<(String, String, String)> = SHIPPED_TEMPLATES
+        let files: Vec<(String, Cow<'static, str>, String)> = SHIPPED_TEMPLATES
             .iter()
             .map(|(name, text)| {
                 (
                     name.to_string(),
-                    text.to_string(),
+                    Cow::Borrowed(*text),
                     format!("templates/{name}"),
                 )
             })
@@ -81,7 +82,7 @@ impl Templates {
 
     /// The templates as read; their marker lines become comments only when they are parsed
     /// (`environment`), which the native page and a JSON report never need.
-    fn from_files(files: Vec<(String, String, String)>) -> Self {
+    fn from_files(files: Vec<(String, Cow<'static, str>, String)>) -> Self {
         Templates {
             files,
             env: OnceLock::new(),
@@ -129,7 +130,7 @@ impl Templates {
             // Anything of that name is read (a pipe or device is refused there, not skipped).
             if path.symlink_metadata().is_ok() {
                 let shown = path.display().to_string();
-                *text = crate::read_text(&path, &shown)?;
+                *text = Cow::Owned(crate::read_text(&path, &shown)?);
                 *origin = shown;
                 house.push(super::HouseFile {
                     file: name.clone(),
