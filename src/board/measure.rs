@@ -63,12 +63,20 @@
 //! The search ends when the second circuit's copper is taken from the queue; no
 //! hop-length limit, so no second search.
 //!
+//! Two things change the work but not the steps taken: a creepage passage's ring finds
+//! where its inner part ends along the rim by halving (`Index::inner_part`: the distance
+//! along the rim does not fall until the rim wraps round), not point by point; and the
+//! obstacles for creepage with the map of cells sorted by their edges are made once per
+//! index and groove width (`Index::prepared`) and each creepage search starts from a copy,
+//! the same map it would have made itself.
+//!
 //! Every figure is rounded down, never up: each gap loses twice `CHORD_TOLERANCE_MM` (arcs
 //! and circles are chords that may lie that far inside the copper or the hole), and each
 //! passage from one face to the other loses twice the rim's point spacing.
 
 use std::cmp::Ordering;
 use std::collections::{BTreeMap, BinaryHeap, HashMap, VecDeque};
+use std::sync::{Arc, Mutex, PoisonError};
 
 use serde::Serialize;
 
@@ -167,6 +175,20 @@ pub struct Index<'b> {
     /// Which of the later prunings the search uses (all, except in tests that compare
     /// with the search without them).
     prune: Prune,
+    /// The obstacles for creepage and the map of cells sorted by their edges, per groove
+    /// width: the same for every barrier, so made once (`Index::prepared`).
+    prepared: Mutex<Vec<Arc<Prepared>>>,
+}
+
+/// What a creepage search needs that depends on the board and the groove width only.
+struct Prepared {
+    groove_width_mm: f64,
+    void_cells: bool,
+    obstacles: Obstacles,
+    bridged: usize,
+    round: usize,
+    /// The map of cells before any copper is reached (cloned by each search).
+    cells: Cells,
 }
 
 /// Prunings that a test may switch off, to compare the figures with and without.
@@ -370,6 +392,7 @@ impl<'b> Index<'b> {
                 corner_runs: true,
                 own_chords: true,
             },
+            prepared: Mutex::new(Vec::new()),
         };
         index.find_inside();
         index
@@ -511,10 +534,16 @@ impl<'b> Index<'b> {
                 .collect()
         };
         let (is_a, is_b) = (in_set(a), in_set(b));
-        let (obstacles, bridged, round) = self.obstacles(groove_width_mm);
+        let prepared = self.prepared(groove_width_mm);
+        let (bridged, round) = (prepared.bridged, prepared.round);
         let outer = [0usize, 1];
         let clearance = self.shortest(&outer, None, &is_a, &is_b);
-        let creepage = self.shortest(&outer, Some(&obstacles), &is_a, &is_b);
+        let creepage = self.shortest(
+            &outer,
+            Some((&prepared.obstacles, &prepared.cells)),
+            &is_a,
+            &is_b,
+        );
         let mut inner_layers = Vec::new();
         for l in 2..self.layers.len() {
             if let Some(m) = self.shortest(&[l], None, &is_a, &is_b)
@@ -541,10 +570,11 @@ impl<'b> Index<'b> {
 
     /// The shortest path with hops of unlimited length (see the module comment: hops are
     /// taken in rings of growing length, and a ring is skipped where it cannot help).
+    /// `creepage`: the obstacles, and the map of cells sorted by their edges to start from.
     fn shortest(
         &self,
         layers: &[usize],
-        obstacles: Option<&Obstacles>,
+        creepage: Option<(&Obstacles, &Cells)>,
         is_a: &[bool],
         is_b: &[bool],
     ) -> Option<MeasuredPath> {
@@ -556,15 +586,56 @@ impl<'b> Index<'b> {
         if !present(is_a) || !present(is_b) {
             return None;
         }
+        let all = self.extent();
+        let most = (all.max[0] - all.min[0]).hypot(all.max[1] - all.min[1])
+            + 2.0 * self.board.thickness_mm
+            + 1.0;
+        let (obstacles, template) = (creepage.map(|c| c.0), creepage.map(|c| c.1));
+        self.search(layers, obstacles, template, is_a, is_b, all, most)
+    }
+
+    /// The box round all copper and the outline: the extent of the map of cells.
+    fn extent(&self) -> Bbox {
         let all = self.layers.iter().fold(Bbox::EMPTY, |bb, (ids, _)| {
             ids.iter()
                 .fold(bb, |bb, &s| bb.union(&self.seg_box[s as usize]))
         });
-        let all = all.union(&Bbox::around(self.board.outline.iter().copied()));
-        let most = (all.max[0] - all.min[0]).hypot(all.max[1] - all.min[1])
-            + 2.0 * self.board.thickness_mm
-            + 1.0;
-        self.search(layers, obstacles, is_a, is_b, all, most)
+        all.union(&Bbox::around(self.board.outline.iter().copied()))
+    }
+
+    /// The obstacles for creepage with groove width `groove_width_mm` and the map of cells
+    /// sorted by their edges (`Cells::new`), made at the first barrier that asks for them
+    /// and kept: they depend on the board and the groove width only (and on whether
+    /// `Prune::void_cells` is on, which a test switches), so every barrier's search starts
+    /// from the same ones, as if it had made them itself.
+    fn prepared(&self, groove_width_mm: f64) -> Arc<Prepared> {
+        let void_cells = self.prune.void_cells;
+        // A search never panics with the lock held; were it poisoned, the list is still whole.
+        let mut kept = self.prepared.lock().unwrap_or_else(PoisonError::into_inner);
+        if let Some(p) = kept.iter().find(|p| {
+            p.groove_width_mm.to_bits() == groove_width_mm.to_bits() && p.void_cells == void_cells
+        }) {
+            return Arc::clone(p);
+        }
+        let (obstacles, bridged, round) = self.obstacles(groove_width_mm);
+        let cells = Cells::new(
+            self.extent(),
+            self.segs.len(),
+            &[0, 1],
+            self.layers.len(),
+            Some(&obstacles),
+            void_cells,
+        );
+        let p = Arc::new(Prepared {
+            groove_width_mm,
+            void_cells,
+            obstacles,
+            bridged,
+            round,
+            cells,
+        });
+        kept.push(Arc::clone(&p));
+        p
     }
 
     fn on_any(&self, o: u32, layers: &[usize]) -> bool {
@@ -572,10 +643,12 @@ impl<'b> Index<'b> {
         layers.contains(&(l0 as usize)) || (l1 != NONE && layers.contains(&(l1 as usize)))
     }
 
+    #[allow(clippy::too_many_arguments)]
     fn search(
         &self,
         layers: &[usize],
         obstacles: Option<&Obstacles>,
+        template: Option<&Cells>,
         is_a: &[bool],
         is_b: &[bool],
         all: Bbox,
@@ -612,14 +685,18 @@ impl<'b> Index<'b> {
                 st.queue.set(i as u32, 0.0);
             }
         }
-        let mut cells = Cells::new(
-            all,
-            self.segs.len(),
-            layers,
-            self.layers.len(),
-            obstacles,
-            self.prune.void_cells,
-        );
+        // A creepage search starts from the map its obstacles were prepared with.
+        let mut cells = match template {
+            Some(t) => t.clone(),
+            None => Cells::new(
+                all,
+                self.segs.len(),
+                layers,
+                self.layers.len(),
+                obstacles,
+                self.prune.void_cells,
+            ),
+        };
         let mut target = None;
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
@@ -721,12 +798,14 @@ impl<'b> Index<'b> {
                     // Small objects (pads, tracks) query the grid once round their box; large
                     // ones (pours) once per edge, so that a pour does not look at its whole box.
                     let all_segs = self.obj_segs(u);
-                    let groups: Vec<std::ops::Range<usize>> = if all_segs.len() <= 8 {
-                        vec![all_segs]
-                    } else {
-                        all_segs.map(|i| i..i + 1).collect()
-                    };
-                    for group in groups {
+                    let whole = all_segs.len() <= 8;
+                    let n_groups = if whole { 1 } else { all_segs.len() };
+                    for gi in 0..n_groups {
+                        let group = if whole {
+                            all_segs.clone()
+                        } else {
+                            all_segs.start + gi..all_segs.start + gi + 1
+                        };
                         let gbox = self.segs_bbox(group.clone());
                         let far2 = (hi + tol) * (hi + tol);
                         // A hop from this group of edges to the point node `v` at `p` on this
@@ -1025,9 +1104,12 @@ impl<'b> Index<'b> {
                         }
                         // The last point of this ring's inner part: a path that passes
                         // further this way is no shorter from there (module comment).
-                        let mut last_inner: Option<(usize, f64)> = None;
+                        // The inner part is found by halving (`Index::inner_part`), not
+                        // walked point by point: the loop below starts where it ends.
+                        let (start, mut last_inner) =
+                            self.inner_part(dir, kp, first, count, at, length, t2, lo2);
                         let mut done = true;
-                        for j in 0..count {
+                        for j in start..count {
                             let kq = if dir == 0 {
                                 first + (kp - first + j) % count
                             } else {
@@ -1206,6 +1288,59 @@ impl<'b> Index<'b> {
             intervening_conductors: intervening,
             between_faces,
         })
+    }
+
+    /// Where the passages of a rim point `kp` (of the rim whose points are `first..first +
+    /// count`) one way along its rim (`dir` 0 forward, 1 back) leave the ring's inner part
+    /// (`s * s + t2 <= lo2`): the first step `j` of the creepage passage loop that does not
+    /// go on at once, and the last inner point before it (or `None`), exactly as the loop
+    /// walking from `j = 0` would find them. Within the part of the rim before it wraps
+    /// round (`kq` from `kp` to the rim's end forward, or to its start back) the loop's `s`
+    /// is `rim_at[kq] - at` (or `at - rim_at[kq]`) with no length added (`rim_at` does not
+    /// fall along a rim), so it does not fall with `j`, and neither does the loop's test
+    /// for going on (`s > length / 2 + 1e-9` stops the loop, `s * s + t2 <= lo2` goes on):
+    /// the first step that does not go on is found by halving, with the same sums. Where
+    /// every step of that part goes on, the loop goes on from the wrap as before.
+    #[allow(clippy::too_many_arguments)]
+    fn inner_part(
+        &self,
+        dir: u32,
+        kp: usize,
+        first: usize,
+        count: usize,
+        at: f64,
+        length: f64,
+        t2: f64,
+        lo2: f64,
+    ) -> (usize, Option<(usize, f64)>) {
+        // Steps `0..=m` do not wrap.
+        let m = if dir == 0 {
+            first + count - 1 - kp
+        } else {
+            kp - first
+        };
+        let along = |j: usize| -> (usize, f64) {
+            if dir == 0 {
+                (kp + j, self.rim_at[kp + j] - at)
+            } else {
+                (kp - j, at - self.rim_at[kp - j])
+            }
+        };
+        let goes_on = |j: usize| {
+            let s = along(j).1;
+            !(s < 0.0 || s > length / 2.0 + 1e-9) && s * s + t2 <= lo2
+        };
+        // The first step in `0..=m` that does not go on, or `m + 1`.
+        let (mut lo, mut hi) = (0usize, m + 1);
+        while lo < hi {
+            let mid = lo + (hi - lo) / 2;
+            if goes_on(mid) {
+                lo = mid + 1;
+            } else {
+                hi = mid;
+            }
+        }
+        (lo, lo.checked_sub(1).map(along))
     }
 
     fn point(&self, p: P, layer: u8) -> PathPoint {
@@ -1433,6 +1568,7 @@ const VOID_MARGIN_MM: f64 = 1e-6;
 /// across it, or two meeting at a corner that is convex on the surface's side), its
 /// points are reached from a neighbour's centre instead (`Cells::through_side`). About
 /// as many cells as outline segments, times four: memory linear in the board.
+#[derive(Clone)]
 struct Cells {
     origin: P,
     h: f64,
@@ -2306,6 +2442,125 @@ mod tests {
             assert_eq!(with, without, "seed {seed}");
         }
         assert!(hidden > 10_000, "{hidden}");
+    }
+
+    /// The creepage passage loop's first steps, walked one by one as the loop did before
+    /// `Index::inner_part`: where the ring's inner part ends, and its last point.
+    fn inner_part_walked(
+        index: &Index,
+        dir: u32,
+        kp: usize,
+        (first, count): (usize, usize),
+        (at, length, t2, lo2): (f64, f64, f64, f64),
+    ) -> (usize, Option<(usize, f64)>) {
+        let mut last_inner = None;
+        for j in 0..count {
+            let kq = if dir == 0 {
+                first + (kp - first + j) % count
+            } else {
+                first + (kp - first + count - j) % count
+            };
+            let mut s = if dir == 0 {
+                index.rim_at[kq] - at
+            } else {
+                at - index.rim_at[kq]
+            };
+            if s < 0.0 {
+                s += length;
+            }
+            if s > length / 2.0 + 1e-9 || s * s + t2 > lo2 {
+                return (j, last_inner);
+            }
+            last_inner = Some((kq, s));
+        }
+        (count, last_inner)
+    }
+
+    #[test]
+    fn the_inner_part_found_by_halving_is_the_one_walked() {
+        let mut compared = 0;
+        let mut past_the_start = 0;
+        for seed in 400..404 {
+            let board = generated_board(seed);
+            let index = Index::new(&board);
+            let t2 = board.thickness_mm * board.thickness_mm;
+            for ri in 0..index.rim_length.len() {
+                let first = index.rim_first[ri] as usize;
+                let count = index.rim_first[ri + 1] as usize - first;
+                let length = index.rim_length[ri];
+                // Every ring a passage opens, from every fifth point, both ways.
+                for kp in (first..first + count).step_by(5) {
+                    let at = index.rim_at[kp];
+                    for k in 1..8 {
+                        let lo = if k == 1 { -1.0 } else { ring_mm(k - 1) };
+                        let lo2 = if lo + 2.0 * RIM_SPACING_MM > 0.0 {
+                            (lo + 2.0 * RIM_SPACING_MM).powi(2)
+                        } else {
+                            -1.0
+                        };
+                        for dir in 0..2 {
+                            let walked = inner_part_walked(
+                                &index,
+                                dir,
+                                kp,
+                                (first, count),
+                                (at, length, t2, lo2),
+                            );
+                            let found =
+                                index.inner_part(dir, kp, first, count, at, length, t2, lo2);
+                            // Where the walk stops inside the part before the wrap, the two
+                            // agree exactly; past it, the loop goes on from the wrap.
+                            let m = if dir == 0 {
+                                first + count - 1 - kp
+                            } else {
+                                kp - first
+                            };
+                            if walked.0 <= m {
+                                assert_eq!(found, walked, "rim {ri} point {kp} ring {k} dir {dir}");
+                            } else {
+                                assert_eq!(found.0, m + 1, "rim {ri} point {kp} ring {k}");
+                                assert!(walked.0 >= found.0);
+                            }
+                            past_the_start += (found.0 > 0) as usize;
+                            compared += 1;
+                        }
+                    }
+                }
+            }
+        }
+        assert!(compared > 30_000, "{compared}");
+        assert!(
+            past_the_start > compared / 2,
+            "{past_the_start} of {compared}"
+        );
+    }
+
+    #[test]
+    fn a_kept_preparation_changes_no_measurement() {
+        let (a, b) = (vec!["A".to_string()], vec!["B".to_string()]);
+        for seed in 500..508 {
+            let mut board = generated_board(seed);
+            if seed % 2 == 0 {
+                on_opposite_faces(&mut board);
+            }
+            // One index measures the barrier both ways (the second time with what it kept
+            // from the first), a fresh one the second way only.
+            let kept = Index::new(&board);
+            let _ = kept.measure(&a, &b, 1.0);
+            let again = kept.measure(&b, &a, 1.0);
+            assert_eq!(kept.prepared.lock().map(|p| p.len()).unwrap_or(0), 1);
+            let fresh = Index::new(&board).measure(&b, &a, 1.0);
+            assert_eq!(again, fresh, "seed {seed}");
+            assert!(fresh.creepage.is_some(), "seed {seed}");
+            // Another groove width is prepared apart.
+            let _ = kept.measure(&a, &b, 2.5);
+            assert_eq!(kept.prepared.lock().map(|p| p.len()).unwrap_or(0), 2);
+            assert_eq!(
+                kept.measure(&a, &b, 2.5),
+                Index::new(&board).measure(&a, &b, 2.5),
+                "seed {seed}"
+            );
+        }
     }
 
     #[test]
