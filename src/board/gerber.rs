@@ -264,6 +264,7 @@ fn without<'a>(text: &'a str, dropped: &[u8]) -> Cow<'a, str> {
     )
 }
 
+/// Reads a Gerber X2 file. `name` is how the file is named in messages.
 pub fn read(name: &str, text: &str) -> Result<Image, Diagnostic> {
     let mut st = State {
         file: name,
@@ -1269,8 +1270,6 @@ mod tests {
         }
         out
     }
-
-    /// Reads a Gerber X2 file. `name` is how the file is named in messages.
 
     /// The commands of every shipped board file and of 20,000 generated texts (delimiters,
     /// line breaks, carriage returns, spaces, a macro's `AM`, non-ASCII letters and
