@@ -122,8 +122,8 @@ const MARKDOWN_PLAIN: [bool; 256] = {
 };
 
 /// Bytes of every 64-bit word, and their high bits, for the word tricks below.
-const ONES: u64 = 0x0101_0101_0101_0101;
-const HIGH: u64 = 0x8080_8080_8080_8080;
+pub(crate) const ONES: u64 = 0x0101_0101_0101_0101;
+pub(crate) const HIGH: u64 = 0x8080_8080_8080_8080;
 
 /// As [`run_while`], for word tests that also say where: `stops` gives a word whose lowest
 /// set high bit marks the first byte that is not kept, or one that is (such a byte is then

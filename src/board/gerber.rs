@@ -204,11 +204,7 @@ fn commands(text: &str) -> Vec<(usize, bool, Cow<'_, str>)> {
             let trimmed = body.trim_start();
             if trimmed.starts_with("AM") {
                 let skipped = lines_in(&body[..body.len() - trimmed.len()]);
-                let command = match &body {
-                    Cow::Borrowed(b) => Cow::Borrowed(b.trim_start()),
-                    Cow::Owned(b) => Cow::Owned(b.trim_start().to_string()),
-                };
-                out.push((start + skipped, true, command));
+                out.push((start + skipped, true, cut(body, str::trim_start)));
             } else {
                 // The blocks, with the line breaks inside them taken out too.
                 match without(&text[from..end], b"\r\n") {
@@ -225,11 +221,7 @@ fn commands(text: &str) -> Vec<(usize, bool, Cow<'_, str>)> {
                 }
             }
         } else {
-            let command = match without(body, b"\r\n") {
-                Cow::Borrowed(word) => Cow::Borrowed(word.trim()),
-                Cow::Owned(word) => Cow::Owned(word.trim().to_string()),
-            };
-            out.push((start, false, command));
+            out.push((start, false, cut(without(body, b"\r\n"), str::trim)));
         }
     }
     out
@@ -250,6 +242,14 @@ fn letter_words(cmd: &str) -> impl Iterator<Item = (char, &str)> {
         at = end;
         Some((letter, &cmd[start..end]))
     })
+}
+
+/// `text` cut down by `trim`: still a slice of the file's text where it was one.
+fn cut<'a>(text: Cow<'a, str>, trim: impl Fn(&str) -> &str) -> Cow<'a, str> {
+    match text {
+        Cow::Borrowed(t) => Cow::Borrowed(trim(t)),
+        Cow::Owned(t) => Cow::Owned(trim(&t).to_string()),
+    }
 }
 
 /// `text` without any of the (ASCII) bytes `dropped`: itself where it holds none.

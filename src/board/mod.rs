@@ -243,19 +243,16 @@ pub fn build(
     // Each name once through a hash set first: most objects repeat a net already seen, and
     // a sorted set of strings compares whole names at every level for each of them.
     let mut seen: std::collections::HashSet<&str> = std::collections::HashSet::new();
-    let mut unknown = 0;
     for c in &board.conductors {
         match &c.net {
             Net::Named(n) => {
                 seen.insert(n);
             }
-            Net::Unknown => unknown += 1,
+            Net::Unknown => board.unknown_net_objects += 1,
             Net::NoConnect => {}
         }
     }
-    let nets: BTreeSet<String> = seen.into_iter().map(str::to_string).collect();
-    board.nets = nets;
-    board.unknown_net_objects += unknown;
+    board.nets = seen.into_iter().map(str::to_string).collect();
     Ok(board)
 }
 

@@ -189,10 +189,16 @@ fn plain_run(bytes: &[u8]) -> usize {
     let kept = |b: &&u8| (0x20..0x7f).contains(*b) && **b != b'"' && **b != b'\\';
     let whole = match n {
         0..4 => false,
-        4..8 => !word_stops(u64::from_le_bytes(join(head::<4>(bytes), tail::<4>(bytes)))),
+        4..8 => {
+            let (low, high) = (
+                u32::from_le_bytes(head(bytes)),
+                u32::from_le_bytes(tail(bytes)),
+            );
+            !word_stops(u64::from(low) | u64::from(high) << 32)
+        }
         8..16 => {
-            !word_stops(u64::from_le_bytes(head::<8>(bytes)))
-                && !word_stops(u64::from_le_bytes(tail::<8>(bytes)))
+            !word_stops(u64::from_le_bytes(head(bytes)))
+                && !word_stops(u64::from_le_bytes(tail(bytes)))
         }
         _ => {
             let (chunks, _) = bytes.as_chunks::<16>();
@@ -239,20 +245,12 @@ fn tail<const N: usize>(bytes: &[u8]) -> [u8; N] {
     part
 }
 
-fn join(low: [u8; 4], high: [u8; 4]) -> [u8; 8] {
-    let mut both = [0; 8];
-    both[..4].copy_from_slice(&low);
-    both[4..].copy_from_slice(&high);
-    both
-}
-
 /// [`stops`] for eight bytes in a word: `(x - n) & !x` has a byte's high bit set where
 /// that byte of `x` is below `n` (or a byte before it is, which is then a stop too); a
 /// byte equal to `b` is a zero byte of `x ^ b...b`; DEL plus one and every byte beyond
-/// ASCII have the high bit set.
+/// ASCII have the high bit set (the word tricks of `text`).
 fn word_stops(w: u64) -> bool {
-    const ONES: u64 = 0x0101_0101_0101_0101;
-    const HIGH: u64 = 0x8080_8080_8080_8080;
+    use crate::text::{HIGH, ONES};
     let below = |x: u64, n: u64| x.wrapping_sub(n * ONES) & !x;
     let equal = |b: u8| below(w ^ (u64::from(b) * ONES), 1);
     (w | w.wrapping_add(ONES) | below(w, 0x20) | equal(b'"') | equal(b'\\')) & HIGH != 0
