@@ -143,25 +143,33 @@ fn cut(size: usize) -> *mut u8 {
     let (Ok(next), Ok(end)) = (NEXT.try_with(Cell::get), END.try_with(Cell::get)) else {
         return std::ptr::null_mut();
     };
-    let at = if end - next >= size {
-        next
-    } else {
-        // The rest of the old stretch is left unused (never written, so it costs nothing).
-        let offset = TAKEN.fetch_add(STRETCH_BYTES, Ordering::Relaxed);
-        if offset + STRETCH_BYTES > REGION_BYTES {
-            // Used up: keep the counter from wrapping however many more calls come.
-            TAKEN.store(REGION_BYTES, Ordering::Relaxed);
-            return std::ptr::null_mut();
-        }
-        let start = region_start() + offset;
-        if offset == 0 {
-            advise_huge_pages(region_start(), REGION_BYTES);
-        }
-        let _ = END.try_with(|e| e.set(start + STRETCH_BYTES));
-        start
-    };
-    let _ = NEXT.try_with(|n| n.set(at + size));
-    at as *mut u8
+    if end - next >= size {
+        let _ = NEXT.try_with(|n| n.set(next + size));
+        return next as *mut u8;
+    }
+    cut_from_new_stretch(size)
+}
+
+/// [`cut`] when the current stretch is too short: `size` bytes from the start of a new
+/// stretch. Once per stretch (2 MiB), so kept out of line: the common path of `alloc` then
+/// needs no registers saved and restored (about twenty instructions less per block).
+#[cold]
+#[inline(never)]
+fn cut_from_new_stretch(size: usize) -> *mut u8 {
+    // The rest of the old stretch is left unused (never written, so it costs nothing).
+    let offset = TAKEN.fetch_add(STRETCH_BYTES, Ordering::Relaxed);
+    if offset + STRETCH_BYTES > REGION_BYTES {
+        // Used up: keep the counter from wrapping however many more calls come.
+        TAKEN.store(REGION_BYTES, Ordering::Relaxed);
+        return std::ptr::null_mut();
+    }
+    let start = region_start() + offset;
+    if offset == 0 {
+        advise_huge_pages(region_start(), REGION_BYTES);
+    }
+    let _ = END.try_with(|e| e.set(start + STRETCH_BYTES));
+    let _ = NEXT.try_with(|n| n.set(start + size));
+    start as *mut u8
 }
 
 #[cfg(target_os = "linux")]
@@ -204,6 +212,17 @@ fn give_back(ptr: *mut u8, class: usize) {
     });
 }
 
+/// The system allocator's `alloc`, out of line for the reason [`cut_from_new_stretch`] is.
+///
+/// # Safety
+/// As for [`GlobalAlloc::alloc`].
+#[cold]
+#[inline(never)]
+unsafe fn system_alloc(layout: Layout) -> *mut u8 {
+    // SAFETY: the caller's contract is passed on unchanged.
+    unsafe { System.alloc(layout) }
+}
+
 /// The region's blocks, with the system allocator beside them (see the module comment).
 pub struct BlockPool;
 
@@ -229,7 +248,7 @@ unsafe impl GlobalAlloc for BlockPool {
             }
         }
         // SAFETY: the caller's contract is passed on unchanged.
-        unsafe { System.alloc(layout) }
+        unsafe { system_alloc(layout) }
     }
 
     unsafe fn alloc_zeroed(&self, layout: Layout) -> *mut u8 {
