@@ -40,52 +40,7 @@ enum Command {
     /// all designs: 0 ready for review (nothing blocking, no barrier incomplete, no input
     /// implausible), 1 not ready, 2 an input or
     /// the command line could not be used.
-    Check {
-        /// Project files (TOML) or folders of them.
-        #[arg(required = true, value_name = "PROJECT")]
-        projects: Vec<PathBuf>,
-        /// Output format (default: Markdown).
-        ///
-        /// Without --format, on a terminal, a short summary is printed instead of the full
-        /// report (verdict, blocking items, warnings, where the report is); piped, or with
-        /// --format, the full report.
-        #[arg(long, value_enum)]
-        format: Option<Format>,
-        /// Colour in the terminal summary: auto (on a terminal, unless NO_COLOR is set),
-        /// always or never.
-        #[arg(long, value_enum, default_value_t = ColorChoice::Auto, value_name = "WHEN")]
-        color: ColorChoice,
-        /// Write the report to this file instead of printing it.
-        ///
-        /// A regular file or a new path is written atomically (a temporary file beside it,
-        /// then a rename); a symbolic link is followed and its target written, the link
-        /// kept; a character device (/dev/null, a terminal) or a named pipe is written
-        /// through (a pipe waits for its reader); /dev/stdout, /dev/stderr and /dev/fd/1 or
-        /// 2 are written through the descriptor the run holds (appending where the shell
-        /// opened it so), other descriptors are refused. Refused, with nothing written: a
-        /// read-only file (owner's write bit clear, even for root), a folder, a block
-        /// device, a socket, a link to nothing, and any input of the run (project file,
-        /// --rules or --templates file), however it is named.
-        #[arg(short = 'o', long = "output", value_name = "FILE")]
-        output: Option<PathBuf>,
-        #[command(flatten)]
-        rules: HouseRules,
-        #[command(flatten)]
-        templates: HouseTemplates,
-        /// With several designs: write one report each into this folder, mirroring as
-        /// much of each design's path as keeps same-named designs apart (same rules as -o
-        /// for what is already there).
-        #[arg(long, value_name = "DIR")]
-        out_dir: Option<PathBuf>,
-        /// Designs checked at once (default: the number of cores).
-        #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
-        jobs: Option<u16>,
-        /// Early layout work: incomplete barriers (distances not yet declared) do not make
-        /// the exit status 1. The report still says "not ready". A design that declares no
-        /// barrier at all still exits 1.
-        #[arg(long)]
-        allow_incomplete: bool,
-    },
+    Check(CheckArgs),
     /// Compare two revisions of a design: what changed in the inputs, and in the required
     /// figures, margins, verdicts and findings (Markdown for a design-review record).
     ///
@@ -177,8 +132,58 @@ enum Command {
     Schema,
 }
 
+// `check`'s arguments (no doc comment: the variant's is the subcommand's help). A struct of
+// their own so that `parse` can read a `check` command line with these arguments alone.
+#[derive(clap::Args, Debug, PartialEq)]
+struct CheckArgs {
+    /// Project files (TOML) or folders of them.
+    #[arg(required = true, value_name = "PROJECT")]
+    projects: Vec<PathBuf>,
+    /// Output format (default: Markdown).
+    ///
+    /// Without --format, on a terminal, a short summary is printed instead of the full
+    /// report (verdict, blocking items, warnings, where the report is); piped, or with
+    /// --format, the full report.
+    #[arg(long, value_enum)]
+    format: Option<Format>,
+    /// Colour in the terminal summary: auto (on a terminal, unless NO_COLOR is set),
+    /// always or never.
+    #[arg(long, value_enum, default_value_t = ColorChoice::Auto, value_name = "WHEN")]
+    color: ColorChoice,
+    /// Write the report to this file instead of printing it.
+    ///
+    /// A regular file or a new path is written atomically (a temporary file beside it,
+    /// then a rename); a symbolic link is followed and its target written, the link
+    /// kept; a character device (/dev/null, a terminal) or a named pipe is written
+    /// through (a pipe waits for its reader); /dev/stdout, /dev/stderr and /dev/fd/1 or
+    /// 2 are written through the descriptor the run holds (appending where the shell
+    /// opened it so), other descriptors are refused. Refused, with nothing written: a
+    /// read-only file (owner's write bit clear, even for root), a folder, a block
+    /// device, a socket, a link to nothing, and any input of the run (project file,
+    /// --rules or --templates file), however it is named.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    output: Option<PathBuf>,
+    #[command(flatten)]
+    rules: HouseRules,
+    #[command(flatten)]
+    templates: HouseTemplates,
+    /// With several designs: write one report each into this folder, mirroring as
+    /// much of each design's path as keeps same-named designs apart (same rules as -o
+    /// for what is already there).
+    #[arg(long, value_name = "DIR")]
+    out_dir: Option<PathBuf>,
+    /// Designs checked at once (default: the number of cores).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
+    jobs: Option<u16>,
+    /// Early layout work: incomplete barriers (distances not yet declared) do not make
+    /// the exit status 1. The report still says "not ready". A design that declares no
+    /// barrier at all still exits 1.
+    #[arg(long)]
+    allow_incomplete: bool,
+}
+
 /// `--rules`, declared once for every command that reads rule tables.
-#[derive(clap::Args)]
+#[derive(clap::Args, Debug, PartialEq)]
 struct HouseRules {
     /// A folder of house rule tables that add to or override the shipped ones by id.
     #[arg(long, value_name = "DIR")]
@@ -192,7 +197,7 @@ impl HouseRules {
 }
 
 /// `--templates`, declared once.
-#[derive(clap::Args)]
+#[derive(clap::Args, Debug, PartialEq)]
 struct HouseTemplates {
     /// A folder of house templates (report.md.j2 and the sections it includes) that
     /// replace the shipped ones of the same name.
@@ -210,7 +215,7 @@ static ALLOCATOR: gapwarden::memory_guard::GuardedAllocator =
     gapwarden::memory_guard::GuardedAllocator;
 
 fn main() -> ExitCode {
-    let cli = match Cli::try_parse() {
+    let cli = match parse(std::env::args_os()) {
         Ok(cli) => cli,
         Err(e) => {
             // --help and --version are not errors.
@@ -232,9 +237,44 @@ fn main() -> ExitCode {
     }
 }
 
+/// The command line as `Cli::try_parse_from` reads it. A `check` command line is first read
+/// by a command made of `check`'s own arguments only: building every subcommand's
+/// arguments and help texts (`spacing` alone has some thirty) was about two thirds of the
+/// command line's cost, some 100,000 instructions a run. The same argument definitions
+/// (`CheckArgs`) read it, and clap's subcommand `check` takes nothing from the top level
+/// that parsing depends on (no global arguments, no propagated version), so what they
+/// accept they read as the whole command would. Anything they refuse (an error, --help)
+/// goes to the whole command, whose message is then the one printed. `tests` holds the
+/// two to the same result over generated command lines.
+fn parse<I>(args: I) -> Result<Cli, clap::Error>
+where
+    I: IntoIterator<Item = std::ffi::OsString>,
+{
+    let args: Vec<std::ffi::OsString> = args.into_iter().collect();
+    match check_alone(&args) {
+        Some(check) => Ok(Cli {
+            command: Command::Check(check),
+        }),
+        None => Cli::try_parse_from(args),
+    }
+}
+
+/// `check`'s arguments read by a command of their own, where the command line is a
+/// `check` one they accept (see `parse`).
+fn check_alone(args: &[std::ffi::OsString]) -> Option<CheckArgs> {
+    use clap::{Args, FromArgMatches};
+    if args.get(1).is_none_or(|a| a != "check") {
+        return None;
+    }
+    let mut matches = CheckArgs::augment_args(clap::Command::new("check"))
+        .try_get_matches_from(&args[1..])
+        .ok()?;
+    CheckArgs::from_arg_matches_mut(&mut matches).ok()
+}
+
 fn run(cli: Cli) -> Result<ExitStatus, Problems> {
     match cli.command {
-        Command::Check {
+        Command::Check(CheckArgs {
             projects,
             format,
             color,
@@ -244,7 +284,7 @@ fn run(cli: Cli) -> Result<ExitStatus, Problems> {
             out_dir,
             jobs,
             allow_incomplete,
-        } => {
+        }) => {
             use std::io::IsTerminal;
             // The summary replaces the report only where a person reads it and asked for
             // no particular format; scripts (a pipe, a file, --format) get the report.
@@ -370,4 +410,114 @@ fn print(text: &str) {
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes());
     let _ = out.flush();
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::ffi::OsString;
+
+    /// Generated command lines (words of every `check` argument, their values right and
+    /// wrong, `=` and attached forms, `--`, help, unknown flags, empty and non-UTF-8
+    /// words): wherever `check`'s arguments alone accept one, the whole command reads the
+    /// same `check` from it.
+    #[test]
+    fn check_alone_reads_what_the_whole_command_reads() {
+        #[cfg(unix)]
+        let not_utf8 = {
+            use std::os::unix::ffi::OsStringExt;
+            OsString::from_vec(vec![b'a', 0xff, b'.', b't'])
+        };
+        #[cfg(not(unix))]
+        let not_utf8 = OsString::from("a\u{fffd}.t");
+        let mut words: Vec<OsString> = [
+            "check",
+            "a.toml",
+            "b.toml",
+            "dir/",
+            "-",
+            "",
+            " ",
+            "--format",
+            "json",
+            "md",
+            "markdown",
+            "html",
+            "JSON",
+            "--format=json",
+            "--format=html",
+            "-o",
+            "--output",
+            "--output=x.json",
+            "-ox.json",
+            "-o=x",
+            "--color",
+            "always",
+            "never",
+            "auto",
+            "--color=never",
+            "--rules",
+            "--rules=r",
+            "--templates",
+            "t",
+            "--out-dir",
+            "out",
+            "--jobs",
+            "0",
+            "2",
+            "--jobs=3",
+            "65536",
+            "--allow-incomplete",
+            "--allow-incomplete=true",
+            "--",
+            "-h",
+            "--help",
+            "help",
+            "--version",
+            "-V",
+            "-x",
+            "--bogus",
+            "--form",
+            "compare",
+            "spacing",
+            "-oo",
+        ]
+        .map(OsString::from)
+        .to_vec();
+        words.push(not_utf8);
+        let mut state: u64 = 0x2545_F491_4F6C_DD1D;
+        let mut next = move || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state
+        };
+        let (mut read, mut refused) = (0, 0);
+        for case in 0..20_000 {
+            let mut args = vec![OsString::from("gapwarden")];
+            // Nearly always `check` first, as the fast path needs; now and then another word.
+            if case % 10 != 0 {
+                args.push(OsString::from("check"));
+            }
+            for _ in 0..next() % 8 {
+                args.push(words[(next() % words.len() as u64) as usize].clone());
+            }
+            let Some(alone) = check_alone(&args) else {
+                refused += 1;
+                continue;
+            };
+            read += 1;
+            match Cli::try_parse_from(&args) {
+                Ok(Cli {
+                    command: Command::Check(whole),
+                }) => assert_eq!(alone, whole, "{args:?}"),
+                Ok(_) => panic!("{args:?}: the whole command read another subcommand"),
+                Err(e) => panic!("{args:?}: the whole command refused it: {e}"),
+            }
+        }
+        assert!(
+            read > 3_000 && refused > 3_000,
+            "{read} read, {refused} refused"
+        );
+    }
 }
