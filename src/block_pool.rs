@@ -150,9 +150,33 @@ fn cut(size: usize) -> *mut u8 {
     cut_from_new_stretch(size)
 }
 
+/// [`cut`] without taking a new stretch: the same block where the current stretch has room
+/// for it, `None` where it has not (or the thread's state is gone, at its very end).
+#[inline(always)]
+fn cut_in_stretch(size: usize) -> Option<*mut u8> {
+    let (Ok(next), Ok(end)) = (NEXT.try_with(Cell::get), END.try_with(Cell::get)) else {
+        return None;
+    };
+    if end - next < size {
+        return None;
+    }
+    let _ = NEXT.try_with(|n| n.set(next + size));
+    Some(next as *mut u8)
+}
+
+/// A block of class `class` from the current thread's free list or its current stretch,
+/// what nearly every allocation takes; `None` where [`take`] would have to take a new
+/// stretch (or the thread is being torn down).
+#[inline(always)]
+fn take_at_hand(class: usize) -> Option<*mut u8> {
+    match take_freed(class)? {
+        0 => cut_in_stretch(class_size(class)),
+        head => Some(head as *mut u8),
+    }
+}
+
 /// [`cut`] when the current stretch is too short: `size` bytes from the start of a new
-/// stretch. Once per stretch (2 MiB), so kept out of line: the common path of `alloc` then
-/// needs no registers saved and restored (about twenty instructions less per block).
+/// stretch. Once per stretch (2 MiB), so kept out of line.
 #[cold]
 #[inline(never)]
 fn cut_from_new_stretch(size: usize) -> *mut u8 {
@@ -212,13 +236,23 @@ fn give_back(ptr: *mut u8, class: usize) {
     });
 }
 
-/// The system allocator's `alloc`, out of line for the reason [`cut_from_new_stretch`] is.
+/// [`BlockPool::alloc`] where the block is not at hand: the general path (free list, the
+/// stretch, a new stretch, then the system allocator). Out of line, so that the common
+/// path in `alloc` saves and restores no registers and ends in this call as a jump (about
+/// 25 instructions less per allocation than with everything in one function; a check of
+/// the example makes some 5,000).
 ///
 /// # Safety
 /// As for [`GlobalAlloc::alloc`].
 #[cold]
 #[inline(never)]
-unsafe fn system_alloc(layout: Layout) -> *mut u8 {
+unsafe fn alloc_slow(layout: Layout) -> *mut u8 {
+    if let Some(class) = BlockPool::pooled_class(layout) {
+        let block = take(class);
+        if !block.is_null() {
+            return block;
+        }
+    }
     // SAFETY: the caller's contract is passed on unchanged.
     unsafe { System.alloc(layout) }
 }
@@ -241,14 +275,14 @@ impl BlockPool {
 // a block is freed or resized by the allocator its address belongs to.
 unsafe impl GlobalAlloc for BlockPool {
     unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
-        if let Some(class) = Self::pooled_class(layout) {
-            let block = take(class);
-            if !block.is_null() {
-                return block;
-            }
+        // What `alloc_slow` does, its common case first: both give the block `take` gives.
+        if let Some(class) = Self::pooled_class(layout)
+            && let Some(block) = take_at_hand(class)
+        {
+            return block;
         }
         // SAFETY: the caller's contract is passed on unchanged.
-        unsafe { system_alloc(layout) }
+        unsafe { alloc_slow(layout) }
     }
 
     unsafe fn alloc_zeroed(&self, layout: Layout) -> *mut u8 {
