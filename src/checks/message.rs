@@ -115,7 +115,7 @@ fn block<'a>(rest: &mut &'a str, vars: &mut Vec<&'a str>) -> Option<(Vec<Node<'a
         }
         let statement = rest[open..].starts_with("{%");
         let inside = &rest[open + 2..];
-        let close = inside.find(if statement { "%}" } else { "}}" })?;
+        let close = find_pair(inside, if statement { *b"%}" } else { *b"}}" })?;
         let tag = &inside[..close];
         *rest = &inside[close + 2..];
         // Whitespace control (`{{-`, `-%}`, `{%+`) is the engine's.
@@ -190,6 +190,22 @@ fn block<'a>(rest: &mut &'a str, vars: &mut Vec<&'a str>) -> Option<(Vec<Node<'a
             _ => return None,
         }
     }
+}
+
+/// Where the two ASCII bytes `pair` first stand in `text`: `text.find` of them, without
+/// building a substring searcher for a two-byte word (a match of ASCII bytes always starts
+/// a character; `tests::find_pair_is_find` compares the two).
+fn find_pair(text: &str, pair: [u8; 2]) -> Option<usize> {
+    let bytes = text.as_bytes();
+    let mut from = 0;
+    while let Some(i) = bytes.get(from..)?.iter().position(|&b| b == pair[0]) {
+        let at = from + i;
+        if bytes.get(at + 1) == Some(&pair[1]) {
+            return Some(at);
+        }
+        from = at + 1;
+    }
+    None
 }
 
 /// Where the next `{{` or `{%` starts.
@@ -465,6 +481,31 @@ impl Field<'_> {
 mod tests {
     use super::*;
     use minijinja::context;
+
+    /// `find_pair` against `str::find` on every text of up to five pieces from a set with
+    /// both bytes of each pair, lone halves, doubled ones and characters beyond ASCII.
+    #[test]
+    fn find_pair_is_find() {
+        let pieces = [
+            "%", "}", "{", "%}", "}}", "a", "é", "—", " ", "%%", "}%", "",
+        ];
+        let mut texts = vec![String::new()];
+        for _ in 0..5 {
+            let longer: Vec<String> = texts
+                .iter()
+                .flat_map(|t| pieces.iter().map(move |p| format!("{t}{p}")))
+                .collect();
+            texts.extend(longer);
+            texts.sort();
+            texts.dedup();
+        }
+        assert!(texts.len() > 50_000);
+        for text in &texts {
+            for (pair, word) in [(*b"%}", "%}"), (*b"}}", "}}")] {
+                assert_eq!(find_pair(text, pair), text.find(word), "{text:?} {word}");
+            }
+        }
+    }
 
     /// What the engine writes, set up as the checks set it up.
     fn engine(template: &str, item: &Value, report: &Value) -> Result<String, String> {
