@@ -7,7 +7,7 @@ use super::filter::{
     corner_for_attenuation, inductance_for_corner_h, insertion_loss_db, lc_corner_hz,
     optimum_parallel_damping, peak_output_impedance, ratio_for_peak,
 };
-use super::limits::{OutOfBand, frequency_words, limit_dbuv};
+use super::limits::{LimitReading, OutOfBand, frequency_words, limit_reading};
 use super::noise::{self, BulkCapacitor, CommonModePath, ConverterFigures, Harmonic, Network};
 use super::rules::{Detector, FilterModel, LimitClass, LimitTable, Parameter};
 use super::{
@@ -150,16 +150,22 @@ fn binding_limit(
     detectors: &[Detector],
     frequency_hz: f64,
 ) -> Result<(Detector, f64, Step), OutOfBand> {
-    let mut best: Option<(Detector, f64, Step)> = None;
+    // Each detector's limit is read (a refusal of any is the answer); only the kept one's
+    // step is written, the same step `limit_dbuv` writes with it.
+    let mut best: Option<(Detector, LimitReading)> = None;
     for &d in detectors {
-        let (value, s) = limit_dbuv(rules.table::<LimitTable>(), class, d, frequency_hz)?;
-        if best.as_ref().is_none_or(|b| value < b.1) {
-            best = Some((d, value, s));
+        let reading = limit_reading(rules.table::<LimitTable>(), class, d, frequency_hz)?;
+        if best
+            .as_ref()
+            .is_none_or(|b| reading.value_dbuv < b.1.value_dbuv)
+        {
+            best = Some((d, reading));
         }
     }
-    best.ok_or_else(|| OutOfBand {
-        message: "no detector to compare with".to_string(),
-    })
+    best.map(|(d, reading)| (d, reading.value_dbuv, reading.step()))
+        .ok_or_else(|| OutOfBand {
+            message: "no detector to compare with".to_string(),
+        })
 }
 
 /// The lowest corner over some candidates: (index, corner).
@@ -1941,4 +1947,84 @@ pub fn middlebrook(
         satisfied,
         proposed_damping,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::emc::limits::limit_dbuv;
+
+    /// `binding_limit` writes the step of the detector it keeps only; it gives what reading
+    /// every detector's limit with its step and keeping the lowest (the first of equals)
+    /// gives, refusals included: both classes, every set of detectors, frequencies across
+    /// and beyond the band and on its transitions.
+    #[test]
+    fn binding_limit_is_the_lowest_detectors_limit_with_its_step() {
+        let rules = RuleBook::load(None).expect("the shipped rules load");
+        let table = rules.table::<LimitTable>();
+        let mut frequencies = vec![
+            0.0,
+            -1.0,
+            f64::NAN,
+            f64::INFINITY,
+            149_999.999,
+            30.000_001e6,
+        ];
+        for s in table.line.iter().flat_map(|l| &l.segments) {
+            frequencies.extend([s.from_hz, s.to_hz, s.from_hz.next_up(), s.to_hz.next_down()]);
+        }
+        for k in 0..2_000 {
+            frequencies.push(140e3 * (31e6f64 / 140e3).powf(f64::from(k) / 2_000.0));
+        }
+        let (mut compared, mut refused) = (0, 0);
+        for class in [LimitClass::A, LimitClass::B] {
+            for detectors in [
+                &[Detector::QuasiPeak, Detector::Average][..],
+                &[Detector::Average, Detector::QuasiPeak],
+                &[Detector::QuasiPeak],
+                &[Detector::Average],
+                &[],
+            ] {
+                for &f in &frequencies {
+                    let mut expected: Result<Option<(Detector, f64, Step)>, OutOfBand> = Ok(None);
+                    for &d in detectors {
+                        match limit_dbuv(table, class, d, f) {
+                            Ok((value, step)) => {
+                                if let Ok(best) = &mut expected
+                                    && best.as_ref().is_none_or(|b| value < b.1)
+                                {
+                                    *best = Some((d, value, step));
+                                }
+                            }
+                            Err(e) => {
+                                expected = Err(e);
+                                break;
+                            }
+                        }
+                    }
+                    let expected = expected.and_then(|best| {
+                        best.ok_or_else(|| OutOfBand {
+                            message: "no detector to compare with".to_string(),
+                        })
+                    });
+                    let got = binding_limit(&rules, class, detectors, f);
+                    match (&got, &expected) {
+                        (Ok((d, v, s)), Ok((ed, ev, es))) => {
+                            assert_eq!((d, v.to_bits(), s), (ed, ev.to_bits(), es), "{f} Hz");
+                            compared += 1;
+                        }
+                        (Err(e), Err(ee)) => {
+                            assert_eq!(e, ee, "{f} Hz");
+                            refused += 1;
+                        }
+                        _ => panic!("{f} Hz: {got:?} against {expected:?}"),
+                    }
+                }
+            }
+        }
+        assert!(
+            compared > 10_000 && refused > 50,
+            "{compared} compared, {refused} refused"
+        );
+    }
 }

@@ -1,7 +1,7 @@
 //! Reading a conducted-emission limit line at one frequency. Nothing outside the table's
 //! band is read: such a frequency is refused with the band in the message.
 
-use super::rules::{Detector, LimitClass, LimitTable};
+use super::rules::{Detector, LimitClass, LimitSegment, LimitTable};
 use crate::spacing::{Step, show};
 
 /// A frequency the limit table does not cover.
@@ -50,6 +50,30 @@ pub fn limit_dbuv(
     detector: Detector,
     frequency_hz: f64,
 ) -> Result<(f64, Step), OutOfBand> {
+    let reading = limit_reading(table, class, detector, frequency_hz)?;
+    Ok((reading.value_dbuv, reading.step()))
+}
+
+/// A limit read from the table, its step not yet written: a caller comparing the limits of
+/// several detectors writes the step of the one it keeps only ([`limit_dbuv`] writes it at
+/// once).
+pub struct LimitReading<'a> {
+    pub value_dbuv: f64,
+    table: &'a LimitTable,
+    class: LimitClass,
+    detector: Detector,
+    frequency_hz: f64,
+    segment: &'a LimitSegment,
+    at_edge: bool,
+}
+
+/// [`limit_dbuv`] without its step (the same value, the same refusals).
+pub fn limit_reading(
+    table: &LimitTable,
+    class: LimitClass,
+    detector: Detector,
+    frequency_hz: f64,
+) -> Result<LimitReading<'_>, OutOfBand> {
     let band = table.band_hz();
     let refuse = || OutOfBand {
         message: format!(
@@ -81,46 +105,68 @@ pub fn limit_dbuv(
     else {
         return Err(refuse());
     };
-    let value = segment.at(frequency_hz);
-    let how = if segment.from_dbuv == segment.to_dbuv {
-        format!(
-            "flat at {} dBuV from {} to {}",
-            show(segment.from_dbuv),
-            frequency_words(segment.from_hz),
-            frequency_words(segment.to_hz)
-        )
-    } else {
-        format!(
-            "{a} - ({a} - {b}) x log10({f} / {f1}) / log10({f2} / {f1}) = {v} dBuV (linear in log f from {a} dBuV at {f1w} to {b} dBuV at {f2w})",
-            a = show(segment.from_dbuv),
-            b = show(segment.to_dbuv),
-            f = show(frequency_hz),
-            f1 = show(segment.from_hz),
-            f2 = show(segment.to_hz),
-            v = show(value),
-            f1w = frequency_words(segment.from_hz),
-            f2w = frequency_words(segment.to_hz),
-        )
-    };
     let at_edge = line
         .segments
         .iter()
         .filter(|s| s.from_hz <= frequency_hz && frequency_hz <= s.to_hz)
         .count()
         > 1;
-    let edge = if at_edge {
-        " At a transition frequency the lower limit applies."
-    } else {
-        ""
-    };
-    let step = Step {
-        rule: Some(table.id.clone()),
-        text: format!(
-            "Class {} {} limit at {}: {how}.{edge}",
-            class.as_str(),
-            detector.as_str(),
-            frequency_words(frequency_hz)
-        ),
-    };
-    Ok((value, step))
+    Ok(LimitReading {
+        value_dbuv: segment.at(frequency_hz),
+        table,
+        class,
+        detector,
+        frequency_hz,
+        segment,
+        at_edge,
+    })
+}
+
+impl LimitReading<'_> {
+    /// The step that read the limit.
+    pub fn step(&self) -> Step {
+        let LimitReading {
+            value_dbuv: value,
+            table,
+            class,
+            detector,
+            frequency_hz,
+            segment,
+            at_edge,
+        } = *self;
+        let how = if segment.from_dbuv == segment.to_dbuv {
+            format!(
+                "flat at {} dBuV from {} to {}",
+                show(segment.from_dbuv),
+                frequency_words(segment.from_hz),
+                frequency_words(segment.to_hz)
+            )
+        } else {
+            format!(
+                "{a} - ({a} - {b}) x log10({f} / {f1}) / log10({f2} / {f1}) = {v} dBuV (linear in log f from {a} dBuV at {f1w} to {b} dBuV at {f2w})",
+                a = show(segment.from_dbuv),
+                b = show(segment.to_dbuv),
+                f = show(frequency_hz),
+                f1 = show(segment.from_hz),
+                f2 = show(segment.to_hz),
+                v = show(value),
+                f1w = frequency_words(segment.from_hz),
+                f2w = frequency_words(segment.to_hz),
+            )
+        };
+        let edge = if at_edge {
+            " At a transition frequency the lower limit applies."
+        } else {
+            ""
+        };
+        Step {
+            rule: Some(table.id.clone()),
+            text: format!(
+                "Class {} {} limit at {}: {how}.{edge}",
+                class.as_str(),
+                detector.as_str(),
+                frequency_words(frequency_hz)
+            ),
+        }
+    }
 }
