@@ -281,11 +281,24 @@ struct Compound<'a> {
 
 impl Compound<'_> {
     fn item(&mut self) {
-        if !self.first {
-            self.writer.out.push(',');
+        if std::mem::replace(&mut self.first, false) {
+            self.writer.newline();
+            return;
         }
-        self.first = false;
-        self.writer.newline();
+        // The comma and the newline as one copy of fixed length (as in `newline`), cut back
+        // to the indent: one check of the room left instead of two.
+        const COMMA_LINE: &str =
+            ",\n                                                                ";
+        let writer = &mut *self.writer;
+        let indent = 2 * writer.depth;
+        if indent <= COMMA_LINE.len() - 2 {
+            let end = writer.out.len() + 2 + indent;
+            writer.out.push_str(COMMA_LINE);
+            writer.out.truncate(end);
+        } else {
+            writer.out.push(',');
+            writer.newline();
+        }
     }
 
     fn key(&mut self, key: &'static str) {

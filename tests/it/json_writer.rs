@@ -261,3 +261,38 @@ proptest! {
         prop_assert_eq!(to_json(&value), reference(&value));
     }
 }
+
+/// Arrays and objects nested from 0 to 40 deep, several items at each level: the newline
+/// (with the comma before every item but the first) is written from a run of spaces down
+/// to 31 levels and one space at a time deeper; both must come out as serde_json writes.
+#[test]
+fn deep_nesting_is_written_as_serde_json_writes_it() {
+    let mut compared = 0;
+    for depth in 0..=40 {
+        for width in 1..=3 {
+            let mut array = serde_json::json!("leaf");
+            let mut object = serde_json::json!(1.5);
+            for level in 0..depth {
+                let mut items = vec![array];
+                let mut fields = serde_json::Map::new();
+                fields.insert("first".to_string(), object);
+                for k in 1..width {
+                    items.push(serde_json::json!([]));
+                    items.push(serde_json::json!({ "n": level, "k": k }));
+                    fields.insert(format!("more{k}"), serde_json::json!([k, {}, "x"]));
+                }
+                array = serde_json::Value::Array(items);
+                object = serde_json::Value::Object(fields);
+            }
+            for value in [&array, &object] {
+                assert_eq!(
+                    to_json(value),
+                    reference(value),
+                    "depth {depth}, width {width}"
+                );
+                compared += 1;
+            }
+        }
+    }
+    assert_eq!(compared, 41 * 3 * 2);
+}
