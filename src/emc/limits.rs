@@ -17,12 +17,14 @@ pub fn band_words(band: (f64, f64)) -> String {
 
 /// A frequency as a designer says it: "195 kHz", "5 MHz".
 pub fn frequency_words(hz: f64) -> String {
+    // The unit added to the number's own string (what `format!("{} MHz", ..)` writes,
+    // without a second string).
     if hz >= 1e6 {
-        format!("{} MHz", show(hz / 1e6))
+        show(hz / 1e6) + " MHz"
     } else if hz >= 1e3 {
-        format!("{} kHz", show(hz / 1e3))
+        show(hz / 1e3) + " kHz"
     } else {
-        format!("{} Hz", show(hz))
+        show(hz) + " Hz"
     }
 }
 

@@ -40,7 +40,8 @@ struct Figure {
 impl Figure {
     fn new(id: &str, title: impl Into<String>, value: Option<f64>, unit: &'static str) -> Self {
         Figure {
-            id: format!("{PE}.{id}"),
+            // Joined from its pieces: `format!` would start from an empty string and grow it.
+            id: [PE, ".", id].concat(),
             title: title.into(),
             value,
             unit,
@@ -1098,7 +1099,8 @@ fn point_figures(
             ),
         )]
     };
-    let id = |x: &str| format!("{}.{x}", p.name.replace('-', "_"));
+    let point = p.name.replace('-', "_");
+    let id = |x: &str| [point.as_str(), ".", x].concat();
     let peak = rect.source_peak_v();
     let i_avg = rect.load_w / peak;
     let ripple_bound = rect.load_w / (peak * 2.0 * rect.frequency_hz * rect.capacitance_f);
