@@ -270,7 +270,16 @@ pub fn number(x: f64, digits: Digits) -> String {
             Digits::Exact | Digits::SixSignificant => format!("{x}"),
         };
     }
-    let four_decimals = |x: f64| (x * 1e4).round() / 1e4;
+    // The whole number of ten-thousandths, kept beside the rounded x: for |k| below 1e15
+    // (a rounded x below 1e11, the only one printed from it), k / 1e4 times 1e4 lies
+    // within 0.22 of k (two roundings of at most 2^-53 each), so rounding it again, as
+    // printing used to, gives k back: one rounding less per number.
+    let mut ten_thousandths = None;
+    let mut four_decimals = |x: f64| {
+        let k = (x * 1e4).round();
+        ten_thousandths = Some(k);
+        k / 1e4
+    };
     let x = match digits {
         Digits::Exact => x,
         Digits::FourDecimals => four_decimals(x),
@@ -301,7 +310,10 @@ pub fn number(x: f64, digits: Digits) -> String {
         // A rounded x is a whole number of ten-thousandths, k / 1e4 to the nearest double;
         // below 1e11 neighbouring such numbers are distinct doubles, so k's decimal form
         // is the shortest that reads back as x: what `{x}` prints.
-        decimal((x * 1e4).round() as i64, 4)
+        decimal(
+            ten_thousandths.unwrap_or_else(|| (x * 1e4).round()) as i64,
+            4,
+        )
     } else {
         format!("{x}")
     }
@@ -310,12 +322,24 @@ pub fn number(x: f64, digits: Digits) -> String {
 /// `scaled / 10^decimals` in plain digits without trailing zeros (and no point for a
 /// whole number); "0" for zero, never "-0".
 fn decimal(scaled: i64, decimals: u32) -> String {
-    decimal_in(scaled, decimals, &mut [0; 24]).to_string()
+    let mut buf = [0; 24];
+    let at = decimal_digits(scaled, decimals, &mut buf);
+    // ASCII bytes pushed as characters: no UTF-8 check of the text and no second copy.
+    let mut text = String::with_capacity(buf.len() - at);
+    text.extend(buf[at..].iter().map(|&b| char::from(b)));
+    text
 }
 
 /// As [`decimal`], written into the end of `buf` (at most 22 bytes: 20 digits, a point and
 /// a sign), for a caller that writes it on.
 pub(crate) fn decimal_in(scaled: i64, decimals: u32, buf: &mut [u8; 24]) -> &str {
+    let at = decimal_digits(scaled, decimals, buf);
+    // Only ASCII digits, a point and a sign were written.
+    std::str::from_utf8(&buf[at..]).unwrap_or("0")
+}
+
+/// [`decimal_in`]'s bytes, written into the end of `buf`; where they start.
+fn decimal_digits(scaled: i64, decimals: u32, buf: &mut [u8; 24]) -> usize {
     let (mut n, mut decimals) = (scaled.unsigned_abs(), decimals.min(19));
     while decimals > 0 && n % 10 == 0 {
         n /= 10;
@@ -343,8 +367,7 @@ pub(crate) fn decimal_in(scaled: i64, decimals: u32, buf: &mut [u8; 24]) -> &str
     if scaled < 0 {
         put(b'-');
     }
-    // Only ASCII digits, a point and a sign were written.
-    std::str::from_utf8(&buf[at..]).unwrap_or("0")
+    at
 }
 
 /// A number for a message, exactly as stored: `number(x, Digits::Exact)`.
@@ -618,6 +641,16 @@ pub(crate) mod tests {
             12345.5,
             0.1 + 0.2,
             1.0 / 3.0,
+            // About the largest whole number of ten-thousandths printed from it, and the
+            // smallest that rounds to zero (either sign).
+            99_999_999_999.999_95,
+            -99_999_999_999.999_95,
+            1e11 - 1e-4,
+            1e11,
+            0.000_05,
+            -0.000_05,
+            0.000_049_999,
+            -0.000_049_999,
         ];
         for _ in 0..20_000 {
             seed ^= seed << 13;
