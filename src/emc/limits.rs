@@ -163,12 +163,19 @@ impl LimitReading<'_> {
         };
         Step {
             rule: Some(table.id.clone()),
-            text: format!(
-                "Class {} {} limit at {}: {how}.{edge}",
+            text: [
+                "Class ",
                 class.as_str(),
+                " ",
                 detector.as_str(),
-                frequency_words(frequency_hz)
-            ),
+                " limit at ",
+                &frequency_words(frequency_hz),
+                ": ",
+                &how,
+                ".",
+                edge,
+            ]
+            .concat(),
         }
     }
 }

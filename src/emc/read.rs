@@ -100,7 +100,7 @@ pub fn read_emc(r: &mut Reader, root: &TableAt, raw_root: &RawProject) -> Option
             frequency_hz: frequency.value,
             level_dbuv: level.value,
             detector,
-            key: format!("{}.frequency_hz", p.path),
+            key: [p.path.as_str(), ".frequency_hz"].concat(),
             span: frequency.span,
         });
     }

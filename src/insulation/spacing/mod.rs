@@ -295,7 +295,7 @@ pub(crate) fn figure_derivation(
     declared_mm: Option<f64>,
 ) -> Derivation {
     Derivation {
-        id: format!("{}.{what}", barrier.id),
+        id: [barrier.id.as_str(), ".", what].concat(),
         title: if what == "clearance" {
             "Required clearance".into()
         } else {
@@ -364,7 +364,7 @@ pub(crate) fn narrowest_groove(
     }
     (
         x,
-        Step::new(Some(crate::rules::GrooveTable::ID), format!("{head}.")),
+        Step::new(Some(crate::rules::GrooveTable::ID), head + "."),
     )
 }
 
