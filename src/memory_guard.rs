@@ -69,7 +69,16 @@ impl GuardedAllocator {
             let _ = LEFT.try_with(|l| l.set(left - size));
             return;
         }
-        // Past the bound: stop counting first, since reporting allocates.
+        Self::past_the_bound()
+    }
+
+    /// Reports a house template or check past its memory bound and ends the run. Out of
+    /// line: `alloc`, which every allocation of the run goes through, then keeps no stack
+    /// frame of its own for this message.
+    #[cold]
+    #[inline(never)]
+    fn past_the_bound() -> ! {
+        // Stop counting first, since reporting allocates.
         let _ = ACTIVE.try_with(|a| a.set(false));
         let what = WHAT
             .try_with(|w| w.try_borrow().map(|w| w.clone()).unwrap_or_default())
