@@ -325,11 +325,16 @@ impl Predicate {
         match self {
             Predicate::Compare(f, op, with) => {
                 let left = get(f);
+                // A constant is compared where it stands, not copied first.
+                let field;
                 let right = match with {
-                    Operand::Constant(c) => Some(c.clone()),
-                    Operand::Field(g) => get(g),
+                    Operand::Constant(c) => Some(c),
+                    Operand::Field(g) => {
+                        field = get(g);
+                        field.as_ref()
+                    }
                 };
-                let equal = match (&left, &right) {
+                let equal = match (&left, right) {
                     (Some(a), Some(b)) => a == b,
                     _ => false,
                 };
@@ -337,12 +342,11 @@ impl Predicate {
                     Op::Is => equal,
                     Op::IsNot => !equal,
                     _ => {
-                        let number = |v: &Option<Value>| {
-                            v.as_ref()
-                                .filter(|v| v.is_number())
+                        let number = |v: Option<&Value>| {
+                            v.filter(|v| v.is_number())
                                 .and_then(|v| f64::try_from(v.clone()).ok())
                         };
-                        match (number(&left), number(&right)) {
+                        match (number(left.as_ref()), number(right)) {
                             (Some(a), Some(b)) => match op {
                                 Op::Lt => a < b,
                                 Op::Le => a <= b,
@@ -370,7 +374,15 @@ impl Predicate {
 
 /// The value at a path, or `None` where a step is absent or null.
 pub fn resolve<S: AsRef<str>>(from: &Value, parts: &[S]) -> Option<Value> {
-    let mut value = from.clone();
+    // The first step read from `from` itself: the same value as from a copy of it, without
+    // taking (and dropping) a copy.
+    let Some((first, parts)) = parts.split_first() else {
+        return (!from.is_none() && !from.is_undefined()).then(|| from.clone());
+    };
+    if from.is_none() || from.is_undefined() {
+        return None;
+    }
+    let mut value = from.get_attr(first.as_ref()).ok()?;
     for part in parts {
         if value.is_none() || value.is_undefined() {
             return None;
