@@ -1031,7 +1031,9 @@ impl<'b> Index<'b> {
                             reach_points(&o.corner_grid, corner0, &|k| o.corners[k]);
                         }
                     }
+                    // (Most boards have no conductor inside another: no hashing then.)
                     if ring == 0
+                        && !self.inside.is_empty()
                         && let Some(inside) = self.inside.get(&u)
                     {
                         let at = self.segs[self.obj_segs(u).start].a;
