@@ -109,7 +109,7 @@ use super::{Board, Layer, Net, Shape};
 
 /// Spacing of the points placed along each rim (board edge, holes, slots).
 pub const RIM_SPACING_MM: f64 = 0.05;
-/// The most second circuits one search looks for (see `Index::search`).
+/// The most second circuits one search looks for (a bit each in `State::pending`).
 const MAX_TARGETS: usize = 32;
 /// Rim points per run (see `Index::chunks`).
 const CHUNK: u32 = 64;
@@ -557,7 +557,7 @@ impl<'b> Index<'b> {
 
     /// Measures every barrier `(a, b)`, in order: the same measurements as `measure` one
     /// barrier at a time, with one search per first circuit (barriers whose first circuit
-    /// is the same copper share it, see `search`).
+    /// is the same copper share it; the module comment has the argument).
     pub fn measure_all(
         &self,
         barriers: &[(&[String], &[String])],
@@ -1487,7 +1487,7 @@ struct State<'a> {
     pred: Vec<Option<Pred>>,
     queue: Queue,
     /// The largest of the pending targets' `best_of`: hops that would end beyond it are
-    /// not taken (see `Index::search`).
+    /// not taken (see the module comment on shared searches).
     best: f64,
     /// Per target, the shortest distance to its copper found so far.
     best_of: Vec<f64>,
