@@ -63,6 +63,30 @@
 //! The search ends when the second circuit's copper is taken from the queue; no
 //! hop-length limit, so no second search.
 //!
+//! Barriers with the same first circuit share one search (`Index::measure_all`): it goes
+//! on until the copper of every second circuit `T` has been taken, reads `T`'s path when
+//! `T`'s copper is first taken, crosses `T`'s copper afterwards like any conductor's, and
+//! cuts a hop that would end beyond the largest of the waiting circuits' best distances
+//! so far (`State::best`). Up to the moment `T`'s copper is first taken, at distance `D`,
+//! it takes the same steps as `T`'s own search. Entries leave the queue in the order of
+//! key, node and ring, whatever else is queued, so it is enough that both queue the same
+//! entries with keys up to `D` and agree on every distance up to `D`; by induction over
+//! the steps:
+//!
+//! - A hop ending at most `D` is taken by both. `T`'s own search cuts beyond its best
+//!   distance to `T`, which is never below `D` (`D` is the least of the distances it
+//!   gives `T`'s copper). The shared search cuts beyond at least its best distance to
+//!   `T`, and that is not below `D` either: any hop to `T`'s copper that ends below `D`
+//!   would be taken, and counted, by `T`'s own search too.
+//! - A hop only one of them takes ends beyond `D`. It lowers no distance to `D` or less,
+//!   and the tests it could change compare with such a distance or pass over only hops
+//!   that would lower nothing.
+//! - A ring entry only one of them queues has a key of at least `D`, and its hops end
+//!   beyond `D`.
+//!
+//! A test (`barriers_sharing_a_first_circuit_measure_as_each_alone`) holds the shared
+//! search to the searches one barrier at a time on generated boards.
+//!
 //! Two things change the work but not the steps taken: a creepage passage's ring finds
 //! where its inner part ends along the rim by halving (`Index::inner_part`: the distance
 //! along the rim does not fall until the rim wraps round), not point by point; and the
@@ -85,6 +109,8 @@ use super::{Board, Layer, Net, Shape};
 
 /// Spacing of the points placed along each rim (board edge, holes, slots).
 pub const RIM_SPACING_MM: f64 = 0.05;
+/// The most second circuits one search looks for (a bit each in `State::pending`).
+const MAX_TARGETS: usize = 32;
 /// Rim points per run (see `Index::chunks`).
 const CHUNK: u32 = 64;
 /// The map of cells (`Cells`) has this many times more cells per side than the index
@@ -525,6 +551,18 @@ impl<'b> Index<'b> {
 
     /// Measures one barrier between the copper of nets `a` and nets `b`.
     pub fn measure(&self, a: &[String], b: &[String], groove_width_mm: f64) -> BarrierMeasurement {
+        let mut all = self.measure_all(&[(a, b)], groove_width_mm);
+        all.pop().expect("one measurement per barrier")
+    }
+
+    /// Measures every barrier `(a, b)`, in order: the same measurements as `measure` one
+    /// barrier at a time, with one search per first circuit (barriers whose first circuit
+    /// is the same copper share it; the module comment has the argument).
+    pub fn measure_all(
+        &self,
+        barriers: &[(&[String], &[String])],
+        groove_width_mm: f64,
+    ) -> Vec<BarrierMeasurement> {
         let in_set = |set: &[String]| -> Vec<bool> {
             let set: std::collections::HashSet<&str> = set.iter().map(String::as_str).collect();
             self.board
@@ -533,65 +571,106 @@ impl<'b> Index<'b> {
                 .map(|c| matches!(&c.net, Net::Named(n) if set.contains(n.as_str())))
                 .collect()
         };
-        let (is_a, is_b) = (in_set(a), in_set(b));
         let prepared = self.prepared(groove_width_mm);
         let (bridged, round) = (prepared.bridged, prepared.round);
-        let outer = [0usize, 1];
-        let clearance = self.shortest(&outer, None, &is_a, &is_b);
-        let creepage = self.shortest(
-            &outer,
-            Some((&prepared.obstacles, &prepared.cells)),
-            &is_a,
-            &is_b,
-        );
-        let mut inner_layers = Vec::new();
-        for l in 2..self.layers.len() {
-            if let Some(m) = self.shortest(&[l], None, &is_a, &is_b)
-                && let (Some(from), Some(to)) = (m.path.first(), m.path.last())
-            {
-                inner_layers.push(InnerDistance {
-                    layer: self.layer_names[l].clone(),
-                    distance_mm: m.distance_mm,
-                    from: from.clone(),
-                    to: to.clone(),
-                });
+        let mut out: Vec<BarrierMeasurement> = barriers
+            .iter()
+            .map(|_| BarrierMeasurement {
+                clearance: None,
+                creepage: None,
+                inner_layers: Vec::new(),
+                groove_width_mm,
+                cutouts_bridged: bridged,
+                cutouts_walked_round: round,
+                drawing_svg: None,
+            })
+            .collect();
+        // Barriers grouped by their first circuit's copper, in the order first met.
+        let mut groups: Vec<(Vec<bool>, Vec<usize>)> = Vec::new();
+        for (i, (a, _)) in barriers.iter().enumerate() {
+            let is_a = in_set(a);
+            match groups.iter_mut().find(|(x, _)| *x == is_a) {
+                Some((_, members)) => members.push(i),
+                None => groups.push((is_a, vec![i])),
             }
         }
-        BarrierMeasurement {
-            clearance,
-            creepage,
-            inner_layers,
-            groove_width_mm,
-            cutouts_bridged: bridged,
-            cutouts_walked_round: round,
-            drawing_svg: None,
+        let outer = [0usize, 1];
+        for (is_a, members) in &groups {
+            // At most `MAX_TARGETS` second circuits per search (a bit each in a mask).
+            for part in members.chunks(MAX_TARGETS) {
+                let is_b: Vec<Vec<bool>> = part.iter().map(|&i| in_set(barriers[i].1)).collect();
+                let targets: Vec<&[bool]> = is_b.iter().map(Vec::as_slice).collect();
+                let clearance = self.shortest(&outer, None, is_a, &targets);
+                let creepage = self.shortest(
+                    &outer,
+                    Some((&prepared.obstacles, &prepared.cells)),
+                    is_a,
+                    &targets,
+                );
+                for ((&i, c), p) in part.iter().zip(clearance).zip(creepage) {
+                    out[i].clearance = c;
+                    out[i].creepage = p;
+                }
+                for l in 2..self.layers.len() {
+                    let found = self.shortest(&[l], None, is_a, &targets);
+                    for (&i, m) in part.iter().zip(found) {
+                        if let Some(m) = m
+                            && let (Some(from), Some(to)) = (m.path.first(), m.path.last())
+                        {
+                            out[i].inner_layers.push(InnerDistance {
+                                layer: self.layer_names[l].clone(),
+                                distance_mm: m.distance_mm,
+                                from: from.clone(),
+                                to: to.clone(),
+                            });
+                        }
+                    }
+                }
+            }
         }
+        out
     }
 
-    /// The shortest path with hops of unlimited length (see the module comment: hops are
-    /// taken in rings of growing length, and a ring is skipped where it cannot help).
-    /// `creepage`: the obstacles, and the map of cells sorted by their edges to start from.
+    /// The shortest path from the copper of `is_a` to that of each of `targets`, with hops
+    /// of unlimited length (see the module comment: hops are taken in rings of growing
+    /// length, and a ring is skipped where it cannot help). `creepage`: the obstacles, and
+    /// the map of cells sorted by their edges to start from. `None` for a target (or for
+    /// all) whose copper, or the first circuit's, is on none of `layers`.
     fn shortest(
         &self,
         layers: &[usize],
         creepage: Option<(&Obstacles, &Cells)>,
         is_a: &[bool],
-        is_b: &[bool],
-    ) -> Option<MeasuredPath> {
+        targets: &[&[bool]],
+    ) -> Vec<Option<MeasuredPath>> {
         let present = |set: &[bool]| {
             set.iter()
                 .enumerate()
                 .any(|(i, &x)| x && self.on_any(i as u32, layers))
         };
-        if !present(is_a) || !present(is_b) {
-            return None;
+        let mut found: Vec<Option<MeasuredPath>> = targets.iter().map(|_| None).collect();
+        if !present(is_a) {
+            return found;
+        }
+        let (wanted, searched): (Vec<usize>, Vec<&[bool]>) = targets
+            .iter()
+            .enumerate()
+            .filter(|(_, t)| present(t))
+            .map(|(i, t)| (i, *t))
+            .unzip();
+        if searched.is_empty() {
+            return found;
         }
         let all = self.extent();
         let most = (all.max[0] - all.min[0]).hypot(all.max[1] - all.min[1])
             + 2.0 * self.board.thickness_mm
             + 1.0;
         let (obstacles, template) = (creepage.map(|c| c.0), creepage.map(|c| c.1));
-        self.search(layers, obstacles, template, is_a, is_b, all, most)
+        let paths = self.search(layers, obstacles, template, is_a, &searched, all, most);
+        for (i, p) in wanted.into_iter().zip(paths) {
+            found[i] = p;
+        }
+        found
     }
 
     /// The box round all copper and the outline: the extent of the map of cells.
@@ -650,11 +729,19 @@ impl<'b> Index<'b> {
         obstacles: Option<&Obstacles>,
         template: Option<&Cells>,
         is_a: &[bool],
-        is_b: &[bool],
+        targets: &[&[bool]],
         all: Bbox,
         most: f64,
-    ) -> Option<MeasuredPath> {
+    ) -> Vec<Option<MeasuredPath>> {
         let n = self.board.conductors.len();
+        debug_assert!(targets.len() <= MAX_TARGETS);
+        // Each conductor's targets, a bit each.
+        let mut target_mask = vec![0u32; n];
+        for (t, is_b) in targets.iter().enumerate() {
+            for (m, _) in target_mask.iter_mut().zip(is_b.iter()).filter(|(_, x)| **x) {
+                *m |= 1 << t;
+            }
+        }
         let with_rims = layers.contains(&0) || layers.contains(&1);
         let n_rim = if with_rims { self.rim.len() } else { 0 };
         let n_corner = obstacles.map_or(0, |o| o.corners.len());
@@ -670,8 +757,14 @@ impl<'b> Index<'b> {
             pred: vec![None; total],
             queue: Queue::new(total),
             best: f64::INFINITY,
+            best_of: vec![f64::INFINITY; targets.len()],
+            pending: if targets.len() == 32 {
+                u32::MAX
+            } else {
+                (1u32 << targets.len()) - 1
+            },
             n,
-            is_b,
+            target_mask: &target_mask,
             rim0,
             rimx0,
             rim_chunk: &self.rim_chunk,
@@ -697,7 +790,7 @@ impl<'b> Index<'b> {
                 self.prune.void_cells,
             ),
         };
-        let mut target = None;
+        let mut found: Vec<Option<MeasuredPath>> = targets.iter().map(|_| None).collect();
         let thickness = self.board.thickness_mm;
         // Each conductor at either end of a step may lie up to the chord tolerance nearer.
         let one = CHORD_TOLERANCE_MM;
@@ -716,9 +809,21 @@ impl<'b> Index<'b> {
                     continue;
                 }
                 settled[ui] = true;
-                if ui < n && is_b[ui] {
-                    target = Some(u);
-                    break;
+                if ui < n && target_mask[ui] & st.pending != 0 {
+                    // The first copper of a target taken: its path is final (every node on
+                    // it is settled). The search goes on while a target is left, this
+                    // copper then being crossed like any other conductor's.
+                    let mut reached = target_mask[ui] & st.pending;
+                    while reached != 0 {
+                        let t = reached.trailing_zeros() as usize;
+                        reached &= reached - 1;
+                        found[t] = Some(self.path_to(ui, &st, is_a, targets[t]));
+                        st.pending &= !(1 << t);
+                    }
+                    if st.pending == 0 {
+                        break;
+                    }
+                    st.best = st.largest_best();
                 }
                 if ui < n {
                     let (l0, l1) = self.obj_layers[ui];
@@ -926,7 +1031,9 @@ impl<'b> Index<'b> {
                             reach_points(&o.corner_grid, corner0, &|k| o.corners[k]);
                         }
                     }
+                    // (Most boards have no conductor inside another: no hashing then.)
                     if ring == 0
+                        && !self.inside.is_empty()
                         && let Some(inside) = self.inside.get(&u)
                     {
                         let at = self.segs[self.obj_segs(u).start].a;
@@ -1248,15 +1355,17 @@ impl<'b> Index<'b> {
                     .push(Entry::new(d + hi_ring, u, (k + 1) | (dirs << 16)));
             }
         }
-        let dist = st.dist;
-        let pred = st.pred;
-        let t = target? as usize;
-        // The path, walked back from the second circuit's copper.
+        found
+    }
+
+    /// The path to node `t` (settled), walked back from it to the first circuit's copper.
+    fn path_to(&self, t: usize, st: &State, is_a: &[bool], is_b: &[bool]) -> MeasuredPath {
+        let (n, total) = (st.n, st.dist.len());
         let mut hops = Vec::new();
         let mut v = t;
         let mut intervening = 0;
         let mut guard = 0;
-        while let Some(p) = pred[v] {
+        while let Some(p) = st.pred[v] {
             hops.push(p);
             v = p.from as usize;
             if v < n && !is_a[v] && !is_b[v] {
@@ -1281,13 +1390,13 @@ impl<'b> Index<'b> {
             }
             between_faces |= h.from_layer != h.to_layer;
         }
-        Some(MeasuredPath {
+        MeasuredPath {
             // To the micrometre: far below the tolerances already taken off.
-            distance_mm: crate::spacing::tidy(dist[t]),
+            distance_mm: crate::spacing::tidy(st.dist[t]),
             path,
             intervening_conductors: intervening,
             between_faces,
-        })
+        }
     }
 
     /// Where the passages of a rim point `kp` (of the rim whose points are `first..first +
@@ -1377,10 +1486,16 @@ struct State<'a> {
     dist: Vec<f64>,
     pred: Vec<Option<Pred>>,
     queue: Queue,
-    /// The shortest distance to the second circuit found so far.
+    /// The largest of the pending targets' `best_of`: hops that would end beyond it are
+    /// not taken (see the module comment on shared searches).
     best: f64,
+    /// Per target, the shortest distance to its copper found so far.
+    best_of: Vec<f64>,
+    /// The targets whose copper is not yet taken from the queue, a bit each.
+    pending: u32,
     n: usize,
-    is_b: &'a [bool],
+    /// Each conductor's targets, a bit each.
+    target_mask: &'a [u32],
     /// Rim points reached along a face: each run's largest distance per face (an upper
     /// bound, infinite until known), and whether a distance in it fell since.
     rim0: usize,
@@ -1407,10 +1522,34 @@ impl State<'_> {
                     self.run_dirty[c][f] = true;
                 }
             }
-            if v < self.n && self.is_b[v] && nd < self.best {
-                self.best = nd;
+            if v < self.n && self.target_mask[v] & self.pending != 0 {
+                let mut lowered = false;
+                let mut of = self.target_mask[v] & self.pending;
+                while of != 0 {
+                    let t = of.trailing_zeros() as usize;
+                    of &= of - 1;
+                    if nd < self.best_of[t] {
+                        self.best_of[t] = nd;
+                        lowered = true;
+                    }
+                }
+                if lowered {
+                    self.best = self.largest_best();
+                }
             }
         }
+    }
+
+    /// The largest of the pending targets' best distances found so far.
+    fn largest_best(&self) -> f64 {
+        let mut pending = self.pending;
+        let mut largest = f64::NEG_INFINITY;
+        while pending != 0 {
+            let t = pending.trailing_zeros() as usize;
+            pending &= pending - 1;
+            largest = largest.max(self.best_of[t]);
+        }
+        largest
     }
 }
 
@@ -2533,6 +2672,83 @@ mod tests {
             past_the_start > compared / 2,
             "{past_the_start} of {compared}"
         );
+    }
+
+    /// The generated board's circuits split in five: `A` and `A2` (left, below and above
+    /// y = 10), `B` and `B2` (right, likewise), and `M`, every other floating pad in the gap.
+    fn five_circuits(board: &mut Board) {
+        let mut floating = 0;
+        for c in &mut board.conductors {
+            let y = match &c.shape {
+                Shape::Segs(s) => s[0].a[1],
+                _ => 0.0,
+            };
+            let upper = if y > 10.0 { "2" } else { "" };
+            c.net = match &c.net {
+                Net::Named(n) => Net::Named(format!("{n}{upper}")),
+                _ => {
+                    floating += 1;
+                    if floating % 2 == 0 {
+                        Net::Named("M".into())
+                    } else {
+                        Net::NoConnect
+                    }
+                }
+            };
+        }
+        board.nets = ["A", "A2", "B", "B2", "M"]
+            .iter()
+            .map(|n| n.to_string())
+            .collect();
+    }
+
+    #[test]
+    fn barriers_sharing_a_first_circuit_measure_as_each_alone() {
+        let nets =
+            |names: &[&str]| -> Vec<String> { names.iter().map(|n| n.to_string()).collect() };
+        let sets = [
+            nets(&["A"]),
+            nets(&["A2"]),
+            nets(&["B"]),
+            nets(&["B2"]),
+            nets(&["M"]),
+            nets(&["B", "B2"]),
+            nets(&["nowhere"]),
+        ];
+        let mut shared = 0;
+        for seed in 600..606 {
+            let mut board = generated_board(seed);
+            if seed % 3 == 0 {
+                on_opposite_faces(&mut board);
+            }
+            five_circuits(&mut board);
+            // Every ordered pair of different sets, so that most first circuits have
+            // several second circuits, near and far, among them ones the path to another
+            // crosses; on one board the same barrier 40 times (two searches of at most
+            // MAX_TARGETS second circuits).
+            let mut barriers: Vec<(&[String], &[String])> = Vec::new();
+            for a in &sets {
+                for b in &sets {
+                    if a != b {
+                        barriers.push((a, b));
+                    }
+                }
+            }
+            if seed == 600 {
+                barriers.extend(std::iter::repeat_n((&sets[0][..], &sets[2][..]), 40));
+            }
+            let together = Index::new(&board).measure_all(&barriers, 1.0);
+            let index = Index::new(&board);
+            let mut alone = HashMap::new();
+            for ((a, b), m) in barriers.iter().zip(&together) {
+                let own = alone
+                    .entry((a.to_vec(), b.to_vec()))
+                    .or_insert_with(|| index.measure(a, b, 1.0));
+                assert_eq!(m, own, "seed {seed}: {a:?} to {b:?}");
+                shared += usize::from(m.clearance.is_some());
+            }
+        }
+        assert!(shared > 6 * 25 + 40, "{shared} barriers measured");
     }
 
     #[test]

@@ -634,14 +634,25 @@ pub fn apply(
             .map(|c| c.nets.iter().map(|n| n.value.clone()).collect())
             .unwrap_or_default()
     };
+    // Every barrier whose circuits both name nets is measured, all in one call: barriers
+    // with the same first circuit share its searches (`Index::measure_all`).
+    let nets: Vec<(Vec<String>, Vec<String>)> = barriers
+        .iter()
+        .map(|b| (nets_of(&b.between[0]), nets_of(&b.between[1])))
+        .collect();
+    let wanted: Vec<usize> = (0..barriers.len())
+        .filter(|&i| !nets[i].0.is_empty() && !nets[i].1.is_empty())
+        .collect();
+    let pairs: Vec<(&[String], &[String])> = wanted
+        .iter()
+        .map(|&i| (nets[i].0.as_slice(), nets[i].1.as_slice()))
+        .collect();
+    let measurements = index.measure_all(&pairs, groove_width_mm);
     let mut measured = 0;
-    for b in barriers.iter_mut() {
-        let (a, z) = (nets_of(&b.between[0]), nets_of(&b.between[1]));
-        if a.is_empty() || z.is_empty() {
-            continue;
-        }
-        let mut m = index.measure(&a, &z, groove_width_mm);
-        m.drawing_svg = svg::drawing(&board, &a, &z, &m);
+    for (i, mut m) in wanted.into_iter().zip(measurements) {
+        let b = &mut barriers[i];
+        let (a, z) = &nets[i];
+        m.drawing_svg = svg::drawing(&board, a, z, &m);
         measured += 1;
         let point =
             |p: &PathPoint| format!("({}, {}) mm on {}", show(p.x_mm), show(p.y_mm), p.layer);
