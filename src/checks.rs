@@ -299,7 +299,7 @@ fn run_one(
             match cond {
                 Cond::Predicate(p) => Ok(p.holds(native_item, report)),
                 Cond::Expression(e) => match without_engine
-                    .then(|| expression::holds(e, &item, report))
+                    .then(|| expression::holds(e, item, report))
                     .flatten()
                 {
                     Some(holds) => Ok(holds),
@@ -320,7 +320,7 @@ fn run_one(
         // Only a raised finding pays for its message and subject; a plain message is
         // written without compiling it (see `message`).
         let plain = match messages {
-            Messages::PlainWithoutEngine => message::render(&check.message, &item, report),
+            Messages::PlainWithoutEngine => message::render(&check.message, item, report),
             Messages::AllByEngine => None,
         };
         let text = match plain {
@@ -329,14 +329,14 @@ fn run_one(
         };
         let subject = match &check.subject {
             Some(s) => match without_engine
-                .then(|| expression::subject(s, &item, report))
+                .then(|| expression::subject(s, item, report))
                 .flatten()
             {
                 Some(subject) => subject,
                 None => render("subject", &ctx())?,
             }
             .filter(|s| !s.is_empty()),
-            None => default_subject(&check.over, &item),
+            None => default_subject(&check.over, item),
         };
         findings.push(Finding {
             id: check.id.to_string(),
